@@ -1,0 +1,7 @@
+// Copies the non-TypeScript files the compiled program reads at run time (the web page,
+// Lua scripts) from src/ into dist/, keeping their relative paths.
+import { cpSync, existsSync } from 'node:fs';
+
+for (const dir of ['web/static']) {
+  if (existsSync(`src/${dir}`)) cpSync(`src/${dir}`, `dist/${dir}`, { recursive: true });
+}
