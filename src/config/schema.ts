@@ -1,0 +1,90 @@
+/**
+ * The configuration schema: every option with its default and why. Validated once at
+ * start-up by load-config.ts, then frozen and passed down explicitly.
+ */
+import { z } from 'zod';
+
+const subscriberSchema = z.strictObject({
+  /** Name used in logs and the API. */
+  name: z.string().min(1).max(100),
+  /** Where signed POSTs go. */
+  url: z.url({ protocol: /^https?$/ }),
+  /** Standard Webhooks secret: `whsec_` followed by base64 (24 to 64 bytes). */
+  secret: z.string().regex(/^whsec_[A-Za-z0-9+/]{32,88}={0,2}$/, 'must be whsec_ followed by base64'),
+  /** Which notifications to send. Default: all. */
+  types: z.array(z.enum(['event.opened', 'event.outlet_added'])).min(1).default(['event.opened', 'event.outlet_added']),
+});
+
+/** The full configuration. */
+export const configSchema = z.strictObject({
+  server: z.strictObject({
+    /** Interface to listen on. Default 127.0.0.1 (local only). Env HOST overrides. */
+    host: z.string().min(1).default('127.0.0.1'),
+    /** TCP port. Default 7410. Env PORT overrides; 0 picks a free port. */
+    port: z.number().int().min(0).max(65535).default(7410),
+  }).prefault({}),
+  store: z.strictObject({
+    /** Only the embedded SQLite store so far. */
+    kind: z.literal('sqlite').default('sqlite'),
+    /** SQLite file path, relative to the working directory. Default data/strandline.sqlite. Env STRANDLINE_DB overrides. */
+    path: z.string().min(1).default('data/strandline.sqlite'),
+  }).prefault({}),
+  ingest: z.strictObject({
+    /** Largest feed file or response read, in bytes. Default 20 MiB. */
+    maxFeedBytes: z.number().int().min(1024).default(20 * 1024 * 1024),
+    /** Longest article body kept, in characters; longer ones are rejected. Default 200,000 (a long feature is ~60,000). */
+    maxArticleChars: z.number().int().min(100).default(200_000),
+    /** Time allowed for one feed fetch, ms. Default 15 s. */
+    fetchTimeoutMs: z.number().int().min(100).default(15_000),
+  }).prefault({}),
+  detect: z.strictObject({
+    /** Event-ness score at or above which a sentence becomes a mention. Default 0.5. */
+    threshold: z.number().min(0).max(1).default(0.5),
+  }).prefault({}),
+  embed: z.strictObject({
+    /** Only the offline TF-IDF embedder so far. */
+    kind: z.literal('tfidf').default('tfidf'),
+    /** log2 of the hashed feature space. Default 20 (about a million buckets, few collisions for news vocabulary). */
+    hashBits: z.number().int().min(10).max(26).default(20),
+  }).prefault({}),
+  link: z.strictObject({
+    /** Score at or above which a mention joins an event; below, it opens one. Default 0.2 cosine (trials put the best value between 0.10 and 0.28). */
+    threshold: z.number().min(0).max(1).default(0.2),
+    /** Half-life of the time decay, days. Default 7 (best single setting in trials on dated news). */
+    halfLifeDays: z.number().min(0.1).default(7),
+    /** Events scored per mention at most. Default 48. */
+    maxCandidates: z.number().int().min(1).default(48),
+    /** Events remembered per index key (most recent kept). Default 256. */
+    postingLimit: z.number().int().min(8).default(256),
+    /** Index keys looked up per mention (its rarest terms). Default 16. */
+    lookupTerms: z.number().int().min(1).default(16),
+    /** Extra score for shared rare participants and places, at most. Default 0.1. */
+    overlapWeight: z.number().min(0).max(1).default(0.1),
+    /** A further link for the same sentence needs at least threshold + this. Default 0.1. */
+    secondaryMargin: z.number().min(0).max(1).default(0.1),
+    /** Terms kept per event centroid. Default 300. */
+    centroidTerms: z.number().int().min(16).default(300),
+  }).prefault({}),
+  webhooks: z.strictObject({
+    subscribers: z.array(subscriberSchema).default([]),
+    /** Delivery attempts before a message goes to the dead-letter list. Default 8 (about 6 hours of retries). */
+    maxAttempts: z.number().int().min(1).max(50).default(8),
+    /** Time allowed for one delivery, ms. Default 10 s. */
+    timeoutMs: z.number().int().min(100).default(10_000),
+    /** How often due deliveries are looked for, ms. Default 1 s. */
+    pollMs: z.number().int().min(10).default(1000),
+  }).prefault({}),
+  retention: z.strictObject({
+    /** Days after which stored article and sentence text is erased (links and events stay). Default null: keep. */
+    textDays: z.number().int().min(1).nullable().default(null),
+  }).prefault({}),
+  log: z.strictObject({
+    /** pino level. Default info. Env STRANDLINE_LOG_LEVEL overrides. */
+    level: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
+  }).prefault({}),
+});
+
+/** Validated, frozen configuration. */
+export type Config = z.infer<typeof configSchema>;
+/** One webhook subscriber. */
+export type Subscriber = z.infer<typeof subscriberSchema>;

@@ -1,0 +1,209 @@
+/**
+ * The linker's working view of an event: its centroid (the sum of its mentions' vectors),
+ * its time span, participants, places and outlets. Serialised to a compact binary form
+ * so the store can keep it without knowing what is inside.
+ */
+import type { EmbeddedMention, EventRecord, Vector } from '../records.js';
+import { dayNumber } from '../text/days.js';
+
+/** Everything the linker knows about one event. */
+export interface EventState {
+  id: string;
+  label: string;
+  firstSeen: string;
+  lastSeen: string;
+  /** Day numbers (days since 1970-01-01) of the event's time span, inclusive. */
+  timeStart: number;
+  timeEnd: number;
+  /** Sparse centroid sum (feature → weight); empty for dense vectors. */
+  sparse: Map<number, number>;
+  /** Dense centroid sum; null for sparse vectors. */
+  dense: Float64Array | null;
+  /** L2 norm of the centroid sum. */
+  norm: number;
+  mentionCount: number;
+  /** Normalised participant key → [surface form, count]. */
+  participants: Map<string, [string, number]>;
+  places: Map<string, [string, number]>;
+  /** Outlet → [mentions, independent mentions (not from verbatim copies)]. */
+  outlets: Map<string, [number, number]>;
+  version: number;
+}
+
+/** The day span a mention places its event in: its resolved times, else the day of and before publication. */
+export function mentionSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] {
+  const pub = dayNumber(m.published.slice(0, 10));
+  // Times more than a year off describe background, not this mention's event.
+  const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366);
+  if (near.length === 0) return [pub - 1, pub];
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const t of near) {
+    lo = Math.min(lo, dayNumber(t.start));
+    hi = Math.max(hi, dayNumber(t.end));
+  }
+  return [lo, hi];
+}
+
+/** Lower-cased key for matching names: no leading article, no possessive, single spaces. */
+export function nameKey(name: string): string {
+  return name.toLowerCase().replace(/^the\s+/, '').replace(/['\u2019]s?$/, '').replace(/\s+/g, ' ').trim();
+}
+
+/** A new event opened by one mention. */
+export function openEvent(id: string, m: EmbeddedMention): EventState {
+  const [timeStart, timeEnd] = mentionSpan(m);
+  const e: EventState = {
+    id,
+    label: makeLabel(m.text),
+    firstSeen: m.published,
+    lastSeen: m.published,
+    timeStart,
+    timeEnd,
+    sparse: new Map(),
+    dense: null,
+    norm: 0,
+    mentionCount: 0,
+    participants: new Map(),
+    places: new Map(),
+    outlets: new Map(),
+    version: 0,
+  };
+  return e;
+}
+
+/** Adds a mention to an event (mutates `e`); `weight` < 1 for a sentence's further links. */
+export function addMention(e: EventState, m: EmbeddedMention, weight: number, centroidTerms: number): void {
+  addVector(e, m.vector, weight, centroidTerms);
+  const [s, t] = mentionSpan(m);
+  e.timeStart = Math.min(e.timeStart, s);
+  e.timeEnd = Math.max(e.timeEnd, t);
+  if (m.published < e.firstSeen) e.firstSeen = m.published;
+  if (m.published > e.lastSeen) e.lastSeen = m.published;
+  e.mentionCount++;
+  for (const p of m.participants) bump(e.participants, nameKey(p), p);
+  for (const p of m.places) bump(e.places, nameKey(p), p);
+  const o = e.outlets.get(m.outlet) ?? [0, 0];
+  e.outlets.set(m.outlet, [o[0] + 1, o[1] + (m.isCopy ? 0 : 1)]);
+  e.version++;
+}
+
+/** A deep copy, so a link plan can change an event without touching committed state. */
+export function cloneEvent(e: EventState): EventState {
+  return {
+    ...e,
+    sparse: new Map(e.sparse),
+    dense: e.dense ? new Float64Array(e.dense) : null,
+    participants: new Map([...e.participants].map(([k, v]) => [k, [v[0], v[1]]])),
+    places: new Map([...e.places].map(([k, v]) => [k, [v[0], v[1]]])),
+    outlets: new Map([...e.outlets].map(([k, v]) => [k, [v[0], v[1]]])),
+  };
+}
+
+/** The public record of an event. */
+export function toRecord(e: EventState): EventRecord {
+  return {
+    id: e.id,
+    label: e.label,
+    firstSeen: e.firstSeen,
+    lastSeen: e.lastSeen,
+    timeStart: dayString(e.timeStart),
+    timeEnd: dayString(e.timeEnd),
+    participants: topNames(e.participants, 12),
+    places: topNames(e.places, 8),
+    outlets: [...e.outlets.keys()].sort(),
+    mentionCount: e.mentionCount,
+    version: e.version,
+  };
+}
+
+/** Binary form: a JSON header (everything but the centroid), then the centroid arrays. */
+export function serialiseEvent(e: EventState): Buffer {
+  const header = Buffer.from(JSON.stringify({
+    id: e.id, label: e.label, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
+    norm: e.norm, mentionCount: e.mentionCount, version: e.version,
+    participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
+    sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
+  }));
+  const n = e.sparse.size;
+  const body = Buffer.alloc(4 + header.length + n * 12 + (e.dense ? e.dense.length * 8 : 0));
+  body.writeUInt32LE(header.length, 0);
+  header.copy(body, 4);
+  let at = 4 + header.length;
+  // Features then values; values as float64 so a restart resumes bit-for-bit.
+  for (const f of e.sparse.keys()) { body.writeUInt32LE(f, at); at += 4; }
+  for (const v of e.sparse.values()) { body.writeDoubleLE(v, at); at += 8; }
+  if (e.dense) for (const v of e.dense) { body.writeDoubleLE(v, at); at += 8; }
+  return body;
+}
+
+/** Inverse of serialiseEvent. */
+export function deserialiseEvent(buf: Uint8Array): EventState {
+  const b = Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
+  const hlen = b.readUInt32LE(0);
+  const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
+    id: string; label: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; norm: number;
+    mentionCount: number; version: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
+    outlets: [string, [number, number]][]; sparse: number; dense: number;
+  };
+  let at = 4 + hlen;
+  const keys: number[] = [];
+  for (let i = 0; i < h.sparse; i++) { keys.push(b.readUInt32LE(at)); at += 4; }
+  const sparse = new Map<number, number>();
+  for (let i = 0; i < h.sparse; i++) { sparse.set(keys[i]!, b.readDoubleLE(at)); at += 8; }
+  let dense: Float64Array | null = null;
+  if (h.dense > 0) {
+    dense = new Float64Array(h.dense);
+    for (let i = 0; i < h.dense; i++) { dense[i] = b.readDoubleLE(at); at += 8; }
+  }
+  return {
+    id: h.id, label: h.label, firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
+    sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
+    participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
+  };
+}
+
+function addVector(e: EventState, v: Vector, weight: number, centroidTerms: number): void {
+  if (v.kind === 'dense') {
+    e.dense ??= new Float64Array(v.values.length);
+    for (let i = 0; i < v.values.length; i++) e.dense[i]! += weight * v.values[i]!;
+    let sq = 0;
+    for (let i = 0; i < e.dense.length; i++) sq += e.dense[i]! * e.dense[i]!;
+    e.norm = Math.sqrt(sq);
+    return;
+  }
+  for (let i = 0; i < v.indices.length; i++) {
+    const f = v.indices[i]!;
+    e.sparse.set(f, (e.sparse.get(f) ?? 0) + weight * v.values[i]!);
+  }
+  // Keep the centroid to its strongest terms: bounded memory per event, and the weak tail
+  // contributes little to cosine similarity.
+  if (e.sparse.size > centroidTerms * 1.5) {
+    const kept = [...e.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, centroidTerms);
+    e.sparse = new Map(kept);
+  }
+  let sq = 0;
+  for (const w of e.sparse.values()) sq += w * w;
+  e.norm = Math.sqrt(sq);
+}
+
+function bump(map: Map<string, [string, number]>, key: string, surface: string): void {
+  if (key === '') return;
+  const cur = map.get(key);
+  if (cur) cur[1]++;
+  else map.set(key, [surface, 1]);
+}
+
+function topNames(map: Map<string, [string, number]>, n: number): string[] {
+  return [...map.values()].sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0])).slice(0, n).map((x) => x[0]);
+}
+
+function makeLabel(text: string): string {
+  if (text.length <= 160) return text;
+  const cut = text.slice(0, 157);
+  return `${cut.slice(0, Math.max(cut.lastIndexOf(' '), 120))}…`;
+}
+
+function dayString(n: number): string {
+  return new Date(n * 86_400_000).toISOString().slice(0, 10);
+}

@@ -1,0 +1,180 @@
+/**
+ * The online linker: each new mention is scored against a small candidate set of events
+ * (never the whole history), joins the best one at or above the threshold, or opens a new
+ * event. A sentence may also join further events when they score clearly above the
+ * threshold (a ruling that recalls the hearings before it).
+ *
+ * Planning is separate from applying: plan() works on copies and returns what would
+ * change; the caller commits that to the store and only then calls apply(). A failed
+ * commit leaves the linker exactly as it was.
+ */
+import { createHash } from 'node:crypto';
+import type { EmbeddedMention, Link } from '../records.js';
+import { CandidateIndex, type WeightedKey } from './candidate-index.js';
+import { addMention, cloneEvent, type EventState, nameKey, openEvent } from './event-state.js';
+import { scoreCandidate, type ScoredCandidate } from './score-candidate.js';
+
+/** Linker settings (see config schema for defaults and reasons). */
+export interface LinkerOptions {
+  threshold: number;
+  halfLifeDays: number;
+  maxCandidates: number;
+  postingLimit: number;
+  lookupTerms: number;
+  overlapWeight: number;
+  secondaryMargin: number;
+  centroidTerms: number;
+}
+
+/** A mention that reached an event's outlet list for the first time. */
+export interface OutletAdded {
+  eventId: string;
+  outlet: string;
+  articleId: string;
+  sentenceIndex: number;
+  score: number;
+  /** False when the mention comes from a verbatim copy of another outlet's article. */
+  independent: boolean;
+}
+
+/** What linking one article's mentions would change. */
+export interface LinkPlan {
+  links: Link[];
+  /** New versions of every event touched, opened ones included. */
+  events: EventState[];
+  opened: string[];
+  outletsAdded: OutletAdded[];
+  /** Index keys to register per event once committed. */
+  keys: Map<string, string[]>;
+  /** Participant/place keys new to each event (for rarity counts). */
+  newNameKeys: string[];
+}
+
+/** Further links of one sentence carry half the weight in the event centroid. */
+const SECONDARY_WEIGHT = 0.5;
+const MAX_LINKS_PER_SENTENCE = 3;
+const RECENT_VOTE = 0.05;
+
+/** Online clustering of mentions into events. */
+export class OnlineLinker {
+  private readonly events = new Map<string, EventState>();
+  private readonly index: CandidateIndex;
+
+  constructor(private readonly o: LinkerOptions) {
+    this.index = new CandidateIndex(o.postingLimit);
+  }
+
+  /** Rebuilds the in-memory state from stored events, oldest activity first. */
+  load(states: Iterable<EventState>): void {
+    const sorted = [...states].sort((a, b) => (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1));
+    for (const e of sorted) {
+      this.events.set(e.id, e);
+      const names = [...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`);
+      for (const k of new Set(names)) this.index.countKey(k);
+      this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...names]);
+    }
+  }
+
+  /** Number of events held. */
+  get size(): number {
+    return this.events.size;
+  }
+
+  /** Number of index keys, for statistics. */
+  get indexKeys(): number {
+    return this.index.keys;
+  }
+
+  /** Works out the links for one article's mentions without changing committed state. */
+  plan(mentions: readonly EmbeddedMention[]): LinkPlan {
+    const overlay = new Map<string, EventState>();
+    const opened: string[] = [];
+    const links: Link[] = [];
+    const outletsAdded: OutletAdded[] = [];
+    const keys = new Map<string, string[]>();
+    const newNameKeys: string[] = [];
+    const current = (id: string): EventState | undefined => overlay.get(id) ?? this.events.get(id);
+
+    for (const m of mentions) {
+      const mkeys = mentionKeys(m, this.o.lookupTerms);
+      const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE));
+      for (const id of opened) ids.add(id);
+      const total = this.events.size + opened.length;
+      const scored: ScoredCandidate[] = [];
+      for (const id of ids) {
+        const e = current(id);
+        if (e) scored.push(scoreCandidate(m, e, this.index, total, this.o));
+      }
+      scored.sort((a, b) => b.score - a.score || (a.event.id < b.event.id ? -1 : 1));
+
+      const chosen: { sc: ScoredCandidate | null; id: string }[] = [];
+      const best = scored[0];
+      if (best && best.score >= this.o.threshold) {
+        chosen.push({ sc: best, id: best.event.id });
+        for (const sc of scored.slice(1)) {
+          if (chosen.length >= MAX_LINKS_PER_SENTENCE || sc.score < this.o.threshold + this.o.secondaryMargin) break;
+          chosen.push({ sc, id: sc.event.id });
+        }
+      } else {
+        const id = eventIdFor(m);
+        overlay.set(id, openEvent(id, m));
+        opened.push(id);
+        chosen.push({ sc: null, id });
+      }
+
+      chosen.forEach(({ sc, id }, rank) => {
+        let e = overlay.get(id);
+        if (!e) {
+          e = cloneEvent(this.events.get(id)!);
+          overlay.set(id, e);
+        }
+        const hadOutlet = e.outlets.has(m.outlet);
+        const before = new Set([...e.participants.keys(), ...e.places.keys()]);
+        addMention(e, m, rank === 0 ? 1 : SECONDARY_WEIGHT, this.o.centroidTerms);
+        for (const k of new Set([...e.participants.keys(), ...e.places.keys()])) if (!before.has(k)) newNameKeys.push(`p:${k}`);
+        const score = sc ? sc.score : m.eventness;
+        links.push({
+          articleId: m.articleId,
+          sentenceIndex: m.sentenceIndex,
+          eventId: id,
+          score,
+          rank,
+          evidence: sc ? sc.evidence : { similarity: 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: true },
+        });
+        if (!hadOutlet && sc) outletsAdded.push({ eventId: id, outlet: m.outlet, articleId: m.articleId, sentenceIndex: m.sentenceIndex, score, independent: !m.isCopy });
+        const list = keys.get(id) ?? [];
+        list.push(...mkeys.map((k) => k.key));
+        keys.set(id, list);
+      });
+    }
+    return { links, events: [...overlay.values()], opened, outletsAdded, keys, newNameKeys };
+  }
+
+  /** Makes a committed plan part of the linker's state. */
+  apply(plan: LinkPlan): void {
+    for (const e of plan.events) this.events.set(e.id, e);
+    for (const k of plan.newNameKeys) this.index.countKey(k);
+    for (const [id, ks] of plan.keys) this.index.add(id, [...new Set(ks)]);
+  }
+}
+
+/** Deterministic event id from the mention that opens it: replaying the same mention opens the same id. */
+export function eventIdFor(m: Pick<EmbeddedMention, 'articleId' | 'sentenceIndex'>): string {
+  return `ev_${createHash('sha256').update(`${m.articleId}#${m.sentenceIndex}`).digest('hex').slice(0, 16)}`;
+}
+
+/** A mention's lookup keys: its highest-weighted (rarest) terms and its names. */
+function mentionKeys(m: EmbeddedMention, lookupTerms: number): WeightedKey[] {
+  const keys: WeightedKey[] = [];
+  const v = m.vector;
+  if (v.kind === 'sparse') {
+    const order = [...v.indices.keys()].sort((a, b) => v.values[b]! - v.values[a]! || v.indices[a]! - v.indices[b]!);
+    for (const i of order.slice(0, lookupTerms)) keys.push({ key: `t:${v.indices[i]!}`, weight: v.values[i]! });
+  }
+  for (const p of new Set([...m.participants, ...m.places].map(nameKey))) if (p !== '') keys.push({ key: `p:${p}`, weight: 0.5 });
+  return keys;
+}
+
+function topTermKeys(e: EventState, n: number): string[] {
+  return [...e.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, n * 2).map(([f]) => `t:${f}`);
+}

@@ -1,0 +1,68 @@
+/**
+ * How well a mention fits an event: cosine similarity to the event's centroid, plus a
+ * bonus for shared rare participants and places, weighed down by the time gap with an
+ * exponential decay (half-life configurable; 7 days was the best single setting in trials
+ * on dated news).
+ *
+ *   score = min(1, (cosine + bonus) x 0.5 ^ (gap days / half-life))
+ *   bonus = overlapWeight x (1 - e^(-sum of rarity / 4)),  rarity = ln(1 + E / (1 + events with the key))
+ */
+import type { EmbeddedMention, LinkEvidence, Vector } from '../records.js';
+import type { CandidateIndex } from './candidate-index.js';
+import { type EventState, mentionSpan, nameKey } from './event-state.js';
+
+/** Scoring settings. */
+export interface ScoreOptions {
+  halfLifeDays: number;
+  overlapWeight: number;
+}
+
+/** A candidate's score and the evidence for it. */
+export interface ScoredCandidate {
+  event: EventState;
+  score: number;
+  evidence: LinkEvidence;
+}
+
+/** Cosine similarity between a mention vector and an event centroid sum. */
+export function cosine(v: Vector, e: EventState): number {
+  if (e.norm === 0) return 0;
+  let dot = 0;
+  if (v.kind === 'sparse') {
+    for (let i = 0; i < v.indices.length; i++) {
+      const w = e.sparse.get(v.indices[i]!);
+      if (w !== undefined) dot += w * v.values[i]!;
+    }
+  } else if (e.dense) {
+    for (let i = 0; i < v.values.length; i++) dot += v.values[i]! * e.dense[i]!;
+  }
+  return dot / e.norm;
+}
+
+/** Scores one candidate event for a mention. */
+export function scoreCandidate(m: EmbeddedMention, e: EventState, index: CandidateIndex, totalEvents: number, o: ScoreOptions): ScoredCandidate {
+  const similarity = cosine(m.vector, e);
+  const [ms, me] = mentionSpan(m);
+  const gap = Math.max(0, e.timeStart - me, ms - e.timeEnd);
+  const timeDecay = Math.pow(0.5, gap / o.halfLifeDays);
+  const sharedParticipants: string[] = [];
+  const sharedPlaces: string[] = [];
+  let rarity = 0;
+  // Names match across the two lists: the same name can read as a participant in one
+  // sentence and as a place in another ("Vellmouth said" / "in Vellmouth").
+  for (const [names, shared] of [[m.participants, sharedParticipants], [m.places, sharedPlaces]] as const) {
+    for (const p of names) {
+      const k = nameKey(p);
+      if (!e.participants.has(k) && !e.places.has(k)) continue;
+      shared.push(p);
+      rarity += Math.log(1 + totalEvents / (1 + index.eventsWith(`p:${k}`)));
+    }
+  }
+  const overlapBonus = o.overlapWeight * (1 - Math.exp(-rarity / 4));
+  const score = Math.min(1, (similarity + overlapBonus) * timeDecay);
+  return {
+    event: e,
+    score,
+    evidence: { similarity, timeDecay, timeGapDays: gap, sharedParticipants, sharedPlaces, overlapBonus, opened: false },
+  };
+}

@@ -1,0 +1,52 @@
+/**
+ * Builds the notifications a link plan gives rise to, as outbox messages: "event.opened"
+ * when a mention opens an event, "event.outlet_added" when an event is reported by an
+ * outlet for the first time. Payloads follow the Standard Webhooks recommendation
+ * (`type`, `timestamp`, `data`); ids are derived from the change, so a replayed change
+ * produces the same `webhook-id` and receivers can drop the repeat.
+ */
+import { createHash } from 'node:crypto';
+import type { Subscriber } from '../config/schema.js';
+import type { LinkPlan } from '../link/online-linker.js';
+import { toRecord } from '../link/event-state.js';
+import type { EmbeddedMention } from '../records.js';
+import type { OutboxMessage } from '../store/store.js';
+
+/** Notification types a subscriber can ask for. */
+export type NotificationType = 'event.opened' | 'event.outlet_added';
+
+/** The outbox messages for one committed plan; none when nobody subscribes. */
+export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  if (subscribers.length === 0) return [];
+  const created = now.toISOString();
+  const events = new Map(plan.events.map((e) => [e.id, e]));
+  const mentionOf = (articleId: string, sentenceIndex: number) => mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);
+  const out: OutboxMessage[] = [];
+  const push = (type: NotificationType, key: string, data: unknown): void => {
+    const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);
+    if (to.length === 0) return;
+    const id = `msg_${createHash('sha256').update(`${type}\n${key}`).digest('hex').slice(0, 24)}`;
+    out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created, subscribers: to });
+  };
+  for (const id of plan.opened) {
+    const link = plan.links.find((l) => l.eventId === id)!;
+    const m = mentionOf(link.articleId, link.sentenceIndex);
+    push('event.opened', id, {
+      event: toRecord(events.get(id)!),
+      mention: { article: link.articleId, sentence: link.sentenceIndex, outlet: m?.outlet, text: m?.text, published: m?.published },
+      note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
+    });
+  }
+  for (const a of plan.outletsAdded) {
+    const m = mentionOf(a.articleId, a.sentenceIndex);
+    const link = plan.links.find((l) => l.eventId === a.eventId && l.articleId === a.articleId && l.sentenceIndex === a.sentenceIndex);
+    push('event.outlet_added', `${a.eventId}\n${a.outlet}`, {
+      event: toRecord(events.get(a.eventId)!),
+      outlet: a.outlet,
+      independent: a.independent,
+      mention: { article: a.articleId, sentence: a.sentenceIndex, text: m?.text, published: m?.published, score: a.score, evidence: link?.evidence },
+      note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
+    });
+  }
+  return out;
+}

@@ -1,0 +1,40 @@
+/**
+ * Builds the long-lived parts of a Strandline process from the configuration: the store,
+ * the NLP model, the embedder and the linker, with the linker and embedder resumed from
+ * what the store holds.
+ */
+import type { Config } from './config/schema.js';
+import { TfidfEmbedder } from './embed/tfidf-embedder.js';
+import { deserialiseEvent } from './link/event-state.js';
+import { OnlineLinker } from './link/online-linker.js';
+import type { Logger } from './logger.js';
+import type { PipelineContext } from './pipeline.js';
+import { openSqliteStore } from './store/sqlite/sqlite-store.js';
+import type { Store } from './store/store.js';
+import { createNlp } from './text/nlp.js';
+
+/** Everything a command needs to run the pipeline and serve queries. */
+export interface Runtime extends PipelineContext {
+  close(): Promise<void>;
+}
+
+/** Opens the store and resumes the linker; `store` may be passed in (tests). */
+export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store): Promise<Runtime> {
+  const s = store ?? openSqliteStore(config.store.path);
+  const embedder = new TfidfEmbedder(config.embed.hashBits);
+  const linker = new OnlineLinker(config.link);
+  const snapshot = await s.loadLinkerState();
+  embedder.load(snapshot.idf);
+  linker.load(snapshot.events.map(deserialiseEvent));
+  logger.child({ stage: 'runtime' }).debug({ events: linker.size, idfDocs: snapshot.idf.docs }, 'linker resumed');
+  return {
+    config,
+    nlp: createNlp(),
+    embedder,
+    linker,
+    store: s,
+    logger,
+    now: () => new Date(),
+    close: () => s.close(),
+  };
+}

@@ -1,0 +1,102 @@
+/**
+ * The SQLite schema. Versioned by `PRAGMA user_version`; each entry of MIGRATIONS moves
+ * the file one version up, inside a transaction.
+ */
+export const MIGRATIONS: readonly string[] = [
+  `
+  CREATE TABLE articles (
+    seq          INTEGER PRIMARY KEY,
+    id           TEXT NOT NULL UNIQUE,
+    outlet       TEXT NOT NULL,
+    url          TEXT,
+    title        TEXT NOT NULL,
+    published    TEXT,
+    fetched      TEXT NOT NULL,
+    language     TEXT,
+    text         TEXT,
+    content_hash TEXT NOT NULL,
+    duplicate_of TEXT,
+    source       TEXT NOT NULL
+  );
+  CREATE INDEX articles_hash ON articles(content_hash, seq);
+  CREATE INDEX articles_published ON articles(published);
+
+  CREATE TABLE sentences (
+    article_id TEXT NOT NULL,
+    idx        INTEGER NOT NULL,
+    text       TEXT,
+    start      INTEGER NOT NULL,
+    end        INTEGER NOT NULL,
+    eventness  REAL NOT NULL,
+    PRIMARY KEY (article_id, idx)
+  ) WITHOUT ROWID;
+
+  CREATE TABLE mentions (
+    article_id   TEXT NOT NULL,
+    sentence_idx INTEGER NOT NULL,
+    outlet       TEXT NOT NULL,
+    published    TEXT NOT NULL,
+    eventness    REAL NOT NULL,
+    participants TEXT NOT NULL,
+    places       TEXT NOT NULL,
+    times        TEXT NOT NULL,
+    is_copy      INTEGER NOT NULL,
+    PRIMARY KEY (article_id, sentence_idx)
+  ) WITHOUT ROWID;
+
+  CREATE TABLE links (
+    article_id   TEXT NOT NULL,
+    sentence_idx INTEGER NOT NULL,
+    event_id     TEXT NOT NULL,
+    score        REAL NOT NULL,
+    rank         INTEGER NOT NULL,
+    evidence     TEXT NOT NULL,
+    PRIMARY KEY (article_id, sentence_idx, event_id)
+  ) WITHOUT ROWID;
+  CREATE INDEX links_event ON links(event_id);
+
+  CREATE TABLE events (
+    id            TEXT PRIMARY KEY,
+    label         TEXT NOT NULL,
+    first_seen    TEXT NOT NULL,
+    last_seen     TEXT NOT NULL,
+    time_start    TEXT NOT NULL,
+    time_end      TEXT NOT NULL,
+    participants  TEXT NOT NULL,
+    places        TEXT NOT NULL,
+    mention_count INTEGER NOT NULL,
+    version       INTEGER NOT NULL,
+    state         BLOB NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX events_last_seen ON events(last_seen);
+
+  CREATE TABLE event_outlets (
+    event_id    TEXT NOT NULL,
+    outlet      TEXT NOT NULL,
+    mentions    INTEGER NOT NULL,
+    independent INTEGER NOT NULL,
+    PRIMARY KEY (event_id, outlet)
+  ) WITHOUT ROWID;
+  CREATE INDEX event_outlets_outlet ON event_outlets(outlet);
+
+  CREATE TABLE idf (feature INTEGER PRIMARY KEY, df INTEGER NOT NULL);
+  CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT NOT NULL) WITHOUT ROWID;
+
+  CREATE TABLE outbox (
+    id      TEXT PRIMARY KEY,
+    type    TEXT NOT NULL,
+    body    TEXT NOT NULL,
+    created TEXT NOT NULL
+  ) WITHOUT ROWID;
+  CREATE TABLE deliveries (
+    message_id TEXT NOT NULL,
+    subscriber TEXT NOT NULL,
+    status     TEXT NOT NULL,
+    attempts   INTEGER NOT NULL,
+    next_at    TEXT NOT NULL,
+    last_error TEXT,
+    PRIMARY KEY (message_id, subscriber)
+  ) WITHOUT ROWID;
+  CREATE INDEX deliveries_due ON deliveries(status, next_at);
+  `,
+];

@@ -1,0 +1,324 @@
+/**
+ * The embedded Store on SQLite (better-sqlite3): one file, nothing else to install.
+ * Write-ahead logging, so a process killed at any point loses no committed transaction and
+ * readers (the API) never block the writer (the pipeline). Every article's results are one
+ * transaction: after a crash an article is either wholly stored or not at all.
+ */
+import { mkdirSync } from 'node:fs';
+import { dirname } from 'node:path';
+import Database from 'better-sqlite3';
+import { StrandError } from '../../errors.js';
+import type { LinkEvidence, TimeExpression } from '../../records.js';
+import type {
+  ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
+  LinkerSnapshot, Store, StoreCounts,
+} from '../store.js';
+import { MIGRATIONS } from './schema.js';
+
+type Row = Record<string, unknown>;
+
+/** Opens (creating if needed) a SQLite store at `path`; ':memory:' for tests. */
+export function openSqliteStore(path: string): SqliteStore {
+  if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
+  let db: Database.Database;
+  try {
+    db = new Database(path);
+    db.pragma('journal_mode = WAL');
+    // NORMAL is durable against a killed process under WAL (only power loss can drop the
+    // last transactions), and several times faster than FULL for small commits.
+    db.pragma('synchronous = NORMAL');
+    db.pragma('foreign_keys = OFF');
+    db.pragma('busy_timeout = 5000');
+    migrate(db);
+  } catch (err) {
+    throw new StrandError('STRAND_STORE_FAILED', `cannot open SQLite store at ${path}: ${(err as Error).message}`, { cause: err });
+  }
+  return new SqliteStore(db);
+}
+
+function migrate(db: Database.Database): void {
+  const version = db.pragma('user_version', { simple: true }) as number;
+  for (let v = version; v < MIGRATIONS.length; v++) {
+    db.transaction(() => {
+      db.exec(MIGRATIONS[v]!);
+      db.pragma(`user_version = ${v + 1}`);
+    })();
+  }
+}
+
+/** The SQLite implementation of Store. */
+export class SqliteStore implements Store {
+  private readonly st;
+  private readonly commitTx: (c: ArticleCommit) => CommitResult;
+
+  constructor(private readonly db: Database.Database) {
+    this.st = {
+      hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
+      byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
+      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source)
+        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source)`),
+      insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
+      insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy)
+        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`),
+      insLink: db.prepare('INSERT INTO links (article_id, sentence_idx, event_id, score, rank, evidence) VALUES (?, ?, ?, ?, ?, ?)'),
+      upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state)
+        VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state)
+        ON CONFLICT(id) DO UPDATE SET label = excluded.label, first_seen = excluded.first_seen, last_seen = excluded.last_seen,
+          time_start = excluded.time_start, time_end = excluded.time_end, participants = excluded.participants, places = excluded.places,
+          mention_count = excluded.mention_count, version = excluded.version, state = excluded.state`),
+      delOutlets: db.prepare('DELETE FROM event_outlets WHERE event_id = ?'),
+      insOutlet: db.prepare('INSERT INTO event_outlets (event_id, outlet, mentions, independent) VALUES (?, ?, ?, ?)'),
+      upIdf: db.prepare('INSERT INTO idf (feature, df) VALUES (?, ?) ON CONFLICT(feature) DO UPDATE SET df = df + excluded.df'),
+      upDocs: db.prepare(`INSERT INTO meta (key, value) VALUES ('idf_docs', ?) ON CONFLICT(key) DO UPDATE SET value = CAST(value AS INTEGER) + CAST(excluded.value AS INTEGER)`),
+      insMessage: db.prepare('INSERT OR IGNORE INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
+      insDelivery: db.prepare(`INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`),
+      eventStates: db.prepare('SELECT state FROM events').pluck(),
+      idfRows: db.prepare('SELECT feature, df FROM idf').raw(),
+      docs: db.prepare(`SELECT value FROM meta WHERE key = 'idf_docs'`).pluck(),
+      event: db.prepare(`${EVENT_SELECT} WHERE e.id = ?`),
+      eventMentions: db.prepare(`
+        SELECT l.article_id, l.sentence_idx, l.score, l.rank, l.evidence, a.title, a.url, a.outlet, m.published, m.is_copy, m.times, s.text
+        FROM links l
+        JOIN articles a ON a.id = l.article_id
+        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
+        LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        WHERE l.event_id = ? ORDER BY m.published, l.article_id, l.sentence_idx`),
+      article: db.prepare('SELECT * FROM articles WHERE id = ?'),
+      articleSentences: db.prepare('SELECT idx, text, start, end, eventness FROM sentences WHERE article_id = ? ORDER BY idx'),
+      articleMentions: db.prepare('SELECT sentence_idx FROM mentions WHERE article_id = ?').pluck(),
+      articleLinks: db.prepare(`SELECT l.sentence_idx, l.event_id, l.score, l.rank, l.evidence, e.label FROM links l JOIN events e ON e.id = l.event_id
+        WHERE l.article_id = ? ORDER BY l.sentence_idx, l.rank`),
+      outlets: db.prepare('SELECT outlet, count(*) AS articles FROM articles GROUP BY outlet ORDER BY outlet'),
+      counts: db.prepare(`SELECT (SELECT count(*) FROM articles) AS articles, (SELECT count(*) FROM sentences) AS sentences,
+        (SELECT count(*) FROM mentions) AS mentions, (SELECT count(*) FROM links) AS links, (SELECT count(*) FROM events) AS events`),
+      due: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
+        WHERE d.status = 'pending' AND d.next_at <= ? ORDER BY d.next_at LIMIT ?`),
+      dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
+        WHERE d.status = 'dead' ORDER BY d.next_at DESC LIMIT ?`),
+      attempt: db.prepare('UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?'),
+    };
+    this.commitTx = db.transaction((c: ArticleCommit): CommitResult => this.commitInTx(c));
+  }
+
+  async hasArticle(id: string): Promise<boolean> {
+    return this.st.hasArticle.get(id) !== undefined;
+  }
+
+  async findByContentHash(hash: string): Promise<string | null> {
+    return (this.st.byHash.get(hash) as string | undefined) ?? null;
+  }
+
+  async commitArticle(c: ArticleCommit): Promise<CommitResult> {
+    try {
+      return this.commitTx(c);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot store article ${c.article.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  private commitInTx(c: ArticleCommit): CommitResult {
+    const st = this.st;
+    if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
+    st.insArticle.run(c.article);
+    for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
+    for (const m of c.mentions) {
+      st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0);
+    }
+    for (const l of c.links) st.insLink.run(l.articleId, l.sentenceIndex, l.eventId, l.score, l.rank, JSON.stringify(l.evidence));
+    for (const { record: r, outlets, state } of c.events) {
+      st.upEvent.run({ ...r, participants: JSON.stringify(r.participants), places: JSON.stringify(r.places), state: Buffer.from(state.buffer, state.byteOffset, state.byteLength) });
+      st.delOutlets.run(r.id);
+      for (const o of outlets) st.insOutlet.run(r.id, o.outlet, o.mentions, o.independent);
+    }
+    if (c.idf) {
+      for (const [f, n] of c.idf.df) st.upIdf.run(f, n);
+      st.upDocs.run(String(c.idf.docs));
+    }
+    for (const msg of c.messages) {
+      st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
+      for (const sub of msg.subscribers) st.insDelivery.run(msg.id, sub, msg.created);
+    }
+    return 'stored';
+  }
+
+  async loadLinkerState(): Promise<LinkerSnapshot> {
+    return {
+      events: (this.st.eventStates.all() as Buffer[]).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength)),
+      idf: { docs: Number(this.st.docs.get() ?? 0), df: this.st.idfRows.all() as [number, number][] },
+    };
+  }
+
+  async listEvents(q: EventQuery): Promise<EventPage> {
+    const where: string[] = [];
+    const params: Record<string, unknown> = {};
+    if (q.from) {
+      where.push('e.last_seen >= @from');
+      params.from = q.from;
+    }
+    if (q.to) {
+      where.push('e.first_seen <= @to');
+      params.to = /^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to;
+    }
+    if (q.outlet) {
+      where.push('EXISTS (SELECT 1 FROM event_outlets eo WHERE eo.event_id = e.id AND eo.outlet = @outlet)');
+      params.outlet = q.outlet;
+    }
+    if (q.minOutlets) {
+      where.push('(SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id) >= @minOutlets');
+      params.minOutlets = q.minOutlets;
+    }
+    (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).forEach((word, i) => {
+      where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        WHERE l.event_id = e.id AND s.text LIKE @w${i} ESCAPE '\\'))`);
+      params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
+    });
+    const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
+    const order = q.sort === 'outlets' ? 'outlet_count DESC, e.last_seen DESC' : q.sort === 'mentions' ? 'e.mention_count DESC, e.last_seen DESC' : 'e.last_seen DESC';
+    const total = this.db.prepare(`SELECT count(*) FROM events e ${filter}`).pluck().get(params) as number;
+    const rows = this.db.prepare(`${EVENT_SELECT} ${filter} ORDER BY ${order}, e.id LIMIT @limit OFFSET @offset`).all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
+    return { total, events: rows.map(toSummary) };
+  }
+
+  async getEvent(id: string): Promise<EventDetail | null> {
+    const row = this.st.event.get(id) as Row | undefined;
+    if (!row) return null;
+    const mentions = (this.st.eventMentions.all(id) as Row[]).map((r): EventMention => ({
+      articleId: r.article_id as string,
+      articleTitle: r.title as string,
+      articleUrl: (r.url as string | null) ?? null,
+      outlet: r.outlet as string,
+      published: r.published as string,
+      isCopy: r.is_copy === 1,
+      sentenceIndex: r.sentence_idx as number,
+      text: (r.text as string | null) ?? null,
+      score: r.score as number,
+      rank: r.rank as number,
+      evidence: JSON.parse(r.evidence as string) as LinkEvidence,
+      times: JSON.parse(r.times as string) as TimeExpression[],
+    }));
+    return { event: toSummary(row), mentions };
+  }
+
+  async getArticle(id: string): Promise<ArticleDetail | null> {
+    const a = this.st.article.get(id) as Row | undefined;
+    if (!a) return null;
+    const mentionIdx = new Set(this.st.articleMentions.all(id) as number[]);
+    const links = this.st.articleLinks.all(id) as Row[];
+    const sentences = (this.st.articleSentences.all(id) as Row[]).map((s) => ({
+      index: s.idx as number,
+      text: (s.text as string | null) ?? '',
+      start: s.start as number,
+      end: s.end as number,
+      eventness: s.eventness as number,
+      isMention: mentionIdx.has(s.idx as number),
+      links: links.filter((l) => l.sentence_idx === s.idx).map((l) => ({
+        eventId: l.event_id as string,
+        eventLabel: l.label as string,
+        score: l.score as number,
+        rank: l.rank as number,
+        evidence: JSON.parse(l.evidence as string) as LinkEvidence,
+      })),
+    }));
+    return {
+      article: {
+        id: a.id as string, outlet: a.outlet as string, url: (a.url as string | null) ?? null, title: a.title as string,
+        published: (a.published as string | null) ?? null, fetched: a.fetched as string, language: (a.language as string | null) ?? null,
+        text: (a.text as string | null) ?? null, contentHash: a.content_hash as string, duplicateOf: (a.duplicate_of as string | null) ?? null,
+        source: a.source as string,
+      },
+      sentences,
+    };
+  }
+
+  async listOutlets(): Promise<{ outlet: string; articles: number }[]> {
+    return this.st.outlets.all() as { outlet: string; articles: number }[];
+  }
+
+  async counts(): Promise<StoreCounts> {
+    return this.st.counts.get() as StoreCounts;
+  }
+
+  async dueDeliveries(now: string, limit: number): Promise<Delivery[]> {
+    return (this.st.due.all(now, limit) as Row[]).map(toDelivery);
+  }
+
+  async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
+    this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber);
+  }
+
+  async deadLetters(limit: number): Promise<Delivery[]> {
+    return (this.st.dead.all(limit) as Row[]).map(toDelivery);
+  }
+
+  async eraseTextBefore(day: string): Promise<number> {
+    const ids = this.db.prepare('SELECT id FROM articles WHERE coalesce(published, fetched) < ? AND text IS NOT NULL').pluck().all(day) as string[];
+    const tx = this.db.transaction(() => { for (const id of ids) this.eraseInTx(id); });
+    tx();
+    return ids.length;
+  }
+
+  async eraseArticleText(id: string): Promise<boolean> {
+    if (this.st.hasArticle.get(id) === undefined) return false;
+    this.db.transaction(() => this.eraseInTx(id))();
+    return true;
+  }
+
+  private eraseInTx(id: string): void {
+    const db = this.db;
+    // Labels are drawn from sentences: an event labelled by an erased sentence takes the
+    // text of its earliest remaining mention, or a placeholder.
+    const erased = db.prepare('SELECT text FROM sentences WHERE article_id = ? AND text IS NOT NULL').pluck().all(id) as string[];
+    db.prepare('UPDATE articles SET text = NULL WHERE id = ?').run(id);
+    db.prepare('UPDATE sentences SET text = NULL WHERE article_id = ?').run(id);
+    const events = db.prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
+    const erasedSet = new Set(erased);
+    for (const e of events) {
+      if (!erasedSet.has(e.label as string) && ![...erasedSet].some((t) => t.startsWith((e.label as string).replace(/…$/, '')))) continue;
+      const next = db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
+        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck().get(e.id) as string | undefined;
+      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(next ?? '(text erased under the retention policy)', e.id);
+    }
+  }
+
+  async close(): Promise<void> {
+    if (this.db.open) this.db.close();
+  }
+}
+
+const EVENT_SELECT = `SELECT e.id, e.label, e.first_seen, e.last_seen, e.time_start, e.time_end, e.participants, e.places, e.mention_count, e.version,
+  (SELECT json_group_array(outlet) FROM (SELECT outlet FROM event_outlets eo WHERE eo.event_id = e.id ORDER BY outlet)) AS outlets,
+  (SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id) AS outlet_count,
+  (SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id AND eo.independent > 0) AS independent
+  FROM events e`;
+
+function toSummary(r: Row): EventSummary {
+  return {
+    id: r.id as string,
+    label: r.label as string,
+    firstSeen: r.first_seen as string,
+    lastSeen: r.last_seen as string,
+    timeStart: r.time_start as string,
+    timeEnd: r.time_end as string,
+    participants: JSON.parse(r.participants as string) as string[],
+    places: JSON.parse(r.places as string) as string[],
+    outlets: JSON.parse(r.outlets as string) as string[],
+    mentionCount: r.mention_count as number,
+    version: r.version as number,
+    independentOutlets: r.independent as number,
+  };
+}
+
+function toDelivery(r: Row): Delivery {
+  return {
+    messageId: r.message_id as string,
+    subscriber: r.subscriber as string,
+    type: r.type as string,
+    body: r.body as string,
+    created: r.created as string,
+    attempts: r.attempts as number,
+    nextAt: r.next_at as string,
+    status: r.status as Delivery['status'],
+    lastError: (r.last_error as string | null) ?? null,
+  };
+}

@@ -1,0 +1,171 @@
+/**
+ * The Store contract: everything Strandline keeps. One contract, several implementations
+ * (the embedded SQLite store now; Redis for several processes later), all held to the
+ * same contract test suite. Stages never see a concrete store.
+ */
+import type { Article, EventRecord, Link, LinkEvidence, Mention, TimeExpression } from '../records.js';
+
+/** One sentence as committed, with its event-ness. */
+export interface StoredSentence {
+  index: number;
+  text: string;
+  start: number;
+  end: number;
+  eventness: number;
+}
+
+/** An event's new state: the public record plus the linker's opaque state. */
+export interface EventUpdate {
+  record: EventRecord;
+  /** Per outlet: mentions, and mentions that are not verbatim copies. */
+  outlets: { outlet: string; mentions: number; independent: number }[];
+  /** Serialised linker state (centroid etc.); the store keeps it as bytes. */
+  state: Uint8Array;
+}
+
+/** A notification to deliver to webhook subscribers (transactional outbox). */
+export interface OutboxMessage {
+  /** Stable id (`msg_...`), the Standard Webhooks `webhook-id`; the same change gives the same id. */
+  id: string;
+  type: string;
+  /** JSON body, already serialised so the signature covers exactly these bytes. */
+  body: string;
+  created: string;
+  subscribers: string[];
+}
+
+/** Everything one article changes, committed atomically. */
+export interface ArticleCommit {
+  article: Article;
+  sentences: StoredSentence[];
+  mentions: Mention[];
+  links: Link[];
+  events: EventUpdate[];
+  /** Document-frequency increments of the TF-IDF embedder. */
+  idf: { docs: number; df: Map<number, number> } | null;
+  messages: OutboxMessage[];
+}
+
+/** What happened to a commit. */
+export type CommitResult = 'stored' | 'already-stored';
+
+/** Linker state as persisted. */
+export interface LinkerSnapshot {
+  events: Uint8Array[];
+  idf: { docs: number; df: [number, number][] };
+}
+
+/** Filters for listing events. */
+export interface EventQuery {
+  /** Events active on or after this day (YYYY-MM-DD or RFC 3339). */
+  from?: string | undefined;
+  /** Events active on or before this day. */
+  to?: string | undefined;
+  outlet?: string | undefined;
+  /** Words that must appear in the label or in one of the event's sentences. */
+  text?: string | undefined;
+  /** Only events reported by at least this many outlets. */
+  minOutlets?: number | undefined;
+  /** Order: most recent activity first (default), most outlets, or most mentions. */
+  sort?: 'recent' | 'outlets' | 'mentions' | undefined;
+  limit: number;
+  offset: number;
+}
+
+/** One row of an event list. */
+export interface EventSummary extends EventRecord {
+  /** Outlets with at least one mention that is not a verbatim copy. */
+  independentOutlets: number;
+}
+
+/** A page of events. */
+export interface EventPage {
+  total: number;
+  events: EventSummary[];
+}
+
+/** One mention of an event, as shown to an analyst. */
+export interface EventMention {
+  articleId: string;
+  articleTitle: string;
+  articleUrl: string | null;
+  outlet: string;
+  published: string;
+  isCopy: boolean;
+  sentenceIndex: number;
+  /** Null once retention has erased the text. */
+  text: string | null;
+  score: number;
+  rank: number;
+  evidence: LinkEvidence;
+  times: TimeExpression[];
+}
+
+/** An event with all its mentions. */
+export interface EventDetail {
+  event: EventSummary;
+  mentions: EventMention[];
+}
+
+/** A sentence of an article with its links. */
+export interface ArticleSentence extends StoredSentence {
+  isMention: boolean;
+  links: { eventId: string; eventLabel: string; score: number; rank: number; evidence: LinkEvidence }[];
+}
+
+/** An article with its sentences and their links. */
+export interface ArticleDetail {
+  article: Omit<Article, 'text'> & { text: string | null };
+  sentences: ArticleSentence[];
+}
+
+/** Row counts. */
+export interface StoreCounts {
+  articles: number;
+  sentences: number;
+  mentions: number;
+  links: number;
+  events: number;
+}
+
+/** A webhook delivery attempt record. */
+export interface Delivery {
+  messageId: string;
+  subscriber: string;
+  type: string;
+  body: string;
+  created: string;
+  attempts: number;
+  nextAt: string;
+  status: 'pending' | 'delivered' | 'dead';
+  lastError: string | null;
+}
+
+/** The storage contract. */
+export interface Store {
+  /** True when an article with this id is stored. */
+  hasArticle(id: string): Promise<boolean>;
+  /** Id of the earliest stored article with this content hash, if any. */
+  findByContentHash(hash: string): Promise<string | null>;
+  /** Commits one article's results in one transaction; a second commit of the same id changes nothing. */
+  commitArticle(c: ArticleCommit): Promise<CommitResult>;
+  /** Everything the linker and embedder need to resume. */
+  loadLinkerState(): Promise<LinkerSnapshot>;
+  listEvents(q: EventQuery): Promise<EventPage>;
+  getEvent(id: string): Promise<EventDetail | null>;
+  getArticle(id: string): Promise<ArticleDetail | null>;
+  /** Outlets with their article counts. */
+  listOutlets(): Promise<{ outlet: string; articles: number }[]>;
+  counts(): Promise<StoreCounts>;
+  /** Pending deliveries due at or before `now`. */
+  dueDeliveries(now: string, limit: number): Promise<Delivery[]>;
+  /** Records the outcome of one delivery attempt. */
+  recordAttempt(messageId: string, subscriber: string, outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void>;
+  /** Deliveries that gave up. */
+  deadLetters(limit: number): Promise<Delivery[]>;
+  /** Erases article and sentence text of articles published before `day`; returns how many articles. */
+  eraseTextBefore(day: string): Promise<number>;
+  /** Erases one article's stored text (body, sentences, labels drawn from them); links stay. */
+  eraseArticleText(id: string): Promise<boolean>;
+  close(): Promise<void>;
+}
