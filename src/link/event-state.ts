@@ -15,6 +15,8 @@ export interface EventState {
   /** Day numbers (days since 1970-01-01) of the event's time span, inclusive. */
   timeStart: number;
   timeEnd: number;
+  /** True once a mention gave an explicit time; until then the span is the opener's publication days. */
+  explicitTime: boolean;
   /** Sparse centroid sum (feature → weight); empty for dense vectors. */
   sparse: Map<number, number>;
   /** Dense centroid sum; null for sparse vectors. */
@@ -32,10 +34,19 @@ export interface EventState {
 
 /** The day span a mention places its event in: its resolved times, else the day of and before publication. */
 export function mentionSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] {
+  return explicitSpan(m) ?? implicitSpan(m);
+}
+
+function implicitSpan(m: Pick<EmbeddedMention, 'published'>): [number, number] {
   const pub = dayNumber(m.published.slice(0, 10));
-  // Times more than a year off describe background, not this mention's event.
+  return [pub - 1, pub];
+}
+
+/** The span of a mention's own time expressions, ignoring any more than a year from publication (background). */
+function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] | null {
+  const pub = dayNumber(m.published.slice(0, 10));
   const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366);
-  if (near.length === 0) return [pub - 1, pub];
+  if (near.length === 0) return null;
   let lo = Infinity;
   let hi = -Infinity;
   for (const t of near) {
@@ -52,7 +63,8 @@ export function nameKey(name: string): string {
 
 /** A new event opened by one mention. */
 export function openEvent(id: string, m: EmbeddedMention): EventState {
-  const [timeStart, timeEnd] = mentionSpan(m);
+  const explicit = explicitSpan(m);
+  const [timeStart, timeEnd] = explicit ?? implicitSpan(m);
   const e: EventState = {
     id,
     label: makeLabel(m.text),
@@ -60,6 +72,7 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
     lastSeen: m.published,
     timeStart,
     timeEnd,
+    explicitTime: explicit !== null,
     sparse: new Map(),
     dense: null,
     norm: 0,
@@ -75,9 +88,17 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
 /** Adds a mention to an event (mutates `e`); `weight` < 1 for a sentence's further links. */
 export function addMention(e: EventState, m: EmbeddedMention, weight: number, centroidTerms: number): void {
   addVector(e, m.vector, weight, centroidTerms);
-  const [s, t] = mentionSpan(m);
-  e.timeStart = Math.min(e.timeStart, s);
-  e.timeEnd = Math.max(e.timeEnd, t);
+  // Only stated times move the event's span. A later report without a date says when it
+  // was written, not when the event happened; letting it stretch the span would let the
+  // event swallow whatever its story reports next.
+  const explicit = explicitSpan(m);
+  if (explicit && !e.explicitTime) {
+    [e.timeStart, e.timeEnd] = explicit;
+    e.explicitTime = true;
+  } else if (explicit) {
+    e.timeStart = Math.min(e.timeStart, explicit[0]);
+    e.timeEnd = Math.max(e.timeEnd, explicit[1]);
+  }
   if (m.published < e.firstSeen) e.firstSeen = m.published;
   if (m.published > e.lastSeen) e.lastSeen = m.published;
   e.mentionCount++;
@@ -121,7 +142,7 @@ export function toRecord(e: EventState): EventRecord {
 export function serialiseEvent(e: EventState): Buffer {
   const header = Buffer.from(JSON.stringify({
     id: e.id, label: e.label, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
-    norm: e.norm, mentionCount: e.mentionCount, version: e.version,
+    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version,
     participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
     sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
   }));
@@ -142,7 +163,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   const b = Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
-    id: string; label: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; norm: number;
+    id: string; label: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
     mentionCount: number; version: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
     outlets: [string, [number, number]][]; sparse: number; dense: number;
   };
@@ -158,7 +179,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   }
   return {
     id: h.id, label: h.label, firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
-    sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
+    explicitTime: h.explicitTime, sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
     participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
   };
 }

@@ -42,14 +42,23 @@ const FINAL_ABBREVIATIONS = new Set(['a.m.', 'p.m.', 'etc.', 'ltd.', 'inc.', 'co
 /** Splits and analyses an article. */
 export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
   const reference = article.published ?? article.fetched;
+  const read = paragraphs(article.text).map((p) => {
+    const tokens = readTokens(nlp, p.text);
+    return { ...p, tokens, spans: sentenceSpans(nlp, p.text, tokens) };
+  });
+  // The tagger takes any capitalised first word for a name ("Police said", "Engineers
+  // warned"); such a word counts as a name only if the article also capitalises it mid-sentence.
+  const names = new Set<string>();
+  for (const { tokens, spans } of read) {
+    for (const [s, e] of spans) for (let i = s + 1; i <= e; i++) if (tokens.pos[i] === 'PROPN' && isCapitalised(tokens.value[i]!)) names.add(tokens.value[i]!);
+  }
   const sentences: SentenceAnalysis[] = [];
-  for (const { text: para, offset } of paragraphs(article.text)) {
-    const tokens = readTokens(nlp, para);
-    for (const [s, e] of sentenceSpans(nlp, para, tokens)) {
+  for (const { text: para, offset, tokens, spans } of read) {
+    for (const [s, e] of spans) {
       const start = tokens.start[s]!;
       const end = tokens.end[e]!;
       const sentence: Sentence = { articleId: article.id, index: sentences.length, text: para.slice(start, end), start: offset + start, end: offset + end };
-      sentences.push(analyseSentence(sentence, tokens, s, e, reference));
+      sentences.push(analyseSentence(sentence, tokens, s, e, reference, names));
     }
   }
   return { article, sentences };
@@ -162,7 +171,7 @@ function onlyPunctuation(tokens: Tokens, s: number, e: number): boolean {
   return true;
 }
 
-function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, reference: string): SentenceAnalysis {
+function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, reference: string, names: ReadonlySet<string>): SentenceAnalysis {
   const terms: string[] = [];
   const participants: string[] = [];
   const places: string[] = [];
@@ -189,7 +198,8 @@ function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, re
         j += CONNECTORS.has(t.value[j + 1]!.toLowerCase()) ? 2 : 1;
       }
       const phrase = text.slice(t.start[i]! - base, t.end[j]! - base);
-      (isAfterLocative(t, i, s) ? places : participants).push(phrase);
+      const doubtful = i === s && j === i && !names.has(t.value[i]!);
+      if (!doubtful) (isAfterLocative(t, i, s) ? places : participants).push(phrase);
       // Also count the content terms inside the phrase we are about to skip.
       for (let k = i + 1; k <= j; k++) if (t.pos[k] === 'PROPN') terms.push(t.value[k]!.toLowerCase());
       i = j;

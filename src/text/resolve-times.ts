@@ -13,6 +13,7 @@ import { addDays, dayOf, daysBetween, endOfMonth, weekday } from './days.js';
 const PART_OF_DAY_OF = /\b(?:night|morning|evening|afternoon|weekend) of\b/gi;
 const LAST_WEEK = /\blast week\b/i;
 const THIS_WEEK = /\bthis week\b/i;
+const RELATIVE_FORWARD = /\b(?:after|later|from now|tomorrow|next)\b/i;
 const YEAR_ALONE = /\b(?:in|since|by|until|from|during|of) ((?:1[89]|20)\d\d)\b(?!\s*(?:marks|people|votes|[a-z]+s\b))/gi;
 
 /** Resolves the time expressions of `text`, published on `published` (RFC 3339). */
@@ -25,7 +26,11 @@ export function resolveTimes(text: string, published: string, future: boolean): 
     const range = toRange(r, refDay, future);
     // A reported (not future) happening cannot lie after the report; chrono reads relative
     // phrases such as "a day after" against the publication date, which is wrong here.
-    if (range && (future || daysBetween(refDay, range.start) <= 1)) out.push({ text: r.text.replace(/[\s,;.]+$/, ''), ...range });
+    // A day of slack covers time-zone differences for stated dates; a relative phrase
+    // ("a day after", "later") that lands after the report is simply misread.
+    const ahead = range ? daysBetween(refDay, range.start) : 0;
+    const misread = !future && (ahead > 1 || (ahead > 0 && RELATIVE_FORWARD.test(r.text)));
+    if (range && !misread) out.push({ text: r.text.replace(/[\s,;.]+$/, ''), ...range });
   }
   for (const m of text.matchAll(YEAR_ALONE)) {
     const year = m[1]!;

@@ -1,0 +1,61 @@
+/**
+ * The query API and the analysts' page on fastify. Every route has a schema (validation,
+ * serialisation and the OpenAPI document served at /openapi.json). Route handlers are
+ * thin: they read the store they are handed and shape the answer.
+ */
+import fastify, { type FastifyBaseLogger, type FastifyInstance, type FastifyError } from 'fastify';
+import swagger from '@fastify/swagger';
+import { StrandError, isStrandError } from '../errors.js';
+import type { Logger } from '../logger.js';
+import type { Store } from '../store/store.js';
+import { registerEventRoutes } from './routes/events.js';
+import { registerArticleRoutes } from './routes/articles.js';
+import { registerOperationRoutes, type IngestStatus } from './routes/operations.js';
+import { registerWebPage } from '../web/serve-page.js';
+import { CAUTION } from './schemas.js';
+
+/** What the API is handed. */
+export interface ApiDeps {
+  store: Store;
+  logger: Logger;
+  version: string;
+  ingestStatus: () => IngestStatus;
+}
+
+/** Builds the fastify app (not yet listening). */
+export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
+  const app = fastify({
+    loggerInstance: deps.logger.child({ stage: 'api' }) as FastifyBaseLogger,
+    disableRequestLogging: true,
+    bodyLimit: 1024 * 1024,
+    // Article ids are URLs; allow long, encoded path parameters.
+    routerOptions: { maxParamLength: 2048 },
+  });
+  await app.register(swagger, {
+    openapi: {
+      openapi: '3.1.0',
+      info: {
+        title: 'Strandline API',
+        version: deps.version,
+        description: `Events reported in news feeds, the sentences that report them and the links between the two.\n\n${CAUTION}`,
+      },
+      tags: [{ name: 'events' }, { name: 'articles' }, { name: 'operations' }],
+    },
+  });
+  app.setErrorHandler((err: FastifyError | StrandError, _req, reply) => {
+    if (isStrandError(err)) return reply.code(err.status).send({ error: { code: err.code, message: err.message } });
+    if ((err as FastifyError).validation) return reply.code(400).send({ error: { code: 'STRAND_REQUEST_INVALID', message: err.message } });
+    const status = (err as FastifyError).statusCode ?? 500;
+    if (status >= 500) app.log.error({ err }, 'request failed');
+    return reply.code(status).send({ error: { code: status >= 500 ? 'STRAND_INTERNAL' : 'STRAND_REQUEST_INVALID', message: status >= 500 ? 'internal error' : err.message } });
+  });
+  app.setNotFoundHandler((req, reply) => reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }));
+
+  registerEventRoutes(app, deps.store);
+  registerArticleRoutes(app, deps.store);
+  registerOperationRoutes(app, deps);
+  registerWebPage(app);
+  app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
+  await app.ready();
+  return app;
+}

@@ -1,0 +1,222 @@
+/**
+ * JSON Schemas of the API's requests and responses. Fastify validates requests and
+ * serialises responses with them, and @fastify/swagger turns them into the OpenAPI
+ * document, so they are the single description of the API.
+ */
+
+const str = { type: 'string' } as const;
+const nullableStr = { type: ['string', 'null'] } as const;
+const num = { type: 'number' } as const;
+const int = { type: 'integer' } as const;
+const strings = { type: 'array', items: str } as const;
+
+/** Shown with every answer that carries automatic links. */
+export const CAUTION =
+  'Links between sentences and events are machine suggestions and can be wrong, including about real people. Check the evidence and the sources before publishing or acting on them.';
+
+/** Why a mention was linked. */
+export const evidenceSchema = {
+  type: 'object',
+  description: 'Why the mention was linked: what an analyst needs to judge the link.',
+  properties: {
+    similarity: { ...num, description: 'Cosine similarity between the sentence and the event centroid.' },
+    timeDecay: { ...num, description: 'Multiplier from the time gap: 1 same time, 0.5 one half-life apart.' },
+    timeGapDays: { ...num, description: "Days between the sentence's time and the event's time span." },
+    sharedParticipants: strings,
+    sharedPlaces: strings,
+    overlapBonus: { ...num, description: 'Score added for shared rare names.' },
+    opened: { type: 'boolean', description: 'The mention opened this event.' },
+  },
+  required: ['similarity', 'timeDecay', 'timeGapDays', 'sharedParticipants', 'sharedPlaces', 'overlapBonus', 'opened'],
+} as const;
+
+const timeSchema = { type: 'object', properties: { text: str, start: str, end: str }, required: ['text', 'start', 'end'] } as const;
+
+/** An event as listed. */
+export const eventSummarySchema = {
+  type: 'object',
+  properties: {
+    id: str,
+    label: { ...str, description: 'Short summary drawn from a mention.' },
+    firstSeen: { ...str, format: 'date-time' },
+    lastSeen: { ...str, format: 'date-time' },
+    timeStart: { ...str, format: 'date', description: 'Earliest day the mentions place the event on.' },
+    timeEnd: { ...str, format: 'date' },
+    participants: strings,
+    places: strings,
+    outlets: strings,
+    independentOutlets: { ...int, description: 'Outlets with a mention that is not a verbatim copy of another outlet.' },
+    mentionCount: int,
+    version: int,
+  },
+  required: ['id', 'label', 'firstSeen', 'lastSeen', 'timeStart', 'timeEnd', 'participants', 'places', 'outlets', 'independentOutlets', 'mentionCount', 'version'],
+} as const;
+
+const mentionSchema = {
+  type: 'object',
+  properties: {
+    articleId: str, articleTitle: str, articleUrl: nullableStr, published: str, isCopy: { type: 'boolean' }, sentenceIndex: int,
+    text: { ...nullableStr, description: 'Null once the retention policy has erased the text.' },
+    score: { ...num, description: 'Link score in [0, 1].' }, rank: { ...int, description: '0 for the sentence’s best link.' },
+    evidence: evidenceSchema, times: { type: 'array', items: timeSchema },
+  },
+  required: ['articleId', 'articleTitle', 'articleUrl', 'published', 'isCopy', 'sentenceIndex', 'text', 'score', 'rank', 'evidence', 'times'],
+} as const;
+
+const errorSchema = {
+  type: 'object',
+  properties: { error: { type: 'object', properties: { code: str, message: str }, required: ['code', 'message'] } },
+  required: ['error'],
+} as const;
+
+const dayOrTime = { type: 'string', pattern: '^\\d{4}-\\d{2}-\\d{2}(T[0-9:.]+(Z|[+-]\\d{2}:\\d{2}))?$' } as const;
+
+/** GET /api/events */
+export const listEventsSchema = {
+  summary: 'List events',
+  description: 'Events, most recently active first unless sorted otherwise.',
+  tags: ['events'],
+  querystring: {
+    type: 'object',
+    additionalProperties: false,
+    properties: {
+      from: { ...dayOrTime, description: 'Only events active on or after this day or time.' },
+      to: { ...dayOrTime, description: 'Only events active on or before this day or time.' },
+      outlet: { type: 'string', maxLength: 200, description: 'Only events this outlet reported.' },
+      q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label or a sentence.' },
+      minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      sort: { type: 'string', enum: ['recent', 'outlets', 'mentions'], default: 'recent' },
+      limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
+      offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
+    },
+  },
+  response: {
+    200: { type: 'object', properties: { total: int, events: { type: 'array', items: eventSummarySchema }, caution: str }, required: ['total', 'events', 'caution'] },
+    400: errorSchema,
+  },
+} as const;
+
+/** GET /api/events/:id */
+export const getEventSchema = {
+  summary: 'One event with its mentions by outlet and its timeline',
+  tags: ['events'],
+  params: { type: 'object', properties: { id: { type: 'string', maxLength: 100 } }, required: ['id'] },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        event: eventSummarySchema,
+        byOutlet: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: { outlet: str, independent: { type: 'boolean' }, mentions: { type: 'array', items: mentionSchema } },
+            required: ['outlet', 'independent', 'mentions'],
+          },
+        },
+        timeline: {
+          type: 'array',
+          items: { type: 'object', properties: { day: str, mentions: int, newOutlets: strings }, required: ['day', 'mentions', 'newOutlets'] },
+        },
+        caution: str,
+      },
+      required: ['event', 'byOutlet', 'timeline', 'caution'],
+    },
+    404: errorSchema,
+  },
+} as const;
+
+/** GET /api/articles/:id */
+export const getArticleSchema = {
+  summary: 'One article with its sentences and their links',
+  description: 'The id is the article id, URL-encoded (ids are often URLs).',
+  tags: ['articles'],
+  params: { type: 'object', properties: { id: { type: 'string', maxLength: 2048 } }, required: ['id'] },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        article: {
+          type: 'object',
+          properties: {
+            id: str, outlet: str, url: nullableStr, title: str, published: nullableStr, fetched: str, language: nullableStr,
+            text: nullableStr, contentHash: str, duplicateOf: nullableStr, source: str,
+          },
+          required: ['id', 'outlet', 'url', 'title', 'published', 'fetched', 'language', 'text', 'contentHash', 'duplicateOf', 'source'],
+        },
+        sentences: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: {
+              index: int, text: str, start: int, end: int, eventness: num, isMention: { type: 'boolean' },
+              links: {
+                type: 'array',
+                items: { type: 'object', properties: { eventId: str, eventLabel: str, score: num, rank: int, evidence: evidenceSchema }, required: ['eventId', 'eventLabel', 'score', 'rank', 'evidence'] },
+              },
+            },
+            required: ['index', 'text', 'start', 'end', 'eventness', 'isMention', 'links'],
+          },
+        },
+        caution: str,
+      },
+      required: ['article', 'sentences', 'caution'],
+    },
+    404: errorSchema,
+  },
+} as const;
+
+/** GET /api/outlets */
+export const listOutletsSchema = {
+  summary: 'Outlets and their article counts',
+  tags: ['articles'],
+  response: {
+    200: { type: 'object', properties: { outlets: { type: 'array', items: { type: 'object', properties: { outlet: str, articles: int }, required: ['outlet', 'articles'] } } }, required: ['outlets'] },
+  },
+} as const;
+
+/** GET /api/health */
+export const healthSchema = {
+  summary: 'Liveness, counts and ingest progress',
+  tags: ['operations'],
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        status: { type: 'string', enum: ['ok'] },
+        version: str,
+        uptimeSeconds: num,
+        counts: { type: 'object', properties: { articles: int, sentences: int, mentions: int, links: int, events: int }, required: ['articles', 'sentences', 'mentions', 'links', 'events'] },
+        ingest: {
+          type: 'object',
+          properties: { state: { type: 'string', enum: ['idle', 'replaying', 'finished'] }, processed: int, total: int, stored: int, rejected: int },
+          required: ['state', 'processed', 'total', 'stored', 'rejected'],
+        },
+      },
+      required: ['status', 'version', 'uptimeSeconds', 'counts', 'ingest'],
+    },
+  },
+} as const;
+
+/** GET /api/webhooks/dead-letters */
+export const deadLettersSchema = {
+  summary: 'Webhook deliveries that gave up',
+  tags: ['operations'],
+  querystring: { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        deliveries: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: { messageId: str, subscriber: str, type: str, created: str, attempts: int, lastError: nullableStr },
+            required: ['messageId', 'subscriber', 'type', 'created', 'attempts', 'lastError'],
+          },
+        },
+      },
+      required: ['deliveries'],
+    },
+  },
+} as const;

@@ -1,0 +1,81 @@
+/**
+ * `strandline serve`: the query API and the analysts' page, the webhook dispatcher, the
+ * retention sweep, and (with --demo or --replay) a replay into the store while serving.
+ */
+import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
+import { buildApp } from '../../api/build-app.js';
+import type { IngestStatus } from '../../api/routes/operations.js';
+import { createRuntime } from '../../runtime.js';
+import { addDays, dayOf } from '../../text/days.js';
+import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
+import { formatSummary, runFeeds } from '../run-feeds.js';
+
+/** Options of serve. */
+export interface ServeOptions extends CommonOptions {
+  demo?: boolean;
+  replay?: string[];
+  host?: string;
+  port?: number;
+}
+
+const RETENTION_SWEEP_MS = 60 * 60_000;
+
+/** Serves until SIGINT/SIGTERM; resolves with the exit code. */
+export async function serveCommand(opts: ServeOptions): Promise<number> {
+  const server: Record<string, unknown> = {};
+  if (opts.host) server.host = opts.host;
+  if (opts.port !== undefined) server.port = opts.port;
+  // The demo gets its own store file so it never mixes with an operator's data.
+  const demoDb = opts.demo && !opts.db ? { store: { path: 'data/demo.sqlite' } } : {};
+  const { config, logger } = setup(opts, { ...demoDb, ...(Object.keys(server).length ? { server } : {}) });
+  const rt = await createRuntime(config, logger);
+  const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
+  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status });
+  const address = await app.listen({ host: config.server.host, port: config.server.port });
+  const shown = address.replace('//127.0.0.1', '//localhost');
+  process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
+
+  const dispatcher = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
+  dispatcher.start();
+  const sweep = async (): Promise<void> => {
+    if (config.retention.textDays === null) return;
+    const erased = await rt.store.eraseTextBefore(addDays(dayOf(new Date()), -config.retention.textDays));
+    if (erased) logger.info({ erased }, 'retention: erased text of old articles');
+  };
+  await sweep();
+  const sweeper = setInterval(() => void sweep(), RETENTION_SWEEP_MS);
+  sweeper.unref();
+
+  const abort = new AbortController();
+  const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
+  const replay = sources.length === 0 ? Promise.resolve() : (async () => {
+    status.state = 'replaying';
+    process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.path} …\n`);
+    const summary = await runFeeds(rt, sources, { signal: abort.signal }, {
+      onRead: (total) => { status.total = total; },
+      onOutcome: (o, done) => {
+        status.processed = done;
+        if (o.status === 'stored') status.stored++;
+        if (o.status === 'rejected') status.rejected++;
+      },
+    });
+    status.state = 'finished';
+    process.stdout.write(`${formatSummary(summary)}\nReplay finished; still serving on ${shown}/ (Ctrl+C to stop)\n`);
+  })().catch((err: unknown) => {
+    status.state = 'finished';
+    logger.error({ err }, 'replay failed');
+  });
+
+  await new Promise<void>((resolve) => {
+    process.once('SIGINT', () => resolve());
+    process.once('SIGTERM', () => resolve());
+  });
+  process.stdout.write('stopping…\n');
+  abort.abort();
+  clearInterval(sweeper);
+  await replay;
+  await dispatcher.stop();
+  await app.close();
+  await rt.close();
+  return 0;
+}

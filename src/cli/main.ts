@@ -1,0 +1,65 @@
+#!/usr/bin/env node
+/** The `strandline` command line. */
+import { Command, InvalidArgumentError } from 'commander';
+import { describeError, isStrandError } from '../errors.js';
+import { version } from './common.js';
+import { replayCommand } from './commands/replay.js';
+import { serveCommand } from './commands/serve.js';
+import { forgetCommand } from './commands/forget.js';
+
+function integer(name: string, min: number, max: number) {
+  return (value: string): number => {
+    if (!/^\d+$/.test(value) || Number(value) < min || Number(value) > max) throw new InvalidArgumentError(`${name} must be a whole number from ${min} to ${max}`);
+    return Number(value);
+  };
+}
+
+function common(cmd: Command): Command {
+  return cmd
+    .option('-c, --config <file>', 'JSON configuration merged over config/default.json (or set STRANDLINE_CONFIG)')
+    .option('--db <file>', 'SQLite store file (default: store.path, or STRANDLINE_DB)')
+    .option('--log-level <level>', 'fatal, error, warn, info, debug, trace or silent');
+}
+
+const program = new Command()
+  .name('strandline')
+  .description('Links sentences from news feeds to the events they report, across outlets and stories.')
+  .version(version())
+  .showHelpAfterError();
+
+common(program.command('serve'))
+  .description('serve the query API and the analysts\' page; optionally replay feeds into the store while serving')
+  .option('--demo', 'replay the bundled demo feeds into data/demo.sqlite (unless --db is given)')
+  .option('--replay <path...>', 'feed files, folders or URLs to replay while serving')
+  .option('--host <host>', 'interface to listen on (or HOST)')
+  .option('--port <port>', 'TCP port (or PORT)', integer('--port', 0, 65535))
+  .action(async (opts) => exit(await serveCommand(opts)));
+
+common(program.command('replay'))
+  .description('run feed files or folders (RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, then print a summary')
+  .argument('<path...>', 'feed files, folders of feed files, or URLs')
+  .option('--pace <ms>', 'wait this long between articles (a live-looking replay)', integer('--pace', 0, 600_000))
+  .option('--no-progress', 'no progress bar')
+  .option('--json', 'print the summary as JSON')
+  .action(async (paths: string[], opts) => exit(await replayCommand(paths, opts)));
+
+common(program.command('ingest'))
+  .description('fetch feeds once from URLs or files and run their new articles through the pipeline')
+  .argument('<source...>', 'feed URLs or files')
+  .option('--json', 'print the summary as JSON')
+  .action(async (sources: string[], opts) => exit(await replayCommand(sources, { ...opts, progress: false })));
+
+common(program.command('forget'))
+  .description('erase stored article and sentence text (links and events stay)')
+  .option('--article <id>', 'one article')
+  .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
+  .action(async (opts) => exit(await forgetCommand(opts)));
+
+function exit(code: number): void {
+  process.exitCode = code;
+}
+
+program.parseAsync(process.argv).catch((err: unknown) => {
+  process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : (err as Error).stack ?? String(err)}\n`);
+  process.exitCode = 2;
+});

@@ -1,0 +1,66 @@
+/**
+ * Pairwise link agreement between a system's answer and a gold standard: every pair of
+ * gold sentences is a link in the gold when the two share an event, and a link in the
+ * answer when the system gave them a shared event. Precision, recall and F1 over those
+ * pairs (the pairwise measure common in clustering evaluation; Manning et al., IIR 16.3),
+ * overall and split by whether the two sentences are in the same article, in different
+ * articles of one story, or in different stories.
+ */
+
+/** Sentence key (`article#index`) → event ids. */
+export type Assignment = ReadonlyMap<string, ReadonlySet<string>>;
+
+/** Precision, recall, F1 and the counts behind them. */
+export interface PairScores {
+  precision: number;
+  recall: number;
+  f1: number;
+  goldPairs: number;
+  systemPairs: number;
+  agreedPairs: number;
+}
+
+/** Pair kinds. */
+export type PairKind = 'all' | 'withinArticle' | 'crossArticle' | 'crossStory';
+
+/** Scores over the gold sentences; `storyOf` maps an article id to its story, when known. */
+export function pairwiseLinkScores(gold: Assignment, system: Assignment, articleOf: (key: string) => string, storyOf?: (article: string) => string | null): Record<PairKind, PairScores> {
+  const counts: Record<PairKind, [number, number, number]> = { all: [0, 0, 0], withinArticle: [0, 0, 0], crossArticle: [0, 0, 0], crossStory: [0, 0, 0] };
+  const keys = [...gold.keys()];
+  for (let i = 0; i < keys.length; i++) {
+    for (let j = i + 1; j < keys.length; j++) {
+      const a = keys[i]!;
+      const b = keys[j]!;
+      const g = shares(gold.get(a), gold.get(b));
+      const s = shares(system.get(a), system.get(b));
+      if (!g && !s) continue;
+      const artA = articleOf(a);
+      const artB = articleOf(b);
+      const kinds: PairKind[] = ['all', artA === artB ? 'withinArticle' : 'crossArticle'];
+      if (artA !== artB && storyOf) {
+        const sa = storyOf(artA);
+        const sb = storyOf(artB);
+        if (sa && sb && sa !== sb) kinds.push('crossStory');
+      }
+      for (const k of kinds) {
+        const c = counts[k];
+        if (g) c[0]++;
+        if (s) c[1]++;
+        if (g && s) c[2]++;
+      }
+    }
+  }
+  const out = {} as Record<PairKind, PairScores>;
+  for (const [k, [gp, sp, both]] of Object.entries(counts) as [PairKind, [number, number, number]][]) {
+    const precision = sp === 0 ? 0 : both / sp;
+    const recall = gp === 0 ? 0 : both / gp;
+    out[k] = { precision, recall, f1: precision + recall === 0 ? 0 : (2 * precision * recall) / (precision + recall), goldPairs: gp, systemPairs: sp, agreedPairs: both };
+  }
+  return out;
+}
+
+function shares(x: ReadonlySet<string> | undefined, y: ReadonlySet<string> | undefined): boolean {
+  if (!x || !y) return false;
+  for (const e of x) if (y.has(e)) return true;
+  return false;
+}

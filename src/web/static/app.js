@@ -1,0 +1,160 @@
+// The analysts' page: lists events, shows one event's mentions by outlet with score and
+// evidence, and an article's sentences with their links. Every piece of fetched text is
+// inserted with textContent, never as HTML: feed text is untrusted.
+
+const PAGE = 50;
+const state = { offset: 0, total: 0, selected: null, refreshTimer: null, ingestState: 'idle' };
+const $ = (id) => document.getElementById(id);
+
+function el(tag, attrs = {}, ...children) {
+  const node = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (k === 'class') node.className = v;
+    else if (k === 'onclick') node.addEventListener('click', v);
+    else node.setAttribute(k, v);
+  }
+  for (const c of children.flat()) if (c !== null && c !== undefined) node.append(c instanceof Node ? c : String(c));
+  return node;
+}
+
+async function api(path) {
+  const res = await fetch(path, { headers: { accept: 'application/json' } });
+  const body = await res.json();
+  if (!res.ok) throw new Error(body?.error?.message ?? `HTTP ${res.status}`);
+  return body;
+}
+
+const fmtDay = (iso) => (iso ? iso.slice(0, 10) : 'undated');
+const pct = (x) => `${Math.round(x * 100)}%`;
+
+function scoreBar(score) {
+  const bar = el('span', { class: 'score', title: `score ${score.toFixed(2)}` }, el('span'));
+  bar.firstChild.style.width = pct(Math.max(0, Math.min(1, score)));
+  return bar;
+}
+
+function evidenceLine(ev) {
+  if (ev.opened) return 'opened this event (first sentence seen reporting it)';
+  const parts = [`similarity ${ev.similarity.toFixed(2)}`, `time gap ${ev.timeGapDays} d (×${ev.timeDecay.toFixed(2)})`];
+  const shared = [...ev.sharedParticipants, ...ev.sharedPlaces];
+  if (shared.length) parts.push(`shared: ${shared.join(', ')} (+${ev.overlapBonus.toFixed(2)})`);
+  return parts.join(' · ');
+}
+
+function query() {
+  const p = new URLSearchParams({ limit: String(PAGE), offset: String(state.offset), sort: $('sort').value });
+  for (const id of ['q', 'outlet', 'from', 'to']) if ($(id).value) p.set(id, $(id).value);
+  return p;
+}
+
+async function loadEvents(append = false) {
+  if (!append) state.offset = 0;
+  const page = await api(`/api/events?${query()}`);
+  state.total = page.total;
+  const list = $('events');
+  if (!append) list.replaceChildren();
+  for (const e of page.events) {
+    const li = el('li', { 'data-id': e.id, tabindex: '0', onclick: () => go(`#/events/${encodeURIComponent(e.id)}`) },
+      el('span', { class: 'label' }, e.label),
+      el('span', { class: 'meta' }, `${e.timeStart === e.timeEnd ? e.timeStart : `${e.timeStart} – ${e.timeEnd}`} · ${e.outlets.length} outlet${e.outlets.length === 1 ? '' : 's'}`
+        + `${e.independentOutlets < e.outlets.length ? ` (${e.independentOutlets} independent)` : ''} · ${e.mentionCount} mention${e.mentionCount === 1 ? '' : 's'}`));
+    li.addEventListener('keydown', (k) => { if (k.key === 'Enter') li.click(); });
+    if (e.id === state.selected) li.classList.add('active');
+    list.append(li);
+  }
+  state.offset += page.events.length;
+  $('count').textContent = `${page.total} event${page.total === 1 ? '' : 's'}`;
+  $('more').hidden = state.offset >= page.total;
+}
+
+async function showEvent(id) {
+  state.selected = id;
+  for (const li of document.querySelectorAll('#events li')) li.classList.toggle('active', li.dataset.id === id);
+  const d = await api(`/api/events/${encodeURIComponent(id)}`);
+  const e = d.event;
+  const max = Math.max(1, ...d.timeline.map((t) => t.mentions));
+  const timeline = el('div', { class: 'timeline', 'aria-label': 'Mentions per day' },
+    d.timeline.map((t) => {
+      const bar = el('div', { title: `${t.day}: ${t.mentions} mention(s)${t.newOutlets.length ? `; first report by ${t.newOutlets.join(', ')}` : ''}` });
+      bar.style.height = `${(t.mentions / max) * 100}%`;
+      return bar;
+    }));
+  $('detail').replaceChildren(
+    el('h2', {}, e.label),
+    el('p', { class: 'meta' }, `Event ${e.id} · happened ${e.timeStart}${e.timeEnd !== e.timeStart ? ` – ${e.timeEnd}` : ''} · first seen ${fmtDay(e.firstSeen)}, last seen ${fmtDay(e.lastSeen)} · ${e.outlets.length} outlets (${e.independentOutlets} independent) · ${e.mentionCount} mentions`),
+    e.participants.length ? el('ul', { class: 'chips', 'aria-label': 'Participants' }, e.participants.map((p) => el('li', {}, p))) : null,
+    e.places.length ? el('ul', { class: 'chips', 'aria-label': 'Places' }, e.places.map((p) => el('li', {}, `📍 ${p}`))) : null,
+    timeline,
+    d.byOutlet.map((g) => el('section', { class: 'outlet' },
+      el('h3', {}, g.outlet, g.independent ? null : el('span', { class: 'copy' }, ' · verbatim copy of another outlet’s article')),
+      g.mentions.map((m) => el('div', { class: 'mention' },
+        el('div', {}, m.text ?? '(text erased under the retention policy)'),
+        el('div', { class: 'evidence' }, scoreBar(m.score), `score ${m.score.toFixed(2)}${m.rank > 0 ? ' (further event of this sentence)' : ''} · ${evidenceLine(m.evidence)}`),
+        el('div', { class: 'meta' }, `${fmtDay(m.published)} · `, el('a', { href: `#/articles/${encodeURIComponent(m.articleId)}` }, m.articleTitle || m.articleId),
+          m.articleUrl ? [' · ', el('a', { href: m.articleUrl, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null)))),
+    ));
+}
+
+async function showArticle(id) {
+  const d = await api(`/api/articles/${encodeURIComponent(id)}`);
+  const a = d.article;
+  $('detail').replaceChildren(
+    el('h2', {}, a.title || a.id),
+    el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? ' · verbatim copy of ' : null,
+      a.duplicateOf ? el('a', { href: `#/articles/${encodeURIComponent(a.duplicateOf)}` }, a.duplicateOf) : null,
+      a.url ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null),
+    d.sentences.map((s) => el('div', { class: `sentence${s.isMention ? ' is-mention' : ''}` },
+      el('div', {}, s.text || '(text erased under the retention policy)'),
+      el('div', { class: 'meta' }, `sentence ${s.index} · event-ness ${s.eventness.toFixed(2)}`),
+      s.links.map((l) => el('div', { class: 'evidence' }, scoreBar(l.score), `→ `,
+        el('a', { href: `#/events/${encodeURIComponent(l.eventId)}` }, l.eventLabel), ` · score ${l.score.toFixed(2)} · ${evidenceLine(l.evidence)}`)))),
+  );
+}
+
+function go(hash) {
+  if (location.hash === hash) route();
+  else location.hash = hash;
+}
+
+async function route() {
+  const [, kind, id] = location.hash.match(/^#\/(events|articles)\/(.+)$/) ?? [];
+  try {
+    if (kind === 'events') await showEvent(decodeURIComponent(id));
+    else if (kind === 'articles') await showArticle(decodeURIComponent(id));
+  } catch (err) {
+    $('detail').replaceChildren(el('p', { class: 'hint' }, `Could not load: ${err.message}`));
+  }
+}
+
+async function refreshStatus() {
+  try {
+    const h = await api('/api/health');
+    const i = h.ingest;
+    const progress = i.state === 'replaying' ? ` · replaying ${i.processed}/${i.total} articles` : i.state === 'finished' ? ' · replay finished' : '';
+    $('status').textContent = `${h.counts.articles} articles · ${h.counts.mentions} event sentences · ${h.counts.events} events${progress}`;
+    if (i.state === 'replaying' || state.ingestState === 'replaying') await loadEvents();
+    state.ingestState = i.state;
+  } catch {
+    $('status').textContent = 'server not answering';
+  }
+}
+
+async function loadOutlets() {
+  const { outlets } = await api('/api/outlets');
+  const current = $('outlet').value;
+  $('outlet').replaceChildren(el('option', { value: '' }, 'All outlets'), outlets.map((o) => el('option', { value: o.outlet }, `${o.outlet} (${o.articles})`)));
+  $('outlet').value = current;
+}
+
+let typing = null;
+$('filters').addEventListener('input', () => {
+  clearTimeout(typing);
+  typing = setTimeout(() => void loadEvents(), 250);
+});
+$('filters').addEventListener('submit', (e) => e.preventDefault());
+$('more').addEventListener('click', () => void loadEvents(true));
+window.addEventListener('hashchange', () => void route());
+
+await Promise.all([loadOutlets(), loadEvents(), refreshStatus()]);
+await route();
+setInterval(() => { void refreshStatus(); void loadOutlets(); }, 3000);

@@ -1,0 +1,25 @@
+/** Test helpers: a runtime on an in-memory (or given) SQLite store, and running articles through it. */
+import { from, lastValueFrom, toArray } from 'rxjs';
+import { parseConfig } from '../../src/config/load-config.js';
+import type { Config } from '../../src/config/schema.js';
+import { createLogger } from '../../src/logger.js';
+import { type ArticleOutcome, runPipeline } from '../../src/pipeline.js';
+import type { Article } from '../../src/records.js';
+import { type Runtime, createRuntime } from '../../src/runtime.js';
+import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
+
+/** A validated configuration with overrides on top of the defaults. */
+export function testConfig(overrides: Record<string, unknown> = {}): Readonly<Config> {
+  return parseConfig({ store: { path: ':memory:' }, log: { level: 'silent' }, ...overrides });
+}
+
+/** A runtime on a fresh in-memory store (or on `path`). */
+export async function testRuntime(overrides: Record<string, unknown> = {}, path = ':memory:'): Promise<Runtime> {
+  const config = testConfig(overrides);
+  return createRuntime(config, createLogger('silent'), openSqliteStore(path));
+}
+
+/** Runs articles through the pipeline and collects the outcomes. */
+export function runArticles(rt: Runtime, articles: Article[]): Promise<ArticleOutcome[]> {
+  return lastValueFrom(runPipeline(from(articles), rt).pipe(toArray()));
+}

@@ -1,0 +1,77 @@
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { loadConfig, parseConfig } from '../../src/config/load-config.js';
+import { isStrandError } from '../../src/errors.js';
+
+const dir = mkdtempSync(join(tmpdir(), 'strandline-config-'));
+function file(name: string, text: string): string {
+  const p = join(dir, name);
+  writeFileSync(p, text);
+  return p;
+}
+function failure(fn: () => unknown): { code?: string; message: string } {
+  try {
+    fn();
+  } catch (err) {
+    return { code: isStrandError(err) ? err.code : undefined, message: (err as Error).message };
+  }
+  throw new Error('expected a failure');
+}
+
+describe('configuration', () => {
+  it('loads the shipped defaults, validated and frozen', () => {
+    const c = loadConfig({ env: {} });
+    expect(c.server.port).toBe(7410);
+    expect(c.link.halfLifeDays).toBe(7);
+    expect(Object.isFrozen(c.link)).toBe(true);
+  });
+
+  it('lets PORT, HOST and STRANDLINE_DB override the file', () => {
+    const c = loadConfig({ env: { PORT: '8123', HOST: '0.0.0.0', STRANDLINE_DB: 'x.sqlite' } });
+    expect([c.server.port, c.server.host, c.store.path]).toEqual([8123, '0.0.0.0', 'x.sqlite']);
+  });
+
+  it('names the bad value of a malformed PORT', () => {
+    expect(failure(() => loadConfig({ env: { PORT: 'eighty' } })).message).toMatch(/server\.port/);
+  });
+
+  it('merges an operator file over the defaults', () => {
+    const c = loadConfig({ file: file('ok.json', '{"link": {"threshold": 0.3}}'), env: {} });
+    expect(c.link.threshold).toBe(0.3);
+    expect(c.link.halfLifeDays).toBe(7);
+  });
+
+  it.each([
+    ['not JSON', '{"link": ', 'STRAND_CONFIG_INVALID', /not valid JSON/],
+    ['a JSON array', '[1, 2]', 'STRAND_CONFIG_INVALID', /JSON object/],
+    ['a misspelt option', '{"link": {"treshold": 0.3}}', 'STRAND_CONFIG_INVALID', /link/],
+    ['an out-of-range value', '{"link": {"threshold": 7}}', 'STRAND_CONFIG_INVALID', /link\.threshold/],
+    ['a wrong type', '{"server": {"port": "80"}}', 'STRAND_CONFIG_INVALID', /server\.port/],
+    ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],
+    ['a webhook URL that is not http(s)', '{"webhooks": {"subscribers": [{"name": "a", "url": "file:///etc/passwd", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}]}}', 'STRAND_CONFIG_INVALID', /url/],
+  ])('refuses %s with a clear message', (_name, text, code, message) => {
+    const f = failure(() => loadConfig({ file: file(`bad-${Math.random()}.json`, text), env: {} }));
+    expect(f.code).toBe(code);
+    expect(f.message).toMatch(message);
+  });
+
+  it('refuses a missing file', () => {
+    expect(failure(() => loadConfig({ file: join(dir, 'missing.json'), env: {} })).code).toBe('STRAND_CONFIG_UNREADABLE');
+  });
+
+  it('refuses an oversized file', () => {
+    expect(failure(() => loadConfig({ file: file('big.json', `{"x": "${'a'.repeat(1024 * 1024)}"}`), env: {} })).message).toMatch(/over 1 MiB/);
+  });
+
+  it('ignores __proto__ keys so a file cannot pollute object prototypes', () => {
+    const c = loadConfig({ file: file('proto.json', '{"__proto__": {"polluted": true}, "link": {"__proto__": {"threshold": 0.9}}}'), env: {} });
+    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+    expect(c.link.threshold).toBe(0.2);
+  });
+
+  it('validates an object given directly', () => {
+    expect(parseConfig({}).detect.threshold).toBe(0.5);
+  });
+});
