@@ -19,9 +19,9 @@ type Row = Record<string, unknown>;
 
 /** Opens (creating if needed) a SQLite store at `path`; ':memory:' for tests. */
 export function openSqliteStore(path: string): SqliteStore {
-  if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
   let db: Database.Database;
   try {
+    if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
     db = new Database(path);
     db.pragma('journal_mode = WAL');
     // NORMAL is durable against a killed process under WAL (only power loss can drop the

@@ -1,0 +1,191 @@
+/**
+ * The Store contract suite: every Store implementation must pass it unchanged.
+ * Call describeStoreContract with a factory that opens an empty store.
+ */
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
+import { addMention, deserialiseEvent, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
+import type { Article, EmbeddedMention, Link } from '../../src/records.js';
+import type { ArticleCommit, Store } from '../../src/store/store.js';
+
+const embedder = new TfidfEmbedder(16);
+
+function article(id: string, outlet: string, published: string, text: string, hash = `hash-${id}`): Article {
+  return { id, outlet, url: `https://${outlet.toLowerCase().replace(/\W+/g, '')}.example/${id}`, title: `Title ${id}`, published, fetched: published, language: 'en', text, contentHash: hash, duplicateOf: null, source: 'test' };
+}
+
+function mention(a: Article, index: number, text: string, isCopy = false): EmbeddedMention {
+  const terms = text.toLowerCase().split(/\W+/).filter(Boolean);
+  return { articleId: a.id, sentenceIndex: index, text, outlet: a.outlet, published: a.published!, eventness: 0.8, participants: ['Vellmouth Port Authority'], places: ['Korrin Bay'], times: [], terms, isCopy, vector: embedder.vector(terms) };
+}
+
+/** A commit of one article whose single sentence opens or joins `event`. */
+function commitFor(a: Article, text: string, event: EventState | null, opts: { isCopy?: boolean; messages?: ArticleCommit['messages'] } = {}): { commit: ArticleCommit; event: EventState } {
+  const m = mention(a, 0, text, opts.isCopy);
+  const e = event ?? openEvent(`ev_${a.id}`, m);
+  addMention(e, m, 1, 300);
+  const link: Link = { articleId: a.id, sentenceIndex: 0, eventId: e.id, score: event ? 0.42 : 0.8, rank: 0, evidence: { similarity: event ? 0.4 : 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: ['Korrin Bay'], overlapBonus: 0.02, opened: !event } };
+  return {
+    event: e,
+    commit: {
+      article: a,
+      sentences: [{ index: 0, text, start: 0, end: text.length, eventness: 0.8 }, { index: 1, text: 'Background only.', start: text.length + 1, end: text.length + 17, eventness: 0.1 }],
+      mentions: [m],
+      links: [link],
+      events: [{ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) }],
+      idf: { docs: 2, df: new Map([[7, 1], [9, 2]]) },
+      messages: opts.messages ?? [],
+    },
+  };
+}
+
+/** Registers the contract tests for one Store implementation. */
+export function describeStoreContract(name: string, open: () => Promise<Store>): void {
+  describe(`${name} (Store contract)`, () => {
+    let store: Store;
+    beforeEach(async () => {
+      store = await open();
+    });
+    afterEach(async () => {
+      await store.close();
+    });
+
+    it('stores an article with its sentences, mentions, links and event in one commit', async () => {
+      const a = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'A fire destroyed a warehouse at Korrin Bay.');
+      const { commit, event } = commitFor(a, 'A fire destroyed a warehouse at Korrin Bay.', null);
+      expect(await store.commitArticle(commit)).toBe('stored');
+      expect(await store.hasArticle('a1')).toBe(true);
+      expect(await store.findByContentHash('hash-a1')).toBe('a1');
+      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1 });
+      const detail = await store.getArticle('a1');
+      expect(detail!.article.text).toBe(a.text);
+      expect(detail!.sentences.map((s) => [s.index, s.isMention, s.links.map((l) => l.eventId)])).toEqual([[0, true, [event.id]], [1, false, []]]);
+      expect(detail!.sentences[0]!.links[0]!.evidence.opened).toBe(true);
+    });
+
+    it('changes nothing when the same article is committed again', async () => {
+      const a = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const { commit } = commitFor(a, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(commit);
+      expect(await store.commitArticle(commit)).toBe('already-stored');
+      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1 });
+      expect((await store.loadLinkerState()).idf.docs).toBe(2);
+    });
+
+    it('gives an event its mentions from every outlet, oldest first, with evidence', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const first = commitFor(a1, 'A fire destroyed a warehouse at Korrin Bay.', null);
+      await store.commitArticle(first.commit);
+      const copy = deserialiseEvent(serialiseEvent(first.event));
+      await store.commitArticle(commitFor(a2, 'Two firefighters were hurt in the Korrin Bay blaze.', copy).commit);
+      const d = await store.getEvent(first.event.id);
+      expect(d!.event.outlets).toEqual(['EBS News', 'The Vellmouth Courier']);
+      expect(d!.event.mentionCount).toBe(2);
+      expect(d!.event.independentOutlets).toBe(2);
+      expect(d!.mentions.map((m) => [m.outlet, m.score, m.evidence.sharedPlaces])).toEqual([['The Vellmouth Courier', 0.8, ['Korrin Bay']], ['EBS News', 0.42, ['Korrin Bay']]]);
+      expect(d!.mentions[0]!.articleUrl).toBe('https://thevellmouthcourier.example/a1');
+      expect(await store.getEvent('ev_missing')).toBeNull();
+      expect(await store.getArticle('missing')).toBeNull();
+    });
+
+    it('counts an outlet whose only mentions are verbatim copies as not independent', async () => {
+      const a1 = article('a1', 'Northwire', '2026-10-06T09:00:00.000Z', 'x');
+      const a2 = article('a2', 'Quarrenby Post', '2026-10-06T10:00:00.000Z', 'x');
+      const first = commitFor(a1, 'Lisk was evacuated.', null);
+      await store.commitArticle(first.commit);
+      await store.commitArticle(commitFor(a2, 'Lisk was evacuated.', deserialiseEvent(serialiseEvent(first.event)), { isCopy: true }).commit);
+      const d = await store.getEvent(first.event.id);
+      expect(d!.event.outlets).toHaveLength(2);
+      expect(d!.event.independentOutlets).toBe(1);
+      expect(d!.mentions.map((m) => m.isCopy)).toEqual([false, true]);
+    });
+
+    describe('listing events', () => {
+      beforeEach(async () => {
+        const a1 = article('a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z', 'x');
+        const a2 = article('a2', 'EBS News', '2026-10-12T10:00:00.000Z', 'y');
+        const a3 = article('a3', 'Northwire', '2026-10-12T12:00:00.000Z', 'z');
+        const first = commitFor(a1, 'The levee at Dunvessel failed overnight.', null);
+        await store.commitArticle(first.commit);
+        await store.commitArticle(commitFor(a2, 'A span of the Orlin Bridge fell into the river, 50% of it.', null).commit);
+        await store.commitArticle(commitFor(a3, 'The levee breach flooded Dunvessel.', deserialiseEvent(serialiseEvent(first.event))).commit);
+      });
+
+      it('lists most recently active first, with totals and paging', async () => {
+        const page = await store.listEvents({ limit: 1, offset: 0 });
+        expect(page.total).toBe(2);
+        expect(page.events.map((e) => e.id)).toEqual(['ev_a1']);
+        expect((await store.listEvents({ limit: 1, offset: 1 })).events.map((e) => e.id)).toEqual(['ev_a2']);
+      });
+
+      it('filters by outlet, by words, by time and by outlet count', async () => {
+        expect((await store.listEvents({ outlet: 'EBS News', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a2']);
+        expect((await store.listEvents({ text: 'dunvessel LEVEE', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a1']);
+        expect((await store.listEvents({ text: 'breach', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a1']);
+        expect((await store.listEvents({ to: '2026-10-05', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a1']);
+        expect((await store.listEvents({ from: '2026-10-12', limit: 10, offset: 0 })).total).toBe(2);
+        expect((await store.listEvents({ minOutlets: 2, limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a1']);
+        expect((await store.listEvents({ sort: 'mentions', limit: 10, offset: 0 })).events[0]!.id).toBe('ev_a1');
+      });
+
+      it('treats search wildcards and quotes in the words as plain characters', async () => {
+        expect((await store.listEvents({ text: '50%', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a2']);
+        expect((await store.listEvents({ text: '%', limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a2']);
+        expect((await store.listEvents({ text: "_' OR 1=1 --", limit: 10, offset: 0 })).total).toBe(0);
+      });
+
+      it('lists outlets with their article counts', async () => {
+        expect(await store.listOutlets()).toEqual([{ outlet: 'EBS News', articles: 1 }, { outlet: 'Northwire', articles: 1 }, { outlet: 'The Vellmouth Courier', articles: 1 }]);
+      });
+    });
+
+    it('keeps what the linker needs to resume, document frequencies summed', async () => {
+      const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      const a2 = article('a2', 'O', '2026-10-06T10:00:00.000Z', 'y');
+      const { commit, event } = commitFor(a1, 'The levee failed.', null);
+      await store.commitArticle(commit);
+      await store.commitArticle(commitFor(a2, 'A bridge fell.', null).commit);
+      const snap = await store.loadLinkerState();
+      expect(snap.idf.docs).toBe(4);
+      expect(new Map(snap.idf.df)).toEqual(new Map([[7, 2], [9, 4]]));
+      expect(snap.events.map((b) => deserialiseEvent(b).id).sort()).toEqual([event.id, 'ev_a2'].sort());
+      expect(snap.events.map(deserialiseEvent).find((e) => e.id === event.id)).toEqual(event);
+    });
+
+    it('queues webhook deliveries with the commit and records attempts, down to the dead-letter list', async () => {
+      const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      const messages = [{ id: 'msg_1', type: 'event.opened', body: '{"type":"event.opened"}', created: '2026-10-05T10:00:00.000Z', subscribers: ['one', 'two'] }];
+      await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      expect(await store.dueDeliveries('2026-10-05T09:00:00.000Z', 10)).toEqual([]);
+      const due = await store.dueDeliveries('2026-10-05T10:00:00.000Z', 10);
+      expect(due.map((d) => [d.messageId, d.subscriber, d.status, d.attempts, d.body]).sort()).toEqual([
+        ['msg_1', 'one', 'pending', 0, '{"type":"event.opened"}'],
+        ['msg_1', 'two', 'pending', 0, '{"type":"event.opened"}'],
+      ]);
+      await store.recordAttempt('msg_1', 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
+      await store.recordAttempt('msg_1', 'two', { status: 'dead', attempts: 8, nextAt: '2026-10-05T16:00:00.000Z', error: 'HTTP 500' });
+      expect(await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).toEqual([]);
+      expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
+    });
+
+    it('erases stored text on demand and by age, keeping links and events', async () => {
+      const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'Old text.');
+      const a2 = article('a2', 'O', '2026-10-20T10:00:00.000Z', 'New text.');
+      const first = commitFor(a1, 'The levee failed.', null);
+      await store.commitArticle(first.commit);
+      await store.commitArticle(commitFor(a2, 'The levee was rebuilt.', deserialiseEvent(serialiseEvent(first.event))).commit);
+      expect(await store.eraseTextBefore('2026-10-10')).toBe(1);
+      const old = await store.getArticle('a1');
+      expect(old!.article.text).toBeNull();
+      expect(old!.sentences[0]!.text).toBe('');
+      expect(old!.sentences[0]!.links).toHaveLength(1);
+      const ev = await store.getEvent(first.event.id);
+      expect(ev!.event.label).toBe('The levee was rebuilt.');
+      expect(ev!.mentions.map((m) => m.text)).toEqual([null, 'The levee was rebuilt.']);
+      expect(await store.eraseArticleText('a2')).toBe(true);
+      expect((await store.getEvent(first.event.id))!.event.label).toMatch(/erased/);
+      expect(await store.eraseArticleText('missing')).toBe(false);
+    });
+  });
+}

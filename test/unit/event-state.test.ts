@@ -1,0 +1,48 @@
+import { describe, expect, it } from 'vitest';
+import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
+import { addMention, deserialiseEvent, mentionSpan, nameKey, openEvent, serialiseEvent, toRecord } from '../../src/link/event-state.js';
+import type { EmbeddedMention } from '../../src/records.js';
+
+const e = new TfidfEmbedder(16);
+const m = (over: Partial<EmbeddedMention>): EmbeddedMention => ({
+  articleId: 'a', sentenceIndex: 0, text: 'The levee failed.', outlet: 'O', published: '2026-10-06T05:00:00Z', eventness: 0.9,
+  participants: ['Marek Tavish'], places: ['Dunvessel'], times: [], terms: ['levee', 'fail'], isCopy: false, vector: e.vector(['levee', 'fail']), ...over,
+});
+
+describe('event state', () => {
+  it('places an undated mention on its publication day and the day before', () => {
+    const [s, t] = mentionSpan(m({}));
+    expect(t - s).toBe(1);
+    expect(new Date(t * 86_400_000).toISOString().slice(0, 10)).toBe('2026-10-06');
+  });
+
+  it('ignores stated times more than a year from publication (background)', () => {
+    expect(mentionSpan(m({ times: [{ text: 'in 2017', start: '2017-01-01', end: '2017-12-31' }] }))).toEqual(mentionSpan(m({})));
+  });
+
+  it('moves the span only for stated times', () => {
+    const ev = openEvent('ev_1', m({}));
+    addMention(ev, m({ published: '2026-10-20T00:00:00Z' }), 1, 300);
+    expect(toRecord(ev).timeEnd).toBe('2026-10-06');
+    addMention(ev, m({ published: '2026-10-20T00:00:00Z', times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }] }), 1, 300);
+    expect([toRecord(ev).timeStart, toRecord(ev).timeEnd]).toEqual(['2026-10-05', '2026-10-05']);
+  });
+
+  it('keeps outlets apart from verbatim copies', () => {
+    const ev = openEvent('ev_1', m({}));
+    addMention(ev, m({}), 1, 300);
+    addMention(ev, m({ outlet: 'Copier', isCopy: true }), 1, 300);
+    expect([...ev.outlets]).toEqual([['O', [1, 1]], ['Copier', [1, 0]]]);
+  });
+
+  it('round-trips through its binary form exactly', () => {
+    const ev = openEvent('ev_1', m({}));
+    addMention(ev, m({}), 1, 300);
+    addMention(ev, m({ terms: ['dam', 'burst'], vector: e.vector(['dam', 'burst']), participants: ['Colonel Ysolde Brand'] }), 0.5, 300);
+    expect(deserialiseEvent(serialiseEvent(ev))).toEqual(ev);
+  });
+
+  it('matches names without articles or possessives', () => {
+    expect(nameKey("The Vellmouth Port Authority's")).toBe('vellmouth port authority');
+  });
+});

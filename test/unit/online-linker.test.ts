@@ -1,0 +1,128 @@
+import { describe, expect, it } from 'vitest';
+import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
+import { OnlineLinker, eventIdFor } from '../../src/link/online-linker.js';
+import { testConfig } from '../helpers/runtime.js';
+import type { EmbeddedMention, TimeExpression } from '../../src/records.js';
+
+const options = testConfig().link;
+
+function mentions(embedder: TfidfEmbedder, specs: { article: string; terms: string[]; published: string; outlet?: string; names?: string[]; times?: TimeExpression[] }[]): EmbeddedMention[] {
+  embedder.learn(specs.map((s) => ({ text: '', terms: s.terms })));
+  return specs.map((s, i) => ({
+    articleId: s.article, sentenceIndex: i, text: s.terms.join(' '), outlet: s.outlet ?? 'Outlet A', published: s.published, eventness: 0.9,
+    participants: s.names ?? [], places: [], times: s.times ?? [], terms: s.terms, isCopy: false, vector: embedder.vector(s.terms),
+  }));
+}
+
+describe('the online linker', () => {
+  it('opens an event for a first mention, then attaches a similar one from another outlet', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(options);
+    const [a, b] = mentions(e, [
+      { article: 'x1', terms: ['levee', 'breach', 'dunvessel', 'flood', 'town'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x2', terms: ['dunvessel', 'levee', 'breach', 'water', 'street'], published: '2026-10-06T09:00:00Z', outlet: 'Outlet B' },
+    ]);
+    const p1 = l.plan([a!]);
+    expect(p1.opened).toEqual([eventIdFor(a!)]);
+    expect(p1.links[0]!.evidence.opened).toBe(true);
+    l.apply(p1);
+    const p2 = l.plan([b!]);
+    expect(p2.opened).toEqual([]);
+    expect(p2.links[0]!.eventId).toBe(eventIdFor(a!));
+    expect(p2.links[0]!.score).toBeGreaterThanOrEqual(options.threshold);
+    expect(p2.outletsAdded).toEqual([expect.objectContaining({ eventId: eventIdFor(a!), outlet: 'Outlet B', independent: true })]);
+  });
+
+  it('opens a new event for an unrelated mention', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(options);
+    const [a, b] = mentions(e, [
+      { article: 'x1', terms: ['levee', 'breach', 'dunvessel'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x2', terms: ['guild', 'strike', 'port', 'pay'], published: '2026-10-06T09:00:00Z' },
+    ]);
+    l.apply(l.plan([a!]));
+    expect(l.plan([b!]).opened).toEqual([eventIdFor(b!)]);
+  });
+
+  it('weighs similarity down with the time gap: one half-life halves the score', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker({ ...options, threshold: 0 });
+    const terms = ['orlin', 'bridge', 'span', 'collapse'];
+    const [a, near, far] = mentions(e, [
+      { article: 'x1', terms, published: '2026-10-11T08:00:00Z' },
+      { article: 'x2', terms, published: '2026-10-11T09:00:00Z' },
+      { article: 'x3', terms, published: '2026-10-19T09:00:00Z' },
+    ]);
+    l.apply(l.plan([a!]));
+    const sNear = l.plan([near!]).links[0]!;
+    const sFar = l.plan([far!]).links[0]!;
+    expect(sNear.evidence.timeDecay).toBe(1);
+    // The event spans 10-10..10-11 (day of publication and the day before); 10-19 is 7 days after.
+    expect(sFar.evidence.timeGapDays).toBe(7);
+    expect(sFar.evidence.timeDecay).toBeCloseTo(0.5, 10);
+    expect(sFar.score).toBeCloseTo(sNear.score * 0.5, 6);
+  });
+
+  it('finds a weeks-old event from another story when a sentence names its date', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(options);
+    const first = mentions(e, [{ article: 'flood-1', terms: ['levee', 'dunvessel', 'breach', 'veshel', 'river'], published: '2026-10-06T05:00:00Z', outlet: 'Outlet A' }]);
+    l.apply(l.plan(first));
+    // Thirty unrelated events in between, from another story and outlet.
+    for (let i = 0; i < 30; i++) {
+      l.apply(l.plan(mentions(e, [{ article: `other-${i}`, terms: [`topic${i}`, `word${i}`, 'budget'], published: '2026-10-20T09:00:00Z', outlet: 'Outlet C' }])));
+    }
+    const [back] = mentions(e, [{
+      article: 'bridge-9', terms: ['report', 'levee', 'dunvessel', 'breach', 'scour'], published: '2026-10-29T10:00:00Z', outlet: 'Outlet B',
+      times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }],
+    }]);
+    const plan = l.plan([back!]);
+    expect(plan.links[0]!.eventId).toBe(eventIdFor(first[0]!));
+    expect(plan.links[0]!.evidence.timeGapDays).toBe(0);
+  });
+
+  it('gives a sentence further links when several events fit it clearly', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker({ ...options, secondaryMargin: 0.05 });
+    const [h1, h2, ruling] = mentions(e, [
+      { article: 'a', terms: ['hearing', 'maskell', 'plead', 'bribery'], published: '2026-10-05T12:00:00Z' },
+      { article: 'b', terms: ['hearing', 'gray', 'testify', 'list'], published: '2026-10-08T12:00:00Z' },
+      { article: 'c', terms: ['ruling', 'hearing', 'maskell', 'plead', 'gray', 'testify', 'list', 'bribery'], published: '2026-10-09T12:00:00Z',
+        times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }, { text: 'October 8', start: '2026-10-08', end: '2026-10-08' }] },
+    ]);
+    l.apply(l.plan([h1!]));
+    l.apply(l.plan([h2!]));
+    const plan = l.plan([ruling!]);
+    expect(new Set(plan.links.map((x) => x.eventId))).toEqual(new Set([eventIdFor(h1!), eventIdFor(h2!)]));
+    expect(plan.links.map((x) => x.rank).sort()).toEqual([0, 1]);
+  });
+
+  it('counts shared rare names as evidence', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker({ ...options, threshold: 0 });
+    const [a, b] = mentions(e, [
+      { article: 'a', terms: ['court', 'hearing'], published: '2026-10-05T12:00:00Z', names: ['Teodor Maskell'] },
+      { article: 'b', terms: ['court', 'evidence'], published: '2026-10-05T13:00:00Z', names: ['Teodor Maskell'] },
+    ]);
+    l.apply(l.plan([a!]));
+    const ev = l.plan([b!]).links[0]!.evidence;
+    expect(ev.sharedParticipants).toEqual(['Teodor Maskell']);
+    expect(ev.overlapBonus).toBeGreaterThan(0);
+  });
+
+  it('changes nothing until a plan is applied', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(options);
+    const [a] = mentions(e, [{ article: 'a', terms: ['x', 'y'], published: '2026-10-05T12:00:00Z' }]);
+    l.plan([a!]);
+    expect(l.size).toBe(0);
+    const again = l.plan([a!]);
+    l.apply(again);
+    expect(l.size).toBe(1);
+  });
+
+  it('opens the same event id for the same mention every time', () => {
+    expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toBe(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 }));
+    expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toMatch(/^ev_[0-9a-f]{16}$/);
+  });
+});
