@@ -2,6 +2,7 @@
 // reading process.env outside the configuration module (configuration is read once).
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
+import globals from 'globals';
 
 export default tseslint.config(
   { ignores: ['dist/**', 'node_modules/**', 'coverage/**', 'demo-feed/**', 'bench-results/**'] },
@@ -13,6 +14,8 @@ export default tseslint.config(
       'no-console': 'off',
     },
   },
+  { files: ['src/web/static/**/*.js'], languageOptions: { globals: globals.browser } },
+  { files: ['scripts/**/*.mjs', 'eslint.config.js'], languageOptions: { globals: globals.node } },
   {
     files: ['src/**/*.ts'],
     ignores: ['src/config/**'],

@@ -3,7 +3,7 @@
  * serialisation and the OpenAPI document served at /openapi.json). Route handlers are
  * thin: they read the store they are handed and shape the answer.
  */
-import fastify, { type FastifyBaseLogger, type FastifyInstance, type FastifyError } from 'fastify';
+import fastify, { LogController, type FastifyBaseLogger, type FastifyInstance, type FastifyError } from 'fastify';
 import swagger from '@fastify/swagger';
 import { StrandError, isStrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
@@ -26,8 +26,12 @@ export interface ApiDeps {
 export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   const app = fastify({
     loggerInstance: deps.logger.child({ stage: 'api' }) as FastifyBaseLogger,
-    disableRequestLogging: true,
+    // No log line per request: the API is read-mostly and polled by the page.
+    logController: new LogController({ disableRequestLogging: true }),
     bodyLimit: 1024 * 1024,
+    // Refuse unknown query parameters instead of silently dropping them (a typo in a
+    // filter should not return unfiltered results).
+    ajv: { customOptions: { removeAdditional: false } },
     // Article ids are URLs; allow long, encoded path parameters.
     routerOptions: { maxParamLength: 2048 },
   });

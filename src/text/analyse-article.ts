@@ -22,6 +22,8 @@ export interface AnalysedArticle {
 
 /** Token arrays of one paragraph, read from wink-nlp once. */
 interface Tokens {
+  /** Token spans of wink-nlp's sentences. */
+  sentences: [number, number][];
   value: string[];
   lemma: string[];
   pos: string[];
@@ -44,7 +46,7 @@ export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
   const reference = article.published ?? article.fetched;
   const read = paragraphs(article.text).map((p) => {
     const tokens = readTokens(nlp, p.text);
-    return { ...p, tokens, spans: sentenceSpans(nlp, p.text, tokens) };
+    return { ...p, tokens, spans: sentenceSpans(tokens) };
   });
   // The tagger takes any capitalised first word for a name ("Police said", "Engineers
   // warned"); such a word counts as a name only if the article also capitalises it mid-sentence.
@@ -69,7 +71,7 @@ export function splitSentences(nlp: Nlp, text: string): string[] {
   const out: string[] = [];
   for (const { text: para } of paragraphs(text)) {
     const tokens = readTokens(nlp, para);
-    for (const [s, e] of sentenceSpans(nlp, para, tokens)) out.push(para.slice(tokens.start[s]!, tokens.end[e]!));
+    for (const [s, e] of sentenceSpans(tokens)) out.push(para.slice(tokens.start[s]!, tokens.end[e]!));
   }
   return out;
 }
@@ -113,6 +115,7 @@ function readTokens(nlp: Nlp, para: string): Tokens {
     at = end[i]!;
   }
   return {
+    sentences: doc.sentences().out(its.span) as unknown as [number, number][],
     value,
     // wink's typings reject its.lemma on token collections, which the library supports.
     lemma: toks.out(its.lemma as never) as string[],
@@ -124,10 +127,9 @@ function readTokens(nlp: Nlp, para: string): Tokens {
   };
 }
 
-function sentenceSpans(nlp: Nlp, para: string, tokens: Tokens): [number, number][] {
-  const spans = nlp.readDoc(para).sentences().out(nlp.its.span) as unknown as [number, number][];
+function sentenceSpans(tokens: Tokens): [number, number][] {
   const merged: [number, number][] = [];
-  for (const [s, e] of spans.flatMap(([s, e]) => splitAfterFinalAbbreviation(tokens, s, e))) {
+  for (const [s, e] of tokens.sentences.flatMap(([s, e]) => splitAfterFinalAbbreviation(tokens, s, e))) {
     const prev = merged[merged.length - 1];
     if (prev && (startsLowerCase(tokens, s, e) || onlyPunctuation(tokens, s, e))) prev[1] = e;
     else merged.push([s, e]);

@@ -1,0 +1,117 @@
+import type { FastifyInstance } from 'fastify';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildApp } from '../../src/api/build-app.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { createLogger } from '../../src/logger.js';
+import type { Runtime } from '../../src/runtime.js';
+import { DEMO_DIR } from '../helpers/demo.js';
+import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+
+let rt: Runtime;
+let app: FastifyInstance;
+
+beforeAll(async () => {
+  rt = await testRuntime();
+  await runArticles(rt, (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles);
+  app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: '0.0.0-test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+});
+afterAll(async () => {
+  await app.close();
+  await rt.close();
+});
+
+const get = async (url: string) => {
+  const r = await app.inject({ method: 'GET', url });
+  return { status: r.statusCode, body: r.headers['content-type']?.toString().includes('json') ? r.json() : r.body, headers: r.headers };
+};
+
+describe('the query API', () => {
+  it('reports health with counts and ingest progress', async () => {
+    const { status, body } = await get('/api/health');
+    expect(status).toBe(200);
+    expect(body.status).toBe('ok');
+    expect(body.counts.articles).toBe(101);
+    expect(body.ingest.state).toBe('finished');
+  });
+
+  it('lists events with the caution that links are machine suggestions', async () => {
+    const { status, body } = await get('/api/events?limit=5');
+    expect(status).toBe(200);
+    expect(body.events).toHaveLength(5);
+    expect(body.total).toBeGreaterThan(5);
+    expect(body.caution).toMatch(/machine suggestions/);
+    const lastSeen = body.events.map((e: { lastSeen: string }) => e.lastSeen);
+    expect(lastSeen).toEqual([...lastSeen].sort().reverse());
+  });
+
+  it('filters events by outlet, words, dates and outlet count', async () => {
+    const byOutlet = (await get(`/api/events?outlet=${encodeURIComponent('Quarrenby Post')}&limit=200`)).body;
+    expect(byOutlet.events.every((e: { outlets: string[] }) => e.outlets.includes('Quarrenby Post'))).toBe(true);
+    const words = (await get('/api/events?q=Orlin&limit=200')).body;
+    expect(words.total).toBeGreaterThan(0);
+    const dated = (await get('/api/events?from=2026-10-16&to=2026-10-16&limit=200')).body;
+    for (const e of dated.events) expect(e.lastSeen >= '2026-10-16' && e.firstSeen <= '2026-10-16T23:59:59.999Z').toBe(true);
+    const wide = (await get('/api/events?minOutlets=3&sort=outlets&limit=200')).body;
+    expect(wide.events.every((e: { outlets: string[] }) => e.outlets.length >= 3)).toBe(true);
+  });
+
+  it('shows one event with its mentions grouped by outlet, with score and evidence, and its timeline', async () => {
+    const [top] = (await get('/api/events?sort=outlets&limit=1')).body.events;
+    const { status, body } = await get(`/api/events/${top.id}`);
+    expect(status).toBe(200);
+    expect(body.byOutlet.map((g: { outlet: string }) => g.outlet).sort()).toEqual([...top.outlets].sort());
+    const m = body.byOutlet[0].mentions[0];
+    expect(m).toMatchObject({ articleId: expect.any(String), text: expect.any(String), score: expect.any(Number), evidence: { similarity: expect.any(Number), timeDecay: expect.any(Number) } });
+    expect(body.timeline.reduce((n: number, d: { mentions: number }) => n + d.mentions, 0)).toBe(top.mentionCount);
+    expect(body.timeline.flatMap((d: { newOutlets: string[] }) => d.newOutlets).sort()).toEqual([...top.outlets].sort());
+  });
+
+  it('shows one article, by URL-encoded id, with its sentences and their links', async () => {
+    const id = 'https://ebs-news.example/news/ebs01';
+    const { status, body } = await get(`/api/articles/${encodeURIComponent(id)}`);
+    expect(status).toBe(200);
+    expect(body.article.outlet).toBe('EBS News');
+    expect(body.sentences[0].text).toMatch(/^A levee on the River Veshel gave way/);
+    expect(body.sentences[0].links[0]).toMatchObject({ eventId: expect.stringMatching(/^ev_/), score: expect.any(Number), evidence: expect.any(Object) });
+    expect(body.caution).toMatch(/machine suggestions/);
+  });
+
+  it('answers unknown ids with 404 and a coded error', async () => {
+    expect(await get('/api/events/ev_0000')).toMatchObject({ status: 404, body: { error: { code: 'STRAND_NOT_FOUND' } } });
+    expect(await get(`/api/articles/${encodeURIComponent('https://nowhere.example/x')}`)).toMatchObject({ status: 404 });
+    expect(await get('/api/nothing-here')).toMatchObject({ status: 404, body: { error: { code: 'STRAND_NOT_FOUND' } } });
+  });
+
+  it.each([
+    '/api/events?limit=0',
+    '/api/events?limit=100000',
+    '/api/events?from=yesterday',
+    '/api/events?sort=random',
+    '/api/events?unknown=1',
+    `/api/events?q=${'x'.repeat(300)}`,
+  ])('refuses a malformed query with 400: %s', async (url) => {
+    expect(await get(url)).toMatchObject({ status: 400, body: { error: { code: 'STRAND_REQUEST_INVALID' } } });
+  });
+
+  it('serves an OpenAPI 3.1 document describing every route', async () => {
+    const { status, body } = await get('/openapi.json');
+    expect(status).toBe(200);
+    expect(body.openapi).toBe('3.1.0');
+    expect(Object.keys(body.paths).sort()).toEqual(['/api/articles/{id}', '/api/events', '/api/events/{id}', '/api/health', '/api/outlets', '/api/webhooks/dead-letters']);
+    expect(body.info.description).toMatch(/machine suggestions/);
+  });
+
+  it('serves the analysts\' page with a strict content security policy', async () => {
+    const page = await get('/');
+    expect(page.status).toBe(200);
+    expect(page.body).toMatch(/machine suggestions/);
+    expect(page.headers['content-security-policy']).toMatch(/script-src 'self'/);
+    expect((await get('/app.js')).status).toBe(200);
+    expect((await get('/style.css')).status).toBe(200);
+  });
+
+  it('lists outlets and dead letters', async () => {
+    expect((await get('/api/outlets')).body.outlets).toHaveLength(6);
+    expect((await get('/api/webhooks/dead-letters')).body.deliveries).toEqual([]);
+  });
+});
