@@ -13,8 +13,19 @@ function el(tag, attrs = {}, ...children) {
     else if (k === 'onclick') node.addEventListener('click', v);
     else node.setAttribute(k, v);
   }
-  for (const c of children.flat()) if (c !== null && c !== undefined) node.append(c instanceof Node ? c : String(c));
+  return fill(node, ...children);
+}
+
+/** Appends children, flattening nested arrays and skipping null and undefined. */
+function fill(node, ...children) {
+  for (const c of children.flat(Infinity)) if (c !== null && c !== undefined && c !== false) node.append(c instanceof Node ? c : String(c));
   return node;
+}
+
+/** Replaces a node's children the same way. */
+function replace(node, ...children) {
+  node.replaceChildren();
+  return fill(node, ...children);
 }
 
 async function api(path) {
@@ -79,12 +90,13 @@ async function showEvent(id) {
       bar.style.height = `${(t.mentions / max) * 100}%`;
       return bar;
     }));
-  $('detail').replaceChildren(
+  replace($('detail'), 
     el('h2', {}, e.label),
     el('p', { class: 'meta' }, `Event ${e.id} · happened ${e.timeStart}${e.timeEnd !== e.timeStart ? ` – ${e.timeEnd}` : ''} · first seen ${fmtDay(e.firstSeen)}, last seen ${fmtDay(e.lastSeen)} · ${e.outlets.length} outlets (${e.independentOutlets} independent) · ${e.mentionCount} mentions`),
     e.participants.length ? el('ul', { class: 'chips', 'aria-label': 'Participants' }, e.participants.map((p) => el('li', {}, p))) : null,
     e.places.length ? el('ul', { class: 'chips', 'aria-label': 'Places' }, e.places.map((p) => el('li', {}, `📍 ${p}`))) : null,
     timeline,
+    el('p', { class: 'meta' }, `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`),
     d.byOutlet.map((g) => el('section', { class: 'outlet' },
       el('h3', {}, g.outlet, g.independent ? null : el('span', { class: 'copy' }, ' · verbatim copy of another outlet’s article')),
       g.mentions.map((m) => el('div', { class: 'mention' },
@@ -98,7 +110,7 @@ async function showEvent(id) {
 async function showArticle(id) {
   const d = await api(`/api/articles/${encodeURIComponent(id)}`);
   const a = d.article;
-  $('detail').replaceChildren(
+  replace($('detail'), 
     el('h2', {}, a.title || a.id),
     el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? ' · verbatim copy of ' : null,
       a.duplicateOf ? el('a', { href: `#/articles/${encodeURIComponent(a.duplicateOf)}` }, a.duplicateOf) : null,
@@ -122,7 +134,7 @@ async function route() {
     if (kind === 'events') await showEvent(decodeURIComponent(id));
     else if (kind === 'articles') await showArticle(decodeURIComponent(id));
   } catch (err) {
-    $('detail').replaceChildren(el('p', { class: 'hint' }, `Could not load: ${err.message}`));
+    replace($('detail'), el('p', { class: 'hint' }, `Could not load: ${err.message}`));
   }
 }
 
@@ -142,7 +154,7 @@ async function refreshStatus() {
 async function loadOutlets() {
   const { outlets } = await api('/api/outlets');
   const current = $('outlet').value;
-  $('outlet').replaceChildren(el('option', { value: '' }, 'All outlets'), outlets.map((o) => el('option', { value: o.outlet }, `${o.outlet} (${o.articles})`)));
+  replace($('outlet'), el('option', { value: '' }, 'All outlets'), outlets.map((o) => el('option', { value: o.outlet }, `${o.outlet} (${o.articles})`)));
   $('outlet').value = current;
 }
 

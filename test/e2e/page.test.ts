@@ -1,0 +1,59 @@
+import { existsSync } from 'node:fs';
+import type { FastifyInstance } from 'fastify';
+import { type Browser, chromium } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildApp } from '../../src/api/build-app.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { createLogger } from '../../src/logger.js';
+import type { Runtime } from '../../src/runtime.js';
+import { DEMO_DIR } from '../helpers/demo.js';
+import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+
+// Debian's chromium, driven headless; .ci/run installs it. Never a downloaded browser.
+const CHROMIUM = '/usr/bin/chromium';
+
+describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analysts\' page in a browser', () => {
+  let rt: Runtime;
+  let app: FastifyInstance;
+  let browser: Browser;
+  let base: string;
+
+  beforeAll(async () => {
+    rt = await testRuntime();
+    await runArticles(rt, (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles);
+    app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+    base = await app.listen({ host: '127.0.0.1', port: 0 });
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'] });
+  });
+  afterAll(async () => {
+    await browser?.close();
+    await app?.close();
+    await rt?.close();
+  });
+
+  it('lists events, opens one with its outlets, scores and evidence, then an article with its links', async () => {
+    const page = await browser.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await page.goto(`${base}/`);
+    await expect.poll(() => page.locator('#events li').count()).toBeGreaterThan(10);
+    await expect.poll(() => page.locator('#status').textContent()).toMatch(/101 articles/);
+    expect(await page.locator('.caution').textContent()).toMatch(/machine suggestions/);
+
+    await page.selectOption('#sort', 'outlets');
+    await expect.poll(() => page.locator('#events li .meta').first().textContent()).toMatch(/ 6 outlets/);
+    await page.locator('#events li').first().click();
+    await page.locator('#detail .outlet').first().waitFor();
+    expect(await page.locator('#detail .outlet').count()).toBeGreaterThanOrEqual(3);
+    expect(await page.locator('#detail .evidence').first().textContent()).toMatch(/score \d\.\d\d/);
+
+    await page.locator('#detail .mention a').first().click();
+    await page.locator('#detail .sentence').first().waitFor();
+    expect(await page.locator('#detail .sentence.is-mention').count()).toBeGreaterThan(0);
+    expect(await page.locator('#detail .sentence .evidence a').count()).toBeGreaterThan(0);
+
+    await page.fill('#q', 'Orlin');
+    await expect.poll(async () => (await page.locator('#count').textContent()) ?? '').toMatch(/^\d+ events?$/);
+    expect(errors).toEqual([]);
+  });
+});
