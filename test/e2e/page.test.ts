@@ -2,12 +2,8 @@ import { existsSync } from 'node:fs';
 import type { FastifyInstance } from 'fastify';
 import { type Browser, chromium } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildApp } from '../../src/api/build-app.js';
-import { readReplayInput } from '../../src/ingest/replay-source.js';
-import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
-import { DEMO_DIR } from '../helpers/demo.js';
-import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+import { demoApi } from '../helpers/runtime.js';
 
 // Debian's chromium, driven headless; .ci/run installs it. Never a downloaded browser.
 const CHROMIUM = '/usr/bin/chromium';
@@ -19,9 +15,7 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analyst
   let base: string;
 
   beforeAll(async () => {
-    rt = await testRuntime();
-    await runArticles(rt, (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles);
-    app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+    ({ rt, app } = await demoApi());
     base = await app.listen({ host: '127.0.0.1', port: 0 });
     browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'] });
   });

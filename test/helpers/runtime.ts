@@ -1,5 +1,9 @@
 /** Test helpers: a runtime on an in-memory (or given) SQLite store, and running articles through it. */
+import type { FastifyInstance } from 'fastify';
 import { from, lastValueFrom, toArray } from 'rxjs';
+import { buildApp } from '../../src/api/build-app.js';
+import { DEMO_FEEDS } from '../../src/cli/common.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import type { Config } from '../../src/config/schema.js';
 import { createLogger } from '../../src/logger.js';
@@ -22,4 +26,12 @@ export async function testRuntime(overrides: Record<string, unknown> = {}, path 
 /** Runs articles through the pipeline and collects the outcomes. */
 export function runArticles(rt: Runtime, articles: Article[]): Promise<ArticleOutcome[]> {
   return lastValueFrom(runPipeline(from(articles), rt).pipe(toArray()));
+}
+
+/** A runtime holding the whole demo, and the API app over it (not listening). */
+export async function demoApi(): Promise<{ rt: Runtime; app: FastifyInstance }> {
+  const rt = await testRuntime();
+  await runArticles(rt, (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles);
+  const app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+  return { rt, app };
 }

@@ -1,19 +1,13 @@
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildApp } from '../../src/api/build-app.js';
-import { readReplayInput } from '../../src/ingest/replay-source.js';
-import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
-import { DEMO_DIR } from '../helpers/demo.js';
-import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+import { demoApi } from '../helpers/runtime.js';
 
 let rt: Runtime;
 let app: FastifyInstance;
 
 beforeAll(async () => {
-  rt = await testRuntime();
-  await runArticles(rt, (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles);
-  app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: '0.0.0-test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+  ({ rt, app } = await demoApi());
 });
 afterAll(async () => {
   await app.close();
