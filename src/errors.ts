@@ -21,6 +21,7 @@ export const ERROR_CODES = {
   STRAND_NOT_FOUND: { status: 404 },
   STRAND_WEBHOOK_FAILED: { status: 502 },
   STRAND_REQUEST_INVALID: { status: 400 },
+  STRAND_EVAL_INPUT_INVALID: { status: 400 },
 } as const;
 
 /** One of the stable error codes. */

@@ -11,7 +11,7 @@
  */
 import { type Observable, type OperatorFunction, concatMap, defer, of } from 'rxjs';
 import type { Config } from './config/schema.js';
-import { type DetectedArticle, detectMentions } from './detect/detect-mentions.js';
+import { type DetectedArticle, type MentionSelection, detectMentions } from './detect/detect-mentions.js';
 import type { Embedder } from './embed/embedder.js';
 import { TfidfEmbedder } from './embed/tfidf-embedder.js';
 import { describeError } from './errors.js';
@@ -33,6 +33,8 @@ export interface PipelineContext {
   store: Store;
   logger: Logger;
   now: () => Date;
+  /** Overrides which sentences become mentions (evaluation); live use leaves it unset. */
+  selectMentions?: (article: Article) => MentionSelection;
 }
 
 /** What became of one article. */
@@ -47,6 +49,8 @@ export interface ArticleOutcome {
   links: number;
   opened: number;
   outletsAdded: number;
+  /** Each linked sentence (-1: the whole article) with its events, best first. */
+  assignments: { sentenceIndex: number; eventIds: string[] }[];
 }
 
 type Flow<T> = { go: T; done?: undefined } | { go?: undefined; done: ArticleOutcome };
@@ -61,7 +65,7 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
   return articles$.pipe(
     concatMap((a) => defer(() => admit(a))),
     stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
-    stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold)),
+    stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold, ctx.selectMentions?.(a.article))),
     stage('embed', ctx, (a: DetectedArticle) => embedStage(ctx, a)),
     concatMap((f: Flow<EmbeddedArticle>) => (f.done ? of(f.done) : defer(() => linkStage(ctx, f.go)))),
   );
@@ -138,9 +142,16 @@ async function linkStage(ctx: PipelineContext, a: EmbeddedArticle): Promise<Arti
     links: plan.links.length,
     opened: plan.opened.length,
     outletsAdded: plan.outletsAdded.length,
+    assignments: assignments(plan.links),
   };
 }
 
+function assignments(links: readonly { sentenceIndex: number; eventId: string; rank: number }[]): ArticleOutcome['assignments'] {
+  const by = new Map<number, { rank: number; eventId: string }[]>();
+  for (const l of links) by.set(l.sentenceIndex, [...(by.get(l.sentenceIndex) ?? []), l]);
+  return [...by].map(([sentenceIndex, ls]) => ({ sentenceIndex, eventIds: ls.sort((x, y) => x.rank - y.rank).map((l) => l.eventId) }));
+}
+
 function outcome(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
-  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0 };
+  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [] };
 }

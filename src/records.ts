@@ -25,6 +25,11 @@ export interface Article {
   duplicateOf: string | null;
   /** Where the item came from (file path or URL), for operators. */
   source: string;
+  /**
+   * Sentences supplied already split (evaluation input, whose gold indices must line up);
+   * the text stage then analyses them as given instead of splitting `text`.
+   */
+  presplit?: readonly string[];
 }
 
 /** One sentence of an article. */

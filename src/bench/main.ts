@@ -7,7 +7,10 @@
  *                   and committed to a SQLite file, as `strandline replay` does;
  *   demo x10        the demo's articles ten times over with new ids and dates shifted by
  *                   20 days per copy (a synthetic stream ten times longer; the shift keeps
- *                   copies from merging into the originals' events).
+ *                   copies from merging into the originals' events);
+ *   linker vs batch the online linker's link step against the batch all-pairs baseline
+ *                   (average-link agglomerative clustering) on the same 20,000 mentions of
+ *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
  */
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -21,6 +24,13 @@ import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
 import { DEMO_FEEDS, version } from '../cli/common.js';
+import { batchAverageLink } from '../eval/baselines.js';
+import { checkEvalInput } from '../eval/eval-input.js';
+import { scorePartitions } from '../eval/partition-metrics.js';
+import { prepareMentions, selector, toArticles } from '../eval/prepare-mentions.js';
+import { linkPrepared } from '../eval/run-eval.js';
+import { createNlp } from '../text/nlp.js';
+import { syntheticStream } from './synthetic-stream.js';
 
 interface Row {
   workload: string;
@@ -74,8 +84,44 @@ async function demoTimesTen(): Promise<Article[]> {
   return out;
 }
 
+interface VersusRow {
+  mentions: number;
+  linkerSeconds: number;
+  batchSeconds: number;
+  speedup: number;
+  linkerConllF1: number;
+  batchConllF1: number;
+}
+
+/** The link step and the batch baseline on the same prepared synthetic mentions. */
+function linkerVersusBatch(mentions: number): VersusRow {
+  const config = parseConfig({});
+  const stream = syntheticStream(mentions, 42);
+  const input = checkEvalInput(stream);
+  const prepared = prepareMentions(createNlp(), toArticles(input, 'synthetic', '2030-01-01T00:00:00.000Z'), selector(input, 'gold'), config.detect.threshold, config.embed.hashBits);
+  const flat = prepared.flat();
+  let t0 = performance.now();
+  const linked = linkPrepared(prepared, config.link);
+  const linkerSeconds = (performance.now() - t0) / 1000;
+  t0 = performance.now();
+  const batch = batchAverageLink(flat, config.link.threshold, config.link.halfLifeDays);
+  const batchSeconds = (performance.now() - t0) / 1000;
+  const key = partitionOf(new Map(stream.gold.map((g) => [`${g.article}#${g.sentence}`, [g.event]])));
+  return {
+    mentions: flat.length, linkerSeconds, batchSeconds, speedup: batchSeconds / linkerSeconds,
+    linkerConllF1: scorePartitions(key, partitionOf(linked)).conllF1, batchConllF1: scorePartitions(key, partitionOf(batch)).conllF1,
+  };
+}
+
+function partitionOf(c: Map<string, string[]>): string[][] {
+  const by = new Map<string, string[]>();
+  for (const [k, v] of c) by.set(v[0]!, [...(by.get(v[0]!) ?? []), k]);
+  return [...by.values()];
+}
+
 async function main(): Promise<void> {
   const rows = [await run('demo replay (read + pipeline + SQLite file)', demoArticles), await run('demo x10 (synthetic, 1,010 articles)', demoTimesTen)];
+  const versus = linkerVersusBatch(20_000);
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
   const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
@@ -83,9 +129,13 @@ async function main(): Promise<void> {
   const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
   process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n\n`);
   process.stdout.write(`${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`);
+  process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
+    + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
+    + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
+    + `  the linker is ${versus.speedup.toFixed(1)}x faster\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, rows, peakRssMiB }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, rows, peakRssMiB, linkerVersusBatch: versus }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

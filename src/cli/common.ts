@@ -12,8 +12,9 @@ export interface CommonOptions {
   logLevel?: string;
 }
 
-/** The bundled demo feeds. */
-export const DEMO_FEEDS = fileURLToPath(new URL('../../demo-feed/feeds', import.meta.url));
+/** The bundled demo folder and its feeds. */
+export const DEMO_DIR = fileURLToPath(new URL('../../demo-feed', import.meta.url));
+export const DEMO_FEEDS = `${DEMO_DIR}/feeds`;
 
 /** The package version. */
 export function version(): string {

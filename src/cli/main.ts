@@ -1,11 +1,12 @@
 #!/usr/bin/env node
 /** The `strandline` command line. */
-import { Command, InvalidArgumentError } from 'commander';
+import { Command, InvalidArgumentError, Option } from 'commander';
 import { describeError, isStrandError } from '../errors.js';
 import { version } from './common.js';
 import { replayCommand } from './commands/replay.js';
 import { serveCommand } from './commands/serve.js';
 import { forgetCommand } from './commands/forget.js';
+import { evalCommand, exportDemoCommand } from './commands/eval.js';
 
 function integer(name: string, min: number, max: number) {
   return (value: string): number => {
@@ -54,6 +55,23 @@ common(program.command('forget'))
   .option('--article <id>', 'one article')
   .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
   .action(async (opts) => exit(await forgetCommand(opts)));
+
+common(program.command('eval'))
+  .description('score linking against annotated news: partition metrics, link types, baselines side by side; writes report.json and report.html')
+  .option('--articles <file>', 'articles.jsonl: {"id", "outlet", "published", "title", "sentences", "topic", "subtopic"} per line')
+  .option('--gold <file>', 'gold.jsonl: {"article", "sentence" (index or null), "event"} per line')
+  .option('--scope <file>', 'scope.jsonl: {"article", "sentence"} lines; only these sentences are scored')
+  .option('--demo', 'evaluate on the bundled demo and its gold')
+  .addOption(new Option('--setting <setting>', 'gold mentions, predicted mentions, or both').choices(['gold', 'predicted', 'both']).default('both'))
+  .option('--sweep', 'rerun the linker over link thresholds 0.05 to 0.50 and chart the scores')
+  .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
+  .option('--json', 'print the report as JSON')
+  .action(async (opts) => exit(await evalCommand(opts)));
+
+common(program.command('export-demo'))
+  .description('write the demo as articles.jsonl and gold.jsonl in the evaluation format')
+  .argument('<dir>', 'folder to write to')
+  .action(async (dir: string, opts) => exit(await exportDemoCommand(dir, opts)));
 
 function exit(code: number): void {
   process.exitCode = code;

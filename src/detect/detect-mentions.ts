@@ -9,13 +9,26 @@ export interface DetectedArticle extends AnalysedArticle {
   mentions: Mention[];
 }
 
-/** Scores sentences and builds Mention records for those at or above `threshold`. */
-export function detectMentions(a: AnalysedArticle, threshold: number): DetectedArticle {
+/**
+ * Which sentences become mentions: those the scorer puts at or above the threshold (live
+ * use), exactly the given ones (evaluation with gold mentions), or the whole article as
+ * one mention (evaluation of article-level gold).
+ */
+export type MentionSelection = { kind: 'threshold' } | { kind: 'sentences'; indices: ReadonlySet<number> } | { kind: 'article' };
+
+/** The sentence index an article-level mention carries. */
+export const ARTICLE_MENTION = -1;
+/** Sentences of the lead whose times date an article-level mention. */
+const LEAD_SENTENCES = 2;
+
+/** Scores sentences and builds Mention records for the selected ones. */
+export function detectMentions(a: AnalysedArticle, threshold: number, selection: MentionSelection = { kind: 'threshold' }): DetectedArticle {
   const published = a.article.published ?? a.article.fetched;
   const eventness = a.sentences.map(scoreEventSentence);
+  if (selection.kind === 'article') return { ...a, eventness, mentions: a.sentences.length ? [articleMention(a, eventness, published)] : [] };
   const mentions: Mention[] = [];
   a.sentences.forEach((s, i) => {
-    if (eventness[i]! < threshold) return;
+    if (selection.kind === 'threshold' ? eventness[i]! < threshold : !selection.indices.has(s.sentence.index)) return;
     mentions.push({
       articleId: a.article.id,
       sentenceIndex: s.sentence.index,
@@ -31,4 +44,22 @@ export function detectMentions(a: AnalysedArticle, threshold: number): DetectedA
     });
   });
   return { ...a, eventness, mentions };
+}
+
+/** The whole article as one mention: all its terms and names, dated by its lead. */
+function articleMention(a: AnalysedArticle, eventness: number[], published: string): Mention {
+  const unique = (xs: string[]) => [...new Set(xs)];
+  return {
+    articleId: a.article.id,
+    sentenceIndex: ARTICLE_MENTION,
+    text: a.article.title || a.sentences[0]!.sentence.text,
+    outlet: a.article.outlet,
+    published,
+    eventness: Math.max(...eventness),
+    participants: unique(a.sentences.flatMap((s) => s.participants)),
+    places: unique(a.sentences.flatMap((s) => s.places)),
+    times: a.sentences.slice(0, LEAD_SENTENCES).flatMap((s) => s.times),
+    terms: a.sentences.flatMap((s) => s.terms),
+    isCopy: a.article.duplicateOf !== null,
+  };
 }

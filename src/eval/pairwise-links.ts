@@ -20,13 +20,19 @@ export interface PairScores {
   agreedPairs: number;
 }
 
-/** Pair kinds. */
-export type PairKind = 'all' | 'withinArticle' | 'crossArticle' | 'crossStory';
+/**
+ * Pair kinds: all pairs; within one article; across articles; across articles of the same
+ * story (subtopic); across stories (the rare, valuable cross-story links).
+ */
+export type PairKind = 'all' | 'withinArticle' | 'crossArticle' | 'sameStory' | 'crossStory';
 
-/** Scores over the gold sentences; `storyOf` maps an article id to its story, when known. */
+/**
+ * Scores over every sentence either side holds (a sentence only the system holds can only
+ * add false links); `storyOf` maps an article id to its story, when known.
+ */
 export function pairwiseLinkScores(gold: Assignment, system: Assignment, articleOf: (key: string) => string, storyOf?: (article: string) => string | null): Record<PairKind, PairScores> {
-  const counts: Record<PairKind, [number, number, number]> = { all: [0, 0, 0], withinArticle: [0, 0, 0], crossArticle: [0, 0, 0], crossStory: [0, 0, 0] };
-  const keys = [...gold.keys()];
+  const counts: Record<PairKind, [number, number, number]> = { all: [0, 0, 0], withinArticle: [0, 0, 0], crossArticle: [0, 0, 0], sameStory: [0, 0, 0], crossStory: [0, 0, 0] };
+  const keys = [...new Set([...gold.keys(), ...system.keys()])];
   for (let i = 0; i < keys.length; i++) {
     for (let j = i + 1; j < keys.length; j++) {
       const a = keys[i]!;
@@ -40,7 +46,7 @@ export function pairwiseLinkScores(gold: Assignment, system: Assignment, article
       if (artA !== artB && storyOf) {
         const sa = storyOf(artA);
         const sb = storyOf(artB);
-        if (sa && sb && sa !== sb) kinds.push('crossStory');
+        if (sa && sb) kinds.push(sa === sb ? 'sameStory' : 'crossStory');
       }
       for (const k of kinds) {
         const c = counts[k];

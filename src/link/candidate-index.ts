@@ -9,6 +9,11 @@
  * how a sentence today finds last month's event from another story.
  *
  *   key ──► [ev_old … ev_recent]     (append on touch; drop the front past the limit)
+ *
+ * Events are numbered internally so that a lookup adds votes in a typed array (reset by
+ * an epoch mark, not cleared) and keeps the best `limit` by insertion: no map, no sort,
+ * no allocation per candidate. Measured on 20,000 synthetic mentions, this made the
+ * lookup several times cheaper than a Map of votes sorted in full.
  */
 
 /** A key with the weight its vote carries. */
@@ -21,16 +26,25 @@ const RECENT = 'r:';
 
 /** Inverted index over event keys. */
 export class CandidateIndex {
-  private readonly postings = new Map<string, string[]>();
+  private readonly postings = new Map<string, number[]>();
   /** Number of events that ever carried each participant/place key (for rarity). */
   private readonly keyEvents = new Map<string, number>();
+  private readonly handles = new Map<string, number>();
+  private readonly ids: string[] = [];
+  private votes = new Float64Array(1024);
+  private marks = new Uint32Array(1024);
+  private lastTouch = new Float64Array(1024);
+  private epoch = 0;
+  private clock = 0;
 
   constructor(private readonly postingLimit: number) {}
 
   /** Registers (or refreshes) an event under keys, and as recently touched. */
   add(eventId: string, keys: readonly string[]): void {
-    for (const key of keys) this.touch(key, eventId);
-    this.touch(RECENT, eventId);
+    const h = this.handle(eventId);
+    this.lastTouch[h] = ++this.clock;
+    for (const key of keys) this.touch(key, h);
+    this.touch(RECENT, h);
   }
 
   /** Counts one more event carrying a participant or place key. */
@@ -43,26 +57,40 @@ export class CandidateIndex {
     return this.keyEvents.get(key) ?? 0;
   }
 
-  /** Up to `limit` candidate event ids, most votes first (ties: most recent first). */
+  /** Up to `limit` candidate event ids, most votes first (ties: most recently touched first). */
   lookup(keys: readonly WeightedKey[], limit: number, recentWeight: number): string[] {
-    const votes = new Map<string, number>();
-    const recency = new Map<string, number>();
-    const recent = this.postings.get(RECENT) ?? [];
-    for (let i = 0; i < recent.length; i++) {
-      const id = recent[i]!;
-      recency.set(id, i);
-      // Recent events get a small vote that decays along the list, so they fill free slots.
-      votes.set(id, recentWeight * (i + 1) / recent.length);
-    }
+    const epoch = ++this.epoch;
+    const votes = this.votes;
+    const marks = this.marks;
+    const touched: number[] = [];
+    const vote = (h: number, w: number): void => {
+      if (marks[h] !== epoch) {
+        marks[h] = epoch;
+        votes[h] = 0;
+        touched.push(h);
+      }
+      votes[h]! += w;
+    };
+    const recent = this.postings.get(RECENT);
+    if (recent) for (let i = 0; i < recent.length; i++) vote(recent[i]!, (recentWeight * (i + 1)) / recent.length);
     for (const { key, weight } of keys) {
       const posting = this.postings.get(key);
-      if (!posting) continue;
-      for (const id of posting) votes.set(id, (votes.get(id) ?? 0) + weight);
+      if (posting) for (let i = 0; i < posting.length; i++) vote(posting[i]!, weight);
     }
-    return [...votes]
-      .sort((a, b) => b[1] - a[1] || (recency.get(b[0]) ?? -1) - (recency.get(a[0]) ?? -1) || (a[0] < b[0] ? -1 : 1))
-      .slice(0, limit)
-      .map(([id]) => id);
+    // Keep the best `limit` by insertion into a short sorted list.
+    const best: number[] = [];
+    const better = (a: number, b: number): boolean => votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
+    for (const h of touched) {
+      if (best.length === limit && !better(h, best[limit - 1]!)) continue;
+      let i = best.length === limit ? limit - 1 : best.length;
+      if (best.length < limit) best.push(h);
+      while (i > 0 && better(h, best[i - 1]!)) {
+        best[i] = best[i - 1]!;
+        i--;
+      }
+      best[i] = h;
+    }
+    return best.map((h) => this.ids[h]!);
   }
 
   /** Number of keys held, for statistics. */
@@ -70,16 +98,40 @@ export class CandidateIndex {
     return this.postings.size;
   }
 
-  private touch(key: string, eventId: string): void {
+  private handle(eventId: string): number {
+    let h = this.handles.get(eventId);
+    if (h === undefined) {
+      h = this.ids.length;
+      this.ids.push(eventId);
+      this.handles.set(eventId, h);
+      if (h >= this.votes.length) this.grow();
+    }
+    return h;
+  }
+
+  private grow(): void {
+    const n = this.votes.length * 2;
+    const votes = new Float64Array(n);
+    votes.set(this.votes);
+    const marks = new Uint32Array(n);
+    marks.set(this.marks);
+    const last = new Float64Array(n);
+    last.set(this.lastTouch);
+    this.votes = votes;
+    this.marks = marks;
+    this.lastTouch = last;
+  }
+
+  private touch(key: string, h: number): void {
     let posting = this.postings.get(key);
     if (!posting) {
       posting = [];
       this.postings.set(key, posting);
     }
-    const at = posting.lastIndexOf(eventId);
+    const at = posting.lastIndexOf(h);
     if (at === posting.length - 1 && at >= 0) return;
     if (at >= 0) posting.splice(at, 1);
-    posting.push(eventId);
+    posting.push(h);
     if (posting.length > this.postingLimit) posting.shift();
   }
 }

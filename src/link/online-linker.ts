@@ -12,7 +12,7 @@ import { createHash } from 'node:crypto';
 import type { EmbeddedMention, Link } from '../records.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { addMention, cloneEvent, type EventState, nameKey, openEvent } from './event-state.js';
-import { scoreCandidate, type ScoredCandidate } from './score-candidate.js';
+import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 
 /** Linker settings (see config schema for defaults and reasons). */
 export interface LinkerOptions {
@@ -100,10 +100,11 @@ export class OnlineLinker {
       const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE));
       for (const id of opened) ids.add(id);
       const total = this.events.size + opened.length;
+      const features = mentionFeatures(m);
       const scored: ScoredCandidate[] = [];
       for (const id of ids) {
         const e = current(id);
-        if (e) scored.push(scoreCandidate(m, e, this.index, total, this.o));
+        if (e) scored.push(scoreCandidate(features, e, this.index, total, this.o));
       }
       scored.sort((a, b) => b.score - a.score || (a.event.id < b.event.id ? -1 : 1));
 

@@ -39,10 +39,28 @@ export function cosine(v: Vector, e: EventState): number {
   return dot / e.norm;
 }
 
+/** What scoring needs of a mention, worked out once rather than per candidate. */
+export interface MentionFeatures {
+  mention: EmbeddedMention;
+  span: [number, number];
+  /** [surface form, name key, is a place]. */
+  names: [string, string, boolean][];
+}
+
+/** Prepares a mention for scoring against many candidates. */
+export function mentionFeatures(m: EmbeddedMention): MentionFeatures {
+  return {
+    mention: m,
+    span: mentionSpan(m),
+    names: [...m.participants.map((p): [string, string, boolean] => [p, nameKey(p), false]), ...m.places.map((p): [string, string, boolean] => [p, nameKey(p), true])],
+  };
+}
+
 /** Scores one candidate event for a mention. */
-export function scoreCandidate(m: EmbeddedMention, e: EventState, index: CandidateIndex, totalEvents: number, o: ScoreOptions): ScoredCandidate {
+export function scoreCandidate(f: MentionFeatures, e: EventState, index: CandidateIndex, totalEvents: number, o: ScoreOptions): ScoredCandidate {
+  const m = f.mention;
   const similarity = cosine(m.vector, e);
-  const [ms, me] = mentionSpan(m);
+  const [ms, me] = f.span;
   const gap = Math.max(0, e.timeStart - me, ms - e.timeEnd);
   const timeDecay = Math.pow(0.5, gap / o.halfLifeDays);
   const sharedParticipants: string[] = [];
@@ -50,13 +68,10 @@ export function scoreCandidate(m: EmbeddedMention, e: EventState, index: Candida
   let rarity = 0;
   // Names match across the two lists: the same name can read as a participant in one
   // sentence and as a place in another ("Vellmouth said" / "in Vellmouth").
-  for (const [names, shared] of [[m.participants, sharedParticipants], [m.places, sharedPlaces]] as const) {
-    for (const p of names) {
-      const k = nameKey(p);
-      if (!e.participants.has(k) && !e.places.has(k)) continue;
-      shared.push(p);
-      rarity += Math.log(1 + totalEvents / (1 + index.eventsWith(`p:${k}`)));
-    }
+  for (const [surface, k, isPlace] of f.names) {
+    if (!e.participants.has(k) && !e.places.has(k)) continue;
+    (isPlace ? sharedPlaces : sharedParticipants).push(surface);
+    rarity += Math.log(1 + totalEvents / (1 + index.eventsWith(`p:${k}`)));
   }
   const overlapBonus = o.overlapWeight * (1 - Math.exp(-rarity / 4));
   const score = Math.min(1, (similarity + overlapBonus) * timeDecay);

@@ -44,7 +44,7 @@ const FINAL_ABBREVIATIONS = new Set(['a.m.', 'p.m.', 'etc.', 'ltd.', 'inc.', 'co
 /** Splits and analyses an article. */
 export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
   const reference = article.published ?? article.fetched;
-  const read = paragraphs(article.text).map((p) => {
+  const read = article.presplit ? presplitParts(nlp, article.presplit) : paragraphs(article.text).map((p) => {
     const tokens = readTokens(nlp, p.text);
     return { ...p, tokens, spans: sentenceSpans(tokens) };
   });
@@ -56,6 +56,8 @@ export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
   }
   const sentences: SentenceAnalysis[] = [];
   for (const { text: para, offset, tokens, spans } of read) {
+    // A pre-split sentence with no words still holds its index, so gold indices line up.
+    if (spans.length === 0 && article.presplit) sentences.push(emptyAnalysis({ articleId: article.id, index: sentences.length, text: '', start: offset, end: offset }));
     for (const [s, e] of spans) {
       const start = tokens.start[s]!;
       const end = tokens.end[e]!;
@@ -64,6 +66,22 @@ export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
     }
   }
   return { article, sentences };
+}
+
+/** The text an article with pre-split sentences is stored with: one sentence per paragraph. */
+export function presplitText(sentences: readonly string[]): string {
+  return sentences.join('\n\n');
+}
+
+/** Pre-split sentences, each kept whole as one sentence, at their offsets in presplitText(). */
+function presplitParts(nlp: Nlp, sentences: readonly string[]) {
+  let offset = 0;
+  return sentences.map((text) => {
+    const tokens = readTokens(nlp, text);
+    const part = { text, offset, tokens, spans: tokens.value.length ? ([[0, tokens.value.length - 1]] as [number, number][]) : [] };
+    offset += text.length + 2;
+    return part;
+  });
 }
 
 /** Just the sentence strings of a text, for tools and tests. */
@@ -228,6 +246,13 @@ function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, re
     tokens: e - s + 1,
   };
   return { sentence, terms, participants: unique(participants), places: unique(places), times, cues };
+}
+
+function emptyAnalysis(sentence: Sentence): SentenceAnalysis {
+  return {
+    sentence, terms: [], participants: [], places: [], times: [],
+    cues: { pastVerbs: 0, eventWords: 0, modalOrFuture: 0, opinionWords: 0, isQuestion: false, quoteShare: 0, distantPast: false, tokens: 0 },
+  };
 }
 
 function isPast(lower: string, lemma: string): boolean {

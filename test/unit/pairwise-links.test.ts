@@ -22,7 +22,14 @@ describe('pairwise link scores', () => {
   it('splits pairs within and across articles and stories', () => {
     expect(r.withinArticle).toMatchObject({ goldPairs: 1, systemPairs: 0, agreedPairs: 0 });
     expect(r.crossArticle).toMatchObject({ goldPairs: 2, systemPairs: 3, agreedPairs: 1 });
+    expect(r.sameStory).toMatchObject({ goldPairs: 2, systemPairs: 1, agreedPairs: 1 });
     expect(r.crossStory).toMatchObject({ goldPairs: 0, systemPairs: 2, agreedPairs: 0 });
+  });
+
+  it('counts links to sentences only the system holds as false links', () => {
+    const g = new Map([['a#0', set('X')], ['b#0', set('X')]]);
+    const s = new Map([['a#0', set('S')], ['b#0', set('S')], ['c#0', set('S')]]);
+    expect(pairwiseLinkScores(g, s, (k) => k.split('#')[0]!).all).toMatchObject({ goldPairs: 1, systemPairs: 3, agreedPairs: 1 });
   });
 
   it('counts a pair as linked when the two sentences share any one of several events', () => {

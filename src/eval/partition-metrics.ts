@@ -1,0 +1,239 @@
+/**
+ * Coreference partition scores, computed as the reference scorer does (Pradhan et al.
+ * 2014, "Scoring coreference partitions of predicted mentions: a reference
+ * implementation"; conll/reference-coreference-scorers), including when the key and the
+ * response hold different mentions (predicted mentions):
+ *
+ *   MUC    Vilain et al. 1995: links needed to join each cluster's pieces;
+ *   B3     Bagga & Baldwin 1998: per-mention overlap of its key and response clusters;
+ *   CEAF   Luo 2005: best one-to-one cluster alignment, mention- (phi3) or entity-based (phi4);
+ *   BLANC  Recasens & Hovy 2011, extended to predicted mentions by Luo et al. 2014;
+ *   LEA    Moosavi & Strube 2016: link-based, weighted by entity size;
+ *   CoNLL  mean of the MUC, B3 and CEAF-e F1 (CoNLL-2011/2012 shared tasks).
+ *
+ * A partition is a list of clusters of mention ids; no mention may be in two clusters.
+ */
+import { munkres } from 'munkres';
+
+/** Recall, precision and F1. */
+export interface Score {
+  recall: number;
+  precision: number;
+  f1: number;
+}
+
+/** A partition: clusters of mention ids. */
+export type Partition = readonly (readonly string[])[];
+
+/** All partition scores. */
+export interface PartitionScores {
+  muc: Score;
+  b3: Score;
+  ceafm: Score;
+  ceafe: Score;
+  blanc: Score;
+  lea: Score;
+  conllF1: number;
+}
+
+/** Every score for one key/response pair. */
+export function scorePartitions(key: Partition, response: Partition): PartitionScores {
+  const muc = mucScore(key, response);
+  const b3 = b3Score(key, response);
+  const ceafe = ceafScore(key, response, 'entity');
+  return { muc, b3, ceafm: ceafScore(key, response, 'mention'), ceafe, blanc: blancScore(key, response), lea: leaScore(key, response), conllF1: (muc.f1 + b3.f1 + ceafe.f1) / 3 };
+}
+
+/** F1 from recall and precision (0 when both are 0). */
+export function f1(recall: number, precision: number): number {
+  return recall + precision === 0 ? 0 : (2 * recall * precision) / (recall + precision);
+}
+
+function score(recall: number, precision: number): Score {
+  return { recall, precision, f1: f1(recall, precision) };
+}
+
+const ratio = (num: number, den: number): number => (den === 0 ? 0 : num / den);
+
+function clusterOf(p: Partition): Map<string, number> {
+  const m = new Map<string, number>();
+  p.forEach((c, i) => {
+    for (const x of c) {
+      if (m.has(x)) throw new Error(`mention ${x} is in two clusters`);
+      m.set(x, i);
+    }
+  });
+  return m;
+}
+
+/** MUC: for each cluster, its size minus the number of pieces the other partition cuts it into. */
+export function mucScore(key: Partition, response: Partition): Score {
+  const side = (a: Partition, b: Partition): number => {
+    const inB = clusterOf(b);
+    let num = 0;
+    let den = 0;
+    for (const c of a) {
+      const pieces = new Set<string>();
+      // A mention the other side lacks is a piece of its own.
+      for (const x of c) pieces.add(inB.has(x) ? `c${inB.get(x)}` : `m${x}`);
+      num += c.length - pieces.size;
+      den += c.length - 1;
+    }
+    return ratio(num, den);
+  };
+  return score(side(key, response), side(response, key));
+}
+
+/** B3: for each mention, the share of its cluster that the other side's cluster of it also holds. */
+export function b3Score(key: Partition, response: Partition): Score {
+  const side = (a: Partition, b: Partition): number => {
+    const inB = clusterOf(b);
+    let sum = 0;
+    let n = 0;
+    for (const c of a) {
+      const counts = new Map<number, number>();
+      for (const x of c) {
+        const j = inB.get(x);
+        if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
+      }
+      for (const shared of counts.values()) sum += (shared * shared) / c.length;
+      n += c.length;
+    }
+    return ratio(sum, n);
+  };
+  return score(side(key, response), side(response, key));
+}
+
+/**
+ * CEAF: the alignment of key and response clusters (each used once) that maximises total
+ * similarity, found exactly with Kuhn-Munkres on each connected group of overlapping
+ * clusters (clusters that share no mention have similarity 0 and do not need aligning).
+ */
+export function ceafScore(key: Partition, response: Partition, kind: 'mention' | 'entity'): Score {
+  const phi = (k: readonly string[], overlap: number, r: readonly string[]): number => (kind === 'mention' ? overlap : (2 * overlap) / (k.length + r.length));
+  const inR = clusterOf(response);
+  // Overlaps between key cluster i and response cluster j.
+  const overlap = new Map<number, Map<number, number>>();
+  key.forEach((c, i) => {
+    for (const x of c) {
+      const j = inR.get(x);
+      if (j === undefined) continue;
+      const row = overlap.get(i) ?? new Map<number, number>();
+      row.set(j, (row.get(j) ?? 0) + 1);
+      overlap.set(i, row);
+    }
+  });
+  let best = 0;
+  for (const [keys, resps] of components(overlap)) {
+    const matrix = keys.map((i) => resps.map((j) => -phi(key[i]!, overlap.get(i)?.get(j) ?? 0, response[j]!)));
+    for (const [r, c] of munkres(matrix)) best -= matrix[r]![c]!;
+  }
+  const self = (p: Partition) => p.reduce((s, c) => s + phi(c, c.length, c), 0);
+  return score(ratio(best, self(key)), ratio(best, self(response)));
+}
+
+/** Connected groups of key and response clusters linked by shared mentions. */
+function components(overlap: Map<number, Map<number, number>>): [number[], number[]][] {
+  const parent = new Map<string, string>();
+  const find = (x: string): string => {
+    let r = x;
+    while (parent.get(r) !== r) r = parent.get(r)!;
+    parent.set(x, r);
+    return r;
+  };
+  const add = (x: string) => {
+    if (!parent.has(x)) parent.set(x, x);
+  };
+  for (const [i, row] of overlap) {
+    add(`k${i}`);
+    for (const j of row.keys()) {
+      add(`r${j}`);
+      parent.set(find(`k${i}`), find(`r${j}`));
+    }
+  }
+  const groups = new Map<string, [number[], number[]]>();
+  for (const node of parent.keys()) {
+    const g = groups.get(find(node)) ?? [[], []];
+    (node[0] === 'k' ? g[0] : g[1]).push(Number(node.slice(1)));
+    groups.set(find(node), g);
+  }
+  return [...groups.values()];
+}
+
+/** BLANC: the mean of coreference-link and non-coreference-link scores (Luo et al. 2014 for differing mention sets). */
+export function blancScore(key: Partition, response: Partition): Score {
+  const inK = clusterOf(key);
+  const inR = clusterOf(response);
+  const pairsIn = (p: Partition) => p.reduce((s, c) => s + (c.length * (c.length - 1)) / 2, 0);
+  const total = (p: Partition) => {
+    const n = p.reduce((s, c) => s + c.length, 0);
+    return (n * (n - 1)) / 2;
+  };
+  const ck = pairsIn(key);
+  const cr = pairsIn(response);
+  const nk = total(key) - ck;
+  const nr = total(response) - cr;
+  // Coreference links in both: pairs in one key cluster and one response cluster.
+  let cBoth = 0;
+  for (const c of key) {
+    const counts = new Map<number, number>();
+    for (const x of c) {
+      const j = inR.get(x);
+      if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
+    }
+    for (const n of counts.values()) cBoth += (n * (n - 1)) / 2;
+  }
+  // Non-coreference links in both: pairs of mentions both sides hold, apart on both sides.
+  const common = [...inK.keys()].filter((x) => inR.has(x));
+  const m = common.length;
+  const sameK = sameClusterPairs(common, inK);
+  const sameR = sameClusterPairs(common, inR);
+  const sameBoth = sameClusterPairs(common, new Map(common.map((x) => [x, `${inK.get(x)}/${inR.get(x)}`])));
+  const nBoth = (m * (m - 1)) / 2 - sameK - sameR + sameBoth;
+  const c = score(ratio(cBoth, ck), ratio(cBoth, cr));
+  const n = score(ratio(nBoth, nk), ratio(nBoth, nr));
+  if (ck === 0 && cr === 0) return n;
+  if (nk === 0 && nr === 0) return c;
+  return { recall: (c.recall + n.recall) / 2, precision: (c.precision + n.precision) / 2, f1: (c.f1 + n.f1) / 2 };
+}
+
+function sameClusterPairs(xs: readonly string[], clusterOfX: Map<string, number | string>): number {
+  const counts = new Map<number | string, number>();
+  for (const x of xs) counts.set(clusterOfX.get(x)!, (counts.get(clusterOfX.get(x)!) ?? 0) + 1);
+  let s = 0;
+  for (const n of counts.values()) s += (n * (n - 1)) / 2;
+  return s;
+}
+
+/**
+ * LEA: each cluster weighs its size; it scores the share of its links the other side
+ * keeps. A singleton scores 1 when the other side also has it as a singleton (the
+ * self-link of the coval implementation, ns-moosavi/coval, coval/eval/evaluator.py).
+ */
+export function leaScore(key: Partition, response: Partition): Score {
+  const side = (a: Partition, b: Partition): number => {
+    const inB = clusterOf(b);
+    let num = 0;
+    let den = 0;
+    for (const c of a) {
+      let resolution: number;
+      if (c.length === 1) {
+        const j = inB.get(c[0]!);
+        resolution = j !== undefined && b[j]!.length === 1 ? 1 : 0;
+      } else {
+        const counts = new Map<number, number>();
+        for (const x of c) {
+          const j = inB.get(x);
+          if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
+        }
+        let common = 0;
+        for (const n of counts.values()) common += (n * (n - 1)) / 2;
+        resolution = common / ((c.length * (c.length - 1)) / 2);
+      }
+      num += c.length * resolution;
+      den += c.length;
+    }
+    return ratio(num, den);
+  };
+  return score(side(key, response), side(response, key));
+}

@@ -1,0 +1,250 @@
+/**
+ * `strandline eval`: runs the input through the same pipeline as live ingest (minus
+ * splitting), in one or both settings, scores the answer with every partition metric,
+ * extended BCubed and pairwise link scores by link type, and runs the baselines on the
+ * same mentions and vectors, side by side. Optionally sweeps the link threshold.
+ */
+import { from, lastValueFrom, toArray } from 'rxjs';
+import type { Config } from '../config/schema.js';
+import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
+import { type LinkerOptions, OnlineLinker } from '../link/online-linker.js';
+import type { Logger } from '../logger.js';
+import { runPipeline } from '../pipeline.js';
+import type { EmbeddedMention } from '../records.js';
+import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
+import { createNlp } from '../text/nlp.js';
+import { type Clustering, allSingletons, batchAverageLink, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
+import type { EvalInput } from './eval-input.js';
+import { extendedBcubed } from './extended-bcubed.js';
+import { type PairKind, type PairScores, pairwiseLinkScores } from './pairwise-links.js';
+import { type PartitionScores, type Score, f1, scorePartitions } from './partition-metrics.js';
+import { type Setting, mentionKey, prepareMentions, selector, toArticles } from './prepare-mentions.js';
+
+/** How to run an evaluation. */
+export interface EvalOptions {
+  config: Readonly<Config>;
+  settings: readonly Setting[];
+  /** Link thresholds to sweep (gold-mention setting when run, else the first setting), or null. */
+  sweep: readonly number[] | null;
+  /** Name of the input, for the report. */
+  source: string;
+  logger: Logger;
+}
+
+/** Scores of one system in one setting. */
+export interface SystemResult {
+  name: string;
+  kind: 'linker' | 'baseline';
+  partition: PartitionScores;
+  extendedBcubed: Score;
+  pairwise: Record<PairKind, PairScores>;
+  /** Wall time of the system's clustering on prepared mentions, seconds. */
+  seconds: number;
+  events: number;
+}
+
+/** Everything measured in one setting. */
+export interface SettingResult {
+  setting: Setting;
+  goldMentions: number;
+  systemMentions: number;
+  /** Mention detection against the gold (predicted setting, sentence-level gold only). */
+  detection: Score | null;
+  /** Wall time of the whole pipeline (analysis, detection, embedding, linking, storing), seconds. */
+  pipelineSeconds: number;
+  /** True when linking the prepared mentions gave the same events as the pipeline run. */
+  linkStepMatchesPipeline: boolean;
+  systems: SystemResult[];
+  /** The linker's answer for every scored mention: the event ids it gave, best first. */
+  answer: { article: string; sentence: number | null; events: string[] }[];
+  rejected: { article: string; reason: string }[];
+}
+
+/** One point of the threshold sweep. */
+export interface SweepPoint {
+  threshold: number;
+  conllF1: number;
+  pairwise: { precision: number; recall: number; f1: number };
+  b3: Score;
+}
+
+/** The whole evaluation. */
+export interface EvalReport {
+  source: string;
+  created: string;
+  input: { articles: number; level: 'sentence' | 'article'; goldLines: number; goldEvents: number; scoped: boolean; subtopics: boolean };
+  configuration: { detectThreshold: number; linkThreshold: number; halfLifeDays: number; secondaryMargin: number };
+  primaryRule: string;
+  settings: SettingResult[];
+  sweep: { setting: Setting; points: SweepPoint[] } | null;
+}
+
+/** The rule that picks one gold event per mention for the partition scores. */
+export const PRIMARY_RULE =
+  'Partition scores (MUC, B3, CEAF, LEA, BLANC, CoNLL) need one event per mention: a gold mention takes the event of its first gold line in file order, a system mention its best-scoring link. Extended BCubed and the pairwise scores use every event of every mention.';
+
+/** Runs the evaluation. */
+export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalReport> {
+  const log = o.logger.child({ stage: 'eval' });
+  const startedAt = new Date().toISOString();
+  const articles = toArticles(input, o.source, startedAt);
+  const nlp = createNlp();
+  const gold = goldMemberships(input);
+  const subtopics = input.articles.some((a) => a.subtopic !== null);
+  const meta = new Map(input.articles.map((a) => [a.id, a]));
+  const storyOf = subtopics ? (id: string) => meta.get(id)?.subtopic ?? null : undefined;
+  const articleOf = (key: string) => key.slice(0, key.lastIndexOf('#'));
+  const inScope = (key: string) => !input.scope || input.scope.has(key);
+  const score = (system: Clustering, name: string, kind: SystemResult['kind'], seconds: number): SystemResult => {
+    const g = restrict(gold, inScope);
+    const s = restrict(system, inScope);
+    return {
+      name, kind, seconds,
+      partition: scorePartitions(partition(g), partition(s)),
+      extendedBcubed: extendedBcubed(toSets(g), toSets(s)),
+      pairwise: pairwiseLinkScores(toSets(g), toSets(s), articleOf, storyOf),
+      events: new Set([...s.values()].flat()).size,
+    };
+  };
+
+  const settings: SettingResult[] = [];
+  let sweep: EvalReport['sweep'] = null;
+  for (const setting of o.settings) {
+    const select = selector(input, setting);
+    const store = openSqliteStore(':memory:');
+    const t0 = performance.now();
+    const outcomes = await lastValueFrom(runPipeline(from(articles), {
+      config: o.config, nlp, embedder: new TfidfEmbedder(o.config.embed.hashBits), linker: new OnlineLinker(o.config.link), store, logger: o.logger,
+      now: () => new Date(startedAt), selectMentions: select,
+    }).pipe(toArray()));
+    const pipelineSeconds = (performance.now() - t0) / 1000;
+    await store.close();
+    const linked: Clustering = new Map();
+    for (const out of outcomes) for (const a of out.assignments) linked.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
+
+    const prepared = prepareMentions(nlp, articles, select, o.config.detect.threshold, o.config.embed.hashBits);
+    const flat = prepared.flat();
+    const { clustering: stepOnly, seconds: linkSeconds } = timed(() => linkPrepared(prepared, o.config.link));
+    const result: SettingResult = {
+      setting,
+      goldMentions: [...gold.keys()].filter(inScope).length,
+      systemMentions: [...linked.keys()].filter(inScope).length,
+      detection: setting === 'predicted' && input.level === 'sentence' ? detectionScore(gold, linked, inScope) : null,
+      pipelineSeconds,
+      linkStepMatchesPipeline: samePartition(stepOnly, linked),
+      systems: [score(linked, 'Strandline linker', 'linker', linkSeconds)],
+      answer: [...linked].filter(([k]) => inScope(k)).map(([k, events]) => ({ article: articleOf(k), sentence: sentenceOf(k), events })),
+      rejected: outcomes.filter((x) => x.status === 'rejected').map((x) => ({ article: x.articleId, reason: x.reason ?? '' })),
+    };
+    const groupOf = (id: string) => meta.get(id)?.subtopic ?? meta.get(id)?.topic ?? null;
+    const { threshold, halfLifeDays } = o.config.link;
+    const baselines: [string, () => Clustering][] = [
+      ['baseline: all singletons', () => allSingletons(flat)],
+      ['baseline: one event per subtopic', () => onePerSubtopic(flat, groupOf)],
+      ['baseline: lexical overlap', () => lexicalOverlap(flat)],
+      ['baseline: online TF-IDF centroid', () => onlineCentroid(prepared, threshold, halfLifeDays)],
+      ['baseline: batch average-link (all pairs)', () => batchAverageLink(flat, threshold, halfLifeDays)],
+    ];
+    for (const [name, run] of baselines) {
+      const { clustering, seconds } = timed(run);
+      result.systems.push(score(clustering, name, 'baseline', seconds));
+    }
+    log.info({ setting, mentions: flat.length, seconds: pipelineSeconds }, 'setting scored');
+    settings.push(result);
+
+    const sweepSetting = o.settings.includes('gold') ? 'gold' : o.settings[0];
+    if (o.sweep && setting === sweepSetting) {
+      sweep = {
+        setting,
+        points: o.sweep.map((t) => {
+          const s = score(linkPrepared(prepared, { ...o.config.link, threshold: t }), 'sweep', 'linker', 0);
+          return { threshold: t, conllF1: s.partition.conllF1, pairwise: { precision: s.pairwise.all.precision, recall: s.pairwise.all.recall, f1: s.pairwise.all.f1 }, b3: s.partition.b3 };
+        }),
+      };
+    }
+  }
+  return {
+    source: o.source,
+    created: startedAt,
+    input: {
+      articles: input.articles.length, level: input.level, goldLines: input.gold.length, goldEvents: new Set(input.gold.map((g) => g.event)).size,
+      scoped: input.scope !== null, subtopics,
+    },
+    configuration: { detectThreshold: o.config.detect.threshold, linkThreshold: o.config.link.threshold, halfLifeDays: o.config.link.halfLifeDays, secondaryMargin: o.config.link.secondaryMargin },
+    primaryRule: PRIMARY_RULE,
+    settings,
+    sweep,
+  };
+}
+
+/** The default sweep: link thresholds 0.05 to 0.50 in steps of 0.025. */
+export function defaultSweep(): number[] {
+  return Array.from({ length: 19 }, (_, i) => Math.round((0.05 + i * 0.025) * 1000) / 1000);
+}
+
+/** The online linker alone on prepared mentions, article by article, as the link stage runs it. */
+export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], options: LinkerOptions): Clustering {
+  const linker = new OnlineLinker(options);
+  const out: Clustering = new Map();
+  for (const mentions of prepared) {
+    const plan = linker.plan(mentions);
+    linker.apply(plan);
+    for (const l of [...plan.links].sort((a, b) => a.rank - b.rank)) {
+      const k = mentionKey(l.articleId, l.sentenceIndex);
+      out.set(k, [...(out.get(k) ?? []), l.eventId]);
+    }
+  }
+  return out;
+}
+
+function timed(run: () => Clustering): { clustering: Clustering; seconds: number } {
+  const t0 = performance.now();
+  const clustering = run();
+  return { clustering, seconds: (performance.now() - t0) / 1000 };
+}
+
+function goldMemberships(input: EvalInput): Clustering {
+  const out: Clustering = new Map();
+  for (const g of input.gold) {
+    const k = mentionKey(g.article, g.sentence);
+    const list = out.get(k) ?? [];
+    if (!list.includes(g.event)) list.push(g.event);
+    out.set(k, list);
+  }
+  return out;
+}
+
+function restrict(c: Clustering, keep: (key: string) => boolean): Clustering {
+  return new Map([...c].filter(([k]) => keep(k)));
+}
+
+/** Clusters of mentions by their first (primary) event. */
+function partition(c: Clustering): string[][] {
+  const by = new Map<string, string[]>();
+  for (const [k, events] of c) by.set(events[0]!, [...(by.get(events[0]!) ?? []), k]);
+  return [...by.values()];
+}
+
+function toSets(c: Clustering): Map<string, Set<string>> {
+  return new Map([...c].map(([k, v]) => [k, new Set(v)]));
+}
+
+function samePartition(a: Clustering, b: Clustering): boolean {
+  const canon = (c: Clustering) => partition(c).map((x) => [...x].sort().join(' ')).sort().join('\n');
+  return canon(a) === canon(b);
+}
+
+function detectionScore(gold: Clustering, system: Clustering, inScope: (k: string) => boolean): Score {
+  const g = [...gold.keys()].filter(inScope);
+  const s = [...system.keys()].filter(inScope);
+  const sys = new Set(s);
+  const hit = g.filter((k) => sys.has(k)).length;
+  const recall = g.length ? hit / g.length : 0;
+  const precision = s.length ? hit / s.length : 0;
+  return { recall, precision, f1: f1(recall, precision) };
+}
+
+function sentenceOf(key: string): number | null {
+  const n = Number(key.slice(key.lastIndexOf('#') + 1));
+  return n < 0 ? null : n;
+}
