@@ -15,10 +15,10 @@ import { type DetectedArticle, type MentionSelection, detectMentions } from './d
 import type { Embedder } from './embed/embedder.js';
 import { TfidfEmbedder } from './embed/tfidf-embedder.js';
 import { describeError } from './errors.js';
-import { serialiseEvent, toRecord } from './link/event-state.js';
+import { type EventState, serialiseEvent, toRecord } from './link/event-state.js';
 import type { OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
-import { buildMessages } from './notify/messages.js';
+import { buildMergeMessages, buildMessages } from './notify/messages.js';
 import type { Article, EmbeddedMention } from './records.js';
 import type { Store } from './store/store.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
@@ -51,6 +51,8 @@ export interface ArticleOutcome {
   outletsAdded: number;
   /** Each linked sentence (-1: the whole article) with its events, best first. */
   assignments: { sentenceIndex: number; eventIds: string[] }[];
+  /** Merges consolidation made after this article (event `from` now lives in `into`). */
+  merges: { from: string; into: string; score: number }[];
 }
 
 type Flow<T> = { go: T; done?: undefined } | { go?: undefined; done: ArticleOutcome };
@@ -62,12 +64,13 @@ interface EmbeddedArticle extends DetectedArticle {
 /** Runs articles through every stage; emits one outcome per article. */
 export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext): Observable<ArticleOutcome> {
   const admit = admitStage(ctx);
+  const consolidation = consolidationCadence(ctx);
   return articles$.pipe(
     concatMap((a) => defer(() => admit(a))),
     stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
     stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold, ctx.selectMentions?.(a.article))),
     stage('embed', ctx, (a: DetectedArticle) => embedStage(ctx, a)),
-    concatMap((f: Flow<EmbeddedArticle>) => (f.done ? of(f.done) : defer(() => linkStage(ctx, f.go)))),
+    concatMap((f: Flow<EmbeddedArticle>) => (f.done ? of(f.done) : defer(() => linkStage(ctx, f.go, consolidation)))),
   );
 }
 
@@ -112,7 +115,45 @@ async function embedStage(ctx: PipelineContext, a: DetectedArticle): Promise<Emb
   return { ...a, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) };
 }
 
-async function linkStage(ctx: PipelineContext, a: EmbeddedArticle): Promise<ArticleOutcome> {
+/**
+ * Consolidation runs after every `consolidateEvery` stored articles, counted over the
+ * whole store so that a restarted process keeps the same cadence, over the events the
+ * last that-many articles touched.
+ */
+function consolidationCadence(ctx: PipelineContext): () => Promise<ArticleOutcome['merges']> {
+  const every = ctx.config.link.consolidateEvery;
+  let stored: number | null = null;
+  return async () => {
+    if (every === 0) return [];
+    stored = stored === null ? (await ctx.store.counts()).articles : stored + 1;
+    if (stored % every !== 0) return [];
+    return consolidate(ctx, await ctx.store.recentEventIds(every));
+  };
+}
+
+/** Merges the events among `ids` that turn out to be one; each merge is its own commit. */
+export async function consolidate(ctx: PipelineContext, ids: Iterable<string>): Promise<ArticleOutcome['merges']> {
+  const done: ArticleOutcome['merges'] = [];
+  for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
+    const merged = ctx.linker.mergedState(m.into, m.from);
+    const at = ctx.now().toISOString();
+    await ctx.store.commitMerge({
+      into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
+      from: m.from, score: m.score, at,
+      messages: buildMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.linker.applyMerge(merged, m.from);
+    done.push(m);
+  }
+  if (done.length) ctx.logger.child({ stage: 'link' }).debug({ merges: done.length }, 'consolidation merged events');
+  return done;
+}
+
+function outletRows(e: EventState): { outlet: string; mentions: number; independent: number }[] {
+  return [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent }));
+}
+
+async function linkStage(ctx: PipelineContext, a: EmbeddedArticle, consolidation: () => Promise<ArticleOutcome['merges']>): Promise<ArticleOutcome> {
   const plan = ctx.linker.plan(a.embedded);
   const idf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder.takeDelta() : null;
   try {
@@ -121,11 +162,7 @@ async function linkStage(ctx: PipelineContext, a: EmbeddedArticle): Promise<Arti
       sentences: a.sentences.map((s, i) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[i]! })),
       mentions: a.mentions,
       links: plan.links,
-      events: plan.events.map((e) => ({
-        record: toRecord(e),
-        outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
-        state: serialiseEvent(e),
-      })),
+      events: plan.events.map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
       idf,
       messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
     });
@@ -135,6 +172,13 @@ async function linkStage(ctx: PipelineContext, a: EmbeddedArticle): Promise<Arti
     return outcome(a.article, 'rejected', describeError(err));
   }
   ctx.linker.apply(plan);
+  let merges: ArticleOutcome['merges'] = [];
+  try {
+    merges = await consolidation();
+  } catch (err) {
+    // The article is stored; a failed merge is retried at the next pass.
+    ctx.logger.child({ stage: 'link' }).error({ err: describeError(err) }, 'consolidation failed');
+  }
   return {
     ...outcome(a.article, 'stored', null),
     sentences: a.sentences.length,
@@ -143,6 +187,7 @@ async function linkStage(ctx: PipelineContext, a: EmbeddedArticle): Promise<Arti
     opened: plan.opened.length,
     outletsAdded: plan.outletsAdded.length,
     assignments: assignments(plan.links),
+    merges,
   };
 }
 
@@ -153,5 +198,5 @@ function assignments(links: readonly { sentenceIndex: number; eventId: string; r
 }
 
 function outcome(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
-  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [] };
+  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [] };
 }

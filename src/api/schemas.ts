@@ -118,10 +118,16 @@ export const getEventSchema = {
           type: 'array',
           items: { type: 'object', properties: { day: str, mentions: int, newOutlets: strings }, required: ['day', 'mentions', 'newOutlets'] },
         },
+        merges: {
+          type: 'array',
+          description: 'Events that consolidation found to be this one and merged into it.',
+          items: { type: 'object', properties: { from: str, into: str, score: num, at: str }, required: ['from', 'into', 'score', 'at'] },
+        },
         caution: str,
       },
-      required: ['event', 'byOutlet', 'timeline', 'caution'],
+      required: ['event', 'byOutlet', 'timeline', 'merges', 'caution'],
     },
+    308: { description: 'The event was merged into another; Location names it.', type: 'null' },
     404: errorSchema,
   },
 } as const;

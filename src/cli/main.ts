@@ -7,6 +7,7 @@ import { replayCommand } from './commands/replay.js';
 import { serveCommand } from './commands/serve.js';
 import { forgetCommand } from './commands/forget.js';
 import { evalCommand, exportDemoCommand } from './commands/eval.js';
+import { consolidateCommand } from './commands/consolidate.js';
 
 function integer(name: string, min: number, max: number) {
   return (value: string): number => {
@@ -55,6 +56,10 @@ common(program.command('forget'))
   .option('--article <id>', 'one article')
   .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
   .action(async (opts) => exit(await forgetCommand(opts)));
+
+common(program.command('consolidate'))
+  .description('merge stored events that turn out to be one (also runs by itself every link.consolidateEvery articles)')
+  .action(async (opts) => exit(await consolidateCommand(opts)));
 
 common(program.command('eval'))
   .description('score linking against annotated news: partition metrics, link types, baselines side by side; writes report.json and report.html')

@@ -20,6 +20,8 @@ export interface RunSummary {
   mentions: number;
   links: number;
   eventsOpened: number;
+  /** Events consolidation found to be one with another and merged. */
+  eventsMerged: number;
   problems: IngestProblem[];
   seconds: number;
 }
@@ -36,7 +38,7 @@ export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { 
   const input = await readReplayInput(sources, rt.config.ingest);
   const summary: RunSummary = {
     files: input.files.length, articlesRead: input.articles.length, stored: 0, alreadyStored: 0, copies: 0, rejected: [],
-    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, problems: input.problems, seconds: 0,
+    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0,
   };
   hooks.onRead?.(input.articles.length);
   const pace = opts.paceMs ?? 0;
@@ -52,6 +54,7 @@ export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { 
         summary.mentions += o.mentions;
         summary.links += o.links;
         summary.eventsOpened += o.opened;
+        summary.eventsMerged += o.merges.length;
       } else if (o.status === 'duplicate') {
         summary.alreadyStored++;
       } else {
@@ -89,7 +92,7 @@ export function formatSummary(s: RunSummary): string {
   const lines = [
     `read      ${s.files} feed file(s), ${s.articlesRead} article(s)`,
     `stored    ${s.stored} article(s)${s.copies ? `, of which ${s.copies} verbatim copies of earlier articles` : ''}; ${s.alreadyStored} already stored before`,
-    `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s)`,
+    `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others`,
     `time      ${s.seconds.toFixed(1)} s${s.sentences ? ` (${Math.round(s.sentences / s.seconds)} sentences/s)` : ''}`,
   ];
   const problems = [

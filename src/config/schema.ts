@@ -12,7 +12,7 @@ const subscriberSchema = z.strictObject({
   /** Standard Webhooks secret: `whsec_` followed by base64 (24 to 64 bytes). */
   secret: z.string().regex(/^whsec_[A-Za-z0-9+/]{32,88}={0,2}$/, 'must be whsec_ followed by base64'),
   /** Which notifications to send. Default: all. */
-  types: z.array(z.enum(['event.opened', 'event.outlet_added'])).min(1).default(['event.opened', 'event.outlet_added']),
+  types: z.array(z.enum(['event.opened', 'event.outlet_added', 'event.merged'])).min(1).default(['event.opened', 'event.outlet_added', 'event.merged']),
 });
 
 /** The full configuration. */
@@ -58,12 +58,21 @@ export const configSchema = z.strictObject({
     postingLimit: z.number().int().min(8).default(256),
     /** Index keys looked up per mention (its rarest terms). Default 16. */
     lookupTerms: z.number().int().min(1).default(16),
-    /** Extra score for shared rare participants and places, at most. Default 0.1. */
+    /** Relative boost of the score for shared rare participants and places, at most (0.1 = +10 %). Default 0.1. */
     overlapWeight: z.number().min(0).max(1).default(0.1),
     /** A further link for the same sentence needs at least threshold + this. Default 0.1. */
     secondaryMargin: z.number().min(0).max(1).default(0.1),
     /** Terms kept per event centroid. Default 300. */
     centroidTerms: z.number().int().min(16).default(300),
+    /** Consolidation runs after every this many stored articles, over the events they touched; 0 turns it off. Default 25. */
+    consolidateEvery: z.number().int().min(0).default(25),
+    /**
+     * Two events merge when their centroids' cosine times the time decay between them
+     * reaches this. Default 0.4, twice the link threshold: centroids of one event agree more
+     * than a sentence agrees with a centroid. Improved CoNLL F1 on the demo, meantime-en
+     * and a synthetic stream alike from 0.3 to 0.6.
+     */
+    mergeThreshold: z.number().min(0).max(1).default(0.4),
   }).prefault({}),
   webhooks: z.strictObject({
     subscribers: z.array(subscriberSchema).default([]),

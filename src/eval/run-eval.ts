@@ -119,8 +119,13 @@ export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalRep
     }).pipe(toArray()));
     const pipelineSeconds = (performance.now() - t0) / 1000;
     await store.close();
-    const linked: Clustering = new Map();
-    for (const out of outcomes) for (const a of out.assignments) linked.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
+    const assigned: Clustering = new Map();
+    const redirect = new Map<string, string>();
+    for (const out of outcomes) {
+      for (const a of out.assignments) assigned.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
+      for (const m of out.merges) redirect.set(m.from, m.into);
+    }
+    const linked = resolveMerges(assigned, redirect);
 
     const prepared = prepareMentions(nlp, articles, select, o.config.detect.threshold, o.config.embed.hashBits);
     const flat = prepared.flat();
@@ -182,19 +187,49 @@ export function defaultSweep(): number[] {
   return Array.from({ length: 19 }, (_, i) => Math.round((0.05 + i * 0.025) * 1000) / 1000);
 }
 
-/** The online linker alone on prepared mentions, article by article, as the link stage runs it. */
-export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], options: LinkerOptions): Clustering {
+/**
+ * The online linker alone on prepared mentions, article by article, as the link stage
+ * runs it, consolidation included (same cadence, same working set).
+ */
+export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], options: LinkerOptions & { consolidateEvery: number; mergeThreshold: number }): Clustering {
   const linker = new OnlineLinker(options);
   const out: Clustering = new Map();
-  for (const mentions of prepared) {
+  const redirect = new Map<string, string>();
+  const resolve = (id: string): string => {
+    let e = id;
+    while (redirect.has(e)) e = redirect.get(e)!;
+    return e;
+  };
+  const touched: string[][] = [];
+  prepared.forEach((mentions, i) => {
     const plan = linker.plan(mentions);
     linker.apply(plan);
     for (const l of [...plan.links].sort((a, b) => a.rank - b.rank)) {
       const k = mentionKey(l.articleId, l.sentenceIndex);
       out.set(k, [...(out.get(k) ?? []), l.eventId]);
     }
-  }
-  return out;
+    touched.push(plan.links.map((l) => l.eventId));
+    const every = options.consolidateEvery;
+    if (every > 0 && (i + 1) % every === 0) {
+      const ids = [...new Set(touched.slice(-every).flat().map(resolve))].sort();
+      for (const m of linker.planMerges(ids, options.mergeThreshold)) {
+        linker.applyMerge(linker.mergedState(m.into, m.from), m.from);
+        redirect.set(m.from, m.into);
+      }
+    }
+  });
+  return resolveMerges(out, redirect);
+}
+
+/** Rewrites event ids through merges (chains followed), keeping each mention's events distinct. */
+function resolveMerges(c: Clustering, redirect: ReadonlyMap<string, string>): Clustering {
+  if (redirect.size === 0) return c;
+  const resolve = (id: string): string => {
+    let e = id;
+    while (redirect.has(e)) e = redirect.get(e)!;
+    return e;
+  };
+  return new Map([...c].map(([k, events]) => [k, [...new Set(events.map(resolve))]]));
 }
 
 function timed(run: () => Clustering): { clustering: Clustering; seconds: number } {

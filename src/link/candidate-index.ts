@@ -31,6 +31,8 @@ export class CandidateIndex {
   private readonly keyEvents = new Map<string, number>();
   private readonly handles = new Map<string, number>();
   private readonly ids: string[] = [];
+  /** Handles of merged-away events; skipped by lookups and dropped from postings lazily. */
+  private readonly removed = new Set<number>();
   private votes = new Float64Array(1024);
   private marks = new Uint32Array(1024);
   private lastTouch = new Float64Array(1024);
@@ -45,6 +47,13 @@ export class CandidateIndex {
     this.lastTouch[h] = ++this.clock;
     for (const key of keys) this.touch(key, h);
     this.touch(RECENT, h);
+  }
+
+  /** Forgets an event (merged into another): it is no longer returned by lookups. */
+  remove(eventId: string): void {
+    const h = this.handles.get(eventId);
+    if (h === undefined) return;
+    this.removed.add(h);
   }
 
   /** Counts one more event carrying a participant or place key. */
@@ -81,6 +90,7 @@ export class CandidateIndex {
     const best: number[] = [];
     const better = (a: number, b: number): boolean => votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
     for (const h of touched) {
+      if (this.removed.size > 0 && this.removed.has(h)) continue;
       if (best.length === limit && !better(h, best[limit - 1]!)) continue;
       let i = best.length === limit ? limit - 1 : best.length;
       if (best.length < limit) best.push(h);

@@ -32,6 +32,12 @@ export interface EventState {
   version: number;
 }
 
+/**
+ * Stated times wider than this (a month, a year) place an event too vaguely to tell it
+ * from its neighbours; they are left out of its span.
+ */
+const MAX_STATED_SPAN_DAYS = 7;
+
 /** The day span a mention places its event in: its resolved times, else the day of and before publication. */
 export function mentionSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] {
   return explicitSpan(m) ?? implicitSpan(m);
@@ -45,7 +51,7 @@ function implicitSpan(m: Pick<EmbeddedMention, 'published'>): [number, number] {
 /** The span of a mention's own time expressions, ignoring any more than a year from publication (background). */
 function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] | null {
   const pub = dayNumber(m.published.slice(0, 10));
-  const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366);
+  const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366 && dayNumber(t.end) - dayNumber(t.start) <= MAX_STATED_SPAN_DAYS);
   if (near.length === 0) return null;
   let lo = Infinity;
   let hi = -Infinity;
@@ -107,6 +113,53 @@ export function addMention(e: EventState, m: EmbeddedMention, weight: number, ce
   const o = e.outlets.get(m.outlet) ?? [0, 0];
   e.outlets.set(m.outlet, [o[0] + 1, o[1] + (m.isCopy ? 0 : 1)]);
   e.version++;
+}
+
+/** Cosine similarity of two events' centroids. */
+export function centroidCosine(a: EventState, b: EventState): number {
+  if (a.norm === 0 || b.norm === 0) return 0;
+  let dot = 0;
+  if (a.dense && b.dense) {
+    for (let i = 0; i < a.dense.length; i++) dot += a.dense[i]! * b.dense[i]!;
+  } else {
+    const [small, large] = a.sparse.size <= b.sparse.size ? [a.sparse, b.sparse] : [b.sparse, a.sparse];
+    for (const [f, w] of small) dot += w * (large.get(f) ?? 0);
+  }
+  return dot / (a.norm * b.norm);
+}
+
+/** The union of two events, under the id of `into`. */
+export function mergeStates(into: EventState, from: EventState, centroidTerms: number): EventState {
+  const m = cloneEvent(into);
+  for (const [f, w] of from.sparse) m.sparse.set(f, (m.sparse.get(f) ?? 0) + w);
+  if (m.sparse.size > centroidTerms * 1.5) m.sparse = new Map([...m.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, centroidTerms));
+  if (from.dense) {
+    m.dense ??= new Float64Array(from.dense.length);
+    for (let i = 0; i < from.dense.length; i++) m.dense[i]! += from.dense[i]!;
+  }
+  let sq = 0;
+  if (m.dense) for (const v of m.dense) sq += v * v;
+  for (const w of m.sparse.values()) sq += w * w;
+  m.norm = Math.sqrt(sq);
+  if (from.explicitTime && !m.explicitTime) {
+    m.timeStart = from.timeStart;
+    m.timeEnd = from.timeEnd;
+    m.explicitTime = true;
+  } else if (from.explicitTime === m.explicitTime) {
+    m.timeStart = Math.min(m.timeStart, from.timeStart);
+    m.timeEnd = Math.max(m.timeEnd, from.timeEnd);
+  }
+  if (from.firstSeen < m.firstSeen) m.firstSeen = from.firstSeen;
+  if (from.lastSeen > m.lastSeen) m.lastSeen = from.lastSeen;
+  m.mentionCount += from.mentionCount;
+  for (const [k, [surface, n]] of from.participants) m.participants.set(k, [m.participants.get(k)?.[0] ?? surface, (m.participants.get(k)?.[1] ?? 0) + n]);
+  for (const [k, [surface, n]] of from.places) m.places.set(k, [m.places.get(k)?.[0] ?? surface, (m.places.get(k)?.[1] ?? 0) + n]);
+  for (const [k, [a, b]] of from.outlets) {
+    const cur = m.outlets.get(k) ?? [0, 0];
+    m.outlets.set(k, [cur[0] + a, cur[1] + b]);
+  }
+  m.version++;
+  return m;
 }
 
 /** A deep copy, so a link plan can change an event without touching committed state. */

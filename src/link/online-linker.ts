@@ -11,7 +11,7 @@
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention, Link } from '../records.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
-import { addMention, cloneEvent, type EventState, nameKey, openEvent } from './event-state.js';
+import { addMention, centroidCosine, cloneEvent, type EventState, mergeStates, nameKey, openEvent } from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 
 /** Linker settings (see config schema for defaults and reasons). */
@@ -110,10 +110,11 @@ export class OnlineLinker {
 
       const chosen: { sc: ScoredCandidate | null; id: string }[] = [];
       const best = scored[0];
-      if (best && best.score >= this.o.threshold) {
+      const threshold = this.o.threshold;
+      if (best && best.score >= threshold) {
         chosen.push({ sc: best, id: best.event.id });
         for (const sc of scored.slice(1)) {
-          if (chosen.length >= MAX_LINKS_PER_SENTENCE || sc.score < this.o.threshold + this.o.secondaryMargin) break;
+          if (chosen.length >= MAX_LINKS_PER_SENTENCE || sc.score < threshold + this.o.secondaryMargin) break;
           chosen.push({ sc, id: sc.event.id });
         }
       } else {
@@ -151,12 +152,64 @@ export class OnlineLinker {
     return { links, events: [...overlay.values()], opened, outletsAdded, keys, newNameKeys };
   }
 
+  /**
+   * Consolidation: finds events that turn out to be one. Each event touched since the
+   * last pass looks up its candidates in the index (as a mention would, with its centroid
+   * as the query) and pairs scoring at least `mergeThreshold` (cosine of the centroids x
+   * the time decay between their spans) are merged, the older event absorbing the newer.
+   * Returns the merges without applying them.
+   */
+  planMerges(eventIds: Iterable<string>, mergeThreshold: number): MergePlan[] {
+    const merges: MergePlan[] = [];
+    const gone = new Set<string>();
+    for (const id of eventIds) {
+      const e = this.events.get(id);
+      if (!e || gone.has(id)) continue;
+      const keys = [...topTermKeys(e, this.o.lookupTerms)].map((key) => ({ key, weight: 1 }));
+      for (const other of this.index.lookup(keys, this.o.maxCandidates, 0)) {
+        if (other === id || gone.has(other)) continue;
+        const f = this.events.get(other);
+        if (!f) continue;
+        const sim = centroidCosine(e, f);
+        const gap = Math.max(0, f.timeStart - e.timeEnd, e.timeStart - f.timeEnd);
+        const score = sim * Math.pow(0.5, gap / this.o.halfLifeDays);
+        if (score < mergeThreshold) continue;
+        const [into, from] = e.firstSeen <= f.firstSeen ? [e, f] : [f, e];
+        merges.push({ into: into.id, from: from.id, score });
+        gone.add(from.id);
+        if (from.id === id) break;
+      }
+    }
+    return merges;
+  }
+
+  /** The merged state of `into` after absorbing `from` (neither is changed). */
+  mergedState(into: string, from: string): EventState {
+    return mergeStates(this.events.get(into)!, this.events.get(from)!, this.o.centroidTerms);
+  }
+
+  /** Applies a committed merge: the absorbed event leaves, the survivor takes its keys. */
+  applyMerge(merged: EventState, from: string): void {
+    const gone = this.events.get(from);
+    this.events.delete(from);
+    this.events.set(merged.id, merged);
+    this.index.add(merged.id, [...topTermKeys(merged, this.o.lookupTerms), ...[...merged.participants.keys(), ...merged.places.keys()].map((k) => `p:${k}`)]);
+    if (gone) this.index.remove(from);
+  }
+
   /** Makes a committed plan part of the linker's state. */
   apply(plan: LinkPlan): void {
     for (const e of plan.events) this.events.set(e.id, e);
     for (const k of plan.newNameKeys) this.index.countKey(k);
     for (const [id, ks] of plan.keys) this.index.add(id, [...new Set(ks)]);
   }
+}
+
+/** One merge found by consolidation. */
+export interface MergePlan {
+  into: string;
+  from: string;
+  score: number;
 }
 
 /** Deterministic event id from the mention that opens it: replaying the same mention opens the same id. */

@@ -7,27 +7,21 @@
  */
 import { createHash } from 'node:crypto';
 import type { Subscriber } from '../config/schema.js';
-import type { LinkPlan } from '../link/online-linker.js';
-import { toRecord } from '../link/event-state.js';
+import type { LinkPlan, MergePlan } from '../link/online-linker.js';
+import { type EventState, toRecord } from '../link/event-state.js';
 import type { EmbeddedMention } from '../records.js';
 import type { OutboxMessage } from '../store/store.js';
 
 /** Notification types a subscriber can ask for. */
-export type NotificationType = 'event.opened' | 'event.outlet_added';
+export type NotificationType = 'event.opened' | 'event.outlet_added' | 'event.merged';
 
 /** The outbox messages for one committed plan; none when nobody subscribes. */
 export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
   if (subscribers.length === 0) return [];
-  const created = now.toISOString();
   const events = new Map(plan.events.map((e) => [e.id, e]));
   const mentionOf = (articleId: string, sentenceIndex: number) => mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);
   const out: OutboxMessage[] = [];
-  const push = (type: NotificationType, key: string, data: unknown): void => {
-    const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);
-    if (to.length === 0) return;
-    const id = `msg_${createHash('sha256').update(`${type}\n${key}`).digest('hex').slice(0, 24)}`;
-    out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created, subscribers: to });
-  };
+  const push = messageSink(out, subscribers, now);
   for (const id of plan.opened) {
     const link = plan.links.find((l) => l.eventId === id)!;
     const m = mentionOf(link.articleId, link.sentenceIndex);
@@ -49,4 +43,26 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
     });
   }
   return out;
+}
+
+/** The "event.merged" notification for one consolidation merge. */
+export function buildMergeMessages(m: MergePlan, merged: EventState, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  messageSink(out, subscribers, now)('event.merged', `${m.from}\n${m.into}`, {
+    event: toRecord(merged),
+    mergedFrom: m.from,
+    score: m.score,
+    note: 'Automatic consolidation: a machine suggestion to verify before publishing or acting on it.',
+  });
+  return out;
+}
+
+function messageSink(out: OutboxMessage[], subscribers: readonly Subscriber[], now: Date): (type: NotificationType, key: string, data: unknown) => void {
+  const created = now.toISOString();
+  return (type, key, data) => {
+    const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);
+    if (to.length === 0) return;
+    const id = `msg_${createHash('sha256').update(`${type}\n${key}`).digest('hex').slice(0, 24)}`;
+    out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created, subscribers: to });
+  };
 }

@@ -34,6 +34,23 @@ export interface OutboxMessage {
   subscribers: string[];
 }
 
+/** One consolidation merge, committed atomically: `from` disappears into `into`. */
+export interface MergeCommit {
+  into: EventUpdate;
+  from: string;
+  score: number;
+  at: string;
+  messages: OutboxMessage[];
+}
+
+/** A merge as recorded. */
+export interface MergeRecord {
+  from: string;
+  into: string;
+  score: number;
+  at: string;
+}
+
 /** Everything one article changes, committed atomically. */
 export interface ArticleCommit {
   article: Article;
@@ -105,6 +122,8 @@ export interface EventMention {
 export interface EventDetail {
   event: EventSummary;
   mentions: EventMention[];
+  /** Events consolidation merged into this one. */
+  merges: MergeRecord[];
 }
 
 /** A sentence of an article with its links. */
@@ -149,6 +168,14 @@ export interface Store {
   findByContentHash(hash: string): Promise<string | null>;
   /** Commits one article's results in one transaction; a second commit of the same id changes nothing. */
   commitArticle(c: ArticleCommit): Promise<CommitResult>;
+  /** Merges one event into another: links move, the absorbed event leaves, the merge is recorded. */
+  commitMerge(m: MergeCommit): Promise<void>;
+  /** Events linked from the last `articles` stored articles (consolidation's working set). */
+  recentEventIds(articles: number): Promise<string[]>;
+  /** The event an absorbed event now lives in (following chains), or null. */
+  mergedInto(id: string): Promise<string | null>;
+  /** Merges into an event, oldest first. */
+  mergesInto(id: string): Promise<MergeRecord[]>;
   /** Everything the linker and embedder need to resume. */
   loadLinkerState(): Promise<LinkerSnapshot>;
   listEvents(q: EventQuery): Promise<EventPage>;

@@ -4,7 +4,7 @@
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
-import { addMention, deserialiseEvent, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
+import { addMention, deserialiseEvent, mergeStates, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
 import type { ArticleCommit, Store } from '../../src/store/store.js';
 
@@ -167,6 +167,31 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.recordAttempt('msg_1', 'two', { status: 'dead', attempts: 8, nextAt: '2026-10-05T16:00:00.000Z', error: 'HTTP 500' });
       expect(await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).toEqual([]);
       expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
+    });
+
+    it('merges one event into another: links move, the absorbed event leaves, the merge is recorded', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      const second = commitFor(a2, 'The warehouse blaze burned for hours.', null);
+      await store.commitArticle(first.commit);
+      await store.commitArticle(second.commit);
+      expect(await store.recentEventIds(1)).toEqual([second.event.id]);
+      expect((await store.recentEventIds(5)).sort()).toEqual([first.event.id, second.event.id].sort());
+      const merged = mergeStates(first.event, second.event, 300);
+      await store.commitMerge({
+        into: { record: toRecord(merged), outlets: [...merged.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(merged) },
+        from: second.event.id, score: 0.45, at: '2026-10-08T09:00:00.000Z', messages: [],
+      });
+      expect(await store.getEvent(second.event.id)).toBeNull();
+      expect(await store.mergedInto(second.event.id)).toBe(first.event.id);
+      expect(await store.mergedInto(first.event.id)).toBeNull();
+      const d = await store.getEvent(first.event.id);
+      expect(d!.mentions.map((m) => m.articleId)).toEqual(['a1', 'a2']);
+      expect(d!.event.outlets).toEqual(['EBS News', 'The Vellmouth Courier']);
+      expect(d!.merges).toEqual([{ from: second.event.id, into: first.event.id, score: 0.45, at: '2026-10-08T09:00:00.000Z' }]);
+      expect((await store.counts()).events).toBe(1);
+      expect((await store.getArticle('a2'))!.sentences[0]!.links.map((l) => l.eventId)).toEqual([first.event.id]);
     });
 
     it('erases stored text on demand and by age, keeping links and events', async () => {

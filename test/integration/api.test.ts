@@ -70,6 +70,23 @@ describe('the query API', () => {
     expect(body.caution).toMatch(/machine suggestions/);
   });
 
+  it('sends a client asking for a merged-away event to the event it was merged into', async () => {
+    const events = (await get('/api/events?limit=200&sort=mentions')).body.events as { id: string }[];
+    let merge: { from: string; into: string } | undefined;
+    for (const e of events) {
+      const d = (await get(`/api/events/${e.id}`)).body;
+      if (d.merges.length) {
+        merge = d.merges[0];
+        break;
+      }
+    }
+    // The demo has fragments of one event that consolidation joins (the Korrin Bay fire).
+    expect(merge).toBeDefined();
+    const r = await app.inject({ method: 'GET', url: `/api/events/${merge!.from}` });
+    expect(r.statusCode).toBe(308);
+    expect(r.headers.location).toBe(`/api/events/${merge!.into}`);
+  });
+
   it('answers unknown ids with 404 and a coded error', async () => {
     expect(await get('/api/events/ev_0000')).toMatchObject({ status: 404, body: { error: { code: 'STRAND_NOT_FOUND' } } });
     expect(await get(`/api/articles/${encodeURIComponent('https://nowhere.example/x')}`)).toMatchObject({ status: 404 });

@@ -1,4 +1,5 @@
 import { spawnSync } from 'node:child_process';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
@@ -12,6 +13,8 @@ describe('the command line', () => {
     ['replay', /--pace <ms>/],
     ['ingest', /feed URLs or files/],
     ['forget', /--before <day>/],
+    ['eval', /--scope <file>/],
+    ['consolidate', /merge stored events/],
   ])('explains %s with --help', (command, option) => {
     const r = run(command, '--help');
     expect(r.status).toBe(0);
@@ -34,6 +37,14 @@ describe('the command line', () => {
     const r = run(...args);
     expect(r.status).not.toBe(0);
     expect(r.stderr).toMatch(message);
+  });
+
+  it('consolidates a stored replay on demand', () => {
+    const db = join(tmpdir(), `strandline-cons-${process.pid}.sqlite`);
+    expect(run('replay', 'demo-feed/feeds', '--db', db, '--no-progress', '--log-level', 'silent').status).toBe(0);
+    const r = run('consolidate', '--db', db, '--log-level', 'silent');
+    expect(r.status).toBe(0);
+    expect(r.stdout).toMatch(/^examined \d+ event\(s\); merged \d+/);
   });
 
   it('refuses an invalid configuration file before doing anything', () => {

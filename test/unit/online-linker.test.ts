@@ -121,6 +121,30 @@ describe('the online linker', () => {
     expect(l.size).toBe(1);
   });
 
+  it('consolidates two events that turn out to be one, and only those', () => {
+    const e = new TfidfEmbedder(16);
+    // A zero threshold opens a new event for each mention only if nothing matches; force
+    // two events for one happening by linking the second article with a strict threshold.
+    const strict = new OnlineLinker({ ...options, threshold: 0.99 });
+    const [a, b, c] = mentions(e, [
+      { article: 'a', terms: ['warehouse', 'fire', 'korrin', 'bay', 'blaze'], published: '2026-10-07T22:00:00Z' },
+      { article: 'b', terms: ['warehouse', 'fire', 'korrin', 'bay', 'night'], published: '2026-10-08T08:00:00Z' },
+      { article: 'c', terms: ['budget', 'vote', 'assembly'], published: '2026-10-08T09:00:00Z' },
+    ]);
+    for (const m of [a!, b!, c!]) strict.apply(strict.plan([m]));
+    expect(strict.size).toBe(3);
+    const merges = strict.planMerges([eventIdFor(b!), eventIdFor(c!)], 0.4);
+    expect(merges).toEqual([{ into: eventIdFor(a!), from: eventIdFor(b!), score: expect.any(Number) }]);
+    const merged = strict.mergedState(merges[0]!.into, merges[0]!.from);
+    expect(merged.mentionCount).toBe(2);
+    strict.applyMerge(merged, merges[0]!.from);
+    expect(strict.size).toBe(2);
+    // The absorbed event is no longer a candidate: a new mention joins the survivor.
+    const [d] = mentions(e, [{ article: 'd', terms: ['warehouse', 'fire', 'korrin', 'bay'], published: '2026-10-08T10:00:00Z' }]);
+    const lenient = strict.plan([d!]);
+    expect(lenient.links.map((l) => l.eventId)).not.toContain(eventIdFor(b!));
+  });
+
   it('opens the same event id for the same mention every time', () => {
     expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toBe(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 }));
     expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toMatch(/^ev_[0-9a-f]{16}$/);

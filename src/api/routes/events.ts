@@ -16,10 +16,15 @@ export function registerEventRoutes(app: FastifyInstance, store: Store): void {
     return { ...page, caution: CAUTION };
   });
 
-  app.get<{ Params: { id: string } }>('/api/events/:id', { schema: getEventSchema }, async (req) => {
+  app.get<{ Params: { id: string } }>('/api/events/:id', { schema: getEventSchema }, async (req, reply) => {
     const detail = await store.getEvent(req.params.id);
-    if (!detail) throw new StrandError('STRAND_NOT_FOUND', `no event ${req.params.id}`);
-    return { event: detail.event, byOutlet: groupByOutlet(detail.mentions), timeline: timeline(detail.mentions), caution: CAUTION };
+    if (!detail) {
+      // An event consolidation merged away now lives in another: send clients there.
+      const into = await store.mergedInto(req.params.id);
+      if (into) return reply.redirect(`/api/events/${encodeURIComponent(into)}`, 308);
+      throw new StrandError('STRAND_NOT_FOUND', `no event ${req.params.id}`);
+    }
+    return { event: detail.event, byOutlet: groupByOutlet(detail.mentions), timeline: timeline(detail.mentions), merges: detail.merges, caution: CAUTION };
   });
 }
 

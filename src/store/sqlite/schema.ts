@@ -99,4 +99,13 @@ export const MIGRATIONS: readonly string[] = [
   ) WITHOUT ROWID;
   CREATE INDEX deliveries_due ON deliveries(status, next_at);
   `,
+  `
+  CREATE TABLE merges (
+    from_id TEXT PRIMARY KEY,
+    into_id TEXT NOT NULL,
+    score   REAL NOT NULL,
+    at      TEXT NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX merges_into ON merges(into_id);
+  `,
 ];

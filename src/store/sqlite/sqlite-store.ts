@@ -11,7 +11,7 @@ import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  LinkerSnapshot, Store, StoreCounts,
+  EventUpdate, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, Store, StoreCounts,
 } from '../store.js';
 import { MIGRATIONS } from './schema.js';
 
@@ -50,6 +50,7 @@ function migrate(db: Database.Database): void {
 export class SqliteStore implements Store {
   private readonly st;
   private readonly commitTx: (c: ArticleCommit) => CommitResult;
+  private readonly mergeTx: (m: MergeCommit) => void;
 
   constructor(private readonly db: Database.Database) {
     this.st = {
@@ -98,6 +99,7 @@ export class SqliteStore implements Store {
       attempt: db.prepare('UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?'),
     };
     this.commitTx = db.transaction((c: ArticleCommit): CommitResult => this.commitInTx(c));
+    this.mergeTx = db.transaction((m: MergeCommit): void => this.mergeInTx(m));
   }
 
   async hasArticle(id: string): Promise<boolean> {
@@ -125,20 +127,65 @@ export class SqliteStore implements Store {
       st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0);
     }
     for (const l of c.links) st.insLink.run(l.articleId, l.sentenceIndex, l.eventId, l.score, l.rank, JSON.stringify(l.evidence));
-    for (const { record: r, outlets, state } of c.events) {
-      st.upEvent.run({ ...r, participants: JSON.stringify(r.participants), places: JSON.stringify(r.places), state: Buffer.from(state.buffer, state.byteOffset, state.byteLength) });
-      st.delOutlets.run(r.id);
-      for (const o of outlets) st.insOutlet.run(r.id, o.outlet, o.mentions, o.independent);
-    }
+    for (const u of c.events) this.upsertEvent(u);
     if (c.idf) {
       for (const [f, n] of c.idf.df) st.upIdf.run(f, n);
       st.upDocs.run(String(c.idf.docs));
     }
-    for (const msg of c.messages) {
-      st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
-      for (const sub of msg.subscribers) st.insDelivery.run(msg.id, sub, msg.created);
-    }
+    this.queue(c.messages);
     return 'stored';
+  }
+
+  private upsertEvent({ record: r, outlets, state }: EventUpdate): void {
+    this.st.upEvent.run({ ...r, participants: JSON.stringify(r.participants), places: JSON.stringify(r.places), state: Buffer.from(state.buffer, state.byteOffset, state.byteLength) });
+    this.st.delOutlets.run(r.id);
+    for (const o of outlets) this.st.insOutlet.run(r.id, o.outlet, o.mentions, o.independent);
+  }
+
+  private queue(messages: readonly OutboxMessage[]): void {
+    for (const msg of messages) {
+      this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
+      for (const sub of msg.subscribers) this.st.insDelivery.run(msg.id, sub, msg.created);
+    }
+  }
+
+  async commitMerge(m: MergeCommit): Promise<void> {
+    try {
+      this.mergeTx(m);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot merge ${m.from} into ${m.into.record.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  private mergeInTx(m: MergeCommit): void {
+    const db = this.db;
+    const into = m.into.record.id;
+    // A sentence linked to both events keeps one link, the better-scoring one.
+    db.prepare(`DELETE FROM links WHERE event_id = @from AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @into
+      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx AND l2.score >= links.score)`).run({ from: m.from, into });
+    db.prepare(`DELETE FROM links WHERE event_id = @into AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @from
+      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx)`).run({ from: m.from, into });
+    db.prepare('UPDATE links SET event_id = ? WHERE event_id = ?').run(into, m.from);
+    db.prepare('DELETE FROM events WHERE id = ?').run(m.from);
+    this.st.delOutlets.run(m.from);
+    this.upsertEvent(m.into);
+    db.prepare('UPDATE merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
+    db.prepare('INSERT OR REPLACE INTO merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
+    this.queue(m.messages);
+  }
+
+  async recentEventIds(articles: number): Promise<string[]> {
+    return this.db.prepare(`SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
+      ORDER BY l.event_id`).pluck().all(articles) as string[];
+  }
+
+  async mergedInto(id: string): Promise<string | null> {
+    return (this.db.prepare('SELECT into_id FROM merges WHERE from_id = ?').pluck().get(id) as string | undefined) ?? null;
+  }
+
+  async mergesInto(id: string): Promise<MergeRecord[]> {
+    return (this.db.prepare('SELECT from_id, into_id, score, at FROM merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[])
+      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
   }
 
   async loadLinkerState(): Promise<LinkerSnapshot> {
@@ -196,7 +243,7 @@ export class SqliteStore implements Store {
       evidence: JSON.parse(r.evidence as string) as LinkEvidence,
       times: JSON.parse(r.times as string) as TimeExpression[],
     }));
-    return { event: toSummary(row), mentions };
+    return { event: toSummary(row), mentions, merges: await this.mergesInto(id) };
   }
 
   async getArticle(id: string): Promise<ArticleDetail | null> {
