@@ -22,6 +22,7 @@ export const ERROR_CODES = {
   STRAND_WEBHOOK_FAILED: { status: 502 },
   STRAND_REQUEST_INVALID: { status: 400 },
   STRAND_EVAL_INPUT_INVALID: { status: 400 },
+  STRAND_MODEL_MISSING: { status: 500 },
 } as const;
 
 /** One of the stable error codes. */

@@ -59,6 +59,8 @@ type Flow<T> = { go: T; done?: undefined } | { go?: undefined; done: ArticleOutc
 
 interface EmbeddedArticle extends DetectedArticle {
   embedded: EmbeddedMention[];
+  /** What this article added to the TF-IDF document frequencies, committed with it. */
+  idf: { docs: number; df: Map<number, number> } | null;
 }
 
 /** Runs articles through every stage; emits one outcome per article. */
@@ -111,8 +113,11 @@ function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>
 
 async function embedStage(ctx: PipelineContext, a: DetectedArticle): Promise<EmbeddedArticle> {
   ctx.embedder.learn?.(a.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
+  // Taken here, not at commit: this stage may run ahead of linking, and each article must
+  // commit exactly its own increments so that a crash never stores a later article's.
+  const idf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder.takeDelta() : null;
   const vectors = a.mentions.length ? await ctx.embedder.embed(a.mentions) : [];
-  return { ...a, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) };
+  return { ...a, idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) };
 }
 
 /**
@@ -155,7 +160,6 @@ function outletRows(e: EventState): { outlet: string; mentions: number; independ
 
 async function linkStage(ctx: PipelineContext, a: EmbeddedArticle, consolidation: () => Promise<ArticleOutcome['merges']>): Promise<ArticleOutcome> {
   const plan = ctx.linker.plan(a.embedded);
-  const idf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder.takeDelta() : null;
   try {
     const result = await ctx.store.commitArticle({
       article: a.article,
@@ -163,7 +167,7 @@ async function linkStage(ctx: PipelineContext, a: EmbeddedArticle, consolidation
       mentions: a.mentions,
       links: plan.links,
       events: plan.events.map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
-      idf,
+      idf: a.idf,
       messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
     });
     if (result === 'already-stored') return outcome(a.article, 'duplicate', 'already stored');

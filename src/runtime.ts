@@ -4,7 +4,9 @@
  * what the store holds.
  */
 import type { Config } from './config/schema.js';
+import type { Embedder } from './embed/embedder.js';
 import { TfidfEmbedder } from './embed/tfidf-embedder.js';
+import { TransformerEmbedder } from './embed/transformer-embedder.js';
 import { deserialiseEvent } from './link/event-state.js';
 import { OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
@@ -20,11 +22,11 @@ export interface Runtime extends PipelineContext {
 
 /** Opens the store and resumes the linker; `store` may be passed in (tests). */
 export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store): Promise<Runtime> {
+  const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
   const s = store ?? openSqliteStore(config.store.path);
-  const embedder = new TfidfEmbedder(config.embed.hashBits);
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
-  embedder.load(snapshot.idf);
+  if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
   linker.load(snapshot.events.map(deserialiseEvent));
   logger.child({ stage: 'runtime' }).debug({ events: linker.size, idfDocs: snapshot.idf.docs }, 'linker resumed');
   return {

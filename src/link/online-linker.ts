@@ -11,6 +11,7 @@
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention, Link } from '../records.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
+import { CentroidIndex } from './centroid-index.js';
 import { addMention, centroidCosine, cloneEvent, type EventState, mergeStates, nameKey, openEvent } from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 
@@ -24,6 +25,8 @@ export interface LinkerOptions {
   overlapWeight: number;
   secondaryMargin: number;
   centroidTerms: number;
+  /** Dense centroids are searched exactly up to this many events, approximately beyond. */
+  annAbove: number;
 }
 
 /** A mention that reached an event's outlet list for the first time. */
@@ -59,9 +62,11 @@ const RECENT_VOTE = 0.05;
 export class OnlineLinker {
   private readonly events = new Map<string, EventState>();
   private readonly index: CandidateIndex;
+  private readonly centroids: CentroidIndex;
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
+    this.centroids = new CentroidIndex(o.annAbove);
   }
 
   /** Rebuilds the in-memory state from stored events, oldest activity first. */
@@ -72,6 +77,7 @@ export class OnlineLinker {
       const names = [...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`);
       for (const k of new Set(names)) this.index.countKey(k);
       this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...names]);
+      if (e.dense) this.centroids.upsert(e.id, e.dense);
     }
   }
 
@@ -98,6 +104,7 @@ export class OnlineLinker {
     for (const m of mentions) {
       const mkeys = mentionKeys(m, this.o.lookupTerms);
       const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE));
+      if (m.vector.kind === 'dense') for (const id of this.centroids.nearest(m.vector.values, this.o.maxCandidates)) ids.add(id);
       for (const id of opened) ids.add(id);
       const total = this.events.size + opened.length;
       const features = mentionFeatures(m);
@@ -166,7 +173,9 @@ export class OnlineLinker {
       const e = this.events.get(id);
       if (!e || gone.has(id)) continue;
       const keys = [...topTermKeys(e, this.o.lookupTerms)].map((key) => ({ key, weight: 1 }));
-      for (const other of this.index.lookup(keys, this.o.maxCandidates, 0)) {
+      const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
+      if (e.dense) for (const x of this.centroids.nearest(Float32Array.from(e.dense), this.o.maxCandidates)) others.add(x);
+      for (const other of others) {
         if (other === id || gone.has(other)) continue;
         const f = this.events.get(other);
         if (!f) continue;
@@ -195,6 +204,8 @@ export class OnlineLinker {
     this.events.set(merged.id, merged);
     this.index.add(merged.id, [...topTermKeys(merged, this.o.lookupTerms), ...[...merged.participants.keys(), ...merged.places.keys()].map((k) => `p:${k}`)]);
     if (gone) this.index.remove(from);
+    this.centroids.remove(from);
+    if (merged.dense) this.centroids.upsert(merged.id, merged.dense);
   }
 
   /** Makes a committed plan part of the linker's state. */
@@ -202,6 +213,7 @@ export class OnlineLinker {
     for (const e of plan.events) this.events.set(e.id, e);
     for (const k of plan.newNameKeys) this.index.countKey(k);
     for (const [id, ks] of plan.keys) this.index.add(id, [...new Set(ks)]);
+    for (const e of plan.events) if (e.dense) this.centroids.upsert(e.id, e.dense);
   }
 }
 
