@@ -124,8 +124,10 @@ function partitionOf(c: Map<string, string[]>): string[][] {
 
 async function main(): Promise<void> {
   const rows = [await run('demo replay (read + pipeline + SQLite file)', demoArticles), await run('demo x10 (synthetic, 1,010 articles)', demoTimesTen)];
-  const versus = linkerVersusBatch(20_000);
-  const scale = linkScale(parseConfig({}), [10_000, 100_000, 1_000_000]);
+  // --quick: the pipeline rows only (seconds instead of about ten minutes).
+  const quick = process.argv.includes('--quick');
+  const versus = quick ? null : linkerVersusBatch(20_000);
+  const scale = quick ? [] : linkScale(parseConfig({}), [10_000, 100_000, 1_000_000]);
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
   const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
@@ -133,11 +135,11 @@ async function main(): Promise<void> {
   const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
   process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n\n`);
   process.stdout.write(`${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`);
-  process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
+  if (versus) process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
     + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
     + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
     + `  the linker is ${versus.speedup.toFixed(1)}x faster\n`);
-  process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 2,000 mentions after each size):\n`
+  if (scale.length) process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 2,000 mentions after each size):\n`
     + `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n`
     + scale.map((r) => `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`).join('\n')
     + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);

@@ -48,8 +48,10 @@ export class TfidfEmbedder implements Embedder {
     this.df = new Uint32Array(1 << hashBits);
   }
 
-  /** Restores persisted document frequencies. */
+  /** Restores persisted document frequencies, replacing what was learned in memory. */
   load(state: IdfState): void {
+    this.df.fill(0);
+    this.delta = { docs: 0, df: new Map() };
     this.docs = state.docs;
     for (const [f, n] of state.df) this.df[f & this.mask] = n;
   }

@@ -61,12 +61,19 @@ const RECENT_VOTE = 0.05;
 /** Online clustering of mentions into events. */
 export class OnlineLinker {
   private readonly events = new Map<string, EventState>();
-  private readonly index: CandidateIndex;
-  private readonly centroids: CentroidIndex;
+  private index: CandidateIndex;
+  private centroids: CentroidIndex;
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
     this.centroids = new CentroidIndex(o.annAbove);
+  }
+
+  /** Forgets everything (before load() from the store after a failed commit). */
+  reset(): void {
+    this.events.clear();
+    this.index = new CandidateIndex(this.o.postingLimit);
+    this.centroids = new CentroidIndex(this.o.annAbove);
   }
 
   /** Rebuilds the in-memory state from stored events, oldest activity first. */

@@ -168,6 +168,8 @@ export interface Store {
   findByContentHash(hash: string): Promise<string | null>;
   /** Commits one article's results in one transaction; a second commit of the same id changes nothing. */
   commitArticle(c: ArticleCommit): Promise<CommitResult>;
+  /** Commits several articles in one transaction (all or none), each as commitArticle would. */
+  commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]>;
   /** Merges one event into another: links move, the absorbed event leaves, the merge is recorded. */
   commitMerge(m: MergeCommit): Promise<void>;
   /** Events linked from the last `articles` stored articles (consolidation's working set). */

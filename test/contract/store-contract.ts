@@ -72,6 +72,14 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.loadLinkerState()).idf.docs).toBe(2);
     });
 
+    it('commits several articles in one transaction, each once', async () => {
+      const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      const a2 = article('a2', 'O', '2026-10-05T11:00:00.000Z', 'y');
+      expect(await store.commitArticles([commitFor(a1, 'The levee failed.', null).commit, commitFor(a2, 'A bridge fell.', null).commit])).toEqual(['stored', 'stored']);
+      expect(await store.commitArticles([commitFor(a2, 'A bridge fell.', null).commit])).toEqual(['already-stored']);
+      expect((await store.counts()).articles).toBe(2);
+    });
+
     it('gives an event its mentions from every outlet, oldest first, with evidence', async () => {
       const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
       const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');

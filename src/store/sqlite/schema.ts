@@ -108,4 +108,11 @@ export const MIGRATIONS: readonly string[] = [
   ) WITHOUT ROWID;
   CREATE INDEX merges_into ON merges(into_id);
   `,
+  // Document frequencies as one packed row per article plus a periodic snapshot: one
+  // insert per article instead of an upsert per feature (the upserts were most of the
+  // statements a commit ran). The per-feature table of version 1 is still read.
+  `
+  CREATE TABLE idf_log (seq INTEGER PRIMARY KEY, docs INTEGER NOT NULL, data BLOB NOT NULL);
+  CREATE TABLE idf_snapshot (id INTEGER PRIMARY KEY CHECK (id = 1), docs INTEGER NOT NULL, data BLOB NOT NULL);
+  `,
 ];

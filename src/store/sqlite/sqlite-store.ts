@@ -17,8 +17,14 @@ import { MIGRATIONS } from './schema.js';
 
 type Row = Record<string, unknown>;
 
+/** Options of the SQLite store. */
+export interface SqliteStoreOptions {
+  /** Per-article document-frequency rows are folded into one snapshot this often. Default 2000. */
+  idfSnapshotEvery?: number;
+}
+
 /** Opens (creating if needed) a SQLite store at `path`; ':memory:' for tests. */
-export function openSqliteStore(path: string): SqliteStore {
+export function openSqliteStore(path: string, options: SqliteStoreOptions = {}): SqliteStore {
   let db: Database.Database;
   try {
     if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
@@ -33,7 +39,7 @@ export function openSqliteStore(path: string): SqliteStore {
   } catch (err) {
     throw new StrandError('STRAND_STORE_FAILED', `cannot open SQLite store at ${path}: ${(err as Error).message}`, { cause: err });
   }
-  return new SqliteStore(db);
+  return new SqliteStore(db, options.idfSnapshotEvery ?? IDF_SNAPSHOT_EVERY);
 }
 
 function migrate(db: Database.Database): void {
@@ -50,9 +56,10 @@ function migrate(db: Database.Database): void {
 export class SqliteStore implements Store {
   private readonly st;
   private readonly commitTx: (c: ArticleCommit) => CommitResult;
+  private readonly commitManyTx: (cs: readonly ArticleCommit[]) => CommitResult[];
   private readonly mergeTx: (m: MergeCommit) => void;
 
-  constructor(private readonly db: Database.Database) {
+  constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY) {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
@@ -69,8 +76,12 @@ export class SqliteStore implements Store {
           mention_count = excluded.mention_count, version = excluded.version, state = excluded.state`),
       delOutlets: db.prepare('DELETE FROM event_outlets WHERE event_id = ?'),
       insOutlet: db.prepare('INSERT INTO event_outlets (event_id, outlet, mentions, independent) VALUES (?, ?, ?, ?)'),
-      upIdf: db.prepare('INSERT INTO idf (feature, df) VALUES (?, ?) ON CONFLICT(feature) DO UPDATE SET df = df + excluded.df'),
-      upDocs: db.prepare(`INSERT INTO meta (key, value) VALUES ('idf_docs', ?) ON CONFLICT(key) DO UPDATE SET value = CAST(value AS INTEGER) + CAST(excluded.value AS INTEGER)`),
+      insIdfLog: db.prepare('INSERT INTO idf_log (docs, data) VALUES (?, ?)'),
+      idfLogCount: db.prepare('SELECT count(*) FROM idf_log').pluck(),
+      idfLogs: db.prepare('SELECT docs, data FROM idf_log ORDER BY seq').raw(),
+      idfSnapshot: db.prepare('SELECT docs, data FROM idf_snapshot WHERE id = 1').raw(),
+      putIdfSnapshot: db.prepare('INSERT OR REPLACE INTO idf_snapshot (id, docs, data) VALUES (1, ?, ?)'),
+      clearIdfLog: db.prepare('DELETE FROM idf_log'),
       insMessage: db.prepare('INSERT OR IGNORE INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
       insDelivery: db.prepare(`INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`),
       eventStates: db.prepare('SELECT state FROM events').pluck(),
@@ -99,6 +110,7 @@ export class SqliteStore implements Store {
       attempt: db.prepare('UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?'),
     };
     this.commitTx = db.transaction((c: ArticleCommit): CommitResult => this.commitInTx(c));
+    this.commitManyTx = db.transaction((cs: readonly ArticleCommit[]): CommitResult[] => cs.map((c) => this.commitInTx(c)));
     this.mergeTx = db.transaction((m: MergeCommit): void => this.mergeInTx(m));
   }
 
@@ -118,6 +130,14 @@ export class SqliteStore implements Store {
     }
   }
 
+  async commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]> {
+    try {
+      return this.commitManyTx(cs);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot store ${cs.length} article(s) from ${cs[0]?.article.id ?? '(none)'}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
@@ -128,12 +148,34 @@ export class SqliteStore implements Store {
     }
     for (const l of c.links) st.insLink.run(l.articleId, l.sentenceIndex, l.eventId, l.score, l.rank, JSON.stringify(l.evidence));
     for (const u of c.events) this.upsertEvent(u);
-    if (c.idf) {
-      for (const [f, n] of c.idf.df) st.upIdf.run(f, n);
-      st.upDocs.run(String(c.idf.docs));
+    if (c.idf && (c.idf.docs > 0 || c.idf.df.size > 0)) {
+      st.insIdfLog.run(c.idf.docs, packIdf(c.idf.df));
+      if ((st.idfLogCount.get() as number) >= this.idfSnapshotEvery) this.snapshotIdf();
     }
     this.queue(c.messages);
     return 'stored';
+  }
+
+  /** Folds the per-article rows into the snapshot (inside the caller's transaction). */
+  private snapshotIdf(): void {
+    const { docs, df } = this.readIdf();
+    this.st.putIdfSnapshot.run(docs, packIdf(df));
+    this.st.clearIdfLog.run();
+  }
+
+  /** Document frequencies: the version-1 table, the snapshot, then the rows after it. */
+  private readIdf(): { docs: number; df: Map<number, number> } {
+    const df = new Map<number, number>();
+    let docs = Number(this.st.docs.get() ?? 0);
+    for (const [f, n] of this.st.idfRows.all() as [number, number][]) df.set(f, n);
+    const add = (d: number, blob: Buffer): void => {
+      docs += d;
+      for (const [f, n] of unpackIdf(blob)) df.set(f, (df.get(f) ?? 0) + n);
+    };
+    const snap = this.st.idfSnapshot.get() as [number, Buffer] | undefined;
+    if (snap) add(snap[0], snap[1]);
+    for (const [d, blob] of this.st.idfLogs.all() as [number, Buffer][]) add(d, blob);
+    return { docs, df };
   }
 
   private upsertEvent({ record: r, outlets, state }: EventUpdate): void {
@@ -189,9 +231,10 @@ export class SqliteStore implements Store {
   }
 
   async loadLinkerState(): Promise<LinkerSnapshot> {
+    const idf = this.readIdf();
     return {
       events: (this.st.eventStates.all() as Buffer[]).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength)),
-      idf: { docs: Number(this.st.docs.get() ?? 0), df: this.st.idfRows.all() as [number, number][] },
+      idf: { docs: idf.docs, df: [...idf.df] },
     };
   }
 
@@ -331,6 +374,25 @@ export class SqliteStore implements Store {
   async close(): Promise<void> {
     if (this.db.open) this.db.close();
   }
+}
+
+/** Per-article document-frequency rows folded into the snapshot this often. */
+const IDF_SNAPSHOT_EVERY = 2000;
+
+/** (feature, count) pairs as little-endian uint32 pairs. */
+function packIdf(df: ReadonlyMap<number, number>): Buffer {
+  const b = Buffer.alloc(df.size * 8);
+  let at = 0;
+  for (const [f, n] of df) {
+    b.writeUInt32LE(f, at);
+    b.writeUInt32LE(n, at + 4);
+    at += 8;
+  }
+  return b;
+}
+
+function* unpackIdf(b: Buffer): Generator<[number, number]> {
+  for (let at = 0; at + 8 <= b.length; at += 8) yield [b.readUInt32LE(at), b.readUInt32LE(at + 4)];
 }
 
 const EVENT_SELECT = `SELECT e.id, e.label, e.first_seen, e.last_seen, e.time_start, e.time_end, e.participants, e.places, e.mention_count, e.version,
