@@ -19,7 +19,7 @@ import { type EventState, deserialiseEvent, serialiseEvent, toRecord } from './l
 import type { LinkPlan, OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
 import { buildMergeMessages, buildMessages } from './notify/messages.js';
-import type { Article, EmbeddedMention } from './records.js';
+import type { Article, EmbeddedMention, Vector } from './records.js';
 import type { ArticleCommit, CommitResult, Store } from './store/store.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
 import type { Nlp } from './text/nlp.js';
@@ -76,10 +76,11 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
     concatMap((a) => defer(() => admit(a))),
     stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
     stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold, ctx.selectMentions?.(a.article))),
-    stage('embed', ctx, (a: DetectedArticle) => embedStage(ctx, a)),
-    // Group commit: up to GROUP_MAX articles, or what arrived within GROUP_MS.
+    // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
+    // batch and one commit per group.
     bufferTime(GROUP_MS, null, GROUP_MAX),
     filter((group) => group.length > 0),
+    concatMap((group) => defer(() => embedGroup(ctx, group))),
     concatMap((group) => defer(() => linkGroup(ctx, group, cadence)).pipe(concatMap((outcomes) => from(outcomes)))),
   );
 }
@@ -119,13 +120,39 @@ function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>
   };
 }
 
-async function embedStage(ctx: PipelineContext, a: DetectedArticle): Promise<EmbeddedArticle> {
-  ctx.embedder.learn?.(a.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
-  // Taken here, not at commit: this stage may run ahead of linking, and each article must
-  // commit exactly its own increments so that a crash never stores a later article's.
-  const idf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder.takeDelta() : null;
-  const vectors = a.mentions.length ? await ctx.embedder.embed(a.mentions) : [];
-  return { ...a, idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) };
+/**
+ * The embed stage, on a group of articles: each article's sentences are learned in turn
+ * (TF-IDF document frequencies, in stream order) and the group's mentions are embedded
+ * in one batch, which is what keeps a transformer model busy.
+ */
+async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedArticle>[]): Promise<Flow<EmbeddedArticle>[]> {
+  const tfidf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder : null;
+  const prepared = group.map((f) => {
+    if (f.done) return f;
+    const a = f.go;
+    // A TF-IDF vector uses the frequencies as they stand after its own article.
+    ctx.embedder.learn?.(a.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
+    // Taken here, not at commit: each article commits exactly its own increments, so a
+    // crash never stores a later article's.
+    const idf = tfidf ? tfidf.takeDelta() : null;
+    const vectors = tfidf ? a.mentions.map((m) => tfidf.vector(m.terms)) : null;
+    return { a, idf, vectors };
+  });
+  const pending = prepared.flatMap((p) => ('a' in p && !p.vectors ? p.a.mentions : []));
+  let batch: Vector[] = [];
+  try {
+    batch = pending.length ? await ctx.embedder.embed(pending) : [];
+  } catch (err) {
+    const reason = `embed: ${describeError(err)}`;
+    ctx.logger.child({ stage: 'embed' }).error({ articles: group.length, err: reason }, 'embedding failed');
+    return prepared.map((p) => ('a' in p ? { done: outcome(p.a.article, 'rejected', reason) } : p));
+  }
+  let at = 0;
+  return prepared.map((p) => {
+    if (!('a' in p)) return p;
+    const vectors = p.vectors ?? batch.slice(at, (at += p.a.mentions.length));
+    return { go: { ...p.a, idf: p.idf, embedded: p.a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) } };
+  });
 }
 
 /**

@@ -10,6 +10,8 @@
  *                   copies from merging into the originals' events);
  *   link scale      the link step's median and 99th-percentile time per mention after
  *                   10k, 100k and 1M stored mentions, with memory (src/bench/link-scale.ts);
+ *   transformer     the pipeline with a MiniLM-sized transformer against the model alone
+ *                   (src/bench/transformer-throughput.ts);
  *   linker vs batch the online linker's link step against the batch all-pairs baseline
  *                   (average-link agglomerative clustering) on the same 20,000 mentions of
  *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
@@ -34,6 +36,7 @@ import { linkPrepared } from '../eval/run-eval.js';
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import { linkScale } from './link-scale.js';
+import { transformerThroughput } from './transformer-throughput.js';
 
 interface Row {
   workload: string;
@@ -128,6 +131,7 @@ async function main(): Promise<void> {
   const quick = process.argv.includes('--quick');
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale = quick ? [] : linkScale(parseConfig({}), [10_000, 100_000, 1_000_000]);
+  const transformer = quick ? null : await transformerThroughput(await demoArticles());
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
   const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
@@ -139,13 +143,15 @@ async function main(): Promise<void> {
     + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
     + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
     + `  the linker is ${versus.speedup.toFixed(1)}x faster\n`);
+  if (transformer) process.stdout.write(`\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n`
+    + `  model alone ${transformer.rawSeconds.toFixed(2)} s, whole pipeline ${transformer.pipelineSeconds.toFixed(2)} s: the pipeline keeps ${(transformer.ratio * 100).toFixed(0)}% of the model's throughput\n`);
   if (scale.length) process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 2,000 mentions after each size):\n`
     + `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n`
     + scale.map((r) => `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`).join('\n')
     + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 
