@@ -95,6 +95,7 @@ async function showEvent(id) {
     el('p', { class: 'meta' }, `Event ${e.id} · happened ${e.timeStart}${e.timeEnd !== e.timeStart ? ` – ${e.timeEnd}` : ''} · first seen ${fmtDay(e.firstSeen)}, last seen ${fmtDay(e.lastSeen)} · ${e.outlets.length} outlets (${e.independentOutlets} independent) · ${e.mentionCount} mentions`),
     e.participants.length ? el('ul', { class: 'chips', 'aria-label': 'Participants' }, e.participants.map((p) => el('li', {}, p))) : null,
     e.places.length ? el('ul', { class: 'chips', 'aria-label': 'Places' }, e.places.map((p) => el('li', {}, `📍 ${p}`))) : null,
+    d.merges.length ? el('p', { class: 'meta' }, `Consolidation merged ${d.merges.length} other event(s) into this one (a machine suggestion too).`) : null,
     timeline,
     el('p', { class: 'meta' }, `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`),
     d.byOutlet.map((g) => el('section', { class: 'outlet' },
