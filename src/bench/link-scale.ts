@@ -29,13 +29,18 @@ const WINDOW = 2000;
 export function linkScale(config: Readonly<Config>, checkpoints: readonly number[]): ScaleRow[] {
   const total = Math.max(...checkpoints) + WINDOW;
   const stream = syntheticStream(total, 7);
+  // A live stream does not keep what it has delivered: drop the gold, and each article
+  // once linked, so the heap holds the linker's state rather than the generated text.
+  stream.gold.length = 0;
   const embedder = new TfidfEmbedder(config.embed.hashBits);
   const linker = new OnlineLinker(config.link);
   const rows: ScaleRow[] = [];
   const times: number[] = [];
   let stored = 0;
   let next = 0;
-  for (const a of stream.articles) {
+  for (let k = 0; k < stream.articles.length; k++) {
+    const a = stream.articles[k]!;
+    (stream.articles as (typeof a | undefined)[])[k] = undefined;
     const terms = a.sentences.map(termsOf);
     embedder.learn(terms.map((t) => ({ text: '', terms: t })));
     const mentions: EmbeddedMention[] = a.sentences.map((text, i) => ({

@@ -66,8 +66,13 @@ export class CandidateIndex {
     return this.keyEvents.get(key) ?? 0;
   }
 
-  /** Up to `limit` candidate event ids, most votes first (ties: most recently touched first). */
-  lookup(keys: readonly WeightedKey[], limit: number, recentWeight: number): string[] {
+  /**
+   * Up to `limit` candidate event ids, most votes first (ties: most recently touched first).
+   * Keys are read rarest first (shortest posting), and reading stops once `budget` posting
+   * entries have been visited: the cost of a lookup is then the same after ten thousand
+   * mentions as after a million, and what is left unread is the weakest evidence.
+   */
+  lookup(keys: readonly WeightedKey[], limit: number, recentWeight: number, budget = Infinity): string[] {
     const epoch = ++this.epoch;
     const votes = this.votes;
     const marks = this.marks;
@@ -82,9 +87,17 @@ export class CandidateIndex {
     };
     const recent = this.postings.get(RECENT);
     if (recent) for (let i = 0; i < recent.length; i++) vote(recent[i]!, (recentWeight * (i + 1)) / recent.length);
+    const postings: [number[], number][] = [];
     for (const { key, weight } of keys) {
       const posting = this.postings.get(key);
-      if (posting) for (let i = 0; i < posting.length; i++) vote(posting[i]!, weight);
+      if (posting) postings.push([posting, weight]);
+    }
+    postings.sort((a, b) => a[0].length - b[0].length);
+    let visited = 0;
+    for (const [posting, weight] of postings) {
+      if (visited >= budget) break;
+      for (let i = 0; i < posting.length; i++) vote(posting[i]!, weight);
+      visited += posting.length;
     }
     // Keep the best `limit` by insertion into a short sorted list.
     const best: number[] = [];

@@ -27,6 +27,8 @@ export interface LinkerOptions {
   centroidTerms: number;
   /** Dense centroids are searched exactly up to this many events, approximately beyond. */
   annAbove: number;
+  /** Posting entries read per lookup at most, rarest keys first. */
+  lookupBudget: number;
 }
 
 /** A mention that reached an event's outlet list for the first time. */
@@ -110,7 +112,7 @@ export class OnlineLinker {
 
     for (const m of mentions) {
       const mkeys = mentionKeys(m, this.o.lookupTerms);
-      const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE));
+      const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE, this.o.lookupBudget));
       if (m.vector.kind === 'dense') for (const id of this.centroids.nearest(m.vector.values, this.o.maxCandidates)) ids.add(id);
       for (const id of opened) ids.add(id);
       const total = this.events.size + opened.length;
