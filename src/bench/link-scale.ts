@@ -23,7 +23,7 @@ export interface ScaleRow {
 }
 
 const STOP = new Set('a an the of in on at to and or for with by from was were is are be been has have had it its this that said says after before when as into their his her they he she who which than then there also'.split(' '));
-const WINDOW = 2000;
+const WINDOW = 5000;
 
 /** Runs the stream to the largest checkpoint and measures a window of mentions after each. */
 export function linkScale(config: Readonly<Config>, checkpoints: readonly number[]): ScaleRow[] {

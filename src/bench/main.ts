@@ -16,7 +16,9 @@
  *                   (average-link agglomerative clustering) on the same 20,000 mentions of
  *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
  */
+import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { from, lastValueFrom, toArray } from 'rxjs';
@@ -35,7 +37,7 @@ import { prepareMentions, selector, toArticles } from '../eval/prepare-mentions.
 import { linkPrepared } from '../eval/run-eval.js';
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
-import { linkScale } from './link-scale.js';
+import type { ScaleRow } from './link-scale.js';
 import { transformerThroughput } from './transformer-throughput.js';
 
 interface Row {
@@ -130,7 +132,7 @@ async function main(): Promise<void> {
   // --quick: the pipeline rows only (seconds instead of about ten minutes).
   const quick = process.argv.includes('--quick');
   const versus = quick ? null : linkerVersusBatch(20_000);
-  const scale = quick ? [] : linkScale(parseConfig({}), [10_000, 100_000, 1_000_000]);
+  const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
   const transformer = quick ? null : await transformerThroughput(await demoArticles());
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
@@ -145,7 +147,7 @@ async function main(): Promise<void> {
     + `  the linker is ${versus.speedup.toFixed(1)}x faster\n`);
   if (transformer) process.stdout.write(`\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n`
     + `  model alone ${transformer.rawSeconds.toFixed(2)} s, whole pipeline ${transformer.pipelineSeconds.toFixed(2)} s: the pipeline keeps ${(transformer.ratio * 100).toFixed(0)}% of the model's throughput\n`);
-  if (scale.length) process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 2,000 mentions after each size):\n`
+  if (scale.length) process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 5,000 mentions after each size):\n`
     + `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n`
     + scale.map((r) => `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`).join('\n')
     + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);
