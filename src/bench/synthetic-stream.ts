@@ -6,6 +6,7 @@
  * sentences. Seeded, so the same size always gives the same stream.
  */
 import type { EvalArticle, GoldLine } from '../eval/eval-input.js';
+import { seededRandom as rng } from './seeded-random.js';
 
 /** A generated stream: articles with pre-split sentences, and the gold. */
 export interface SyntheticStream {
@@ -45,16 +46,6 @@ const BACKGROUND = [
   'Critics argue that more should have been done.',
 ];
 
-/** Deterministic pseudo-random numbers (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Generates a stream with about `mentions` event sentences. */
 export function syntheticStream(mentions: number, seed = 1): SyntheticStream {

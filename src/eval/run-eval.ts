@@ -195,11 +195,6 @@ export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], 
   const linker = new OnlineLinker(options);
   const out: Clustering = new Map();
   const redirect = new Map<string, string>();
-  const resolve = (id: string): string => {
-    let e = id;
-    while (redirect.has(e)) e = redirect.get(e)!;
-    return e;
-  };
   const touched: string[][] = [];
   prepared.forEach((mentions, i) => {
     const plan = linker.plan(mentions);
@@ -211,7 +206,7 @@ export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], 
     touched.push(plan.links.map((l) => l.eventId));
     const every = options.consolidateEvery;
     if (every > 0 && (i + 1) % every === 0) {
-      const ids = [...new Set(touched.slice(-every).flat().map(resolve))].sort();
+      const ids = [...new Set(touched.slice(-every).flat().map((id) => follow(redirect, id)))].sort();
       for (const m of linker.planMerges(ids, options.mergeThreshold)) {
         linker.applyMerge(linker.mergedState(m.into, m.from), m.from);
         redirect.set(m.from, m.into);
@@ -224,12 +219,14 @@ export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], 
 /** Rewrites event ids through merges (chains followed), keeping each mention's events distinct. */
 function resolveMerges(c: Clustering, redirect: ReadonlyMap<string, string>): Clustering {
   if (redirect.size === 0) return c;
-  const resolve = (id: string): string => {
-    let e = id;
-    while (redirect.has(e)) e = redirect.get(e)!;
-    return e;
-  };
-  return new Map([...c].map(([k, events]) => [k, [...new Set(events.map(resolve))]]));
+  return new Map([...c].map(([k, events]) => [k, [...new Set(events.map((id) => follow(redirect, id)))]]));
+}
+
+/** The event an id ends up in, following merges. */
+function follow(redirect: ReadonlyMap<string, string>, id: string): string {
+  let e = id;
+  while (redirect.has(e)) e = redirect.get(e)!;
+  return e;
 }
 
 function timed(run: () => Clustering): { clustering: Clustering; seconds: number } {

@@ -1,15 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { CentroidIndex } from '../../src/link/centroid-index.js';
+import { seededRandom as rng } from '../../src/bench/seeded-random.js';
 
-function rng(seed: number): () => number {
-  let a = seed;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe('the centroid index', () => {
   it('finds the nearest centroids exactly while small, and forgets removed events', () => {

@@ -1,6 +1,7 @@
 import { munkres } from 'munkres';
 import { describe, expect, it } from 'vitest';
 import { type Partition, type Score, b3Score, blancScore, ceafScore, leaScore, mucScore, scorePartitions } from '../../src/eval/partition-metrics.js';
+import { seededRandom as rng } from '../../src/bench/seeded-random.js';
 
 const P = (s: string): Partition => s.trim().split(/\}\s*\{/).map((c) => c.replace(/[{}]/g, '').trim().split(/\s+/).filter(Boolean));
 const KEY_A = P('{a} {b c} {d e f}');
@@ -106,16 +107,6 @@ describe('CoNLL F1', () => {
   });
 });
 
-/** Deterministic pseudo-random numbers (mulberry32), so a failure can be replayed. */
-function rng(seed: number): () => number {
-  let a = seed;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function permutations(n: number): number[][] {
   if (n === 0) return [[]];
