@@ -3,11 +3,12 @@
  * out; an article that leaves early (already stored, rejected) travels on as a finished
  * outcome so that the caller sees exactly one outcome per article, in order.
  *
- *   articles ─► admit ─► analyse ─► detect ─► embed ─► (group) ─► link + commit ─► outcomes
+ *   articles ─► admit ─► analyse ─► detect ─► (group) ─► embed ─► link + commit ─► outcomes
  *
- * Every stage runs one article at a time (concatMap), which is what linking needs (it is
- * serial by nature) and keeps memory flat: the source is pulled no faster than articles
- * are committed.
+ * Every stage takes one item at a time (concatMap): one article up to detection, then a
+ * group of articles (up to GROUP_MAX, or what arrived within GROUP_MS) for embedding,
+ * linking and committing. Linking is serial by nature, and nothing is pulled faster than
+ * groups are committed, so memory stays flat.
  */
 import { type Observable, type OperatorFunction, bufferTime, concatMap, defer, filter, from } from 'rxjs';
 import type { Config } from './config/schema.js';
