@@ -210,14 +210,24 @@ function outletRows(e: EventState): { outlet: string; mentions: number; independ
 async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArticle>[], cadence: ConsolidationCadence): Promise<ArticleOutcome[]> {
   const log = ctx.logger.child({ stage: 'link' });
   const outcomes: ArticleOutcome[] = new Array(flows.length);
-  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; commit: ArticleCommit }[] = [];
+  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; commit: Omit<ArticleCommit, 'events'> }[] = [];
   const flush = async (): Promise<void> => {
     if (pending.length === 0) return;
     const batch = pending;
     pending = [];
+    // An event several articles of the group touched is written once, in its last state:
+    // the group commits as one, so the states in between would be overwritten anyway.
+    const lastWriter = new Map<string, number>();
+    batch.forEach((p, k) => {
+      for (const e of p.plan.events) lastWriter.set(e.id, k);
+    });
+    const commits: ArticleCommit[] = batch.map((p, k) => ({
+      ...p.commit,
+      events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
+    }));
     let results: CommitResult[];
     try {
-      results = await ctx.store.commitArticles(batch.map((p) => p.commit));
+      results = await ctx.store.commitArticles(commits);
     } catch (err) {
       log.error({ articles: batch.length, err: describeError(err) }, 'commit failed; articles not stored');
       for (const p of batch) outcomes[p.index] = outcome(p.a.article, 'rejected', describeError(err));
@@ -261,7 +271,6 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
         sentences: a.sentences.map((s, k) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[k]! })),
         mentions: a.mentions,
         links: plan.links,
-        events: plan.events.map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
         idf: a.idf,
         messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
       },
