@@ -66,6 +66,16 @@ function clusterOf(p: Partition): Map<string, number> {
   return m;
 }
 
+/** How many mentions of `cluster` each cluster of the other side holds (mentions it lacks are left out). */
+function pieces(cluster: readonly string[], clusterOfOther: Map<string, number>): Map<number, number> {
+  const counts = new Map<number, number>();
+  for (const x of cluster) {
+    const j = clusterOfOther.get(x);
+    if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
+  }
+  return counts;
+}
+
 /** MUC: for each cluster, its size minus the number of pieces the other partition cuts it into. */
 export function mucScore(key: Partition, response: Partition): Score {
   const side = (a: Partition, b: Partition): number => {
@@ -91,12 +101,7 @@ export function b3Score(key: Partition, response: Partition): Score {
     let sum = 0;
     let n = 0;
     for (const c of a) {
-      const counts = new Map<number, number>();
-      for (const x of c) {
-        const j = inB.get(x);
-        if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
-      }
-      for (const shared of counts.values()) sum += (shared * shared) / c.length;
+      for (const shared of pieces(c, inB).values()) sum += (shared * shared) / c.length;
       n += c.length;
     }
     return ratio(sum, n);
@@ -176,12 +181,7 @@ export function blancScore(key: Partition, response: Partition): Score {
   // Coreference links in both: pairs in one key cluster and one response cluster.
   let cBoth = 0;
   for (const c of key) {
-    const counts = new Map<number, number>();
-    for (const x of c) {
-      const j = inR.get(x);
-      if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
-    }
-    for (const n of counts.values()) cBoth += (n * (n - 1)) / 2;
+    for (const n of pieces(c, inR).values()) cBoth += (n * (n - 1)) / 2;
   }
   // Non-coreference links in both: pairs of mentions both sides hold, apart on both sides.
   const common = [...inK.keys()].filter((x) => inR.has(x));
@@ -221,13 +221,8 @@ export function leaScore(key: Partition, response: Partition): Score {
         const j = inB.get(c[0]!);
         resolution = j !== undefined && b[j]!.length === 1 ? 1 : 0;
       } else {
-        const counts = new Map<number, number>();
-        for (const x of c) {
-          const j = inB.get(x);
-          if (j !== undefined) counts.set(j, (counts.get(j) ?? 0) + 1);
-        }
         let common = 0;
-        for (const n of counts.values()) common += (n * (n - 1)) / 2;
+        for (const n of pieces(c, inB).values()) common += (n * (n - 1)) / 2;
         resolution = common / ((c.length * (c.length - 1)) / 2);
       }
       num += c.length * resolution;
