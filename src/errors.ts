@@ -23,6 +23,7 @@ export const ERROR_CODES = {
   STRAND_REQUEST_INVALID: { status: 400 },
   STRAND_EVAL_INPUT_INVALID: { status: 400 },
   STRAND_MODEL_MISSING: { status: 500 },
+  STRAND_ANALYSIS_FAILED: { status: 500 },
 } as const;
 
 /** One of the stable error codes. */

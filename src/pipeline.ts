@@ -7,8 +7,8 @@
  *
  * Every stage takes one item at a time (concatMap): one article up to detection, then a
  * group of articles (up to GROUP_MAX, or what arrived within GROUP_MS) for embedding,
- * linking and committing. Linking is serial by nature, and nothing is pulled faster than
- * groups are committed, so memory stays flat.
+ * linking and committing. Linking is serial by nature. The one exception is analysis on
+ * worker threads, which runs a few articles ahead and hands them on in input order.
  */
 import { type Observable, type OperatorFunction, bufferTime, concatMap, defer, filter, from } from 'rxjs';
 import type { Config } from './config/schema.js';
@@ -22,7 +22,9 @@ import type { Logger } from './logger.js';
 import { buildMergeMessages, buildMessages } from './notify/messages.js';
 import type { Article, EmbeddedMention, Vector } from './records.js';
 import type { ArticleCommit, CommitResult, Store } from './store/store.js';
+import { orderedMergeMap } from './ordered-merge-map.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
+import { ANALYSIS_AHEAD, type AnalysisPool } from './text/analysis-pool.js';
 import type { Nlp } from './text/nlp.js';
 
 /** What the pipeline is handed. */
@@ -34,6 +36,8 @@ export interface PipelineContext {
   store: Store;
   logger: Logger;
   now: () => Date;
+  /** Analysis threads; without them articles are analysed on the main thread with `nlp`. */
+  analysis?: AnalysisPool;
   /** Overrides which sentences become mentions (evaluation); live use leaves it unset. */
   selectMentions?: (article: Article) => MentionSelection;
 }
@@ -75,7 +79,11 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
   const cadence = new ConsolidationCadence(ctx);
   return articles$.pipe(
     concatMap((a) => defer(() => admit(a))),
-    stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
+    // With analysis threads, articles are analysed ahead of the link stage (enough to keep
+    // the threads busy while the main thread commits a group).
+    ctx.analysis
+      ? stage('analyse', ctx, (a: Article) => ctx.analysis!.analyse(a), ctx.analysis.threads * ANALYSIS_AHEAD)
+      : stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
     stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold, ctx.selectMentions?.(a.article))),
     // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
     // batch and one commit per group.
@@ -87,9 +95,9 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
 }
 
 /** Wraps a stage function so that failures become a rejected outcome instead of ending the stream. */
-function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: PipelineContext, fn: (a: A) => B | Promise<B>): OperatorFunction<Flow<A>, Flow<B>> {
+function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: PipelineContext, fn: (a: A) => B | Promise<B>, concurrency = 1): OperatorFunction<Flow<A>, Flow<B>> {
   const log = ctx.logger.child({ stage: name });
-  return concatMap(async (f: Flow<A>): Promise<Flow<B>> => {
+  const run = async (f: Flow<A>): Promise<Flow<B>> => {
     if (f.done) return f;
     const article: Article = 'article' in f.go ? (f.go as AnalysedArticle).article : (f.go as Article);
     try {
@@ -98,7 +106,8 @@ function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: Pipeli
       log.warn({ article: article.id, err: describeError(err) }, 'article rejected');
       return { done: outcome(article, 'rejected', `${name}: ${describeError(err)}`) };
     }
-  });
+  };
+  return concurrency > 1 ? orderedMergeMap(run, concurrency) : concatMap(run);
 }
 
 /** Drops articles already stored and marks verbatim copies of earlier ones. */

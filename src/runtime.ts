@@ -13,6 +13,7 @@ import type { Logger } from './logger.js';
 import type { PipelineContext } from './pipeline.js';
 import { openSqliteStore } from './store/sqlite/sqlite-store.js';
 import type { Store } from './store/store.js';
+import { type AnalysisPool, analysisThreads, startAnalysisPool } from './text/analysis-pool.js';
 import { createNlp } from './text/nlp.js';
 
 /** Everything a command needs to run the pipeline and serve queries. */
@@ -20,15 +21,21 @@ export interface Runtime extends PipelineContext {
   close(): Promise<void>;
 }
 
-/** Opens the store and resumes the linker; `store` may be passed in (tests). */
-export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store): Promise<Runtime> {
+/**
+ * Opens the store and resumes the linker. `store` may be passed in (tests); so may a running
+ * analysis pool, which the runtime then uses but does not close (benchmarks reuse one).
+ */
+export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store, sharedAnalysis?: AnalysisPool): Promise<Runtime> {
   const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
   const s = store ?? openSqliteStore(config.store.path);
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
   if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
   linker.load(snapshot.events.map(deserialiseEvent));
-  logger.child({ stage: 'runtime' }).debug({ events: linker.size, idfDocs: snapshot.idf.docs }, 'linker resumed');
+  const threads = sharedAnalysis?.threads ?? analysisThreads(config.analysis.threads);
+  const owned = !sharedAnalysis && threads > 0 ? await startAnalysisPool(threads) : undefined;
+  const analysis = sharedAnalysis ?? owned;
+  logger.child({ stage: 'runtime' }).debug({ events: linker.size, idfDocs: snapshot.idf.docs, analysisThreads: threads }, 'linker resumed');
   return {
     config,
     nlp: createNlp(),
@@ -37,6 +44,10 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
     store: s,
     logger,
     now: () => new Date(),
-    close: () => s.close(),
+    ...(analysis ? { analysis } : {}),
+    close: async () => {
+      await owned?.close();
+      await s.close();
+    },
   };
 }

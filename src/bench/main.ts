@@ -19,7 +19,7 @@
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { tmpdir } from 'node:os';
+import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { from, lastValueFrom, toArray } from 'rxjs';
 import { parseConfig } from '../config/load-config.js';
@@ -35,6 +35,7 @@ import { checkEvalInput } from '../eval/eval-input.js';
 import { scorePartitions } from '../eval/partition-metrics.js';
 import { prepareMentions, selector, toArticles } from '../eval/prepare-mentions.js';
 import { linkPrepared } from '../eval/run-eval.js';
+import { type AnalysisPool, analysisThreads, startAnalysisPool } from '../text/analysis-pool.js';
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
@@ -52,15 +53,19 @@ interface Row {
 const REPEATS = 5;
 const DAY_MS = 86_400_000;
 
-async function run(workload: string, articles: () => Promise<Article[]>): Promise<Row> {
+/**
+ * Runs a workload REPEATS times, each on a fresh store. The analysis threads are started
+ * once and kept warm across runs, as in a running service (each run's main thread is warm too).
+ */
+async function run(workload: string, articles: () => Promise<Article[]>, analysis: AnalysisPool | undefined): Promise<Row> {
   const times: number[] = [];
   let sentences = 0;
   let mentions = 0;
   let count = 0;
   for (let i = 0; i < REPEATS; i++) {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-bench-'));
-    const config = parseConfig({ store: { path: join(dir, 'bench.sqlite') }, log: { level: 'silent' } });
-    const rt = await createRuntime(config, createLogger('silent'), openSqliteStore(config.store.path));
+    const config = parseConfig({ store: { path: join(dir, 'bench.sqlite') }, log: { level: 'silent' }, analysis: { threads: analysis?.threads ?? 0 } });
+    const rt = await createRuntime(config, createLogger('silent'), openSqliteStore(config.store.path), analysis);
     const t0 = performance.now();
     const input = await articles();
     const outcomes = await lastValueFrom(runPipeline(from(input), rt).pipe(toArray()));
@@ -128,7 +133,14 @@ function partitionOf(c: Map<string, string[]>): string[][] {
 }
 
 async function main(): Promise<void> {
-  const rows = [await run('demo replay (read + pipeline + SQLite file)', demoArticles), await run('demo x10 (synthetic, 1,010 articles)', demoTimesTen)];
+  const threads = analysisThreads(parseConfig({}).analysis.threads);
+  const analysis = threads > 0 ? await startAnalysisPool(threads) : undefined;
+  const rows = [
+    await run('demo replay (read + pipeline + SQLite file)', demoArticles, analysis),
+    await run('demo x10 (synthetic, 1,010 articles)', demoTimesTen, analysis),
+    ...(analysis ? [await run('demo x10, all on the main thread', demoTimesTen, undefined)] : []),
+  ];
+  await analysis?.close();
   // --quick: the pipeline rows only (seconds instead of about ten minutes).
   const quick = process.argv.includes('--quick');
   const versus = quick ? null : linkerVersusBatch(20_000);
@@ -139,7 +151,8 @@ async function main(): Promise<void> {
   const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
   const widths = header.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
   const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
-  process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n\n`);
+  process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n`
+    + `${availableParallelism()} cores; articles analysed on ${threads === 0 ? 'the main thread' : `${threads} analysis thread(s)`}, linked and stored on the main thread\n\n`);
   process.stdout.write(`${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`);
   if (versus) process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
     + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
@@ -153,7 +166,7 @@ async function main(): Promise<void> {
     + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

@@ -37,6 +37,13 @@ export const configSchema = z.strictObject({
     /** Time allowed for one feed fetch, ms. Default 15 s. */
     fetchTimeoutMs: z.number().int().min(100).default(15_000),
   }).prefault({}),
+  analysis: z.strictObject({
+    /**
+     * Threads that split and analyse articles beside the thread that links and stores them;
+     * 0 analyses on the main thread. Default auto: one fewer than the cores, at most 4.
+     */
+    threads: z.union([z.literal('auto'), z.number().int().min(0).max(32)]).default('auto'),
+  }).prefault({}),
   detect: z.strictObject({
     /** Event-ness score at or above which a sentence becomes a mention. Default 0.5. */
     threshold: z.number().min(0).max(1).default(0.5),

@@ -14,7 +14,8 @@ import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 
 /** A validated configuration with overrides on top of the defaults. */
 export function testConfig(overrides: Record<string, unknown> = {}): Readonly<Config> {
-  return parseConfig({ store: { path: ':memory:' }, log: { level: 'silent' }, ...overrides });
+  // Analysis on the main thread unless a test asks for threads (each thread loads a model).
+  return parseConfig({ store: { path: ':memory:' }, log: { level: 'silent' }, analysis: { threads: 0 }, ...overrides });
 }
 
 /** A runtime on a fresh in-memory store (or on `path`). */

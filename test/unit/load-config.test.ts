@@ -49,6 +49,8 @@ describe('configuration', () => {
     ['a misspelt option', '{"link": {"treshold": 0.3}}', 'STRAND_CONFIG_INVALID', /link/],
     ['an out-of-range value', '{"link": {"threshold": 7}}', 'STRAND_CONFIG_INVALID', /link\.threshold/],
     ['a wrong type', '{"server": {"port": "80"}}', 'STRAND_CONFIG_INVALID', /server\.port/],
+    ['a negative thread count', '{"analysis": {"threads": -1}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
+    ['a thread count in words', '{"analysis": {"threads": "many"}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],
     ['a webhook URL that is not http(s)', '{"webhooks": {"subscribers": [{"name": "a", "url": "file:///etc/passwd", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}]}}', 'STRAND_CONFIG_INVALID', /url/],
   ])('refuses %s with a clear message', (_name, text, code, message) => {

@@ -1,0 +1,65 @@
+/**
+ * Article analysis on worker threads, so that splitting, tagging and date resolution
+ * (about a third of the pipeline's time) run on other cores while the main thread links
+ * and commits. Results are plain records (structured clone); the analysis is the same
+ * code as on the main thread, so outcomes do not depend on the thread count.
+ */
+import { availableParallelism } from 'node:os';
+import { existsSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { Piscina } from 'piscina';
+import { StrandError } from '../errors.js';
+import type { Article } from '../records.js';
+import type { AnalysedArticle } from './analyse-article.js';
+
+/** Analyses articles off the main thread. */
+export interface AnalysisPool {
+  readonly threads: number;
+  analyse(article: Article): Promise<AnalysedArticle>;
+  close(): Promise<void>;
+}
+
+/** `auto`: one thread per core beyond the main one, at most 4 (the linker is serial, so more would idle). */
+export function analysisThreads(setting: 'auto' | number, cores = availableParallelism()): number {
+  return setting === 'auto' ? Math.min(4, Math.max(0, cores - 1)) : setting;
+}
+
+/** Most articles handed to one thread at a time; `analyse` callers keep within it. */
+export const ANALYSIS_AHEAD = 64;
+
+/**
+ * Starts `threads` analysis threads (each loads its own language model, about 100 MB) and
+ * resolves once every one has answered, so that a broken thread fails at start-up.
+ */
+export async function startAnalysisPool(threads: number): Promise<AnalysisPool> {
+  if (threads < 1) throw new StrandError('STRAND_CONFIG_INVALID', `an analysis pool needs at least one thread, not ${threads}`);
+  // Tasks go straight to a thread's message port, which keeps them in order; piscina's own
+  // queue (used past this many per thread) does not, and the pipeline needs input order.
+  const pool = new Piscina<Article | null, AnalysedArticle | null>({
+    ...workerFile(), minThreads: threads, maxThreads: threads, idleTimeout: Infinity, concurrentTasksPerWorker: ANALYSIS_AHEAD,
+  });
+  try {
+    await Promise.all(Array.from({ length: threads }, () => pool.run(null)));
+  } catch (err) {
+    await pool.close({ force: true });
+    throw new StrandError('STRAND_ANALYSIS_FAILED', `analysis threads did not start: ${(err as Error).message}`, { cause: err });
+  }
+  return {
+    threads,
+    async analyse(article) {
+      try {
+        return (await pool.run(article)) as AnalysedArticle;
+      } catch (err) {
+        throw new StrandError('STRAND_ANALYSIS_FAILED', `analysis thread failed on article ${article.id}: ${(err as Error).message}`, { cause: err });
+      }
+    },
+    close: () => pool.close({ force: true }),
+  };
+}
+
+/** The compiled worker next to this file; from sources (tests, tsx) the TypeScript one, through tsx. */
+function workerFile(): { filename: string; execArgv?: string[] } {
+  const js = new URL('./analysis-worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(js))) return { filename: js.href };
+  return { filename: new URL('./analysis-worker.ts', import.meta.url).href, execArgv: ['--import', 'tsx'] };
+}
