@@ -2,6 +2,6 @@
 // Lua scripts) from src/ into dist/, keeping their relative paths.
 import { cpSync, existsSync } from 'node:fs';
 
-for (const dir of ['web/static']) {
+for (const dir of ['web/static', 'store/redis/lua']) {
   if (existsSync(`src/${dir}`)) cpSync(`src/${dir}`, `dist/${dir}`, { recursive: true });
 }

@@ -65,7 +65,13 @@ const GROUP_MAX = 32;
 /** Longest an article waits for its group, ms (live feeds trickle; a replay fills groups at once). */
 const GROUP_MS = 50;
 
-type Flow<T> = { go: T; done?: undefined } | { go?: undefined; done: ArticleOutcome };
+/** An article still on its way (`go`), or one that has finished early (`done`). */
+export type Flow<T> = { go: T; done?: undefined } | { go?: undefined; done: ArticleOutcome };
+
+/** A detected article, with its mentions' vectors when a worker process embedded them already. */
+export interface DetectedWork extends DetectedArticle {
+  vectors?: Vector[];
+}
 
 interface EmbeddedArticle extends DetectedArticle {
   embedded: EmbeddedMention[];
@@ -76,7 +82,6 @@ interface EmbeddedArticle extends DetectedArticle {
 /** Runs articles through every stage; emits one outcome per article. */
 export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext): Observable<ArticleOutcome> {
   const admit = admitStage(ctx);
-  const cadence = new ConsolidationCadence(ctx);
   return articles$.pipe(
     concatMap((a) => defer(() => admit(a))),
     // With analysis threads, articles are analysed ahead of the link stage (enough to keep
@@ -85,6 +90,17 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
       ? stage('analyse', ctx, (a: Article) => ctx.analysis!.analyse(a), ctx.analysis.threads * ANALYSIS_AHEAD)
       : stage('analyse', ctx, (a: Article) => analyseArticle(ctx.nlp, a)),
     stage('detect', ctx, (a: AnalysedArticle) => detectMentions(a, ctx.config.detect.threshold, ctx.selectMentions?.(a.article))),
+    linkStages(ctx),
+  );
+}
+
+/**
+ * The serial end of the pipeline: embed, link and commit detected articles in groups. The
+ * linker process of a scale-out deployment feeds it from the queue of analysed articles.
+ */
+export function linkStages(ctx: PipelineContext): OperatorFunction<Flow<DetectedWork>, ArticleOutcome> {
+  const cadence = new ConsolidationCadence(ctx);
+  return (detected$) => detected$.pipe(
     // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
     // batch and one commit per group.
     bufferTime(GROUP_MS, null, GROUP_MAX),
@@ -111,7 +127,7 @@ function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: Pipeli
 }
 
 /** Drops articles already stored and marks verbatim copies of earlier ones. */
-function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>> {
+export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>> {
   // Articles admitted but not yet committed, so that two copies close together in the
   // stream are recognised even before the first one reaches the store.
   const inFlightIds = new Set<string>();
@@ -135,7 +151,7 @@ function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>
  * (TF-IDF document frequencies, in stream order) and the group's mentions are embedded
  * in one batch, which is what keeps a transformer model busy.
  */
-async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedArticle>[]): Promise<Flow<EmbeddedArticle>[]> {
+async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedWork>[]): Promise<Flow<EmbeddedArticle>[]> {
   const tfidf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder : null;
   const prepared = group.map((f) => {
     if (f.done) return f;
@@ -145,7 +161,7 @@ async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedArt
     // Taken here, not at commit: each article commits exactly its own increments, so a
     // crash never stores a later article's.
     const idf = tfidf ? tfidf.takeDelta() : null;
-    const vectors = tfidf ? a.mentions.map((m) => tfidf.vector(m.terms)) : null;
+    const vectors = a.vectors ?? (tfidf ? a.mentions.map((m) => tfidf.vector(m.terms)) : null);
     return { a, idf, vectors };
   });
   const pending = prepared.flatMap((p) => ('a' in p && !p.vectors ? p.a.mentions : []));
@@ -161,7 +177,8 @@ async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedArt
   return prepared.map((p) => {
     if (!('a' in p)) return p;
     const vectors = p.vectors ?? batch.slice(at, (at += p.a.mentions.length));
-    return { go: { ...p.a, idf: p.idf, embedded: p.a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) } };
+    const { vectors: _carried, ...a } = p.a;
+    return { go: { ...a, idf: p.idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) } };
   });
 }
 

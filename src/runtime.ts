@@ -11,7 +11,7 @@ import { deserialiseEvent } from './link/event-state.js';
 import { OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
 import type { PipelineContext } from './pipeline.js';
-import { openSqliteStore } from './store/sqlite/sqlite-store.js';
+import { openStore } from './store/open-store.js';
 import type { Store } from './store/store.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from './text/analysis-pool.js';
 import { createNlp } from './text/nlp.js';
@@ -27,7 +27,7 @@ export interface Runtime extends PipelineContext {
  */
 export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store, sharedAnalysis?: AnalysisPool): Promise<Runtime> {
   const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
-  const s = store ?? openSqliteStore(config.store.path);
+  const s = store ?? (await openStore(config.store, logger));
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
   if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);

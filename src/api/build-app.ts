@@ -10,7 +10,7 @@ import type { Logger } from '../logger.js';
 import type { Store } from '../store/store.js';
 import { registerEventRoutes } from './routes/events.js';
 import { registerArticleRoutes } from './routes/articles.js';
-import { registerOperationRoutes, type IngestStatus } from './routes/operations.js';
+import { registerOperationRoutes, type IngestStatus, type QueueView } from './routes/operations.js';
 import { registerWebPage } from '../web/serve-page.js';
 import { CAUTION } from './schemas.js';
 
@@ -20,6 +20,8 @@ export interface ApiDeps {
   logger: Logger;
   version: string;
   ingestStatus: () => IngestStatus;
+  /** The work queue of a scale-out deployment (Redis store); absent in a single process. */
+  queue?: QueueView | undefined;
 }
 
 /** Builds the fastify app (not yet listening). */

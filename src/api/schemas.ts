@@ -226,3 +226,29 @@ export const deadLettersSchema = {
     },
   },
 } as const;
+
+export const queueSchema = {
+  summary: 'Work waiting in a scale-out deployment: articles for the workers, analysed articles for the linker, dead letters',
+  tags: ['operations'],
+  response: {
+    200: { type: 'object', properties: { intake: int, analysed: int, deadLetters: int }, required: ['intake', 'analysed', 'deadLetters'] },
+  },
+} as const;
+
+export const queueDeadLettersSchema = {
+  summary: 'Queued articles the workers gave up on after repeated failures, newest first, with the last error',
+  tags: ['operations'],
+  querystring: { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        entries: {
+          type: 'array',
+          items: { type: 'object', properties: { id: str, entry: str, error: str, article: str }, required: ['id', 'entry', 'error', 'article'] },
+        },
+      },
+      required: ['entries'],
+    },
+  },
+} as const;

@@ -31,6 +31,7 @@ const program = new Command()
 
 common(program.command('serve'))
   .description('serve the query API and the analysts\' page; optionally replay feeds into the store while serving')
+  .addOption(new Option('--role <role>', 'all: everything in one process; with the Redis store: api, worker (run several) or linker (one per partition) (or STRANDLINE_ROLE)').choices(['all', 'api', 'worker', 'linker']))
   .option('--demo', 'replay the bundled demo feeds into data/demo.sqlite (unless --db is given)')
   .option('--replay <path...>', 'feed files, folders or URLs to replay while serving')
   .option('--host <host>', 'interface to listen on (or HOST)')

@@ -54,6 +54,9 @@ function envOverrides(env: Record<string, string | undefined>): Record<string, u
   if (env.PORT !== undefined && env.PORT !== '') set('server', 'port', toPort(env.PORT));
   if (env.HOST) set('server', 'host', env.HOST);
   if (env.STRANDLINE_DB) set('store', 'path', env.STRANDLINE_DB);
+  if (env.STRANDLINE_STORE) set('store', 'kind', env.STRANDLINE_STORE);
+  if (env.STRANDLINE_REDIS_URL) (out.store ??= {}).redis = { url: env.STRANDLINE_REDIS_URL };
+  if (env.STRANDLINE_ROLE) set('process', 'role', env.STRANDLINE_ROLE);
   if (env.STRANDLINE_LOG_LEVEL) set('log', 'level', env.STRANDLINE_LOG_LEVEL);
   return out;
 }

@@ -24,10 +24,16 @@ export const configSchema = z.strictObject({
     port: z.number().int().min(0).max(65535).default(7410),
   }).prefault({}),
   store: z.strictObject({
-    /** Only the embedded SQLite store so far. */
-    kind: z.literal('sqlite').default('sqlite'),
+    /** sqlite: one process, one file. redis: several processes and machines share the state. Default sqlite. */
+    kind: z.enum(['sqlite', 'redis']).default('sqlite'),
     /** SQLite file path, relative to the working directory. Default data/strandline.sqlite. Env STRANDLINE_DB overrides. */
     path: z.string().min(1).default('data/strandline.sqlite'),
+    redis: z.strictObject({
+      /** redis:// or rediss:// URL, with credentials if any. Env STRANDLINE_REDIS_URL overrides. */
+      url: z.string().regex(/^rediss?:\/\/\S+$/, 'must be a redis:// or rediss:// URL').default('redis://127.0.0.1:6379'),
+      /** Name of this deployment's state; all its keys share the hash tag {strandline:<partition>}. Default main. */
+      partition: z.string().regex(/^[A-Za-z0-9_-]{1,64}$/, 'must be 1 to 64 letters, digits, - or _').default('main'),
+    }).prefault({}),
   }).prefault({}),
   ingest: z.strictObject({
     /** Largest feed file or response read, in bytes. Default 20 MiB. */
@@ -36,6 +42,25 @@ export const configSchema = z.strictObject({
     maxArticleChars: z.number().int().min(100).default(200_000),
     /** Time allowed for one feed fetch, ms. Default 15 s. */
     fetchTimeoutMs: z.number().int().min(100).default(15_000),
+  }).prefault({}),
+  process: z.strictObject({
+    /**
+     * What this process does. all: everything in one process (the default; any store).
+     * With the Redis store the work can be split: api (queries, the page, queueing feeds),
+     * worker (analysis and event sentences; run several), linker (linking, notifications,
+     * retention; one per partition). Env STRANDLINE_ROLE overrides.
+     */
+    role: z.enum(['all', 'api', 'worker', 'linker']).default('all'),
+  }).prefault({}),
+  queue: z.strictObject({
+    /** Intake entries a worker takes at a time. Default 16. */
+    batch: z.number().int().min(1).max(1000).default(16),
+    /** How long a blocking read waits before looking again, ms. Default 2 s. */
+    blockMs: z.number().int().min(10).max(60_000).default(2000),
+    /** An entry pending this long is taken over from its worker (which died or hangs), ms. Default 30 s. */
+    claimIdleMs: z.number().int().min(100).default(30_000),
+    /** Deliveries after which a failing entry goes to the dead-letter stream. Default 5. */
+    maxDeliveries: z.number().int().min(1).max(100).default(5),
   }).prefault({}),
   analysis: z.strictObject({
     /**

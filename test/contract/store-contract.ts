@@ -39,6 +39,11 @@ function commitFor(a: Article, text: string, event: EventState | null, opts: { i
   };
 }
 
+/** A commit of one article opening one event (for store-specific tests). */
+export function commitFixture(id: string): ArticleCommit {
+  return commitFor(article(id, 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'A fire destroyed a warehouse.'), 'A fire destroyed a warehouse.', null).commit;
+}
+
 /** Registers the contract tests for one Store implementation. */
 export function describeStoreContract(name: string, open: () => Promise<Store>): void {
   describe(`${name} (Store contract)`, () => {

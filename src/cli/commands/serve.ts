@@ -5,13 +5,19 @@
 import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';
 import type { IngestStatus } from '../../api/routes/operations.js';
+import type { Config } from '../../config/schema.js';
+import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
+import { readReplayInput } from '../../ingest/replay-source.js';
+import type { Logger } from '../../logger.js';
 import { createRuntime } from '../../runtime.js';
+import { openStore } from '../../store/open-store.js';
 import { addDays, dayOf } from '../../text/days.js';
 import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
 import { formatSummary, runFeeds } from '../run-feeds.js';
 
 /** Options of serve. */
 export interface ServeOptions extends CommonOptions {
+  role?: string;
   demo?: boolean;
   replay?: string[];
   host?: string;
@@ -27,7 +33,10 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   if (opts.port !== undefined) server.port = opts.port;
   // The demo gets its own store file so it never mixes with an operator's data.
   const demoDb = opts.demo && !opts.db ? { store: { path: 'data/demo.sqlite' } } : {};
-  const { config, logger } = setup(opts, { ...demoDb, ...(Object.keys(server).length ? { server } : {}) });
+  const { config, logger } = setup(opts, { ...demoDb, ...(Object.keys(server).length ? { server } : {}), ...(opts.role ? { process: { role: opts.role } } : {}) });
+  checkRole(config);
+  if (config.process.role === 'worker' || config.process.role === 'linker') return serveQueueRole(config, logger);
+  if (config.process.role === 'api') return serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])]);
   const rt = await createRuntime(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status });
@@ -50,7 +59,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
   const replay = sources.length === 0 ? Promise.resolve() : (async () => {
     status.state = 'replaying';
-    process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.path} …\n`);
+    process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`);
     const summary = await runFeeds(rt, sources, { signal: abort.signal }, {
       onRead: (total) => { status.total = total; },
       onOutcome: (o, done) => {
@@ -66,10 +75,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
     logger.error({ err }, 'replay failed');
   });
 
-  await new Promise<void>((resolve) => {
-    process.once('SIGINT', () => resolve());
-    process.once('SIGTERM', () => resolve());
-  });
+  await untilSignal();
   process.stdout.write('stopping…\n');
   abort.abort();
   clearInterval(sweeper);
@@ -77,5 +83,56 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   await dispatcher.stop();
   await app.close();
   await rt.close();
+  return 0;
+}
+
+function untilSignal(): Promise<void> {
+  return new Promise<void>((resolve) => {
+    process.once('SIGINT', () => resolve());
+    process.once('SIGTERM', () => resolve());
+  });
+}
+
+/** `--role worker` or `--role linker`: no HTTP; runs until a signal. */
+async function serveQueueRole(config: Readonly<Config>, logger: Logger): Promise<number> {
+  const role = config.process.role;
+  let stopRole: () => Promise<void>;
+  if (role === 'worker') {
+    stopRole = (await startWorker(config, logger)).stop;
+  } else {
+    const running = await startLinker(config, logger);
+    const dispatcher = new WebhookDispatcher({ store: running.runtime.store, config: config.webhooks, logger });
+    dispatcher.start();
+    stopRole = async () => {
+      await dispatcher.stop();
+      await running.stop();
+    };
+  }
+  process.stdout.write(`Strandline ${role} running on Redis partition ${config.store.redis.partition} (Ctrl+C to stop)\n`);
+  await untilSignal();
+  process.stdout.write('stopping…\n');
+  await stopRole();
+  return 0;
+}
+
+/** `--role api`: queries and the page over the shared store; feeds given to it are queued for the workers. */
+async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: readonly string[]): Promise<number> {
+  const store = await openStore(config.store, logger);
+  const queue = await openQueue(config, logger);
+  const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
+  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue });
+  const address = await app.listen({ host: config.server.host, port: config.server.port });
+  process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
+  if (sources.length) {
+    const input = await readReplayInput(sources, config.ingest);
+    status.total = input.articles.length;
+    await queue.enqueue(input.articles);
+    status.state = 'finished';
+    process.stdout.write(`Queued ${input.articles.length} articles from ${sources.join(', ')} for the workers\n`);
+  }
+  await untilSignal();
+  await app.close();
+  queue.close();
+  await store.close();
   return 0;
 }

@@ -1,0 +1,67 @@
+/**
+ * The intake stream: where articles wait for a worker. Any process may add to it (the API
+ * role replaying feeds, a push endpoint); workers read it through the consumer group
+ * `workers`; the linker reads its order.
+ */
+import type { Redis } from 'ioredis';
+import type { Article } from '../records.js';
+import type { Keyspace } from '../store/redis/keys.js';
+import { encodeArticle } from './wire.js';
+
+/** The consumer group of the worker processes. */
+export const WORKER_GROUP = 'workers';
+
+/** Creates the stream and the workers' group if missing (idempotent). */
+export async function ensureIntake(redis: Redis, k: Keyspace): Promise<void> {
+  try {
+    await redis.xgroup('CREATE', k.intake, WORKER_GROUP, '0', 'MKSTREAM');
+  } catch (err) {
+    if (!/BUSYGROUP/.test((err as Error).message)) throw err;
+  }
+}
+
+/** Adds articles to the intake stream, in order; returns their entry ids. */
+export async function enqueueArticles(redis: Redis, k: Keyspace, articles: readonly Article[]): Promise<string[]> {
+  await ensureIntake(redis, k);
+  const ids: string[] = [];
+  for (let at = 0; at < articles.length; at += 200) {
+    const p = redis.pipeline();
+    for (const a of articles.slice(at, at + 200)) p.xadd(k.intake, '*', 'article', encodeArticle(a));
+    for (const [err, id] of (await p.exec())!) {
+      if (err) throw err;
+      ids.push(id as string);
+    }
+  }
+  return ids;
+}
+
+/** What waits where: intake entries not yet answered, analysed entries not yet linked, dead letters. */
+export async function queueDepth(redis: Redis, k: Keyspace): Promise<{ intake: number; analysed: number; deadLetters: number }> {
+  const [intake, analysed, dead] = await Promise.all([redis.xlen(k.intake), redis.xlen(k.analysed), redis.xlen(k.deadLetters)]);
+  return { intake, analysed, deadLetters: dead };
+}
+
+/** A dead letter: an intake entry given up after repeated failures. */
+export interface DeadLetter {
+  id: string;
+  entry: string;
+  error: string;
+  /** The queued article as received (possibly malformed), cut to 2,000 characters. */
+  article: string;
+}
+
+/** The newest dead letters first. */
+export async function deadLetters(redis: Redis, k: Keyspace, limit: number): Promise<DeadLetter[]> {
+  const rows = await redis.xrevrange(k.deadLetters, '+', '-', 'COUNT', limit);
+  return rows.map(([id, fields]) => {
+    const f = fieldMap(fields);
+    return { id, entry: f.entry ?? '', error: f.error ?? '', article: (f.article ?? '').slice(0, 2000) };
+  });
+}
+
+/** A stream entry's flat field list as an object. */
+export function fieldMap(fields: readonly string[]): Record<string, string> {
+  const out: Record<string, string> = {};
+  for (let i = 0; i + 1 < fields.length; i += 2) out[fields[i]!] = fields[i + 1]!;
+  return out;
+}

@@ -1,0 +1,82 @@
+/**
+ * The processes of a scale-out deployment (store.kind redis). `api` serves queries and
+ * queues feeds; `worker` analyses (run several, on several machines); `linker` links,
+ * notifies and applies retention (one per partition, guarded by a lease). `all` is the
+ * single process and does not come through here.
+ */
+import type { Redis } from 'ioredis';
+import type { Config } from '../config/schema.js';
+import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
+import { TransformerEmbedder } from '../embed/transformer-embedder.js';
+import { StrandError } from '../errors.js';
+import type { Logger } from '../logger.js';
+import { createRuntime, type Runtime } from '../runtime.js';
+import { keyspace } from '../store/redis/keys.js';
+import { connectRedis } from '../store/redis/redis-store.js';
+import { createNlp } from '../text/nlp.js';
+import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
+import type { QueueView } from '../api/routes/operations.js';
+import type { Article } from '../records.js';
+import { QueueLinker } from './linker.js';
+import { AnalysisWorker } from './worker.js';
+
+/** Refuses a split role without the shared store. */
+export function checkRole(config: Readonly<Config>): void {
+  if (config.process.role !== 'all' && config.store.kind !== 'redis') {
+    throw new StrandError('STRAND_CONFIG_INVALID', `process.role ${config.process.role} shares its work through Redis: set store.kind to redis (or STRANDLINE_STORE=redis)`);
+  }
+}
+
+/** A running worker: analyses queued articles until stopped. */
+export async function startWorker(config: Readonly<Config>, logger: Logger, name?: string): Promise<{ worker: AnalysisWorker; stop(): Promise<void> }> {
+  const onError = redisErrorLog(logger);
+  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+  const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
+  const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger, ...(name ? { name } : {}) });
+  await worker.start();
+  logger.child({ stage: 'worker' }).info({ consumer: worker.name }, 'worker reading the intake stream');
+  return {
+    worker,
+    async stop() {
+      await worker.stop();
+      redis.disconnect();
+    },
+  };
+}
+
+/** A running linker: waits for the partition's lease, then links queued work until stopped. */
+export async function startLinker(config: Readonly<Config>, logger: Logger): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
+  const runtime = await createRuntime(config, logger);
+  const onError = redisErrorLog(logger);
+  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger });
+  await linker.start();
+  logger.child({ stage: 'linker' }).info('linker holds the partition lease');
+  return {
+    linker,
+    runtime,
+    async stop() {
+      await linker.stop();
+      redis.disconnect();
+      await runtime.close();
+    },
+  };
+}
+
+/** The queue as the API and the replaying api process see it. */
+export async function openQueue(config: Readonly<Config>, logger: Logger): Promise<QueueView & { enqueue(articles: readonly Article[]): Promise<string[]>; close(): void; redis: Redis }> {
+  const redis = await connectRedis(config.store.redis.url, {}, redisErrorLog(logger));
+  const keys = keyspace(config.store.redis.partition);
+  return {
+    redis,
+    depth: () => queueDepth(redis, keys),
+    deadLetters: (limit) => deadLetters(redis, keys, limit),
+    enqueue: (articles) => enqueueArticles(redis, keys, articles),
+    close: () => redis.disconnect(),
+  };
+}
+
+function redisErrorLog(logger: Logger): (err: Error) => void {
+  const log = logger.child({ stage: 'redis' });
+  return (err) => log.warn({ err: err.message }, 'Redis connection error; commands wait for it to return');
+}

@@ -1,0 +1,172 @@
+/**
+ * A worker process's loop: reads articles from the intake stream through the consumer
+ * group `workers`, analyses them, picks their event sentences, embeds them when the model
+ * does not learn from the stream (a transformer; TF-IDF vectors depend on stream order and
+ * are made by the linker), and hands each answer to the linker with the entry's
+ * acknowledgement in one script. An entry is acknowledged only once its answer is on the
+ * analysed stream. A periodic XAUTOCLAIM sweep takes over entries a dead or stuck worker
+ * left pending; an entry that fails `maxDeliveries` times goes to the dead-letter stream.
+ */
+import { readFileSync } from 'node:fs';
+import { hostname } from 'node:os';
+import type { Redis } from 'ioredis';
+import type { Config } from '../config/schema.js';
+import { detectMentions } from '../detect/detect-mentions.js';
+import type { Embedder } from '../embed/embedder.js';
+import { describeError } from '../errors.js';
+import type { Logger } from '../logger.js';
+import type { DetectedWork } from '../pipeline.js';
+import type { Article } from '../records.js';
+import type { Keyspace } from '../store/redis/keys.js';
+import { analyseArticle } from '../text/analyse-article.js';
+import type { AnalysisPool } from '../text/analysis-pool.js';
+import type { Nlp } from '../text/nlp.js';
+import { WORKER_GROUP, ensureIntake, fieldMap } from './intake.js';
+import { decodeArticle, encodeWork } from './wire.js';
+
+/** What a worker needs. */
+export interface WorkerDeps {
+  config: Readonly<Config>;
+  /** For commands and the hand-off script. */
+  redis: Redis;
+  /** Its own connection for the blocking read (a blocked connection can do nothing else). */
+  blocking: Redis;
+  keys: Keyspace;
+  nlp: Nlp;
+  analysis?: AnalysisPool | undefined;
+  embedder: Embedder;
+  logger: Logger;
+  /** Consumer name; defaults to host and process id. */
+  name?: string;
+}
+
+/** What a worker has done, for logs and tests. */
+export interface WorkerCounts {
+  answered: number;
+  failed: number;
+  dead: number;
+  claimed: number;
+}
+
+type Entry = [id: string, fields: string[]];
+
+export class AnalysisWorker {
+  readonly name: string;
+  readonly counts: WorkerCounts = { answered: 0, failed: 0, dead: 0, claimed: 0 };
+  private stopping = false;
+  private loop: Promise<void> | null = null;
+  private lastSweep = 0;
+  private readonly log: Logger;
+
+  constructor(private readonly d: WorkerDeps) {
+    this.name = d.name ?? `${hostname()}-${process.pid}`;
+    this.log = d.logger.child({ stage: 'worker', consumer: this.name });
+    d.redis.defineCommand('strandlineHandOff', { numberOfKeys: 1, lua: readFileSync(new URL('../store/redis/lua/hand-off.lua', import.meta.url), 'utf8') });
+  }
+
+  /** Starts reading; resolves once the group exists. */
+  async start(): Promise<void> {
+    await ensureIntake(this.d.redis, this.d.keys);
+    this.loop = this.run();
+  }
+
+  /** Finishes the entries in hand and stops. */
+  async stop(): Promise<void> {
+    this.stopping = true;
+    this.d.blocking.disconnect();
+    await this.loop?.catch(() => undefined);
+  }
+
+  private async run(): Promise<void> {
+    const q = this.d.config.queue;
+    while (!this.stopping) {
+      try {
+        if (Date.now() - this.lastSweep >= q.claimIdleMs / 2) await this.sweep();
+        const reply = await this.d.blocking.xreadgroup('GROUP', WORKER_GROUP, this.name, 'COUNT', q.batch, 'BLOCK', q.blockMs, 'STREAMS', this.d.keys.intake, '>') as [string, Entry[]][] | null;
+        if (reply) await this.process(reply[0]![1]);
+      } catch (err) {
+        if (this.stopping) break;
+        this.log.warn({ err: describeError(err) }, 'worker read failed; retrying');
+        await sleep(500);
+      }
+    }
+  }
+
+  /** Takes over entries idle longer than claimIdleMs (their worker died or hangs). */
+  private async sweep(): Promise<void> {
+    this.lastSweep = Date.now();
+    const q = this.d.config.queue;
+    let cursor = '0-0';
+    do {
+      const [next, entries] = await this.d.redis.xautoclaim(this.d.keys.intake, WORKER_GROUP, this.name, q.claimIdleMs, cursor, 'COUNT', q.batch) as [string, (Entry | null)[], string[]?];
+      cursor = next;
+      const live = entries.filter((e): e is Entry => e !== null && Array.isArray(e[1]));
+      if (live.length) {
+        this.counts.claimed += live.length;
+        this.log.info({ entries: live.length }, 'claimed entries another worker left pending');
+        await this.process(live);
+      }
+    } while (cursor !== '0-0' && !this.stopping);
+  }
+
+  private async process(entries: readonly Entry[]): Promise<void> {
+    const ready: { id: string; work: DetectedWork }[] = [];
+    for (const [id, fields] of entries) {
+      const body = fieldMap(fields).article ?? '';
+      let article: Article;
+      try {
+        article = decodeArticle(body);
+      } catch (err) {
+        // A malformed entry will not get better by retrying.
+        await this.giveUp(id, body, describeError(err));
+        continue;
+      }
+      try {
+        const analysed = this.d.analysis ? await this.d.analysis.analyse(article) : analyseArticle(this.d.nlp, article);
+        ready.push({ id, work: detectMentions(analysed, this.d.config.detect.threshold) });
+      } catch (err) {
+        await this.failed(id, body, describeError(err));
+      }
+    }
+    if (ready.length === 0) return;
+    if (!this.d.embedder.learn) {
+      const mentions = ready.flatMap((r) => r.work.mentions);
+      try {
+        const vectors = mentions.length ? await this.d.embedder.embed(mentions) : [];
+        let at = 0;
+        for (const r of ready) r.work = { ...r.work, vectors: vectors.slice(at, (at += r.work.mentions.length)) };
+      } catch (err) {
+        for (const r of ready) await this.failed(r.id, JSON.stringify(r.work.article), `embed: ${describeError(err)}`);
+        return;
+      }
+    }
+    for (const r of ready) {
+      await this.handOff(r.id, 'analysed', encodeWork(r.work));
+      this.counts.answered++;
+    }
+  }
+
+  /** Leaves a failed entry pending for a retry after claimIdleMs, or gives it up after maxDeliveries. */
+  private async failed(id: string, body: string, error: string): Promise<void> {
+    this.counts.failed++;
+    const pending = await this.d.redis.xpending(this.d.keys.intake, WORKER_GROUP, id, id, 1) as [string, string, number, number][];
+    const deliveries = pending[0]?.[3] ?? 1;
+    this.log.warn({ entry: id, deliveries, err: error }, 'article failed in the worker');
+    if (deliveries >= this.d.config.queue.maxDeliveries) await this.giveUp(id, body, `${error} (after ${deliveries} deliveries)`);
+  }
+
+  private async giveUp(id: string, body: string, error: string): Promise<void> {
+    this.counts.dead++;
+    this.log.error({ entry: id, err: error }, 'article moved to the dead-letter stream');
+    await this.handOff(id, 'dead', body.slice(0, 64_000), error);
+  }
+
+  private async handOff(id: string, kind: 'analysed' | 'dead', body: string, error = ''): Promise<void> {
+    const handOff = (this.d.redis as unknown as { strandlineHandOff: (...a: string[]) => Promise<string> }).strandlineHandOff;
+    await handOff.call(this.d.redis, this.d.keys.intake, this.d.keys.prefix, id, kind, body, error);
+  }
+}
+
+function sleep(ms: number): Promise<void> {
+  return new Promise((r) => setTimeout(r, ms));
+}

@@ -1,0 +1,102 @@
+/**
+ * Every Redis key Strandline uses, built in one place. All keys of a partition start with
+ * the hash tag `{strandline:<partition>}`, so on a Redis Cluster they share one slot: the
+ * Lua scripts can touch any of them atomically, and one partition lives on one shard.
+ * Several partitions (one per deployment or per desk) spread over the cluster's shards.
+ */
+import { StrandError } from '../../errors.js';
+
+/** Partition names are plain words: no braces (they would change the hash tag) and no colons. */
+const PARTITION = /^[A-Za-z0-9_-]{1,64}$/;
+
+/** The key names of one partition. */
+export interface Keyspace {
+  /** `{strandline:<partition>}`: the common prefix, passed to every script. */
+  readonly prefix: string;
+  /** Hash of row counts (articles, sentences, mentions, links, events); also routes scripts to the slot. */
+  readonly counts: string;
+  readonly seq: string;
+  /** Sorted set of article ids by commit order. */
+  readonly articles: string;
+  /** Sorted set of article ids by publication (or fetch) time, ms. */
+  readonly articlesByTime: string;
+  /** Hash: outlet → stored articles. */
+  readonly outlets: string;
+  /** Sorted set of event ids by last activity, ms. */
+  readonly events: string;
+  /** Hash: hashed TF-IDF feature → document frequency; and the document count. */
+  readonly idf: string;
+  readonly idfDocs: string;
+  /** Hash: absorbed event id → JSON {into, score, at}. */
+  readonly merges: string;
+  /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
+  readonly deliveries: string;
+  readonly due: string;
+  readonly dead: string;
+  article(id: string): string;
+  sentences(articleId: string): string;
+  sentenceText(articleId: string): string;
+  mentions(articleId: string): string;
+  links(articleId: string): string;
+  contentHash(hash: string): string;
+  event(id: string): string;
+  /** Set of `<article>\n<sentence index>` linked to an event. */
+  eventLinks(id: string): string;
+  /** Set of event ids merged into an event. */
+  mergedInto(id: string): string;
+  outbox(messageId: string): string;
+  /** Stream of articles waiting for analysis (consumer group `workers`). */
+  readonly intake: string;
+  /** Stream of analysed articles waiting to be linked (consumer group `linkers`). */
+  readonly analysed: string;
+  /** Stream of intake entries that kept failing, with their last error. */
+  readonly deadLetters: string;
+  /** Hash: intake entry id → the analysed entry that answered it (a second answer is dropped). */
+  readonly answered: string;
+  /** The lease a linker holds to be the partition's only linker. */
+  readonly linkerLease: string;
+  /** The last intake entry whose article the linker has committed. */
+  readonly linkerPosition: string;
+  /** Every key of the partition (for SCAN; tests and `dropPartition`). */
+  readonly pattern: string;
+}
+
+/** The keyspace of `partition`; refuses names that would break the hash tag. */
+export function keyspace(partition: string): Keyspace {
+  if (!PARTITION.test(partition)) {
+    throw new StrandError('STRAND_CONFIG_INVALID', `Redis partition "${partition}" must be 1 to 64 letters, digits, - or _`);
+  }
+  const p = `{strandline:${partition}}`;
+  return {
+    prefix: p,
+    counts: `${p}:counts`,
+    seq: `${p}:seq`,
+    articles: `${p}:articles`,
+    articlesByTime: `${p}:articles-by-time`,
+    outlets: `${p}:outlets`,
+    events: `${p}:events`,
+    idf: `${p}:idf`,
+    idfDocs: `${p}:idf-docs`,
+    merges: `${p}:merges`,
+    deliveries: `${p}:deliveries`,
+    due: `${p}:due`,
+    dead: `${p}:dead`,
+    article: (id) => `${p}:article:${id}`,
+    sentences: (id) => `${p}:sentences:${id}`,
+    sentenceText: (id) => `${p}:sentence-text:${id}`,
+    mentions: (id) => `${p}:mentions:${id}`,
+    links: (id) => `${p}:links:${id}`,
+    contentHash: (h) => `${p}:content-hash:${h}`,
+    event: (id) => `${p}:event:${id}`,
+    eventLinks: (id) => `${p}:event-links:${id}`,
+    mergedInto: (id) => `${p}:merged-into:${id}`,
+    outbox: (id) => `${p}:outbox:${id}`,
+    intake: `${p}:intake`,
+    analysed: `${p}:analysed`,
+    deadLetters: `${p}:dead-letters`,
+    answered: `${p}:answered`,
+    linkerLease: `${p}:linker-lease`,
+    linkerPosition: `${p}:linker-position`,
+    pattern: `${p}:*`,
+  };
+}

@@ -1,0 +1,48 @@
+-- commit-articles: stores a group of articles with their sentences, mentions, links, event
+-- states, document frequencies and outbox messages, all at once. An article already stored
+-- is left exactly as it is, so replaying a commit changes nothing.
+-- KEYS[1]  the partition's counts hash ({strandline:<partition>}:counts; routes the call)
+-- ARGV[1]  the partition prefix, {strandline:<partition>} (key names as in keys.ts)
+-- ARGV[2]  JSON array of commits, built by redis-store.ts (toPayload)
+-- ARGV[3+] event states (binary), numbered by the commits' events[].state
+-- returns  one status per commit: 'stored' or 'already-stored'
+local P = ARGV[1]
+local commits = cjson.decode(ARGV[2])
+local counts = KEYS[1]
+local out = {}
+for i, c in ipairs(commits) do
+  local ak = P .. ':article:' .. c.id
+  if redis.call('EXISTS', ak) == 1 then
+    out[i] = 'already-stored'
+  else
+    local seq = redis.call('INCR', P .. ':seq')
+    redis.call('HSET', ak, 'meta', c.meta, 'seq', seq)
+    if c.text ~= cjson.null then redis.call('HSET', ak, 'text', c.text) end
+    redis.call('ZADD', P .. ':articles', seq, c.id)
+    redis.call('ZADD', P .. ':articles-by-time', c.time, c.id)
+    redis.call('HINCRBY', P .. ':outlets', c.outlet, 1)
+    redis.call('SET', P .. ':content-hash:' .. c.contentHash, c.id, 'NX')
+    for _, s in ipairs(c.sentences) do
+      redis.call('HSET', P .. ':sentences:' .. c.id, s[1], s[2])
+      redis.call('HSET', P .. ':sentence-text:' .. c.id, s[1], s[3])
+    end
+    for _, m in ipairs(c.mentions) do redis.call('HSET', P .. ':mentions:' .. c.id, m[1], m[2]) end
+    for _, l in ipairs(c.links) do
+      redis.call('HSET', P .. ':links:' .. c.id, l[1] .. '\n' .. l[2], l[3])
+      redis.call('SADD', P .. ':event-links:' .. l[2], c.id .. '\n' .. l[1])
+    end
+    for _, e in ipairs(c.events) do put_event(P, counts, e, ARGV[2 + e.state]) end
+    if c.idf ~= cjson.null then
+      redis.call('INCRBY', P .. ':idf-docs', c.idf.docs)
+      local df = c.idf.df
+      for k = 1, #df, 2 do redis.call('HINCRBY', P .. ':idf', df[k], df[k + 1]) end
+    end
+    queue_messages(P, c.messages)
+    redis.call('HINCRBY', counts, 'articles', 1)
+    redis.call('HINCRBY', counts, 'sentences', #c.sentences)
+    redis.call('HINCRBY', counts, 'mentions', #c.mentions)
+    redis.call('HINCRBY', counts, 'links', #c.links)
+    out[i] = 'stored'
+  end
+end
+return out

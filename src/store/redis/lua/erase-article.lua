@@ -1,0 +1,49 @@
+-- erase-article: erases one article's stored text (body and sentences) and relabels the
+-- events whose label came from that text with their earliest remaining sentence, or a
+-- placeholder. Links, mentions and events stay.
+-- KEYS[1]  the partition's counts hash
+-- ARGV[1]  the partition prefix
+-- ARGV[2]  the article id
+-- ARGV[3]  the placeholder label
+-- returns  0: no such article; 1: stored but its text was already erased; 2: text erased
+local P, id, placeholder = ARGV[1], ARGV[2], ARGV[3]
+local ak = P .. ':article:' .. id
+if redis.call('EXISTS', ak) == 0 then return 0 end
+local had = redis.call('HDEL', ak, 'text')
+local erased = redis.call('HVALS', P .. ':sentence-text:' .. id)
+redis.call('DEL', P .. ':sentence-text:' .. id)
+local function split(s)
+  local nl = string.find(s, '\n', 1, true)
+  return string.sub(s, 1, nl - 1), string.sub(s, nl + 1)
+end
+local events = {}
+for _, field in ipairs(redis.call('HKEYS', P .. ':links:' .. id)) do
+  local _, ev = split(field)
+  events[ev] = true
+end
+for ev in pairs(events) do
+  local ek = P .. ':event:' .. ev
+  local label = redis.call('HGET', ek, 'label')
+  if label then
+    -- A label cut at its length ends in an ellipsis (U+2026, three bytes in UTF-8).
+    local stem = string.gsub(label, '\226\128\166$', '')
+    local drawn = false
+    for _, t in ipairs(erased) do
+      if t == label or string.sub(t, 1, #stem) == stem then drawn = true break end
+    end
+    if drawn then
+      local best, bestAt = nil, nil
+      for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
+        local article, idx = split(member)
+        local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
+        if t then
+          local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
+          if not bestAt or at < bestAt then best, bestAt = t, at end
+        end
+      end
+      redis.call('HSET', ek, 'label', best or placeholder)
+    end
+  end
+end
+if had == 1 then return 2 end
+return 1

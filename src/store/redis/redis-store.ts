@@ -1,0 +1,405 @@
+/**
+ * The Store contract on Redis (ioredis), for several processes and machines sharing one
+ * state. Every write that must be atomic is one Lua script (src/store/redis/lua/), so a
+ * commit is all-or-nothing with respect to other clients and replaying it changes nothing;
+ * no WATCH/MULTI (which collapses under contention on hot keys). Reads are pipelined.
+ *
+ * Layout (keys.ts): per article a hash (meta JSON, text, seq) and hashes of sentences,
+ * sentence texts, mentions and links; per event a hash (record JSON, label, outlets JSON,
+ * linker state) and the set of sentences linked to it; sorted sets of articles by commit
+ * order and by time, and of events by last activity; counters in one hash.
+ *
+ * Listing events with filters reads the events active in the time range and filters them
+ * here: the cost grows with the events in range, not with the mentions.
+ */
+import { readFileSync } from 'node:fs';
+import { Redis, type RedisOptions } from 'ioredis';
+import { StrandError } from '../../errors.js';
+import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
+import type {
+  ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
+  EventUpdate, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, Store, StoreCounts,
+} from '../store.js';
+import { type Keyspace, keyspace } from './keys.js';
+
+/** The label an event takes when the text it was labelled with is erased and no other text remains. */
+const ERASED_LABEL = '(text erased under the retention policy)';
+/** Reads per pipeline round trip. */
+const CHUNK = 500;
+
+type Script = (key: string, ...args: (string | Buffer | number)[]) => Promise<unknown>;
+
+interface Scripts {
+  commitArticles: Script;
+  commitMerge: Script;
+  eraseArticle: Script;
+}
+
+/** Loads a script with the shared helpers in front (lib.lua defines functions only). */
+function script(name: string): string {
+  const read = (f: string) => readFileSync(new URL(`./lua/${f}.lua`, import.meta.url), 'utf8');
+  return `${read('lib')}\n${read(name)}`;
+}
+
+/** Options for a Redis store. */
+export interface RedisStoreOptions {
+  url: string;
+  partition: string;
+  /** Extra ioredis options (tests shorten retries). */
+  redis?: RedisOptions;
+  /** Told of connection errors (Redis down, restarting); commands wait meanwhile. */
+  onError?: (err: Error) => void;
+}
+
+/** Connects to Redis and checks it answers; refuses a malformed URL or partition. */
+export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> {
+  const keys = keyspace(o.partition);
+  return new RedisStore(await connectRedis(o.url, o.redis, o.onError), keys);
+}
+
+/**
+ * One connection, checked with a PING (STRAND_STORE_FAILED when Redis does not answer at
+ * start). Once connected, commands wait through a Redis restart or failover instead of
+ * failing (maxRetriesPerRequest null): a commit that waits is better than one that is lost,
+ * and a commit repeated after a lost reply changes nothing.
+ */
+export async function connectRedis(url: string, options: RedisOptions = {}, onError: (err: Error) => void = () => undefined): Promise<Redis> {
+  let redis: Redis;
+  try {
+    redis = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: null, ...options });
+  } catch (err) {
+    throw new StrandError('STRAND_CONFIG_INVALID', `store.redis.url "${redactUrl(url)}" is not a Redis URL: ${(err as Error).message}`, { cause: err });
+  }
+  // Connection errors while reconnecting are reported here (ioredis keeps reconnecting);
+  // commands wait for the connection rather than fail.
+  redis.on('error', onError);
+  try {
+    await redis.connect();
+    await redis.ping();
+  } catch (err) {
+    redis.disconnect();
+    throw new StrandError('STRAND_STORE_FAILED', `cannot reach Redis at ${redactUrl(url)}: ${(err as Error).message}`, { cause: err });
+  }
+  return redis;
+}
+
+/** The URL without its password, for messages and logs. */
+export function redactUrl(url: string): string {
+  return url.replace(/\/\/([^:@/]*):[^@/]*@/, '//$1:***@');
+}
+
+export class RedisStore implements Store {
+  private readonly scripts: Scripts;
+
+  constructor(private readonly redis: Redis, private readonly k: Keyspace) {
+    redis.defineCommand('strandlineCommitArticles', { numberOfKeys: 1, lua: script('commit-articles') });
+    redis.defineCommand('strandlineCommitMerge', { numberOfKeys: 1, lua: script('commit-merge') });
+    redis.defineCommand('strandlineEraseArticle', { numberOfKeys: 1, lua: script('erase-article') });
+    const r = redis as unknown as Record<string, Script>;
+    this.scripts = {
+      commitArticles: r.strandlineCommitArticles!.bind(redis),
+      commitMerge: r.strandlineCommitMerge!.bind(redis),
+      eraseArticle: r.strandlineEraseArticle!.bind(redis),
+    };
+  }
+
+  /** The partition's key names (tests and tools). */
+  get keys(): Keyspace {
+    return this.k;
+  }
+
+  async hasArticle(id: string): Promise<boolean> {
+    return (await this.redis.exists(this.k.article(id))) === 1;
+  }
+
+  async findByContentHash(hash: string): Promise<string | null> {
+    return this.redis.get(this.k.contentHash(hash));
+  }
+
+  async commitArticle(c: ArticleCommit): Promise<CommitResult> {
+    return (await this.commitArticles([c]))[0]!;
+  }
+
+  async commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]> {
+    if (cs.length === 0) return [];
+    const states: Buffer[] = [];
+    const payload = cs.map((c) => ({
+      id: c.article.id,
+      meta: JSON.stringify(articleMeta(c.article)),
+      text: c.article.text,
+      time: Date.parse(c.article.published ?? c.article.fetched),
+      outlet: c.article.outlet,
+      contentHash: c.article.contentHash,
+      sentences: c.sentences.map((s) => [String(s.index), JSON.stringify({ start: s.start, end: s.end, eventness: s.eventness }), s.text]),
+      mentions: c.mentions.map((m) => [String(m.sentenceIndex), JSON.stringify({
+        outlet: m.outlet, published: m.published, eventness: m.eventness, participants: m.participants, places: m.places, times: m.times, isCopy: m.isCopy,
+      })]),
+      links: c.links.map((l) => [String(l.sentenceIndex), l.eventId, JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence })]),
+      events: c.events.map((e) => eventPayload(e, states)),
+      idf: c.idf && (c.idf.docs > 0 || c.idf.df.size > 0) ? { docs: c.idf.docs, df: [...c.idf.df].flat() } : null,
+      messages: messagePayload(c.messages),
+    }));
+    try {
+      return (await this.scripts.commitArticles(this.k.counts, this.k.prefix, JSON.stringify(payload), ...states)) as CommitResult[];
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot store ${cs.length} article(s) from ${cs[0]!.article.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  async commitMerge(m: MergeCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const into = eventPayload(m.into, states);
+    const payload = { from: m.from, into, merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
+    try {
+      await this.scripts.commitMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot merge ${m.from} into ${m.into.record.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  async recentEventIds(articles: number): Promise<string[]> {
+    const ids = await this.redis.zrevrange(this.k.articles, 0, articles - 1);
+    const fields = await this.pipelined(ids, (p, id) => p.hkeys(this.k.links(id))) as string[][];
+    return [...new Set(fields.flat().map((f) => f.slice(f.indexOf('\n') + 1)))].sort();
+  }
+
+  async mergedInto(id: string): Promise<string | null> {
+    const rec = await this.redis.hget(this.k.merges, id);
+    return rec ? parseMerge(id, rec).into : null;
+  }
+
+  async mergesInto(id: string): Promise<MergeRecord[]> {
+    const from = await this.redis.smembers(this.k.mergedInto(id));
+    const recs = from.length ? await this.redis.hmget(this.k.merges, ...from) : [];
+    return from.map((f, i) => parseMerge(f, recs[i]!)).sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from));
+  }
+
+  async loadLinkerState(): Promise<LinkerSnapshot> {
+    const ids = await this.redis.zrange(this.k.events, '0', '-1');
+    const states = await this.pipelined(ids, (p, id) => p.hgetBuffer(this.k.event(id), 'state')) as (Buffer | null)[];
+    const [docs, df] = await Promise.all([this.redis.get(this.k.idfDocs), this.redis.hgetall(this.k.idf)]);
+    return {
+      events: states.filter((b): b is Buffer => b !== null).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength)),
+      idf: { docs: Number(docs ?? 0), df: Object.entries(df).map(([f, n]) => [Number(f), Number(n)]) },
+    };
+  }
+
+  async listEvents(q: EventQuery): Promise<EventPage> {
+    const from = q.from ? Date.parse(q.from) : -Infinity;
+    const ids = await this.redis.zrangebyscore(this.k.events, Number.isFinite(from) ? from : '-inf', '+inf');
+    let events = await this.summaries(ids);
+    const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
+    if (to) events = events.filter((e) => e.firstSeen <= to);
+    if (q.outlet) events = events.filter((e) => e.outlets.includes(q.outlet!));
+    if (q.minOutlets) events = events.filter((e) => e.outlets.length >= q.minOutlets!);
+    const words = (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).map((w) => w.toLowerCase());
+    if (words.length) {
+      const texts = await this.pipelined(events, (p, e) => p.smembers(this.k.eventLinks(e.id))) as string[][];
+      const sentenceTexts = await Promise.all(texts.map((members) => this.sentenceTexts(members)));
+      events = events.filter((e, i) => {
+        const hay = [e.label, ...sentenceTexts[i]!].map((t) => t.toLowerCase());
+        return words.every((w) => hay.some((t) => t.includes(w)));
+      });
+    }
+    const byRecent = (a: EventSummary, b: EventSummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
+    const order = q.sort === 'outlets' ? (a: EventSummary, b: EventSummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
+      : q.sort === 'mentions' ? (a: EventSummary, b: EventSummary) => b.mentionCount - a.mentionCount || byRecent(a, b)
+        : byRecent;
+    events.sort(order);
+    return { total: events.length, events: events.slice(q.offset, q.offset + q.limit) };
+  }
+
+  async getEvent(id: string): Promise<EventDetail | null> {
+    const [event] = await this.summaries([id]);
+    if (!event) return null;
+    const members = await this.redis.smembers(this.k.eventLinks(id));
+    const rows = await this.pipelined(members, (p, m) => {
+      const [article, idx] = splitMember(m);
+      return p.hget(this.k.links(article), `${idx}\n${id}`).hget(this.k.mentions(article), idx).hget(this.k.sentenceText(article), idx).hget(this.k.article(article), 'meta');
+    });
+    const mentions = members.map((m, i): EventMention => {
+      const [articleId, idx] = splitMember(m);
+      const [link, mention, text, meta] = rows.slice(i * 4, i * 4 + 4) as (string | null)[];
+      const l = JSON.parse(link!) as { score: number; rank: number; evidence: LinkEvidence };
+      const mm = JSON.parse(mention!) as { published: string; isCopy: boolean; times: TimeExpression[]; outlet: string };
+      const a = JSON.parse(meta!) as ArticleMeta;
+      return {
+        articleId, articleTitle: a.title, articleUrl: a.url, outlet: a.outlet, published: mm.published, isCopy: mm.isCopy,
+        sentenceIndex: Number(idx), text: text ?? null, score: l.score, rank: l.rank, evidence: l.evidence, times: mm.times,
+      };
+    });
+    mentions.sort((a, b) => cmp(a.published, b.published) || cmp(a.articleId, b.articleId) || a.sentenceIndex - b.sentenceIndex);
+    return { event, mentions, merges: await this.mergesInto(id) };
+  }
+
+  async getArticle(id: string): Promise<ArticleDetail | null> {
+    // One MULTI so that the five reads see the same commit.
+    const replies = (await this.redis.multi()
+      .hgetall(this.k.article(id)).hgetall(this.k.sentences(id)).hgetall(this.k.sentenceText(id)).hkeys(this.k.mentions(id)).hgetall(this.k.links(id))
+      .exec())!.map(([err, reply]) => {
+      if (err) throw new StrandError('STRAND_STORE_FAILED', `Redis read failed: ${err.message}`, { cause: err });
+      return reply;
+    });
+    const [article, sentences, texts, mentions, links] = replies as [Record<string, string>, Record<string, string>, Record<string, string>, string[], Record<string, string>];
+    if (!article.meta) return null;
+    const linkRows = Object.entries(links).map(([field, v]) => {
+      const [idx, eventId] = splitMember(field);
+      return { idx: Number(idx), eventId, ...(JSON.parse(v) as { score: number; rank: number; evidence: LinkEvidence }) };
+    });
+    const eventIds = [...new Set(linkRows.map((l) => l.eventId))];
+    const labels = eventIds.length ? await this.pipelined(eventIds, (p, e) => p.hget(this.k.event(e), 'label')) as (string | null)[] : [];
+    const label = new Map(eventIds.map((e, i) => [e, labels[i] ?? '']));
+    const isMention = new Set(mentions.map(Number));
+    const sentenceRows = Object.entries(sentences)
+      .map(([idx, v]) => ({ index: Number(idx), ...(JSON.parse(v) as { start: number; end: number; eventness: number }) }))
+      .sort((x, y) => x.index - y.index);
+    const meta = JSON.parse(article.meta) as ArticleMeta;
+    return {
+      article: { ...meta, text: article.text ?? null },
+      sentences: sentenceRows.map((s) => ({
+        index: s.index, text: texts[String(s.index)] ?? '', start: s.start, end: s.end, eventness: s.eventness,
+        isMention: isMention.has(s.index),
+        links: linkRows.filter((l) => l.idx === s.index).sort((x, y) => x.rank - y.rank)
+          .map((l) => ({ eventId: l.eventId, eventLabel: label.get(l.eventId)!, score: l.score, rank: l.rank, evidence: l.evidence })),
+      })),
+    };
+  }
+
+  async listOutlets(): Promise<{ outlet: string; articles: number }[]> {
+    return Object.entries(await this.redis.hgetall(this.k.outlets)).map(([outlet, n]) => ({ outlet, articles: Number(n) })).sort((a, b) => cmp(a.outlet, b.outlet));
+  }
+
+  async counts(): Promise<StoreCounts> {
+    const c = await this.redis.hgetall(this.k.counts);
+    const n = (f: string) => Number(c[f] ?? 0);
+    return { articles: n('articles'), sentences: n('sentences'), mentions: n('mentions'), links: n('links'), events: n('events') };
+  }
+
+  async dueDeliveries(now: string, limit: number): Promise<Delivery[]> {
+    return this.deliveries(await this.redis.zrangebyscore(this.k.due, '-inf', String(Date.parse(now)), 'LIMIT', 0, limit));
+  }
+
+  async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
+    const key = `${messageId}\n${subscriber}`;
+    const tx = this.redis.multi().hset(this.k.deliveries, key, JSON.stringify({ status: o.status, attempts: o.attempts, nextAt: o.nextAt, lastError: o.error }));
+    if (o.status === 'pending') tx.zadd(this.k.due, Date.parse(o.nextAt), key);
+    else tx.zrem(this.k.due, key);
+    if (o.status === 'dead') tx.zadd(this.k.dead, Date.parse(o.nextAt), key);
+    await tx.exec();
+  }
+
+  async deadLetters(limit: number): Promise<Delivery[]> {
+    return this.deliveries(await this.redis.zrevrange(this.k.dead, 0, limit - 1));
+  }
+
+  async eraseTextBefore(day: string): Promise<number> {
+    const ids = await this.redis.zrangebyscore(this.k.articlesByTime, '-inf', `(${Date.parse(day)}`);
+    let erased = 0;
+    for (const id of ids) if ((await this.scripts.eraseArticle(this.k.counts, this.k.prefix, id, ERASED_LABEL)) === 2) erased++;
+    return erased;
+  }
+
+  async eraseArticleText(id: string): Promise<boolean> {
+    return (await this.scripts.eraseArticle(this.k.counts, this.k.prefix, id, ERASED_LABEL)) !== 0;
+  }
+
+  /** Deletes every key of this partition (tests and decommissioning; not part of the contract). */
+  async dropPartition(): Promise<number> {
+    let dropped = 0;
+    let cursor = '0';
+    do {
+      const [next, keys] = await this.redis.scan(cursor, 'MATCH', this.k.pattern, 'COUNT', 1000);
+      cursor = next;
+      if (keys.length) dropped += await this.redis.unlink(...keys);
+    } while (cursor !== '0');
+    return dropped;
+  }
+
+  /** Used memory of the Redis server, bytes (bench). */
+  async usedMemory(): Promise<number> {
+    const info = await this.redis.info('memory');
+    return Number(/used_memory:(\d+)/.exec(info)?.[1] ?? 0);
+  }
+
+  async close(): Promise<void> {
+    if (this.redis.status !== 'end') await this.redis.quit().catch(() => this.redis.disconnect());
+  }
+
+  private async summaries(ids: readonly string[]): Promise<EventSummary[]> {
+    const rows = await this.pipelined(ids, (p, id) => p.hmget(this.k.event(id), 'record', 'label', 'outlets')) as (string | null)[][];
+    return rows.flatMap(([record, label, outlets], i) => {
+      if (!record) return [];
+      const r = JSON.parse(record) as Omit<EventSummary, 'id' | 'label' | 'outlets' | 'independentOutlets'>;
+      const o = JSON.parse(outlets!) as EventUpdate['outlets'];
+      return [{ id: ids[i]!, label: label!, ...r, outlets: o.map((x) => x.outlet).sort(), independentOutlets: o.filter((x) => x.independent > 0).length }];
+    });
+  }
+
+  private async sentenceTexts(members: readonly string[]): Promise<string[]> {
+    const texts = await this.pipelined(members, (p, m) => {
+      const [article, idx] = splitMember(m);
+      return p.hget(this.k.sentenceText(article), idx);
+    }) as (string | null)[];
+    return texts.filter((t): t is string => t !== null);
+  }
+
+  private async deliveries(keys: readonly string[]): Promise<Delivery[]> {
+    if (keys.length === 0) return [];
+    const states = await this.redis.hmget(this.k.deliveries, ...keys);
+    const messages = await this.pipelined(keys, (p, key) => p.hmget(this.k.outbox(splitMember(key)[0]), 'type', 'body', 'created')) as (string | null)[][];
+    return keys.map((key, i) => {
+      const [messageId, subscriber] = splitMember(key);
+      const s = JSON.parse(states[i]!) as { status: Delivery['status']; attempts: number; nextAt: string; lastError: string | null };
+      const [type, body, created] = messages[i]!;
+      return { messageId, subscriber, type: type!, body: body!, created: created!, ...s };
+    });
+  }
+
+  /** Runs `add` (one or more commands) for each item in pipelines of CHUNK items; returns every reply in order. */
+  private async pipelined<T>(items: readonly T[], add: (p: ReturnType<Redis['pipeline']>, item: T) => unknown): Promise<unknown[]> {
+    const out: unknown[] = [];
+    for (let at = 0; at < items.length; at += CHUNK) {
+      const p = this.redis.pipeline();
+      for (const item of items.slice(at, at + CHUNK)) add(p, item);
+      for (const [err, reply] of (await p.exec())!) {
+        if (err) throw new StrandError('STRAND_STORE_FAILED', `Redis read failed: ${err.message}`, { cause: err });
+        out.push(reply);
+      }
+    }
+    return out;
+  }
+}
+
+type ArticleMeta = Omit<Article, 'text' | 'presplit'>;
+
+function articleMeta(a: Article): ArticleMeta {
+  return { id: a.id, outlet: a.outlet, url: a.url, title: a.title, published: a.published, fetched: a.fetched, language: a.language, contentHash: a.contentHash, duplicateOf: a.duplicateOf, source: a.source };
+}
+
+/** An event as the scripts take it; its state goes into `states` and is referred to by number. */
+function eventPayload(e: EventUpdate, states: Buffer[]): { id: string; record: string; label: string; outlets: string; lastSeen: number; state: number } {
+  const { id, label, outlets: _names, ...record } = e.record;
+  states.push(Buffer.from(e.state.buffer, e.state.byteOffset, e.state.byteLength));
+  return { id, record: JSON.stringify(record), label, outlets: JSON.stringify(e.outlets), lastSeen: Date.parse(e.record.lastSeen), state: states.length };
+}
+
+function messagePayload(messages: readonly OutboxMessage[]): object[] {
+  return messages.map((m) => ({
+    id: m.id, type: m.type, body: m.body, created: m.created, subscribers: m.subscribers, dueAt: Date.parse(m.created),
+    delivery: JSON.stringify({ status: 'pending', attempts: 0, nextAt: m.created, lastError: null }),
+  }));
+}
+
+function parseMerge(from: string, rec: string): MergeRecord {
+  const [into, score, at] = rec.split('\n');
+  return { from, into: into!, score: Number(score), at: at! };
+}
+
+function splitMember(m: string): [string, string] {
+  const nl = m.indexOf('\n');
+  return [m.slice(0, nl), m.slice(nl + 1)];
+}
+
+function cmp(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}

@@ -1,0 +1,118 @@
+import { type ChildProcess, spawn } from 'node:child_process';
+import { randomUUID } from 'node:crypto';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { hostname, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { beforeAll, describe, expect, inject, it } from 'vitest';
+import { syntheticStream } from '../../src/bench/synthetic-stream.js';
+import { parseConfig } from '../../src/config/load-config.js';
+import { openQueue, startLinker } from '../../src/distribute/roles.js';
+import { checkEvalInput } from '../../src/eval/eval-input.js';
+import { scorePartitions } from '../../src/eval/partition-metrics.js';
+import { toArticles } from '../../src/eval/prepare-mentions.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { createLogger } from '../../src/logger.js';
+import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { Article } from '../../src/records.js';
+import { openRedisStore } from '../../src/store/redis/redis-store.js';
+import type { Store } from '../../src/store/store.js';
+import { DEMO_DIR } from '../helpers/demo.js';
+import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+
+const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const ROOT = fileURLToPath(new URL('../..', import.meta.url));
+const REDIS_URL = 'redis://127.0.0.1:6379';
+
+/** Which event each stored mention's best link names, keyed article#sentence. */
+async function partition(store: Store, articles: readonly Article[]): Promise<Map<string, string>> {
+  const out = new Map<string, string>();
+  for (const a of articles) {
+    for (const s of (await store.getArticle(a.id))?.sentences ?? []) {
+      const best = s.links.find((l) => l.rank === 0);
+      if (best) out.set(`${a.id}#${s.index}`, best.eventId);
+    }
+  }
+  return out;
+}
+
+function clusters(p: Map<string, string>): string[][] {
+  const by = new Map<string, string[]>();
+  for (const [k, e] of p) by.set(e, [...(by.get(e) ?? []), k]);
+  return [...by.values()];
+}
+
+function startWorkerProcess(configFile: string): ChildProcess {
+  return spawn(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), 'serve', '--role', 'worker', '--config', configFile], {
+    cwd: ROOT, env: { ...process.env, STRANDLINE_LOG_LEVEL: 'warn' }, stdio: ['ignore', 'pipe', 'pipe'],
+  });
+}
+
+describe.skipIf(!run)('scale-out over Redis: three worker processes and one linker', () => {
+  let articles: Article[];
+  let reference: Map<string, string>;
+  let referenceCounts: Awaited<ReturnType<Store['counts']>>;
+
+  beforeAll(async () => {
+    const demo = (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
+    const synthetic = toArticles(checkEvalInput(syntheticStream(6000, 7)), 'synthetic', '2030-01-01T00:00:00.000Z').slice(0, 2000 - demo.length);
+    articles = [...demo, ...synthetic];
+    const rt = await testRuntime();
+    await runArticles(rt, articles);
+    reference = await partition(rt.store, articles);
+    referenceCounts = await rt.store.counts();
+    await rt.close();
+  }, 120_000);
+
+  it('stores every article and mention exactly once and makes the events one process makes, with a worker killed mid-stream', async () => {
+    expect(articles).toHaveLength(2000);
+    const dir = mkdtempSync(join(tmpdir(), 'strandline-scale-'));
+    const configFile = join(dir, 'config.json');
+    const partitionName = `test-${randomUUID()}`;
+    const raw = { store: { kind: 'redis', redis: { url: REDIS_URL, partition: partitionName } }, queue: { claimIdleMs: 1500, blockMs: 200, batch: 8 }, analysis: { threads: 0 }, log: { level: 'warn' } };
+    writeFileSync(configFile, JSON.stringify(raw));
+    const config = parseConfig(raw);
+    const queue = await openQueue(config, createLogger('silent'));
+    const workers = [0, 1, 2].map(() => startWorkerProcess(configFile));
+    const stderr: string[] = [];
+    for (const w of workers) w.stderr!.on('data', (d: Buffer) => stderr.push(d.toString()));
+    const linking = await startLinker(config, createLogger('silent'));
+    const outcomes: ArticleOutcome[] = [];
+    linking.linker.outcome$.subscribe((o) => outcomes.push(o));
+    const store = await openRedisStore({ url: REDIS_URL, partition: partitionName });
+    try {
+      await queue.enqueue(articles);
+      // Kill one worker once the work is well under way, while it holds entries.
+      const victim = `${hostname()}-${workers[1]!.pid}`;
+      let heldAtKill = 0;
+      while (heldAtKill === 0) {
+        await new Promise((r) => setTimeout(r, 20));
+        if (outcomes.length < 300) continue;
+        const [, , , consumers] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number, string, string, [string, string][] | null];
+        heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
+        if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
+      }
+      const deadline = Date.now() + 240_000;
+      while (outcomes.length < articles.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
+      expect(outcomes.length, stderr.join('')).toBe(articles.length);
+      expect(outcomes.filter((o) => o.status === 'rejected')).toEqual([]);
+      expect(await store.counts()).toEqual(referenceCounts);
+      const got = await partition(store, articles);
+      expect(got.size).toBe(reference.size);
+      const scores = scorePartitions(clusters(reference), clusters(got));
+      expect(scores.b3.f1).toBe(1);
+      expect((await queue.depth()).deadLetters).toBe(0);
+      // What the killed worker held was taken over by the others.
+      expect(heldAtKill).toBeGreaterThan(0);
+      const [pendingLeft] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number];
+      expect(pendingLeft).toBe(0);
+    } finally {
+      for (const w of workers) w.kill('SIGTERM');
+      await linking.stop();
+      await (store as Awaited<ReturnType<typeof openRedisStore>>).dropPartition();
+      await store.close();
+      queue.close();
+    }
+  }, 300_000);
+});
+
