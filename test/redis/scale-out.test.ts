@@ -1,4 +1,5 @@
-import { type ChildProcess, spawn } from 'node:child_process';
+import { type ChildProcess, spawn, spawnSync } from 'node:child_process';
+import { createServer } from 'node:net';
 import { randomUUID } from 'node:crypto';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { hostname, tmpdir } from 'node:os';
@@ -64,12 +65,12 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     await rt.close();
   }, 120_000);
 
-  it('stores every article and mention exactly once and makes the events one process makes, with a worker killed mid-stream', async () => {
-    expect(articles).toHaveLength(2000);
+  /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once 300 are linked. */
+  async function distributedRun(url: string, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-scale-'));
     const configFile = join(dir, 'config.json');
     const partitionName = `test-${randomUUID()}`;
-    const raw = { store: { kind: 'redis', redis: { url: REDIS_URL, partition: partitionName } }, queue: { claimIdleMs: 1500, blockMs: 200, batch: 8 }, analysis: { threads: 0 }, log: { level: 'warn' } };
+    const raw = { store: { kind: 'redis', redis: { url, partition: partitionName } }, queue: { claimIdleMs: 1500, blockMs: 200, batch: 8 }, analysis: { threads: 0 }, log: { level: 'warn' } };
     writeFileSync(configFile, JSON.stringify(raw));
     const config = parseConfig(raw);
     const queue = await openQueue(config, createLogger('silent'));
@@ -79,40 +80,105 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     const linking = await startLinker(config, createLogger('silent'));
     const outcomes: ArticleOutcome[] = [];
     linking.linker.outcome$.subscribe((o) => outcomes.push(o));
-    const store = await openRedisStore({ url: REDIS_URL, partition: partitionName });
+    const store = await openRedisStore({ url, partition: partitionName });
     try {
       await queue.enqueue(articles);
-      // Kill one worker once the work is well under way, while it holds entries.
-      const victim = `${hostname()}-${workers[1]!.pid}`;
-      let heldAtKill = 0;
-      while (heldAtKill === 0) {
-        await new Promise((r) => setTimeout(r, 20));
-        if (outcomes.length < 300) continue;
-        const [, , , consumers] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number, string, string, [string, string][] | null];
-        heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
-        if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
-      }
+      while (outcomes.length < 300) await new Promise((r) => setTimeout(r, 20));
+      await midway({ workers, queue, partitionName, outcomes });
       const deadline = Date.now() + 240_000;
       while (outcomes.length < articles.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
-      expect(outcomes.length, stderr.join('')).toBe(articles.length);
-      expect(outcomes.filter((o) => o.status === 'rejected')).toEqual([]);
-      expect(await store.counts()).toEqual(referenceCounts);
-      const got = await partition(store, articles);
-      expect(got.size).toBe(reference.size);
-      const scores = scorePartitions(clusters(reference), clusters(got));
-      expect(scores.b3.f1).toBe(1);
-      expect((await queue.depth()).deadLetters).toBe(0);
-      // What the killed worker held was taken over by the others.
-      expect(heldAtKill).toBeGreaterThan(0);
       const [pendingLeft] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number];
-      expect(pendingLeft).toBe(0);
+      return { outcomes, counts: await store.counts(), got: await partition(store, articles), deadLetters: (await queue.depth()).deadLetters, pendingLeft, stderr: stderr.join('') };
     } finally {
       for (const w of workers) w.kill('SIGTERM');
       await linking.stop();
-      await (store as Awaited<ReturnType<typeof openRedisStore>>).dropPartition();
+      await store.dropPartition();
       await store.close();
       queue.close();
+    }
+  }
+
+  function expectSameAsOneProcess(r: Awaited<ReturnType<typeof distributedRun>>): void {
+    expect(r.outcomes.length, r.stderr).toBe(articles.length);
+    expect(r.outcomes.filter((o) => o.status === 'rejected')).toEqual([]);
+    expect(r.counts).toEqual(referenceCounts);
+    expect(r.got.size).toBe(reference.size);
+    expect(scorePartitions(clusters(reference), clusters(r.got)).b3.f1).toBe(1);
+    expect(r.deadLetters).toBe(0);
+    expect(r.pendingLeft).toBe(0);
+  }
+
+  it('stores every article and mention exactly once and makes the events one process makes, with a worker killed mid-stream', async () => {
+    expect(articles).toHaveLength(2000);
+    let heldAtKill = 0;
+    const r = await distributedRun(REDIS_URL, async ({ workers, queue, partitionName }) => {
+      // Kill one worker while it holds entries: the others must take them over.
+      const victim = `${hostname()}-${workers[1]!.pid}`;
+      while (heldAtKill === 0) {
+        const [, , , consumers] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number, string, string, [string, string][] | null];
+        heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
+        if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
+        else await new Promise((res) => setTimeout(res, 10));
+      }
+    });
+    expect(heldAtKill).toBeGreaterThan(0);
+    expectSameAsOneProcess(r);
+  }, 300_000);
+
+  it('completes with nothing lost when Redis (persistence on) restarts mid-run', async () => {
+    const redis = await startPrivateRedis();
+    try {
+      const r = await distributedRun(redis.url, async () => {
+        await redis.restart();
+      });
+      expect(redis.restarts).toBe(1);
+      expectSameAsOneProcess(r);
+    } finally {
+      await redis.stop();
     }
   }, 300_000);
 });
 
+/** A redis-server of the test's own, with the append-only file on, that it can restart. */
+async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(): Promise<void>; stop(): Promise<void> }> {
+  const dir = mkdtempSync(join(tmpdir(), 'strandline-redis-'));
+  const port = await freePort();
+  const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--appendonly', 'yes', '--save', '', '--logfile', join(dir, 'redis.log')];
+  let proc = spawn('redis-server', args, { stdio: 'ignore' });
+  const up = async () => {
+    for (let i = 0; i < 100; i++) {
+      if (spawnSync('redis-cli', ['-p', String(port), 'ping'], { encoding: 'utf8' }).stdout.includes('PONG')) return;
+      await new Promise((r) => setTimeout(r, 100));
+    }
+    throw new Error(`private redis-server on ${port} did not start`);
+  };
+  const down = async () => {
+    const exited = new Promise((r) => proc.once('exit', r));
+    spawnSync('redis-cli', ['-p', String(port), 'shutdown']);
+    await exited;
+  };
+  await up();
+  const handle = {
+    url: `redis://127.0.0.1:${port}`,
+    restarts: 0,
+    async restart() {
+      await down();
+      proc = spawn('redis-server', args, { stdio: 'ignore' });
+      await up();
+      handle.restarts++;
+    },
+    stop: down,
+  };
+  return handle;
+}
+
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const srv = createServer();
+    srv.once('error', reject);
+    srv.listen(0, '127.0.0.1', () => {
+      const { port } = srv.address() as { port: number };
+      srv.close(() => resolve(port));
+    });
+  });
+}
