@@ -26,7 +26,7 @@ export interface Runtime extends PipelineContext {
  * analysis pool, which the runtime then uses but does not close (benchmarks reuse one).
  */
 export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store, sharedAnalysis?: AnalysisPool): Promise<Runtime> {
-  const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
+  const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
   const s = store ?? (await openStore(config.store, logger));
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();

@@ -40,6 +40,7 @@ import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
 import { transformerThroughput } from './transformer-throughput.js';
+import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
 interface Row {
   workload: string;
@@ -86,9 +87,13 @@ async function demoArticles(): Promise<Article[]> {
 }
 
 async function demoTimesTen(): Promise<Article[]> {
-  const base = await demoArticles();
+  return copies(await demoArticles(), 10);
+}
+
+/** `n` copies of the articles with new ids and dates shifted by 20 days per copy. */
+function copies(base: readonly Article[], n: number): Article[] {
   const out: Article[] = [];
-  for (let k = 0; k < 10; k++) {
+  for (let k = 0; k < n; k++) {
     for (const a of base) {
       const shift = (t: string | null) => (t ? new Date(Date.parse(t) + k * 20 * DAY_MS).toISOString() : t);
       out.push({ ...a, id: `${a.id}#copy${k}`, published: shift(a.published), contentHash: `${a.contentHash}:${k}`, duplicateOf: null });
@@ -146,6 +151,10 @@ async function main(): Promise<void> {
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
   const transformer = quick ? null : await transformerThroughput(await demoArticles());
+  // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
+  const redisUp = quick ? false : await redisAnswers();
+  const scaling = redisUp ? await workerScaling(await demoArticles(), rows[0]!.mentions) : [];
+  const redisMem = redisUp ? await redisMemory(await demoTimesTen()) : null;
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
   const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
@@ -164,9 +173,18 @@ async function main(): Promise<void> {
     + `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n`
     + scale.map((r) => `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`).join('\n')
     + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);
+  if (scaling.length) {
+    const base = (embedder: string) => scaling.find((r) => r.embedder === embedder && r.workers === 1 && r.threadsPerWorker === '1')!;
+    process.stdout.write(`\nworker processes on the Redis queue (rate between the 10th and 90th percent of answers; Redis and the measuring process share the cores):\n`
+      + `  embedder                          articles  workers  threads/worker  seconds  articles/s  vs 1 worker\n`
+      + scaling.map((r) => `  ${r.embedder.padEnd(32)}  ${String(r.articles).padStart(8)}  ${String(r.workers).padStart(7)}  ${r.threadsPerWorker.padStart(14)}  ${r.seconds.toFixed(2).padStart(7)}  ${r.articlesPerSecond.toFixed(0).padStart(10)}  ${(r.articlesPerSecond / base(r.embedder).articlesPerSecond).toFixed(2).padStart(11)}`).join('\n') + '\n');
+  } else if (!quick) {
+    process.stdout.write('\nworker scaling and Redis memory: left out, Redis does not answer at store.redis.url\n');
+  }
+  if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, redisMemory: redisMem }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

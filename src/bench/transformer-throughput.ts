@@ -43,7 +43,7 @@ export async function transformerThroughput(articles: readonly Article[]): Promi
     const texts: string[] = [];
     for (const a of articles) for (const s of (await rt.store.getArticle(a.id))!.sentences) if (s.isMention) texts.push(s.text);
     await rt.close();
-    const embedder = await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize);
+    const embedder = await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads);
     const t1 = performance.now();
     await embedder.embed(texts.map((text) => ({ text, terms: [] })));
     const rawSeconds = (performance.now() - t1) / 1000;

@@ -81,6 +81,8 @@ export const configSchema = z.strictObject({
     /** Sentences per transformer batch. Default 32. */
     batchSize: z.number().int().min(1).max(1024).default(32),
     /** log2 of the hashed feature space. Default 20 (about a million buckets, few collisions for news vocabulary). */
+    /** Threads the transformer model may use; 0 lets the ONNX runtime choose (all cores). Set 1 when running one worker process per core. */
+    threads: z.number().int().min(0).max(64).default(0),
     hashBits: z.number().int().min(10).max(26).default(20),
   }).prefault({}),
   link: z.strictObject({

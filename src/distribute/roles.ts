@@ -29,9 +29,10 @@ export function checkRole(config: Readonly<Config>): void {
 
 /** A running worker: analyses queued articles until stopped. */
 export async function startWorker(config: Readonly<Config>, logger: Logger, name?: string): Promise<{ worker: AnalysisWorker; stop(): Promise<void> }> {
+  // The model first: a missing model stops start-up before any connection is open.
+  const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
   const onError = redisErrorLog(logger);
   const [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
-  const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize) : new TfidfEmbedder(config.embed.hashBits);
   const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger, ...(name ? { name } : {}) });
   await worker.start();
   logger.child({ stage: 'worker' }).info({ consumer: worker.name }, 'worker reading the intake stream');
@@ -48,7 +49,14 @@ export async function startWorker(config: Readonly<Config>, logger: Logger, name
 export async function startLinker(config: Readonly<Config>, logger: Logger): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
   const runtime = await createRuntime(config, logger);
   const onError = redisErrorLog(logger);
-  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+  let redis: Redis;
+  let blocking: Redis;
+  try {
+    [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+  } catch (err) {
+    await runtime.close();
+    throw err;
+  }
   const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger });
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');

@@ -64,9 +64,11 @@ export class AnalysisWorker {
     d.redis.defineCommand('strandlineHandOff', { numberOfKeys: 1, lua: readFileSync(new URL('../store/redis/lua/hand-off.lua', import.meta.url), 'utf8') });
   }
 
-  /** Starts reading; resolves once the group exists. */
+  /** Starts reading; resolves once the group exists and this worker is a member of it. */
   async start(): Promise<void> {
     await ensureIntake(this.d.redis, this.d.keys);
+    // Listed at once (XINFO CONSUMERS), not only after its first entry.
+    await this.d.redis.xgroup('CREATECONSUMER', this.d.keys.intake, WORKER_GROUP, this.name);
     this.loop = this.run();
   }
 

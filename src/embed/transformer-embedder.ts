@@ -15,6 +15,8 @@ import type { EmbedInput, Embedder } from './embedder.js';
 /** Files a model folder must hold. */
 export const MODEL_FILES = ['config.json', 'tokenizer.json', 'tokenizer_config.json', join('onnx', 'model.onnx')];
 
+type OrtModule = { InferenceSession: { create: SessionCreate } };
+type SessionCreate = (model: unknown, options?: Record<string, unknown>) => Promise<unknown>;
 type Extractor = (texts: string[], options: { pooling: 'mean'; normalize: boolean }) => Promise<{ data: Float32Array; dims: number[] }>;
 
 /** Sentence embeddings from a local transformer model. */
@@ -23,8 +25,12 @@ export class TransformerEmbedder implements Embedder {
 
   private constructor(private readonly extract: Extractor, private readonly batchSize: number) {}
 
-  /** Loads the model in `folder`; throws STRAND_MODEL_MISSING naming the folder and the missing files. */
-  static async load(folder: string, batchSize = 32): Promise<TransformerEmbedder> {
+  /**
+   * Loads the model in `folder`; throws STRAND_MODEL_MISSING naming the folder and the
+   * missing files. `threads` > 0 caps the ONNX runtime's threads for this model (one per
+   * process when several worker processes share a machine); 0 lets the runtime choose.
+   */
+  static async load(folder: string, batchSize = 32, threads = 0): Promise<TransformerEmbedder> {
     const dir = resolve(folder);
     const missing = MODEL_FILES.filter((f) => !existsSync(join(dir, f)));
     if (missing.length) {
@@ -35,11 +41,21 @@ export class TransformerEmbedder implements Embedder {
     env.allowRemoteModels = false;
     env.allowLocalModels = true;
     env.localModelPath = `${dirname(dir)}/`;
+    // The library creates its ONNX session without options; while this model loads, its
+    // session is created with the thread cap (the library calls the runtime's
+    // InferenceSession.create, looked up at call time).
+    const runtime = (await import('onnxruntime-node')) as unknown as { default?: OrtModule } & OrtModule;
+    // CommonJS module: its exports are the default export under Node's loader.
+    const ort = (runtime.default ?? runtime).InferenceSession;
+    const create = ort.create;
+    if (threads > 0) ort.create = (model, options = {}) => create.call(ort, model, { ...options, intraOpNumThreads: threads, interOpNumThreads: 1 });
     let extract: Extractor;
     try {
       extract = (await pipeline('feature-extraction', basename(dir), { quantized: false })) as unknown as Extractor;
     } catch (err) {
       throw new StrandError('STRAND_MODEL_MISSING', `cannot load the model in ${dir}: ${(err as Error).message}`, { cause: err });
+    } finally {
+      ort.create = create;
     }
     return new TransformerEmbedder(extract, batchSize);
   }

@@ -1,7 +1,7 @@
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it, vi } from 'vitest';
 import { TransformerEmbedder } from '../../src/embed/transformer-embedder.js';
 import { isStrandError } from '../../src/errors.js';
 import { TINY_VOCAB, writeTinyModel } from '../helpers/tiny-model.js';
@@ -31,6 +31,20 @@ describe('the transformer embedder on a tiny model built here', () => {
     for (const v of vs) expect(Math.hypot(...v.values)).toBeCloseTo(1, 5);
     const again = await embedder.embed([{ text: 'The bridge fell', terms: [] }]);
     expect([...again[0]!.values]).toEqual([...vs[1]!.values]);
+  });
+
+  it('caps the ONNX runtime threads when asked, for that model only', async () => {
+    const ort = (await import('onnxruntime-node')).InferenceSession;
+    const spy = vi.spyOn(ort, 'create');
+    try {
+      const capped = await TransformerEmbedder.load(dir, 2, 1);
+      expect(spy.mock.calls.at(-1)![1]).toMatchObject({ intraOpNumThreads: 1, interOpNumThreads: 1 });
+      expect((await capped.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values).toEqual((await embedder.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values);
+      await TransformerEmbedder.load(dir, 2);
+      expect(spy.mock.calls.at(-1)![1]).not.toHaveProperty('intraOpNumThreads');
+    } finally {
+      spy.mockRestore();
+    }
   });
 
   it('refuses a folder without a model, naming the folder and what is missing', async () => {
