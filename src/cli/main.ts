@@ -84,6 +84,6 @@ function exit(code: number): void {
 }
 
 program.parseAsync(process.argv).catch((err: unknown) => {
-  process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : (err as Error).stack ?? String(err)}\n`);
-  process.exitCode = 2;
+  // A failed start ends the process even if a connection or timer is still open.
+  process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : (err as Error).stack ?? String(err)}\n`, () => process.exit(2));
 });

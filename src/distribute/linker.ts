@@ -63,6 +63,7 @@ export class QueueLinker {
       this.log.info('another linker holds this partition; waiting for its lease to lapse');
       await sleep(Math.min(leaseMs / 3, 2000));
     }
+    if (this.stopping) return;
     this.leaseTimer = setInterval(() => void this.renew(leaseMs), leaseMs / 3);
     this.leaseTimer.unref();
     this.loop = this.run();

@@ -33,6 +33,19 @@ describe('configuration', () => {
     expect([c.server.port, c.server.host, c.store.path]).toEqual([8123, '0.0.0.0', 'x.sqlite']);
   });
 
+  it('lets STRANDLINE_STORE, STRANDLINE_REDIS_URL and STRANDLINE_ROLE set up a scale-out process', () => {
+    const c = loadConfig({ env: { STRANDLINE_STORE: 'redis', STRANDLINE_REDIS_URL: 'rediss://user:pw@cache.example:6380/2', STRANDLINE_ROLE: 'worker' } });
+    expect([c.store.kind, c.store.redis.url, c.store.redis.partition, c.process.role]).toEqual(['redis', 'rediss://user:pw@cache.example:6380/2', 'main', 'worker']);
+  });
+
+  it.each([
+    ['STRANDLINE_STORE', 'postgres', /store\.kind/],
+    ['STRANDLINE_REDIS_URL', 'http://127.0.0.1:6379', /store\.redis\.url: must be a redis:\/\/ or rediss:\/\/ URL/],
+    ['STRANDLINE_ROLE', 'boss', /process\.role/],
+  ])('names the bad value of %s', (name, value, message) => {
+    expect(failure(() => loadConfig({ env: { [name]: value } })).message).toMatch(message);
+  });
+
   it('names the bad value of a malformed PORT', () => {
     expect(failure(() => loadConfig({ env: { PORT: 'eighty' } })).message).toMatch(/server\.port/);
   });
@@ -49,6 +62,9 @@ describe('configuration', () => {
     ['a misspelt option', '{"link": {"treshold": 0.3}}', 'STRAND_CONFIG_INVALID', /link/],
     ['an out-of-range value', '{"link": {"threshold": 7}}', 'STRAND_CONFIG_INVALID', /link\.threshold/],
     ['a wrong type', '{"server": {"port": "80"}}', 'STRAND_CONFIG_INVALID', /server\.port/],
+    ['a Redis partition that would break the hash tag', '{"store": {"redis": {"partition": "a}b"}}}', 'STRAND_CONFIG_INVALID', /store\.redis\.partition/],
+    ['an unknown queue option', '{"queue": {"retries": 3}}', 'STRAND_CONFIG_INVALID', /queue/],
+    ['a zero dead-letter limit', '{"queue": {"maxDeliveries": 0}}', 'STRAND_CONFIG_INVALID', /queue\.maxDeliveries/],
     ['a negative thread count', '{"analysis": {"threads": -1}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a thread count in words', '{"analysis": {"threads": "many"}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],

@@ -1,0 +1,139 @@
+import { randomUUID } from 'node:crypto';
+import { afterEach, beforeEach, describe, expect, inject, it } from 'vitest';
+import { parseConfig } from '../../src/config/load-config.js';
+import type { Config } from '../../src/config/schema.js';
+import { deadLetters, enqueueArticles, queueDepth } from '../../src/distribute/intake.js';
+import { QueueLinker } from '../../src/distribute/linker.js';
+import { startLinker, startWorker } from '../../src/distribute/roles.js';
+import { AnalysisWorker } from '../../src/distribute/worker.js';
+import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { createLogger } from '../../src/logger.js';
+import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { Article } from '../../src/records.js';
+import { type Keyspace, keyspace } from '../../src/store/redis/keys.js';
+import { connectRedis, openRedisStore } from '../../src/store/redis/redis-store.js';
+import type { Nlp } from '../../src/text/nlp.js';
+import { DEMO_DIR } from '../helpers/demo.js';
+import { testConfig } from '../helpers/runtime.js';
+
+const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const REDIS_URL = 'redis://127.0.0.1:6379';
+const silent = createLogger('silent');
+
+async function until(check: () => Promise<boolean> | boolean, ms = 30_000): Promise<void> {
+  const end = Date.now() + ms;
+  while (!(await check())) {
+    if (Date.now() > end) throw new Error('timed out');
+    await new Promise((r) => setTimeout(r, 20));
+  }
+}
+
+describe.skipIf(!run)('the work queue with bad and failing input', () => {
+  let config: Readonly<Config>;
+  let keys: Keyspace;
+  let demo: Article[];
+
+  beforeEach(async () => {
+    const partition = `test-${randomUUID()}`;
+    config = parseConfig({ store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, queue: { claimIdleMs: 200, blockMs: 50, maxDeliveries: 3 }, analysis: { threads: 0 }, log: { level: 'silent' } });
+    keys = keyspace(partition);
+    demo ??= (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
+  });
+
+  afterEach(async () => {
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    await store.dropPartition();
+    await store.close();
+  });
+
+  it('sends malformed, hostile and oversized entries to the dead-letter list with a reason, and stores the good ones around them', async () => {
+    const redis = await connectRedis(REDIS_URL);
+    const worker = await startWorker(config, silent);
+    const linking = await startLinker(config, silent);
+    const outcomes: ArticleOutcome[] = [];
+    linking.linker.outcome$.subscribe((o) => outcomes.push(o));
+    try {
+      await enqueueArticles(redis, keys, [demo[0]!]);
+      const bad = [
+        'not json at all',
+        JSON.stringify({ id: 'x' }),
+        JSON.stringify({ ...demo[1], text: 42 }),
+        `{"__proto__":{"polluted":true},${JSON.stringify(demo[1]).slice(1)}`,
+        'x'.repeat(3 * 1024 * 1024),
+      ];
+      for (const body of bad) await redis.xadd(keys.intake, '*', 'article', body);
+      await redis.xadd(keys.intake, '*', 'unexpected', 'field');
+      await enqueueArticles(redis, keys, [demo[2]!]);
+      await until(() => outcomes.length === 8);
+      expect(outcomes.map((o) => o.status)).toEqual(['stored', 'rejected', 'rejected', 'rejected', 'rejected', 'rejected', 'rejected', 'stored']);
+      const letters = await deadLetters(redis, keys, 10);
+      expect(letters).toHaveLength(6);
+      for (const l of letters) expect(l.error).toMatch(/STRAND_ARTICLE_(INVALID|TOO_LARGE)|queued article/);
+      expect(letters.map((l) => l.error).join('\n')).toMatch(/over 2097152/);
+      expect(letters.every((l) => l.article.length <= 2000)).toBe(true);
+      expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+      const store = linking.runtime.store;
+      expect(await store.hasArticle(demo[0]!.id)).toBe(true);
+      expect(await store.hasArticle(demo[2]!.id)).toBe(true);
+      expect((await store.counts()).articles).toBe(2);
+      expect(await queueDepth(redis, keys)).toMatchObject({ deadLetters: 6 });
+    } finally {
+      await worker.stop();
+      await linking.stop();
+      redis.disconnect();
+    }
+  });
+
+  it('retries an article that fails in analysis, then gives it up after queue.maxDeliveries', async () => {
+    const redis = await connectRedis(REDIS_URL);
+    const blocking = await connectRedis(REDIS_URL);
+    const broken = { readDoc: () => { throw new Error('model crashed'); } } as unknown as Nlp;
+    const worker = new AnalysisWorker({ config, redis, blocking, keys, nlp: broken, embedder: new TfidfEmbedder(10), logger: silent });
+    await worker.start();
+    try {
+      await enqueueArticles(redis, keys, [demo[0]!]);
+      await until(async () => (await queueDepth(redis, keys)).deadLetters === 1);
+      expect(worker.counts.failed).toBe(3);
+      expect(worker.counts.dead).toBe(1);
+      const [letter] = await deadLetters(redis, keys, 1);
+      expect(letter!.error).toMatch(/model crashed \(after 3 deliveries\)/);
+      expect(JSON.parse(letter!.article).id).toBe(demo[0]!.id);
+      const [pending] = await redis.xpending(keys.intake, 'workers') as [number];
+      expect(pending).toBe(0);
+    } finally {
+      await worker.stop();
+      redis.disconnect();
+    }
+  });
+
+  it('lets only one linker link a partition: a second waits for the lease and takes over when the first stops', async () => {
+    const first = await startLinker(config, silent);
+    const secondRt = await startLinkerLater(config);
+    try {
+      await new Promise((r) => setTimeout(r, 400));
+      expect(secondRt.started).toBe(false);
+      await first.stop();
+      await until(() => secondRt.started, 10_000);
+    } finally {
+      await secondRt.stop();
+    }
+  });
+});
+
+/** Starts a linker without waiting for its lease; `started` turns true once it holds it. */
+async function startLinkerLater(config: Readonly<Config>): Promise<{ started: boolean; stop(): Promise<void> }> {
+  const redis = await connectRedis(REDIS_URL);
+  const blocking = await connectRedis(REDIS_URL);
+  const { createRuntime } = await import('../../src/runtime.js');
+  const runtime = await createRuntime(config, silent);
+  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger: silent, leaseMs: 1500 });
+  const handle = { started: false, stop: async () => {
+    await linker.stop();
+    await starting;
+    redis.disconnect();
+    await runtime.close();
+  } };
+  const starting = linker.start().then(() => { handle.started = true; });
+  return handle;
+}
