@@ -153,7 +153,7 @@ async function main(): Promise<void> {
   const transformer = quick ? null : await transformerThroughput(await demoArticles());
   // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
   const redisUp = quick ? false : await redisAnswers();
-  const scaling = redisUp ? await workerScaling(await demoArticles(), rows[0]!.mentions) : [];
+  const { rows: scaling, ceilings } = redisUp ? await workerScaling(await demoArticles(), rows[0]!.mentions) : { rows: [], ceilings: [] };
   const redisMem = redisUp ? await redisMemory(await demoTimesTen()) : null;
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
@@ -178,13 +178,15 @@ async function main(): Promise<void> {
     process.stdout.write(`\nworker processes on the Redis queue (rate between the 10th and 90th percent of answers; Redis and the measuring process share the cores):\n`
       + `  embedder                          articles  workers  threads/worker  seconds  articles/s  vs 1 worker\n`
       + scaling.map((r) => `  ${r.embedder.padEnd(32)}  ${String(r.articles).padStart(8)}  ${String(r.workers).padStart(7)}  ${r.threadsPerWorker.padStart(14)}  ${r.seconds.toFixed(2).padStart(7)}  ${r.articlesPerSecond.toFixed(0).padStart(10)}  ${(r.articlesPerSecond / base(r.embedder).articlesPerSecond).toFixed(2).padStart(11)}`).join('\n') + '\n');
+    process.stdout.write(`\nwhat a second process adds on this machine at all (the same work without Redis, 1 process, then 2 side by side):\n`
+      + ceilings.map((c) => `  ${c.work.padEnd(42)}  1 process ${c.oneSeconds.toFixed(2)} s, 2 processes ${c.twoSeconds.toFixed(2)} s each: ${c.ceiling.toFixed(2)}x`).join('\n') + '\n');
   } else if (!quick) {
     process.stdout.write('\nworker scaling and Redis memory: left out, Redis does not answer at store.redis.url\n');
   }
   if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, redisMemory: redisMem }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

@@ -5,6 +5,8 @@
  *                      worker processes (analysis, event sentences and, with the
  *                      transformer, embedding); the rate between the 10th and 90th percent
  *                      of answers, when every worker is running;
+ *   ceiling            the same work without Redis in 1 process, then in 2 side by side:
+ *                      how much a second process can add on this machine at all;
  *   Redis memory       used_memory before and after one process stores the demo x10 in a
  *                      fresh partition, per stored mention and per article.
  */
@@ -37,6 +39,16 @@ export interface WorkerRow {
   articlesPerSecond: number;
 }
 
+/** How much a second process adds to the same work on this machine, without Redis. */
+export interface CeilingRow {
+  work: string;
+  oneSeconds: number;
+  /** The slower of two processes doing the same work side by side. */
+  twoSeconds: number;
+  /** Throughput of two processes over one: 2 x one / two. */
+  ceiling: number;
+}
+
 /** Redis memory per stored record. */
 export interface RedisMemoryRow {
   articles: number;
@@ -48,6 +60,7 @@ export interface RedisMemoryRow {
 
 const REDIS_URL = parseConfig({}).store.redis.url;
 const CLI = fileURLToPath(new URL('../cli/main.js', import.meta.url));
+const ALONE = fileURLToPath(new URL('./work-alone-run.js', import.meta.url));
 
 /** True when the configured Redis answers. */
 export async function redisAnswers(): Promise<boolean> {
@@ -61,7 +74,7 @@ export async function redisAnswers(): Promise<boolean> {
 }
 
 /** Worker throughput with 1 and 2 worker processes, with the default embedder and a MiniLM-sized transformer. */
-export async function workerScaling(demo: readonly Article[], demoMentions: number): Promise<WorkerRow[]> {
+export async function workerScaling(demo: readonly Article[], demoMentions: number): Promise<{ rows: WorkerRow[]; ceilings: CeilingRow[] }> {
   // TF-IDF workers are fast: ten copies of the demo; transformer workers: three.
   const many = copiesOf(demo, 10);
   const few = copiesOf(demo, 3);
@@ -75,7 +88,8 @@ export async function workerScaling(demo: readonly Article[], demoMentions: numb
     for (const workers of [1, 2]) rows.push(await timeWorkers(dir, many, demoMentions * 10, workers, { kind: 'tfidf' }, 'default (TF-IDF: linker embeds)', '1'));
     for (const workers of [1, 2]) rows.push(await timeWorkers(dir, few, demoMentions * 3, workers, { kind: 'transformer', modelPath: model, threads: 1 }, 'transformer (MiniLM-L6-sized)', '1'));
     rows.push(await timeWorkers(dir, few, demoMentions * 3, 1, { kind: 'transformer', modelPath: model, threads: 0 }, 'transformer (MiniLM-L6-sized)', 'all cores'));
-    return rows;
+    const ceilings = [await ceiling('analysis and event sentences (wink-nlp)', ['analysis', '10']), await ceiling('transformer model alone', ['model', model, '3'])];
+    return { rows, ceilings };
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
@@ -156,4 +170,19 @@ function sleep(ms: number): Promise<void> {
 /** `n` copies of the articles under new ids (the workers do not check for copies). */
 function copiesOf(base: readonly Article[], n: number): Article[] {
   return Array.from({ length: n }, (_, k) => base.map((a) => ({ ...a, id: `${a.id}#w${k}` }))).flat();
+}
+
+/** Runs work-alone-run.js once alone, then twice side by side. */
+async function ceiling(work: string, args: string[]): Promise<CeilingRow> {
+  const once = () => new Promise<number>((resolve, reject) => {
+    const p = spawn(process.execPath, [ALONE, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let out = '';
+    let err = '';
+    p.stdout!.on('data', (d: Buffer) => { out += d.toString(); });
+    p.stderr!.on('data', (d: Buffer) => { err += d.toString(); });
+    p.once('exit', (code) => (code === 0 ? resolve(Number(out.trim())) : reject(new Error(`work-alone-run ${args[0]} exited ${code}: ${err.slice(0, 500)}`))));
+  });
+  const oneSeconds = await once();
+  const twoSeconds = Math.max(...(await Promise.all([once(), once()])));
+  return { work, oneSeconds, twoSeconds, ceiling: (2 * oneSeconds) / twoSeconds };
 }
