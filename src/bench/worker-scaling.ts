@@ -24,7 +24,8 @@ import { runPipeline } from '../pipeline.js';
 import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { keyspace } from '../store/redis/keys.js';
-import { connectRedis, openRedisStore } from '../store/redis/redis-store.js';
+import { connectRedis, deleteMatching } from '../store/redis/connect.js';
+import { openRedisStore } from '../store/redis/redis-store.js';
 import { SPECIAL_TOKENS, writeModel } from './build-onnx-model.js';
 
 /** One worker-throughput measurement. */
@@ -131,7 +132,7 @@ async function timeWorkers(dir: string, articles: readonly Article[], mentions: 
     return { embedder, workers: count, threadsPerWorker, articles: articles.length, mentions, seconds, articlesPerSecond: (Math.ceil(articles.length * 0.9) - Math.ceil(articles.length * 0.1)) / seconds };
   } finally {
     for (const p of procs) p.kill('SIGTERM');
-    await drop(redis, keys.pattern);
+    await deleteMatching(redis, keys.pattern);
     redis.disconnect();
   }
 }
@@ -152,15 +153,6 @@ export async function redisMemory(articles: readonly Article[]): Promise<RedisMe
     await store.dropPartition();
     await store.close();
   }
-}
-
-async function drop(redis: Awaited<ReturnType<typeof connectRedis>>, pattern: string): Promise<void> {
-  let cursor = '0';
-  do {
-    const [next, keys] = await redis.scan(cursor, 'MATCH', pattern, 'COUNT', 1000);
-    cursor = next;
-    if (keys.length) await redis.unlink(...keys);
-  } while (cursor !== '0');
 }
 
 function sleep(ms: number): Promise<void> {

@@ -33,6 +33,8 @@ export const configSchema = z.strictObject({
       url: z.string().regex(/^rediss?:\/\/\S+$/, 'must be a redis:// or rediss:// URL').default('redis://127.0.0.1:6379'),
       /** Name of this deployment's state; all its keys share the hash tag {strandline:<partition>}. Default main. */
       partition: z.string().regex(/^[A-Za-z0-9_-]{1,64}$/, 'must be 1 to 64 letters, digits, - or _').default('main'),
+      /** The URL names one seed node of a Redis Cluster (a partition lives in one hash slot). Default false. */
+      cluster: z.boolean().default(false),
     }).prefault({}),
   }).prefault({}),
   ingest: z.strictObject({

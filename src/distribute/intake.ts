@@ -3,7 +3,7 @@
  * role replaying feeds, a push endpoint); workers read it through the consumer group
  * `workers`; the linker reads its order.
  */
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../store/redis/connect.js';
 import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { encodeArticle } from './wire.js';
@@ -12,7 +12,7 @@ import { encodeArticle } from './wire.js';
 export const WORKER_GROUP = 'workers';
 
 /** Creates the stream and the workers' group if missing (idempotent). */
-export async function ensureIntake(redis: Redis, k: Keyspace): Promise<void> {
+export async function ensureIntake(redis: RedisClient, k: Keyspace): Promise<void> {
   try {
     await redis.xgroup('CREATE', k.intake, WORKER_GROUP, '0', 'MKSTREAM');
   } catch (err) {
@@ -21,7 +21,7 @@ export async function ensureIntake(redis: Redis, k: Keyspace): Promise<void> {
 }
 
 /** Adds articles to the intake stream, in order; returns their entry ids. */
-export async function enqueueArticles(redis: Redis, k: Keyspace, articles: readonly Article[]): Promise<string[]> {
+export async function enqueueArticles(redis: RedisClient, k: Keyspace, articles: readonly Article[]): Promise<string[]> {
   await ensureIntake(redis, k);
   const ids: string[] = [];
   for (let at = 0; at < articles.length; at += 200) {
@@ -36,7 +36,7 @@ export async function enqueueArticles(redis: Redis, k: Keyspace, articles: reado
 }
 
 /** What waits where: intake entries not yet answered, analysed entries not yet linked, dead letters. */
-export async function queueDepth(redis: Redis, k: Keyspace): Promise<{ intake: number; analysed: number; deadLetters: number }> {
+export async function queueDepth(redis: RedisClient, k: Keyspace): Promise<{ intake: number; analysed: number; deadLetters: number }> {
   const [intake, analysed, dead] = await Promise.all([redis.xlen(k.intake), redis.xlen(k.analysed), redis.xlen(k.deadLetters)]);
   return { intake, analysed, deadLetters: dead };
 }
@@ -51,7 +51,7 @@ export interface DeadLetter {
 }
 
 /** The newest dead letters first. */
-export async function deadLetters(redis: Redis, k: Keyspace, limit: number): Promise<DeadLetter[]> {
+export async function deadLetters(redis: RedisClient, k: Keyspace, limit: number): Promise<DeadLetter[]> {
   const rows = await redis.xrevrange(k.deadLetters, '+', '-', 'COUNT', limit);
   return rows.map(([id, fields]) => {
     const f = fieldMap(fields);

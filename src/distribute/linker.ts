@@ -10,7 +10,7 @@
  * "already stored" and changes nothing; its successor resumes the linker from the store.
  */
 import { randomUUID } from 'node:crypto';
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
@@ -22,9 +22,9 @@ import { decodeWork } from './wire.js';
 /** What the linker loop needs beyond the pipeline context. */
 export interface LinkerDeps {
   ctx: PipelineContext;
-  redis: Redis;
+  redis: RedisClient;
   /** Its own connection for the blocking wait on the analysed stream. */
-  blocking: Redis;
+  blocking: RedisClient;
   keys: Keyspace;
   logger: Logger;
   /** Lease length, ms (renewed at a third of it). */

@@ -4,7 +4,7 @@
  * notifies and applies retention (one per partition, guarded by a lease). `all` is the
  * single process and does not come through here.
  */
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../store/redis/connect.js';
 import type { Config } from '../config/schema.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
 import { TransformerEmbedder } from '../embed/transformer-embedder.js';
@@ -32,7 +32,7 @@ export async function startWorker(config: Readonly<Config>, logger: Logger, name
   // The model first: a missing model stops start-up before any connection is open.
   const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
   const onError = redisErrorLog(logger);
-  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis, {}, onError), connectRedis(config.store.redis, {}, onError)]);
   const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger, ...(name ? { name } : {}) });
   await worker.start();
   logger.child({ stage: 'worker' }).info({ consumer: worker.name }, 'worker reading the intake stream');
@@ -49,10 +49,10 @@ export async function startWorker(config: Readonly<Config>, logger: Logger, name
 export async function startLinker(config: Readonly<Config>, logger: Logger): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
   const runtime = await createRuntime(config, logger);
   const onError = redisErrorLog(logger);
-  let redis: Redis;
-  let blocking: Redis;
+  let redis: RedisClient;
+  let blocking: RedisClient;
   try {
-    [redis, blocking] = await Promise.all([connectRedis(config.store.redis.url, {}, onError), connectRedis(config.store.redis.url, {}, onError)]);
+    [redis, blocking] = await Promise.all([connectRedis(config.store.redis, {}, onError), connectRedis(config.store.redis, {}, onError)]);
   } catch (err) {
     await runtime.close();
     throw err;
@@ -72,8 +72,8 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
 }
 
 /** The queue as the API and the replaying api process see it. */
-export async function openQueue(config: Readonly<Config>, logger: Logger): Promise<QueueView & { enqueue(articles: readonly Article[]): Promise<string[]>; close(): void; redis: Redis }> {
-  const redis = await connectRedis(config.store.redis.url, {}, redisErrorLog(logger));
+export async function openQueue(config: Readonly<Config>, logger: Logger): Promise<QueueView & { enqueue(articles: readonly Article[]): Promise<string[]>; close(): void; redis: RedisClient }> {
+  const redis = await connectRedis(config.store.redis, {}, redisErrorLog(logger));
   const keys = keyspace(config.store.redis.partition);
   return {
     redis,

@@ -9,7 +9,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { hostname } from 'node:os';
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../store/redis/connect.js';
 import type { Config } from '../config/schema.js';
 import { detectMentions } from '../detect/detect-mentions.js';
 import type { Embedder } from '../embed/embedder.js';
@@ -28,9 +28,9 @@ import { decodeArticle, encodeWork } from './wire.js';
 export interface WorkerDeps {
   config: Readonly<Config>;
   /** For commands and the hand-off script. */
-  redis: Redis;
+  redis: RedisClient;
   /** Its own connection for the blocking read (a blocked connection can do nothing else). */
-  blocking: Redis;
+  blocking: RedisClient;
   keys: Keyspace;
   nlp: Nlp;
   analysis?: AnalysisPool | undefined;

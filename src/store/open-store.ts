@@ -8,5 +8,5 @@ import type { Store } from './store.js';
 export async function openStore(c: Config['store'], logger?: Logger): Promise<Store> {
   if (c.kind === 'sqlite') return openSqliteStore(c.path);
   const log = logger?.child({ stage: 'store' });
-  return openRedisStore({ url: c.redis.url, partition: c.redis.partition, onError: (err) => log?.warn({ err: err.message }, 'Redis connection error; commands wait for it to return') });
+  return openRedisStore({ url: c.redis.url, cluster: c.redis.cluster, partition: c.redis.partition, onError: (err) => log?.warn({ err: err.message }, 'Redis connection error; commands wait for it to return') });
 }

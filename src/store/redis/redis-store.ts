@@ -13,7 +13,8 @@
  * here: the cost grows with the events in range, not with the mentions.
  */
 import { readFileSync } from 'node:fs';
-import { Redis, type RedisOptions } from 'ioredis';
+import type { RedisOptions } from 'ioredis';
+import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
 import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
@@ -44,6 +45,8 @@ function script(name: string): string {
 /** Options for a Redis store. */
 export interface RedisStoreOptions {
   url: string;
+  /** The URL is a seed node of a Redis Cluster. */
+  cluster?: boolean;
   partition: string;
   /** Extra ioredis options (tests shorten retries). */
   redis?: RedisOptions;
@@ -51,47 +54,18 @@ export interface RedisStoreOptions {
   onError?: (err: Error) => void;
 }
 
+export { connectRedis, redactUrl } from './connect.js';
+
 /** Connects to Redis and checks it answers; refuses a malformed URL or partition. */
 export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> {
   const keys = keyspace(o.partition);
-  return new RedisStore(await connectRedis(o.url, o.redis, o.onError), keys);
-}
-
-/**
- * One connection, checked with a PING (STRAND_STORE_FAILED when Redis does not answer at
- * start). Once connected, commands wait through a Redis restart or failover instead of
- * failing (maxRetriesPerRequest null): a commit that waits is better than one that is lost,
- * and a commit repeated after a lost reply changes nothing.
- */
-export async function connectRedis(url: string, options: RedisOptions = {}, onError: (err: Error) => void = () => undefined): Promise<Redis> {
-  let redis: Redis;
-  try {
-    redis = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: null, ...options });
-  } catch (err) {
-    throw new StrandError('STRAND_CONFIG_INVALID', `store.redis.url "${redactUrl(url)}" is not a Redis URL: ${(err as Error).message}`, { cause: err });
-  }
-  // Connection errors while reconnecting are reported here (ioredis keeps reconnecting);
-  // commands wait for the connection rather than fail.
-  redis.on('error', onError);
-  try {
-    await redis.connect();
-    await redis.ping();
-  } catch (err) {
-    redis.disconnect();
-    throw new StrandError('STRAND_STORE_FAILED', `cannot reach Redis at ${redactUrl(url)}: ${(err as Error).message}`, { cause: err });
-  }
-  return redis;
-}
-
-/** The URL without its password, for messages and logs. */
-export function redactUrl(url: string): string {
-  return url.replace(/\/\/([^:@/]*):[^@/]*@/, '//$1:***@');
+  return new RedisStore(await connectRedis({ url: o.url, cluster: o.cluster ?? false }, o.redis, o.onError), keys);
 }
 
 export class RedisStore implements Store {
   private readonly scripts: Scripts;
 
-  constructor(private readonly redis: Redis, private readonly k: Keyspace) {
+  constructor(private readonly redis: RedisClient, private readonly k: Keyspace) {
     redis.defineCommand('strandlineCommitArticles', { numberOfKeys: 1, lua: script('commit-articles') });
     redis.defineCommand('strandlineCommitMerge', { numberOfKeys: 1, lua: script('commit-merge') });
     redis.defineCommand('strandlineEraseArticle', { numberOfKeys: 1, lua: script('erase-article') });
@@ -305,14 +279,7 @@ export class RedisStore implements Store {
 
   /** Deletes every key of this partition (tests and decommissioning; not part of the contract). */
   async dropPartition(): Promise<number> {
-    let dropped = 0;
-    let cursor = '0';
-    do {
-      const [next, keys] = await this.redis.scan(cursor, 'MATCH', this.k.pattern, 'COUNT', 1000);
-      cursor = next;
-      if (keys.length) dropped += await this.redis.unlink(...keys);
-    } while (cursor !== '0');
-    return dropped;
+    return deleteMatching(this.redis, this.k.pattern);
   }
 
   /** Used memory of the Redis server, bytes (bench). */
@@ -356,7 +323,7 @@ export class RedisStore implements Store {
   }
 
   /** Runs `add` (one or more commands) for each item in pipelines of CHUNK items; returns every reply in order. */
-  private async pipelined<T>(items: readonly T[], add: (p: ReturnType<Redis['pipeline']>, item: T) => unknown): Promise<unknown[]> {
+  private async pipelined<T>(items: readonly T[], add: (p: ReturnType<RedisClient['pipeline']>, item: T) => unknown): Promise<unknown[]> {
     const out: unknown[] = [];
     for (let at = 0; at < items.length; at += CHUNK) {
       const p = this.redis.pipeline();
