@@ -12,6 +12,7 @@ import { registerEventRoutes } from './routes/events.js';
 import { registerArticleRoutes } from './routes/articles.js';
 import { registerOperationRoutes, type IngestStatus, type QueueView } from './routes/operations.js';
 import { registerWebPage } from '../web/serve-page.js';
+import { type PushLimits, type SubmitArticles, registerPushRoute } from './routes/push.js';
 import { CAUTION } from './schemas.js';
 
 /** What the API is handed. */
@@ -22,6 +23,8 @@ export interface ApiDeps {
   ingestStatus: () => IngestStatus;
   /** The work queue of a scale-out deployment (Redis store); absent in a single process. */
   queue?: QueueView | undefined;
+  /** Where pushed articles go; without it POST /api/articles is not offered. */
+  push?: { submit: SubmitArticles; limits: PushLimits } | undefined;
 }
 
 /** Builds the fastify app (not yet listening). */
@@ -60,6 +63,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   registerEventRoutes(app, deps.store);
   registerArticleRoutes(app, deps.store);
   registerOperationRoutes(app, deps);
+  if (deps.push) registerPushRoute(app, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
   registerWebPage(app);
   app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
   await app.ready();

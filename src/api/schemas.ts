@@ -252,3 +252,28 @@ export const queueDeadLettersSchema = {
     },
   },
 } as const;
+
+export const pushSchema = {
+  summary: 'Push articles: one JSON object, a JSON array, or NDJSON (application/x-ndjson), each {id, outlet, title, url?, published?, text? or html?, language?}',
+  description: 'Each item is checked on its own: accepted (queued for processing), duplicate (already stored, or twice in the request) or rejected with its reason. Accepted articles are processed in the order received; their links appear under /api/articles/{id} once processed.',
+  tags: ['articles'],
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        accepted: int,
+        duplicates: int,
+        rejected: int,
+        results: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: { index: int, id: nullableStr, status: { type: 'string', enum: ['accepted', 'duplicate', 'rejected'] }, reason: nullableStr },
+            required: ['index', 'id', 'status', 'reason'],
+          },
+        },
+      },
+      required: ['accepted', 'duplicates', 'rejected', 'results'],
+    },
+  },
+} as const;

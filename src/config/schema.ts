@@ -42,6 +42,10 @@ export const configSchema = z.strictObject({
     maxFeedBytes: z.number().int().min(1024).default(20 * 1024 * 1024),
     /** Longest article body kept, in characters; longer ones are rejected. Default 200,000 (a long feature is ~60,000). */
     maxArticleChars: z.number().int().min(100).default(200_000),
+    /** Largest body POST /api/articles takes, bytes. Default 10 MiB. */
+    maxPushBytes: z.number().int().min(1024).max(512 * 1024 * 1024).default(10 * 1024 * 1024),
+    /** Most articles in one push. Default 1,000. */
+    maxPushItems: z.number().int().min(1).max(100_000).default(1000),
     /** Time allowed for one feed fetch, ms. Default 15 s. */
     fetchTimeoutMs: z.number().int().min(100).default(15_000),
   }).prefault({}),

@@ -8,7 +8,14 @@ import model from 'wink-eng-lite-web-model';
 /** A loaded wink-nlp pipeline. */
 export type Nlp = ReturnType<typeof winkNLP>;
 
-/** Loads wink-nlp with the lite English model (tokens, sentences, POS, lemmas, entities). */
+// The model package's loader serialises its own module-level tables again on every load
+// (JSON.stringify of what the last load left, a string whose escapes double each time), so
+// a process that loads it a few dozen times fails with "Invalid string length". One
+// instance per process (per thread) avoids that; reading documents does not change it.
+let loaded: Nlp | null = null;
+
+/** The process's wink-nlp with the lite English model (tokens, sentences, POS, lemmas, entities). */
 export function createNlp(): Nlp {
-  return winkNLP(model);
+  loaded ??= winkNLP(model);
+  return loaded;
 }

@@ -85,6 +85,31 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
     }
   });
 
+  it('queues pushed articles for the workers (the api role) and the linker stores them', async () => {
+    const { buildApp } = await import('../../src/api/build-app.js');
+    const { openQueue } = await import('../../src/distribute/roles.js');
+    const queue = await openQueue(config, silent);
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    const app = await buildApp({ store, logger: silent, version: 'test', ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }), queue,
+      push: { submit: async (a) => void (await queue.enqueue(a)), limits: { maxArticleChars: 200_000, maxPushItems: 10, maxPushBytes: 1 << 20 } } });
+    const worker = await startWorker(config, silent);
+    const linking = await startLinker(config, silent);
+    try {
+      const payload = [demo[3]!, demo[4]!].map((a) => ({ id: a.id, outlet: a.outlet, title: a.title, url: a.url, published: a.published, text: a.text }));
+      const r = await app.inject({ method: 'POST', url: '/api/articles', payload });
+      expect(r.json()).toMatchObject({ accepted: 2, rejected: 0 });
+      await until(async () => (await store.counts()).articles === 2);
+      expect(await store.hasArticle(demo[3]!.id)).toBe(true);
+      expect((await app.inject('/api/queue')).json()).toMatchObject({ deadLetters: 0 });
+    } finally {
+      await app.close();
+      await worker.stop();
+      await linking.stop();
+      await store.close();
+      queue.close();
+    }
+  });
+
   it('retries an article that fails in analysis, then gives it up after queue.maxDeliveries', async () => {
     const redis = await connectRedis(REDIS_URL);
     const blocking = await connectRedis(REDIS_URL);

@@ -9,6 +9,7 @@ import type { Config } from '../../config/schema.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
 import type { Logger } from '../../logger.js';
+import { LocalIntake } from '../../local-intake.js';
 import { createRuntime } from '../../runtime.js';
 import { openStore } from '../../store/open-store.js';
 import { addDays, dayOf } from '../../text/days.js';
@@ -39,7 +40,11 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   if (config.process.role === 'api') return serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])]);
   const rt = await createRuntime(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status });
+  // Pushed articles and the replay take turns on the one pipeline.
+  const intake = new LocalIntake(rt, (o) => {
+    if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
+  });
+  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: pushLimits(config) } });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
@@ -60,14 +65,14 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const replay = sources.length === 0 ? Promise.resolve() : (async () => {
     status.state = 'replaying';
     process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`);
-    const summary = await runFeeds(rt, sources, { signal: abort.signal }, {
+    const summary = await intake.exclusive(() => runFeeds(rt, sources, { signal: abort.signal }, {
       onRead: (total) => { status.total = total; },
       onOutcome: (o, done) => {
         status.processed = done;
         if (o.status === 'stored') status.stored++;
         if (o.status === 'rejected') status.rejected++;
       },
-    });
+    }));
     status.state = 'finished';
     process.stdout.write(`${formatSummary(summary)}\nReplay finished; still serving on ${shown}/ (Ctrl+C to stop)\n`);
   })().catch((err: unknown) => {
@@ -80,6 +85,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   abort.abort();
   clearInterval(sweeper);
   await replay;
+  await intake.idle();
   await dispatcher.stop();
   await app.close();
   await rt.close();
@@ -120,7 +126,7 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const store = await openStore(config.store, logger);
   const queue = await openQueue(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue });
+  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit: async (a) => void (await queue.enqueue(a)), limits: pushLimits(config) } });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
@@ -135,4 +141,8 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   queue.close();
   await store.close();
   return 0;
+}
+
+function pushLimits(config: Readonly<Config>): { maxArticleChars: number; maxPushItems: number; maxPushBytes: number } {
+  return { maxArticleChars: config.ingest.maxArticleChars, maxPushItems: config.ingest.maxPushItems, maxPushBytes: config.ingest.maxPushBytes };
 }

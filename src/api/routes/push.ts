@@ -1,0 +1,52 @@
+/** POST /api/articles: articles pushed by another system, one JSON object, a JSON array or NDJSON. */
+import type { FastifyInstance } from 'fastify';
+import { readPushedItems, splitPushedBody } from '../../ingest/read-pushed.js';
+import type { Article } from '../../records.js';
+import type { Store } from '../../store/store.js';
+import { pushSchema } from '../schemas.js';
+
+/** Hands accepted articles on (to the local pipeline, or to the Redis intake stream). */
+export type SubmitArticles = (articles: readonly Article[]) => Promise<void>;
+
+/** Limits of the push route. */
+export interface PushLimits {
+  maxArticleChars: number;
+  maxPushItems: number;
+  maxPushBytes: number;
+}
+
+/** One item's result. */
+interface ItemResult {
+  index: number;
+  id: string | null;
+  status: 'accepted' | 'duplicate' | 'rejected';
+  reason: string | null;
+}
+
+export function registerPushRoute(app: FastifyInstance, deps: { store: Store; submit: SubmitArticles; limits: PushLimits; now: () => Date }): void {
+  const { limits } = deps;
+  app.addContentTypeParser('application/x-ndjson', { parseAs: 'string', bodyLimit: limits.maxPushBytes }, (_req, body, done) => done(null, body));
+  app.post('/api/articles', { schema: pushSchema, bodyLimit: limits.maxPushBytes }, async (req) => {
+    const ndjson = (req.headers['content-type'] ?? '').startsWith('application/x-ndjson');
+    const items = readPushedItems(splitPushedBody(req.body, ndjson, limits.maxPushItems), {
+      maxArticleChars: limits.maxArticleChars, maxItems: limits.maxPushItems, fetched: deps.now().toISOString(), source: `push:${req.ip}`,
+    });
+    const results: ItemResult[] = [];
+    const accepted: Article[] = [];
+    const seen = new Set<string>();
+    for (const item of items) {
+      if (item.error) {
+        results.push({ index: item.index, id: item.id, status: 'rejected', reason: `${item.error.code}: ${item.error.message}` });
+      } else if (seen.has(item.article.id) || (await deps.store.hasArticle(item.article.id))) {
+        results.push({ index: item.index, id: item.article.id, status: 'duplicate', reason: seen.has(item.article.id) ? 'earlier in this request' : 'already stored' });
+      } else {
+        seen.add(item.article.id);
+        accepted.push(item.article);
+        results.push({ index: item.index, id: item.article.id, status: 'accepted', reason: null });
+      }
+    }
+    if (accepted.length) await deps.submit(accepted);
+    const count = (s: ItemResult['status']) => results.filter((r) => r.status === s).length;
+    return { accepted: count('accepted'), duplicates: count('duplicate'), rejected: count('rejected'), results };
+  });
+}
