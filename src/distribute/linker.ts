@@ -16,6 +16,7 @@ import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitStage, linkStages } from '../pipeline.js';
 import type { Keyspace } from '../store/redis/keys.js';
+import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';
 import { decodeWork } from './wire.js';
 
@@ -38,7 +39,7 @@ const IN_FLIGHT = 256;
 
 interface Pending {
   entry: string;
-  analysed: string | null;
+  analysed: string;
 }
 
 export class QueueLinker {
@@ -52,8 +53,13 @@ export class QueueLinker {
   /** Every outcome, in intake order (tests, logs). */
   readonly outcome$: Observable<ArticleOutcome> = this.outcomes.asObservable();
 
+  private readonly renewLease: ReturnType<typeof defineScript>;
+  private readonly releaseLease: ReturnType<typeof defineScript>;
+
   constructor(private readonly d: LinkerDeps) {
     this.log = d.logger.child({ stage: 'linker' });
+    this.renewLease = defineScript(d.redis, 'lease-renew');
+    this.releaseLease = defineScript(d.redis, 'lease-release');
   }
 
   /** Waits for the partition's lease, then links until stopped. */
@@ -75,12 +81,12 @@ export class QueueLinker {
     this.d.blocking.disconnect();
     await this.loop?.catch(() => undefined);
     if (this.leaseTimer) clearInterval(this.leaseTimer);
-    await this.d.redis.eval("if redis.call('GET', KEYS[1]) == ARGV[1] then return redis.call('DEL', KEYS[1]) end return 0", 1, this.d.keys.linkerLease, this.token).catch(() => undefined);
+    await this.releaseLease(this.d.keys.linkerLease, this.token).catch(() => undefined);
     this.outcomes.complete();
   }
 
   private async renew(leaseMs: number): Promise<void> {
-    const held = await this.d.redis.eval("if redis.call('GET', KEYS[1]) == ARGV[1] then return redis.call('PEXPIRE', KEYS[1], ARGV[2]) end return 0", 1, this.d.keys.linkerLease, this.token, leaseMs).catch(() => 0);
+    const held = await this.renewLease(this.d.keys.linkerLease, this.token, leaseMs).catch(() => 0);
     if (held !== 1 && !this.stopping) {
       // Another linker took over (this one stalled past its lease): stop rather than link twice.
       this.log.error('lost the linker lease; stopping');
@@ -121,7 +127,7 @@ export class QueueLinker {
           if (r) lastSeen = r[0]![1].at(-1)![0];
           continue;
         }
-        const bodies = (await redis.pipeline(next.map((n) => ['xrange', keys.analysed, n.analysed!, n.analysed!])).exec())!;
+        const bodies = (await redis.pipeline(next.map((n) => ['xrange', keys.analysed, n.analysed, n.analysed])).exec())!;
         for (let i = 0; i < next.length; i++) {
           const [err, rows] = bodies[i]!;
           const row = (rows as [string, string[]][] | null)?.[0];

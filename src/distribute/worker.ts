@@ -7,7 +7,6 @@
  * analysed stream. A periodic XAUTOCLAIM sweep takes over entries a dead or stuck worker
  * left pending; an entry that fails `maxDeliveries` times goes to the dead-letter stream.
  */
-import { readFileSync } from 'node:fs';
 import { hostname } from 'node:os';
 import type { RedisClient } from '../store/redis/connect.js';
 import type { Config } from '../config/schema.js';
@@ -18,6 +17,7 @@ import type { Logger } from '../logger.js';
 import type { DetectedWork } from '../pipeline.js';
 import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
+import { defineScript } from '../store/redis/scripts.js';
 import { analyseArticle } from '../text/analyse-article.js';
 import type { AnalysisPool } from '../text/analysis-pool.js';
 import type { Nlp } from '../text/nlp.js';
@@ -57,11 +57,12 @@ export class AnalysisWorker {
   private loop: Promise<void> | null = null;
   private lastSweep = 0;
   private readonly log: Logger;
+  private readonly handOffScript: ReturnType<typeof defineScript>;
 
   constructor(private readonly d: WorkerDeps) {
     this.name = d.name ?? `${hostname()}-${process.pid}`;
     this.log = d.logger.child({ stage: 'worker', consumer: this.name });
-    d.redis.defineCommand('strandlineHandOff', { numberOfKeys: 1, lua: readFileSync(new URL('../store/redis/lua/hand-off.lua', import.meta.url), 'utf8') });
+    this.handOffScript = defineScript(d.redis, 'hand-off');
   }
 
   /** Starts reading; resolves once the group exists and this worker is a member of it. */
@@ -164,8 +165,7 @@ export class AnalysisWorker {
   }
 
   private async handOff(id: string, kind: 'analysed' | 'dead', body: string, error = ''): Promise<void> {
-    const handOff = (this.d.redis as unknown as { strandlineHandOff: (...a: string[]) => Promise<string> }).strandlineHandOff;
-    await handOff.call(this.d.redis, this.d.keys.intake, this.d.keys.prefix, id, kind, body, error);
+    await this.handOffScript(this.d.keys.intake, this.d.keys.prefix, id, kind, body, error);
   }
 }
 

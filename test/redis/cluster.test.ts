@@ -1,10 +1,9 @@
 import { type ChildProcess, spawn, spawnSync } from 'node:child_process';
 import { randomUUID } from 'node:crypto';
 import { mkdtempSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parseConfig } from '../../src/config/load-config.js';
 import { enqueueArticles } from '../../src/distribute/intake.js';
 import { startLinker, startWorker } from '../../src/distribute/roles.js';
@@ -16,26 +15,16 @@ import { keyspace } from '../../src/store/redis/keys.js';
 import { openRedisStore, type RedisStore } from '../../src/store/redis/redis-store.js';
 import { describeStoreContract } from '../contract/store-contract.js';
 import { DEMO_DIR } from '../helpers/demo.js';
+import { freePort, freshRedisStore, redisTestsRun } from '../helpers/redis.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 // A local three-node Redis Cluster started by the test itself (redis-server and redis-cli
 // are installed wherever the Redis tests run; .ci/run installs them).
-const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const run = redisTestsRun();
 
 interface LocalCluster {
   url: string;
   stop(): Promise<void>;
-}
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as { port: number };
-      srv.close(() => resolve(port));
-    });
-  });
 }
 
 async function startCluster(): Promise<LocalCluster> {
@@ -72,15 +61,7 @@ describe.skipIf(!run)('the Redis store on a three-node Redis Cluster', () => {
     await cluster?.stop();
   });
 
-  describeStoreContract('Redis Cluster store', async () => {
-    const store = await openRedisStore({ url: cluster.url, cluster: true, partition: `test-${randomUUID()}` });
-    const close = store.close.bind(store);
-    store.close = async () => {
-      await store.dropPartition();
-      await close();
-    };
-    return store;
-  });
+  describeStoreContract('Redis Cluster store', () => freshRedisStore(cluster.url, true));
 
   it('keeps each partition in one hash slot, so partitions spread over the shards', async () => {
     const client = await connectRedis({ url: cluster.url, cluster: true });

@@ -1,5 +1,5 @@
 import { randomUUID } from 'node:crypto';
-import { afterEach, beforeEach, describe, expect, inject, it } from 'vitest';
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { parseConfig } from '../../src/config/load-config.js';
 import type { Config } from '../../src/config/schema.js';
 import { deadLetters, enqueueArticles, queueDepth } from '../../src/distribute/intake.js';
@@ -15,9 +15,10 @@ import { type Keyspace, keyspace } from '../../src/store/redis/keys.js';
 import { connectRedis, openRedisStore } from '../../src/store/redis/redis-store.js';
 import type { Nlp } from '../../src/text/nlp.js';
 import { DEMO_DIR } from '../helpers/demo.js';
+import { redisTestsRun } from '../helpers/redis.js';
 import { testConfig } from '../helpers/runtime.js';
 
-const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const run = redisTestsRun();
 const REDIS_URL = 'redis://127.0.0.1:6379';
 const silent = createLogger('silent');
 

@@ -1,23 +1,14 @@
-import { randomUUID } from 'node:crypto';
-import { describe, expect, inject, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { isStrandError } from '../../src/errors.js';
 import { keyspace } from '../../src/store/redis/keys.js';
-import { openRedisStore, redactUrl, type RedisStore } from '../../src/store/redis/redis-store.js';
+import { openRedisStore, redactUrl } from '../../src/store/redis/redis-store.js';
 import { commitFixture, describeStoreContract } from '../contract/store-contract.js';
+import { freshRedisStore, redisTestsRun } from '../helpers/redis.js';
 
-const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const run = redisTestsRun();
 const REDIS_URL = 'redis://127.0.0.1:6379';
 
-/** A store on a fresh partition of its own, dropped when closed. */
-async function freshStore(): Promise<RedisStore> {
-  const store = await openRedisStore({ url: REDIS_URL, partition: `test-${randomUUID()}` });
-  const close = store.close.bind(store);
-  store.close = async () => {
-    await store.dropPartition();
-    await close();
-  };
-  return store;
-}
+const freshStore = () => freshRedisStore(REDIS_URL);
 
 describe.skipIf(!run)('the Redis store', () => {
   describeStoreContract('Redis store', freshStore);

@@ -1,11 +1,10 @@
 import { type ChildProcess, spawn, spawnSync } from 'node:child_process';
-import { createServer } from 'node:net';
 import { randomUUID } from 'node:crypto';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { hostname, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { beforeAll, describe, expect, inject, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import { syntheticStream } from '../../src/bench/synthetic-stream.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { openQueue, startLinker } from '../../src/distribute/roles.js';
@@ -19,9 +18,10 @@ import type { Article } from '../../src/records.js';
 import { openRedisStore } from '../../src/store/redis/redis-store.js';
 import type { Store } from '../../src/store/store.js';
 import { DEMO_DIR } from '../helpers/demo.js';
+import { freePort, redisTestsRun } from '../helpers/redis.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
-const run = inject('redisAvailable') || process.env.STRANDLINE_REQUIRE_REDIS === '1';
+const run = redisTestsRun();
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const REDIS_URL = 'redis://127.0.0.1:6379';
 
@@ -170,15 +170,4 @@ async function startPrivateRedis(): Promise<{ url: string; restarts: number; res
     stop: down,
   };
   return handle;
-}
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as { port: number };
-      srv.close(() => resolve(port));
-    });
-  });
 }

@@ -12,7 +12,6 @@
  * Listing events with filters reads the events active in the time range and filters them
  * here: the cost grows with the events in range, not with the mentions.
  */
-import { readFileSync } from 'node:fs';
 import type { RedisOptions } from 'ioredis';
 import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
 import { StrandError } from '../../errors.js';
@@ -22,6 +21,7 @@ import type {
   EventUpdate, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, Store, StoreCounts,
 } from '../store.js';
 import { type Keyspace, keyspace } from './keys.js';
+import { defineScript } from './scripts.js';
 
 /** The label an event takes when the text it was labelled with is erased and no other text remains. */
 const ERASED_LABEL = '(text erased under the retention policy)';
@@ -34,12 +34,6 @@ interface Scripts {
   commitArticles: Script;
   commitMerge: Script;
   eraseArticle: Script;
-}
-
-/** Loads a script with the shared helpers in front (lib.lua defines functions only). */
-function script(name: string): string {
-  const read = (f: string) => readFileSync(new URL(`./lua/${f}.lua`, import.meta.url), 'utf8');
-  return `${read('lib')}\n${read(name)}`;
 }
 
 /** Options for a Redis store. */
@@ -66,14 +60,10 @@ export class RedisStore implements Store {
   private readonly scripts: Scripts;
 
   constructor(private readonly redis: RedisClient, private readonly k: Keyspace) {
-    redis.defineCommand('strandlineCommitArticles', { numberOfKeys: 1, lua: script('commit-articles') });
-    redis.defineCommand('strandlineCommitMerge', { numberOfKeys: 1, lua: script('commit-merge') });
-    redis.defineCommand('strandlineEraseArticle', { numberOfKeys: 1, lua: script('erase-article') });
-    const r = redis as unknown as Record<string, Script>;
     this.scripts = {
-      commitArticles: r.strandlineCommitArticles!.bind(redis),
-      commitMerge: r.strandlineCommitMerge!.bind(redis),
-      eraseArticle: r.strandlineEraseArticle!.bind(redis),
+      commitArticles: defineScript(redis, 'commit-articles'),
+      commitMerge: defineScript(redis, 'commit-merge'),
+      eraseArticle: defineScript(redis, 'erase-article'),
     };
   }
 
