@@ -204,11 +204,14 @@ export const healthSchema = {
   },
 } as const;
 
+/** ?limit=1..500 (default 100), for the operator lists. */
+const limitQuery = { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } } as const;
+
 /** GET /api/webhooks/dead-letters */
 export const deadLettersSchema = {
   summary: 'Webhook deliveries that gave up',
   tags: ['operations'],
-  querystring: { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } },
+  querystring: limitQuery,
   response: {
     200: {
       type: 'object',
@@ -238,7 +241,7 @@ export const queueSchema = {
 export const queueDeadLettersSchema = {
   summary: 'Queued articles the workers gave up on after repeated failures, newest first, with the last error',
   tags: ['operations'],
-  querystring: { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } },
+  querystring: limitQuery,
   response: {
     200: {
       type: 'object',
