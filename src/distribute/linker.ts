@@ -97,15 +97,21 @@ export class QueueLinker {
   private async run(): Promise<void> {
     const { ctx, redis, keys } = this.d;
     const admit = admitStage(ctx);
-    const order: string[] = [];
+    // Entries between reading and their outcome, in order, with what the worker sent.
+    const order: { entry: string; body: string }[] = [];
     let inFlight = 0;
     const input = new Subject<Flow<DetectedWork>>();
     const done = new Promise<void>((resolve, reject) => {
       input.pipe(linkStages(ctx)).subscribe({
         next: (o) => {
           inFlight--;
-          const entry = order.shift()!;
-          void this.advance(entry).catch((err: unknown) => this.log.warn({ err: describeError(err) }, 'position not saved; the next start repeats a few articles harmlessly'));
+          const { entry, body } = order.shift()!;
+          // An article the linker could not store (the store refused the commit) must not
+          // vanish with the queue entry: it goes to the dead-letter list with the reason.
+          const lost = o.status === 'rejected' && !o.reason?.startsWith('worker:');
+          void (lost ? this.deadLetter(entry, o.reason ?? 'not stored', body) : Promise.resolve())
+            .then(() => this.advance(entry))
+            .catch((err: unknown) => this.log.warn({ err: describeError(err) }, 'position not saved; the next start repeats a few articles harmlessly'));
           this.outcomes.next(o);
         },
         error: reject,
@@ -131,10 +137,11 @@ export class QueueLinker {
         for (let i = 0; i < next.length; i++) {
           const [err, rows] = bodies[i]!;
           const row = (rows as [string, string[]][] | null)?.[0];
-          position = next[i]!.entry;
-          if (err || !row) continue;
-          const f = fieldMap(row[1]);
-          order.push(next[i]!.entry);
+          const entry = next[i]!.entry;
+          position = entry;
+          // An answer recorded but no longer on the stream (not expected): reported, not skipped.
+          const f = row ? fieldMap(row[1]) : { entry, rejected: `analysed entry ${next[i]!.analysed} missing${err ? `: ${err.message}` : ''}` };
+          order.push({ entry, body: f.work ?? '' });
           inFlight++;
           input.next(await this.toFlow(admit, f));
         }
@@ -170,6 +177,11 @@ export class QueueLinker {
     // Copies are recognised here, in intake order; mark the worker's mentions accordingly.
     const article = admitted.go;
     return { go: { ...work, article, mentions: work.mentions.map((m) => ({ ...m, isCopy: article.duplicateOf !== null })) } };
+  }
+
+  private async deadLetter(entry: string, error: string, body: string): Promise<void> {
+    this.log.error({ entry, err: error }, 'article not stored; moved to the dead-letter list');
+    await this.d.redis.xadd(this.d.keys.deadLetters, '*', 'entry', entry, 'error', `linker: ${error}`, 'article', body.slice(0, 64_000));
   }
 
   /** Saves the position and clears what this entry left in Redis. */

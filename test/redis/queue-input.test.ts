@@ -133,6 +133,35 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
     }
   });
 
+  it('puts an article the store refuses on the dead-letter list instead of dropping it with its entry', async () => {
+    const redis = await connectRedis(REDIS_URL);
+    const blocking = await connectRedis(REDIS_URL);
+    const { createRuntime } = await import('../../src/runtime.js');
+    const { StrandError } = await import('../../src/errors.js');
+    const runtime = await createRuntime(config, silent);
+    runtime.store.commitArticles = async () => {
+      throw new StrandError('STRAND_STORE_FAILED', 'OOM command not allowed when used memory > maxmemory');
+    };
+    const worker = await startWorker(config, silent);
+    const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys, logger: silent });
+    const outcomes: ArticleOutcome[] = [];
+    linker.outcome$.subscribe((o) => outcomes.push(o));
+    await linker.start();
+    try {
+      await enqueueArticles(redis, keys, [demo[5]!]);
+      await until(async () => (await queueDepth(redis, keys)).deadLetters === 1);
+      expect(outcomes.map((o) => o.status)).toEqual(['rejected']);
+      const [letter] = await deadLetters(redis, keys, 1);
+      expect(letter!.error).toMatch(/^linker: .*OOM command not allowed/);
+      expect(letter!.article).toContain(JSON.stringify(demo[5]!.id));
+    } finally {
+      await worker.stop();
+      await linker.stop();
+      redis.disconnect();
+      await runtime.close();
+    }
+  });
+
   it('lets only one linker link a partition: a second waits for the lease and takes over when the first stops', async () => {
     const first = await startLinker(config, silent);
     const secondRt = await startLinkerLater(config);
