@@ -48,6 +48,10 @@ export const configSchema = z.strictObject({
     maxPushItems: z.number().int().min(1).max(100_000).default(1000),
     /** Time allowed for one feed fetch, ms. Default 15 s. */
     fetchTimeoutMs: z.number().int().min(100).default(15_000),
+    /** Fetch feed URLs on loopback, private or link-local addresses (refused by default: server-side request forgery). */
+    allowPrivateNetworks: z.boolean().default(false),
+    /** Redirects followed for one feed URL. Default 5. */
+    maxRedirects: z.number().int().min(0).max(20).default(5),
   }).prefault({}),
   process: z.strictObject({
     /**

@@ -10,12 +10,18 @@ import type { Article } from '../records.js';
 import { decodeBytes } from './decode-bytes.js';
 import { parseFeed } from './parse-feed.js';
 import { toArticle } from './to-article.js';
+import { checkUrlHost, guardedAgent } from './network-guard.js';
+import { fetch as undiciFetch } from 'undici';
 
 /** Limits applied while reading. */
 export interface ReadLimits {
   maxFeedBytes: number;
   maxArticleChars: number;
   fetchTimeoutMs: number;
+  /** Fetch URLs on loopback, private or link-local addresses (default false). */
+  allowPrivateNetworks?: boolean;
+  /** Redirects followed (default 5). */
+  maxRedirects?: number;
 }
 
 /** Something that went wrong with one document or one item, kept for the summary. */
@@ -107,16 +113,42 @@ async function readFileCapped(path: string, cap: number): Promise<Uint8Array> {
 }
 
 async function fetchBytes(url: string, limits: ReadLimits): Promise<{ bytes: Uint8Array; charset: string | null }> {
-  let res: Response;
+  const allowPrivate = limits.allowPrivateNetworks ?? false;
+  const agent = guardedAgent(allowPrivate);
   try {
-    res = await fetch(url, {
-      signal: AbortSignal.timeout(limits.fetchTimeoutMs),
-      headers: { accept: 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5', 'user-agent': 'Strandline/0.1' },
-      redirect: 'follow',
-    });
-  } catch (err) {
-    throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot fetch ${url}: ${describeError((err as Error).cause ?? err)}`, { cause: err });
+    return await fetchWith(agent, url, limits, allowPrivate);
+  } finally {
+    void agent.close();
   }
+}
+
+async function fetchWith(agent: ReturnType<typeof guardedAgent>, url: string, limits: ReadLimits, allowPrivate: boolean): Promise<{ bytes: Uint8Array; charset: string | null }> {
+  const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
+  let res: Response;
+  let at = new URL(url);
+  // Redirects are followed here, one by one, so that each target's address is checked too.
+  for (let hop = 0; ; hop++) {
+    checkUrlHost(at, allowPrivate);
+    try {
+      res = (await undiciFetch(at, {
+        signal,
+        dispatcher: agent,
+        headers: { accept: 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5', 'user-agent': 'Strandline/0.1' },
+        redirect: 'manual',
+      })) as unknown as Response;
+    } catch (err) {
+      const cause = (err as Error).cause;
+      if (cause instanceof StrandError) throw cause;
+      throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot fetch ${at.href}: ${describeError(cause ?? err)}`, { cause: err });
+    }
+    const location = res.status >= 300 && res.status < 400 ? res.headers.get('location') : null;
+    if (!location) break;
+    await res.body?.cancel();
+    if (hop >= (limits.maxRedirects ?? 5)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects more than ingest.maxRedirects (${limits.maxRedirects ?? 5}) times`);
+    at = new URL(location, at);
+    if (!/^https?:$/.test(at.protocol)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects to a ${at.protocol} URL`);
+  }
+  url = at.href;
   if (!res.ok) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} answered HTTP ${res.status}`);
   const declared = Number(res.headers.get('content-length') ?? '0');
   if (declared > limits.maxFeedBytes) throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${url} declares ${declared} bytes, over ingest.maxFeedBytes (${limits.maxFeedBytes})`);
