@@ -4,7 +4,6 @@
  * notifies and applies retention (one per partition, guarded by a lease). `all` is the
  * single process and does not come through here.
  */
-import type { RedisClient } from '../store/redis/connect.js';
 import type { Config } from '../config/schema.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
 import { TransformerEmbedder } from '../embed/transformer-embedder.js';
@@ -12,7 +11,7 @@ import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { createRuntime, type Runtime } from '../runtime.js';
 import { keyspace } from '../store/redis/keys.js';
-import { connectRedis } from '../store/redis/redis-store.js';
+import { type RedisClient, connectRedis } from '../store/redis/connect.js';
 import { createNlp } from '../text/nlp.js';
 import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
 import type { QueueView } from '../api/routes/operations.js';
@@ -28,12 +27,12 @@ export function checkRole(config: Readonly<Config>): void {
 }
 
 /** A running worker: analyses queued articles until stopped. */
-export async function startWorker(config: Readonly<Config>, logger: Logger, name?: string): Promise<{ worker: AnalysisWorker; stop(): Promise<void> }> {
+export async function startWorker(config: Readonly<Config>, logger: Logger): Promise<{ worker: AnalysisWorker; stop(): Promise<void> }> {
   // The model first: a missing model stops start-up before any connection is open.
   const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
   const onError = redisErrorLog(logger);
   const [redis, blocking] = await Promise.all([connectRedis(config.store.redis, {}, onError), connectRedis(config.store.redis, {}, onError)]);
-  const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger, ...(name ? { name } : {}) });
+  const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger });
   await worker.start();
   logger.child({ stage: 'worker' }).info({ consumer: worker.name }, 'worker reading the intake stream');
   return {
@@ -47,7 +46,8 @@ export async function startWorker(config: Readonly<Config>, logger: Logger, name
 
 /** A running linker: waits for the partition's lease, then links queued work until stopped. */
 export async function startLinker(config: Readonly<Config>, logger: Logger): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
-  const runtime = await createRuntime(config, logger);
+  // The workers analyse; the linker needs no analysis threads of its own.
+  const runtime = await createRuntime({ ...config, analysis: { threads: 0 } }, logger);
   const onError = redisErrorLog(logger);
   let redis: RedisClient;
   let blocking: RedisClient;

@@ -19,7 +19,6 @@ import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import { analyseArticle } from '../text/analyse-article.js';
-import type { AnalysisPool } from '../text/analysis-pool.js';
 import type { Nlp } from '../text/nlp.js';
 import { WORKER_GROUP, ensureIntake, fieldMap } from './intake.js';
 import { decodeArticle, encodeWork } from './wire.js';
@@ -33,11 +32,8 @@ export interface WorkerDeps {
   blocking: RedisClient;
   keys: Keyspace;
   nlp: Nlp;
-  analysis?: AnalysisPool | undefined;
   embedder: Embedder;
   logger: Logger;
-  /** Consumer name; defaults to host and process id. */
-  name?: string;
 }
 
 /** What a worker has done, for logs and tests. */
@@ -60,7 +56,8 @@ export class AnalysisWorker {
   private readonly handOffScript: ReturnType<typeof defineScript>;
 
   constructor(private readonly d: WorkerDeps) {
-    this.name = d.name ?? `${hostname()}-${process.pid}`;
+    // Unique per process and stable for its life: XAUTOCLAIM takes over a dead one's entries.
+    this.name = `${hostname()}-${process.pid}`;
     this.log = d.logger.child({ stage: 'worker', consumer: this.name });
     this.handOffScript = defineScript(d.redis, 'hand-off');
   }
@@ -125,8 +122,8 @@ export class AnalysisWorker {
         continue;
       }
       try {
-        const analysed = this.d.analysis ? await this.d.analysis.analyse(article) : analyseArticle(this.d.nlp, article);
-        ready.push({ id, work: detectMentions(analysed, this.d.config.detect.threshold) });
+        // Workers scale by process, so each analyses on its own thread.
+        ready.push({ id, work: detectMentions(analyseArticle(this.d.nlp, article), this.d.config.detect.threshold) });
       } catch (err) {
         await this.failed(id, body, describeError(err));
       }

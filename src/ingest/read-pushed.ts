@@ -29,7 +29,6 @@ export type PushedItem = { index: number; article: Article; error?: undefined } 
 /** Limits and provenance for pushed items. */
 export interface PushContext {
   maxArticleChars: number;
-  maxItems: number;
   fetched: string;
   source: string;
 }

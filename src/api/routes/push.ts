@@ -29,7 +29,7 @@ export function registerPushRoute(app: FastifyInstance, deps: { store: Store; su
   app.post('/api/articles', { schema: pushSchema, bodyLimit: limits.maxPushBytes }, async (req) => {
     const ndjson = (req.headers['content-type'] ?? '').startsWith('application/x-ndjson');
     const items = readPushedItems(splitPushedBody(req.body, ndjson, limits.maxPushItems), {
-      maxArticleChars: limits.maxArticleChars, maxItems: limits.maxPushItems, fetched: deps.now().toISOString(), source: `push:${req.ip}`,
+      maxArticleChars: limits.maxArticleChars, fetched: deps.now().toISOString(), source: `push:${req.ip}`,
     });
     const results: ItemResult[] = [];
     const accepted: Article[] = [];

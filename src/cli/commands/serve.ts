@@ -44,7 +44,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const intake = new LocalIntake(rt, (o) => {
     if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
   });
-  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: pushLimits(config) } });
+  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest } });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
@@ -126,7 +126,7 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const store = await openStore(config.store, logger);
   const queue = await openQueue(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit: async (a) => void (await queue.enqueue(a)), limits: pushLimits(config) } });
+  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit: async (a) => void (await queue.enqueue(a)), limits: config.ingest } });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
@@ -141,8 +141,4 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   queue.close();
   await store.close();
   return 0;
-}
-
-function pushLimits(config: Readonly<Config>): { maxArticleChars: number; maxPushItems: number; maxPushBytes: number } {
-  return { maxArticleChars: config.ingest.maxArticleChars, maxPushItems: config.ingest.maxPushItems, maxPushBytes: config.ingest.maxPushBytes };
 }
