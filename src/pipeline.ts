@@ -19,7 +19,7 @@ import { describeError } from './errors.js';
 import { type EventState, deserialiseEvent, serialiseEvent, toRecord } from './link/event-state.js';
 import type { LinkPlan, OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
-import { buildMergeMessages, buildMessages } from './notify/messages.js';
+import { buildMergeMessages, buildMessages, buildSplitMessages } from './notify/messages.js';
 import type { Article, EmbeddedMention, Vector } from './records.js';
 import type { ArticleCommit, CommitResult, Store } from './store/store.js';
 import { orderedMergeMap } from './ordered-merge-map.js';
@@ -58,6 +58,22 @@ export interface ArticleOutcome {
   assignments: { sentenceIndex: number; eventIds: string[] }[];
   /** Merges consolidation made after this article (event `from` now lives in `into`). */
   merges: { from: string; into: string; score: number }[];
+  /** Splits consolidation made after this article (the `moved` mentions left `from` for the new event `into`). */
+  splits: SplitOutcome[];
+}
+
+/** One split as reported to callers. */
+export interface SplitOutcome {
+  from: string;
+  into: string;
+  score: number;
+  moved: { articleId: string; sentenceIndex: number }[];
+}
+
+/** What one consolidation pass changed. */
+export interface ConsolidationOutcome {
+  merges: ArticleOutcome['merges'];
+  splits: SplitOutcome[];
 }
 
 /** Largest group of articles committed in one transaction. */
@@ -204,8 +220,40 @@ class ConsolidationCadence {
   }
 }
 
+/**
+ * Consolidation over the events among `ids`: merges those that turn out to be one, then
+ * splits those whose mentions drifted apart. Each merge and split is its own commit.
+ */
+export async function consolidate(ctx: PipelineContext, ids: readonly string[]): Promise<ConsolidationOutcome> {
+  const merges = await mergeEvents(ctx, ids);
+  const gone = new Set(merges.map((m) => m.from));
+  const splits = await splitEvents(ctx, ids.filter((id) => !gone.has(id)));
+  return { merges, splits };
+}
+
+/** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
+async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promise<SplitOutcome[]> {
+  const done: SplitOutcome[] = [];
+  for (const id of ctx.linker.splitCandidates(ids)) {
+    const linked = await ctx.store.linkedMentions(id);
+    if (linked.some((l) => l.mention.vector === null)) continue;
+    const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
+    if (!plan) continue;
+    await ctx.store.commitSplit({
+      from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
+      into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
+      moved: plan.moved, score: plan.score, at: ctx.now().toISOString(),
+      messages: buildSplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.linker.applySplit(plan);
+    done.push({ from: id, into: plan.split.id, score: plan.score, moved: plan.moved });
+  }
+  if (done.length) ctx.logger.child({ stage: 'link' }).debug({ splits: done.length }, 'consolidation split events');
+  return done;
+}
+
 /** Merges the events among `ids` that turn out to be one; each merge is its own commit. */
-export async function consolidate(ctx: PipelineContext, ids: Iterable<string>): Promise<ArticleOutcome['merges']> {
+async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise<ArticleOutcome['merges']> {
   const done: ArticleOutcome['merges'] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
     const merged = ctx.linker.mergedState(m.into, m.from);
@@ -295,7 +343,7 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       commit: {
         article: a.article,
         sentences: a.sentences.map((s, k) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[k]! })),
-        mentions: a.mentions,
+        mentions: a.embedded,
         links: plan.links,
         idf: a.idf,
         messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
@@ -306,7 +354,7 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       await flush();
       if (outcomes[i]?.status !== 'stored') continue;
       try {
-        outcomes[i] = { ...outcomes[i]!, merges: await consolidate(ctx, await ctx.store.recentEventIds(ctx.config.link.consolidateEvery)) };
+        outcomes[i] = { ...outcomes[i]!, ...await consolidate(ctx, await ctx.store.recentEventIds(ctx.config.link.consolidateEvery)) };
       } catch (err) {
         // The articles are stored; a failed merge is retried at the next pass.
         log.error({ err: describeError(err) }, 'consolidation failed');
@@ -334,5 +382,5 @@ function assignments(links: readonly { sentenceIndex: number; eventId: string; r
 }
 
 function outcome(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
-  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [] };
+  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [] };
 }

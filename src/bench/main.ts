@@ -34,7 +34,7 @@ import { batchAverageLink } from '../eval/baselines.js';
 import { checkEvalInput } from '../eval/eval-input.js';
 import { scorePartitions } from '../eval/partition-metrics.js';
 import { prepareMentions, selector, toArticles } from '../eval/prepare-mentions.js';
-import { linkPrepared } from '../eval/run-eval.js';
+import { linkPrepared } from '../eval/link-prepared.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from '../text/analysis-pool.js';
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';

@@ -12,7 +12,7 @@ const subscriberSchema = z.strictObject({
   /** Standard Webhooks secret: `whsec_` followed by base64 (24 to 64 bytes). */
   secret: z.string().regex(/^whsec_[A-Za-z0-9+/]{32,88}={0,2}$/, 'must be whsec_ followed by base64'),
   /** Which notifications to send. Default: all. */
-  types: z.array(z.enum(['event.opened', 'event.outlet_added', 'event.merged'])).min(1).default(['event.opened', 'event.outlet_added', 'event.merged']),
+  types: z.array(z.enum(['event.opened', 'event.outlet_added', 'event.merged', 'event.split'])).min(1).default(['event.opened', 'event.outlet_added', 'event.merged', 'event.split']),
 });
 
 /** The full configuration. */
@@ -129,7 +129,16 @@ export const configSchema = z.strictObject({
     mergeThreshold: z.number().min(0).max(1).default(0.4),
     /** Dense (transformer) centroids are searched exactly up to this many events and with an HNSW index beyond. Default 20,000. */
     annAbove: z.number().int().min(0).default(20_000),
-  }).prefault({}),
+    /**
+     * Consolidation splits an event whose mentions fall into two parts less alike than this
+     * (the parts' centroid cosine x time decay). Default 0.1, half the link threshold: the
+     * parts must look less alike than a sentence has to look like an event to join it. At
+     * most mergeThreshold, or a split event would merge back at the next pass.
+     */
+    splitThreshold: z.number().min(0).max(1).default(0.1),
+    /** Events with fewer mentions are not examined for a split; 0 turns splitting off. Default 6. */
+    splitMinMentions: z.number().int().min(0).default(6),
+  }).prefault({}).refine((l) => l.splitThreshold <= l.mergeThreshold, { message: 'splitThreshold must not exceed mergeThreshold (a split event would merge back)', path: ['splitThreshold'] }),
   webhooks: z.strictObject({
     subscribers: z.array(subscriberSchema).default([]),
     /** Delivery attempts before a message goes to the dead-letter list. Default 8 (about 6 hours of retries). */

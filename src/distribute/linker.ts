@@ -169,7 +169,7 @@ export class QueueLinker {
   private async toFlow(admit: ReturnType<typeof admitStage>, f: Record<string, string>): Promise<Flow<DetectedWork>> {
     if (f.rejected !== undefined) {
       const article = { id: `queue:${f.entry}`, outlet: '', url: null, title: '', published: null, fetched: new Date(0).toISOString(), language: null, text: '', contentHash: '', duplicateOf: null, source: 'queue' };
-      return { done: { articleId: article.id, outlet: '', status: 'rejected', reason: `worker: ${f.rejected}`, duplicateOf: null, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [] } };
+      return { done: { articleId: article.id, outlet: '', status: 'rejected', reason: `worker: ${f.rejected}`, duplicateOf: null, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [] } };
     }
     const work = decodeWork(f.work!);
     const admitted = await admit(work.article);

@@ -7,15 +7,15 @@
 import { from, lastValueFrom, toArray } from 'rxjs';
 import type { Config } from '../config/schema.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
-import { type LinkerOptions, OnlineLinker } from '../link/online-linker.js';
+import { OnlineLinker } from '../link/online-linker.js';
 import type { Logger } from '../logger.js';
-import { runPipeline } from '../pipeline.js';
-import type { EmbeddedMention } from '../records.js';
+import { type ArticleOutcome, runPipeline } from '../pipeline.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
 import { createNlp } from '../text/nlp.js';
 import { type Clustering, allSingletons, batchAverageLink, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
 import type { EvalInput } from './eval-input.js';
 import { extendedBcubed } from './extended-bcubed.js';
+import { linkPrepared } from './link-prepared.js';
 import { type PairKind, type PairScores, pairwiseLinkScores } from './pairwise-links.js';
 import { type PartitionScores, type Score, f1, scorePartitions } from './partition-metrics.js';
 import { type Setting, mentionKey, prepareMentions, selector, toArticles } from './prepare-mentions.js';
@@ -119,13 +119,7 @@ export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalRep
     }).pipe(toArray()));
     const pipelineSeconds = (performance.now() - t0) / 1000;
     await store.close();
-    const assigned: Clustering = new Map();
-    const redirect = new Map<string, string>();
-    for (const out of outcomes) {
-      for (const a of out.assignments) assigned.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
-      for (const m of out.merges) redirect.set(m.from, m.into);
-    }
-    const linked = resolveMerges(assigned, redirect);
+    const linked = clusteringOf(outcomes);
 
     const prepared = prepareMentions(nlp, articles, select, o.config.detect.threshold, o.config.embed.hashBits);
     const flat = prepared.flat();
@@ -187,39 +181,21 @@ export function defaultSweep(): number[] {
   return Array.from({ length: 19 }, (_, i) => Math.round((0.05 + i * 0.025) * 1000) / 1000);
 }
 
-/**
- * The online linker alone on prepared mentions, article by article, as the link stage
- * runs it, consolidation included (same cadence, same working set).
- */
-export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], options: LinkerOptions & { consolidateEvery: number; mergeThreshold: number }): Clustering {
-  const linker = new OnlineLinker(options);
-  const out: Clustering = new Map();
+/** Each mention's events as the pipeline left them: links as made, then merges and splits in order. */
+function clusteringOf(outcomes: readonly ArticleOutcome[]): Clustering {
+  const assigned: Clustering = new Map();
   const redirect = new Map<string, string>();
-  const touched: string[][] = [];
-  prepared.forEach((mentions, i) => {
-    const plan = linker.plan(mentions);
-    linker.apply(plan);
-    for (const l of [...plan.links].sort((a, b) => a.rank - b.rank)) {
-      const k = mentionKey(l.articleId, l.sentenceIndex);
-      out.set(k, [...(out.get(k) ?? []), l.eventId]);
-    }
-    touched.push(plan.links.map((l) => l.eventId));
-    const every = options.consolidateEvery;
-    if (every > 0 && (i + 1) % every === 0) {
-      const ids = [...new Set(touched.slice(-every).flat().map((id) => follow(redirect, id)))].sort();
-      for (const m of linker.planMerges(ids, options.mergeThreshold)) {
-        linker.applyMerge(linker.mergedState(m.into, m.from), m.from);
-        redirect.set(m.from, m.into);
+  for (const out of outcomes) {
+    for (const a of out.assignments) assigned.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
+    for (const m of out.merges) redirect.set(m.from, m.into);
+    for (const sp of out.splits) {
+      for (const mv of sp.moved) {
+        const k = mentionKey(mv.articleId, mv.sentenceIndex);
+        assigned.set(k, assigned.get(k)!.map((id) => (follow(redirect, id) === sp.from ? sp.into : id)));
       }
     }
-  });
-  return resolveMerges(out, redirect);
-}
-
-/** Rewrites event ids through merges (chains followed), keeping each mention's events distinct. */
-function resolveMerges(c: Clustering, redirect: ReadonlyMap<string, string>): Clustering {
-  if (redirect.size === 0) return c;
-  return new Map([...c].map(([k, events]) => [k, [...new Set(events.map((id) => follow(redirect, id)))]]));
+  }
+  return new Map([...assigned].map(([k, events]) => [k, [...new Set(events.map((id) => follow(redirect, id)))]]));
 }
 
 /** The event an id ends up in, following merges. */

@@ -3,6 +3,7 @@
  * its time span, participants, places and outlets. Serialised to a compact binary form
  * so the store can keep it without knowing what is inside.
  */
+import { createHash } from 'node:crypto';
 import type { EmbeddedMention, EventRecord, Vector } from '../records.js';
 import { dayNumber } from '../text/days.js';
 
@@ -65,6 +66,11 @@ function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number,
 /** Lower-cased key for matching names: no leading article, no possessive, single spaces. */
 export function nameKey(name: string): string {
   return name.toLowerCase().replace(/^the\s+/, '').replace(/['\u2019]s?$/, '').replace(/\s+/g, ' ').trim();
+}
+
+/** Deterministic event id from the mention that opens it: replaying the same mention opens the same id. */
+export function eventIdFor(m: Pick<EmbeddedMention, 'articleId' | 'sentenceIndex'>): string {
+  return `ev_${createHash('sha256').update(`${m.articleId}#${m.sentenceIndex}`).digest('hex').slice(0, 16)}`;
 }
 
 /** A new event opened by one mention. */

@@ -8,12 +8,14 @@
  * change; the caller commits that to the store and only then calls apply(). A failed
  * commit leaves the linker exactly as it was.
  */
-import { createHash } from 'node:crypto';
 import type { EmbeddedMention, Link } from '../records.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
-import { addMention, centroidCosine, cloneEvent, type EventState, mergeStates, nameKey, openEvent } from './event-state.js';
+import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent } from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
+import { planSplit, type SplitMember, type SplitPlan } from './split-event.js';
+
+export { eventIdFor } from './event-state.js';
 
 /** Linker settings (see config schema for defaults and reasons). */
 export interface LinkerOptions {
@@ -27,6 +29,10 @@ export interface LinkerOptions {
   centroidTerms: number;
   /** Dense centroids are searched exactly up to this many events, approximately beyond. */
   annAbove: number;
+  /** Consolidation splits an event whose two parts score below this (centroid cosine x time decay). */
+  splitThreshold: number;
+  /** Events with fewer mentions are not examined for a split; 0 turns splitting off. */
+  splitMinMentions: number;
   /** Posting entries read per lookup at most, rarest keys first. */
   lookupBudget: number;
 }
@@ -65,6 +71,8 @@ export class OnlineLinker {
   private readonly events = new Map<string, EventState>();
   private index: CandidateIndex;
   private centroids: CentroidIndex;
+  /** Event → the version last examined for a split (an unchanged event is not read again). */
+  private splitChecked = new Map<string, number>();
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
@@ -76,6 +84,7 @@ export class OnlineLinker {
     this.events.clear();
     this.index = new CandidateIndex(this.o.postingLimit);
     this.centroids = new CentroidIndex(this.o.annAbove);
+    this.splitChecked = new Map();
   }
 
   /** Rebuilds the in-memory state from stored events, oldest activity first. */
@@ -217,6 +226,39 @@ export class OnlineLinker {
     if (merged.dense) this.centroids.upsert(merged.id, merged.dense);
   }
 
+  /**
+   * The events among `ids` worth examining for a split: big enough, and changed since they
+   * were last examined. Marks them examined.
+   */
+  splitCandidates(ids: Iterable<string>): string[] {
+    const out: string[] = [];
+    if (this.o.splitMinMentions <= 0) return out;
+    for (const id of ids) {
+      const e = this.events.get(id);
+      if (!e || e.mentionCount < this.o.splitMinMentions || this.splitChecked.get(id) === e.version) continue;
+      this.splitChecked.set(id, e.version);
+      out.push(id);
+    }
+    return out;
+  }
+
+  /** Divides an event whose mentions drifted apart (see split-event.ts), or null. Changes nothing. */
+  planSplit(id: string, members: readonly SplitMember[]): SplitPlan | null {
+    const e = this.events.get(id);
+    return e ? planSplit(e, members, this.o) : null;
+  }
+
+  /** Applies a committed split: the event takes its smaller self, the new event joins the index. */
+  applySplit(plan: SplitPlan): void {
+    for (const k of new Set([...plan.split.participants.keys(), ...plan.split.places.keys()])) this.index.countKey(`p:${k}`);
+    for (const e of [plan.kept, plan.split]) {
+      this.events.set(e.id, e);
+      this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...[...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`)]);
+      if (e.dense) this.centroids.upsert(e.id, e.dense);
+      this.splitChecked.set(e.id, e.version);
+    }
+  }
+
   /** Makes a committed plan part of the linker's state. */
   apply(plan: LinkPlan): void {
     for (const e of plan.events) this.events.set(e.id, e);
@@ -231,11 +273,6 @@ export interface MergePlan {
   into: string;
   from: string;
   score: number;
-}
-
-/** Deterministic event id from the mention that opens it: replaying the same mention opens the same id. */
-export function eventIdFor(m: Pick<EmbeddedMention, 'articleId' | 'sentenceIndex'>): string {
-  return `ev_${createHash('sha256').update(`${m.articleId}#${m.sentenceIndex}`).digest('hex').slice(0, 16)}`;
 }
 
 /** A mention's lookup keys: its highest-weighted (rarest) terms and its names. */

@@ -8,12 +8,13 @@
 import { createHash } from 'node:crypto';
 import type { Subscriber } from '../config/schema.js';
 import type { LinkPlan, MergePlan } from '../link/online-linker.js';
+import type { SplitPlan } from '../link/split-event.js';
 import { type EventState, toRecord } from '../link/event-state.js';
 import type { EmbeddedMention } from '../records.js';
 import type { OutboxMessage } from '../store/store.js';
 
 /** Notification types a subscriber can ask for. */
-export type NotificationType = 'event.opened' | 'event.outlet_added' | 'event.merged';
+export type NotificationType = 'event.opened' | 'event.outlet_added' | 'event.merged' | 'event.split';
 
 /** The outbox messages for one committed plan; none when nobody subscribes. */
 export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
@@ -42,6 +43,19 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
       note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
     });
   }
+  return out;
+}
+
+/** The "event.split" notification for one consolidation split: both events as they now stand. */
+export function buildSplitMessages(p: SplitPlan, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  messageSink(out, subscribers, now)('event.split', `${p.kept.id}\n${p.split.id}`, {
+    event: toRecord(p.kept),
+    splitOff: toRecord(p.split),
+    moved: p.moved.map((m) => ({ article: m.articleId, sentence: m.sentenceIndex })),
+    score: p.score,
+    note: 'Automatic consolidation: a machine suggestion to verify before publishing or acting on it.',
+  });
   return out;
 }
 

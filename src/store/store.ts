@@ -3,7 +3,7 @@
  * (the embedded SQLite store now; Redis for several processes later), all held to the
  * same contract test suite. Stages never see a concrete store.
  */
-import type { Article, EventRecord, Link, LinkEvidence, Mention, TimeExpression } from '../records.js';
+import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 
 /** One sentence as committed, with its event-ness. */
 export interface StoredSentence {
@@ -43,6 +43,38 @@ export interface MergeCommit {
   messages: OutboxMessage[];
 }
 
+/**
+ * One consolidation split, committed atomically: the mentions in `moved` leave `from` for
+ * the new event `into`; `from` stays with the rest.
+ */
+export interface SplitCommit {
+  from: EventUpdate;
+  into: EventUpdate;
+  moved: { articleId: string; sentenceIndex: number }[];
+  score: number;
+  at: string;
+  messages: OutboxMessage[];
+}
+
+/** A split as recorded: `into` was opened from part of `from`'s mentions. */
+export interface SplitRecord {
+  from: string;
+  into: string;
+  /** Mentions that moved. */
+  mentions: number;
+  /** How alike the two parts were (centroid cosine x time decay); below the split threshold. */
+  score: number;
+  at: string;
+}
+
+/** A mention as linked to an event, with what the linker needs to rebuild the event. */
+export interface LinkedMention {
+  /** The vector is null once retention has erased the mention's text (the vector would give the words away). */
+  mention: Omit<EmbeddedMention, 'vector'> & { vector: Vector | null };
+  rank: number;
+  score: number;
+}
+
 /** A merge as recorded. */
 export interface MergeRecord {
   from: string;
@@ -55,7 +87,8 @@ export interface MergeRecord {
 export interface ArticleCommit {
   article: Article;
   sentences: StoredSentence[];
-  mentions: Mention[];
+  /** With its vector when it has one (kept for consolidation's splits). */
+  mentions: (Mention & { vector?: Vector })[];
   links: Link[];
   events: EventUpdate[];
   /** Document-frequency increments of the TF-IDF embedder. */
@@ -124,6 +157,8 @@ export interface EventDetail {
   mentions: EventMention[];
   /** Events consolidation merged into this one. */
   merges: MergeRecord[];
+  /** Splits this event took part in: events split off it, or the event it was split from. */
+  splits: SplitRecord[];
 }
 
 /** A sentence of an article with its links. */
@@ -172,6 +207,12 @@ export interface Store {
   commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]>;
   /** Merges one event into another: links move, the absorbed event leaves, the merge is recorded. */
   commitMerge(m: MergeCommit): Promise<void>;
+  /** Moves part of an event's mentions to a new event; both events' states are written, the split is recorded. */
+  commitSplit(s: SplitCommit): Promise<void>;
+  /** The mentions linked to an event, oldest first (published, article, sentence). */
+  linkedMentions(eventId: string): Promise<LinkedMention[]>;
+  /** Splits an event took part in, oldest first. */
+  splitsOf(eventId: string): Promise<SplitRecord[]>;
   /** Events linked from the last `articles` stored articles (consolidation's working set). */
   recentEventIds(articles: number): Promise<string[]>;
   /** The event an absorbed event now lives in (following chains), or null. */

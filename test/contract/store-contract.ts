@@ -207,6 +207,55 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.getArticle('a2'))!.sentences[0]!.links.map((l) => l.eventId)).toEqual([first.event.id]);
     });
 
+    it('gives an event its linked mentions with their vectors, oldest first, for consolidation', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(first.commit);
+      await store.commitArticle(commitFor(a2, 'The warehouse blaze burned for hours.', deserialiseEvent(serialiseEvent(first.event))).commit);
+      const linked = await store.linkedMentions(first.event.id);
+      expect(linked.map((l) => [l.mention.articleId, l.mention.outlet, l.rank, l.score])).toEqual([['a1', 'The Vellmouth Courier', 0, 0.8], ['a2', 'EBS News', 0, 0.42]]);
+      const sent = first.commit.mentions[0]!;
+      expect(linked[0]!.mention).toMatchObject({ text: sent.text, participants: sent.participants, places: sent.places, published: sent.published, isCopy: false });
+      // Bit for bit: a split rebuilds events from exactly the vectors they were linked with.
+      expect(linked[0]!.mention.vector).toEqual(sent.vector);
+      expect(await store.linkedMentions('ev_missing')).toEqual([]);
+    });
+
+    it('splits part of an event off into a new one: links move, both events are written, the split is recorded', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const a3 = article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(first.commit);
+      const second = commitFor(a2, 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
+      await store.commitArticle(second.commit);
+      const third = commitFor(a3, 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event)));
+      await store.commitArticle(third.commit);
+      const kept = openEvent(first.event.id, first.commit.mentions[0] as EmbeddedMention);
+      addMention(kept, first.commit.mentions[0] as EmbeddedMention, 1, 300);
+      const split = openEvent('ev_split', second.commit.mentions[0] as EmbeddedMention);
+      for (const c of [second, third]) addMention(split, c.commit.mentions[0] as EmbeddedMention, 1, 300);
+      const update = (e: EventState) => ({ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) });
+      await store.commitSplit({
+        from: update(kept), into: update(split), moved: [{ articleId: 'a2', sentenceIndex: 0 }, { articleId: 'a3', sentenceIndex: 0 }],
+        score: 0.05, at: '2026-10-09T09:00:00.000Z', messages: [],
+      });
+      const record = { from: first.event.id, into: 'ev_split', mentions: 2, score: 0.05, at: '2026-10-09T09:00:00.000Z' };
+      const d = await store.getEvent(first.event.id);
+      expect(d!.mentions.map((m) => m.articleId)).toEqual(['a1']);
+      expect(d!.event.mentionCount).toBe(1);
+      expect(d!.event.outlets).toEqual(['The Vellmouth Courier']);
+      expect(d!.splits).toEqual([record]);
+      const s = await store.getEvent('ev_split');
+      expect(s!.mentions.map((m) => [m.articleId, m.score])).toEqual([['a2', 0.42], ['a3', 0.42]]);
+      expect(s!.splits).toEqual([record]);
+      expect((await store.linkedMentions('ev_split')).map((l) => l.mention.articleId)).toEqual(['a2', 'a3']);
+      expect((await store.getArticle('a3'))!.sentences[0]!.links.map((l) => l.eventId)).toEqual(['ev_split']);
+      expect(await store.counts()).toMatchObject({ events: 2, links: 3, mentions: 3 });
+      expect((await store.loadLinkerState()).events.map((b) => deserialiseEvent(b).id).sort()).toEqual([first.event.id, 'ev_split'].sort());
+    });
+
     it('erases stored text on demand and by age, keeping links and events', async () => {
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'Old text.');
       const a2 = article('a2', 'O', '2026-10-20T10:00:00.000Z', 'New text.');
@@ -221,6 +270,8 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const ev = await store.getEvent(first.event.id);
       expect(ev!.event.label).toBe('The levee was rebuilt.');
       expect(ev!.mentions.map((m) => m.text)).toEqual([null, 'The levee was rebuilt.']);
+      // The vector is a bag of the sentence's hashed words: it is erased with the text.
+      expect((await store.linkedMentions(first.event.id)).map((l) => l.mention.vector === null)).toEqual([true, false]);
       expect(await store.eraseArticleText('a2')).toBe(true);
       expect((await store.getEvent(first.event.id))!.event.label).toMatch(/erased/);
       expect(await store.eraseArticleText('missing')).toBe(false);

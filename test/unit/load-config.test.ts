@@ -65,6 +65,7 @@ describe('configuration', () => {
     ['a Redis partition that would break the hash tag', '{"store": {"redis": {"partition": "a}b"}}}', 'STRAND_CONFIG_INVALID', /store\.redis\.partition/],
     ['an unknown queue option', '{"queue": {"retries": 3}}', 'STRAND_CONFIG_INVALID', /queue/],
     ['a zero dead-letter limit', '{"queue": {"maxDeliveries": 0}}', 'STRAND_CONFIG_INVALID', /queue\.maxDeliveries/],
+    ['a split threshold above the merge threshold', '{"link": {"splitThreshold": 0.5, "mergeThreshold": 0.4}}', 'STRAND_CONFIG_INVALID', /link\.splitThreshold.*merge back/],
     ['a negative thread count', '{"analysis": {"threads": -1}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a thread count in words', '{"analysis": {"threads": "many"}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],

@@ -24,7 +24,7 @@ export function registerEventRoutes(app: FastifyInstance, store: Store): void {
       if (into) return reply.redirect(`/api/events/${encodeURIComponent(into)}`, 308);
       throw new StrandError('STRAND_NOT_FOUND', `no event ${req.params.id}`);
     }
-    return { event: detail.event, byOutlet: groupByOutlet(detail.mentions), timeline: timeline(detail.mentions), merges: detail.merges, caution: CAUTION };
+    return { event: detail.event, byOutlet: groupByOutlet(detail.mentions), timeline: timeline(detail.mentions), merges: detail.merges, splits: detail.splits, caution: CAUTION };
   });
 }
 

@@ -1,4 +1,4 @@
-/** `strandline consolidate`: the consolidation pass on demand, over every stored event. */
+/** `strandline consolidate`: the consolidation pass (merges, then splits) on demand, over every stored event. */
 import { consolidate } from '../../pipeline.js';
 import { createRuntime } from '../../runtime.js';
 import { type CommonOptions, setup } from '../common.js';
@@ -9,8 +9,13 @@ export async function consolidateCommand(opts: CommonOptions): Promise<number> {
   const rt = await createRuntime(config, logger);
   try {
     const ids = await rt.store.recentEventIds(Number.MAX_SAFE_INTEGER);
-    const merges = await consolidate(rt, ids);
-    process.stdout.write(`examined ${ids.length} event(s); merged ${merges.length}${merges.length ? ':' : ''}\n${merges.map((m) => `  ${m.from} -> ${m.into} (score ${m.score.toFixed(3)})`).join('\n')}${merges.length ? '\n' : ''}`);
+    const { merges, splits } = await consolidate(rt, ids);
+    const lines = [
+      `examined ${ids.length} event(s); merged ${merges.length}, split ${splits.length}`,
+      ...merges.map((m) => `  merged ${m.from} -> ${m.into} (score ${m.score.toFixed(3)})`),
+      ...splits.map((s) => `  split  ${s.into} off ${s.from}: ${s.moved.length} mention(s) moved (parts alike ${s.score.toFixed(3)})`),
+    ];
+    process.stdout.write(`${lines.join('\n')}\n`);
     return 0;
   } finally {
     await rt.close();

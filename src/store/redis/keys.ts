@@ -29,6 +29,8 @@ export interface Keyspace {
   readonly idfDocs: string;
   /** Hash: absorbed event id → JSON {into, score, at}. */
   readonly merges: string;
+  /** Hash: event opened by a split → JSON {from, mentions, score, at}. */
+  readonly splits: string;
   /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
   readonly deliveries: string;
   readonly due: string;
@@ -37,6 +39,8 @@ export interface Keyspace {
   sentences(articleId: string): string;
   sentenceText(articleId: string): string;
   mentions(articleId: string): string;
+  /** Hash: sentence index → the mention's vector (vector-codec bytes, base64). */
+  mentionVectors(articleId: string): string;
   links(articleId: string): string;
   contentHash(hash: string): string;
   event(id: string): string;
@@ -44,6 +48,8 @@ export interface Keyspace {
   eventLinks(id: string): string;
   /** Set of event ids merged into an event. */
   mergedInto(id: string): string;
+  /** Set of event ids split off an event. */
+  splitOff(id: string): string;
   outbox(messageId: string): string;
   /** Stream of articles waiting for analysis (consumer group `workers`). */
   readonly intake: string;
@@ -78,6 +84,7 @@ export function keyspace(partition: string): Keyspace {
     idf: `${p}:idf`,
     idfDocs: `${p}:idf-docs`,
     merges: `${p}:merges`,
+    splits: `${p}:splits`,
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,
     dead: `${p}:dead`,
@@ -85,11 +92,13 @@ export function keyspace(partition: string): Keyspace {
     sentences: (id) => `${p}:sentences:${id}`,
     sentenceText: (id) => `${p}:sentence-text:${id}`,
     mentions: (id) => `${p}:mentions:${id}`,
+    mentionVectors: (id) => `${p}:mention-vectors:${id}`,
     links: (id) => `${p}:links:${id}`,
     contentHash: (h) => `${p}:content-hash:${h}`,
     event: (id) => `${p}:event:${id}`,
     eventLinks: (id) => `${p}:event-links:${id}`,
     mergedInto: (id) => `${p}:merged-into:${id}`,
+    splitOff: (id) => `${p}:split-off:${id}`,
     outbox: (id) => `${p}:outbox:${id}`,
     intake: `${p}:intake`,
     analysed: `${p}:analysed`,

@@ -18,8 +18,9 @@ import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, Store, StoreCounts,
+  EventUpdate, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
+import { decodeVector, encodeVector } from '../vector-codec.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
 
@@ -33,6 +34,7 @@ type Script = (key: string, ...args: (string | Buffer | number)[]) => Promise<un
 interface Scripts {
   commitArticles: Script;
   commitMerge: Script;
+  commitSplit: Script;
   eraseArticle: Script;
 }
 
@@ -63,6 +65,7 @@ export class RedisStore implements Store {
     this.scripts = {
       commitArticles: defineScript(redis, 'commit-articles'),
       commitMerge: defineScript(redis, 'commit-merge'),
+      commitSplit: defineScript(redis, 'commit-split'),
       eraseArticle: defineScript(redis, 'erase-article'),
     };
   }
@@ -97,7 +100,7 @@ export class RedisStore implements Store {
       sentences: c.sentences.map((s) => [String(s.index), JSON.stringify({ start: s.start, end: s.end, eventness: s.eventness }), s.text]),
       mentions: c.mentions.map((m) => [String(m.sentenceIndex), JSON.stringify({
         outlet: m.outlet, published: m.published, eventness: m.eventness, participants: m.participants, places: m.places, times: m.times, isCopy: m.isCopy,
-      })]),
+      }), ...(m.vector ? [encodeVector(m.vector).toString('base64')] : [])]),
       links: c.links.map((l) => [String(l.sentenceIndex), l.eventId, JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence })]),
       events: c.events.map((e) => eventPayload(e, states)),
       idf: c.idf && (c.idf.docs > 0 || c.idf.df.size > 0) ? { docs: c.idf.docs, df: [...c.idf.df].flat() } : null,
@@ -119,6 +122,59 @@ export class RedisStore implements Store {
     } catch (err) {
       throw new StrandError('STRAND_STORE_FAILED', `cannot merge ${m.from} into ${m.into.record.id}: ${(err as Error).message}`, { cause: err });
     }
+  }
+
+  async commitSplit(sp: SplitCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = {
+      from: eventPayload(sp.from, states),
+      into: eventPayload(sp.into, states),
+      moved: sp.moved.map((m) => [m.articleId, String(m.sentenceIndex)]),
+      split: JSON.stringify({ from: sp.from.record.id, mentions: sp.moved.length, score: sp.score, at: sp.at }),
+      messages: messagePayload(sp.messages),
+    };
+    try {
+      await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot split ${sp.into.record.id} off ${sp.from.record.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  async linkedMentions(eventId: string): Promise<LinkedMention[]> {
+    const members = await this.redis.smembers(this.k.eventLinks(eventId));
+    const rows = await this.pipelined(members, (p, m) => {
+      const [article, idx] = splitMember(m);
+      return p.hget(this.k.links(article), `${idx}\n${eventId}`).hget(this.k.mentions(article), idx).hget(this.k.sentenceText(article), idx).hget(this.k.mentionVectors(article), idx);
+    });
+    const out = members.flatMap((m, i): LinkedMention[] => {
+      const [articleId, idx] = splitMember(m);
+      const [link, mention, text, vector] = rows.slice(i * 4, i * 4 + 4) as (string | null)[];
+      if (!link || !mention) return [];
+      const l = JSON.parse(link) as { score: number; rank: number };
+      const mm = JSON.parse(mention) as { outlet: string; published: string; eventness: number; participants: string[]; places: string[]; times: TimeExpression[]; isCopy: boolean };
+      return [{
+        mention: {
+          articleId, sentenceIndex: Number(idx), text: text ?? '', outlet: mm.outlet, published: mm.published, eventness: mm.eventness,
+          participants: mm.participants, places: mm.places, times: mm.times, terms: [], isCopy: mm.isCopy,
+          vector: vector ? decodeVector(Buffer.from(vector, 'base64')) : null,
+        },
+        rank: l.rank,
+        score: l.score,
+      }];
+    });
+    return out.sort((a, b) => cmp(a.mention.published, b.mention.published) || cmp(a.mention.articleId, b.mention.articleId) || a.mention.sentenceIndex - b.mention.sentenceIndex);
+  }
+
+  async splitsOf(eventId: string): Promise<SplitRecord[]> {
+    const off = await this.redis.smembers(this.k.splitOff(eventId));
+    const ids = [eventId, ...off];
+    const recs = await this.redis.hmget(this.k.splits, ...ids);
+    return ids.flatMap((into, i) => {
+      const rec = recs[i];
+      if (!rec) return [];
+      const r = JSON.parse(rec) as Omit<SplitRecord, 'into'>;
+      return [{ from: r.from, into, mentions: r.mentions, score: r.score, at: r.at }];
+    }).sort((a, b) => cmp(a.at, b.at) || cmp(a.into, b.into));
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
@@ -193,7 +249,7 @@ export class RedisStore implements Store {
       };
     });
     mentions.sort((a, b) => cmp(a.published, b.published) || cmp(a.articleId, b.articleId) || a.sentenceIndex - b.sentenceIndex);
-    return { event, mentions, merges: await this.mergesInto(id) };
+    return { event, mentions, merges: await this.mergesInto(id), splits: await this.splitsOf(id) };
   }
 
   async getArticle(id: string): Promise<ArticleDetail | null> {

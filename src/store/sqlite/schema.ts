@@ -115,4 +115,17 @@ export const MIGRATIONS: readonly string[] = [
   CREATE TABLE idf_log (seq INTEGER PRIMARY KEY, docs INTEGER NOT NULL, data BLOB NOT NULL);
   CREATE TABLE idf_snapshot (id INTEGER PRIMARY KEY CHECK (id = 1), docs INTEGER NOT NULL, data BLOB NOT NULL);
   `,
+  // Each mention's vector, so consolidation can split an event by its mentions as they
+  // were linked; and the record of splits.
+  `
+  ALTER TABLE mentions ADD COLUMN vector BLOB;
+  CREATE TABLE splits (
+    into_id  TEXT PRIMARY KEY,
+    from_id  TEXT NOT NULL,
+    mentions INTEGER NOT NULL,
+    score    REAL NOT NULL,
+    at       TEXT NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX splits_from ON splits(from_id);
+  `,
 ];

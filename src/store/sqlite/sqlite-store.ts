@@ -11,8 +11,9 @@ import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, Store, StoreCounts,
+  EventUpdate, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
+import { decodeVector, encodeVector } from '../vector-codec.js';
 import { MIGRATIONS } from './schema.js';
 
 type Row = Record<string, unknown>;
@@ -58,6 +59,7 @@ export class SqliteStore implements Store {
   private readonly commitTx: (c: ArticleCommit) => CommitResult;
   private readonly commitManyTx: (cs: readonly ArticleCommit[]) => CommitResult[];
   private readonly mergeTx: (m: MergeCommit) => void;
+  private readonly splitTx: (s: SplitCommit) => void;
 
   constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY) {
     this.st = {
@@ -66,8 +68,8 @@ export class SqliteStore implements Store {
       insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source)
         VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source)`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
-      insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy)
-        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`),
+      insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
+        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
       insLink: db.prepare('INSERT INTO links (article_id, sentence_idx, event_id, score, rank, evidence) VALUES (?, ?, ?, ?, ?, ?)'),
       upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state)
         VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state)
@@ -95,6 +97,15 @@ export class SqliteStore implements Store {
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
         LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         WHERE l.event_id = ? ORDER BY m.published, l.article_id, l.sentence_idx`),
+      linkedMentions: db.prepare(`
+        SELECT l.article_id, l.sentence_idx, l.score, l.rank, m.outlet, m.published, m.eventness, m.participants, m.places, m.times, m.is_copy, m.vector, s.text
+        FROM links l
+        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
+        LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        WHERE l.event_id = ? ORDER BY m.published, l.article_id, l.sentence_idx`),
+      moveLink: db.prepare('UPDATE links SET event_id = @into WHERE article_id = @article AND sentence_idx = @idx AND event_id = @from'),
+      insSplit: db.prepare('INSERT OR REPLACE INTO splits (into_id, from_id, mentions, score, at) VALUES (?, ?, ?, ?, ?)'),
+      splitsOf: db.prepare('SELECT into_id, from_id, mentions, score, at FROM splits WHERE from_id = @id OR into_id = @id ORDER BY at, into_id'),
       article: db.prepare('SELECT * FROM articles WHERE id = ?'),
       articleSentences: db.prepare('SELECT idx, text, start, end, eventness FROM sentences WHERE article_id = ? ORDER BY idx'),
       articleMentions: db.prepare('SELECT sentence_idx FROM mentions WHERE article_id = ?').pluck(),
@@ -112,6 +123,7 @@ export class SqliteStore implements Store {
     this.commitTx = db.transaction((c: ArticleCommit): CommitResult => this.commitInTx(c));
     this.commitManyTx = db.transaction((cs: readonly ArticleCommit[]): CommitResult[] => cs.map((c) => this.commitInTx(c)));
     this.mergeTx = db.transaction((m: MergeCommit): void => this.mergeInTx(m));
+    this.splitTx = db.transaction((sp: SplitCommit): void => this.splitInTx(sp));
   }
 
   async hasArticle(id: string): Promise<boolean> {
@@ -144,7 +156,7 @@ export class SqliteStore implements Store {
     st.insArticle.run(c.article);
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
-      st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0);
+      st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);
     }
     for (const l of c.links) st.insLink.run(l.articleId, l.sentenceIndex, l.eventId, l.score, l.rank, JSON.stringify(l.evidence));
     for (const u of c.events) this.upsertEvent(u);
@@ -214,6 +226,50 @@ export class SqliteStore implements Store {
     db.prepare('UPDATE merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
     db.prepare('INSERT OR REPLACE INTO merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
     this.queue(m.messages);
+  }
+
+  async commitSplit(sp: SplitCommit): Promise<void> {
+    try {
+      this.splitTx(sp);
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot split ${sp.into.record.id} off ${sp.from.record.id}: ${(err as Error).message}`, { cause: err });
+    }
+  }
+
+  private splitInTx(sp: SplitCommit): void {
+    const from = sp.from.record.id;
+    const into = sp.into.record.id;
+    for (const m of sp.moved) this.st.moveLink.run({ into, from, article: m.articleId, idx: m.sentenceIndex });
+    this.upsertEvent(sp.from);
+    this.upsertEvent(sp.into);
+    this.st.insSplit.run(into, from, sp.moved.length, sp.score, sp.at);
+    this.queue(sp.messages);
+  }
+
+  async linkedMentions(eventId: string): Promise<LinkedMention[]> {
+    return (this.st.linkedMentions.all(eventId) as Row[]).map((r) => ({
+      mention: {
+        articleId: r.article_id as string,
+        sentenceIndex: r.sentence_idx as number,
+        text: (r.text as string | null) ?? '',
+        outlet: r.outlet as string,
+        published: r.published as string,
+        eventness: r.eventness as number,
+        participants: JSON.parse(r.participants as string) as string[],
+        places: JSON.parse(r.places as string) as string[],
+        times: JSON.parse(r.times as string) as TimeExpression[],
+        terms: [],
+        isCopy: r.is_copy === 1,
+        vector: r.vector ? decodeVector(r.vector as Buffer) : null,
+      },
+      rank: r.rank as number,
+      score: r.score as number,
+    }));
+  }
+
+  async splitsOf(eventId: string): Promise<SplitRecord[]> {
+    return (this.st.splitsOf.all({ id: eventId }) as Row[])
+      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, mentions: r.mentions as number, score: r.score as number, at: r.at as string }));
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
@@ -286,7 +342,7 @@ export class SqliteStore implements Store {
       evidence: JSON.parse(r.evidence as string) as LinkEvidence,
       times: JSON.parse(r.times as string) as TimeExpression[],
     }));
-    return { event: toSummary(row), mentions, merges: await this.mergesInto(id) };
+    return { event: toSummary(row), mentions, merges: await this.mergesInto(id), splits: await this.splitsOf(id) };
   }
 
   async getArticle(id: string): Promise<ArticleDetail | null> {
@@ -360,6 +416,8 @@ export class SqliteStore implements Store {
     const erased = db.prepare('SELECT text FROM sentences WHERE article_id = ? AND text IS NOT NULL').pluck().all(id) as string[];
     db.prepare('UPDATE articles SET text = NULL WHERE id = ?').run(id);
     db.prepare('UPDATE sentences SET text = NULL WHERE article_id = ?').run(id);
+    // A TF-IDF vector is a bag of the sentence's (hashed) words: it goes with the text.
+    db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
     const events = db.prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {

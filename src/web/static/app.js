@@ -96,6 +96,14 @@ async function showEvent(id) {
     e.participants.length ? el('ul', { class: 'chips', 'aria-label': 'Participants' }, e.participants.map((p) => el('li', {}, p))) : null,
     e.places.length ? el('ul', { class: 'chips', 'aria-label': 'Places' }, e.places.map((p) => el('li', {}, `📍 ${p}`))) : null,
     d.merges.length ? el('p', { class: 'meta' }, `Consolidation merged ${d.merges.length} other event(s) into this one (a machine suggestion too).`) : null,
+    ...d.splits.map((s) => {
+      const other = s.from === e.id ? s.into : s.from;
+      const what = s.from === e.id
+        ? `Consolidation moved ${s.mentions} mention(s) of this event to another that reads as a different happening`
+        : `Consolidation split this event off another, moving ${s.mentions} mention(s) here`;
+      return el('p', { class: 'meta' }, `${what} (the parts were alike ${s.score.toFixed(2)}; a machine suggestion too): `,
+        el('a', { href: `#/events/${encodeURIComponent(other)}` }, other));
+    }),
     timeline,
     el('p', { class: 'meta' }, `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`),
     d.byOutlet.map((g) => el('section', { class: 'outlet' },

@@ -26,7 +26,10 @@ for i, c in ipairs(commits) do
       redis.call('HSET', P .. ':sentences:' .. c.id, s[1], s[2])
       redis.call('HSET', P .. ':sentence-text:' .. c.id, s[1], s[3])
     end
-    for _, m in ipairs(c.mentions) do redis.call('HSET', P .. ':mentions:' .. c.id, m[1], m[2]) end
+    for _, m in ipairs(c.mentions) do
+      redis.call('HSET', P .. ':mentions:' .. c.id, m[1], m[2])
+      if m[3] then redis.call('HSET', P .. ':mention-vectors:' .. c.id, m[1], m[3]) end
+    end
     for _, l in ipairs(c.links) do
       redis.call('HSET', P .. ':links:' .. c.id, l[1] .. '\n' .. l[2], l[3])
       redis.call('SADD', P .. ':event-links:' .. l[2], c.id .. '\n' .. l[1])

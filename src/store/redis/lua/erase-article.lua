@@ -1,4 +1,4 @@
--- erase-article: erases one article's stored text (body and sentences) and relabels the
+-- erase-article: erases one article's stored text (body, sentences, mention vectors) and relabels the
 -- events whose label came from that text with their earliest remaining sentence, or a
 -- placeholder. Links, mentions and events stay.
 -- KEYS[1]  the partition's counts hash
@@ -12,6 +12,8 @@ if redis.call('EXISTS', ak) == 0 then return 0 end
 local had = redis.call('HDEL', ak, 'text')
 local erased = redis.call('HVALS', P .. ':sentence-text:' .. id)
 redis.call('DEL', P .. ':sentence-text:' .. id)
+-- A TF-IDF vector is a bag of the sentence's (hashed) words: it goes with the text.
+redis.call('DEL', P .. ':mention-vectors:' .. id)
 local function split(s)
   local nl = string.find(s, '\n', 1, true)
   return string.sub(s, 1, nl - 1), string.sub(s, nl + 1)

@@ -1,0 +1,124 @@
+/**
+ * Splitting an event that drifted. An online linker can chain: each mention is close
+ * enough to the event's centroid as it stands, but the centroid moves, and after a while
+ * the event holds two happenings that do not resemble each other (the fire, then the
+ * inquiry a month later). Consolidation looks at an event's own mentions, divides them in
+ * two (two-means on cosine similarity with the time decay the linker uses, seeded by the
+ * two mentions farthest apart), and splits when the two parts are less alike than a
+ * mention must be to join an event.
+ */
+import { createHash } from 'node:crypto';
+import type { EmbeddedMention } from '../records.js';
+import { addMention, centroidCosine, eventIdFor, type EventState, mentionSpan, openEvent } from './event-state.js';
+import { cosine } from './score-candidate.js';
+
+/** One mention of the event, with the rank of its link to it (0 = the sentence's best link). */
+export interface SplitMember {
+  mention: EmbeddedMention;
+  rank: number;
+}
+
+/** Split settings. */
+export interface SplitOptions {
+  halfLifeDays: number;
+  centroidTerms: number;
+  /** The two parts' centroid cosine x time decay must fall below this. */
+  splitThreshold: number;
+  /** Events with fewer mentions are not examined. */
+  splitMinMentions: number;
+}
+
+/** A split found by consolidation, not yet committed. */
+export interface SplitPlan {
+  /** The event as it stays (same id), with the mentions that remain. */
+  kept: EventState;
+  /** The new event, with the mentions that move. */
+  split: EventState;
+  moved: { articleId: string; sentenceIndex: number }[];
+  /** How alike the two parts are: centroid cosine x time decay. */
+  score: number;
+}
+
+/** Each part keeps at least this many mentions: one stray sentence is left to the linker. */
+const MIN_PART = 2;
+const MAX_ROUNDS = 10;
+/** Further links of one sentence count half in a centroid, as when linking. */
+const SECONDARY_WEIGHT = 0.5;
+
+/**
+ * Divides `event`'s mentions in two when they drifted apart, or returns null. `members`
+ * must be the event's mentions in a stable order (oldest first); the result depends only
+ * on them, so every process reaches the same split.
+ */
+export function planSplit(event: EventState, members: readonly SplitMember[], o: SplitOptions): SplitPlan | null {
+  if (o.splitMinMentions <= 0 || members.length < Math.max(o.splitMinMentions, 2 * MIN_PART)) return null;
+  const build = (id: string, part: readonly SplitMember[]): EventState => {
+    const e = openEvent(id, part[0]!.mention);
+    for (const m of part) addMention(e, m.mention, m.rank === 0 ? 1 : SECONDARY_WEIGHT, o.centroidTerms);
+    return e;
+  };
+  const fit = (m: SplitMember, e: EventState): number => {
+    const [ms, me] = mentionSpan(m.mention);
+    const gap = Math.max(0, e.timeStart - me, ms - e.timeEnd);
+    return cosine(m.mention.vector, e) * Math.pow(0.5, gap / o.halfLifeDays);
+  };
+
+  // Seeds: the mention that fits the whole event least, then the one least like it.
+  const whole = build(event.id, members);
+  const seedA = argMin(members, (m) => fit(m, whole));
+  const a0 = build('a', [members[seedA]!]);
+  const seedB = argMin(members, (m, i) => (i === seedA ? Infinity : fit(m, a0)));
+  if (seedB === seedA) return null;
+  let side = members.map((_, i) => (i === seedB ? 1 : 0));
+  side[seedA] = 0;
+  let parts: [EventState, EventState] = [a0, build('b', [members[seedB]!])];
+  for (let round = 0; round < MAX_ROUNDS; round++) {
+    const next = members.map((m) => (fit(m, parts[1]) > fit(m, parts[0]) ? 1 : 0));
+    const changed = next.some((s, i) => s !== side[i]);
+    side = next;
+    const [p0, p1] = divide(members, side);
+    if (p0.length === 0 || p1.length === 0) return null;
+    parts = [build('a', p0), build('b', p1)];
+    if (!changed && round > 0) break;
+  }
+  const [p0, p1] = divide(members, side);
+  if (p0.length < MIN_PART || p1.length < MIN_PART) return null;
+  const [a, b] = parts;
+  const gap = Math.max(0, b.timeStart - a.timeEnd, a.timeStart - b.timeEnd);
+  const score = centroidCosine(a, b) * Math.pow(0.5, gap / o.halfLifeDays);
+  if (score >= o.splitThreshold) return null;
+
+  // The part with the mention that opened the event keeps its id; else the larger part,
+  // then the one with the older first mention.
+  const opener = members.findIndex((m) => eventIdFor(m.mention) === event.id);
+  const keepSide = opener >= 0 ? side[opener]! : p0.length !== p1.length ? (p0.length > p1.length ? 0 : 1) : side[0]!;
+  const [keep, move] = keepSide === 0 ? [p0, p1] : [p1, p0];
+  const kept = build(event.id, keep);
+  if (opener >= 0) kept.label = event.label;
+  kept.version = event.version + 1;
+  const first = move[0]!.mention;
+  const split = build(splitEventId(event.id, first), move);
+  return { kept, split, moved: move.map((m) => ({ articleId: m.mention.articleId, sentenceIndex: m.mention.sentenceIndex })), score };
+}
+
+/** The id of the event split off `from`, starting with `first`: the same split gives the same id. */
+export function splitEventId(from: string, first: Pick<EmbeddedMention, 'articleId' | 'sentenceIndex'>): string {
+  return `ev_${createHash('sha256').update(`split\n${from}\n${first.articleId}#${first.sentenceIndex}`).digest('hex').slice(0, 16)}`;
+}
+
+function divide(members: readonly SplitMember[], side: readonly number[]): [SplitMember[], SplitMember[]] {
+  return [members.filter((_, i) => side[i] === 0), members.filter((_, i) => side[i] === 1)];
+}
+
+function argMin<T>(xs: readonly T[], f: (x: T, i: number) => number): number {
+  let best = 0;
+  let bestValue = Infinity;
+  xs.forEach((x, i) => {
+    const v = f(x, i);
+    if (v < bestValue) {
+      bestValue = v;
+      best = i;
+    }
+  });
+  return best;
+}

@@ -1,0 +1,106 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import { from, lastValueFrom, toArray } from 'rxjs';
+import { consolidate, runPipeline } from '../../src/pipeline.js';
+import type { Article } from '../../src/records.js';
+import type { Runtime } from '../../src/runtime.js';
+import { buildApp } from '../../src/api/build-app.js';
+import { createLogger } from '../../src/logger.js';
+import { linkPrepared } from '../../src/eval/link-prepared.js';
+import { prepareMentions } from '../../src/eval/prepare-mentions.js';
+import { testRuntime } from '../helpers/runtime.js';
+
+const SECRET = `whsec_${Buffer.alloc(32, 7).toString('base64')}`;
+
+// One story drifting into another through a sentence that names both: a warehouse fire at
+// the Korrin pier, then a dockworkers' strike at the same pier. Each article is one mention.
+const TEXTS = [
+  'Fire crews fought a warehouse blaze at the Korrin pier through the night.',
+  'The warehouse blaze at the Korrin pier sent thick smoke over the harbour.',
+  'Fire crews contained the warehouse blaze and the smoke cleared over the harbour.',
+  'After the warehouse blaze, dockworkers at the Korrin pier voted to strike over wages.',
+  'Dockworkers voted to strike over wages and the guild called a ballot.',
+  'The guild ballot on wages ended with dockworkers walking out on strike.',
+  'Dockworkers stayed out on strike over wages after the guild ballot.',
+];
+
+function articles(): Article[] {
+  return TEXTS.map((text, i) => ({
+    id: `https://pier.example/${i}`, outlet: i % 2 ? 'Harbour Ledger' : 'Korrin Evening Post', url: `https://pier.example/${i}`, title: `Pier ${i}`,
+    published: `2026-10-0${1 + Math.floor(i / 3)}T10:00:00.000Z`, fetched: '2026-10-09T10:00:00.000Z', language: 'en', text,
+    contentHash: `h${i}`, duplicateOf: null, source: 'test',
+  }));
+}
+
+describe('consolidation splits an event that drifted', () => {
+  let rt: Runtime;
+  afterEach(async () => rt.close());
+
+  async function chainedRun(): Promise<string> {
+    rt = await testRuntime({
+      link: { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
+    });
+    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
+    const events = new Set(outcomes.flatMap((o) => o.assignments.flatMap((a) => a.eventIds)));
+    expect(events.size).toBe(1);
+    return [...events][0]!;
+  }
+
+  it('moves the strike reports to a new event, records the split and notifies subscribers', async () => {
+    const id = await chainedRun();
+    const { merges, splits } = await consolidate(rt, [id]);
+    expect(merges).toEqual([]);
+    expect(splits).toHaveLength(1);
+    const split = splits[0]!;
+    expect(split.from).toBe(id);
+    const url = (i: number) => `https://pier.example/${i}`;
+    // The sentence that names both may go either way; the fire and the strike reports may not.
+    const moved = split.moved.map((m) => m.articleId);
+    expect(moved).toEqual(expect.arrayContaining([4, 5, 6].map(url)));
+    expect(moved).not.toEqual(expect.arrayContaining([url(0)]));
+
+    const kept = await rt.store.getEvent(id);
+    expect(kept!.mentions.map((m) => m.articleId)).toEqual(expect.arrayContaining([0, 1, 2].map(url)));
+    expect(kept!.mentions.length + moved.length).toBe(7);
+    expect(kept!.splits).toEqual([{ from: id, into: split.into, mentions: moved.length, score: split.score, at: expect.any(String) }]);
+    expect((await rt.store.getEvent(split.into))!.event.mentionCount).toBe(moved.length);
+
+    const messages = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).filter((d) => d.type === 'event.split');
+    expect(messages).toHaveLength(1);
+    const body = JSON.parse(messages[0]!.body) as { data: { event: { id: string }; splitOff: { id: string }; moved: unknown[]; note: string } };
+    expect(body.data.event.id).toBe(id);
+    expect(body.data.splitOff.id).toBe(split.into);
+    expect(body.data.moved).toHaveLength(moved.length);
+    expect(body.data.note).toMatch(/suggestion/);
+
+    // A second pass finds nothing more to do, and the API shows the split on both events.
+    expect(await consolidate(rt, [id, split.into])).toEqual({ merges: [], splits: [] });
+    const app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 7, total: 7, stored: 7, rejected: 0 }) });
+    const res = await app.inject({ url: `/api/events/${split.into}` });
+    expect(res.statusCode).toBe(200);
+    expect(res.json().splits).toEqual([expect.objectContaining({ from: id, into: split.into, mentions: moved.length })]);
+    await app.close();
+  });
+
+  it('the link step alone (eval cross-check) splits the same way the pipeline and the store do', async () => {
+    const link = { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 7 };
+    rt = await testRuntime({ link });
+    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
+    expect(outcomes.at(-1)!.splits).toHaveLength(1);
+    const ids = new Set([...outcomes.flatMap((o) => o.assignments.flatMap((a) => a.eventIds)), ...outcomes.flatMap((o) => o.splits.map((sp) => sp.into))]);
+    const stored = new Map<string, string[]>();
+    for (const id of [...ids].sort()) {
+      for (const l of await rt.store.linkedMentions(id)) stored.set(l.mention.articleId, [...(stored.get(l.mention.articleId) ?? []), id]);
+    }
+    const prepared = prepareMentions(rt.nlp, articles(), () => ({ kind: 'article' }), rt.config.detect.threshold, rt.config.embed.hashBits);
+    const alone = linkPrepared(prepared, rt.config.link);
+    expect(new Set([...stored.values()].map((evs) => evs.join())).size).toBe(2);
+    expect(new Map([...alone].map(([k, evs]) => [k.replace(/#-1$/, ''), evs]))).toEqual(stored);
+  });
+
+  it('leaves an event whole once one of its mentions had its text erased', async () => {
+    const id = await chainedRun();
+    await rt.store.eraseArticleText('https://pier.example/5');
+    expect((await consolidate(rt, [id])).splits).toEqual([]);
+  });
+});
