@@ -50,7 +50,7 @@ function implicitSpan(m: Pick<EmbeddedMention, 'published'>): [number, number] {
 }
 
 /** The span of a mention's own time expressions, ignoring any more than a year from publication (background). */
-function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] | null {
+export function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] | null {
   const pub = dayNumber(m.published.slice(0, 10));
   const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366 && dayNumber(t.end) - dayNumber(t.start) <= MAX_STATED_SPAN_DAYS);
   if (near.length === 0) return null;
@@ -122,7 +122,7 @@ export function addMention(e: EventState, m: EmbeddedMention, weight: number, ce
 }
 
 /** Cosine similarity of two events' centroids. */
-export function centroidCosine(a: EventState, b: EventState): number {
+export function centroidCosine(a: Pick<EventState, 'sparse' | 'dense' | 'norm'>, b: Pick<EventState, 'sparse' | 'dense' | 'norm'>): number {
   if (a.norm === 0 || b.norm === 0) return 0;
   let dot = 0;
   if (a.dense && b.dense) {

@@ -71,7 +71,7 @@ export class OnlineLinker {
   private readonly events = new Map<string, EventState>();
   private index: CandidateIndex;
   private centroids: CentroidIndex;
-  /** Event → the version last examined for a split (an unchanged event is not read again). */
+  /** Event → its mention count when last examined for a split. */
   private splitChecked = new Map<string, number>();
 
   constructor(private readonly o: LinkerOptions) {
@@ -227,16 +227,20 @@ export class OnlineLinker {
   }
 
   /**
-   * The events among `ids` worth examining for a split: big enough, and changed since they
-   * were last examined. Marks them examined.
+   * The events among `ids` worth examining for a split: big enough, and grown by half (at
+   * least splitMinMentions mentions) since they were last examined, so that a long-running
+   * event is read back a logarithmic number of times, not at every pass. Marks them examined.
    */
   splitCandidates(ids: Iterable<string>): string[] {
     const out: string[] = [];
-    if (this.o.splitMinMentions <= 0) return out;
+    const min = this.o.splitMinMentions;
+    if (min <= 0) return out;
     for (const id of ids) {
       const e = this.events.get(id);
-      if (!e || e.mentionCount < this.o.splitMinMentions || this.splitChecked.get(id) === e.version) continue;
-      this.splitChecked.set(id, e.version);
+      const last = this.splitChecked.get(id);
+      if (!e || e.mentionCount < min) continue;
+      if (last !== undefined && e.mentionCount < Math.max(last + min, last * 1.5)) continue;
+      this.splitChecked.set(id, e.mentionCount);
       out.push(id);
     }
     return out;
@@ -255,7 +259,7 @@ export class OnlineLinker {
       this.events.set(e.id, e);
       this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...[...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`)]);
       if (e.dense) this.centroids.upsert(e.id, e.dense);
-      this.splitChecked.set(e.id, e.version);
+      this.splitChecked.set(e.id, e.mentionCount);
     }
   }
 

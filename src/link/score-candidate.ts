@@ -26,7 +26,7 @@ export interface ScoredCandidate {
 }
 
 /** Cosine similarity between a mention vector and an event centroid sum. */
-export function cosine(v: Vector, e: EventState): number {
+export function cosine(v: Vector, e: Pick<EventState, 'sparse' | 'dense' | 'norm'>): number {
   if (e.norm === 0) return 0;
   let dot = 0;
   if (v.kind === 'sparse') {

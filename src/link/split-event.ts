@@ -9,7 +9,7 @@
  */
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention } from '../records.js';
-import { addMention, centroidCosine, eventIdFor, type EventState, mentionSpan, openEvent } from './event-state.js';
+import { addMention, centroidCosine, eventIdFor, type EventState, explicitSpan, mentionSpan, openEvent } from './event-state.js';
 import { cosine } from './score-candidate.js';
 
 /** One mention of the event, with the rank of its link to it (0 = the sentence's best link). */
@@ -52,34 +52,31 @@ const SECONDARY_WEIGHT = 0.5;
  */
 export function planSplit(event: EventState, members: readonly SplitMember[], o: SplitOptions): SplitPlan | null {
   if (o.splitMinMentions <= 0 || members.length < Math.max(o.splitMinMentions, 2 * MIN_PART)) return null;
-  const build = (id: string, part: readonly SplitMember[]): EventState => {
-    const e = openEvent(id, part[0]!.mention);
-    for (const m of part) addMention(e, m.mention, m.rank === 0 ? 1 : SECONDARY_WEIGHT, o.centroidTerms);
-    return e;
+  const spans = members.map((m) => mentionSpan(m.mention));
+  const explicit = members.map((m) => explicitSpan(m.mention));
+  const fit = (i: number, p: Part): number => {
+    const [ms, me] = spans[i]!;
+    const gap = Math.max(0, p.timeStart - me, ms - p.timeEnd);
+    return cosine(members[i]!.mention.vector, p) * Math.pow(0.5, gap / o.halfLifeDays);
   };
-  const fit = (m: SplitMember, e: EventState): number => {
-    const [ms, me] = mentionSpan(m.mention);
-    const gap = Math.max(0, e.timeStart - me, ms - e.timeEnd);
-    return cosine(m.mention.vector, e) * Math.pow(0.5, gap / o.halfLifeDays);
-  };
+  const partOf = (indices: readonly number[]): Part => part(members, explicit, spans, indices);
 
-  // Seeds: the mention that fits the whole event least, then the one least like it.
-  const whole = build(event.id, members);
-  const seedA = argMin(members, (m) => fit(m, whole));
-  const a0 = build('a', [members[seedA]!]);
-  const seedB = argMin(members, (m, i) => (i === seedA ? Infinity : fit(m, a0)));
+  // Seeds: the mention that fits the event least, then the one least like it.
+  const all = members.map((_, i) => i);
+  const seedA = argMin(all, (i) => fit(i, event));
+  const a0 = partOf([seedA]);
+  const seedB = argMin(all, (i) => (i === seedA ? Infinity : fit(i, a0)));
   if (seedB === seedA) return null;
-  let side = members.map((_, i) => (i === seedB ? 1 : 0));
-  side[seedA] = 0;
-  let parts: [EventState, EventState] = [a0, build('b', [members[seedB]!])];
+  let side = all.map((i) => (i === seedB ? 1 : 0));
+  let parts: [Part, Part] = [a0, partOf([seedB])];
   for (let round = 0; round < MAX_ROUNDS; round++) {
-    const next = members.map((m) => (fit(m, parts[1]) > fit(m, parts[0]) ? 1 : 0));
-    const changed = next.some((s, i) => s !== side[i]);
+    const next = all.map((i) => (fit(i, parts[1]) > fit(i, parts[0]) ? 1 : 0));
+    const changed = next.some((x, i) => x !== side[i]);
     side = next;
-    const [p0, p1] = divide(members, side);
-    if (p0.length === 0 || p1.length === 0) return null;
-    parts = [build('a', p0), build('b', p1)];
-    if (!changed && round > 0) break;
+    const [i0, i1] = [all.filter((i) => side[i] === 0), all.filter((i) => side[i] === 1)];
+    if (i0.length === 0 || i1.length === 0) return null;
+    parts = [partOf(i0), partOf(i1)];
+    if (!changed) break;
   }
   const [p0, p1] = divide(members, side);
   if (p0.length < MIN_PART || p1.length < MIN_PART) return null;
@@ -88,6 +85,11 @@ export function planSplit(event: EventState, members: readonly SplitMember[], o:
   const score = centroidCosine(a, b) * Math.pow(0.5, gap / o.halfLifeDays);
   if (score >= o.splitThreshold) return null;
 
+  const build = (id: string, ms: readonly SplitMember[]): EventState => {
+    const e = openEvent(id, ms[0]!.mention);
+    for (const m of ms) addMention(e, m.mention, weightOf(m), o.centroidTerms);
+    return e;
+  };
   // The part with the mention that opened the event keeps its id; else the larger part,
   // then the one with the older first mention.
   const opener = members.findIndex((m) => eventIdFor(m.mention) === event.id);
@@ -106,19 +108,53 @@ export function splitEventId(from: string, first: Pick<EmbeddedMention, 'article
   return `ev_${createHash('sha256').update(`split\n${from}\n${first.articleId}#${first.sentenceIndex}`).digest('hex').slice(0, 16)}`;
 }
 
+/** What the division needs of a part: its centroid and time span, built as addMention would. */
+type Part = Pick<EventState, 'sparse' | 'dense' | 'norm' | 'timeStart' | 'timeEnd'>;
+
+function part(members: readonly SplitMember[], explicit: readonly ([number, number] | null)[], spans: readonly [number, number][], indices: readonly number[]): Part {
+  const p: Part = { sparse: new Map(), dense: null, norm: 0, timeStart: Infinity, timeEnd: -Infinity };
+  let sq = 0;
+  for (const i of indices) {
+    const v = members[i]!.mention.vector;
+    const w = weightOf(members[i]!);
+    if (v.kind === 'dense') {
+      p.dense ??= new Float64Array(v.values.length);
+      for (let k = 0; k < v.values.length; k++) p.dense[k]! += w * v.values[k]!;
+    } else {
+      for (let k = 0; k < v.indices.length; k++) p.sparse.set(v.indices[k]!, (p.sparse.get(v.indices[k]!) ?? 0) + w * v.values[k]!);
+    }
+    const span = explicit[i];
+    if (span) {
+      p.timeStart = Math.min(p.timeStart, span[0]);
+      p.timeEnd = Math.max(p.timeEnd, span[1]);
+    }
+  }
+  // As in an event: stated times make the span; without any, the first mention's days.
+  if (p.timeStart === Infinity) [p.timeStart, p.timeEnd] = spans[indices[0]!]!;
+  if (p.dense) for (const x of p.dense) sq += x * x;
+  for (const x of p.sparse.values()) sq += x * x;
+  p.norm = Math.sqrt(sq);
+  return p;
+}
+
+function weightOf(m: SplitMember): number {
+  return m.rank === 0 ? 1 : SECONDARY_WEIGHT;
+}
+
 function divide(members: readonly SplitMember[], side: readonly number[]): [SplitMember[], SplitMember[]] {
   return [members.filter((_, i) => side[i] === 0), members.filter((_, i) => side[i] === 1)];
 }
 
-function argMin<T>(xs: readonly T[], f: (x: T, i: number) => number): number {
-  let best = 0;
+/** The element of `xs` with the least f (the first on a tie). */
+function argMin(xs: readonly number[], f: (x: number) => number): number {
+  let best = xs[0]!;
   let bestValue = Infinity;
-  xs.forEach((x, i) => {
-    const v = f(x, i);
+  for (const x of xs) {
+    const v = f(x);
     if (v < bestValue) {
       bestValue = v;
-      best = i;
+      best = x;
     }
-  });
+  }
   return best;
 }

@@ -31,6 +31,18 @@ export function decodeVector(bytes: Uint8Array): Vector {
   const n = b.length >= 5 ? b.readUInt32LE(1) : -1;
   const expected = kind === SPARSE ? 5 + n * 8 : kind === DENSE ? 5 + n * 4 : -1;
   if (expected !== b.length) throw new StrandError('STRAND_STORE_FAILED', `stored mention vector is damaged (${b.length} bytes, kind ${kind})`);
+  // One copy into fresh (aligned) memory, then typed views: the bytes are little-endian,
+  // as are the platforms Node runs on here (checked once below).
+  const body = new Uint8Array(b.length - 5);
+  body.set(b.subarray(5));
+  if (!LITTLE_ENDIAN) return decodeSlowly(b, kind, n);
+  if (kind === DENSE) return { kind: 'dense', values: new Float32Array(body.buffer, 0, n) };
+  return { kind: 'sparse', indices: new Uint32Array(body.buffer, 0, n), values: new Float32Array(body.buffer, n * 4, n) };
+}
+
+const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1;
+
+function decodeSlowly(b: Buffer, kind: number, n: number): Vector {
   let at = 5;
   if (kind === DENSE) {
     const values = new Float32Array(n);

@@ -81,12 +81,20 @@ describe('splitting a drifted event', () => {
     expect(small.splitCandidates([eventIdFor(ms[0]!)])).toEqual([]);
   });
 
-  it('examines an event again only after it changed', () => {
-    const ms = drifted();
-    const l = chained(ms);
-    const id = eventIdFor(ms[0]!);
+  it('examines an event again only once it has grown by half (and by splitMinMentions)', () => {
+    const fire = stream(Array.from({ length: 16 }, (_, i) => ({ article: `f${i}`, terms: FIRE.filter((_, k) => k !== i % FIRE.length) })));
+    const l = chained(fire.slice(0, 4));
+    const id = eventIdFor(fire[0]!);
     expect(l.splitCandidates([id])).toEqual([id]);
     expect(l.splitCandidates([id])).toEqual([]);
+    for (const m of fire.slice(4, 7)) l.apply(l.plan([m]));
+    expect(l.splitCandidates([id])).toEqual([]);
+    l.apply(l.plan([fire[7]!]));
+    expect(l.splitCandidates([id])).toEqual([id]);
+    for (const m of fire.slice(8, 11)) l.apply(l.plan([m]));
+    expect(l.splitCandidates([id])).toEqual([]);
+    l.apply(l.plan([fire[11]!]));
+    expect(l.splitCandidates([id])).toEqual([id]);
   });
 
   it('gives the same answer for the same mentions (every process reaches the same split)', () => {
