@@ -14,6 +14,7 @@ import { registerOperationRoutes, type IngestStatus, type QueueView } from './ro
 import { registerWebPage } from '../web/serve-page.js';
 import { type PushLimits, type SubmitArticles, registerPushRoute } from './routes/push.js';
 import { CAUTION } from './schemas.js';
+import { type FeedControl, registerFeedRoutes } from './routes/feeds.js';
 
 /** What the API is handed. */
 export interface ApiDeps {
@@ -25,6 +26,8 @@ export interface ApiDeps {
   queue?: QueueView | undefined;
   /** Where pushed articles go; without it POST /api/articles is not offered. */
   push?: { submit: SubmitArticles; limits: PushLimits } | undefined;
+  /** The feed poller of this process; without it the /api/feeds routes are not offered. */
+  feeds?: FeedControl | undefined;
 }
 
 /** Builds the fastify app (not yet listening). */
@@ -48,7 +51,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         version: deps.version,
         description: `Events reported in news feeds, the sentences that report them and the links between the two.\n\n${CAUTION}`,
       },
-      tags: [{ name: 'events' }, { name: 'articles' }, { name: 'operations' }],
+      tags: [{ name: 'events' }, { name: 'articles' }, { name: 'feeds' }, { name: 'operations' }],
     },
   });
   app.setErrorHandler((err: FastifyError | StrandError, _req, reply) => {
@@ -64,6 +67,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   registerArticleRoutes(app, deps.store);
   registerOperationRoutes(app, deps);
   if (deps.push) registerPushRoute(app, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
+  if (deps.feeds) registerFeedRoutes(app, deps.feeds);
   registerWebPage(app);
   app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
   await app.ready();

@@ -53,6 +53,25 @@ export const configSchema = z.strictObject({
     /** Redirects followed for one feed URL. Default 5. */
     maxRedirects: z.number().int().min(0).max(20).default(5),
   }).prefault({}),
+  poll: z.strictObject({
+    /** Poll the feeds in this process. With several api processes on one Redis partition, leave it on in one. Default true. */
+    enabled: z.boolean().default(true),
+    /** Feeds to poll, kept in line with this list at each start; more can be added through the API. */
+    feeds: z.array(z.strictObject({
+      url: z.url({ protocol: /^https?$/ }),
+      /** Outlet name to use instead of the feed's title. */
+      outlet: z.string().min(1).max(200).optional(),
+      intervalSeconds: z.number().int().min(30).max(86_400).optional(),
+    })).max(10_000).default([]),
+    /** Seconds between polls of one feed unless it says otherwise. Default 600 (10 minutes). */
+    intervalSeconds: z.number().int().min(30).max(86_400).default(600),
+    /** Longest wait after failures in a row, seconds. Default 21,600 (6 hours). */
+    maxBackoffSeconds: z.number().int().min(60).max(7 * 86_400).default(21_600),
+    /** Feeds fetched at the same time. Default 8. */
+    concurrency: z.number().int().min(1).max(64).default(8),
+    /** Most feeds polled. Default 2,000. */
+    maxFeeds: z.number().int().min(1).max(100_000).default(2000),
+  }).prefault({}),
   process: z.strictObject({
     /**
      * What this process does. all: everything in one process (the default; any store).

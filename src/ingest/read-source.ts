@@ -64,18 +64,30 @@ export async function listFeedFiles(path: string): Promise<string[]> {
 
 /** Reads one file or URL into articles; never throws for bad content, only reports problems. */
 export async function readFeedDocument(source: string, limits: ReadLimits, now: () => Date = () => new Date()): Promise<FeedDocument> {
-  const doc: FeedDocument = { source, outlet: '', articles: [], problems: [] };
-  const fail = (err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): void => {
-    doc.problems.push({ source, item, code: err instanceof StrandError ? err.code : 'STRAND_SOURCE_UNREADABLE', message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''), severity });
-  };
   let bytes: Uint8Array;
   let charset: string | null = null;
   try {
-    ({ bytes, charset } = /^https?:\/\//i.test(source) ? await fetchBytes(source, limits) : { bytes: await readFileCapped(source, limits.maxFeedBytes), charset: null });
+    if (/^https?:\/\//i.test(source)) {
+      const res = await fetchFeed(source, limits);
+      if (res.status !== 200) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${res.url} answered HTTP ${res.status}`);
+      ({ bytes, charset } = res);
+    } else {
+      bytes = await readFileCapped(source, limits.maxFeedBytes);
+    }
   } catch (err) {
-    fail(err);
+    const doc: FeedDocument = { source, outlet: '', articles: [], problems: [] };
+    doc.problems.push(problem(source, err));
     return doc;
   }
+  return parseFeedBytes(source, bytes, charset, limits, now);
+}
+
+/** Turns the bytes of one feed document into articles; never throws, reports problems. */
+export function parseFeedBytes(source: string, bytes: Uint8Array, charset: string | null, limits: Pick<ReadLimits, 'maxArticleChars'>, now: () => Date = () => new Date()): FeedDocument {
+  const doc: FeedDocument = { source, outlet: '', articles: [], problems: [] };
+  const fail = (err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): void => {
+    doc.problems.push(problem(source, err, item, severity));
+  };
   try {
     const decoded = decodeBytes(bytes, charset);
     if (decoded.warning) fail(new StrandError('STRAND_ENCODING_UNSUPPORTED', decoded.warning), null, 'warning');
@@ -97,6 +109,10 @@ export async function readFeedDocument(source: string, limits: ReadLimits, now: 
   return doc;
 }
 
+function problem(source: string, err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): IngestProblem {
+  return { source, item, code: err instanceof StrandError ? err.code : 'STRAND_SOURCE_UNREADABLE', message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''), severity };
+}
+
 async function readFileCapped(path: string, cap: number): Promise<Uint8Array> {
   const handle = await open(path, 'r').catch((err: NodeJS.ErrnoException) => {
     throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot read ${path}: ${err.code ?? err.message}`, { cause: err });
@@ -112,53 +128,96 @@ async function readFileCapped(path: string, cap: number): Promise<Uint8Array> {
   }
 }
 
-async function fetchBytes(url: string, limits: ReadLimits): Promise<{ bytes: Uint8Array; charset: string | null }> {
+/** Validators from an earlier answer, sent back so an unchanged feed costs a 304 (RFC 9110, 13.1). */
+export interface Validators {
+  etag?: string | null;
+  lastModified?: string | null;
+}
+
+/** What a feed URL answered: 200 with the body, or another final status with its headers. */
+export interface FetchedFeed {
+  /** The URL after redirects. */
+  url: string;
+  status: number;
+  bytes: Uint8Array;
+  charset: string | null;
+  etag: string | null;
+  lastModified: string | null;
+  /** The Retry-After header as sent, if any. */
+  retryAfter: string | null;
+  /** Bytes received (body only). */
+  received: number;
+}
+
+/**
+ * Fetches a feed URL within the limits: every address checked (also after each redirect),
+ * a redirect limit, a timeout and a size cap. Sends the validators of an earlier answer; a
+ * 304 comes back as such. Throws (with a StrandError) only for what is not an HTTP answer
+ * or breaks a limit; the body is read only for a 200.
+ */
+export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}): Promise<FetchedFeed> {
   const allowPrivate = limits.allowPrivateNetworks ?? false;
   const agent = guardedAgent(allowPrivate);
   try {
-    return await fetchWith(agent, url, limits, allowPrivate);
+    return await fetchWith(agent, url, limits, allowPrivate, validators);
   } finally {
     void agent.close();
   }
 }
 
-async function fetchWith(agent: ReturnType<typeof guardedAgent>, url: string, limits: ReadLimits, allowPrivate: boolean): Promise<{ bytes: Uint8Array; charset: string | null }> {
+async function fetchWith(agent: ReturnType<typeof guardedAgent>, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators): Promise<FetchedFeed> {
   const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
   let res: Response;
   let at = new URL(url);
+  const headers: Record<string, string> = {
+    accept: 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5',
+    'user-agent': 'Strandline/0.1',
+  };
+  if (validators.etag) headers['if-none-match'] = validators.etag;
+  if (validators.lastModified) headers['if-modified-since'] = validators.lastModified;
   // Redirects are followed here, one by one, so that each target's address is checked too.
   for (let hop = 0; ; hop++) {
     checkUrlHost(at, allowPrivate);
     try {
-      res = (await undiciFetch(at, {
-        signal,
-        dispatcher: agent,
-        headers: { accept: 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5', 'user-agent': 'Strandline/0.1' },
-        redirect: 'manual',
-      })) as unknown as Response;
+      res = (await undiciFetch(at, { signal, dispatcher: agent, headers, redirect: 'manual' })) as unknown as Response;
     } catch (err) {
       const cause = (err as Error).cause;
       if (cause instanceof StrandError) throw cause;
-      throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot fetch ${at.href}: ${describeError(cause ?? err)}`, { cause: err });
+      const timedOut = signal.aborted;
+      throw new StrandError('STRAND_SOURCE_UNREADABLE', timedOut ? `${at.href} did not answer within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)` : `cannot fetch ${at.href}: ${describeError(cause ?? err)}`, { cause: err });
     }
-    const location = res.status >= 300 && res.status < 400 ? res.headers.get('location') : null;
+    const location = res.status >= 300 && res.status < 400 && res.status !== 304 ? res.headers.get('location') : null;
     if (!location) break;
     await res.body?.cancel();
     if (hop >= (limits.maxRedirects ?? 5)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects more than ingest.maxRedirects (${limits.maxRedirects ?? 5}) times`);
     at = new URL(location, at);
     if (!/^https?:$/.test(at.protocol)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects to a ${at.protocol} URL`);
   }
-  url = at.href;
-  if (!res.ok) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} answered HTTP ${res.status}`);
+  const answer = {
+    url: at.href, status: res.status, charset: null as string | null,
+    etag: res.headers.get('etag'), lastModified: res.headers.get('last-modified'), retryAfter: res.headers.get('retry-after'),
+  };
+  if (res.status !== 200) {
+    await res.body?.cancel().catch(() => undefined);
+    return { ...answer, bytes: new Uint8Array(0), received: 0 };
+  }
   const declared = Number(res.headers.get('content-length') ?? '0');
-  if (declared > limits.maxFeedBytes) throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${url} declares ${declared} bytes, over ingest.maxFeedBytes (${limits.maxFeedBytes})`);
+  if (declared > limits.maxFeedBytes) {
+    await res.body?.cancel().catch(() => undefined);
+    throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${at.href} declares ${declared} bytes, over ingest.maxFeedBytes (${limits.maxFeedBytes})`);
+  }
   const chunks: Uint8Array[] = [];
   let total = 0;
-  for await (const chunk of res.body as unknown as AsyncIterable<Uint8Array>) {
-    total += chunk.byteLength;
-    if (total > limits.maxFeedBytes) throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${url} sent more than ingest.maxFeedBytes (${limits.maxFeedBytes})`);
-    chunks.push(chunk);
+  try {
+    for await (const chunk of res.body as unknown as AsyncIterable<Uint8Array>) {
+      total += chunk.byteLength;
+      if (total > limits.maxFeedBytes) throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${at.href} sent more than ingest.maxFeedBytes (${limits.maxFeedBytes})`);
+      chunks.push(chunk);
+    }
+  } catch (err) {
+    if (err instanceof StrandError) throw err;
+    throw new StrandError('STRAND_SOURCE_UNREADABLE', signal.aborted ? `${at.href} did not finish within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)` : `reading ${at.href} failed: ${describeError(err)}`, { cause: err });
   }
-  const charset = /charset=([^;]+)/i.exec(res.headers.get('content-type') ?? '')?.[1]?.replace(/"/g, '') ?? null;
-  return { bytes: Buffer.concat(chunks), charset };
+  answer.charset = /charset=([^;]+)/i.exec(res.headers.get('content-type') ?? '')?.[1]?.replace(/"/g, '').trim() ?? null;
+  return { ...answer, bytes: Buffer.concat(chunks), received: total };
 }

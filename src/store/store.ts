@@ -99,6 +99,43 @@ export interface ArticleCommit {
 /** What happened to a commit. */
 export type CommitResult = 'stored' | 'already-stored';
 
+/** A polled feed: what the operator asked for, and how polling it has gone. */
+export interface FeedEntry {
+  /** `fd_` and 16 hex digits of the URL's SHA-256. */
+  id: string;
+  url: string;
+  /** Outlet name to use instead of the feed's own title, or null. */
+  outlet: string | null;
+  intervalSeconds: number;
+  paused: boolean;
+  /** Listed in the configuration file (re-read at each start) or added through the API. */
+  origin: 'config' | 'api';
+  added: string;
+  state: FeedState;
+}
+
+/** How polling one feed has gone. */
+export interface FeedState {
+  /** Validators of the last 200 answer, sent back as If-None-Match / If-Modified-Since. */
+  etag: string | null;
+  lastModified: string | null;
+  nextPollAt: string;
+  lastPollAt: string | null;
+  lastSuccessAt: string | null;
+  lastStatus: number | null;
+  lastError: string | null;
+  /** Failed polls in a row (the backoff grows with it). */
+  failures: number;
+  requests: number;
+  notModified: number;
+  bytes: number;
+  /** Items read from the feed, counting repeats, and items not stored before. */
+  itemsSeen: number;
+  itemsNew: number;
+  /** Publication to ingest, ms, of the latest new items (at most 101 kept). */
+  delaysMs: number[];
+}
+
 /** Linker state as persisted. */
 export interface LinkerSnapshot {
   events: Uint8Array[];
@@ -233,6 +270,12 @@ export interface Store {
   recordAttempt(messageId: string, subscriber: string, outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void>;
   /** Deliveries that gave up. */
   deadLetters(limit: number): Promise<Delivery[]>;
+  /** Every polled feed, in the order added. */
+  listFeeds(): Promise<FeedEntry[]>;
+  /** Adds or replaces one polled feed. */
+  putFeed(f: FeedEntry): Promise<void>;
+  /** Removes one polled feed; false when there was none. */
+  deleteFeed(id: string): Promise<boolean>;
   /** Erases article and sentence text of articles published before `day`; returns how many articles. */
   eraseTextBefore(day: string): Promise<number>;
   /** Erases one article's stored text (body, sentences, labels drawn from them); links stay. */

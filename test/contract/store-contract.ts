@@ -256,6 +256,22 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.loadLinkerState()).events.map((b) => deserialiseEvent(b).id).sort()).toEqual([first.event.id, 'ev_split'].sort());
     });
 
+    it('keeps the polled feeds in the order added; writing one again keeps its place', async () => {
+      const feed = (id: string, added: string) => ({
+        id, url: `https://${id}.example/rss`, outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added,
+        state: { etag: null, lastModified: null, nextPollAt: added, lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null, failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [] },
+      });
+      expect(await store.listFeeds()).toEqual([]);
+      await store.putFeed(feed('fd_a', '2026-10-01T08:00:00.000Z'));
+      await store.putFeed(feed('fd_b', '2026-10-01T09:00:00.000Z'));
+      const changed = { ...feed('fd_a', '2026-10-01T08:00:00.000Z'), paused: true, state: { ...feed('fd_a', '2026-10-01T08:00:00.000Z').state, etag: '"v2"', delaysMs: [1000, 2000] } };
+      await store.putFeed(changed);
+      expect(await store.listFeeds()).toEqual([changed, feed('fd_b', '2026-10-01T09:00:00.000Z')]);
+      expect(await store.deleteFeed('fd_a')).toBe(true);
+      expect(await store.deleteFeed('fd_a')).toBe(false);
+      expect((await store.listFeeds()).map((f) => f.id)).toEqual(['fd_b']);
+    });
+
     it('erases stored text on demand and by age, keeping links and events', async () => {
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'Old text.');
       const a2 = article('a2', 'O', '2026-10-20T10:00:00.000Z', 'New text.');

@@ -10,6 +10,9 @@ import { checkRole, openQueue, startLinker, startWorker } from '../../distribute
 import { readReplayInput } from '../../ingest/replay-source.js';
 import type { Logger } from '../../logger.js';
 import { LocalIntake } from '../../local-intake.js';
+import { FeedPoller } from '../../poll/feed-poller.js';
+import type { Article } from '../../records.js';
+import type { Store } from '../../store/store.js';
 import { createRuntime } from '../../runtime.js';
 import { openStore } from '../../store/open-store.js';
 import { addDays, dayOf } from '../../text/days.js';
@@ -44,7 +47,8 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const intake = new LocalIntake(rt, (o) => {
     if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
   });
-  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest } });
+  const poller = await startPoller(config, logger, rt.store, (a) => intake.submit(a));
+  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
@@ -85,11 +89,23 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   abort.abort();
   clearInterval(sweeper);
   await replay;
+  await poller?.stop();
   await intake.idle();
   await dispatcher.stop();
   await app.close();
   await rt.close();
   return 0;
+}
+
+/** Loads the feed list and starts polling, unless poll.enabled is off. */
+async function startPoller(config: Readonly<Config>, logger: Logger, store: Store, submit: (a: readonly Article[]) => Promise<void>): Promise<FeedPoller | null> {
+  if (!config.poll.enabled) return null;
+  const poller = new FeedPoller({ store, submit, limits: config.ingest, options: config.poll, logger });
+  await poller.load(config.poll.feeds);
+  poller.start();
+  const n = poller.list().length;
+  if (n) process.stdout.write(`Polling ${n} feed(s) (GET /api/feeds for their health)\n`);
+  return poller;
 }
 
 function untilSignal(): Promise<void> {
@@ -126,7 +142,9 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const store = await openStore(config.store, logger);
   const queue = await openQueue(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit: async (a) => void (await queue.enqueue(a)), limits: config.ingest } });
+  const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a));
+  const poller = await startPoller(config, logger, store, submit);
+  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
@@ -137,6 +155,7 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
     process.stdout.write(`Queued ${input.articles.length} articles from ${sources.join(', ')} for the workers\n`);
   }
   await untilSignal();
+  await poller?.stop();
   await app.close();
   queue.close();
   await store.close();

@@ -31,6 +31,9 @@ export interface Keyspace {
   readonly merges: string;
   /** Hash: event opened by a split → JSON {from, mentions, score, at}. */
   readonly splits: string;
+  /** Hash: feed id → JSON feed entry; sorted set of feed ids by the order added. */
+  readonly feeds: string;
+  readonly feedOrder: string;
   /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
   readonly deliveries: string;
   readonly due: string;
@@ -85,6 +88,8 @@ export function keyspace(partition: string): Keyspace {
     idfDocs: `${p}:idf-docs`,
     merges: `${p}:merges`,
     splits: `${p}:splits`,
+    feeds: `${p}:feeds`,
+    feedOrder: `${p}:feed-order`,
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,
     dead: `${p}:dead`,

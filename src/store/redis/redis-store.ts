@@ -18,7 +18,7 @@ import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
+  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { decodeVector, encodeVector } from '../vector-codec.js';
 import { type Keyspace, keyspace } from './keys.js';
@@ -310,6 +310,22 @@ export class RedisStore implements Store {
 
   async deadLetters(limit: number): Promise<Delivery[]> {
     return this.deliveries(await this.redis.zrevrange(this.k.dead, 0, limit - 1));
+  }
+
+  async listFeeds(): Promise<FeedEntry[]> {
+    const ids = await this.redis.zrange(this.k.feedOrder, '0', '-1');
+    const data = ids.length ? await this.redis.hmget(this.k.feeds, ...ids) : [];
+    return data.filter((d): d is string => d !== null).map((d) => JSON.parse(d) as FeedEntry);
+  }
+
+  async putFeed(f: FeedEntry): Promise<void> {
+    // NX keeps a feed's place in the list when it is written again.
+    await this.redis.multi().hset(this.k.feeds, f.id, JSON.stringify(f)).zadd(this.k.feedOrder, 'NX', String(Date.parse(f.added) || 0), f.id).exec();
+  }
+
+  async deleteFeed(id: string): Promise<boolean> {
+    const [[, removed]] = (await this.redis.multi().hdel(this.k.feeds, id).zrem(this.k.feedOrder, id).exec())! as [[Error | null, number]];
+    return removed === 1;
   }
 
   async eraseTextBefore(day: string): Promise<number> {

@@ -128,4 +128,12 @@ export const MIGRATIONS: readonly string[] = [
   ) WITHOUT ROWID;
   CREATE INDEX splits_from ON splits(from_id);
   `,
+  // Polled feeds: the operator's list and each feed's polling state, one JSON document each.
+  `
+  CREATE TABLE feeds (
+    seq  INTEGER PRIMARY KEY,
+    id   TEXT NOT NULL UNIQUE,
+    data TEXT NOT NULL
+  );
+  `,
 ];

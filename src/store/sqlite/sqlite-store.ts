@@ -11,7 +11,7 @@ import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
+  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { decodeVector, encodeVector } from '../vector-codec.js';
 import { MIGRATIONS } from './schema.js';
@@ -394,6 +394,18 @@ export class SqliteStore implements Store {
 
   async deadLetters(limit: number): Promise<Delivery[]> {
     return (this.st.dead.all(limit) as Row[]).map(toDelivery);
+  }
+
+  async listFeeds(): Promise<FeedEntry[]> {
+    return (this.db.prepare('SELECT data FROM feeds ORDER BY seq').pluck().all() as string[]).map((d) => JSON.parse(d) as FeedEntry);
+  }
+
+  async putFeed(f: FeedEntry): Promise<void> {
+    this.db.prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data').run(f.id, JSON.stringify(f));
+  }
+
+  async deleteFeed(id: string): Promise<boolean> {
+    return this.db.prepare('DELETE FROM feeds WHERE id = ?').run(id).changes > 0;
   }
 
   async eraseTextBefore(day: string): Promise<number> {
