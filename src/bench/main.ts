@@ -12,6 +12,8 @@
  *                   10k, 100k and 1M stored mentions, with memory (src/bench/link-scale.ts);
  *   transformer     the pipeline with a MiniLM-sized transformer against the model alone
  *                   (src/bench/transformer-throughput.ts);
+ *   poll rounds     200 feeds on a local server polled twice; the second round should be
+ *                   answered almost entirely by 304 Not Modified (src/bench/poll-rounds.ts);
  *   linker vs batch the online linker's link step against the batch all-pairs baseline
  *                   (average-link agglomerative clustering) on the same 20,000 mentions of
  *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
@@ -40,6 +42,7 @@ import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
 import { transformerThroughput } from './transformer-throughput.js';
+import { pollRounds } from './poll-rounds.js';
 import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
 interface Row {
@@ -146,8 +149,9 @@ async function main(): Promise<void> {
     ...(analysis ? [await run('demo x10, all on the main thread', demoTimesTen, undefined)] : []),
   ];
   await analysis?.close();
-  // --quick: the pipeline rows only (seconds instead of about ten minutes).
+  // --quick: the pipeline and polling rows only (seconds instead of about ten minutes).
   const quick = process.argv.includes('--quick');
+  const polling = await pollRounds();
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
   const transformer = quick ? null : await transformerThroughput(await demoArticles());
@@ -163,6 +167,9 @@ async function main(): Promise<void> {
   process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n`
     + `${availableParallelism()} cores; articles analysed on ${threads === 0 ? 'the main thread' : `${threads} analysis thread(s)`}, linked and stored on the main thread\n\n`);
   process.stdout.write(`${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`);
+  process.stdout.write(`\npolling ${polling[0]!.feeds} feeds on a local server (poll.concurrency ${parseConfig({}).poll.concurrency}; a few feeds publish between rounds):\n`
+    + `  round  requests  200  304  new items  body bytes  poller CPU ms  seconds\n`
+    + polling.map((r) => `  ${String(r.round).padStart(5)}  ${String(r.requests).padStart(8)}  ${String(r.ok).padStart(3)}  ${String(r.notModified).padStart(3)}  ${String(r.newItems).padStart(9)}  ${String(r.bytes).padStart(10)}  ${r.cpuMs.toFixed(0).padStart(13)}  ${r.seconds.toFixed(2).padStart(7)}`).join('\n') + '\n');
   if (versus) process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
     + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
     + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
@@ -186,7 +193,7 @@ async function main(): Promise<void> {
   if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

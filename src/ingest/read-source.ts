@@ -11,7 +11,7 @@ import { decodeBytes } from './decode-bytes.js';
 import { parseFeed } from './parse-feed.js';
 import { toArticle } from './to-article.js';
 import { checkUrlHost, guardedAgent } from './network-guard.js';
-import { fetch as undiciFetch } from 'undici';
+import { type Agent, fetch as undiciFetch } from 'undici';
 
 /** Limits applied while reading. */
 export interface ReadLimits {
@@ -153,19 +153,21 @@ export interface FetchedFeed {
  * Fetches a feed URL within the limits: every address checked (also after each redirect),
  * a redirect limit, a timeout and a size cap. Sends the validators of an earlier answer; a
  * 304 comes back as such. Throws (with a StrandError) only for what is not an HTTP answer
- * or breaks a limit; the body is read only for a 200.
+ * or breaks a limit; the body is read only for a 200. A caller polling many feeds passes
+ * one `agent` (from guardedAgent) for all of them, so connections are kept and reused.
  */
-export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}): Promise<FetchedFeed> {
+export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent): Promise<FetchedFeed> {
   const allowPrivate = limits.allowPrivateNetworks ?? false;
-  const agent = guardedAgent(allowPrivate);
+  if (agent) return fetchWith(agent, url, limits, allowPrivate, validators);
+  const own = guardedAgent(allowPrivate);
   try {
-    return await fetchWith(agent, url, limits, allowPrivate, validators);
+    return await fetchWith(own, url, limits, allowPrivate, validators);
   } finally {
-    void agent.close();
+    void own.close();
   }
 }
 
-async function fetchWith(agent: ReturnType<typeof guardedAgent>, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators): Promise<FetchedFeed> {
+async function fetchWith(agent: Agent, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators): Promise<FetchedFeed> {
   const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
   let res: Response;
   let at = new URL(url);

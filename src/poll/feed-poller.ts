@@ -8,7 +8,7 @@
 import { createHash } from 'node:crypto';
 import { StrandError, describeError } from '../errors.js';
 import { type ReadLimits, fetchFeed, parseFeedBytes } from '../ingest/read-source.js';
-import { checkUrlHost } from '../ingest/network-guard.js';
+import { checkUrlHost, guardedAgent } from '../ingest/network-guard.js';
 import type { Logger } from '../logger.js';
 import type { Article } from '../records.js';
 import type { FeedEntry, FeedState, Store } from '../store/store.js';
@@ -76,8 +76,11 @@ export class FeedPoller {
   private readonly now: () => Date;
   private readonly random: () => number;
   private readonly log: Logger;
+  /** One connection pool for every feed (keep-alive across polls), address-guarded. */
+  private readonly agent: ReturnType<typeof guardedAgent>;
 
   constructor(private readonly d: PollerDeps) {
+    this.agent = guardedAgent(d.limits.allowPrivateNetworks ?? false);
     this.now = d.now ?? (() => new Date());
     this.random = d.random ?? Math.random;
     this.log = d.logger.child({ stage: 'poll' });
@@ -121,11 +124,12 @@ export class FeedPoller {
     this.timer.unref();
   }
 
-  /** Stops polling and waits for the round in progress. */
+  /** Stops polling, waits for the round in progress and closes the connections. */
   async stop(): Promise<void> {
     if (this.timer) clearInterval(this.timer);
     this.timer = null;
     await this.round;
+    await this.agent.close();
   }
 
   /** Every feed with its state, in the order added. */
@@ -210,7 +214,7 @@ export class FeedPoller {
     const backoff = (): number => backoffMs(s.failures + 1, intervalMs, this.d.options.maxBackoffSeconds * 1000, this.random);
     summary.polled++;
     try {
-      const res = await fetchFeed(f.url, this.d.limits, { etag: s.etag, lastModified: s.lastModified });
+      const res = await fetchFeed(f.url, this.d.limits, { etag: s.etag, lastModified: s.lastModified }, this.agent);
       s.lastStatus = res.status;
       s.bytes += res.received;
       summary.bytes += res.received;
