@@ -26,6 +26,7 @@ import { orderedMergeMap } from './ordered-merge-map.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
 import { ANALYSIS_AHEAD, type AnalysisPool } from './text/analysis-pool.js';
 import type { Nlp } from './text/nlp.js';
+import type { CopyDetector } from './copies/copy-detector.js';
 
 /** What the pipeline is handed. */
 export interface PipelineContext {
@@ -40,6 +41,8 @@ export interface PipelineContext {
   analysis?: AnalysisPool;
   /** Overrides which sentences become mentions (evaluation); live use leaves it unset. */
   selectMentions?: (article: Article) => MentionSelection;
+  /** Recent articles' MinHash sketches, to recognise edited copies; without it only verbatim copies are. */
+  copies?: CopyDetector;
 }
 
 /** What became of one article. */
@@ -158,7 +161,15 @@ export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<A
     }
     inFlightIds.add(a.id);
     if (!inFlightHashes.has(a.contentHash)) inFlightHashes.set(a.contentHash, a.id);
-    return { go: original && original !== a.id ? { ...a, duplicateOf: original } : a };
+    let near: ReturnType<CopyDetector['admit']> = null;
+    try {
+      near = ctx.copies?.admit(a) ?? null;
+    } catch (err) {
+      // Copy detection is a refinement: an article it cannot read goes on without it.
+      ctx.logger.child({ stage: 'admit' }).warn({ article: a.id, err: describeError(err) }, 'copy detection skipped');
+    }
+    if (original && original !== a.id) return { go: { ...a, duplicateOf: original, copySimilarity: 1 } };
+    return { go: near ? { ...a, duplicateOf: near.original, copySimilarity: near.similarity } : a };
   };
 }
 
@@ -345,6 +356,7 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
         sentences: a.sentences.map((s, k) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[k]! })),
         mentions: a.embedded,
         links: plan.links,
+        sketch: ctx.copies?.sketchOf(a.article.id) ?? null,
         idf: a.idf,
         messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
       },
@@ -372,6 +384,7 @@ async function resync(ctx: PipelineContext, cadence: ConsolidationCadence): Prom
   ctx.linker.reset();
   ctx.linker.load(snapshot.events.map(deserialiseEvent));
   if (ctx.embedder instanceof TfidfEmbedder) ctx.embedder.load(snapshot.idf);
+  await ctx.copies?.load(ctx.store);
   cadence.reset();
 }
 

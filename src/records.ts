@@ -21,8 +21,13 @@ export interface Article {
   text: string;
   /** SHA-256 of the normalised body text, hex; equal hashes mean verbatim copies. */
   contentHash: string;
-  /** Id of the earlier article this one copies verbatim (syndicated wire copy), or null. */
+  /** Id of the earlier article this one copies (syndicated wire copy, verbatim or lightly edited), or null. */
   duplicateOf: string | null;
+  /**
+   * How alike the copy is to its original: 1 for a verbatim copy, else the estimated
+   * Jaccard similarity of their 4-word shingles (MinHash). Absent or null when not a copy.
+   */
+  copySimilarity?: number | null;
   /** Where the item came from (file path or URL), for operators. */
   source: string;
   /**

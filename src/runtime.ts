@@ -15,6 +15,7 @@ import { openStore } from './store/open-store.js';
 import type { Store } from './store/store.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from './text/analysis-pool.js';
 import { createNlp } from './text/nlp.js';
+import { CopyDetector } from './copies/copy-detector.js';
 
 /** Everything a command needs to run the pipeline and serve queries. */
 export interface Runtime extends PipelineContext {
@@ -32,6 +33,8 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
   const snapshot = await s.loadLinkerState();
   if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
   linker.load(snapshot.events.map(deserialiseEvent));
+  const copies = new CopyDetector(config.copies);
+  await copies.load(s);
   const threads = sharedAnalysis?.threads ?? analysisThreads(config.analysis.threads);
   const owned = !sharedAnalysis && threads > 0 ? await startAnalysisPool(threads) : undefined;
   const analysis = sharedAnalysis ?? owned;
@@ -44,6 +47,7 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
     store: s,
     logger,
     now: () => new Date(),
+    copies,
     ...(analysis ? { analysis } : {}),
     close: async () => {
       await owned?.close();

@@ -151,7 +151,10 @@ export const getArticleSchema = {
           type: 'object',
           properties: {
             id: str, outlet: str, url: nullableStr, title: str, published: nullableStr, fetched: str, language: nullableStr,
-            text: nullableStr, contentHash: str, duplicateOf: nullableStr, source: str,
+            text: nullableStr, contentHash: str,
+            duplicateOf: { ...nullableStr, description: 'The earlier article this one copies (a syndicated copy, verbatim or lightly edited), or null. A copy still counts as its outlet reporting the event, but not as independent confirmation.' },
+            copySimilarity: { type: ['number', 'null'], description: 'For a copy: 1 when verbatim, else the estimated Jaccard similarity of the two texts (4-word shingles, MinHash). Null when not a copy.' },
+            source: str,
           },
           required: ['id', 'outlet', 'url', 'title', 'published', 'fetched', 'language', 'text', 'contentHash', 'duplicateOf', 'source'],
         },

@@ -21,6 +21,7 @@ const articleSchema = z.strictObject({
   text: z.string(),
   contentHash: z.string().min(1).max(128),
   duplicateOf: z.string().max(2048).nullable(),
+  copySimilarity: z.number().min(0).max(1).nullish(),
   source: z.string().max(4096),
   presplit: z.array(z.string()).optional(),
 });

@@ -87,6 +87,8 @@ export interface MergeRecord {
 export interface ArticleCommit {
   article: Article;
   sentences: StoredSentence[];
+  /** The article's MinHash sketch (copy detection), or null. */
+  sketch?: Uint32Array | null;
   /** With its vector when it has one (kept for consolidation's splits). */
   mentions: (Mention & { vector?: Vector })[];
   links: Link[];
@@ -270,6 +272,11 @@ export interface Store {
   recordAttempt(messageId: string, subscriber: string, outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void>;
   /** Deliveries that gave up. */
   deadLetters(limit: number): Promise<Delivery[]>;
+  /**
+   * MinHash sketches of the articles published (or fetched) within `days` before the newest
+   * stored one, oldest first, with their time in ms (to rebuild the copy index).
+   */
+  recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]>;
   /** Every polled feed, in the order added. */
   listFeeds(): Promise<FeedEntry[]>;
   /** Adds or replaces one polled feed. */

@@ -256,6 +256,21 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.loadLinkerState()).events.map((b) => deserialiseEvent(b).id).sort()).toEqual([first.event.id, 'ev_split'].sort());
     });
 
+    it('keeps each article’s copy sketch, lists the recent ones and erases them with the text', async () => {
+      const sk = (seed: number) => Uint32Array.from({ length: 128 }, (_, i) => (seed * 7919 + i * 104_729) >>> 0);
+      const old = commitFor(article('a0', 'O', '2026-09-01T10:00:00.000Z', 'x'), 'Long ago.', null).commit;
+      const a1 = commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'y'), 'The levee failed.', null).commit;
+      const a2 = { ...commitFor(article('a2', 'P', '2026-10-06T10:00:00.000Z', 'z'), 'The levee failed, P reports.', null).commit };
+      a2.article = { ...a2.article, duplicateOf: 'a1', copySimilarity: 0.8 };
+      await store.commitArticles([{ ...old, sketch: sk(0) }, { ...a1, sketch: sk(1) }, { ...a2, sketch: sk(2) }]);
+      const recent = await store.recentSketches(7);
+      expect(recent.map((r) => [r.id, r.time])).toEqual([['a1', Date.parse('2026-10-05T10:00:00.000Z')], ['a2', Date.parse('2026-10-06T10:00:00.000Z')]]);
+      expect(recent[1]!.sketch).toEqual(sk(2));
+      expect((await store.getArticle('a2'))!.article).toMatchObject({ duplicateOf: 'a1', copySimilarity: 0.8 });
+      await store.eraseArticleText('a2');
+      expect((await store.recentSketches(7)).map((r) => r.id)).toEqual(['a1']);
+    });
+
     it('keeps the polled feeds in the order added; writing one again keeps its place', async () => {
       const feed = (id: string, added: string) => ({
         id, url: `https://${id}.example/rss`, outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added,

@@ -93,6 +93,7 @@ export class RedisStore implements Store {
     const payload = cs.map((c) => ({
       id: c.article.id,
       meta: JSON.stringify(articleMeta(c.article)),
+      sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength).toString('base64') : null,
       text: c.article.text,
       time: Date.parse(c.article.published ?? c.article.fetched),
       outlet: c.article.outlet,
@@ -312,6 +313,23 @@ export class RedisStore implements Store {
     return this.deliveries(await this.redis.zrevrange(this.k.dead, 0, limit - 1));
   }
 
+  async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
+    const newest = await this.redis.zrevrange(this.k.articlesByTime, 0, 0, 'WITHSCORES');
+    if (newest.length < 2) return [];
+    const ids = await this.redis.zrangebyscore(this.k.articlesByTime, String(Number(newest[1]) - days * 86_400_000), '+inf', 'WITHSCORES');
+    const pairs: [string, number][] = [];
+    for (let i = 0; i < ids.length; i += 2) pairs.push([ids[i]!, Number(ids[i + 1])]);
+    const sketches = await this.pipelined(pairs, (p, [id]) => p.hget(this.k.article(id), 'sketch')) as (string | null)[];
+    return pairs.flatMap(([id, time], i) => {
+      const b = sketches[i];
+      if (!b) return [];
+      const bytes = Buffer.from(b, 'base64');
+      const sketch = new Uint32Array(bytes.length >> 2);
+      for (let k = 0; k < sketch.length; k++) sketch[k] = bytes.readUInt32LE(k * 4);
+      return [{ id, time, sketch }];
+    });
+  }
+
   async listFeeds(): Promise<FeedEntry[]> {
     const ids = await this.redis.zrange(this.k.feedOrder, '0', '-1');
     const data = ids.length ? await this.redis.hmget(this.k.feeds, ...ids) : [];
@@ -402,7 +420,7 @@ export class RedisStore implements Store {
 type ArticleMeta = Omit<Article, 'text' | 'presplit'>;
 
 function articleMeta(a: Article): ArticleMeta {
-  return { id: a.id, outlet: a.outlet, url: a.url, title: a.title, published: a.published, fetched: a.fetched, language: a.language, contentHash: a.contentHash, duplicateOf: a.duplicateOf, source: a.source };
+  return { id: a.id, outlet: a.outlet, url: a.url, title: a.title, published: a.published, fetched: a.fetched, language: a.language, contentHash: a.contentHash, duplicateOf: a.duplicateOf, copySimilarity: a.duplicateOf ? (a.copySimilarity ?? 1) : null, source: a.source };
 }
 
 /** An event as the scripts take it; its state goes into `states` and is referred to by number. */

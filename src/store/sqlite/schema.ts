@@ -136,4 +136,9 @@ export const MIGRATIONS: readonly string[] = [
     data TEXT NOT NULL
   );
   `,
+  // Copy detection: each article's MinHash sketch and, for a copy, how alike it is.
+  `
+  ALTER TABLE articles ADD COLUMN sketch BLOB;
+  ALTER TABLE articles ADD COLUMN copy_similarity REAL;
+  `,
 ];

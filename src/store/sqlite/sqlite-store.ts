@@ -65,8 +65,8 @@ export class SqliteStore implements Store {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
-      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source)
-        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source)`),
+      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch)
+        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch)`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
       insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
@@ -153,7 +153,7 @@ export class SqliteStore implements Store {
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
-    st.insArticle.run(c.article);
+    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength) : null });
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
       st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);
@@ -369,7 +369,7 @@ export class SqliteStore implements Store {
       article: {
         id: a.id as string, outlet: a.outlet as string, url: (a.url as string | null) ?? null, title: a.title as string,
         published: (a.published as string | null) ?? null, fetched: a.fetched as string, language: (a.language as string | null) ?? null,
-        text: (a.text as string | null) ?? null, contentHash: a.content_hash as string, duplicateOf: (a.duplicate_of as string | null) ?? null,
+        text: (a.text as string | null) ?? null, contentHash: a.content_hash as string, duplicateOf: (a.duplicate_of as string | null) ?? null, copySimilarity: (a.copy_similarity as number | null) ?? null,
         source: a.source as string,
       },
       sentences,
@@ -394,6 +394,15 @@ export class SqliteStore implements Store {
 
   async deadLetters(limit: number): Promise<Delivery[]> {
     return (this.st.dead.all(limit) as Row[]).map(toDelivery);
+  }
+
+  async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
+    const newest = this.db.prepare('SELECT max(coalesce(published, fetched)) FROM articles').pluck().get() as string | null;
+    if (!newest) return [];
+    const since = new Date(Date.parse(newest) - days * 86_400_000).toISOString();
+    const rows = this.db.prepare(`SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
+      WHERE coalesce(published, fetched) >= ? AND sketch IS NOT NULL ORDER BY at, seq`).all(since) as Row[];
+    return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: toWords(r.sketch as Buffer) }));
   }
 
   async listFeeds(): Promise<FeedEntry[]> {
@@ -428,8 +437,10 @@ export class SqliteStore implements Store {
     const erased = db.prepare('SELECT text FROM sentences WHERE article_id = ? AND text IS NOT NULL').pluck().all(id) as string[];
     db.prepare('UPDATE articles SET text = NULL WHERE id = ?').run(id);
     db.prepare('UPDATE sentences SET text = NULL WHERE article_id = ?').run(id);
-    // A TF-IDF vector is a bag of the sentence's (hashed) words: it goes with the text.
+    // A TF-IDF vector is a bag of the sentence's (hashed) words, a sketch one of its
+    // phrases: they go with the text.
     db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
+    db.prepare('UPDATE articles SET sketch = NULL WHERE id = ?').run(id);
     const events = db.prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {
@@ -444,6 +455,13 @@ export class SqliteStore implements Store {
   async close(): Promise<void> {
     if (this.db.open) this.db.close();
   }
+}
+
+/** Little-endian 32-bit words from a blob (copied, so alignment does not matter). */
+function toWords(b: Buffer): Uint32Array {
+  const out = new Uint32Array(b.length >> 2);
+  for (let i = 0; i < out.length; i++) out[i] = b.readUInt32LE(i * 4);
+  return out;
 }
 
 /** Per-article document-frequency rows folded into the snapshot this often. */

@@ -107,7 +107,7 @@ async function showEvent(id) {
     timeline,
     el('p', { class: 'meta' }, `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`),
     d.byOutlet.map((g) => el('section', { class: 'outlet' },
-      el('h3', {}, g.outlet, g.independent ? null : el('span', { class: 'copy' }, ' · verbatim copy of another outlet’s article')),
+      el('h3', {}, g.outlet, g.independent ? null : el('span', { class: 'copy' }, ' · copy of another outlet’s article (not independent confirmation)')),
       g.mentions.map((m) => el('div', { class: 'mention' },
         el('div', {}, m.text ?? '(text erased under the retention policy)'),
         el('div', { class: 'evidence' }, scoreBar(m.score), `score ${m.score.toFixed(2)}${m.rank > 0 ? ' (further event of this sentence)' : ''} · ${evidenceLine(m.evidence)}`),
@@ -121,7 +121,7 @@ async function showArticle(id) {
   const a = d.article;
   replace($('detail'), 
     el('h2', {}, a.title || a.id),
-    el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? ' · verbatim copy of ' : null,
+    el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? (a.copySimilarity === null || a.copySimilarity >= 1 ? ' · verbatim copy of ' : ` · edited copy (similarity ${a.copySimilarity.toFixed(2)}) of `) : null,
       a.duplicateOf ? el('a', { href: `#/articles/${encodeURIComponent(a.duplicateOf)}` }, a.duplicateOf) : null,
       a.url ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null),
     d.sentences.map((s) => el('div', { class: `sentence${s.isMention ? ' is-mention' : ''}` },

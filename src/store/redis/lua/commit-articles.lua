@@ -18,6 +18,7 @@ for i, c in ipairs(commits) do
     local seq = redis.call('INCR', P .. ':seq')
     redis.call('HSET', ak, 'meta', c.meta, 'seq', seq)
     if c.text ~= cjson.null then redis.call('HSET', ak, 'text', c.text) end
+    if c.sketch ~= cjson.null then redis.call('HSET', ak, 'sketch', c.sketch) end
     redis.call('ZADD', P .. ':articles', seq, c.id)
     redis.call('ZADD', P .. ':articles-by-time', c.time, c.id)
     redis.call('HINCRBY', P .. ':outlets', c.outlet, 1)

@@ -10,6 +10,7 @@ local P, id, placeholder = ARGV[1], ARGV[2], ARGV[3]
 local ak = P .. ':article:' .. id
 if redis.call('EXISTS', ak) == 0 then return 0 end
 local had = redis.call('HDEL', ak, 'text')
+redis.call('HDEL', ak, 'sketch')
 local erased = redis.call('HVALS', P .. ':sentence-text:' .. id)
 redis.call('DEL', P .. ':sentence-text:' .. id)
 -- A TF-IDF vector is a bag of the sentence's (hashed) words: it goes with the text.
