@@ -13,6 +13,8 @@ export interface FeedItem {
   /** Body as plain text when the source gives plain text. */
   text: string | null;
   language: string | null;
+  /** The base URI in scope for the item's relative URLs (Atom xml:base), or null: the document's URL then. */
+  base?: string | null;
 }
 
 /** Which format a feed was read as. */

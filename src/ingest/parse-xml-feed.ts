@@ -19,6 +19,9 @@ const parser = new XMLParser({
   processEntities: true,
   htmlEntities: true,
   isArray: (name) => ALWAYS_ARRAY.has(name),
+  // Atom text constructs are kept raw and read by their type (RFC 4287, 3.1): escaped
+  // HTML, plain text, or an XHTML <div> whose markup is the content itself.
+  stopNodes: ['feed.entry.content', 'feed.entry.summary'],
 });
 
 type Node = Record<string, unknown>;
@@ -67,10 +70,13 @@ function rss(root: Node): ParsedFeed {
 
 function atom(feed: Node): ParsedFeed {
   const language = attr(feed, 'xml:lang');
+  const feedBase = attr(feed, 'xml:base');
   const items = asArray(feed.entry).filter(isNode).map((entry): FeedItem => {
     const content = first(entry.content) ?? first(entry.summary);
     const type = isNode(content) ? attr(content, 'type') ?? 'text' : 'text';
-    const body = text(content);
+    const raw = isNode(content) ? content['#text'] : content;
+    const body = typeof raw === 'string' && raw.trim() !== '' ? (type === 'xhtml' ? unwrapXhtml(raw) : decodeXmlText(raw)) : null;
+    const entryBase = attr(entry, 'xml:base');
     return {
       guid: text(entry.id),
       url: alternateLink(entry),
@@ -79,9 +85,40 @@ function atom(feed: Node): ParsedFeed {
       html: type === 'html' || type === 'xhtml' ? body : null,
       text: type === 'html' || type === 'xhtml' ? null : body,
       language: attr(entry, 'xml:lang') ?? language,
+      // xml:base nests: an entry's base is read against the feed's (RFC 4287, 2; XML Base).
+      base: entryBase && feedBase ? joinBase(entryBase, feedBase) : entryBase ?? feedBase,
     };
   });
   return { format: 'atom', title: text(feed.title) ?? '', link: alternateLink(feed), language, items };
+}
+
+/** The text of a raw (unparsed) element: CDATA sections kept as they are, character references decoded. */
+function decodeXmlText(raw: string): string {
+  return raw.split(/(<!\[CDATA\[[\s\S]*?\]\]>)/).map((part) => (part.startsWith('<![CDATA[') ? part.slice(9, -3) : decodeReferences(part))).join('').trim();
+}
+
+const NAMED: Record<string, string> = { lt: '<', gt: '>', amp: '&', quot: '"', apos: "'" };
+
+function decodeReferences(s: string): string {
+  return s.replace(/&(#x[0-9a-f]+|#\d+|[a-z]+);/gi, (whole, ref: string) => {
+    if (ref[0] !== '#') return NAMED[ref] ?? whole;
+    const code = ref[1] === 'x' || ref[1] === 'X' ? parseInt(ref.slice(2), 16) : parseInt(ref.slice(1), 10);
+    return code > 0 && code <= 0x10ffff ? String.fromCodePoint(code) : whole;
+  });
+}
+
+/** XHTML content: the markup inside the wrapping <div> (RFC 4287, 3.1.1.3), as HTML. */
+function unwrapXhtml(raw: string): string {
+  const m = /^\s*<div\b[^>]*>([\s\S]*)<\/div>\s*$/i.exec(raw);
+  return (m ? m[1]! : raw).trim();
+}
+
+function joinBase(relative: string, base: string): string {
+  try {
+    return new URL(relative, base).href;
+  } catch {
+    return relative;
+  }
 }
 
 function alternateLink(node: Node): string | null {

@@ -92,11 +92,13 @@ export function parseFeedBytes(source: string, bytes: Uint8Array, charset: strin
     const decoded = decodeBytes(bytes, charset);
     if (decoded.warning) fail(new StrandError('STRAND_ENCODING_UNSUPPORTED', decoded.warning), null, 'warning');
     const feed = parseFeed(decoded.text);
-    doc.outlet = feed.title || new URL(feed.link ?? 'https://unknown.invalid/').hostname;
+    // Relative links are read against the feed's own URL; for a file, against the site link it names.
+    const documentUrl = /^https?:\/\//i.test(source) ? source : feed.link;
+    doc.outlet = feed.title || hostOf(feed.link ?? documentUrl) || 'unknown outlet';
     const fetched = now().toISOString();
     for (const item of feed.items) {
       try {
-        const { article, warning } = toArticle(item, { outlet: doc.outlet, source, fetched, maxArticleChars: limits.maxArticleChars });
+        const { article, warning } = toArticle(item, { outlet: doc.outlet, source, fetched, maxArticleChars: limits.maxArticleChars, documentUrl });
         if (warning) fail(new StrandError('STRAND_ARTICLE_INVALID', warning), article.id, 'warning');
         doc.articles.push(article);
       } catch (err) {
@@ -107,6 +109,14 @@ export function parseFeedBytes(source: string, bytes: Uint8Array, charset: strin
     fail(err);
   }
   return doc;
+}
+
+function hostOf(url: string | null): string | null {
+  try {
+    return url ? new URL(url).hostname : null;
+  } catch {
+    return null;
+  }
 }
 
 function problem(source: string, err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): IngestProblem {

@@ -14,6 +14,8 @@ export interface ItemContext {
   source: string;
   fetched: string;
   maxArticleChars: number;
+  /** The URL relative links are read against when the item gives no base: the feed's own URL, else its site link. */
+  documentUrl?: string | null;
 }
 
 /** An Article, plus a note for the operator when something was repaired on the way. */
@@ -39,15 +41,17 @@ export function toArticle(item: FeedItem, ctx: ItemContext): ArticleResult {
   let warning: string | null = null;
   let published: string | null = null;
   if (item.published) {
-    const ms = Date.parse(item.published);
-    if (Number.isNaN(ms)) warning = `unreadable date "${item.published.slice(0, 60)}"; publication time unknown`;
+    const ms = parseDate(item.published);
+    if (Number.isNaN(ms) || !calendarDateExists(item.published)) warning = `unreadable date "${item.published.slice(0, 60)}"; publication time unknown`;
     else published = new Date(ms).toISOString();
   }
+  const url = item.url ? resolveUrl(item.url, item.base ?? null, ctx.documentUrl ?? null) : null;
+  if (item.url && !url) warning = [warning, `link "${item.url.slice(0, 80)}" is not an http(s) URL; dropped`].filter(Boolean).join('; ');
   return {
     article: {
-      id: articleId(item, ctx.outlet, title),
+      id: articleId({ ...item, url }, ctx.outlet, title),
       outlet: ctx.outlet,
-      url: item.url,
+      url,
       title,
       published,
       fetched: ctx.fetched,
@@ -64,8 +68,56 @@ export function toArticle(item: FeedItem, ctx: ItemContext): ArticleResult {
 /** Stable article id: absolute guids are globally unique by the feed standards; others are scoped to the outlet. */
 export function articleId(item: Pick<FeedItem, 'guid' | 'url' | 'published'>, outlet: string, title: string): string {
   if (item.guid) return SCHEME.test(item.guid) ? item.guid : `${outletKey(outlet)}:${item.guid}`;
-  if (item.url) return item.url;
+  if (item.url) return SCHEME.test(item.url) ? item.url : `${outletKey(outlet)}:${item.url}`;
   return `${outletKey(outlet)}:${sha256(`${title}\n${item.published ?? ''}`).slice(0, 16)}`;
+}
+
+/**
+ * An item's link as an absolute http(s) URL: read against the item's base (Atom xml:base)
+ * and the document's URL (RFC 3986, 5); anything else (javascript:, data:, a relative link
+ * with nothing to read it against) is dropped, since the page shows links as they are.
+ */
+export function resolveUrl(link: string, base: string | null, documentUrl: string | null): string | null {
+  try {
+    const doc = documentUrl && /^https?:/i.test(documentUrl) ? new URL(documentUrl) : undefined;
+    const scope = base ? new URL(base, doc) : doc;
+    const u = new URL(link.trim(), scope);
+    return u.protocol === 'http:' || u.protocol === 'https:' ? u.href : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * Milliseconds since the epoch of an RFC 822 / RFC 3339 date (and the usual variants
+ * Date.parse reads), or NaN. A leap second (":60", allowed by RFC 3339, 5.7) is read as
+ * the second after ":59".
+ */
+function parseDate(s: string): number {
+  const leap = /(\d{2}:\d{2}):60(?=\D|$)/;
+  if (!leap.test(s)) return Date.parse(s);
+  const ms = Date.parse(s.replace(leap, '$1:59'));
+  return Number.isNaN(ms) ? ms : ms + 1000;
+}
+
+const MONTHS = ['jan', 'feb', 'mar', 'apr', 'may', 'jun', 'jul', 'aug', 'sep', 'oct', 'nov', 'dec'];
+
+/**
+ * False for a date that names a day its month does not have ("31 Feb"), which Date.parse
+ * would quietly roll into the next month. Reads the RFC 822 (day month year) and RFC 3339
+ * (year-month-day) forms; other forms pass.
+ */
+export function calendarDateExists(s: string): boolean {
+  const rfc822 = /(\d{1,2})[\s-]+([a-z]{3})[a-z]*\.?[\s-]+(\d{2,4})/i.exec(s);
+  const rfc3339 = /^\s*(\d{4})-(\d{2})-(\d{2})/.exec(s);
+  let y: number, m: number, d: number;
+  if (rfc3339) [y, m, d] = [Number(rfc3339[1]), Number(rfc3339[2]), Number(rfc3339[3])];
+  else if (rfc822) {
+    const month = MONTHS.indexOf(rfc822[2]!.toLowerCase());
+    if (month < 0) return true;
+    [y, m, d] = [Number(rfc822[3]!.length === 2 ? `20${rfc822[3]}` : rfc822[3]), month + 1, Number(rfc822[1])];
+  } else return true;
+  return m >= 1 && m <= 12 && d >= 1 && d <= new Date(Date.UTC(y, m, 0)).getUTCDate();
 }
 
 /** SHA-256 of the text with case and whitespace folded, so re-wrapped copies hash alike. */

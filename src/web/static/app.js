@@ -6,6 +6,11 @@ const PAGE = 50;
 const state = { offset: 0, total: 0, selected: null, refreshTimer: null, ingestState: 'idle' };
 const $ = (id) => document.getElementById(id);
 
+/** Only http(s) links are shown as links (stored URLs come from feeds and pushes). */
+function safeUrl(url) {
+  return typeof url === 'string' && /^https?:\/\//i.test(url);
+}
+
 function el(tag, attrs = {}, ...children) {
   const node = document.createElement(tag);
   for (const [k, v] of Object.entries(attrs)) {
@@ -112,7 +117,7 @@ async function showEvent(id) {
         el('div', {}, m.text ?? '(text erased under the retention policy)'),
         el('div', { class: 'evidence' }, scoreBar(m.score), `score ${m.score.toFixed(2)}${m.rank > 0 ? ' (further event of this sentence)' : ''} · ${evidenceLine(m.evidence)}`),
         el('div', { class: 'meta' }, `${fmtDay(m.published)} · `, el('a', { href: `#/articles/${encodeURIComponent(m.articleId)}` }, m.articleTitle || m.articleId),
-          m.articleUrl ? [' · ', el('a', { href: m.articleUrl, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null)))),
+          safeUrl(m.articleUrl) ? [' · ', el('a', { href: m.articleUrl, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null)))),
     ));
 }
 
@@ -123,7 +128,7 @@ async function showArticle(id) {
     el('h2', {}, a.title || a.id),
     el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? (a.copySimilarity === null || a.copySimilarity >= 1 ? ' · verbatim copy of ' : ` · edited copy (similarity ${a.copySimilarity.toFixed(2)}) of `) : null,
       a.duplicateOf ? el('a', { href: `#/articles/${encodeURIComponent(a.duplicateOf)}` }, a.duplicateOf) : null,
-      a.url ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null),
+      safeUrl(a.url) ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null),
     d.sentences.map((s) => el('div', { class: `sentence${s.isMention ? ' is-mention' : ''}` },
       el('div', {}, s.text || '(text erased under the retention policy)'),
       el('div', { class: 'meta' }, `sentence ${s.index} · event-ness ${s.eventness.toFixed(2)}`),
