@@ -86,6 +86,13 @@ export const configSchema = z.strictObject({
     concurrency: z.number().int().min(1).max(64).default(8),
     /** Most feeds polled. Default 2,000. */
     maxFeeds: z.number().int().min(1).max(100_000).default(2000),
+    /**
+     * Fetch the linked page of a new item whose feed text is shorter than fullTextBelowChars
+     * and take its article body (Readability). Off by default: one more request per item.
+     */
+    fullText: z.boolean().default(false),
+    /** Feed texts shorter than this are treated as summaries. Default 1,200 characters. */
+    fullTextBelowChars: z.number().int().min(1).default(1200),
   }).prefault({}),
   process: z.strictObject({
     /**

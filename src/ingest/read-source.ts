@@ -167,24 +167,28 @@ export interface FetchedFeed {
  * one `agent` (from guardedAgent) for all of them, so connections are kept and reused.
  */
 export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent): Promise<FetchedFeed> {
+  return fetchDocument(url, limits, { validators, accept: FEED_TYPES }, agent);
+}
+
+const FEED_TYPES = 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5';
+
+/** fetchFeed for any document (a linked article page): the same guard and limits, the given Accept. */
+export async function fetchDocument(url: string, limits: ReadLimits, o: { validators?: Validators; accept: string }, agent?: Agent): Promise<FetchedFeed> {
   const allowPrivate = limits.allowPrivateNetworks ?? false;
-  if (agent) return fetchWith(agent, url, limits, allowPrivate, validators);
+  if (agent) return fetchWith(agent, url, limits, allowPrivate, o.validators ?? {}, o.accept);
   const own = guardedAgent(allowPrivate);
   try {
-    return await fetchWith(own, url, limits, allowPrivate, validators);
+    return await fetchWith(own, url, limits, allowPrivate, o.validators ?? {}, o.accept);
   } finally {
     void own.close();
   }
 }
 
-async function fetchWith(agent: Agent, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators): Promise<FetchedFeed> {
+async function fetchWith(agent: Agent, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators, accept: string): Promise<FetchedFeed> {
   const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
   let res: Response;
   let at = new URL(url);
-  const headers: Record<string, string> = {
-    accept: 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5',
-    'user-agent': 'Strandline/0.1',
-  };
+  const headers: Record<string, string> = { accept, 'user-agent': 'Strandline/0.1' };
   if (validators.etag) headers['if-none-match'] = validators.etag;
   if (validators.lastModified) headers['if-modified-since'] = validators.lastModified;
   // Redirects are followed here, one by one, so that each target's address is checked too.

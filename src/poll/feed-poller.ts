@@ -9,6 +9,8 @@ import { createHash } from 'node:crypto';
 import { StrandError, describeError } from '../errors.js';
 import { type ReadLimits, fetchFeed, parseFeedBytes } from '../ingest/read-source.js';
 import { checkUrlHost, guardedAgent } from '../ingest/network-guard.js';
+import { fetchFullText } from '../ingest/fetch-full-text.js';
+import { contentHash } from '../ingest/to-article.js';
 import type { Logger } from '../logger.js';
 import type { Article } from '../records.js';
 import type { FeedEntry, FeedState, Store } from '../store/store.js';
@@ -20,6 +22,8 @@ export interface PollOptions {
   maxBackoffSeconds: number;
   concurrency: number;
   maxFeeds: number;
+  fullText: boolean;
+  fullTextBelowChars: number;
 }
 
 /** A feed as the operator lists it. */
@@ -237,10 +241,16 @@ export class FeedPoller {
           summary.fresh++;
           for (const a of fresh) if (a.published) s.delaysMs.push(Math.max(0, Date.parse(a.fetched) - Date.parse(a.published)));
           s.delaysMs = s.delaysMs.slice(-DELAYS_KEPT);
-          if (fresh.length) await this.d.submit(fresh);
+          const full = this.d.options.fullText ? await this.withFullText(fresh) : { articles: fresh, failed: 0 };
+          if (full.articles.length) await this.d.submit(full.articles);
           const itemProblems = doc.problems.filter((p) => p.severity === 'error');
           this.succeeded(s, started, intervalMs);
-          if (itemProblems.length) s.lastError = `${itemProblems.length} item(s) skipped; first: ${itemProblems[0]!.code}: ${itemProblems[0]!.message}`;
+          // The poll succeeded; what went wrong with single items is still worth showing.
+          const notes = [
+            itemProblems.length ? `${itemProblems.length} item(s) skipped; first: ${itemProblems[0]!.code}: ${itemProblems[0]!.message}` : '',
+            full.failed ? `full text not fetched for ${full.failed} item(s); their summaries were kept` : '',
+          ].filter(Boolean);
+          if (notes.length) s.lastError = notes.join('; ');
         }
       } else if (res.status === 429 || res.status === 503) {
         // The server says when to come back (never sooner than the feed's interval); without
@@ -259,6 +269,27 @@ export class FeedPoller {
     if (!current) return;
     await this.save({ ...current, state: s });
     if (s.lastError && s.failures > 0) this.log.warn({ feed: f.url, failures: s.failures, error: s.lastError, next: s.nextPollAt }, 'feed poll failed');
+  }
+
+  /** Replaces summaries by the article bodies of their linked pages; a page that fails leaves its summary. */
+  private async withFullText(articles: readonly Article[]): Promise<{ articles: Article[]; failed: number }> {
+    const out: Article[] = [];
+    let failed = 0;
+    for (const a of articles) {
+      if (!a.url || a.text.length >= this.d.options.fullTextBelowChars) {
+        out.push(a);
+        continue;
+      }
+      try {
+        const text = await fetchFullText(a.url, this.d.limits, this.agent);
+        out.push(text.length > a.text.length && text.length <= this.d.limits.maxArticleChars ? { ...a, text, contentHash: contentHash(text) } : a);
+      } catch (err) {
+        failed++;
+        this.log.debug({ article: a.id, err: describeError(err) }, 'full text not fetched; the summary is kept');
+        out.push(a);
+      }
+    }
+    return { articles: out, failed };
   }
 
   private succeeded(s: FeedState, started: Date, intervalMs: number): void {
