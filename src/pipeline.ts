@@ -27,6 +27,7 @@ import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js'
 import { ANALYSIS_AHEAD, type AnalysisPool } from './text/analysis-pool.js';
 import type { Nlp } from './text/nlp.js';
 import type { CopyDetector } from './copies/copy-detector.js';
+import { canonicalUrl } from './ingest/canonical-url.js';
 
 /** What the pipeline is handed. */
 export interface PipelineContext {
@@ -151,16 +152,23 @@ export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<A
   // stream are recognised even before the first one reaches the store.
   const inFlightIds = new Set<string>();
   const inFlightHashes = new Map<string, string>();
+  const inFlightUrls = new Map<string, string>();
   const INFLIGHT_LIMIT = 10_000;
   return async (a) => {
     if (inFlightIds.has(a.id) || (await ctx.store.hasArticle(a.id))) return { done: outcome(a, 'duplicate', 'already stored') };
+    // The same article under another id (another guid, a tracking parameter): its canonical URL gives it away.
+    const url = canonicalUrl(a.url);
+    const sameUrl = url ? inFlightUrls.get(url) ?? (await ctx.store.findByUrl(url)) : null;
+    if (sameUrl && sameUrl !== a.id) return { done: outcome(a, 'duplicate', `already stored as ${sameUrl} (same URL)`) };
     const original = inFlightHashes.get(a.contentHash) ?? (await ctx.store.findByContentHash(a.contentHash));
     if (inFlightIds.size >= INFLIGHT_LIMIT) {
       inFlightIds.clear();
       inFlightHashes.clear();
+      inFlightUrls.clear();
     }
     inFlightIds.add(a.id);
     if (!inFlightHashes.has(a.contentHash)) inFlightHashes.set(a.contentHash, a.id);
+    if (url && !inFlightUrls.has(url)) inFlightUrls.set(url, a.id);
     let near: ReturnType<CopyDetector['admit']> = null;
     try {
       near = ctx.copies?.admit(a) ?? null;

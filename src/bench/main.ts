@@ -99,7 +99,7 @@ function copies(base: readonly Article[], n: number): Article[] {
   for (let k = 0; k < n; k++) {
     for (const a of base) {
       const shift = (t: string | null) => (t ? new Date(Date.parse(t) + k * 20 * DAY_MS).toISOString() : t);
-      out.push({ ...a, id: `${a.id}#copy${k}`, published: shift(a.published), contentHash: `${a.contentHash}:${k}`, duplicateOf: null });
+      out.push({ ...a, id: `${a.id}#copy${k}`, url: a.url ? `${a.url}?copy=${k}` : null, published: shift(a.published), contentHash: `${a.contentHash}:${k}`, duplicateOf: null });
     }
   }
   return out;

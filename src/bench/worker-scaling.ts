@@ -161,7 +161,7 @@ function sleep(ms: number): Promise<void> {
 
 /** `n` copies of the articles under new ids (the workers do not check for copies). */
 function copiesOf(base: readonly Article[], n: number): Article[] {
-  return Array.from({ length: n }, (_, k) => base.map((a) => ({ ...a, id: `${a.id}#w${k}` }))).flat();
+  return Array.from({ length: n }, (_, k) => base.map((a) => ({ ...a, id: `${a.id}#w${k}`, url: a.url ? `${a.url}?w=${k}` : null }))).flat();
 }
 
 /** Runs work-alone-run.js once alone, then twice side by side. */

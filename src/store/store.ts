@@ -238,6 +238,8 @@ export interface Delivery {
 export interface Store {
   /** True when an article with this id is stored. */
   hasArticle(id: string): Promise<boolean>;
+  /** Id of the stored article whose URL has this canonical form (canonical-url.ts), if any. */
+  findByUrl(canonical: string): Promise<string | null>;
   /** Id of the earliest stored article with this content hash, if any. */
   findByContentHash(hash: string): Promise<string | null>;
   /** Commits one article's results in one transaction; a second commit of the same id changes nothing. */

@@ -271,6 +271,12 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.recentSketches(7)).map((r) => r.id)).toEqual(['a1']);
     });
 
+    it('finds a stored article by the canonical form of its URL', async () => {
+      await store.commitArticle(commitFixture('a1'));
+      expect(await store.findByUrl('https://thevellmouthcourier.example/a1')).toBe('a1');
+      expect(await store.findByUrl('https://thevellmouthcourier.example/a2')).toBeNull();
+    });
+
     it('keeps the polled feeds in the order added; writing one again keeps its place', async () => {
       const feed = (id: string, added: string) => ({
         id, url: `https://${id}.example/rss`, outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added,

@@ -83,6 +83,19 @@ describe('recognising syndicated copies', () => {
       expect(await rt.store.recentSketches(7)).toHaveLength(1);
     });
 
+    it('stores the same article reached through another link (another guid, a tracking parameter) once', async () => {
+      rt = await testRuntime();
+      const { articles } = await demoArticles();
+      const a = articles.find((x) => x.url)!;
+      const again = { ...a, id: 'urn:uuid:4f0c6f1e-0000-4000-8000-000000000001', url: `${a.url}?utm_source=rss#top`, text: `${a.text} (Updated.)`, contentHash: 'other' };
+      const [first, second] = await runArticles(rt, [a, again]);
+      expect(first!.status).toBe('stored');
+      expect(second).toMatchObject({ status: 'duplicate', reason: expect.stringContaining('same URL') });
+      const [third] = await runArticles(rt, [{ ...again, id: 'urn:uuid:4f0c6f1e-0000-4000-8000-000000000002' }]);
+      expect(third!.status).toBe('duplicate');
+      expect((await rt.store.counts()).articles).toBe(1);
+    });
+
     it('leaves edited copies alone when copies.near is off', async () => {
       rt = await testRuntime({ copies: { near: false } });
       const { articles } = await demoArticles();

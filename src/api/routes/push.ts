@@ -4,6 +4,9 @@ import { readPushedItems, splitPushedBody } from '../../ingest/read-pushed.js';
 import type { Article } from '../../records.js';
 import type { Store } from '../../store/store.js';
 import { pushSchema } from '../schemas.js';
+import { canonicalUrl } from '../../ingest/canonical-url.js';
+
+const url = (a: Article): string | null => canonicalUrl(a.url);
 
 /** Hands accepted articles on (to the local pipeline, or to the Redis intake stream). */
 export type SubmitArticles = (articles: readonly Article[]) => Promise<void>;
@@ -39,8 +42,11 @@ export function registerPushRoute(app: FastifyInstance, deps: { store: Store; su
         results.push({ index: item.index, id: item.id, status: 'rejected', reason: `${item.error.code}: ${item.error.message}` });
       } else if (seen.has(item.article.id) || (await deps.store.hasArticle(item.article.id))) {
         results.push({ index: item.index, id: item.article.id, status: 'duplicate', reason: seen.has(item.article.id) ? 'earlier in this request' : 'already stored' });
+      } else if (url(item.article) && (seen.has(url(item.article)!) || (await deps.store.findByUrl(url(item.article)!)))) {
+        results.push({ index: item.index, id: item.article.id, status: 'duplicate', reason: seen.has(url(item.article)!) ? 'same URL earlier in this request' : 'an article with the same URL is stored' });
       } else {
         seen.add(item.article.id);
+        if (url(item.article)) seen.add(url(item.article)!);
         accepted.push(item.article);
         results.push({ index: item.index, id: item.article.id, status: 'accepted', reason: null });
       }

@@ -46,6 +46,8 @@ export interface Keyspace {
   mentionVectors(articleId: string): string;
   links(articleId: string): string;
   contentHash(hash: string): string;
+  /** The article stored under a canonical URL. */
+  articleUrl(canonical: string): string;
   event(id: string): string;
   /** Set of `<article>\n<sentence index>` linked to an event. */
   eventLinks(id: string): string;
@@ -100,6 +102,7 @@ export function keyspace(partition: string): Keyspace {
     mentionVectors: (id) => `${p}:mention-vectors:${id}`,
     links: (id) => `${p}:links:${id}`,
     contentHash: (h) => `${p}:content-hash:${h}`,
+    articleUrl: (u) => `${p}:article-url:${u}`,
     event: (id) => `${p}:event:${id}`,
     eventLinks: (id) => `${p}:event-links:${id}`,
     mergedInto: (id) => `${p}:merged-into:${id}`,

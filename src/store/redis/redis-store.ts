@@ -21,6 +21,7 @@ import type {
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { decodeVector, encodeVector } from '../vector-codec.js';
+import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
 
@@ -79,6 +80,10 @@ export class RedisStore implements Store {
     return (await this.redis.exists(this.k.article(id))) === 1;
   }
 
+  async findByUrl(canonical: string): Promise<string | null> {
+    return this.redis.get(this.k.articleUrl(canonical));
+  }
+
   async findByContentHash(hash: string): Promise<string | null> {
     return this.redis.get(this.k.contentHash(hash));
   }
@@ -98,6 +103,7 @@ export class RedisStore implements Store {
       time: Date.parse(c.article.published ?? c.article.fetched),
       outlet: c.article.outlet,
       contentHash: c.article.contentHash,
+      canonicalUrl: canonicalUrl(c.article.url),
       sentences: c.sentences.map((s) => [String(s.index), JSON.stringify({ start: s.start, end: s.end, eventness: s.eventness }), s.text]),
       mentions: c.mentions.map((m) => [String(m.sentenceIndex), JSON.stringify({
         outlet: m.outlet, published: m.published, eventness: m.eventness, participants: m.participants, places: m.places, times: m.times, isCopy: m.isCopy,

@@ -141,4 +141,9 @@ export const MIGRATIONS: readonly string[] = [
   ALTER TABLE articles ADD COLUMN sketch BLOB;
   ALTER TABLE articles ADD COLUMN copy_similarity REAL;
   `,
+  // The same article reached through another link is found by its canonical URL.
+  `
+  ALTER TABLE articles ADD COLUMN canonical_url TEXT;
+  CREATE INDEX articles_canonical_url ON articles(canonical_url);
+  `,
 ];

@@ -14,6 +14,7 @@ import type {
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { decodeVector, encodeVector } from '../vector-codec.js';
+import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { MIGRATIONS } from './schema.js';
 
 type Row = Record<string, unknown>;
@@ -64,9 +65,10 @@ export class SqliteStore implements Store {
   constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY) {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
+      byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
-      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch)
-        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch)`),
+      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url)
+        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch, @canonicalUrl)`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
       insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
@@ -130,6 +132,10 @@ export class SqliteStore implements Store {
     return this.st.hasArticle.get(id) !== undefined;
   }
 
+  async findByUrl(canonical: string): Promise<string | null> {
+    return (this.st.byUrl.get(canonical) as string | undefined) ?? null;
+  }
+
   async findByContentHash(hash: string): Promise<string | null> {
     return (this.st.byHash.get(hash) as string | undefined) ?? null;
   }
@@ -153,7 +159,7 @@ export class SqliteStore implements Store {
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
-    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength) : null });
+    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength) : null, canonicalUrl: canonicalUrl(c.article.url) });
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
       st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);

@@ -23,6 +23,7 @@ for i, c in ipairs(commits) do
     redis.call('ZADD', P .. ':articles-by-time', c.time, c.id)
     redis.call('HINCRBY', P .. ':outlets', c.outlet, 1)
     redis.call('SET', P .. ':content-hash:' .. c.contentHash, c.id, 'NX')
+    if c.canonicalUrl ~= cjson.null then redis.call('SET', P .. ':article-url:' .. c.canonicalUrl, c.id, 'NX') end
     for _, s in ipairs(c.sentences) do
       redis.call('HSET', P .. ':sentences:' .. c.id, s[1], s[2])
       redis.call('HSET', P .. ':sentence-text:' .. c.id, s[1], s[3])
