@@ -40,6 +40,20 @@ export function decodeVector(bytes: Uint8Array): Vector {
   return { kind: 'sparse', indices: new Uint32Array(body.buffer, 0, n), values: new Float32Array(body.buffer, n * 4, n) };
 }
 
+/** 32-bit words (a MinHash sketch) as little-endian bytes, and back. */
+export function encodeWords(words: Uint32Array): Buffer {
+  const b = Buffer.alloc(words.length * 4);
+  words.forEach((w, i) => b.writeUInt32LE(w, i * 4));
+  return b;
+}
+
+export function decodeWords(bytes: Uint8Array): Uint32Array {
+  const b = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const out = new Uint32Array(b.length >> 2);
+  for (let i = 0; i < out.length; i++) out[i] = b.readUInt32LE(i * 4);
+  return out;
+}
+
 const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1;
 
 function decodeSlowly(b: Buffer, kind: number, n: number): Vector {

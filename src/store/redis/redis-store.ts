@@ -20,7 +20,7 @@ import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
-import { decodeVector, encodeVector } from '../vector-codec.js';
+import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
@@ -98,7 +98,7 @@ export class RedisStore implements Store {
     const payload = cs.map((c) => ({
       id: c.article.id,
       meta: JSON.stringify(articleMeta(c.article)),
-      sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength).toString('base64') : null,
+      sketch: c.sketch ? encodeWords(c.sketch).toString('base64') : null,
       text: c.article.text,
       time: Date.parse(c.article.published ?? c.article.fetched),
       outlet: c.article.outlet,
@@ -329,10 +329,7 @@ export class RedisStore implements Store {
     return pairs.flatMap(([id, time], i) => {
       const b = sketches[i];
       if (!b) return [];
-      const bytes = Buffer.from(b, 'base64');
-      const sketch = new Uint32Array(bytes.length >> 2);
-      for (let k = 0; k < sketch.length; k++) sketch[k] = bytes.readUInt32LE(k * 4);
-      return [{ id, time, sketch }];
+      return [{ id, time, sketch: decodeWords(Buffer.from(b, 'base64')) }];
     });
   }
 

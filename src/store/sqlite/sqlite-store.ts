@@ -13,7 +13,7 @@ import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
-import { decodeVector, encodeVector } from '../vector-codec.js';
+import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { MIGRATIONS } from './schema.js';
 
@@ -159,7 +159,7 @@ export class SqliteStore implements Store {
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
-    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? Buffer.from(c.sketch.buffer, c.sketch.byteOffset, c.sketch.byteLength) : null, canonicalUrl: canonicalUrl(c.article.url) });
+    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? encodeWords(c.sketch) : null, canonicalUrl: canonicalUrl(c.article.url) });
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
       st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);
@@ -408,7 +408,7 @@ export class SqliteStore implements Store {
     const since = new Date(Date.parse(newest) - days * 86_400_000).toISOString();
     const rows = this.db.prepare(`SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
       WHERE coalesce(published, fetched) >= ? AND sketch IS NOT NULL ORDER BY at, seq`).all(since) as Row[];
-    return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: toWords(r.sketch as Buffer) }));
+    return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: decodeWords(r.sketch as Buffer) }));
   }
 
   async listFeeds(): Promise<FeedEntry[]> {
@@ -461,13 +461,6 @@ export class SqliteStore implements Store {
   async close(): Promise<void> {
     if (this.db.open) this.db.close();
   }
-}
-
-/** Little-endian 32-bit words from a blob (copied, so alignment does not matter). */
-function toWords(b: Buffer): Uint32Array {
-  const out = new Uint32Array(b.length >> 2);
-  for (let i = 0; i < out.length; i++) out[i] = b.readUInt32LE(i * 4);
-  return out;
 }
 
 /** Per-article document-frequency rows folded into the snapshot this often. */
