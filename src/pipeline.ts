@@ -146,7 +146,7 @@ function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: Pipeli
   return concurrency > 1 ? orderedMergeMap(run, concurrency) : concatMap(run);
 }
 
-/** Drops articles already stored and marks verbatim copies of earlier ones. */
+/** Drops articles already stored (same id or canonical URL) and marks copies of earlier ones, verbatim or lightly edited. */
 export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<Article>> {
   // Articles admitted but not yet committed, so that two copies close together in the
   // stream are recognised even before the first one reaches the store.

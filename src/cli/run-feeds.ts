@@ -91,7 +91,7 @@ function abortable<T>(src: Observable<T>, signal?: AbortSignal): Observable<T> {
 export function formatSummary(s: RunSummary): string {
   const lines = [
     `read      ${s.files} feed file(s), ${s.articlesRead} article(s)`,
-    `stored    ${s.stored} article(s)${s.copies ? `, of which ${s.copies} verbatim copies of earlier articles` : ''}; ${s.alreadyStored} already stored before`,
+    `stored    ${s.stored} article(s)${s.copies ? `, of which ${s.copies} copies of earlier articles (verbatim or lightly edited)` : ''}; ${s.alreadyStored} already stored before`,
     `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others`,
     `time      ${s.seconds.toFixed(1)} s${s.sentences ? ` (${Math.round(s.sentences / s.seconds)} sentences/s)` : ''}`,
   ];

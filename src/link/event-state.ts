@@ -28,7 +28,7 @@ export interface EventState {
   /** Normalised participant key → [surface form, count]. */
   participants: Map<string, [string, number]>;
   places: Map<string, [string, number]>;
-  /** Outlet → [mentions, independent mentions (not from verbatim copies)]. */
+  /** Outlet → [mentions, independent mentions (not from copies of other articles)]. */
   outlets: Map<string, [number, number]>;
   version: number;
 }

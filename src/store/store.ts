@@ -17,7 +17,7 @@ export interface StoredSentence {
 /** An event's new state: the public record plus the linker's opaque state. */
 export interface EventUpdate {
   record: EventRecord;
-  /** Per outlet: mentions, and mentions that are not verbatim copies. */
+  /** Per outlet: mentions, and mentions that are not from copies of other articles. */
   outlets: { outlet: string; mentions: number; independent: number }[];
   /** Serialised linker state (centroid etc.); the store keeps it as bytes. */
   state: Uint8Array;
