@@ -152,9 +152,11 @@ async function main(): Promise<void> {
   // --quick: the pipeline and polling rows only (seconds instead of about ten minutes).
   const quick = process.argv.includes('--quick');
   const polling = await pollRounds();
+  // Before the all-pairs baseline: its 20,000-mention matrices leave a heap that slows
+  // whatever is measured after them in this process.
+  const transformer = quick ? null : await transformerThroughput(await demoArticles());
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
-  const transformer = quick ? null : await transformerThroughput(await demoArticles());
   // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
   const redisUp = quick ? false : await redisAnswers();
   const { rows: scaling, ceilings } = redisUp ? await workerScaling(await demoArticles(), rows[0]!.mentions) : { rows: [], ceilings: [] };
