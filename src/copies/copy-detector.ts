@@ -28,8 +28,7 @@ export class CopyDetector {
     if (words < this.o.minWords) return null;
     const sk = sketch(shingles(`${a.title}\n${a.text}`));
     const time = [a.published, a.fetched].map((t) => (t ? Date.parse(t) : NaN)).find((t) => !Number.isNaN(t)) ?? Date.now();
-    const match = this.index.find(sk, time);
-    this.index.add(a.id, sk, time);
+    const match = this.index.findThenAdd(a.id, sk, time);
     this.pending.set(a.id, sk);
     return match;
   }
@@ -47,10 +46,5 @@ export class CopyDetector {
     this.pending.clear();
     if (!this.o.near) return;
     for (const r of await store.recentSketches(this.o.windowDays)) this.index.add(r.id, r.sketch, r.time);
-  }
-
-  /** Sketches held (statistics and tests). */
-  get size(): number {
-    return this.index.size;
   }
 }

@@ -5,8 +5,8 @@
  * Ullman, Mining of Massive Datasets, ch. 3): 126 of the 128 positions are cut into 42
  * bands of 3; two articles become candidates when one band is identical, which for Jaccard
  * similarity s happens with probability 1 - (1 - s^3)^42 (0.94 at s = 0.4, 0.996 at 0.5,
- * 0.005 at 0.05); each candidate is then checked with the whole sketch. Only articles published within the
- * window are kept, so the index stays the size of a few days of news.
+ * 0.005 at 0.05); each candidate is then checked with the whole sketch. Only articles
+ * published within the window are kept, so the index stays the size of a few days of news.
  */
 import { estimateJaccard, fmix32 } from './minhash.js';
 
@@ -48,10 +48,22 @@ export class CopyIndex {
 
   /** The earlier article within the window that `sketch` copies most closely, if any reaches the threshold. */
   find(sketch: Uint32Array, time: number): CopyMatch | null {
+    return this.search(sketch, bandKeys(sketch), time);
+  }
+
+  /** find(), then add(): the band keys are worked out once (the admission path). */
+  findThenAdd(id: string, sketch: Uint32Array, time: number): CopyMatch | null {
+    const keys = bandKeys(sketch);
+    const match = this.search(sketch, keys, time);
+    this.insert({ id, time, sketch, keys });
+    return match;
+  }
+
+  private search(sketch: Uint32Array, keys: readonly number[], time: number): CopyMatch | null {
     const window = this.o.windowDays * 86_400_000;
     let best: (CopyMatch & { time: number }) | null = null;
     const seen = new Set<string>();
-    for (const key of bandKeys(sketch)) {
+    for (const key of keys) {
       for (const e of this.buckets.get(key) ?? []) {
         if (seen.has(e.id) || Math.abs(e.time - time) > window) continue;
         seen.add(e.id);
@@ -68,7 +80,11 @@ export class CopyIndex {
 
   /** Adds an article; entries that fell out of the window are dropped as time moves on. */
   add(id: string, sketch: Uint32Array, time: number): void {
-    const e: Entry = { id, time, sketch, keys: bandKeys(sketch) };
+    this.insert({ id, time, sketch, keys: bandKeys(sketch) });
+  }
+
+  private insert(e: Entry): void {
+    const time = e.time;
     this.entries.push(e);
     for (const k of e.keys) {
       const list = this.buckets.get(k);
