@@ -65,8 +65,17 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     await rt.close();
   }, 120_000);
 
-  /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once 300 are linked. */
-  async function distributedRun(url: string, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
+  /** Resolves once `done()` holds, or fails naming `what` after `ms`: a stalled run fails with a reason, not a timeout. */
+  async function waitFor(what: string, done: () => boolean | Promise<boolean>, ms: number, stepMs = 20): Promise<void> {
+    const deadline = Date.now() + ms;
+    while (!(await done())) {
+      if (Date.now() > deadline) throw new Error(`gave up waiting for ${what} after ${ms} ms`);
+      await new Promise((r) => setTimeout(r, stepMs));
+    }
+  }
+
+  /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once `midwayAt` are linked. */
+  async function distributedRun(url: string, midwayAt: number, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-scale-'));
     const configFile = join(dir, 'config.json');
     const partitionName = `test-${randomUUID()}`;
@@ -83,9 +92,9 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     const store = await openRedisStore({ url, partition: partitionName });
     try {
       await queue.enqueue(articles);
-      while (outcomes.length < 300) await new Promise((r) => setTimeout(r, 20));
+      await waitFor(`${midwayAt} linked articles`, () => outcomes.length >= midwayAt, 60_000);
       await midway({ workers, queue, partitionName, outcomes });
-      const deadline = Date.now() + 240_000;
+      const deadline = Date.now() + 150_000;
       while (outcomes.length < articles.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
       const [pendingLeft] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number];
       return { outcomes, counts: await store.counts(), got: await partition(store, articles), deadLetters: (await queue.depth()).deadLetters, pendingLeft, stderr: stderr.join('') };
@@ -111,15 +120,17 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
   it('stores every article and mention exactly once and makes the events one process makes, with a worker killed mid-stream', async () => {
     expect(articles).toHaveLength(2000);
     let heldAtKill = 0;
-    const r = await distributedRun(REDIS_URL, async ({ workers, queue, partitionName }) => {
+    // The hunt starts early: workers do not wait for the linker, so once many articles are
+    // linked the intake may be fully analysed and no worker holds anything any more.
+    const r = await distributedRun(REDIS_URL, 20, async ({ workers, queue, partitionName }) => {
       // Kill one worker while it holds entries: the others must take them over.
       const victim = `${hostname()}-${workers[1]!.pid}`;
-      while (heldAtKill === 0) {
+      await waitFor('the chosen worker to hold entries', async () => {
         const [, , , consumers] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number, string, string, [string, string][] | null];
         heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
         if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
-        else await new Promise((res) => setTimeout(res, 10));
-      }
+        return heldAtKill > 0;
+      }, 60_000, 5);
     });
     expect(heldAtKill).toBeGreaterThan(0);
     expectSameAsOneProcess(r);
@@ -128,7 +139,7 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
   it('completes with nothing lost when Redis (persistence on) restarts mid-run', async () => {
     const redis = await startPrivateRedis();
     try {
-      const r = await distributedRun(redis.url, async () => {
+      const r = await distributedRun(redis.url, 300, async () => {
         await redis.restart();
       });
       expect(redis.restarts).toBe(1);
