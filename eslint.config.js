@@ -15,7 +15,7 @@ export default tseslint.config(
     },
   },
   { files: ['src/web/static/**/*.js'], languageOptions: { globals: globals.browser } },
-  { files: ['scripts/**/*.mjs', 'eslint.config.js'], languageOptions: { globals: globals.node } },
+  { files: ['scripts/**/*.mjs', 'src/**/*.mjs', 'eslint.config.js'], languageOptions: { globals: globals.node } },
   {
     files: ['src/**/*.ts'],
     ignores: ['src/config/**'],
