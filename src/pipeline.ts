@@ -258,6 +258,7 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promis
     if (linked.some((l) => l.mention.vector === null)) continue;
     const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
     if (!plan) continue;
+    if (ctx.config.webhooks.subscribers.length > 0) await useStoredLabels(ctx, [plan.kept]);
     await ctx.store.commitSplit({
       from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
       into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
@@ -276,6 +277,7 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise
   const done: ArticleOutcome['merges'] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
     const merged = ctx.linker.mergedState(m.into, m.from);
+    if (ctx.config.webhooks.subscribers.length > 0) await useStoredLabels(ctx, [merged]);
     const at = ctx.now().toISOString();
     await ctx.store.commitMerge({
       into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
@@ -287,6 +289,20 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise
   }
   if (done.length) ctx.logger.child({ stage: 'link' }).debug({ merges: done.length }, 'consolidation merged events');
   return done;
+}
+
+/**
+ * Gives events the labels the store holds, before they are notified: an erasure may have
+ * relabelled an event since the linker read it, and a notification must not carry erased
+ * text. The states are the linker's own, so its memory is brought up to date as well.
+ */
+async function useStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
+  if (events.length === 0) return;
+  const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
+  for (const e of events) {
+    const label = labels.get(e.id);
+    if (label !== undefined) e.label = label;
+  }
 }
 
 function outletRows(e: EventState): { outlet: string; mentions: number; independent: number }[] {
@@ -303,7 +319,7 @@ function outletRows(e: EventState): { outlet: string; mentions: number; independ
 async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArticle>[], cadence: ConsolidationCadence): Promise<ArticleOutcome[]> {
   const log = ctx.logger.child({ stage: 'link' });
   const outcomes: ArticleOutcome[] = new Array(flows.length);
-  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; commit: Omit<ArticleCommit, 'events'> }[] = [];
+  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; commit: Omit<ArticleCommit, 'events' | 'messages'> }[] = [];
   const flush = async (): Promise<void> => {
     if (pending.length === 0) return;
     const batch = pending;
@@ -314,9 +330,15 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
     batch.forEach((p, k) => {
       for (const e of p.plan.events) lastWriter.set(e.id, k);
     });
+    const subscribers = ctx.config.webhooks.subscribers;
+    if (subscribers.length > 0) {
+      const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
+      await useStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
+    }
     const commits: ArticleCommit[] = batch.map((p, k) => ({
       ...p.commit,
       events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
+      messages: buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()),
     }));
     let results: CommitResult[];
     try {
@@ -366,7 +388,6 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
         links: plan.links,
         sketch: ctx.copies?.sketchOf(a.article.id) ?? null,
         idf: a.idf,
-        messages: buildMessages(plan, a.embedded, ctx.config.webhooks.subscribers, ctx.now()),
       },
     });
     if (await cadence.next()) {

@@ -16,6 +16,7 @@ import { createNlp } from '../text/nlp.js';
 import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
 import type { QueueView } from '../api/routes/operations.js';
 import type { Article } from '../records.js';
+import { RetentionSweeper } from '../store/retention-sweeper.js';
 import { QueueLinker } from './linker.js';
 import { AnalysisWorker } from './worker.js';
 
@@ -60,10 +61,14 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
   const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger });
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');
+  // Retention is the lease holder's job, so one process per partition erases.
+  const sweeper = new RetentionSweeper({ store: runtime.store, textDays: config.retention.textDays, logger });
+  await sweeper.start();
   return {
     linker,
     runtime,
     async stop() {
+      await sweeper.stop();
       await linker.stop();
       redis.disconnect();
       await runtime.close();

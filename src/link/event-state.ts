@@ -197,10 +197,14 @@ export function toRecord(e: EventState): EventRecord {
   };
 }
 
-/** Binary form: a JSON header (everything but the centroid), then the centroid arrays. */
+/**
+ * Binary form: a JSON header (everything but the centroid), then the centroid arrays. The
+ * label is left out: it is a sentence of text, which the store keeps in one place so that
+ * erasing the text erases it (the store's label is the one shown and notified).
+ */
 export function serialiseEvent(e: EventState): Buffer {
   const header = Buffer.from(JSON.stringify({
-    id: e.id, label: e.label, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
+    id: e.id, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
     explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version,
     participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
     sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
@@ -222,7 +226,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   const b = Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
-    id: string; label: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
+    id: string; label?: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
     mentionCount: number; version: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
     outlets: [string, [number, number]][]; sparse: number; dense: number;
   };
@@ -237,7 +241,8 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
     for (let i = 0; i < h.dense; i++) { dense[i] = b.readDoubleLE(at); at += 8; }
   }
   return {
-    id: h.id, label: h.label, firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
+    // States written before labels left the header still carry one.
+    id: h.id, label: h.label ?? '', firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
     explicitTime: h.explicitTime, sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
     participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
   };

@@ -5,6 +5,9 @@
  */
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 
+/** The label of an event whose every sentence has had its text erased. */
+export const ERASED_LABEL = '(text erased under the retention policy)';
+
 /** One sentence as committed, with its event-ness. */
 export interface StoredSentence {
   index: number;
@@ -256,6 +259,12 @@ export interface Store {
   splitsOf(eventId: string): Promise<SplitRecord[]>;
   /** Events linked from the last `articles` stored articles (consolidation's working set). */
   recentEventIds(articles: number): Promise<string[]>;
+  /**
+   * The stored labels of these events (ids not stored are left out). The store owns
+   * labels: erasing text relabels events, so notifications read labels here rather than
+   * from the linker's memory.
+   */
+  eventLabels(ids: readonly string[]): Promise<Map<string, string>>;
   /** The event an absorbed event now lives in (following chains), or null. */
   mergedInto(id: string): Promise<string | null>;
   /** Merges into an event, oldest first. */
@@ -289,5 +298,11 @@ export interface Store {
   eraseTextBefore(day: string): Promise<number>;
   /** Erases one article's stored text (body, sentences, labels drawn from them); links stay. */
   eraseArticleText(id: string): Promise<boolean>;
+  /**
+   * Rewrites storage so that text erased so far leaves the disk too, not only the records
+   * (a database keeps stale copies in free space until it is rebuilt). Costs time in
+   * proportion to the store's size; callers run it after erasures, not after every one.
+   */
+  compact(): Promise<void>;
   close(): Promise<void>;
 }

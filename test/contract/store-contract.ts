@@ -6,7 +6,7 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import { addMention, deserialiseEvent, mergeStates, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
-import type { ArticleCommit, Store } from '../../src/store/store.js';
+import type { ArticleCommit, OutboxMessage, Store } from '../../src/store/store.js';
 
 const embedder = new TfidfEmbedder(16);
 
@@ -163,7 +163,8 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(snap.idf.docs).toBe(4);
       expect(new Map(snap.idf.df)).toEqual(new Map([[7, 2], [9, 4]]));
       expect(snap.events.map((b) => deserialiseEvent(b).id).sort()).toEqual([event.id, 'ev_a2'].sort());
-      expect(snap.events.map(deserialiseEvent).find((e) => e.id === event.id)).toEqual(event);
+      // Everything but the label, which the store keeps with the event record only.
+      expect(snap.events.map(deserialiseEvent).find((e) => e.id === event.id)).toEqual({ ...event, label: '' });
     });
 
     it('queues webhook deliveries with the commit and records attempts, down to the dead-letter list', async () => {
@@ -312,6 +313,51 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.eraseArticleText('a2')).toBe(true);
       expect((await store.getEvent(first.event.id))!.event.label).toMatch(/erased/);
       expect(await store.eraseArticleText('missing')).toBe(false);
+    });
+
+    it('leaves no copy of erased text in notifications, linker states or later commits', async () => {
+      const secret = 'The Dunvessel levee failed at night.';
+      const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', secret);
+      const a2 = article('a2', 'P', '2026-10-20T10:00:00.000Z', 'The levee was rebuilt.');
+      const message = (id: string, type: string, data: object): OutboxMessage => ({ id, type, body: JSON.stringify({ type, timestamp: '2026-10-20T10:00:00.000Z', data }), created: '2026-10-20T10:00:00.000Z', subscribers: ['desk'] });
+      const first = commitFor(a1, secret, null);
+      // A state as earlier versions wrote it, with the label in its header.
+      const legacy = Buffer.from(serialiseEvent(first.event));
+      const header = JSON.parse(legacy.subarray(4, 4 + legacy.readUInt32LE(0)).toString('utf8')) as Record<string, unknown>;
+      const withLabel = Buffer.from(JSON.stringify({ id: header.id, label: secret, ...header }));
+      const legacyState = Buffer.concat([Buffer.alloc(4), withLabel, legacy.subarray(4 + legacy.readUInt32LE(0))]);
+      legacyState.writeUInt32LE(withLabel.length, 0);
+      await store.commitArticle({
+        ...first.commit,
+        events: [{ ...first.commit.events[0]!, state: legacyState }],
+        messages: [message('msg_opened', 'event.opened', { event: { id: first.event.id, label: secret }, mention: { article: 'a1', sentence: 0, text: secret } })],
+      });
+      // The linker's memory still holds the first label when the second article joins.
+      const joined = commitFor(a2, 'The levee was rebuilt.', deserialiseEvent(serialiseEvent(first.event)));
+      joined.event.label = secret;
+      await store.commitArticle({
+        ...joined.commit,
+        messages: [message('msg_outlet', 'event.outlet_added', { event: { id: first.event.id, label: secret }, outlet: 'P', mention: { article: 'a2', sentence: 0, text: 'The levee was rebuilt.' } })],
+      });
+      expect(await store.eraseTextBefore('2026-10-10')).toBe(1);
+
+      const bodies = (await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).map((d) => d.body);
+      expect(bodies).toHaveLength(2);
+      expect(bodies.filter((b) => b.includes('Dunvessel'))).toEqual([]);
+      const opened = JSON.parse(bodies.find((b) => b.includes('event.opened'))!) as { data: { event: { label: string }; mention: { text: string | null } } };
+      expect(opened.data.mention.text).toBeNull();
+      expect(opened.data.event.label).toBe('The levee was rebuilt.');
+      expect(bodies.find((b) => b.includes('event.outlet_added'))).toContain('"text":"The levee was rebuilt."');
+      const states = (await store.loadLinkerState()).events;
+      expect(states.filter((s) => Buffer.from(s).toString('utf8').includes('Dunvessel'))).toEqual([]);
+      expect(states.map((s) => deserialiseEvent(s).label)).toEqual(['']);
+
+      // A linker that still remembers the erased label cannot write it back.
+      const later = commitFor(article('a3', 'Q', '2026-10-21T10:00:00.000Z', 'Repairs went on.'), 'Repairs went on.', deserialiseEvent(serialiseEvent(joined.event)));
+      later.event.label = secret;
+      await store.commitArticle({ ...later.commit, events: [{ ...later.commit.events[0]!, record: toRecord(later.event) }] });
+      expect((await store.getEvent(first.event.id))!.event.label).toBe('The levee was rebuilt.');
+      expect(await store.eventLabels([first.event.id, 'ev_missing'])).toEqual(new Map([[first.event.id, 'The levee was rebuilt.']]));
     });
   });
 }

@@ -1,8 +1,9 @@
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import Database from 'better-sqlite3';
 import { describe, expect, it } from 'vitest';
 
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -46,6 +47,28 @@ describe('the command line', () => {
     const r = run('consolidate', '--db', db, '--log-level', 'silent');
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/^examined \d+ event\(s\); merged \d+/);
+  });
+
+  it('erases text on the operator\'s say and compacts the file, so none of it stays on disk', () => {
+    const db = join(mkdtempSync(join(tmpdir(), 'strandline-forget-')), 'store.sqlite');
+    expect(run('replay', 'demo-feed/feeds', '--db', db, '--no-progress', '--log-level', 'silent').status).toBe(0);
+    const read = new Database(db, { readonly: true });
+    const days = read.prepare("SELECT DISTINCT substr(coalesce(published, fetched), 1, 10) FROM articles ORDER BY 1").pluck().all() as string[];
+    const cutoff = days[Math.floor(days.length / 2)]!;
+    const textsWhere = (op: string) => read.prepare(`SELECT s.text FROM sentences s JOIN articles a ON a.id = s.article_id
+      WHERE substr(coalesce(a.published, a.fetched), 1, 10) ${op} ? AND length(s.text) >= 60`).pluck().all(cutoff) as string[];
+    // Sentences a kept article also has (copies, repeated background) rightly stay.
+    const kept = new Set(textsWhere('>='));
+    const erased = textsWhere('<').filter((t) => !kept.has(t));
+    const articles = read.prepare('SELECT count(*) FROM articles WHERE substr(coalesce(published, fetched), 1, 10) < ?').pluck().get(cutoff) as number;
+    read.close();
+    expect(erased.length).toBeGreaterThan(20);
+    const r = run('forget', '--before', cutoff, '--db', db, '--log-level', 'silent');
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toContain(`erased the text of ${articles} article(s) published before ${cutoff}`);
+    expect(r.stdout).toContain('store compacted');
+    const disk = ['', '-wal'].map((x) => (existsSync(db + x) ? readFileSync(db + x).toString('utf8') : '')).join('');
+    expect(erased.filter((t) => disk.includes(t))).toEqual([]);
   });
 
   it('refuses an invalid configuration file before doing anything', () => {

@@ -1,4 +1,4 @@
-import { copyFileSync, mkdtempSync, rmSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
@@ -6,6 +6,9 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 import { startWalCheckpointer } from '../../src/store/sqlite/wal-checkpointer.js';
 import type { ArticleCommit } from '../../src/store/store.js';
+import { DEMO_FEEDS } from '../../src/cli/common.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 const dirs: string[] = [];
 function scratch(): string {
@@ -70,5 +73,50 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     await store.close();
     const onDisk = openSqliteStore(join(scratch(), 'store.sqlite'));
     await onDisk.close();
+  });
+});
+
+describe('erasing text from the SQLite store, then compacting it', () => {
+  it('leaves no copy of the erased text in the database file or its log', async () => {
+    const dir = scratch();
+    const path = join(dir, 'store.sqlite');
+    const store = openSqliteStore(path);
+    const marker = 'Quillborough-Varnstead-ferry-collision-witness-statement';
+    const commit = article(1);
+    commit.article.text = `${marker} `.repeat(400);
+    await store.commitArticle(commit);
+    for (let i = 2; i < 20; i++) await store.commitArticle(article(i));
+    expect(await store.eraseArticleText('a1')).toBe(true);
+    await store.compact();
+    const bytesOnDisk = (): string => ['', '-wal'].map((s) => (existsSync(path + s) ? readFileSync(path + s).toString('latin1') : '')).join('');
+    // While the store is still open, and after it is closed.
+    expect(bytesOnDisk().includes(marker)).toBe(false);
+    await store.close();
+    expect(bytesOnDisk().includes(marker)).toBe(false);
+  });
+});
+
+describe('erasing demo articles after a replay into a SQLite file', () => {
+  it('leaves none of their sentences anywhere on disk, while the other articles keep theirs', async () => {
+    const dir = scratch();
+    const path = join(dir, 'store.sqlite');
+    const rt = await testRuntime({}, path);
+    const articles = (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles;
+    await runArticles(rt, articles);
+    const sentencesOf = async (id: string) => ((await rt.store.getArticle(id))?.sentences ?? []).map((s) => s.text ?? '').filter((t) => t.length >= 60);
+    // Articles published before the middle day go (the retention path); the rest stay.
+    const days = articles.map((a) => (a.published ?? a.fetched).slice(0, 10)).sort();
+    const cutoff = days[Math.floor(days.length / 2)]!;
+    const before = articles.filter((a) => (a.published ?? a.fetched).slice(0, 10) < cutoff);
+    const after = articles.filter((a) => (a.published ?? a.fetched).slice(0, 10) >= cutoff);
+    const erased = (await Promise.all(before.map((a) => sentencesOf(a.id)))).flat();
+    const kept = (await Promise.all(after.map((a) => sentencesOf(a.id)))).flat();
+    expect(erased.length).toBeGreaterThan(20);
+    expect(await rt.store.eraseTextBefore(cutoff)).toBe(before.length);
+    await rt.store.compact();
+    await rt.close();
+    const disk = ['', '-wal'].map((s) => (existsSync(path + s) ? readFileSync(path + s).toString('utf8') : '')).join('');
+    for (const text of erased) expect(disk.includes(text), text).toBe(false);
+    expect(kept.some((t) => disk.includes(t))).toBe(true);
   });
 });

@@ -17,6 +17,7 @@ import type { Nlp } from '../../src/text/nlp.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { redisTestsRun } from '../helpers/redis.js';
 import { testConfig } from '../helpers/runtime.js';
+import { commitFixture } from '../contract/store-contract.js';
 
 const run = redisTestsRun();
 const REDIS_URL = 'redis://127.0.0.1:6379';
@@ -159,6 +160,22 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
       await linker.stop();
       redis.disconnect();
       await runtime.close();
+    }
+  });
+
+  it('has the linker, the lease holder, apply retention.textDays when it starts', async () => {
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    const old = commitFixture('old-report');
+    await store.commitArticle({ ...old, article: { ...old.article, published: '2020-01-06T08:00:00.000Z' } });
+    const recent = commitFixture('new-report');
+    await store.commitArticle({ ...recent, article: { ...recent.article, published: new Date().toISOString() } });
+    const linking = await startLinker({ ...config, retention: { textDays: 30 } }, silent);
+    try {
+      expect((await store.getArticle('old-report'))!.article.text).toBeNull();
+      expect((await store.getArticle('new-report'))!.article.text).not.toBeNull();
+    } finally {
+      await linking.stop();
+      await store.close();
     }
   });
 

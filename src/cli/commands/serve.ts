@@ -15,7 +15,7 @@ import type { Article } from '../../records.js';
 import type { Store } from '../../store/store.js';
 import { createRuntime } from '../../runtime.js';
 import { openStore } from '../../store/open-store.js';
-import { addDays, dayOf } from '../../text/days.js';
+import { RetentionSweeper } from '../../store/retention-sweeper.js';
 import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
 import { formatSummary, runFeeds } from '../run-feeds.js';
 
@@ -27,8 +27,6 @@ export interface ServeOptions extends CommonOptions {
   host?: string;
   port?: number;
 }
-
-const RETENTION_SWEEP_MS = 60 * 60_000;
 
 /** Serves until SIGINT/SIGTERM; resolves with the exit code. */
 export async function serveCommand(opts: ServeOptions): Promise<number> {
@@ -55,14 +53,8 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
 
   const dispatcher = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
   dispatcher.start();
-  const sweep = async (): Promise<void> => {
-    if (config.retention.textDays === null) return;
-    const erased = await rt.store.eraseTextBefore(addDays(dayOf(new Date()), -config.retention.textDays));
-    if (erased) logger.info({ erased }, 'retention: erased text of old articles');
-  };
-  await sweep();
-  const sweeper = setInterval(() => void sweep(), RETENTION_SWEEP_MS);
-  sweeper.unref();
+  const sweeper = new RetentionSweeper({ store: rt.store, textDays: config.retention.textDays, logger });
+  await sweeper.start();
 
   const abort = new AbortController();
   const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
@@ -87,7 +79,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   await untilSignal();
   process.stdout.write('stopping…\n');
   abort.abort();
-  clearInterval(sweeper);
+  await sweeper.stop();
   await replay;
   await poller?.stop();
   await intake.idle();

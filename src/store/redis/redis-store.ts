@@ -20,13 +20,13 @@ import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
+import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
 
 /** The label an event takes when the text it was labelled with is erased and no other text remains. */
-const ERASED_LABEL = '(text erased under the retention policy)';
 /** Reads per pipeline round trip. */
 const CHUNK = 500;
 
@@ -182,6 +182,11 @@ export class RedisStore implements Store {
       const r = JSON.parse(rec) as Omit<SplitRecord, 'into'>;
       return [{ from: r.from, into, mentions: r.mentions, score: r.score, at: r.at }];
     }).sort((a, b) => cmp(a.at, b.at) || cmp(a.into, b.into));
+  }
+
+  async eventLabels(ids: readonly string[]): Promise<Map<string, string>> {
+    const labels = ids.length ? await this.pipelined(ids, (p, id) => p.hget(this.k.event(id), 'label')) as (string | null)[] : [];
+    return new Map(ids.flatMap((id, i) => (labels[i] == null ? [] : [[id, labels[i]!] as [string, string]])));
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
@@ -360,6 +365,13 @@ export class RedisStore implements Store {
     return (await this.scripts.eraseArticle(this.k.counts, this.k.prefix, id, ERASED_LABEL)) !== 0;
   }
 
+  /**
+   * Nothing to do in memory: erased fields are gone from Redis at once. Its persistence
+   * files (RDB snapshots, the append-only file) keep old values until they are rewritten,
+   * which the Redis operator schedules (BGSAVE, BGREWRITEAOF).
+   */
+  async compact(): Promise<void> {}
+
   /** Deletes every key of this partition (tests and decommissioning; not part of the contract). */
   async dropPartition(): Promise<number> {
     return deleteMatching(this.redis, this.k.pattern);
@@ -436,8 +448,19 @@ function eventPayload(e: EventUpdate, states: Buffer[]): { id: string; record: s
 function messagePayload(messages: readonly OutboxMessage[]): object[] {
   return messages.map((m) => ({
     id: m.id, type: m.type, body: m.body, created: m.created, subscribers: m.subscribers, dueAt: Date.parse(m.created),
+    ...namedIn(m.body),
     delivery: JSON.stringify({ status: 'pending', attempts: 0, nextAt: m.created, lastError: null }),
   }));
+}
+
+/** The articles and events a message names (its mention's article; each event record's id), for erasure. */
+function namedIn(body: string): { articles: string[]; events: string[] } {
+  const data = (JSON.parse(body) as { data?: Record<string, { id?: unknown; article?: unknown } | null> }).data ?? {};
+  const parts = Object.values(data).filter((p): p is { id?: unknown; article?: unknown } => p !== null && typeof p === 'object');
+  return {
+    articles: parts.flatMap((p) => (typeof p.article === 'string' ? [p.article] : [])),
+    events: parts.flatMap((p) => (typeof p.id === 'string' && p.id.startsWith('ev_') ? [p.id] : [])),
+  };
 }
 
 function parseMerge(from: string, rec: string): MergeRecord {

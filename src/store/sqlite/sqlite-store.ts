@@ -14,6 +14,8 @@ import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
+import { ERASED_LABEL } from '../store.js';
+import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { MIGRATIONS } from './schema.js';
@@ -47,6 +49,9 @@ export function openSqliteStore(path: string, options: SqliteStoreOptions = {}):
     db.pragma('cache_size = -65536');
     // After a checkpoint that let the log start over, its file is cut back to this size.
     db.pragma('journal_size_limit = 67108864');
+    // Zero what is freed within a page (no extra writes), so text erased later leaves no
+    // stale copy behind in pages that rows moved out of when they were reorganised.
+    db.pragma('secure_delete = FAST');
     migrate(db);
   } catch (err) {
     throw new StrandError('STRAND_STORE_FAILED', `cannot open SQLite store at ${path}: ${(err as Error).message}`, { cause: err });
@@ -76,6 +81,7 @@ export class SqliteStore implements Store {
   constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY, private readonly checkpointer?: WalCheckpointer) {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
+      eventLabel: db.prepare('SELECT label FROM events WHERE id = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
       insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url)
@@ -86,7 +92,7 @@ export class SqliteStore implements Store {
       insLink: db.prepare('INSERT INTO links (article_id, sentence_idx, event_id, score, rank, evidence) VALUES (?, ?, ?, ?, ?, ?)'),
       upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state)
         VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state)
-        ON CONFLICT(id) DO UPDATE SET label = excluded.label, first_seen = excluded.first_seen, last_seen = excluded.last_seen,
+        ON CONFLICT(id) DO UPDATE SET first_seen = excluded.first_seen, last_seen = excluded.last_seen,
           time_start = excluded.time_start, time_end = excluded.time_end, participants = excluded.participants, places = excluded.places,
           mention_count = excluded.mention_count, version = excluded.version, state = excluded.state`),
       delOutlets: db.prepare('DELETE FROM event_outlets WHERE event_id = ?'),
@@ -289,6 +295,15 @@ export class SqliteStore implements Store {
       .map((r) => ({ from: r.from_id as string, into: r.into_id as string, mentions: r.mentions as number, score: r.score as number, at: r.at as string }));
   }
 
+  async eventLabels(ids: readonly string[]): Promise<Map<string, string>> {
+    const out = new Map<string, string>();
+    for (const id of ids) {
+      const label = this.st.eventLabel.get(id) as string | undefined;
+      if (label !== undefined) out.set(id, label);
+    }
+    return out;
+  }
+
   async recentEventIds(articles: number): Promise<string[]> {
     return this.db.prepare(`SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
       ORDER BY l.event_id`).pluck().all(articles) as string[];
@@ -436,36 +451,111 @@ export class SqliteStore implements Store {
 
   async eraseTextBefore(day: string): Promise<number> {
     const ids = this.db.prepare('SELECT id FROM articles WHERE coalesce(published, fetched) < ? AND text IS NOT NULL').pluck().all(day) as string[];
-    const tx = this.db.transaction(() => { for (const id of ids) this.eraseInTx(id); });
-    tx();
+    if (ids.length > 0) this.eraseSecurely(ids);
     return ids.length;
   }
 
   async eraseArticleText(id: string): Promise<boolean> {
     if (this.st.hasArticle.get(id) === undefined) return false;
-    this.db.transaction(() => this.eraseInTx(id))();
+    this.eraseSecurely([id]);
     return true;
   }
 
-  private eraseInTx(id: string): void {
+  /**
+   * Erases the articles' text in one transaction with full secure_delete, which zeroes the
+   * cells and overflow pages it frees (on for the erasure only: it costs writes). Copies of
+   * the text that page splits left in unused page space earlier stay until compact().
+   */
+  private eraseSecurely(ids: readonly string[]): void {
+    this.db.pragma('secure_delete = ON');
+    try {
+      this.db.transaction(() => {
+        const relabelled = new Map<string, string>();
+        const erasedTexts = new Set<string>();
+        for (const id of ids) this.eraseInTx(id, relabelled, erasedTexts);
+        this.scrubOutbox(new Set(ids), relabelled, erasedTexts);
+      })();
+    } finally {
+      this.db.pragma('secure_delete = FAST');
+    }
+  }
+
+  /** Erases one article's text; records each label it replaced (old label -> new one) and the sentences erased. */
+  private eraseInTx(id: string, relabelled: Map<string, string>, erasedTexts: Set<string>): void {
     const db = this.db;
     // Labels are drawn from sentences: an event labelled by an erased sentence takes the
     // text of its earliest remaining mention, or a placeholder.
     const erased = db.prepare('SELECT text FROM sentences WHERE article_id = ? AND text IS NOT NULL').pluck().all(id) as string[];
+    for (const t of erased) erasedTexts.add(t);
     db.prepare('UPDATE articles SET text = NULL WHERE id = ?').run(id);
     db.prepare('UPDATE sentences SET text = NULL WHERE article_id = ?').run(id);
     // A TF-IDF vector is a bag of the sentence's (hashed) words, a sketch one of its
     // phrases: they go with the text.
     db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
     db.prepare('UPDATE articles SET sketch = NULL WHERE id = ?').run(id);
-    const events = db.prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
+    const events = db.prepare('SELECT DISTINCT e.id, e.label, e.state FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {
-      if (!erasedSet.has(e.label as string) && ![...erasedSet].some((t) => t.startsWith((e.label as string).replace(/…$/, '')))) continue;
+      // Linker states written before labels left them carry a label in their header.
+      const state = deserialiseEvent(e.state as Buffer);
+      if (state.label !== '') db.prepare('UPDATE events SET state = ? WHERE id = ?').run(serialiseEvent({ ...state, label: '' }), e.id);
+      const label = e.label as string;
+      if (!drawnFrom(label, erasedSet)) continue;
       const next = db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
         WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck().get(e.id) as string | undefined;
-      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(next ?? '(text erased under the retention policy)', e.id);
+      const now = next ?? ERASED_LABEL;
+      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(now, e.id);
+      // Labels set earlier in this erasure may be erased again: notifications get the last.
+      for (const [was, became] of relabelled) if (became === label) relabelled.set(was, now);
+      relabelled.set(label, now);
+    }
+  }
+
+  /**
+   * Notifications keep copies of sentences and labels: in one pass over the outbox, the
+   * erased articles' sentence text goes (null) and replaced labels take their new value,
+   * in messages still to deliver and in those delivered alike.
+   */
+  private scrubOutbox(articles: ReadonlySet<string>, relabelled: ReadonlyMap<string, string>, erasedTexts: ReadonlySet<string>): void {
+    const changes: [string, string][] = [];
+    // An event since merged away kept its old label in its notifications: it takes the
+    // label of the event it went into.
+    const storedLabel = (eventId: string | undefined): string => {
+      if (eventId === undefined) return ERASED_LABEL;
+      const into = (this.db.prepare('SELECT into_id FROM merges WHERE from_id = ?').pluck().get(eventId) as string | undefined) ?? eventId;
+      return (this.st.eventLabel.get(into) as string | undefined) ?? ERASED_LABEL;
+    };
+    for (const row of this.db.prepare('SELECT id, body FROM outbox').iterate() as Iterable<{ id: string; body: string }>) {
+      const body = JSON.parse(row.body) as { data?: Record<string, { id?: string; article?: string; text?: string | null; label?: string } | undefined> };
+      let changed = false;
+      for (const part of Object.values(body.data ?? {})) {
+        if (!part || typeof part !== 'object') continue;
+        if (part.article !== undefined && articles.has(part.article) && part.text != null) {
+          part.text = null;
+          changed = true;
+        }
+        if (typeof part.label !== 'string') continue;
+        const label = relabelled.get(part.label) ?? (drawnFrom(part.label, erasedTexts) ? storedLabel(part.id) : undefined);
+        if (label !== undefined && label !== part.label) {
+          part.label = label;
+          changed = true;
+        }
+      }
+      if (changed) changes.push([JSON.stringify(body), row.id]);
+    }
+    // Written after the read: a connection cannot write while it iterates.
+    const update = this.db.prepare('UPDATE outbox SET body = ? WHERE id = ?');
+    for (const [body, id] of changes) update.run(body, id);
+  }
+
+  /** VACUUM rebuilds every page; the TRUNCATE checkpoint then empties the log of the old ones. */
+  async compact(): Promise<void> {
+    try {
+      this.db.exec('VACUUM');
+      this.db.pragma('wal_checkpoint(TRUNCATE)');
+    } catch (err) {
+      throw new StrandError('STRAND_STORE_FAILED', `cannot compact the SQLite store: ${(err as Error).message}`, { cause: err });
     }
   }
 
@@ -473,6 +563,15 @@ export class SqliteStore implements Store {
     await this.checkpointer?.stop();
     if (this.db.open) this.db.close();
   }
+}
+
+/** Whether a label is one of these sentences, or one cut short (ending in an ellipsis). */
+function drawnFrom(label: string, sentences: ReadonlySet<string>): boolean {
+  if (sentences.has(label)) return true;
+  if (!label.endsWith('…')) return false;
+  const stem = label.slice(0, -1);
+  for (const t of sentences) if (t.startsWith(stem)) return true;
+  return false;
 }
 
 /** Per-article document-frequency rows folded into the snapshot this often. */

@@ -29,6 +29,13 @@ for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. from)) do
   end
 end
 redis.call('DEL', P .. ':event-links:' .. from)
+-- The absorbed event's notifications follow it, so that erasing text still finds them.
+local fromMessages = P .. ':event-messages:' .. from
+if redis.call('EXISTS', fromMessages) == 1 then
+  local intoMessages = P .. ':event-messages:' .. into
+  redis.call('SUNIONSTORE', intoMessages, intoMessages, fromMessages)
+  redis.call('DEL', fromMessages)
+end
 if redis.call('DEL', P .. ':event:' .. from) == 1 then redis.call('HINCRBY', counts, 'events', -1) end
 redis.call('ZREM', P .. ':events', from)
 put_event(P, counts, m.into, ARGV[3])

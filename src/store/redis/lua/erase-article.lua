@@ -1,6 +1,7 @@
 -- erase-article: erases one article's stored text (body, sentences, mention vectors) and relabels the
 -- events whose label came from that text with their earliest remaining sentence, or a
--- placeholder. Links, mentions and events stay.
+-- placeholder; notifications lose the article's sentences and take the new labels, linker
+-- states lose labels written into them by earlier versions. Links, mentions and events stay.
 -- KEYS[1]  the partition's counts hash
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  the article id
@@ -24,28 +25,29 @@ for _, field in ipairs(redis.call('HKEYS', P .. ':links:' .. id)) do
   local _, ev = split(field)
   events[ev] = true
 end
+-- Notifications keep copies of the sentences: they go from this article's messages.
+rewrite_messages(P, P .. ':article-messages:' .. id, body_without_text)
 for ev in pairs(events) do
   local ek = P .. ':event:' .. ev
+  drop_state_label(ek)
   local label = redis.call('HGET', ek, 'label')
-  if label then
-    -- A label cut at its length ends in an ellipsis (U+2026, three bytes in UTF-8).
-    local stem = string.gsub(label, '\226\128\166$', '')
-    local drawn = false
-    for _, t in ipairs(erased) do
-      if t == label or string.sub(t, 1, #stem) == stem then drawn = true break end
-    end
-    if drawn then
-      local best, bestAt = nil, nil
-      for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
-        local article, idx = split(member)
-        local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
-        if t then
-          local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
-          if not bestAt or at < bestAt then best, bestAt = t, at end
-        end
+  if label and drawn_from(label, erased) then
+    local best, bestAt = nil, nil
+    for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
+      local article, idx = split(member)
+      local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
+      if t then
+        local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
+        if not bestAt or at < bestAt then best, bestAt = t, at end
       end
-      redis.call('HSET', ek, 'label', best or placeholder)
     end
+    label = best or placeholder
+    redis.call('HSET', ek, 'label', label)
+  end
+  -- Its notifications (those of events merged into it included) drop labels drawn from
+  -- the erased sentences for the label it has now.
+  if label then
+    rewrite_messages(P, P .. ':event-messages:' .. ev, function(body) return body_relabelled(body, erased, label) end)
   end
 end
 if had == 1 then return 2 end

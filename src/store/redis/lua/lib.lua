@@ -8,6 +8,9 @@ local function queue_messages(P, messages)
     local ok = P .. ':outbox:' .. msg.id
     if redis.call('EXISTS', ok) == 0 then
       redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created)
+      -- Indexed by the articles and events it names, so an erasure can find its copies.
+      for _, a in ipairs(msg.articles) do redis.call('SADD', P .. ':article-messages:' .. a, msg.id) end
+      for _, e in ipairs(msg.events) do redis.call('SADD', P .. ':event-messages:' .. e, msg.id) end
     end
     for _, sub in ipairs(msg.subscribers) do
       local dk = msg.id .. '\n' .. sub
@@ -18,10 +21,96 @@ local function queue_messages(P, messages)
   end
 end
 
--- Writes an event's record, label, outlets and linker state; counts it when new.
+-- Writes an event's record, outlets and linker state; counts it when new. The label is
+-- written only then: afterwards it changes only when text is erased (erase-article.lua),
+-- so a linker holding an older label cannot put erased text back.
 local function put_event(P, counts, e, state)
   local ek = P .. ':event:' .. e.id
-  if redis.call('EXISTS', ek) == 0 then redis.call('HINCRBY', counts, 'events', 1) end
-  redis.call('HSET', ek, 'record', e.record, 'label', e.label, 'outlets', e.outlets, 'state', state)
+  if redis.call('EXISTS', ek) == 0 then
+    redis.call('HINCRBY', counts, 'events', 1)
+    redis.call('HSET', ek, 'label', e.label)
+  end
+  redis.call('HSET', ek, 'record', e.record, 'outlets', e.outlets, 'state', state)
   redis.call('ZADD', P .. ':events', e.lastSeen, e.id)
+end
+
+-- The end (index of the closing quote) of the JSON string whose first character is at i.
+local function json_string_end(s, i)
+  while i <= #s do
+    local c = string.sub(s, i, i)
+    if c == '\\' then i = i + 2
+    elseif c == '"' then return i
+    else i = i + 1 end
+  end
+  return #s
+end
+
+-- A message body with every "text" string value replaced by null (a mention's sentence).
+local function body_without_text(body)
+  local out, at = {}, 1
+  while true do
+    local a, b = string.find(body, '"text":"', at, true)
+    if not a then break end
+    local e = json_string_end(body, b + 1)
+    table.insert(out, string.sub(body, at, a - 1) .. '"text":null')
+    at = e + 1
+  end
+  table.insert(out, string.sub(body, at))
+  return table.concat(out)
+end
+
+-- Whether a label is one of the sentences, or one cut short (ending in an ellipsis:
+-- U+2026, three bytes in UTF-8).
+local function drawn_from(label, sentences)
+  local stem, cut = string.gsub(label, '\226\128\166$', '')
+  for _, t in ipairs(sentences) do
+    if t == label or (cut > 0 and string.sub(t, 1, #stem) == stem) then return true end
+  end
+  return false
+end
+
+-- A message body with every "label" drawn from the erased sentences set to new.
+local function body_relabelled(body, erased, new)
+  local out, at = {}, 1
+  while true do
+    local a, b = string.find(body, '"label":"', at, true)
+    if not a then break end
+    local e = json_string_end(body, b + 1)
+    local value = cjson.decode(string.sub(body, b, e))
+    if drawn_from(value, erased) then
+      table.insert(out, string.sub(body, at, a - 1) .. '"label":' .. cjson.encode(new))
+    else
+      table.insert(out, string.sub(body, at, e))
+    end
+    at = e + 1
+  end
+  table.insert(out, string.sub(body, at))
+  return table.concat(out)
+end
+
+-- Rewrites the body of each message of a set with f.
+local function rewrite_messages(P, set, f)
+  for _, mid in ipairs(redis.call('SMEMBERS', set)) do
+    local mk = P .. ':outbox:' .. mid
+    local body = redis.call('HGET', mk, 'body')
+    if body then
+      local nb = f(body)
+      if nb ~= body then redis.call('HSET', mk, 'body', nb) end
+    end
+  end
+end
+
+-- Linker states written before labels left them carry the label in their JSON header
+-- (after a 4-byte little-endian length): it is cut out, the rest kept byte for byte.
+local function drop_state_label(ek)
+  local st = redis.call('HGET', ek, 'state')
+  if not st then return end
+  local hlen = struct.unpack('<I4', st)
+  local header = string.sub(st, 5, 4 + hlen)
+  local a, b = string.find(header, '"label":"', 1, true)
+  if not a then return end
+  local rest = string.sub(header, json_string_end(header, b + 1) + 1)
+  if string.sub(rest, 1, 1) == ',' then rest = string.sub(rest, 2) end
+  local nh = string.sub(header, 1, a - 1) .. rest
+  redis.call('HSET', ek, 'state', struct.pack('<I4', #nh) .. nh .. string.sub(st, 5 + hlen))
 end
