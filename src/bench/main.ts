@@ -41,7 +41,7 @@ import { type AnalysisPool, analysisThreads, startAnalysisPool } from '../text/a
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
-import { transformerThroughput } from './transformer-throughput.js';
+import type { TransformerRow } from './transformer-throughput.js';
 import { pollRounds } from './poll-rounds.js';
 import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
@@ -152,9 +152,9 @@ async function main(): Promise<void> {
   // --quick: the pipeline and polling rows only (seconds instead of about ten minutes).
   const quick = process.argv.includes('--quick');
   const polling = await pollRounds();
-  // Before the all-pairs baseline: its 20,000-mention matrices leave a heap that slows
-  // whatever is measured after them in this process.
-  const transformer = quick ? null : await transformerThroughput(await demoArticles());
+  // In a process of its own, like the link-scale rows: the heaps of the workloads measured
+  // here (and the all-pairs baseline's matrices) slowed whatever was measured after them.
+  const transformer: TransformerRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./transformer-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as TransformerRow;
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
   // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
