@@ -258,7 +258,7 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promis
     if (linked.some((l) => l.mention.vector === null)) continue;
     const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
     if (!plan) continue;
-    if (ctx.config.webhooks.subscribers.length > 0) await useStoredLabels(ctx, [plan.kept]);
+    await useStoredLabels(ctx, [plan.kept]);
     await ctx.store.commitSplit({
       from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
       into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
@@ -277,7 +277,7 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise
   const done: ArticleOutcome['merges'] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
     const merged = ctx.linker.mergedState(m.into, m.from);
-    if (ctx.config.webhooks.subscribers.length > 0) await useStoredLabels(ctx, [merged]);
+    await useStoredLabels(ctx, [merged]);
     const at = ctx.now().toISOString();
     await ctx.store.commitMerge({
       into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
@@ -297,7 +297,8 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise
  * text. The states are the linker's own, so its memory is brought up to date as well.
  */
 async function useStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
-  if (events.length === 0) return;
+  // Without subscribers nothing is notified, and commits never write an existing label.
+  if (events.length === 0 || ctx.config.webhooks.subscribers.length === 0) return;
   const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
   for (const e of events) {
     const label = labels.get(e.id);
@@ -331,10 +332,8 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       for (const e of p.plan.events) lastWriter.set(e.id, k);
     });
     const subscribers = ctx.config.webhooks.subscribers;
-    if (subscribers.length > 0) {
-      const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
-      await useStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
-    }
+    const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
+    await useStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
     const commits: ArticleCommit[] = batch.map((p, k) => ({
       ...p.commit,
       events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),

@@ -470,18 +470,17 @@ export class SqliteStore implements Store {
     this.db.pragma('secure_delete = ON');
     try {
       this.db.transaction(() => {
-        const relabelled = new Map<string, string>();
         const erasedTexts = new Set<string>();
-        for (const id of ids) this.eraseInTx(id, relabelled, erasedTexts);
-        this.scrubOutbox(new Set(ids), relabelled, erasedTexts);
+        for (const id of ids) this.eraseInTx(id, erasedTexts);
+        this.scrubOutbox(new Set(ids), erasedTexts);
       })();
     } finally {
       this.db.pragma('secure_delete = FAST');
     }
   }
 
-  /** Erases one article's text; records each label it replaced (old label -> new one) and the sentences erased. */
-  private eraseInTx(id: string, relabelled: Map<string, string>, erasedTexts: Set<string>): void {
+  /** Erases one article's text; adds the sentences erased to `erasedTexts`. */
+  private eraseInTx(id: string, erasedTexts: Set<string>): void {
     const db = this.db;
     // Labels are drawn from sentences: an event labelled by an erased sentence takes the
     // text of its earliest remaining mention, or a placeholder.
@@ -504,23 +503,19 @@ export class SqliteStore implements Store {
       const next = db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
         WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck().get(e.id) as string | undefined;
-      const now = next ?? ERASED_LABEL;
-      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(now, e.id);
-      // Labels set earlier in this erasure may be erased again: notifications get the last.
-      for (const [was, became] of relabelled) if (became === label) relabelled.set(was, now);
-      relabelled.set(label, now);
+      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(next ?? ERASED_LABEL, e.id);
     }
   }
 
   /**
    * Notifications keep copies of sentences and labels: in one pass over the outbox, the
-   * erased articles' sentence text goes (null) and replaced labels take their new value,
-   * in messages still to deliver and in those delivered alike.
+   * erased articles' sentence text goes (null) and a label drawn from an erased sentence
+   * takes the event's label as it now stands, in messages still to deliver and in those
+   * delivered alike.
    */
-  private scrubOutbox(articles: ReadonlySet<string>, relabelled: ReadonlyMap<string, string>, erasedTexts: ReadonlySet<string>): void {
+  private scrubOutbox(articles: ReadonlySet<string>, erasedTexts: ReadonlySet<string>): void {
     const changes: [string, string][] = [];
-    // An event since merged away kept its old label in its notifications: it takes the
-    // label of the event it went into.
+    // An event since merged away takes the label of the event it went into.
     const storedLabel = (eventId: string | undefined): string => {
       if (eventId === undefined) return ERASED_LABEL;
       const into = (this.db.prepare('SELECT into_id FROM merges WHERE from_id = ?').pluck().get(eventId) as string | undefined) ?? eventId;
@@ -536,9 +531,8 @@ export class SqliteStore implements Store {
           changed = true;
         }
         if (typeof part.label !== 'string') continue;
-        const label = relabelled.get(part.label) ?? (drawnFrom(part.label, erasedTexts) ? storedLabel(part.id) : undefined);
-        if (label !== undefined && label !== part.label) {
-          part.label = label;
+        if (drawnFrom(part.label, erasedTexts)) {
+          part.label = storedLabel(part.id);
           changed = true;
         }
       }
