@@ -1,6 +1,6 @@
 import { copyFileSync, existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import Database from 'better-sqlite3';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
@@ -68,11 +68,20 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     db.close();
   });
 
-  it('is not started for a store in memory, and a closed store leaves no thread behind', async () => {
-    const store = openSqliteStore(':memory:');
+  it('closes the thread\'s connection with the store: nothing else holds the file afterwards', async () => {
+    const path = join(scratch(), 'store.sqlite');
+    const store = openSqliteStore(path);
+    for (let i = 0; i < 5; i++) await store.commitArticle(article(i));
+    // The thread has its connection open once it has checkpointed.
+    const deadline = Date.now() + 10_000;
+    while (articlesInMainFile(path, dirname(path)) < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 50));
     await store.close();
-    const onDisk = openSqliteStore(join(scratch(), 'store.sqlite'));
-    await onDisk.close();
+    // Exclusive locking in WAL mode fails while any other connection has the file open.
+    const alone = new Database(path);
+    alone.pragma('busy_timeout = 0');
+    alone.pragma('locking_mode = EXCLUSIVE');
+    expect((alone.prepare('SELECT count(*) AS n FROM articles').get() as { n: number }).n).toBe(5);
+    alone.close();
   });
 });
 

@@ -516,9 +516,10 @@ export class SqliteStore implements Store {
   private scrubOutbox(articles: ReadonlySet<string>, erasedTexts: ReadonlySet<string>): void {
     const changes: [string, string][] = [];
     // An event since merged away takes the label of the event it went into.
+    const mergedInto = this.db.prepare('SELECT into_id FROM merges WHERE from_id = ?').pluck();
     const storedLabel = (eventId: string | undefined): string => {
       if (eventId === undefined) return ERASED_LABEL;
-      const into = (this.db.prepare('SELECT into_id FROM merges WHERE from_id = ?').pluck().get(eventId) as string | undefined) ?? eventId;
+      const into = (mergedInto.get(eventId) as string | undefined) ?? eventId;
       return (this.st.eventLabel.get(into) as string | undefined) ?? ERASED_LABEL;
     };
     for (const row of this.db.prepare('SELECT id, body FROM outbox').iterate() as Iterable<{ id: string; body: string }>) {

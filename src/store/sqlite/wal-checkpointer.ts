@@ -28,8 +28,10 @@ export function startWalCheckpointer(db: Database.Database, path: string, log?: 
   worker.unref();
   let stopped = false;
   const fallBack = (why: string): void => {
-    if (stopped || !db.open) return;
+    if (stopped) return;
+    // Marked stopped even with the connection closed, so stop() never waits for an exit that happened.
     stopped = true;
+    if (!db.open) return;
     db.pragma(`wal_autocheckpoint = ${AUTO_PAGES}`);
     log?.warn({ err: why }, 'SQLite checkpoint thread stopped; checkpointing on the main connection again');
   };
