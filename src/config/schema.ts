@@ -192,6 +192,12 @@ export const configSchema = z.strictObject({
   retention: z.strictObject({
     /** Days after which stored article and sentence text is erased (links and events stay). Default null: keep. */
     textDays: z.number().int().min(1).nullable().default(null),
+    /**
+     * Days a webhook notification is kept after its last delivery settled (delivered or
+     * dead-lettered); then it and its delivery records are deleted. Pending deliveries are
+     * never pruned. Default 30; null: keep for ever (the outbox then grows with the stream).
+     */
+    notificationDays: z.number().int().min(1).nullable().default(30),
   }).prefault({}),
   log: z.strictObject({
     /** pino level. Default info. Env STRANDLINE_LOG_LEVEL overrides. */

@@ -62,7 +62,7 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');
   // Retention is the lease holder's job, so one process per partition erases.
-  const sweeper = new RetentionSweeper({ store: runtime.store, textDays: config.retention.textDays, logger });
+  const sweeper = new RetentionSweeper({ store: runtime.store, textDays: config.retention.textDays, notificationDays: config.retention.notificationDays, logger });
   await sweeper.start();
   return {
     linker,

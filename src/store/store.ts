@@ -284,6 +284,13 @@ export interface Store {
   /** Deliveries that gave up. */
   deadLetters(limit: number): Promise<Delivery[]>;
   /**
+   * Deletes the delivery records settled (delivered or dead-lettered) before `before`, and
+   * each notification none of whose deliveries is left (notifications that had no
+   * subscriber too, once created before `before`). Pending deliveries and their
+   * notifications are never touched. Returns how many notifications left.
+   */
+  pruneNotifications(before: string): Promise<number>;
+  /**
    * MinHash sketches of the articles published (or fetched) within `days` before the newest
    * stored one, oldest first, with their time in ms (to rebuild the copy index).
    */

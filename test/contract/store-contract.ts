@@ -183,6 +183,31 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
     });
 
+    it('prunes notifications once every delivery settled before the cut-off, never a pending one', async () => {
+      const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      const body = (n: number) => `{"type":"event.opened","data":{"event":{"id":"ev_${n}"},"mention":{"article":"a1","sentence":0}}}`;
+      const messages = [1, 2, 3].map((n) => ({ id: `msg_${n}`, type: 'event.opened', body: body(n), created: '2026-10-05T10:00:00.000Z', subscribers: ['one', 'two'] }));
+      await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      const settle = (id: string, sub: string, status: 'delivered' | 'dead', at: string) => store.recordAttempt(id, sub, { status, attempts: 1, nextAt: at, error: status === 'dead' ? 'HTTP 500' : null });
+      await settle('msg_1', 'one', 'delivered', '2026-10-05T10:00:01.000Z');
+      await settle('msg_1', 'two', 'dead', '2026-10-05T16:00:00.000Z');
+      await settle('msg_2', 'one', 'delivered', '2026-10-05T10:00:01.000Z'); // 'two' still pending
+      await settle('msg_3', 'one', 'delivered', '2026-10-05T10:00:01.000Z');
+      await settle('msg_3', 'two', 'delivered', '2026-11-20T00:00:00.000Z'); // settled after the cut-off
+
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1);
+      expect(await store.deadLetters(10)).toEqual([]);
+      const due = await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10);
+      expect(due.map((d) => [d.messageId, d.subscriber, d.body])).toEqual([['msg_2', 'two', body(2)]]);
+      // Nothing left to prune until the rest settle; then all of it goes.
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(0);
+      await settle('msg_2', 'two', 'delivered', '2026-10-06T00:00:00.000Z');
+      expect(await store.pruneNotifications('2026-12-01T00:00:00.000Z')).toBe(2);
+      expect(await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).toEqual([]);
+      // Erasing the article afterwards finds no notification to rewrite and still works.
+      expect(await store.eraseArticleText('a1')).toBe(true);
+    });
+
     it('merges one event into another: links move, the absorbed event leaves, the merge is recorded', async () => {
       const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
       const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');

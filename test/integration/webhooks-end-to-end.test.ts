@@ -63,5 +63,12 @@ describe('feeds in, signed notifications out', () => {
     expect(JSON.parse(added.body).data).toMatchObject({ outlet: expect.any(String), mention: { score: expect.any(Number), evidence: expect.any(Object) }, note: expect.stringMatching(/machine suggestion/) });
     // The Courier's verbatim copy of the Northwire wire story is flagged as not independent.
     expect(received.some((r) => r.type === 'event.outlet_added' && JSON.parse(r.body).data.independent === false)).toBe(true);
+
+    // Delivered notifications stay in the outbox until notificationDays after delivery, then go.
+    const outbox = () => (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('SELECT count(*) FROM outbox').pluck().get();
+    expect(outbox()).toBe(received.length);
+    expect(await rt.store.pruneNotifications(new Date(Date.now() - 86_400_000).toISOString())).toBe(0);
+    expect(await rt.store.pruneNotifications(new Date(Date.now() + 1000).toISOString())).toBe(received.length);
+    expect(outbox()).toBe(0);
   });
 });

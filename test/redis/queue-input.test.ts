@@ -169,7 +169,7 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
     await store.commitArticle({ ...old, article: { ...old.article, published: '2020-01-06T08:00:00.000Z' } });
     const recent = commitFixture('new-report');
     await store.commitArticle({ ...recent, article: { ...recent.article, published: new Date().toISOString() } });
-    const linking = await startLinker({ ...config, retention: { textDays: 30 } }, silent);
+    const linking = await startLinker({ ...config, retention: { textDays: 30, notificationDays: null } }, silent);
     try {
       expect((await store.getArticle('old-report'))!.article.text).toBeNull();
       expect((await store.getArticle('new-report'))!.article.text).not.toBeNull();

@@ -25,6 +25,42 @@ describe.skipIf(!run)('the Redis store', () => {
       await store.close();
     }
   });
+
+  it('prunes notifications settled before pruning existed, messages without a subscriber list, and their erasure-index entries', async () => {
+    const store = await freshStore();
+    const redis = (store as unknown as { redis: import('ioredis').Redis }).redis;
+    const k = store.keys;
+    try {
+      const body = '{"type":"event.opened","data":{"event":{"id":"ev_1"},"mention":{"article":"a1","sentence":0}}}';
+      await store.commitArticle({ ...commitFixture('a1'), messages: [{ id: 'msg_1', type: 'event.opened', body, created: '2026-10-05T10:00:00.000Z', subscribers: ['one'] }] });
+      expect(await redis.smembers(`${k.prefix}:article-messages:a1`)).toEqual(['msg_1']);
+      // As an earlier version left it: delivered with no entry in the settled index, no subscriber list.
+      await redis.hset(k.deliveries, 'msg_1\none', JSON.stringify({ status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', lastError: null }));
+      await redis.zrem(k.due, 'msg_1\none');
+      await redis.hdel(k.outbox('msg_1'), 'subscribers');
+
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1);
+      expect(await redis.exists(k.outbox('msg_1'), `${k.prefix}:article-messages:a1`, `${k.prefix}:event-messages:ev_1`)).toBe(0);
+      expect(await redis.hlen(k.deliveries)).toBe(0);
+      expect(await redis.zcard(k.settled)).toBe(0);
+    } finally {
+      await store.close();
+    }
+  });
+
+  it('prunes in batches: thousands of settled deliveries go in one call', async () => {
+    const store = await freshStore();
+    const redis = (store as unknown as { redis: import('ioredis').Redis }).redis;
+    try {
+      const messages = Array.from({ length: 1200 }, (_, i) => ({ id: `msg_${i}`, type: 'event.opened', body: '{"type":"event.opened","data":{}}', created: '2026-10-05T10:00:00.000Z', subscribers: ['one'] }));
+      await store.commitArticle({ ...commitFixture('a1'), messages });
+      for (const m of messages) await store.recordAttempt(m.id, 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1200);
+      expect(await redis.hlen(store.keys.deliveries)).toBe(0);
+    } finally {
+      await store.close();
+    }
+  });
 });
 
 describe('Redis store set-up', () => {

@@ -71,6 +71,8 @@ describe('configuration', () => {
     ['a poll interval under 30 s', '{"poll": {"intervalSeconds": 1}}', 'STRAND_CONFIG_INVALID', /poll\.intervalSeconds/],
     ['a copy threshold over 1', '{"copies": {"nearThreshold": 2}}', 'STRAND_CONFIG_INVALID', /copies\.nearThreshold/],
     ['a negative thread count', '{"analysis": {"threads": -1}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
+    ['a fractional notification retention', '{"retention": {"notificationDays": 0.5}}', 'STRAND_CONFIG_INVALID', /retention\.notificationDays/],
+    ['a zero notification retention', '{"retention": {"notificationDays": 0}}', 'STRAND_CONFIG_INVALID', /retention\.notificationDays/],
     ['a thread count in words', '{"analysis": {"threads": "many"}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],
     ['a webhook URL that is not http(s)', '{"webhooks": {"subscribers": [{"name": "a", "url": "file:///etc/passwd", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}]}}', 'STRAND_CONFIG_INVALID', /url/],
@@ -96,5 +98,10 @@ describe('configuration', () => {
 
   it('validates an object given directly', () => {
     expect(parseConfig({}).detect.threshold).toBe(0.5);
+  });
+
+  it('keeps settled notifications 30 days unless told otherwise, and for ever when told null', () => {
+    expect(parseConfig({}).retention.notificationDays).toBe(30);
+    expect(parseConfig({ retention: { notificationDays: null } }).retention.notificationDays).toBeNull();
   });
 });

@@ -53,7 +53,7 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
 
   const dispatcher = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
   dispatcher.start();
-  const sweeper = new RetentionSweeper({ store: rt.store, textDays: config.retention.textDays, logger });
+  const sweeper = new RetentionSweeper({ store: rt.store, textDays: config.retention.textDays, notificationDays: config.retention.notificationDays, logger });
   await sweeper.start();
 
   const abort = new AbortController();

@@ -38,6 +38,9 @@ export interface Keyspace {
   readonly deliveries: string;
   readonly due: string;
   readonly dead: string;
+  /** Sorted set of delivered and dead deliveries by when they settled (for pruning); a flag once older ones are in it. */
+  readonly settled: string;
+  readonly settledIndexed: string;
   article(id: string): string;
   sentences(articleId: string): string;
   sentenceText(articleId: string): string;
@@ -95,6 +98,8 @@ export function keyspace(partition: string): Keyspace {
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,
     dead: `${p}:dead`,
+    settled: `${p}:settled`,
+    settledIndexed: `${p}:settled-indexed`,
     article: (id) => `${p}:article:${id}`,
     sentences: (id) => `${p}:sentences:${id}`,
     sentenceText: (id) => `${p}:sentence-text:${id}`,

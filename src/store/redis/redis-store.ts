@@ -29,6 +29,8 @@ import { defineScript } from './scripts.js';
 /** The label an event takes when the text it was labelled with is erased and no other text remains. */
 /** Reads per pipeline round trip. */
 const CHUNK = 500;
+/** Deliveries one pruning script call removes at most. */
+const PRUNE_BATCH = 500;
 
 type Script = (key: string, ...args: (string | Buffer | number)[]) => Promise<unknown>;
 
@@ -37,6 +39,7 @@ interface Scripts {
   commitMerge: Script;
   commitSplit: Script;
   eraseArticle: Script;
+  pruneNotifications: Script;
 }
 
 /** Options for a Redis store. */
@@ -68,6 +71,7 @@ export class RedisStore implements Store {
       commitMerge: defineScript(redis, 'commit-merge'),
       commitSplit: defineScript(redis, 'commit-split'),
       eraseArticle: defineScript(redis, 'erase-article'),
+      pruneNotifications: defineScript(redis, 'prune-notifications'),
     };
   }
 
@@ -317,7 +321,36 @@ export class RedisStore implements Store {
     if (o.status === 'pending') tx.zadd(this.k.due, Date.parse(o.nextAt), key);
     else tx.zrem(this.k.due, key);
     if (o.status === 'dead') tx.zadd(this.k.dead, Date.parse(o.nextAt), key);
+    if (o.status !== 'pending') tx.zadd(this.k.settled, Date.parse(o.nextAt), key);
     await tx.exec();
+  }
+
+  async pruneNotifications(before: string): Promise<number> {
+    await this.indexSettled();
+    let removed = 0;
+    for (;;) {
+      // Batches keep each script call short: Redis runs nothing else meanwhile.
+      const [deliveries, messages] = await this.scripts.pruneNotifications(this.k.settled, this.k.prefix, Date.parse(before), PRUNE_BATCH) as [number, number];
+      removed += messages;
+      if (deliveries < PRUNE_BATCH) return removed;
+    }
+  }
+
+  /** Puts deliveries settled before the settled index existed into it, once per partition. */
+  private async indexSettled(): Promise<void> {
+    if (await this.redis.exists(this.k.settledIndexed)) return;
+    let cursor = '0';
+    do {
+      const [next, flat] = await this.redis.hscan(this.k.deliveries, cursor, 'COUNT', 1000);
+      const tx = this.redis.multi();
+      for (let i = 0; i < flat.length; i += 2) {
+        const s = JSON.parse(flat[i + 1]!) as { status: Delivery['status']; nextAt: string };
+        if (s.status !== 'pending') tx.zadd(this.k.settled, Date.parse(s.nextAt), flat[i]!);
+      }
+      await tx.exec();
+      cursor = next;
+    } while (cursor !== '0');
+    await this.redis.set(this.k.settledIndexed, '1');
   }
 
   async deadLetters(limit: number): Promise<Delivery[]> {

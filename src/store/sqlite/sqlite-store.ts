@@ -428,6 +428,14 @@ export class SqliteStore implements Store {
     return (this.st.dead.all(limit) as Row[]).map(toDelivery);
   }
 
+  async pruneNotifications(before: string): Promise<number> {
+    return this.db.transaction(() => {
+      // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
+      this.db.prepare("DELETE FROM deliveries WHERE status IN ('delivered', 'dead') AND next_at < ?").run(before);
+      return this.db.prepare('DELETE FROM outbox WHERE created < ? AND NOT EXISTS (SELECT 1 FROM deliveries d WHERE d.message_id = outbox.id)').run(before).changes;
+    })();
+  }
+
   async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
     const newest = this.db.prepare('SELECT max(coalesce(published, fetched)) FROM articles').pluck().get() as string | null;
     if (!newest) return [];

@@ -7,7 +7,8 @@ local function queue_messages(P, messages)
   for _, msg in ipairs(messages) do
     local ok = P .. ':outbox:' .. msg.id
     if redis.call('EXISTS', ok) == 0 then
-      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created)
+      -- The subscriber list tells pruning when the last delivery of a message is gone.
+      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created, 'subscribers', cjson.encode(msg.subscribers))
       -- Indexed by the articles and events it names, so an erasure can find its copies.
       for _, a in ipairs(msg.articles) do redis.call('SADD', P .. ':article-messages:' .. a, msg.id) end
       for _, e in ipairs(msg.events) do redis.call('SADD', P .. ':event-messages:' .. e, msg.id) end
