@@ -218,6 +218,7 @@ const limitQuery = { type: 'object', additionalProperties: false, properties: { 
 /** GET /api/webhooks/dead-letters */
 export const deadLettersSchema = {
   summary: 'Webhook deliveries that gave up',
+  description: 'Newest first. A dead letter is deleted with its notification retention.notificationDays (30 by default) after it gave up.',
   tags: ['operations'],
   querystring: limitQuery,
   response: {
