@@ -7,6 +7,7 @@ import type { Config } from './config/schema.js';
 import type { Embedder } from './embed/embedder.js';
 import { TfidfEmbedder } from './embed/tfidf-embedder.js';
 import { TransformerEmbedder } from './embed/transformer-embedder.js';
+import { claimVectorSpace, vectorSpaceOf } from './embed/vector-space.js';
 import { deserialiseEvent } from './link/event-state.js';
 import { OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
@@ -31,8 +32,15 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
   const s = store ?? (await openStore(config.store, logger));
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
+  const events = snapshot.events.map(deserialiseEvent);
+  try {
+    await claimVectorSpace(s, await vectorSpaceOf(config.embed), config.embed.kind === 'tfidf' ? 'sparse' : 'dense', events.length ? (events[0]!.dense ? 'dense' : 'sparse') : null);
+  } catch (err) {
+    if (!store) await s.close();
+    throw err;
+  }
   if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
-  linker.load(snapshot.events.map(deserialiseEvent));
+  linker.load(events);
   const copies = new CopyDetector(config.copies);
   await copies.load(s);
   const threads = sharedAnalysis?.threads ?? analysisThreads(config.analysis.threads);

@@ -271,6 +271,11 @@ export interface Store {
   mergesInto(id: string): Promise<MergeRecord[]>;
   /** Everything the linker and embedder need to resume. */
   loadLinkerState(): Promise<LinkerSnapshot>;
+  /**
+   * Records the vector space (vector-space.ts) the store's vectors are made in, unless one
+   * is recorded already; returns the one recorded (the given one, or the earlier one).
+   */
+  claimVectorSpace(space: string): Promise<string>;
   listEvents(q: EventQuery): Promise<EventPage>;
   getEvent(id: string): Promise<EventDetail | null>;
   getArticle(id: string): Promise<ArticleDetail | null>;

@@ -183,6 +183,11 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
     });
 
+    it('records the vector space of its vectors once, and answers the first one recorded', async () => {
+      expect(await store.claimVectorSpace('tfidf: 2^18')).toBe('tfidf: 2^18');
+      expect(await store.claimVectorSpace('transformer: model sha256 0123')).toBe('tfidf: 2^18');
+    });
+
     it('prunes notifications once every delivery settled before the cut-off, never a pending one', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const body = (n: number) => `{"type":"event.opened","data":{"event":{"id":"ev_${n}"},"mention":{"article":"a1","sentence":0}}}`;

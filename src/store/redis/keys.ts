@@ -41,6 +41,8 @@ export interface Keyspace {
   /** Sorted set of delivered and dead deliveries by when they settled (for pruning); a flag once older ones are in it. */
   readonly settled: string;
   readonly settledIndexed: string;
+  /** String: the vector space of the partition's vectors (vector-space.ts). */
+  readonly vectorSpace: string;
   article(id: string): string;
   sentences(articleId: string): string;
   sentenceText(articleId: string): string;
@@ -100,6 +102,7 @@ export function keyspace(partition: string): Keyspace {
     dead: `${p}:dead`,
     settled: `${p}:settled`,
     settledIndexed: `${p}:settled-indexed`,
+    vectorSpace: `${p}:vector-space`,
     article: (id) => `${p}:article:${id}`,
     sentences: (id) => `${p}:sentences:${id}`,
     sentenceText: (id) => `${p}:sentence-text:${id}`,

@@ -325,6 +325,11 @@ export class RedisStore implements Store {
     await tx.exec();
   }
 
+  async claimVectorSpace(space: string): Promise<string> {
+    await this.redis.set(this.k.vectorSpace, space, 'NX');
+    return (await this.redis.get(this.k.vectorSpace))!;
+  }
+
   async pruneNotifications(before: string): Promise<number> {
     await this.indexSettled();
     let removed = 0;

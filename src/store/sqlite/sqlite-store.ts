@@ -428,6 +428,11 @@ export class SqliteStore implements Store {
     return (this.st.dead.all(limit) as Row[]).map(toDelivery);
   }
 
+  async claimVectorSpace(space: string): Promise<string> {
+    this.db.prepare(`INSERT OR IGNORE INTO meta (key, value) VALUES ('vector_space', ?)`).run(space);
+    return this.db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get() as string;
+  }
+
   async pruneNotifications(before: string): Promise<number> {
     return this.db.transaction(() => {
       // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
