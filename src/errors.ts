@@ -27,6 +27,7 @@ export const ERROR_CODES = {
   STRAND_ANALYSIS_FAILED: { status: 500 },
   STRAND_FEED_CONFLICT: { status: 409 },
   STRAND_VECTOR_SPACE_CHANGED: { status: 500 },
+  STRAND_UNAUTHORIZED: { status: 401 },
 } as const;
 
 /** One of the stable error codes. */

@@ -15,6 +15,9 @@ import { registerWebPage } from '../web/serve-page.js';
 import { type PushLimits, type SubmitArticles, registerPushRoute } from './routes/push.js';
 import { CAUTION } from './schemas.js';
 import { type FeedControl, registerFeedRoutes } from './routes/feeds.js';
+import { type TokenPolicy, registerTokenCheck } from './require-token.js';
+
+const TOKEN_NOTE = 'When the operator sets server.tokens, requests that change something (POST, PUT, PATCH, DELETE) need Authorization: Bearer <token>, and with server.protect "everything" reads under /api/ too (not /api/health). A missing or unknown token gets 401 with code STRAND_UNAUTHORIZED.';
 
 /** What the API is handed. */
 export interface ApiDeps {
@@ -28,6 +31,8 @@ export interface ApiDeps {
   push?: { submit: SubmitArticles; limits: PushLimits } | undefined;
   /** The feed poller of this process; without it the /api/feeds routes are not offered. */
   feeds?: FeedControl | undefined;
+  /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
+  auth?: TokenPolicy | undefined;
 }
 
 /** Builds the fastify app (not yet listening). */
@@ -52,6 +57,9 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         description: `Events reported in news feeds, the sentences that report them and the links between the two.\n\n${CAUTION}`,
       },
       tags: [{ name: 'events' }, { name: 'articles' }, { name: 'feeds' }, { name: 'operations' }],
+      components: { securitySchemes: { bearer: { type: 'http', scheme: 'bearer', description: TOKEN_NOTE } } },
+      // Whether a token is needed depends on server.tokens and server.protect (see the scheme).
+      security: [{}, { bearer: [] }],
     },
   });
   app.setErrorHandler((err: FastifyError | StrandError, _req, reply) => {
@@ -63,6 +71,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   });
   app.setNotFoundHandler((req, reply) => reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }));
 
+  if (deps.auth) registerTokenCheck(app, deps.auth);
   registerEventRoutes(app, deps.store);
   registerArticleRoutes(app, deps.store);
   registerOperationRoutes(app, deps);

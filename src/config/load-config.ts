@@ -27,6 +27,11 @@ export function loadConfig(sources: ConfigSources = {}): Readonly<Config> {
   const file = sources.file ?? env.STRANDLINE_CONFIG;
   if (file) merged = deepMerge(merged, readJson(file));
   merged = deepMerge(merged, envOverrides(env));
+  // A token from the environment (keeps the secret out of files) joins the file's tokens.
+  if (env.STRANDLINE_API_TOKEN) {
+    const server = (merged.server ?? {}) as { tokens?: unknown };
+    merged = deepMerge(merged, { server: { tokens: [...(Array.isArray(server.tokens) ? server.tokens : []), env.STRANDLINE_API_TOKEN] } });
+  }
   if (sources.overrides) merged = deepMerge(merged, sources.overrides);
   return parseConfig(merged);
 }

@@ -22,6 +22,14 @@ export const configSchema = z.strictObject({
     host: z.string().min(1).default('127.0.0.1'),
     /** TCP port. Default 7410. Env PORT overrides; 0 picks a free port. */
     port: z.number().int().min(0).max(65535).default(7410),
+    /**
+     * Bearer tokens the API accepts (32 to 512 printable characters each; generate them,
+     * e.g. `openssl rand -base64 32`). Default none: nothing is checked, fit for the
+     * loopback default only. Env STRANDLINE_API_TOKEN adds one.
+     */
+    tokens: z.array(z.string().min(32).max(512).regex(/^[\x21-\x7e]+$/, 'printable ASCII without spaces')).max(32).default([]),
+    /** With tokens: `changes` (POST, PUT, PATCH, DELETE need one) or `everything` (reads of /api/ too). Default changes. */
+    protect: z.enum(['changes', 'everything']).default('changes'),
   }).prefault({}),
   store: z.strictObject({
     /** sqlite: one process, one file. redis: several processes and machines share the state. Default sqlite. */

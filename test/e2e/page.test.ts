@@ -2,6 +2,8 @@ import { existsSync } from 'node:fs';
 import type { FastifyInstance } from 'fastify';
 import { type Browser, chromium } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildApp } from '../../src/api/build-app.js';
+import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
 import { demoApi } from '../helpers/runtime.js';
 
@@ -49,5 +51,31 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analyst
     await page.fill('#q', 'Orlin');
     await expect.poll(async () => (await page.locator('#count').textContent()) ?? '').toMatch(/^\d+ events?$/);
     expect(errors).toEqual([]);
+  });
+
+  it('asks for an access token when the server protects reads, and shows the events once given one', async () => {
+    const token = 'k7Qz2mVw9XcB4nRt8LpY3sHd6FgJ1aEu';
+    const guarded = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }), auth: { tokens: [token], protect: 'everything' } });
+    const url = await guarded.listen({ host: '127.0.0.1', port: 0 });
+    const page = await browser.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    try {
+      await page.goto(`${url}/`);
+      await page.locator('#token-form').waitFor();
+      expect(await page.locator('#events li').count()).toBe(0);
+      await expect.poll(() => page.locator('#count').textContent()).toMatch(/needs a token/);
+      await page.fill('#token', 'not-the-token-but-long-enough-000000');
+      await page.click('#token-form button');
+      await expect.poll(() => page.locator('#token-form').isVisible()).toBe(true);
+      await page.fill('#token', token);
+      await page.click('#token-form button');
+      await expect.poll(() => page.locator('#events li').count()).toBeGreaterThan(10);
+      expect(await page.locator('#token-form').isVisible()).toBe(false);
+      expect(errors).toEqual([]);
+    } finally {
+      await page.close();
+      await guarded.close();
+    }
   });
 });

@@ -73,6 +73,9 @@ describe('configuration', () => {
     ['a negative thread count', '{"analysis": {"threads": -1}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a fractional notification retention', '{"retention": {"notificationDays": 0.5}}', 'STRAND_CONFIG_INVALID', /retention\.notificationDays/],
     ['a zero notification retention', '{"retention": {"notificationDays": 0}}', 'STRAND_CONFIG_INVALID', /retention\.notificationDays/],
+    ['a short API token', '{"server": {"tokens": ["secret"]}}', 'STRAND_CONFIG_INVALID', /server\.tokens\.0/],
+    ['an API token with a space', `{"server": {"tokens": ["${'a'.repeat(20)} ${'b'.repeat(20)}"]}}`, 'STRAND_CONFIG_INVALID', /server\.tokens\.0.*printable/],
+    ['an unknown protect mode', '{"server": {"protect": "reads"}}', 'STRAND_CONFIG_INVALID', /server\.protect/],
     ['a thread count in words', '{"analysis": {"threads": "many"}}', 'STRAND_CONFIG_INVALID', /analysis\.threads/],
     ['a webhook secret without the whsec_ prefix', '{"webhooks": {"subscribers": [{"name": "a", "url": "http://127.0.0.1:9/x", "secret": "abc"}]}}', 'STRAND_CONFIG_INVALID', /secret/],
     ['a webhook URL that is not http(s)', '{"webhooks": {"subscribers": [{"name": "a", "url": "file:///etc/passwd", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}]}}', 'STRAND_CONFIG_INVALID', /url/],
@@ -98,6 +101,15 @@ describe('configuration', () => {
 
   it('validates an object given directly', () => {
     expect(parseConfig({}).detect.threshold).toBe(0.5);
+  });
+
+  it('adds STRANDLINE_API_TOKEN to the tokens of the file, and checks it like them', () => {
+    const fromFile = 'f'.repeat(32);
+    const fromEnv = 'e'.repeat(32);
+    const c = loadConfig({ file: file('tokens.json', `{"server": {"tokens": ["${fromFile}"]}}`), env: { STRANDLINE_API_TOKEN: fromEnv } });
+    expect(c.server.tokens).toEqual([fromFile, fromEnv]);
+    expect(loadConfig({ env: { STRANDLINE_API_TOKEN: fromEnv } }).server.tokens).toEqual([fromEnv]);
+    expect(failure(() => loadConfig({ env: { STRANDLINE_API_TOKEN: 'short' } })).message).toMatch(/server\.tokens/);
   });
 
   it('keeps settled notifications 30 days unless told otherwise, and for ever when told null', () => {

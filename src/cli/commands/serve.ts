@@ -46,8 +46,9 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
     if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
   });
   const poller = await startPoller(config, logger, rt.store, (a) => intake.submit(a));
-  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined });
+  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
+  warnIfOpen(config, logger);
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
 
@@ -136,8 +137,9 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a));
   const poller = await startPoller(config, logger, store, submit);
-  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined });
+  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
+  warnIfOpen(config, logger);
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
     const input = await readReplayInput(sources, config.ingest);
@@ -152,4 +154,11 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   queue.close();
   await store.close();
   return 0;
+}
+
+/** Says so when the API listens beyond this machine with nothing checked. */
+function warnIfOpen(config: Readonly<Config>, logger: Logger): void {
+  const host = config.server.host;
+  if (config.server.tokens.length > 0 || host === 'localhost' || host === '::1' || host.startsWith('127.')) return;
+  logger.warn({ host }, 'the API listens beyond this machine without server.tokens: anyone who can reach it can push articles and change feeds');
 }

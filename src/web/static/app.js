@@ -33,9 +33,14 @@ function replace(node, ...children) {
   return fill(node, ...children);
 }
 
+const TOKEN_KEY = 'strandline-token';
+
 async function api(path) {
-  const res = await fetch(path, { headers: { accept: 'application/json' } });
+  // A server with server.protect "everything" wants a token for reads too; it lives in this tab's session storage.
+  const token = sessionStorage.getItem(TOKEN_KEY);
+  const res = await fetch(path, { headers: { accept: 'application/json', ...(token ? { authorization: `Bearer ${token}` } : {}) } });
   const body = await res.json();
+  if (res.status === 401) $('token-form').hidden = false;
   if (!res.ok) throw new Error(body?.error?.message ?? `HTTP ${res.status}`);
   return body;
 }
@@ -181,6 +186,20 @@ $('filters').addEventListener('submit', (e) => e.preventDefault());
 $('more').addEventListener('click', () => void loadEvents(true));
 window.addEventListener('hashchange', () => void route());
 
-await Promise.all([loadOutlets(), loadEvents(), refreshStatus()]);
-await route();
+async function loadAll() {
+  const results = await Promise.allSettled([loadOutlets(), loadEvents(), refreshStatus()]);
+  const failed = results.find((r) => r.status === 'rejected');
+  if (failed) replace($('count'), `Could not load events: ${failed.reason.message}`);
+  else await route();
+}
+
+$('token-form').addEventListener('submit', (e) => {
+  e.preventDefault();
+  sessionStorage.setItem(TOKEN_KEY, $('token').value.trim());
+  $('token').value = '';
+  $('token-form').hidden = true;
+  void loadAll();
+});
+
+await loadAll();
 setInterval(() => { void refreshStatus(); void loadOutlets(); }, 3000);
