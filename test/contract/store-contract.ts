@@ -287,6 +287,26 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.loadLinkerState()).events.map((b) => deserialiseEvent(b).id).sort()).toEqual([first.event.id, 'ev_split'].sort());
     });
 
+    it('relabels an event whose label sentence moved away in a split with its earliest remaining sentence', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const a3 = article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(first.commit);
+      const second = commitFor(a2, 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
+      await store.commitArticle(second.commit);
+      await store.commitArticle(commitFor(a3, 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event))).commit);
+      expect((await store.getEvent(first.event.id))!.event.label).toBe('A fire destroyed a warehouse.');
+      // The part with the labelling sentence goes (as when a split-off event, whose opener is not its id's, splits again).
+      const kept = openEvent(first.event.id, second.commit.mentions[0] as EmbeddedMention);
+      const split = openEvent('ev_split', first.commit.mentions[0] as EmbeddedMention);
+      const update = (e: EventState) => ({ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) });
+      await store.commitSplit({ from: update(kept), into: update(split), moved: [{ articleId: 'a1', sentenceIndex: 0 }], score: 0.05, at: '2026-10-09T09:00:00.000Z', messages: [] });
+      expect((await store.getEvent(first.event.id))!.event.label).toBe('Dockworkers voted to strike.');
+      expect((await store.getEvent('ev_split'))!.event.label).toBe('A fire destroyed a warehouse.');
+      expect((await store.eventLabels([first.event.id, 'ev_split'])).get(first.event.id)).toBe('Dockworkers voted to strike.');
+    });
+
     it('keeps each article’s copy sketch, lists the recent ones and erases them with the text', async () => {
       const sk = (seed: number) => Uint32Array.from({ length: 128 }, (_, i) => (seed * 7919 + i * 104_729) >>> 0);
       const old = commitFor(article('a0', 'O', '2026-09-01T10:00:00.000Z', 'x'), 'Long ago.', null).commit;

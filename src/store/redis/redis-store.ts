@@ -145,7 +145,7 @@ export class RedisStore implements Store {
       messages: messagePayload(sp.messages),
     };
     try {
-      await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!);
+      await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!, ERASED_LABEL);
     } catch (err) {
       throw new StrandError('STRAND_STORE_FAILED', `cannot split ${sp.into.record.id} off ${sp.from.record.id}: ${(err as Error).message}`, { cause: err });
     }

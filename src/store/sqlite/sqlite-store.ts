@@ -82,6 +82,12 @@ export class SqliteStore implements Store {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
       eventLabel: db.prepare('SELECT label FROM events WHERE id = ?').pluck(),
+      setLabel: db.prepare('UPDATE events SET label = ? WHERE id = ?'),
+      // The text of an event's earliest linked sentence that still has its text (for relabelling).
+      earliestText: db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
+        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck(),
+      sentenceText: db.prepare('SELECT text FROM sentences WHERE article_id = ? AND idx = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
       insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url)
@@ -265,6 +271,11 @@ export class SqliteStore implements Store {
     for (const m of sp.moved) this.st.moveLink.run({ into, from, article: m.articleId, idx: m.sentenceIndex });
     this.upsertEvent(sp.from);
     this.upsertEvent(sp.into);
+    // A label drawn from a sentence that moved goes with it: the event left behind takes its
+    // earliest remaining sentence.
+    const label = this.st.eventLabel.get(from) as string | undefined;
+    const movedTexts = new Set(sp.moved.map((m) => this.st.sentenceText.get(m.articleId, m.sentenceIndex) as string | null | undefined).filter((t): t is string => typeof t === 'string'));
+    if (label !== undefined && drawnFrom(label, movedTexts)) this.st.setLabel.run((this.st.earliestText.get(from) as string | undefined) ?? ERASED_LABEL, from);
     this.st.insSplit.run(into, from, sp.moved.length, sp.score, sp.at);
     this.queue(sp.messages);
   }
@@ -513,10 +524,7 @@ export class SqliteStore implements Store {
       if (state.label !== '') db.prepare('UPDATE events SET state = ? WHERE id = ?').run(serialiseEvent({ ...state, label: '' }), e.id);
       const label = e.label as string;
       if (!drawnFrom(label, erasedSet)) continue;
-      const next = db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
-        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
-        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck().get(e.id) as string | undefined;
-      db.prepare('UPDATE events SET label = ? WHERE id = ?').run(next ?? ERASED_LABEL, e.id);
+      this.st.setLabel.run((this.st.earliestText.get(e.id) as string | undefined) ?? ERASED_LABEL, e.id);
     }
   }
 

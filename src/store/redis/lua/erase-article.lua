@@ -32,16 +32,7 @@ for ev in pairs(events) do
   drop_state_label(ek)
   local label = redis.call('HGET', ek, 'label')
   if label and drawn_from(label, erased) then
-    local best, bestAt = nil, nil
-    for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
-      local article, idx = split(member)
-      local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
-      if t then
-        local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
-        if not bestAt or at < bestAt then best, bestAt = t, at end
-      end
-    end
-    label = best or placeholder
+    label = earliest_text(P, ev) or placeholder
     redis.call('HSET', ek, 'label', label)
   end
   -- Its notifications (those of events merged into it included) drop labels drawn from

@@ -89,6 +89,21 @@ local function body_relabelled(body, erased, new)
   return table.concat(out)
 end
 
+-- The text of an event's earliest linked sentence that still has its text, or nil.
+local function earliest_text(P, ev)
+  local best, bestAt = nil, nil
+  for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
+    local nl = string.find(member, '\n', 1, true)
+    local article, idx = string.sub(member, 1, nl - 1), string.sub(member, nl + 1)
+    local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
+    if t then
+      local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
+      if not bestAt or at < bestAt then best, bestAt = t, at end
+    end
+  end
+  return best
+end
+
 -- Rewrites the body of each message of a set with f.
 local function rewrite_messages(P, set, f)
   for _, mid in ipairs(redis.call('SMEMBERS', set)) do
