@@ -1,5 +1,5 @@
 /** The evaluation report as a terminal table. */
-import type { EvalReport, SettingResult } from './run-eval.js';
+import { type EvalReport, MULTI_EVENT_NOTE, type SettingResult } from './run-eval.js';
 
 const pct = (x: number): string => (x * 100).toFixed(1);
 
@@ -9,12 +9,15 @@ export function formatReport(r: EvalReport): string {
     `Strandline evaluation of ${r.source}`,
     `${r.input.articles} articles, ${r.input.goldLines} gold lines, ${r.input.goldEvents} gold events, ${r.input.level}-level gold${r.input.scoped ? ', scored within the given scope' : ''}`,
     `link threshold ${r.configuration.linkThreshold}, half-life ${r.configuration.halfLifeDays} days, detect threshold ${r.configuration.detectThreshold}`,
+    ...(r.input.multiEventMentions > 0 ? [`${r.input.multiEventMentions} of ${r.input.goldMentions} gold mentions carry several events: ${MULTI_EVENT_NOTE}`] : []),
     '',
   ];
   for (const s of r.settings) out.push(...settingTable(s, r.input.subtopics), '');
   if (r.sweep) {
-    out.push(`Threshold sweep (${r.sweep.setting} mentions): threshold  CoNLL F1  pairwise P / R / F1`);
-    for (const p of r.sweep.points) out.push(`  ${p.threshold.toFixed(3)}  ${pct(p.conllF1).padStart(5)}  ${pct(p.pairwise.precision).padStart(5)} / ${pct(p.pairwise.recall).padStart(5)} / ${pct(p.pairwise.f1).padStart(5)}`);
+    out.push(`Threshold sweep (${r.sweep.setting} mentions): threshold  CoNLL F1 (online baseline)  ext-B3 F1 (online baseline)  pairwise P / R / F1`);
+    for (const p of r.sweep.points) {
+      out.push(`  ${p.threshold.toFixed(3)}  ${pct(p.conllF1).padStart(5)} (${pct(p.baseline.conllF1).padStart(5)})  ${pct(p.extendedB3F1).padStart(5)} (${pct(p.baseline.extendedB3F1).padStart(5)})  ${pct(p.pairwise.precision).padStart(5)} / ${pct(p.pairwise.recall).padStart(5)} / ${pct(p.pairwise.f1).padStart(5)}`);
+    }
     out.push('');
   }
   out.push('Scores are percentages. ' + r.primaryRule);

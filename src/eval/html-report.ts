@@ -2,7 +2,7 @@
  * The evaluation report as one self-contained HTML file (no scripts, no outside
  * resources), with the threshold sweep drawn as an inline SVG chart.
  */
-import type { EvalReport, SweepPoint } from './run-eval.js';
+import { type EvalReport, MULTI_EVENT_NOTE, type SweepPoint } from './run-eval.js';
 
 const esc = (s: string): string => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
 const pct = (x: number): string => (x * 100).toFixed(1);
@@ -29,6 +29,7 @@ th:first-child{text-align:left}tr.ours{background:#eef4fb}.note{color:#5c6773;fo
 </style></head><body>
 <h1>Strandline evaluation</h1>
 <p>Input: ${esc(r.source)} — ${r.input.articles} articles, ${r.input.goldLines} gold lines, ${r.input.goldEvents} gold events, ${r.input.level}-level gold${r.input.scoped ? ', scored within the given scope' : ''}. Run ${esc(r.created)}. Link threshold ${r.configuration.linkThreshold}, half-life ${r.configuration.halfLifeDays} days.</p>
+${r.input.multiEventMentions > 0 ? `<p class="note">${r.input.multiEventMentions} of ${r.input.goldMentions} gold mentions carry several events: ${esc(MULTI_EVENT_NOTE)}</p>` : ''}
 <p class="note">F1 scores in percent (hover a cell for recall and precision). Link-type columns give pairwise link precision / recall / F1. ${esc(r.primaryRule)} Timings: the linker's is its link step on the prepared mentions; each baseline's is its own clustering of the same mentions.</p>
 ${sections}
 ${r.sweep ? `<h2>Threshold sweep (${r.sweep.setting} mentions)</h2>${sweepChart(r.sweep.points, r.configuration.linkThreshold)}` : ''}
@@ -52,6 +53,8 @@ export function sweepChart(points: readonly SweepPoint[], current: number): stri
     ['pairwise recall', '#c0392b', (p) => p.pairwise.recall],
     ['pairwise F1', '#2e8b57', (p) => p.pairwise.f1],
     ['CoNLL F1', '#7a5600', (p) => p.conllF1],
+    ['extended B3 F1', '#6b3fa0', (p) => p.extendedB3F1],
+    ['baseline CoNLL F1', '#b8a06a', (p) => p.baseline.conllF1],
   ];
   const lines = series.map(([name, color, f], i) => `<polyline fill="none" stroke="${color}" stroke-width="2" points="${points.map((p) => `${X(p.threshold).toFixed(1)},${Y(f(p)).toFixed(1)}`).join(' ')}"/><text x="${W - m.r + 8}" y="${m.t + 14 + i * 18}" fill="${color}" font-size="12">${name}</text>`).join('');
   const ticks = [0, 0.25, 0.5, 0.75, 1].map((v) => `<line x1="${m.l}" x2="${W - m.r}" y1="${Y(v)}" y2="${Y(v)}" stroke="#e5e8ec"/><text x="${m.l - 6}" y="${Y(v) + 4}" font-size="11" text-anchor="end">${v}</text>`).join('');

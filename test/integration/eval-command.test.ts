@@ -6,6 +6,7 @@ import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { DEMO_DIR } from '../../src/cli/common.js';
 import { demoEvalInput } from '../../src/eval/demo-input.js';
+import { formatReport } from '../../src/eval/format-report.js';
 import { checkEvalInput } from '../../src/eval/eval-input.js';
 import { type EvalReport, defaultSweep, runEval } from '../../src/eval/run-eval.js';
 import { createLogger } from '../../src/logger.js';
@@ -63,6 +64,22 @@ describe('evaluating on the demo', () => {
     expect(pts).toHaveLength(19);
     expect(pts[0]!.pairwise.recall).toBeGreaterThan(pts.at(-1)!.pairwise.recall);
     expect(pts[0]!.pairwise.precision).toBeLessThan(pts.at(-1)!.pairwise.precision);
+  });
+
+  it('puts the online baseline and extended BCubed beside each sweep point, matching the tables at the configured threshold', () => {
+    const at = report.sweep!.points.find((p) => p.threshold === report.configuration.linkThreshold)!;
+    const gold = report.settings.find((s) => s.setting === 'gold')!;
+    const row = (name: string) => gold.systems.find((x) => x.name === name)!;
+    expect(at.baseline.conllF1).toBeCloseTo(row('baseline: online TF-IDF centroid').partition.conllF1, 10);
+    expect(at.baseline.extendedB3F1).toBeCloseTo(row('baseline: online TF-IDF centroid').extendedBcubed.f1, 10);
+    expect(gold.linkStepMatchesPipeline).toBe(true);
+    expect(at.extendedB3F1).toBeCloseTo(row('Strandline linker').extendedBcubed.f1, 10);
+  });
+
+  it('counts the gold sentences that carry several events, since partition scores see only the first', () => {
+    expect(report.input.multiEventMentions).toBeGreaterThan(0);
+    expect(report.input.multiEventMentions).toBeLessThan(report.input.goldMentions);
+    expect(formatReport(report)).toMatch(/gold mentions carry several events/);
   });
 });
 
