@@ -276,7 +276,7 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promis
 async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise<ArticleOutcome['merges']> {
   const done: ArticleOutcome['merges'] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
-    const merged = ctx.linker.mergedState(m.into, m.from);
+    const merged = ctx.linker.mergedState(m.into, m.from, await ctx.store.linkedToBoth(m.into, m.from));
     await useStoredLabels(ctx, [merged]);
     const at = ctx.now().toISOString();
     await ctx.store.commitMerge({

@@ -54,7 +54,13 @@ export function linkPrepared(prepared: readonly (readonly EmbeddedMention[])[], 
     const ids = [...new Set(recent.flatMap((k) => [...(eventsOf.get(k) ?? [])]))].sort();
     const gone = new Set<string>();
     for (const m of linker.planMerges(ids, options.mergeThreshold)) {
-      linker.applyMerge(linker.mergedState(m.into, m.from), m.from);
+      const into0 = held(m.into);
+      // In the order the store lists them (published, article, sentence), so that the sums come out the same.
+      const shared = [...held(m.from)].flatMap(([k, l]) => {
+        const kept = into0.get(k);
+        return kept ? [{ mention: mentions.get(k)!, links: [kept, l] as const }] : [];
+      }).sort((a, b) => cmp(a.mention.published, b.mention.published) || cmp(a.mention.articleId, b.mention.articleId) || a.mention.sentenceIndex - b.mention.sentenceIndex);
+      linker.applyMerge(linker.mergedState(m.into, m.from, shared), m.from);
       // A sentence linked to both keeps the better-scoring link (the surviving event's on a tie).
       const into = held(m.into);
       for (const [k, l] of [...held(m.from)]) {

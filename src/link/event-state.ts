@@ -121,6 +121,26 @@ export function addMention(e: EventState, m: EmbeddedMention, weight: number, ce
   e.version++;
 }
 
+/**
+ * Takes one link of a mention back out of an event (mutates `e`): when two events that a
+ * sentence linked to both merge, the sentence keeps one link and must count once. The time
+ * span and first/last seen stay (another mention may share them); a centroid term the
+ * event had already dropped (centroidTerms) is not taken below zero.
+ */
+export function removeMention(e: EventState, m: Omit<EmbeddedMention, 'vector'> & { vector: Vector | null }, weight: number): void {
+  if (m.vector) addVector(e, m.vector, -weight, Infinity, true);
+  e.mentionCount = Math.max(0, e.mentionCount - 1);
+  for (const p of m.participants) unbump(e.participants, nameKey(p));
+  for (const p of m.places) unbump(e.places, nameKey(p));
+  const o = e.outlets.get(m.outlet);
+  if (o) {
+    const next: [number, number] = [o[0] - 1, o[1] - (m.isCopy ? 0 : 1)];
+    if (next[0] <= 0) e.outlets.delete(m.outlet);
+    else e.outlets.set(m.outlet, [next[0], Math.max(0, next[1])]);
+  }
+  e.version++;
+}
+
 /** Cosine similarity of two events' centroids. */
 export function centroidCosine(a: Pick<EventState, 'sparse' | 'dense' | 'norm'>, b: Pick<EventState, 'sparse' | 'dense' | 'norm'>): number {
   if (a.norm === 0 || b.norm === 0) return 0;
@@ -248,7 +268,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   };
 }
 
-function addVector(e: EventState, v: Vector, weight: number, centroidTerms: number): void {
+function addVector(e: EventState, v: Vector, weight: number, centroidTerms: number, removing = false): void {
   if (v.kind === 'dense') {
     e.dense ??= new Float64Array(v.values.length);
     for (let i = 0; i < v.values.length; i++) e.dense[i]! += weight * v.values[i]!;
@@ -259,7 +279,12 @@ function addVector(e: EventState, v: Vector, weight: number, centroidTerms: numb
   }
   for (let i = 0; i < v.indices.length; i++) {
     const f = v.indices[i]!;
-    e.sparse.set(f, (e.sparse.get(f) ?? 0) + weight * v.values[i]!);
+    const cur = e.sparse.get(f);
+    if (removing && cur === undefined) continue;
+    const next = (cur ?? 0) + weight * v.values[i]!;
+    // Sums of non-negative TF-IDF weights: what a removal leaves at or near zero is gone.
+    if (removing && next <= 1e-9) e.sparse.delete(f);
+    else e.sparse.set(f, next);
   }
   // Keep the centroid to its strongest terms: bounded memory per event, and the weak tail
   // contributes little to cosine similarity.
@@ -270,6 +295,13 @@ function addVector(e: EventState, v: Vector, weight: number, centroidTerms: numb
   let sq = 0;
   for (const w of e.sparse.values()) sq += w * w;
   e.norm = Math.sqrt(sq);
+}
+
+function unbump(map: Map<string, [string, number]>, key: string): void {
+  const cur = map.get(key);
+  if (!cur) return;
+  if (cur[1] <= 1) map.delete(key);
+  else cur[1]--;
 }
 
 function bump(map: Map<string, [string, number]>, key: string, surface: string): void {

@@ -11,7 +11,7 @@
 import type { EmbeddedMention, Link } from '../records.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
-import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent } from './event-state.js';
+import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent, removeMention } from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 import { planSplit, type SplitMember, type SplitPlan } from './split-event.js';
 
@@ -210,9 +210,19 @@ export class OnlineLinker {
     return merges;
   }
 
-  /** The merged state of `into` after absorbing `from` (neither is changed). */
-  mergedState(into: string, from: string): EventState {
-    return mergeStates(this.events.get(into)!, this.events.get(from)!, this.o.centroidTerms);
+  /**
+   * The merged state of `into` after absorbing `from` (neither is changed). `shared` are the
+   * mentions linked to both: the merge keeps one link of each (the better-scoring one,
+   * `into`'s on a tie), so the other comes back out and each counts once.
+   */
+  mergedState(into: string, from: string, shared: readonly SharedLinks[] = []): EventState {
+    const merged = mergeStates(this.events.get(into)!, this.events.get(from)!, this.o.centroidTerms);
+    for (const s of shared) {
+      const [toInto, toFrom] = s.links;
+      const dropped = toFrom.score > toInto.score ? toInto : toFrom;
+      removeMention(merged, s.mention, dropped.rank === 0 ? 1 : SECONDARY_WEIGHT);
+    }
+    return merged;
   }
 
   /** Applies a committed merge: the absorbed event leaves, the survivor takes its keys. */
@@ -270,6 +280,12 @@ export class OnlineLinker {
     for (const [id, ks] of plan.keys) this.index.add(id, [...new Set(ks)]);
     for (const e of plan.events) if (e.dense) this.centroids.upsert(e.id, e.dense);
   }
+}
+
+/** A mention linked to both events of a merge, with its link to `into` and to `from`. */
+export interface SharedLinks {
+  mention: Parameters<typeof removeMention>[1];
+  links: readonly [{ rank: number; score: number }, { rank: number; score: number }];
 }
 
 /** One merge found by consolidation. */

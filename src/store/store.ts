@@ -78,6 +78,12 @@ export interface LinkedMention {
   score: number;
 }
 
+/** A mention linked to two events, with both links. */
+export interface SharedMention {
+  mention: LinkedMention['mention'];
+  links: [{ rank: number; score: number }, { rank: number; score: number }];
+}
+
 /** A merge as recorded. */
 export interface MergeRecord {
   from: string;
@@ -255,6 +261,12 @@ export interface Store {
   commitSplit(s: SplitCommit): Promise<void>;
   /** The mentions linked to an event, oldest first (published, article, sentence). */
   linkedMentions(eventId: string): Promise<LinkedMention[]>;
+  /**
+   * The mentions linked to both events (a sentence's further links can reach two events that
+   * later merge), each with its link to `a` and to `b`, oldest first. A merge keeps one link
+   * per sentence, so the merged state must count these once.
+   */
+  linkedToBoth(a: string, b: string): Promise<SharedMention[]>;
   /** Splits an event took part in, oldest first. */
   splitsOf(eventId: string): Promise<SplitRecord[]>;
   /** Events linked from the last `articles` stored articles (consolidation's working set). */

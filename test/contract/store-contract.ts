@@ -253,6 +253,21 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.linkedMentions('ev_missing')).toEqual([]);
     });
 
+    it('lists the mentions linked to both of two events, with each link', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(first.commit);
+      // a2's sentence opens its own event and also links (rank 1) to a1's.
+      const second = commitFor(a2, 'The warehouse fire closed the pier.', null);
+      const further: Link = { articleId: 'a2', sentenceIndex: 0, eventId: first.event.id, score: 0.31, rank: 1, evidence: { similarity: 0.31, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: false } };
+      await store.commitArticle({ ...second.commit, links: [...second.commit.links, further] });
+      const both = await store.linkedToBoth(second.event.id, first.event.id);
+      expect(both.map((b) => [b.mention.articleId, b.mention.sentenceIndex, b.links])).toEqual([['a2', 0, [{ rank: 0, score: 0.8 }, { rank: 1, score: 0.31 }]]]);
+      expect(both[0]!.mention.vector).toEqual(second.commit.mentions[0]!.vector);
+      expect(await store.linkedToBoth(first.event.id, 'ev_none')).toEqual([]);
+    });
+
     it('splits part of an event off into a new one: links move, both events are written, the split is recorded', async () => {
       const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
       const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');

@@ -50,4 +50,14 @@ describe('agreement with the demo gold', () => {
     expect(scores.all.recall).toBeGreaterThan(0.1);
     expect(scores.crossStory.agreedPairs).toBeGreaterThan(0);
   });
+
+  it('counts each event’s mentions and outlets as its links stand, merges of events that shared a sentence included', async () => {
+    const { events } = await rt.store.listEvents({ limit: 500, offset: 0, sort: 'mentions' });
+    expect((await rt.store.counts()).events).toBe(events.length);
+    for (const e of events) {
+      const linked = await rt.store.linkedMentions(e.id);
+      expect([e.id, e.mentionCount]).toEqual([e.id, linked.length]);
+      expect([e.id, [...e.outlets].sort()]).toEqual([e.id, [...new Set(linked.map((l) => l.mention.outlet))].sort()]);
+    }
+  });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
-import { addMention, deserialiseEvent, mentionSpan, nameKey, openEvent, serialiseEvent, toRecord } from '../../src/link/event-state.js';
+import { addMention, deserialiseEvent, mentionSpan, mergeStates, nameKey, openEvent, removeMention, serialiseEvent, toRecord } from '../../src/link/event-state.js';
 import type { EmbeddedMention } from '../../src/records.js';
 
 const e = new TfidfEmbedder(16);
@@ -42,6 +42,30 @@ describe('event state', () => {
     const bytes = serialiseEvent(ev);
     expect(deserialiseEvent(bytes)).toEqual({ ...ev, label: '' });
     expect(bytes.toString('utf8')).not.toContain(ev.label);
+  });
+
+  it('counts a sentence linked to both of two merged events once: the merge with its dropped link taken out equals the events built without it', () => {
+    const shared = m({ articleId: 's', outlet: 'P', terms: ['levee', 'breach'], vector: e.vector(['levee', 'breach']), participants: ['Ila Serrow'] });
+    const a1 = m({ articleId: 'a1' });
+    const b1 = m({ articleId: 'b1', outlet: 'Q', terms: ['flood', 'dunvessel'], vector: e.vector(['flood', 'dunvessel']), places: ['Dunvessel'] });
+    const into = openEvent('ev_a', a1);
+    addMention(into, a1, 1, 300);
+    addMention(into, shared, 1, 300);
+    const from = openEvent('ev_b', b1);
+    addMention(from, b1, 1, 300);
+    addMention(from, shared, 0.5, 300);
+    const merged = mergeStates(into, from, 300);
+    expect(merged.mentionCount).toBe(4);
+    removeMention(merged, shared, 0.5);
+    const expected = openEvent('ev_a', a1);
+    for (const x of [a1, shared, b1]) addMention(expected, x, 1, 300);
+    expect(merged.mentionCount).toBe(3);
+    expect(merged.outlets).toEqual(expected.outlets);
+    expect(merged.participants).toEqual(expected.participants);
+    expect(merged.places).toEqual(expected.places);
+    expect([...merged.sparse.keys()].sort()).toEqual([...expected.sparse.keys()].sort());
+    for (const [f, w] of expected.sparse) expect(merged.sparse.get(f)).toBeCloseTo(w, 6);
+    expect(merged.norm).toBeCloseTo(expected.norm, 6);
   });
 
   it('matches names without articles or possessives', () => {

@@ -18,7 +18,7 @@ import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
+  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
@@ -153,15 +153,26 @@ export class RedisStore implements Store {
 
   async linkedMentions(eventId: string): Promise<LinkedMention[]> {
     const members = await this.redis.smembers(this.k.eventLinks(eventId));
+    return (await this.readLinked(members, [eventId])).map(({ mention, links }) => ({ mention, rank: links[0]!.rank, score: links[0]!.score }));
+  }
+
+  async linkedToBoth(a: string, b: string): Promise<SharedMention[]> {
+    const members = await this.redis.sinter(this.k.eventLinks(a), this.k.eventLinks(b));
+    return (await this.readLinked(members, [a, b])).map(({ mention, links }) => ({ mention, links: [links[0]!, links[1]!] }));
+  }
+
+  /** The mentions `article\nindex` with their links to each of `events` (all present), oldest first. */
+  private async readLinked(members: readonly string[], events: readonly string[]): Promise<{ mention: LinkedMention['mention']; links: { rank: number; score: number }[] }[]> {
+    const per = 3 + events.length;
     const rows = await this.pipelined(members, (p, m) => {
       const [article, idx] = splitMember(m);
-      return p.hget(this.k.links(article), `${idx}\n${eventId}`).hget(this.k.mentions(article), idx).hget(this.k.sentenceText(article), idx).hget(this.k.mentionVectors(article), idx);
+      p.hget(this.k.mentions(article), idx).hget(this.k.sentenceText(article), idx).hget(this.k.mentionVectors(article), idx);
+      for (const ev of events) p.hget(this.k.links(article), `${idx}\n${ev}`);
     });
-    const out = members.flatMap((m, i): LinkedMention[] => {
+    const out = members.flatMap((m, i) => {
       const [articleId, idx] = splitMember(m);
-      const [link, mention, text, vector] = rows.slice(i * 4, i * 4 + 4) as (string | null)[];
-      if (!link || !mention) return [];
-      const l = JSON.parse(link) as { score: number; rank: number };
+      const [mention, text, vector, ...links] = rows.slice(i * per, i * per + per) as (string | null)[];
+      if (!mention || links.some((l) => !l)) return [];
       const mm = JSON.parse(mention) as { outlet: string; published: string; eventness: number; participants: string[]; places: string[]; times: TimeExpression[]; isCopy: boolean };
       return [{
         mention: {
@@ -169,8 +180,7 @@ export class RedisStore implements Store {
           participants: mm.participants, places: mm.places, times: mm.times, terms: [], isCopy: mm.isCopy,
           vector: vector ? decodeVector(Buffer.from(vector, 'base64')) : null,
         },
-        rank: l.rank,
-        score: l.score,
+        links: links.map((l) => JSON.parse(l!) as { score: number; rank: number }).map(({ rank, score }) => ({ rank, score })),
       }];
     });
     return out.sort((a, b) => cmp(a.mention.published, b.mention.published) || cmp(a.mention.articleId, b.mention.articleId) || a.mention.sentenceIndex - b.mention.sentenceIndex);

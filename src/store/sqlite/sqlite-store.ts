@@ -12,7 +12,7 @@ import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SplitCommit, SplitRecord, Store, StoreCounts,
+  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { ERASED_LABEL } from '../store.js';
 import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
@@ -128,6 +128,14 @@ export class SqliteStore implements Store {
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
         LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         WHERE l.event_id = ? ORDER BY m.published, l.article_id, l.sentence_idx`),
+      linkedToBoth: db.prepare(`
+        SELECT l.article_id, l.sentence_idx, l.score, l.rank, k.score AS score_b, k.rank AS rank_b,
+          m.outlet, m.published, m.eventness, m.participants, m.places, m.times, m.is_copy, m.vector, s.text
+        FROM links l
+        JOIN links k ON k.article_id = l.article_id AND k.sentence_idx = l.sentence_idx AND k.event_id = @b
+        JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
+        LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+        WHERE l.event_id = @a ORDER BY m.published, l.article_id, l.sentence_idx`),
       moveLink: db.prepare('UPDATE links SET event_id = @into WHERE article_id = @article AND sentence_idx = @idx AND event_id = @from'),
       insSplit: db.prepare('INSERT OR REPLACE INTO splits (into_id, from_id, mentions, score, at) VALUES (?, ?, ?, ?, ?)'),
       splitsOf: db.prepare('SELECT into_id, from_id, mentions, score, at FROM splits WHERE from_id = @id OR into_id = @id ORDER BY at, into_id'),
@@ -281,23 +289,13 @@ export class SqliteStore implements Store {
   }
 
   async linkedMentions(eventId: string): Promise<LinkedMention[]> {
-    return (this.st.linkedMentions.all(eventId) as Row[]).map((r) => ({
-      mention: {
-        articleId: r.article_id as string,
-        sentenceIndex: r.sentence_idx as number,
-        text: (r.text as string | null) ?? '',
-        outlet: r.outlet as string,
-        published: r.published as string,
-        eventness: r.eventness as number,
-        participants: JSON.parse(r.participants as string) as string[],
-        places: JSON.parse(r.places as string) as string[],
-        times: JSON.parse(r.times as string) as TimeExpression[],
-        terms: [],
-        isCopy: r.is_copy === 1,
-        vector: r.vector ? decodeVector(r.vector as Buffer) : null,
-      },
-      rank: r.rank as number,
-      score: r.score as number,
+    return (this.st.linkedMentions.all(eventId) as Row[]).map((r) => ({ mention: mentionOf(r), rank: r.rank as number, score: r.score as number }));
+  }
+
+  async linkedToBoth(a: string, b: string): Promise<SharedMention[]> {
+    return (this.st.linkedToBoth.all({ a, b }) as Row[]).map((r) => ({
+      mention: mentionOf(r),
+      links: [{ rank: r.rank as number, score: r.score as number }, { rank: r.rank_b as number, score: r.score_b as number }],
     }));
   }
 
@@ -582,6 +580,24 @@ export class SqliteStore implements Store {
 }
 
 /** Whether a label is one of these sentences, or one cut short (ending in an ellipsis). */
+/** A linked mention as stored, from a row of the mentions joined with its sentence. */
+function mentionOf(r: Row): LinkedMention['mention'] {
+  return {
+    articleId: r.article_id as string,
+    sentenceIndex: r.sentence_idx as number,
+    text: (r.text as string | null) ?? '',
+    outlet: r.outlet as string,
+    published: r.published as string,
+    eventness: r.eventness as number,
+    participants: JSON.parse(r.participants as string) as string[],
+    places: JSON.parse(r.places as string) as string[],
+    times: JSON.parse(r.times as string) as TimeExpression[],
+    terms: [],
+    isCopy: r.is_copy === 1,
+    vector: r.vector ? decodeVector(r.vector as Buffer) : null,
+  };
+}
+
 function drawnFrom(label: string, sentences: ReadonlySet<string>): boolean {
   if (sentences.has(label)) return true;
   if (!label.endsWith('…')) return false;
