@@ -21,7 +21,7 @@ import type { LinkPlan, OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
 import { buildMergeMessages, buildMessages, buildSplitMessages } from './notify/messages.js';
 import type { Article, EmbeddedMention, Vector } from './records.js';
-import type { ArticleCommit, CommitResult, Store } from './store/store.js';
+import { type ArticleCommit, type CommitResult, ERASED_LABEL, type Store, drawnFrom } from './store/store.js';
 import { orderedMergeMap } from './ordered-merge-map.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
 import { ANALYSIS_AHEAD, type AnalysisPool } from './text/analysis-pool.js';
@@ -259,6 +259,13 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promis
     const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
     if (!plan) continue;
     await useStoredLabels(ctx, [plan.kept]);
+    // The store relabels the event left behind when its label sentence moved (commitSplit);
+    // the notification says the same: its earliest remaining sentence, as listed.
+    const moved = new Set(plan.moved.map((m) => `${m.articleId}#${m.sentenceIndex}`));
+    const movedTexts = linked.filter((l) => moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`)).map((l) => l.mention.text).filter((t) => t !== '');
+    if (drawnFrom(plan.kept.label, movedTexts)) {
+      plan.kept.label = linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text ?? ERASED_LABEL;
+    }
     await ctx.store.commitSplit({
       from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
       into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },

@@ -46,6 +46,23 @@ describe('consolidation splits an event that drifted', () => {
     return [...events][0]!;
   }
 
+  it('relabels the event left behind when its label sentence moved, in the store and in the notification alike', async () => {
+    rt = await testRuntime({
+      link: { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
+    });
+    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'sentences', indices: new Set([0]) }) }).pipe(toArray()));
+    const id = outcomes[0]!.assignments[0]!.eventIds[0]!;
+    // As if the event had been labelled by a strike report (a split-off part keeps no opener of its own).
+    (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('UPDATE events SET label = ? WHERE id = ?').run(TEXTS[5], id);
+    const { splits } = await consolidate(rt, [id]);
+    expect(splits).toHaveLength(1);
+    expect(splits[0]!.moved.map((m) => m.articleId)).toContain('https://pier.example/5');
+    expect((await rt.store.getEvent(id))!.event.label).toBe(TEXTS[0]);
+    const message = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).find((d) => d.type === 'event.split')!;
+    expect(JSON.parse(message.body).data.event.label).toBe(TEXTS[0]);
+  });
+
   it('moves the strike reports to a new event, records the split and notifies subscribers', async () => {
     const id = await chainedRun();
     const { merges, splits } = await consolidate(rt, [id]);

@@ -14,7 +14,7 @@ import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
-import { ERASED_LABEL } from '../store.js';
+import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
@@ -86,7 +86,7 @@ export class SqliteStore implements Store {
       // The text of an event's earliest linked sentence that still has its text (for relabelling).
       earliestText: db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
-        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published LIMIT 1`).pluck(),
+        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published, l.article_id, l.sentence_idx LIMIT 1`).pluck(),
       sentenceText: db.prepare('SELECT text FROM sentences WHERE article_id = ? AND idx = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
@@ -598,13 +598,6 @@ function mentionOf(r: Row): LinkedMention['mention'] {
   };
 }
 
-function drawnFrom(label: string, sentences: ReadonlySet<string>): boolean {
-  if (sentences.has(label)) return true;
-  if (!label.endsWith('…')) return false;
-  const stem = label.slice(0, -1);
-  for (const t of sentences) if (t.startsWith(stem)) return true;
-  return false;
-}
 
 /** Per-article document-frequency rows folded into the snapshot this often. */
 const IDF_SNAPSHOT_EVERY = 2000;

@@ -89,16 +89,19 @@ local function body_relabelled(body, erased, new)
   return table.concat(out)
 end
 
--- The text of an event's earliest linked sentence that still has its text, or nil.
+-- The text of an event's earliest linked sentence that still has its text, or nil; ties
+-- on the publication time go to the lower article id, then sentence index.
 local function earliest_text(P, ev)
-  local best, bestAt = nil, nil
+  local best, bestKey = nil, nil
   for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. ev)) do
     local nl = string.find(member, '\n', 1, true)
     local article, idx = string.sub(member, 1, nl - 1), string.sub(member, nl + 1)
     local t = redis.call('HGET', P .. ':sentence-text:' .. article, idx)
     if t then
-      local at = cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published
-      if not bestAt or at < bestAt then best, bestAt = t, at end
+      local key = { cjson.decode(redis.call('HGET', P .. ':mentions:' .. article, idx)).published, article, tonumber(idx) }
+      local earlier = not bestKey or key[1] < bestKey[1]
+        or (key[1] == bestKey[1] and (key[2] < bestKey[2] or (key[2] == bestKey[2] and key[3] < bestKey[3])))
+      if earlier then best, bestKey = t, key end
     end
   end
   return best
