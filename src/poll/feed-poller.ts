@@ -43,6 +43,13 @@ export interface PollerDeps {
   logger: Logger;
   now?: () => Date;
   random?: () => number;
+  /**
+   * Whether this process polls now. Several api processes on one Redis partition share the
+   * feeds: each serves them through the API, one (the lease holder) polls. Default: always.
+   */
+  polls?: () => boolean;
+  /** How often the feeds are read back from the store (changes made through other processes), ms. Default 5 s. */
+  refreshMs?: number;
 }
 
 /** What one round of polling did. */
@@ -64,6 +71,8 @@ const HANDED_ON_KEPT = 50_000;
 const MAX_RETRY_AFTER_MS = 7 * 86_400_000;
 /** How often due feeds are looked for, ms. */
 const TICK_MS = 1000;
+/** How often the feeds are read back from the store, ms. */
+const REFRESH_MS = 5000;
 
 /** The feed id for a URL: the same URL is the same feed. */
 export function feedId(url: string): string {
@@ -77,6 +86,9 @@ export class FeedPoller {
   private readonly handedOn = new Set<string>();
   private timer: NodeJS.Timeout | null = null;
   private round: Promise<RoundSummary> | null = null;
+  private refreshing: Promise<void> | null = null;
+  private closing: Promise<void> | null = null;
+  private lastRefresh = 0;
   private readonly now: () => Date;
   private readonly random: () => number;
   private readonly log: Logger;
@@ -116,11 +128,16 @@ export class FeedPoller {
     }
   }
 
-  /** Polls due feeds every second until stop(). */
+  /** Polls due feeds every second (while `polls()` says so) and reads the feeds back from the store every few seconds, until stop(). */
   start(): void {
     if (this.timer) return;
     this.timer = setInterval(() => {
-      if (!this.round) this.round = this.pollDue().catch((err: unknown) => {
+      if (!this.refreshing && Date.now() - this.lastRefresh >= (this.d.refreshMs ?? REFRESH_MS)) {
+        this.refreshing = this.refresh().catch((err: unknown) => {
+          this.log.error({ err: describeError(err) }, 'reading the feeds back failed');
+        }).finally(() => { this.refreshing = null; });
+      }
+      if (!this.round && (this.d.polls?.() ?? true)) this.round = this.pollDue().catch((err: unknown) => {
         this.log.error({ err: describeError(err) }, 'polling round failed');
         return emptyRound();
       }).finally(() => { this.round = null; });
@@ -128,12 +145,29 @@ export class FeedPoller {
     this.timer.unref();
   }
 
-  /** Stops polling, waits for the round in progress and closes the connections. */
+  /** Stops polling, waits for the round in progress and closes the connections (once: a second call does nothing). */
   async stop(): Promise<void> {
     if (this.timer) clearInterval(this.timer);
     this.timer = null;
     await this.round;
-    await this.agent.close();
+    await this.refreshing;
+    this.closing ??= this.agent.close();
+    await this.closing;
+  }
+
+  /**
+   * Reads the feeds back from the store, where other processes add, change and remove them
+   * and the polling process keeps their state. A feed being polled here keeps the entry in
+   * hand (its poll writes the result).
+   */
+  async refresh(): Promise<void> {
+    this.lastRefresh = Date.now();
+    const stored = await this.d.store.listFeeds();
+    const next = new Map<string, FeedEntry>();
+    for (const f of stored) next.set(f.id, this.busy.has(f.id) ? (this.feeds.get(f.id) ?? f) : f);
+    for (const id of this.busy) if (!next.has(id) && this.feeds.has(id)) next.set(id, this.feeds.get(id)!);
+    this.feeds.clear();
+    for (const [id, f] of next) this.feeds.set(id, f);
   }
 
   /** Every feed with its state, in the order added. */
@@ -155,6 +189,8 @@ export class FeedPoller {
     }
     if (!/^https?:$/.test(url.protocol)) throw new StrandError('STRAND_REQUEST_INVALID', `feed URL must be http or https, not ${url.protocol}`);
     checkUrlHost(url, this.d.limits.allowPrivateNetworks ?? false);
+    // Another process may have added it, or others, since the last read.
+    await this.refresh();
     const id = feedId(url.href);
     if (this.feeds.has(id)) throw new StrandError('STRAND_FEED_CONFLICT', `feed ${url.href} is already polled (${id})`);
     if (this.feeds.size >= this.d.options.maxFeeds) throw new StrandError('STRAND_FEED_CONFLICT', `already polling poll.maxFeeds (${this.d.options.maxFeeds}) feeds`);
@@ -165,21 +201,26 @@ export class FeedPoller {
 
   /** Pauses or resumes a feed, or changes its interval or outlet. */
   async update(id: string, change: { paused?: boolean | undefined; intervalSeconds?: number | undefined; outlet?: string | null | undefined }): Promise<FeedEntry> {
-    const f = this.feeds.get(id);
-    if (!f) throw new StrandError('STRAND_NOT_FOUND', `no feed ${id}`);
-    const next: FeedEntry = { ...f, state: { ...f.state } };
-    if (change.paused !== undefined) next.paused = change.paused;
-    if (change.intervalSeconds !== undefined) next.intervalSeconds = change.intervalSeconds;
-    if (change.outlet !== undefined) next.outlet = change.outlet;
-    // A resumed feed is polled at once.
-    if (f.paused && change.paused === false) next.state.nextPollAt = this.now().toISOString();
-    await this.save(next);
+    // Applied to the feed as stored, atomically: the polling process may be saving a poll of it.
+    const next = await this.d.store.updateFeed(id, (f) => {
+      const n: FeedEntry = { ...f, state: { ...f.state } };
+      if (change.paused !== undefined) n.paused = change.paused;
+      if (change.intervalSeconds !== undefined) n.intervalSeconds = change.intervalSeconds;
+      if (change.outlet !== undefined) n.outlet = change.outlet;
+      // A resumed feed is polled at once.
+      if (f.paused && change.paused === false) n.state.nextPollAt = this.now().toISOString();
+      return n;
+    });
+    if (!next) {
+      this.feeds.delete(id);
+      throw new StrandError('STRAND_NOT_FOUND', `no feed ${id}`);
+    }
+    this.feeds.set(id, next);
     return next;
   }
 
   /** Stops polling a feed and forgets it (its articles stay). */
   async remove(id: string): Promise<boolean> {
-    if (!this.feeds.has(id)) return false;
     this.feeds.delete(id);
     return this.d.store.deleteFeed(id);
   }
@@ -264,10 +305,11 @@ export class FeedPoller {
     } catch (err) {
       fail(describeError(err), backoff());
     }
-    // The feed may have been removed or changed while it was being fetched.
-    const current = this.feeds.get(f.id);
-    if (!current) return;
-    await this.save({ ...current, state: s });
+    // Only the state is written, onto the feed as stored: it may have been changed (through
+    // any api process) or removed while it was being fetched.
+    const saved = await this.d.store.updateFeed(f.id, (current) => ({ ...current, state: s }));
+    if (saved) this.feeds.set(f.id, saved);
+    else this.feeds.delete(f.id);
     if (s.lastError && s.failures > 0) this.log.warn({ feed: f.url, failures: s.failures, error: s.lastError, next: s.nextPollAt }, 'feed poll failed');
   }
 

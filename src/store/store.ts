@@ -323,6 +323,12 @@ export interface Store {
   listFeeds(): Promise<FeedEntry[]>;
   /** Adds or replaces one polled feed. */
   putFeed(f: FeedEntry): Promise<void>;
+  /**
+   * Changes one stored feed atomically: `change` gets the entry as stored and returns the
+   * new one (it may run more than once when another process writes the feed meanwhile).
+   * Null, and nothing written, when the feed is not stored.
+   */
+  updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null>;
   /** Removes one polled feed; false when there was none. */
   deleteFeed(id: string): Promise<boolean>;
   /** Erases article and sentence text of articles published before `day`; returns how many articles. */

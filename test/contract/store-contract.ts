@@ -359,6 +359,21 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.listFeeds()).map((f) => f.id)).toEqual(['fd_b']);
     });
 
+    it('changes one stored feed through a function of the feed as stored; nothing for a feed not stored', async () => {
+      const f = {
+        id: 'fd_a', url: 'https://fd-a.example/rss', outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added: '2026-10-01T08:00:00.000Z',
+        state: { etag: null, lastModified: null, nextPollAt: '2026-10-01T08:00:00.000Z', lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null, failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [] },
+      };
+      await store.putFeed(f);
+      const paused = await store.updateFeed('fd_a', (cur) => ({ ...cur, paused: true }));
+      expect(paused).toEqual({ ...f, paused: true });
+      // A poll's result written afterwards keeps the pause: it changes the state only.
+      await store.updateFeed('fd_a', (cur) => ({ ...cur, state: { ...cur.state, requests: 1, etag: '"v1"', delaysMs: [5] } }));
+      expect(await store.listFeeds()).toEqual([{ ...f, paused: true, state: { ...f.state, requests: 1, etag: '"v1"', delaysMs: [5] } }]);
+      expect(await store.updateFeed('fd_missing', (cur) => cur)).toBeNull();
+      expect((await store.listFeeds()).map((x) => x.id)).toEqual(['fd_a']);
+    });
+
     it('erases stored text on demand and by age, keeping links and events', async () => {
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'Old text.');
       const a2 = article('a2', 'O', '2026-10-20T10:00:00.000Z', 'New text.');

@@ -48,6 +48,21 @@ describe.skipIf(!run)('the Redis store', () => {
     }
   });
 
+  it('loses no feed change when processes update one feed at the same time (compare and set)', async () => {
+    const a = await freshStore();
+    const b = await openRedisStore({ url: REDIS_URL, partition: a.keys.prefix.replace(/^\{strandline:|\}$/g, '') });
+    try {
+      const state = { etag: null, lastModified: null, nextPollAt: '2026-10-01T08:00:00.000Z', lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null, failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [] };
+      await a.putFeed({ id: 'fd_a', url: 'https://fd-a.example/rss', outlet: null, intervalSeconds: 600, paused: false, origin: 'api', added: '2026-10-01T08:00:00.000Z', state });
+      const bump = (s: typeof a) => s.updateFeed('fd_a', (cur) => ({ ...cur, state: { ...cur.state, requests: cur.state.requests + 1 } }));
+      await Promise.all(Array.from({ length: 30 }, (_, i) => bump(i % 2 ? a : b)));
+      expect((await b.listFeeds())[0]!.state.requests).toBe(30);
+    } finally {
+      await a.close();
+      await b.close();
+    }
+  });
+
   it('prunes in batches: thousands of settled deliveries go in one call', async () => {
     const store = await freshStore();
     const redis = (store as unknown as { redis: import('ioredis').Redis }).redis;

@@ -6,6 +6,7 @@ import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';
 import type { IngestStatus } from '../../api/routes/operations.js';
 import type { Config } from '../../config/schema.js';
+import { Lease } from '../../distribute/lease.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
 import type { Logger } from '../../logger.js';
@@ -15,6 +16,7 @@ import type { Article } from '../../records.js';
 import type { Store } from '../../store/store.js';
 import { createRuntime } from '../../runtime.js';
 import { openStore } from '../../store/open-store.js';
+import { keyspace } from '../../store/redis/keys.js';
 import { RetentionSweeper } from '../../store/retention-sweeper.js';
 import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
 import { formatSummary, runFeeds } from '../run-feeds.js';
@@ -91,9 +93,9 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
 }
 
 /** Loads the feed list and starts polling, unless poll.enabled is off. */
-async function startPoller(config: Readonly<Config>, logger: Logger, store: Store, submit: (a: readonly Article[]) => Promise<void>): Promise<FeedPoller | null> {
+async function startPoller(config: Readonly<Config>, logger: Logger, store: Store, submit: (a: readonly Article[]) => Promise<void>, polls?: () => boolean): Promise<FeedPoller | null> {
   if (!config.poll.enabled) return null;
-  const poller = new FeedPoller({ store, submit, limits: config.ingest, options: config.poll, logger });
+  const poller = new FeedPoller({ store, submit, limits: config.ingest, options: config.poll, logger, ...(polls ? { polls } : {}) });
   await poller.load(config.poll.feeds);
   poller.start();
   const n = poller.list().length;
@@ -136,7 +138,10 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const queue = await openQueue(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a));
-  const poller = await startPoller(config, logger, store, submit);
+  // Every api process serves the feeds; the one holding the partition's poll lease polls them.
+  const lease = new Lease(queue.redis, keyspace(config.store.redis.partition).pollLease, 'feed poller', logger);
+  if (config.poll.enabled) await lease.start();
+  const poller = await startPoller(config, logger, store, submit, () => lease.held);
   const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   warnIfOpen(config, logger);
@@ -150,6 +155,7 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   }
   await untilSignal();
   await poller?.stop();
+  await lease.stop();
   await app.close();
   queue.close();
   await store.close();

@@ -71,6 +71,8 @@ export interface Keyspace {
   readonly answered: string;
   /** The lease a linker holds to be the partition's only linker. */
   readonly linkerLease: string;
+  /** The lease an api process holds to be the partition's only feed poller. */
+  readonly pollLease: string;
   /** The last intake entry whose article the linker has committed. */
   readonly linkerPosition: string;
   /** Every key of the partition (for SCAN; tests and `dropPartition`). */
@@ -121,6 +123,7 @@ export function keyspace(partition: string): Keyspace {
     deadLetters: `${p}:dead-letters`,
     answered: `${p}:answered`,
     linkerLease: `${p}:linker-lease`,
+    pollLease: `${p}:poll-lease`,
     linkerPosition: `${p}:linker-position`,
     pattern: `${p}:*`,
   };

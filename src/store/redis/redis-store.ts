@@ -29,6 +29,8 @@ import { defineScript } from './scripts.js';
 /** The label an event takes when the text it was labelled with is erased and no other text remains. */
 /** Reads per pipeline round trip. */
 const CHUNK = 500;
+/** Tries of a feed update that other writers keep overtaking. */
+const FEED_UPDATE_ATTEMPTS = 50;
 /** Deliveries one pruning script call removes at most. */
 const PRUNE_BATCH = 500;
 
@@ -40,6 +42,7 @@ interface Scripts {
   commitSplit: Script;
   eraseArticle: Script;
   pruneNotifications: Script;
+  setIfUnchanged: Script;
 }
 
 /** Options for a Redis store. */
@@ -72,6 +75,7 @@ export class RedisStore implements Store {
       commitSplit: defineScript(redis, 'commit-split'),
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
+      setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
     };
   }
 
@@ -395,6 +399,22 @@ export class RedisStore implements Store {
   async putFeed(f: FeedEntry): Promise<void> {
     // NX keeps a feed's place in the list when it is written again.
     await this.redis.multi().hset(this.k.feeds, f.id, JSON.stringify(f)).zadd(this.k.feedOrder, 'NX', String(Date.parse(f.added) || 0), f.id).exec();
+  }
+
+  async updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
+    // Compare and set: another process (an api process serving a change, the polling one
+    // saving a poll) may write the feed between the read and the write.
+    for (let attempt = 0; attempt < FEED_UPDATE_ATTEMPTS; attempt++) {
+      const data = await this.redis.hget(this.k.feeds, id);
+      if (data === null) return null;
+      const next = change(JSON.parse(data) as FeedEntry);
+      const done = await this.scripts.setIfUnchanged(this.k.feeds, id, data, JSON.stringify(next));
+      if (done === 1) return next;
+      if (done === -1) return null;
+      // Overtaken: wait a little (longer each time, with jitter) so that contenders spread out.
+      await new Promise((r) => setTimeout(r, Math.random() * (attempt + 1) * 2));
+    }
+    throw new StrandError('STRAND_STORE_FAILED', `feed ${id} kept changing under ${FEED_UPDATE_ATTEMPTS} attempts to update it`);
   }
 
   async deleteFeed(id: string): Promise<boolean> {

@@ -467,6 +467,16 @@ export class SqliteStore implements Store {
     this.db.prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data').run(f.id, JSON.stringify(f));
   }
 
+  async updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
+    return this.db.transaction((): FeedEntry | null => {
+      const data = this.db.prepare('SELECT data FROM feeds WHERE id = ?').pluck().get(id) as string | undefined;
+      if (data === undefined) return null;
+      const next = change(JSON.parse(data) as FeedEntry);
+      this.db.prepare('UPDATE feeds SET data = ? WHERE id = ?').run(JSON.stringify(next), id);
+      return next;
+    })();
+  }
+
   async deleteFeed(id: string): Promise<boolean> {
     return this.db.prepare('DELETE FROM feeds WHERE id = ?').run(id).changes > 0;
   }
