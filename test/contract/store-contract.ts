@@ -39,6 +39,17 @@ function commitFor(a: Article, text: string, event: EventState | null, opts: { i
   };
 }
 
+/** Three articles linked into one event that drifted: a fire at a pier, then a strike there (for splits). */
+async function fireThenStrike(store: Store): Promise<{ first: ReturnType<typeof commitFor>; second: ReturnType<typeof commitFor>; third: ReturnType<typeof commitFor> }> {
+  const first = commitFor(article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x'), 'A fire destroyed a warehouse.', null);
+  await store.commitArticle(first.commit);
+  const second = commitFor(article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y'), 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
+  await store.commitArticle(second.commit);
+  const third = commitFor(article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z'), 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event)));
+  await store.commitArticle(third.commit);
+  return { first, second, third };
+}
+
 /** A commit of one article opening one event (for store-specific tests). */
 export function commitFixture(id: string): ArticleCommit {
   return commitFor(article(id, 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'A fire destroyed a warehouse.'), 'A fire destroyed a warehouse.', null).commit;
@@ -269,15 +280,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     });
 
     it('splits part of an event off into a new one: links move, both events are written, the split is recorded', async () => {
-      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
-      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
-      const a3 = article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z');
-      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
-      await store.commitArticle(first.commit);
-      const second = commitFor(a2, 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
-      await store.commitArticle(second.commit);
-      const third = commitFor(a3, 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event)));
-      await store.commitArticle(third.commit);
+      const { first, second, third } = await fireThenStrike(store);
       const kept = openEvent(first.event.id, first.commit.mentions[0] as EmbeddedMention);
       addMention(kept, first.commit.mentions[0] as EmbeddedMention, 1, 300);
       const split = openEvent('ev_split', second.commit.mentions[0] as EmbeddedMention);
@@ -303,14 +306,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     });
 
     it('relabels an event whose label sentence moved away in a split with its earliest remaining sentence', async () => {
-      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
-      const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
-      const a3 = article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z');
-      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
-      await store.commitArticle(first.commit);
-      const second = commitFor(a2, 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
-      await store.commitArticle(second.commit);
-      await store.commitArticle(commitFor(a3, 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event))).commit);
+      const { first, second } = await fireThenStrike(store);
       expect((await store.getEvent(first.event.id))!.event.label).toBe('A fire destroyed a warehouse.');
       // The part with the labelling sentence goes (as when a split-off event, whose opener is not its id's, splits again).
       const kept = openEvent(first.event.id, second.commit.mentions[0] as EmbeddedMention);
