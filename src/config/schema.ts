@@ -167,7 +167,7 @@ export const configSchema = z.strictObject({
      * A further link for the same sentence needs at least threshold + this. Default 0: every
      * event clearing the threshold (up to three) gets a link of its own; against 0.1 it raised
      * extended BCubed and pairwise F1 on meantime-en and the demo alike (sentences there often
-     * report several events), and cross-story recall on the demo from 28 to 37 %.
+     * report several events), and cross-story recall on the demo from 28 to 38 %.
      */
     secondaryMargin: z.number().min(0).max(1).default(0),
     /** Terms kept per event centroid. Default 300. */
