@@ -589,7 +589,6 @@ export class SqliteStore implements Store {
   }
 }
 
-/** Whether a label is one of these sentences, or one cut short (ending in an ellipsis). */
 /** A linked mention as stored, from a row of the mentions joined with its sentence. */
 function mentionOf(r: Row): LinkedMention['mention'] {
   return {
@@ -607,7 +606,6 @@ function mentionOf(r: Row): LinkedMention['mention'] {
     vector: r.vector ? decodeVector(r.vector as Buffer) : null,
   };
 }
-
 
 /** Per-article document-frequency rows folded into the snapshot this often. */
 const IDF_SNAPSHOT_EVERY = 2000;

@@ -46,18 +46,26 @@ local function json_string_end(s, i)
   return #s
 end
 
--- A message body with every "text" string value replaced by null (a mention's sentence).
-local function body_without_text(body)
+-- A message body with each string value of `field` rewritten: f(value) gives the JSON to
+-- put in its place, or nil to leave it.
+local function rewrite_field(body, field, f)
   local out, at = {}, 1
+  local key = '"' .. field .. '":'
   while true do
-    local a, b = string.find(body, '"text":"', at, true)
+    local a, b = string.find(body, key .. '"', at, true)
     if not a then break end
     local e = json_string_end(body, b + 1)
-    table.insert(out, string.sub(body, at, a - 1) .. '"text":null')
+    local new = f(cjson.decode(string.sub(body, b, e)))
+    table.insert(out, string.sub(body, at, a - 1) .. key .. (new or string.sub(body, b, e)))
     at = e + 1
   end
   table.insert(out, string.sub(body, at))
   return table.concat(out)
+end
+
+-- A message body with every "text" string value replaced by null (a mention's sentence).
+local function body_without_text(body)
+  return rewrite_field(body, 'text', function() return 'null' end)
 end
 
 -- Whether a label is one of the sentences, or one cut short (ending in an ellipsis:
@@ -72,21 +80,9 @@ end
 
 -- A message body with every "label" drawn from the erased sentences set to new.
 local function body_relabelled(body, erased, new)
-  local out, at = {}, 1
-  while true do
-    local a, b = string.find(body, '"label":"', at, true)
-    if not a then break end
-    local e = json_string_end(body, b + 1)
-    local value = cjson.decode(string.sub(body, b, e))
-    if drawn_from(value, erased) then
-      table.insert(out, string.sub(body, at, a - 1) .. '"label":' .. cjson.encode(new))
-    else
-      table.insert(out, string.sub(body, at, e))
-    end
-    at = e + 1
-  end
-  table.insert(out, string.sub(body, at))
-  return table.concat(out)
+  return rewrite_field(body, 'label', function(value)
+    if drawn_from(value, erased) then return cjson.encode(new) end
+  end)
 end
 
 -- The text of an event's earliest linked sentence that still has its text, or nil; ties
