@@ -3,6 +3,16 @@
  * start-up by load-config.ts, then frozen and passed down explicitly.
  */
 import { z } from 'zod';
+import { NetworkGuard, WEBHOOK_NAMES, parseNetworks } from '../ingest/network-guard.js';
+
+/** CIDR networks (or single addresses) an operator opens despite the private-network refusal. */
+const networkList = z.array(z.string().min(1).max(100)).max(256).default([]).superRefine((list, ctx) => {
+  try {
+    parseNetworks(list);
+  } catch (err) {
+    ctx.addIssue({ code: 'custom', message: (err as Error).message });
+  }
+});
 
 const subscriberSchema = z.strictObject({
   /** Name used in logs and the API. */
@@ -56,8 +66,13 @@ export const configSchema = z.strictObject({
     maxPushItems: z.number().int().min(1).max(100_000).default(1000),
     /** Time allowed for one feed fetch, ms. Default 15 s. */
     fetchTimeoutMs: z.number().int().min(100).default(15_000),
-    /** Fetch feed URLs on loopback, private or link-local addresses (refused by default: server-side request forgery). */
+    /**
+     * Fetch feed and article URLs on loopback, private, link-local and other special-purpose
+     * addresses. Default false: refused (server-side request forgery).
+     */
     allowPrivateNetworks: z.boolean().default(false),
+    /** Networks fetched even so, as CIDR (`10.20.0.0/16`) or addresses, e.g. an intranet feed host. Default none. */
+    allowedNetworks: networkList,
     /** Redirects followed for one feed URL. Default 5. */
     maxRedirects: z.number().int().min(0).max(20).default(5),
   }).prefault({}),
@@ -201,7 +216,27 @@ export const configSchema = z.strictObject({
     timeoutMs: z.number().int().min(100).default(10_000),
     /** How often due deliveries are looked for, ms. Default 1 s. */
     pollMs: z.number().int().min(10).default(1000),
-  }).prefault({}),
+    /** Deliveries in flight at once, one per subscriber at most (a slow receiver delays only itself). Default 8. */
+    concurrency: z.number().int().min(1).max(256).default(8),
+    /**
+     * Deliver to loopback, private, link-local and other special-purpose addresses. Default
+     * false: refused at start-up when a subscriber's URL names one, and at every delivery
+     * for the addresses its name resolves to (server-side request forgery).
+     */
+    allowPrivateNetworks: z.boolean().default(false),
+    /** Networks delivered to even so, as CIDR or addresses. Default none. */
+    allowedNetworks: networkList,
+  }).prefault({}).superRefine((w, ctx) => {
+    // Literal addresses are judged now; names are judged at every delivery (DNS answers change).
+    const guard = new NetworkGuard(w, WEBHOOK_NAMES);
+    w.subscribers.forEach((s, i) => {
+      try {
+        guard.checkUrl(new URL(s.url));
+      } catch (err) {
+        ctx.addIssue({ code: 'custom', message: (err as Error).message, path: ['subscribers', i, 'url'] });
+      }
+    });
+  }),
   retention: z.strictObject({
     /** Days after which stored article and sentence text is erased (links and events stay). Default null: keep. */
     textDays: z.number().int().min(1).nullable().default(null),

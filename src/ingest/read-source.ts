@@ -10,16 +10,14 @@ import type { Article } from '../records.js';
 import { decodeBytes } from './decode-bytes.js';
 import { parseFeed } from './parse-feed.js';
 import { toArticle } from './to-article.js';
-import { checkUrlHost, guardedAgent } from './network-guard.js';
+import { NetworkGuard, type NetworkPolicy } from './network-guard.js';
 import { type Agent, fetch as undiciFetch } from 'undici';
 
 /** Limits applied while reading. */
-export interface ReadLimits {
+export interface ReadLimits extends NetworkPolicy {
   maxFeedBytes: number;
   maxArticleChars: number;
   fetchTimeoutMs: number;
-  /** Fetch URLs on loopback, private or link-local addresses (default false). */
-  allowPrivateNetworks?: boolean;
   /** Redirects followed (default 5). */
   maxRedirects?: number;
 }
@@ -164,7 +162,7 @@ export interface FetchedFeed {
  * a redirect limit, a timeout and a size cap. Sends the validators of an earlier answer; a
  * 304 comes back as such. Throws (with a StrandError) only for what is not an HTTP answer
  * or breaks a limit; the body is read only for a 200. A caller polling many feeds passes
- * one `agent` (from guardedAgent) for all of them, so connections are kept and reused.
+ * one `agent` (from NetworkGuard.agent) for all of them, so connections are kept and reused.
  */
 export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent): Promise<FetchedFeed> {
   return fetchDocument(url, limits, { validators, accept: FEED_TYPES }, agent);
@@ -174,17 +172,17 @@ const FEED_TYPES = 'application/rss+xml, application/atom+xml, application/feed+
 
 /** fetchFeed for any document (a linked article page): the same guard and limits, the given Accept. */
 export async function fetchDocument(url: string, limits: ReadLimits, o: { validators?: Validators; accept: string }, agent?: Agent): Promise<FetchedFeed> {
-  const allowPrivate = limits.allowPrivateNetworks ?? false;
-  if (agent) return fetchWith(agent, url, limits, allowPrivate, o.validators ?? {}, o.accept);
-  const own = guardedAgent(allowPrivate);
+  const guard = new NetworkGuard(limits);
+  if (agent) return fetchWith(agent, url, limits, guard, o.validators ?? {}, o.accept);
+  const own = guard.agent();
   try {
-    return await fetchWith(own, url, limits, allowPrivate, o.validators ?? {}, o.accept);
+    return await fetchWith(own, url, limits, guard, o.validators ?? {}, o.accept);
   } finally {
     void own.close();
   }
 }
 
-async function fetchWith(agent: Agent, url: string, limits: ReadLimits, allowPrivate: boolean, validators: Validators, accept: string): Promise<FetchedFeed> {
+async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: NetworkGuard, validators: Validators, accept: string): Promise<FetchedFeed> {
   const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
   let res: Response;
   let at = new URL(url);
@@ -193,7 +191,7 @@ async function fetchWith(agent: Agent, url: string, limits: ReadLimits, allowPri
   if (validators.lastModified) headers['if-modified-since'] = validators.lastModified;
   // Redirects are followed here, one by one, so that each target's address is checked too.
   for (let hop = 0; ; hop++) {
-    checkUrlHost(at, allowPrivate);
+    guard.checkUrl(at);
     try {
       res = (await undiciFetch(at, { signal, dispatcher: agent, headers, redirect: 'manual' })) as unknown as Response;
     } catch (err) {

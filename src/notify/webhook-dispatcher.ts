@@ -3,12 +3,21 @@
  * backoff and full jitter (common practice; "Exponential Backoff And Jitter", AWS
  * Architecture Blog, 2015) until a 2xx answer or `maxAttempts`, after which the delivery
  * moves to the dead-letter list. Only 2xx counts as delivered (Standard Webhooks spec).
+ *
+ * Each subscriber has a lane of its own: its deliveries go one at a time, in order, while
+ * other subscribers' lanes run beside it (up to `concurrency` at once). A receiver that
+ * hangs holds up its own lane only; the others keep being served every `pollMs`.
  */
+import { fetch as undiciFetch, type Agent } from 'undici';
 import type { Config, Subscriber } from '../config/schema.js';
 import { describeError } from '../errors.js';
+import { NetworkGuard, WEBHOOK_NAMES } from '../ingest/network-guard.js';
 import type { Logger } from '../logger.js';
 import type { Delivery, Store } from '../store/store.js';
 import { signWebhook } from './sign-webhook.js';
+
+/** The fetch the dispatcher calls: undici's, with the address-guarded agent as dispatcher. */
+export type DeliveryFetch = (url: string, init: { method: string; headers: Record<string, string>; body: string; signal: AbortSignal; redirect: 'manual'; dispatcher: Agent }) => Promise<Response>;
 
 /** Injected so tests control time, chance and the network. */
 export interface DispatcherDeps {
@@ -17,11 +26,12 @@ export interface DispatcherDeps {
   logger: Logger;
   now?: () => Date;
   random?: () => number;
-  fetch?: typeof fetch;
+  fetch?: DeliveryFetch;
 }
 
 const BASE_DELAY_MS = 5_000;
 const MAX_DELAY_MS = 60 * 60_000;
+/** Due deliveries read per poll (over every idle subscriber). */
 const BATCH = 50;
 
 /** Delay before retry `attempt` (1-based): a random value up to 5 s x 2^(attempt-1), capped at one hour. */
@@ -31,22 +41,28 @@ export function retryDelayMs(attempt: number, random: () => number): number {
   return Math.max(1000, Math.floor(random() * ceiling));
 }
 
-/** Polls the outbox and delivers what is due. */
+/** Polls the outbox and delivers what is due, one lane per subscriber. */
 export class WebhookDispatcher {
   private timer: NodeJS.Timeout | null = null;
-  private running: Promise<void> | null = null;
+  private polling: Promise<Promise<void>[]> | null = null;
+  /** Subscribers with a delivery in progress, and the lane that runs it. */
+  private readonly lanes = new Map<string, Promise<void>>();
   private readonly subscribers: Map<string, Subscriber>;
   private readonly now: () => Date;
   private readonly random: () => number;
-  private readonly fetch: typeof fetch;
+  private readonly fetch: DeliveryFetch;
   private readonly log: Logger;
+  private readonly agent: Agent;
+  /** Aborts deliveries in flight when the dispatcher stops. */
+  private readonly stopping = new AbortController();
 
   constructor(private readonly d: DispatcherDeps) {
     this.subscribers = new Map(d.config.subscribers.map((s) => [s.name, s]));
     this.now = d.now ?? (() => new Date());
     this.random = d.random ?? Math.random;
-    this.fetch = d.fetch ?? fetch;
+    this.fetch = d.fetch ?? (undiciFetch as unknown as DeliveryFetch);
     this.log = d.logger.child({ stage: 'webhooks' });
+    this.agent = new NetworkGuard(d.config, WEBHOOK_NAMES).agent();
   }
 
   /** Starts polling every `pollMs`. */
@@ -56,24 +72,61 @@ export class WebhookDispatcher {
     this.timer.unref();
   }
 
-  /** Stops polling and waits for the delivery round in progress. */
+  /**
+   * Stops polling; deliveries in flight are abandoned (they stay due, and go again with the
+   * same webhook-id at the next start, so receivers drop a repeat) and their lanes awaited.
+   */
   async stop(): Promise<void> {
     if (this.timer) clearInterval(this.timer);
     this.timer = null;
-    await this.running;
+    this.stopping.abort();
+    await this.polling?.catch(() => undefined);
+    await Promise.all([...this.lanes.values()]);
+    await this.agent.close().catch(() => undefined);
   }
 
-  /** One round: delivers every due message once. Rounds never overlap. */
-  tick(): Promise<void> {
-    this.running ??= this.round().finally(() => {
-      this.running = null;
+  /**
+   * One poll: starts a lane for each idle subscriber with due deliveries. Resolves when the
+   * lanes it started have finished (the timer does not wait; tests do).
+   */
+  async tick(): Promise<void> {
+    if (this.stopping.signal.aborted) return;
+    this.polling ??= this.startLanes().finally(() => {
+      this.polling = null;
     });
-    return this.running;
+    await Promise.all(await this.polling);
   }
 
-  private async round(): Promise<void> {
-    const due = await this.d.store.dueDeliveries(this.now().toISOString(), BATCH);
-    for (const delivery of due) await this.deliver(delivery);
+  private async startLanes(): Promise<Promise<void>[]> {
+    const free = this.d.config.concurrency - this.lanes.size;
+    if (free <= 0) return [];
+    const due = await this.d.store.dueDeliveries(this.now().toISOString(), BATCH, [...this.lanes.keys()]);
+    const bySubscriber = new Map<string, Delivery[]>();
+    for (const delivery of due) {
+      const list = bySubscriber.get(delivery.subscriber);
+      if (list) list.push(delivery);
+      else if (bySubscriber.size < free) bySubscriber.set(delivery.subscriber, [delivery]);
+    }
+    const started: Promise<void>[] = [];
+    for (const [subscriber, deliveries] of bySubscriber) {
+      const lane = this.runLane(deliveries).finally(() => this.lanes.delete(subscriber));
+      this.lanes.set(subscriber, lane);
+      started.push(lane);
+    }
+    return started;
+  }
+
+  private async runLane(deliveries: readonly Delivery[]): Promise<void> {
+    for (const delivery of deliveries) {
+      if (this.stopping.signal.aborted) return;
+      try {
+        await this.deliver(delivery);
+      } catch (err) {
+        // The store refused the record: the delivery stays due and goes again later.
+        this.log.warn({ message: delivery.messageId, subscriber: delivery.subscriber, err: describeError(err) }, 'delivery outcome not recorded');
+        return;
+      }
+    }
   }
 
   private async deliver(d: Delivery): Promise<void> {
@@ -89,13 +142,16 @@ export class WebhookDispatcher {
         method: 'POST',
         headers: { 'content-type': 'application/json', 'user-agent': 'Strandline-Webhooks/0.1', ...signWebhook(sub.secret, d.messageId, this.now(), d.body) },
         body: d.body,
-        signal: AbortSignal.timeout(this.d.config.timeoutMs),
+        signal: AbortSignal.any([AbortSignal.timeout(this.d.config.timeoutMs), this.stopping.signal]),
         redirect: 'manual',
+        dispatcher: this.agent,
       });
       // Drain the body so the connection can be reused.
       await res.arrayBuffer().catch(() => undefined);
       if (res.status < 200 || res.status > 299) error = `HTTP ${res.status}`;
     } catch (err) {
+      // Stopping is not the receiver's failure: the attempt is not counted.
+      if (this.stopping.signal.aborted) return;
       error = describeError((err as Error).cause ?? err);
     }
     const now = this.now();

@@ -8,7 +8,7 @@
 import { createHash } from 'node:crypto';
 import { StrandError, describeError } from '../errors.js';
 import { type ReadLimits, fetchFeed, parseFeedBytes } from '../ingest/read-source.js';
-import { checkUrlHost, guardedAgent } from '../ingest/network-guard.js';
+import { NetworkGuard } from '../ingest/network-guard.js';
 import { fetchFullText } from '../ingest/fetch-full-text.js';
 import { contentHash } from '../ingest/to-article.js';
 import type { Logger } from '../logger.js';
@@ -93,10 +93,12 @@ export class FeedPoller {
   private readonly random: () => number;
   private readonly log: Logger;
   /** One connection pool for every feed (keep-alive across polls), address-guarded. */
-  private readonly agent: ReturnType<typeof guardedAgent>;
+  private readonly guard: NetworkGuard;
+  private readonly agent: ReturnType<NetworkGuard['agent']>;
 
   constructor(private readonly d: PollerDeps) {
-    this.agent = guardedAgent(d.limits.allowPrivateNetworks ?? false);
+    this.guard = new NetworkGuard(d.limits);
+    this.agent = this.guard.agent();
     this.now = d.now ?? (() => new Date());
     this.random = d.random ?? Math.random;
     this.log = d.logger.child({ stage: 'poll' });
@@ -188,7 +190,7 @@ export class FeedPoller {
       throw new StrandError('STRAND_REQUEST_INVALID', `feed URL ${JSON.stringify(req.url.slice(0, 200))} is not a URL`, { cause: err });
     }
     if (!/^https?:$/.test(url.protocol)) throw new StrandError('STRAND_REQUEST_INVALID', `feed URL must be http or https, not ${url.protocol}`);
-    checkUrlHost(url, this.d.limits.allowPrivateNetworks ?? false);
+    this.guard.checkUrl(url);
     // Another process may have added it, or others, since the last read.
     await this.refresh();
     const id = feedId(url.href);

@@ -301,8 +301,8 @@ export interface Store {
   /** Outlets with their article counts. */
   listOutlets(): Promise<{ outlet: string; articles: number }[]>;
   counts(): Promise<StoreCounts>;
-  /** Pending deliveries due at or before `now`. */
-  dueDeliveries(now: string, limit: number): Promise<Delivery[]>;
+  /** Pending deliveries due at or before `now`, oldest first, leaving out those to the subscribers in `skip`. */
+  dueDeliveries(now: string, limit: number, skip?: readonly string[]): Promise<Delivery[]>;
   /** Records the outcome of one delivery attempt. */
   recordAttempt(messageId: string, subscriber: string, outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void>;
   /** Deliveries that gave up. */

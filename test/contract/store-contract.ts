@@ -194,6 +194,16 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
     });
 
+    it('lists due deliveries past the subscribers a dispatcher is busy with, however long their backlog', async () => {
+      const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      // The slow receiver's 700 deliveries are older than the healthy one's single delivery.
+      const messages = Array.from({ length: 700 }, (_, i) => ({ id: `msg_${i}`, type: 'event.opened', body: `{"n":${i}}`, created: new Date(Date.parse('2026-10-05T09:00:00.000Z') + i).toISOString(), subscribers: ['slow'] }));
+      messages.push({ id: 'msg_new', type: 'event.opened', body: '{"n":"new"}', created: '2026-10-05T10:00:00.000Z', subscribers: ['healthy'] });
+      await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5)).map((d) => d.subscriber)).toEqual(['slow', 'slow', 'slow', 'slow', 'slow']);
+      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5, ['slow'])).map((d) => [d.messageId, d.subscriber])).toEqual([['msg_new', 'healthy']]);
+    });
+
     it('records the vector space of its vectors once, and answers the first one recorded', async () => {
       expect(await store.claimVectorSpace('tfidf: 2^18')).toBe('tfidf: 2^18');
       expect(await store.claimVectorSpace('transformer: model sha256 0123')).toBe('tfidf: 2^18');

@@ -15,7 +15,7 @@ const subscriber = {
 
 /** A runtime with a webhook subscriber on SQLite, or on a Redis partition of its own (dropped by `done`). */
 async function runtimeOn(kind: 'sqlite' | 'redis') {
-  const webhooks = { subscribers: [subscriber] };
+  const webhooks = { allowPrivateNetworks: true, subscribers: [subscriber] };
   if (kind === 'sqlite') return { rt: await testRuntime({ webhooks }), done: async () => undefined };
   const redis = { url: 'redis://127.0.0.1:6379', partition: `test-${randomUUID()}` };
   const rt = await createRuntime(testConfig({ webhooks, store: { kind: 'redis', redis } }), createLogger('silent'));

@@ -35,7 +35,7 @@ describe('feeds in, signed notifications out', () => {
     await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
     await new Promise<void>((r) => feedServer.listen(0, '127.0.0.1', r));
     // The feeds are served on 127.0.0.1, which live ingest refuses unless allowed.
-    rt = await testRuntime({ ingest: { allowPrivateNetworks: true }, webhooks: { subscribers: [{ name: 'desk', url: `http://127.0.0.1:${(server.address() as AddressInfo).port}/hook`, secret: SECRET }] } });
+    rt = await testRuntime({ ingest: { allowPrivateNetworks: true }, webhooks: { allowPrivateNetworks: true, subscribers: [{ name: 'desk', url: `http://127.0.0.1:${(server.address() as AddressInfo).port}/hook`, secret: SECRET }] } });
   });
   afterAll(async () => {
     await rt.close();

@@ -26,7 +26,8 @@ function commitWithMessage(store: SqliteStore, created: string): Promise<unknown
 function setup(url: string, fetchImpl?: typeof fetch, maxAttempts = 3, start = new Date('2026-10-10T00:00:00Z')) {
   const store = openSqliteStore(':memory:');
   open.push(store);
-  const config = parseConfig({ webhooks: { subscribers: [{ name: 'recv', url, secret: SECRET }], maxAttempts } });
+  // The receivers here listen on loopback, which a deployment refuses unless allowed.
+  const config = parseConfig({ webhooks: { subscribers: [{ name: 'recv', url, secret: SECRET }], maxAttempts, allowPrivateNetworks: true } });
   let now = start;
   const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent'), now: () => now, random: () => 0.5, ...(fetchImpl ? { fetch: fetchImpl } : {}) });
   return { store, d, advance: (ms: number) => (now = new Date(now.getTime() + ms)), now: () => now };
@@ -96,6 +97,63 @@ describe('delivering webhooks', () => {
     await commitWithMessage(store, '2026-10-10T00:00:00.000Z');
     await d.tick();
     expect((await store.deadLetters(10))[0]!.lastError).toMatch(/ECONNREFUSED|connect/i);
+  });
+
+  it('keeps serving a healthy receiver while another never answers: each subscriber has its own lane', async () => {
+    const hanging = createServer(() => undefined);
+    const arrived: { id: string; at: number }[] = [];
+    const healthy = createServer((req, res) => {
+      req.resume().on('end', () => {
+        arrived.push({ id: req.headers['webhook-id'] as string, at: Date.now() });
+        res.writeHead(204).end();
+      });
+    });
+    for (const s of [hanging, healthy]) {
+      await new Promise<void>((r) => s.listen(0, '127.0.0.1', r));
+      open.push({ close: () => new Promise((r) => { s.closeAllConnections(); s.close(r); }) });
+    }
+    const url = (s: typeof healthy) => `http://127.0.0.1:${(s.address() as AddressInfo).port}/hook`;
+    const store = openSqliteStore(':memory:');
+    open.push(store);
+    const config = parseConfig({ webhooks: {
+      subscribers: [{ name: 'hanging', url: url(hanging), secret: SECRET }, { name: 'healthy', url: url(healthy), secret: SECRET }],
+      allowedNetworks: ['127.0.0.1'], timeoutMs: 10_000, pollMs: 50,
+    } });
+    const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent') });
+    // Five notifications now, five more a second later, each to both subscribers.
+    const created = new Map<string, number>();
+    const publish = async (from: number) => {
+      const at = new Date();
+      const messages = [0, 1, 2, 3, 4].map((i) => ({ id: `msg_${from + i}`, type: 'event.opened', body: '{}', created: at.toISOString(), subscribers: ['hanging', 'healthy'] }));
+      for (const m of messages) created.set(m.id, at.getTime());
+      const c: ArticleCommit = {
+        article: { id: `a${from}`, outlet: 'O', url: null, title: 't', published: at.toISOString(), fetched: at.toISOString(), language: null, text: 'x', contentHash: `h${from}`, duplicateOf: null, source: 's' },
+        sentences: [], mentions: [], links: [], events: [], idf: null, messages,
+      };
+      await store.commitArticle(c);
+    };
+    await publish(0);
+    d.start();
+    await new Promise((r) => setTimeout(r, 1000));
+    await publish(5);
+    for (let i = 0; i < 60 && arrived.length < 10; i++) await new Promise((r) => setTimeout(r, 50));
+    const stopping = Date.now();
+    await d.stop();
+    expect(Date.now() - stopping).toBeLessThan(1000);
+    expect(arrived.map((a) => a.id).sort()).toEqual([...created.keys()].sort());
+    for (const a of arrived) expect(a.at - created.get(a.id)!).toBeLessThan(2000);
+    // The hanging receiver's first delivery was abandoned at stop, not counted as a failure.
+    expect((await store.dueDeliveries('2999-01-01T00:00:00Z', 100)).filter((x) => x.subscriber === 'hanging').map((x) => x.attempts)).toEqual(Array(10).fill(0));
+  });
+
+  it('refuses, at delivery, a subscriber whose name resolves to a private address', async () => {
+    const store = openSqliteStore(':memory:');
+    open.push(store);
+    const config = parseConfig({ webhooks: { subscribers: [{ name: 'recv', url: 'http://localhost:65531/hook', secret: SECRET }], maxAttempts: 1 } });
+    const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent') });
+    await commitWithMessage(store, new Date().toISOString());
+    await d.tick();
+    expect((await store.deadLetters(10))[0]!.lastError).toMatch(/STRAND_SOURCE_FORBIDDEN: localhost is (127\.0\.0\.1|::1) \(loopback\); webhook targets on private networks are called only with webhooks.allowPrivateNetworks/);
   });
 
   it('spreads retries with exponential backoff and full jitter, capped at one hour', () => {

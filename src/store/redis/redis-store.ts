@@ -31,6 +31,9 @@ import { defineScript } from './scripts.js';
 const CHUNK = 500;
 /** Tries of a feed update that other writers keep overtaking. */
 const FEED_UPDATE_ATTEMPTS = 50;
+/** Due deliveries read per page when some subscribers are skipped, and at most in all. */
+const DUE_PAGE = 500;
+const DUE_SCAN = 20_000;
 /** Deliveries one pruning script call removes at most. */
 const PRUNE_BATCH = 500;
 
@@ -325,8 +328,19 @@ export class RedisStore implements Store {
     return { articles: n('articles'), sentences: n('sentences'), mentions: n('mentions'), links: n('links'), events: n('events') };
   }
 
-  async dueDeliveries(now: string, limit: number): Promise<Delivery[]> {
-    return this.deliveries(await this.redis.zrangebyscore(this.k.due, '-inf', String(Date.parse(now)), 'LIMIT', 0, limit));
+  async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
+    const until = String(Date.parse(now));
+    if (skip.length === 0) return this.deliveries(await this.redis.zrangebyscore(this.k.due, '-inf', until, 'LIMIT', 0, limit));
+    // Members are `<message>\n<subscriber>`: pages are read past the skipped subscribers'
+    // backlog, up to DUE_SCAN members, so a receiver that hangs never hides the others'.
+    const skipped = new Set(skip);
+    const keys: string[] = [];
+    for (let offset = 0; keys.length < limit && offset < DUE_SCAN; offset += DUE_PAGE) {
+      const page = await this.redis.zrangebyscore(this.k.due, '-inf', until, 'LIMIT', offset, DUE_PAGE);
+      for (const key of page) if (keys.length < limit && !skipped.has(splitMember(key)[1])) keys.push(key);
+      if (page.length < DUE_PAGE) break;
+    }
+    return this.deliveries(keys);
   }
 
   async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {

@@ -148,7 +148,7 @@ export class SqliteStore implements Store {
       counts: db.prepare(`SELECT (SELECT count(*) FROM articles) AS articles, (SELECT count(*) FROM sentences) AS sentences,
         (SELECT count(*) FROM mentions) AS mentions, (SELECT count(*) FROM links) AS links, (SELECT count(*) FROM events) AS events`),
       due: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
-        WHERE d.status = 'pending' AND d.next_at <= ? ORDER BY d.next_at LIMIT ?`),
+        WHERE d.status = 'pending' AND d.next_at <= ? AND d.subscriber NOT IN (SELECT value FROM json_each(?)) ORDER BY d.next_at LIMIT ?`),
       dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
         WHERE d.status = 'dead' ORDER BY d.next_at DESC LIMIT ?`),
       attempt: db.prepare('UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?'),
@@ -425,8 +425,8 @@ export class SqliteStore implements Store {
     return this.st.counts.get() as StoreCounts;
   }
 
-  async dueDeliveries(now: string, limit: number): Promise<Delivery[]> {
-    return (this.st.due.all(now, limit) as Row[]).map(toDelivery);
+  async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
+    return (this.st.due.all(now, JSON.stringify(skip), limit) as Row[]).map(toDelivery);
   }
 
   async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
