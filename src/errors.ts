@@ -19,6 +19,8 @@ export const ERROR_CODES = {
   STRAND_ARTICLE_TOO_LARGE: { status: 413 },
   STRAND_ARTICLE_INVALID: { status: 422 },
   STRAND_STORE_FAILED: { status: 503 },
+  STRAND_STORE_UNAVAILABLE: { status: 503 },
+  STRAND_LEASE_LOST: { status: 503 },
   STRAND_NOT_FOUND: { status: 404 },
   STRAND_WEBHOOK_FAILED: { status: 502 },
   STRAND_REQUEST_INVALID: { status: 400 },

@@ -413,13 +413,18 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
   return outcomes;
 }
 
-/** Reloads the linker and the embedder's document frequencies from the store. */
-async function resync(ctx: PipelineContext, cadence: ConsolidationCadence): Promise<void> {
+/** Reloads the linker, the embedder's document frequencies and the copy index from the store. */
+export async function reloadLinking(ctx: PipelineContext): Promise<void> {
   const snapshot = await ctx.store.loadLinkerState();
   ctx.linker.reset();
   ctx.linker.load(snapshot.events.map(deserialiseEvent));
   if (ctx.embedder instanceof TfidfEmbedder) ctx.embedder.load(snapshot.idf);
   await ctx.copies?.load(ctx.store);
+}
+
+/** After a failed or stale commit: memory back to what the store holds. */
+async function resync(ctx: PipelineContext, cadence: ConsolidationCadence): Promise<void> {
+  await reloadLinking(ctx);
   cadence.reset();
 }
 

@@ -1,7 +1,10 @@
 /**
  * The linker process's loop. Linking is serial by nature, so each partition has exactly one
  * linker: it holds a lease in Redis (renewed while it runs; another linker waits for it to
- * lapse). It links the analysed articles in intake order, whatever order the workers
+ * lapse), and every write it makes is fenced with the lease's token, so a linker that
+ * stalled past its lease cannot write over its successor's work. A linker whose lease may
+ * have lapsed (Redis gone for longer than the lease) pauses, takes the lease back when it
+ * can, reloads from the store and goes on: it neither idles alive nor links twice. It links the analysed articles in intake order, whatever order the workers
  * finished them in, so a scale-out run makes the same events as a single process on the
  * same input. After each commit it records its position and clears what it consumed.
  *
@@ -14,7 +17,7 @@ import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitStage, linkStages } from '../pipeline.js';
+import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitStage, linkStages, reloadLinking } from '../pipeline.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';
@@ -30,6 +33,8 @@ export interface LinkerDeps {
   logger: Logger;
   /** Lease length, ms (renewed at a third of it). */
   leaseMs?: number;
+  /** Fences the store's writes with the lease token (null lifts it), so a linker that lost the lease cannot write. */
+  fence?: (token: string | null) => void;
 }
 
 /** Intake entries looked ahead per round. */
@@ -49,6 +54,14 @@ export class QueueLinker {
   private readonly outcomes = new Subject<ArticleOutcome>();
   private readonly log: Logger;
   private leaseTimer: NodeJS.Timeout | null = null;
+  /** Set when the lease may have lapsed: the run in hand winds down and the lease is sought again. */
+  private lost = false;
+  /** When the lease was last taken or renewed (Date.now()). */
+  private renewedAt = 0;
+  private renewing = false;
+  /** Position writes, in order; awaited before the position is read again. */
+  private advancing: Promise<void> = Promise.resolve();
+  private readonly leaseMs: number;
 
   /** Every outcome, in intake order (tests, logs). */
   readonly outcome$: Observable<ArticleOutcome> = this.outcomes.asObservable();
@@ -60,19 +73,13 @@ export class QueueLinker {
     this.log = d.logger.child({ stage: 'linker' });
     this.renewLease = defineScript(d.redis, 'lease-renew');
     this.releaseLease = defineScript(d.redis, 'lease-release');
+    this.leaseMs = d.leaseMs ?? 15_000;
   }
 
-  /** Waits for the partition's lease, then links until stopped. */
+  /** Waits for the partition's lease, then links until stopped (taking the lease back whenever it lapses). */
   async start(): Promise<void> {
-    const leaseMs = this.d.leaseMs ?? 15_000;
-    while (!this.stopping && (await this.d.redis.set(this.d.keys.linkerLease, this.token, 'PX', leaseMs, 'NX')) !== 'OK') {
-      this.log.info('another linker holds this partition; waiting for its lease to lapse');
-      await sleep(Math.min(leaseMs / 3, 2000));
-    }
-    if (this.stopping) return;
-    this.leaseTimer = setInterval(() => void this.renew(leaseMs), leaseMs / 3);
-    this.leaseTimer.unref();
-    this.loop = this.run();
+    if (!(await this.acquire())) return;
+    this.loop = this.supervise();
   }
 
   /** Finishes the group in hand, releases the lease and stops. */
@@ -80,17 +87,85 @@ export class QueueLinker {
     this.stopping = true;
     this.d.blocking.disconnect();
     await this.loop?.catch(() => undefined);
-    if (this.leaseTimer) clearInterval(this.leaseTimer);
+    this.stopRenewing();
     await this.releaseLease(this.d.keys.linkerLease, this.token).catch(() => undefined);
+    this.d.fence?.(null);
     this.outcomes.complete();
   }
 
-  private async renew(leaseMs: number): Promise<void> {
-    const held = await this.renewLease(this.d.keys.linkerLease, this.token, leaseMs).catch(() => 0);
-    if (held !== 1 && !this.stopping) {
-      // Another linker took over (this one stalled past its lease): stop rather than link twice.
-      this.log.error('lost the linker lease; stopping');
-      void this.stop();
+  /**
+   * Links while the lease holds; when it may have lapsed (Redis unreachable for longer than
+   * the lease, or another linker took it), winds the run down, waits to take the lease back,
+   * reloads linking state from the store (another linker may have linked meanwhile) and
+   * goes on from the stored position. A linker never idles alive without trying.
+   */
+  private async supervise(): Promise<void> {
+    for (let first = true; !this.stopping; first = false) {
+      if (!first) {
+        if (!(await this.acquire())) break;
+        await this.advancing;
+        await reloadLinking(this.d.ctx);
+        this.log.info('took the linker lease back; linking resumes from the stored position');
+      }
+      this.lost = false;
+      this.startRenewing();
+      try {
+        await this.run();
+      } catch (err) {
+        if (!this.stopping) this.log.error({ err: describeError(err) }, 'linker run failed; starting again from the stored position');
+        this.lost = true;
+      }
+      this.stopRenewing();
+      if (!this.stopping) this.log.warn('lost the linker lease; linking paused until it is taken back');
+    }
+  }
+
+  /** Takes the lease (or confirms it is still this linker's), waiting while another holds it; false when stopped first. */
+  private async acquire(): Promise<boolean> {
+    const { redis, keys } = this.d;
+    let told = false;
+    while (!this.stopping) {
+      try {
+        const mine = (await this.renewLease(keys.linkerLease, this.token, this.leaseMs)) === 1 || (await redis.set(keys.linkerLease, this.token, 'PX', this.leaseMs, 'NX')) === 'OK';
+        if (mine) {
+          this.renewedAt = Date.now();
+          this.d.fence?.(this.token);
+          return true;
+        }
+        if (!told) this.log.info('another linker holds this partition; waiting for its lease to lapse');
+        told = true;
+      } catch (err) {
+        if (!told) this.log.warn({ err: describeError(err) }, 'cannot reach Redis for the linker lease; trying again');
+        told = true;
+      }
+      await sleep(Math.min(this.leaseMs / 3, 2000));
+    }
+    return false;
+  }
+
+  private startRenewing(): void {
+    this.leaseTimer = setInterval(() => void this.renew(), this.leaseMs / 3);
+    this.leaseTimer.unref();
+  }
+
+  private stopRenewing(): void {
+    if (this.leaseTimer) clearInterval(this.leaseTimer);
+    this.leaseTimer = null;
+  }
+
+  private async renew(): Promise<void> {
+    // Unconfirmed for a whole lease (a renewal hanging on a lost connection): it may have lapsed.
+    if (Date.now() - this.renewedAt >= this.leaseMs) this.lost = true;
+    if (this.renewing || this.lost) return;
+    this.renewing = true;
+    try {
+      const held = await this.renewLease(this.d.keys.linkerLease, this.token, this.leaseMs);
+      if (held === 1) this.renewedAt = Date.now();
+      else this.lost = true;
+    } catch {
+      // Unreachable: the watchdog above decides once a whole lease has passed unconfirmed.
+    } finally {
+      this.renewing = false;
     }
   }
 
@@ -106,10 +181,16 @@ export class QueueLinker {
         next: (o) => {
           inFlight--;
           const { entry, body } = order.shift()!;
+          if (o.status === 'rejected' && o.reason?.startsWith('STRAND_LEASE_LOST')) {
+            // Fenced off: nothing was written; the entry stays for whoever holds the lease.
+            this.lost = true;
+            return;
+          }
           // An article the linker could not store (the store refused the commit) must not
           // vanish with the queue entry: it goes to the dead-letter list with the reason.
-          const lost = o.status === 'rejected' && !o.reason?.startsWith('worker:');
-          void (lost ? this.deadLetter(entry, o.reason ?? 'not stored', body) : Promise.resolve())
+          const notStored = o.status === 'rejected' && !o.reason?.startsWith('worker:');
+          this.advancing = this.advancing
+            .then(() => (notStored ? this.deadLetter(entry, o.reason ?? 'not stored', body) : undefined))
             .then(() => this.advance(entry))
             .catch((err: unknown) => this.log.warn({ err: describeError(err) }, 'position not saved; the next start repeats a few articles harmlessly'));
           this.outcomes.next(o);
@@ -120,7 +201,7 @@ export class QueueLinker {
     });
     let position = (await redis.get(keys.linkerPosition)) ?? '0-0';
     let lastSeen = '$';
-    while (!this.stopping) {
+    while (!this.stopping && !this.lost) {
       try {
         if (inFlight >= IN_FLIGHT) {
           await sleep(5);
@@ -153,6 +234,7 @@ export class QueueLinker {
     }
     input.complete();
     await done;
+    await this.advancing;
   }
 
   /** The next intake entries after `position` that have an answer, in order, up to the first that has none yet. */

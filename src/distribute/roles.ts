@@ -11,6 +11,7 @@ import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { createRuntime, type Runtime } from '../runtime.js';
 import { keyspace } from '../store/redis/keys.js';
+import { RedisStore } from '../store/redis/redis-store.js';
 import { type RedisClient, connectRedis } from '../store/redis/connect.js';
 import { createNlp } from '../text/nlp.js';
 import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
@@ -58,7 +59,9 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
     await runtime.close();
     throw err;
   }
-  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger });
+  const store = runtime.store;
+  if (!(store instanceof RedisStore)) throw new StrandError('STRAND_CONFIG_INVALID', 'the linker role needs the Redis store');
+  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, fence: (token) => store.fenceWrites(token) });
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');
   // Retention is the lease holder's job, so one process per partition erases.

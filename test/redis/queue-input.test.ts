@@ -193,6 +193,75 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
   });
 });
 
+describe.skipIf(!run)('the linker lease, when it lapses', () => {
+  let config: Readonly<Config>;
+  let keys: Keyspace;
+  let demo: Article[];
+
+  beforeEach(async () => {
+    const partition = `test-${randomUUID()}`;
+    config = parseConfig({ store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, queue: { claimIdleMs: 200, blockMs: 50 }, analysis: { threads: 0 }, log: { level: 'silent' } });
+    keys = keyspace(partition);
+    demo ??= (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
+  });
+
+  afterEach(async () => {
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    await store.dropPartition();
+    await store.close();
+  });
+
+  it('refuses a fenced write once the lease no longer holds its token, and writes nothing', async () => {
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    const redis = await connectRedis(REDIS_URL);
+    try {
+      store.fenceWrites('linker-a');
+      await redis.set(keys.linkerLease, 'linker-a');
+      expect(await store.commitArticle(commitFixture('held'))).toBe('stored');
+      await redis.set(keys.linkerLease, 'linker-b');
+      await expect(store.commitArticle(commitFixture('stale'))).rejects.toMatchObject({ code: 'STRAND_LEASE_LOST' });
+      expect(await store.hasArticle('stale')).toBe(false);
+      expect((await store.counts()).articles).toBe(1);
+    } finally {
+      redis.disconnect();
+      await store.close();
+    }
+  });
+
+  it('pauses while another holds the lease, then takes it back and links what waited, with nothing dead-lettered', async () => {
+    const redis = await connectRedis(REDIS_URL);
+    const blocking = await connectRedis(REDIS_URL);
+    const { createRuntime } = await import('../../src/runtime.js');
+    const runtime = await createRuntime(config, silent);
+    const store = runtime.store as Awaited<ReturnType<typeof openRedisStore>>;
+    const worker = await startWorker(config, silent);
+    const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys, logger: silent, leaseMs: 900, fence: (t) => store.fenceWrites(t) });
+    const outcomes: ArticleOutcome[] = [];
+    linker.outcome$.subscribe((o) => outcomes.push(o));
+    await linker.start();
+    try {
+      await enqueueArticles(redis, keys, [demo[0]!]);
+      await until(() => outcomes.length === 1);
+      // Another process takes the lease (as after an outage longer than the lease).
+      await redis.set(keys.linkerLease, 'another-linker', 'PX', 2500);
+      await new Promise((r) => setTimeout(r, 700));
+      await enqueueArticles(redis, keys, [demo[1]!, demo[2]!]);
+      await new Promise((r) => setTimeout(r, 1000));
+      expect(await store.hasArticle(demo[1]!.id)).toBe(false);
+      // The other lease lapses: this linker takes it back and links what waited.
+      await until(() => outcomes.length === 3, 10_000);
+      expect(outcomes.map((o) => o.status)).toEqual(['stored', 'stored', 'stored']);
+      expect(await redis.get(keys.linkerLease)).not.toBe('another-linker');
+      expect((await queueDepth(redis, keys)).deadLetters).toBe(0);
+    } finally {
+      await worker.stop();
+      await linker.stop();
+      redis.disconnect();
+      await runtime.close();
+    }
+  });
+});
+
 /** Starts a linker without waiting for its lease; `started` turns true once it holds it. */
 async function startLinkerLater(config: Readonly<Config>): Promise<{ started: boolean; stop(): Promise<void> }> {
   const redis = await connectRedis(REDIS_URL);

@@ -50,19 +50,28 @@ function startWorkerProcess(configFile: string): ChildProcess {
 }
 
 describe.skipIf(!run)('scale-out over Redis: three worker processes and one linker', () => {
-  let articles: Article[];
-  let reference: Map<string, string>;
-  let referenceCounts: Awaited<ReturnType<Store['counts']>>;
+  /** What one uninterrupted process makes of a list of articles. */
+  interface Reference {
+    articles: Article[];
+    partition: Map<string, string>;
+    counts: Awaited<ReturnType<Store['counts']>>;
+  }
+  let full: Reference;
+  let short: Reference;
+
+  async function referenceOf(articles: Article[]): Promise<Reference> {
+    const rt = await testRuntime();
+    await runArticles(rt, articles);
+    const out = { articles, partition: await partition(rt.store, articles), counts: await rt.store.counts() };
+    await rt.close();
+    return out;
+  }
 
   beforeAll(async () => {
     const demo = (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
     const synthetic = toArticles(checkEvalInput(syntheticStream(6000, 7)), 'synthetic', '2030-01-01T00:00:00.000Z').slice(0, 2000 - demo.length);
-    articles = [...demo, ...synthetic];
-    const rt = await testRuntime();
-    await runArticles(rt, articles);
-    reference = await partition(rt.store, articles);
-    referenceCounts = await rt.store.counts();
-    await rt.close();
+    full = await referenceOf([...demo, ...synthetic]);
+    short = await referenceOf(full.articles.slice(0, 400));
   }, 120_000);
 
   /** Resolves once `done()` holds, or fails naming `what` after `ms`: a stalled run fails with a reason, not a timeout. */
@@ -75,7 +84,7 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
   }
 
   /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once `midwayAt` are linked. */
-  async function distributedRun(url: string, midwayAt: number, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
+  async function distributedRun(url: string, articles: readonly Article[], midwayAt: number, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-scale-'));
     const configFile = join(dir, 'config.json');
     const partitionName = `test-${randomUUID()}`;
@@ -94,7 +103,7 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
       await queue.enqueue(articles);
       await waitFor(`${midwayAt} linked articles`, () => outcomes.length >= midwayAt, 60_000);
       await midway({ workers, queue, partitionName, outcomes });
-      const deadline = Date.now() + 150_000;
+      const deadline = Date.now() + 120_000;
       while (outcomes.length < articles.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
       const [pendingLeft] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number];
       return { outcomes, counts: await store.counts(), got: await partition(store, articles), deadLetters: (await queue.depth()).deadLetters, pendingLeft, stderr: stderr.join('') };
@@ -107,22 +116,22 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     }
   }
 
-  function expectSameAsOneProcess(r: Awaited<ReturnType<typeof distributedRun>>): void {
-    expect(r.outcomes.length, r.stderr).toBe(articles.length);
+  function expectSameAsOneProcess(r: Awaited<ReturnType<typeof distributedRun>>, ref: Reference): void {
+    expect(r.outcomes.length, r.stderr).toBe(ref.articles.length);
     expect(r.outcomes.filter((o) => o.status === 'rejected')).toEqual([]);
-    expect(r.counts).toEqual(referenceCounts);
-    expect(r.got.size).toBe(reference.size);
-    expect(scorePartitions(clusters(reference), clusters(r.got)).b3.f1).toBe(1);
+    expect(r.counts).toEqual(ref.counts);
+    expect(r.got.size).toBe(ref.partition.size);
+    expect(scorePartitions(clusters(ref.partition), clusters(r.got)).b3.f1).toBe(1);
     expect(r.deadLetters).toBe(0);
     expect(r.pendingLeft).toBe(0);
   }
 
   it('stores every article and mention exactly once and makes the events one process makes, with a worker killed mid-stream', async () => {
-    expect(articles).toHaveLength(2000);
+    expect(full.articles).toHaveLength(2000);
     let heldAtKill = 0;
     // The hunt starts early: workers do not wait for the linker, so once many articles are
     // linked the intake may be fully analysed and no worker holds anything any more.
-    const r = await distributedRun(REDIS_URL, 20, async ({ workers, queue, partitionName }) => {
+    const r = await distributedRun(REDIS_URL, full.articles, 20, async ({ workers, queue, partitionName }) => {
       // Kill one worker while it holds entries: the others must take them over.
       const victim = `${hostname()}-${workers[1]!.pid}`;
       await waitFor('the chosen worker to hold entries', async () => {
@@ -133,25 +142,41 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
       }, 60_000, 5);
     });
     expect(heldAtKill).toBeGreaterThan(0);
-    expectSameAsOneProcess(r);
+    expectSameAsOneProcess(r, full);
   }, 300_000);
 
   it('completes with nothing lost when Redis (persistence on) restarts mid-run', async () => {
     const redis = await startPrivateRedis();
     try {
-      const r = await distributedRun(redis.url, 300, async () => {
+      const r = await distributedRun(redis.url, full.articles, 300, async () => {
         await redis.restart();
       });
       expect(redis.restarts).toBe(1);
-      expectSameAsOneProcess(r);
+      expectSameAsOneProcess(r, full);
     } finally {
       await redis.stop();
     }
   }, 300_000);
+
+  // Longer than the linker's lease (15 s): the linker must take its lease back by itself.
+  it('links every article afterwards, with no manual step, when Redis is down for 60 s mid-run', async () => {
+    const redis = await startPrivateRedis();
+    try {
+      let linkedBefore = 0;
+      const r = await distributedRun(redis.url, short.articles, 60, async ({ outcomes }) => {
+        linkedBefore = outcomes.length;
+        await redis.restart(60_000);
+      });
+      expect(linkedBefore).toBeLessThan(short.articles.length - 100);
+      expectSameAsOneProcess(r, short);
+    } finally {
+      await redis.stop();
+    }
+  }, 240_000);
 });
 
 /** A redis-server of the test's own, with the append-only file on, that it can restart. */
-async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(): Promise<void>; stop(): Promise<void> }> {
+async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(downMs?: number): Promise<void>; stop(): Promise<void> }> {
   const dir = mkdtempSync(join(tmpdir(), 'strandline-redis-'));
   const port = await freePort();
   const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--appendonly', 'yes', '--save', '', '--logfile', join(dir, 'redis.log')];
@@ -172,8 +197,9 @@ async function startPrivateRedis(): Promise<{ url: string; restarts: number; res
   const handle = {
     url: `redis://127.0.0.1:${port}`,
     restarts: 0,
-    async restart() {
+    async restart(downMs = 0) {
       await down();
+      await new Promise((r) => setTimeout(r, downMs));
       proc = spawn('redis-server', args, { stdio: 'ignore' });
       await up();
       handle.restarts++;

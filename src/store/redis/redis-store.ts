@@ -70,6 +70,8 @@ export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> 
 
 export class RedisStore implements Store {
   private readonly scripts: Scripts;
+  /** The linker's lease token its commits are fenced with; null: not fenced (one process, tools). */
+  private fence: string | null = null;
 
   constructor(private readonly redis: RedisClient, private readonly k: Keyspace) {
     this.scripts = {
@@ -80,6 +82,15 @@ export class RedisStore implements Store {
       pruneNotifications: defineScript(redis, 'prune-notifications'),
       setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
     };
+  }
+
+  /**
+   * Fences every later commit, merge and split with the linker lease `token`: each is
+   * refused (STRAND_LEASE_LOST, nothing written) unless the partition's lease still holds
+   * that token. Null lifts the fence.
+   */
+  fenceWrites(token: string | null): void {
+    this.fence = token;
   }
 
   /** The partition's key names (tests and tools). */
@@ -125,26 +136,27 @@ export class RedisStore implements Store {
       messages: messagePayload(c.messages),
     }));
     try {
-      return (await this.scripts.commitArticles(this.k.counts, this.k.prefix, JSON.stringify(payload), ...states)) as CommitResult[];
+      return (await this.scripts.commitArticles(this.k.counts, this.k.prefix, JSON.stringify({ fence: this.fence, commits: payload }), ...states)) as CommitResult[];
     } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot store ${cs.length} article(s) from ${cs[0]!.article.id}: ${(err as Error).message}`, { cause: err });
+      throw writeError(err, `cannot store ${cs.length} article(s) from ${cs[0]!.article.id}`);
     }
   }
 
   async commitMerge(m: MergeCommit): Promise<void> {
     const states: Buffer[] = [];
     const into = eventPayload(m.into, states);
-    const payload = { from: m.from, into, merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
+    const payload = { fence: this.fence, from: m.from, into, merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
     try {
       await this.scripts.commitMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
     } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot merge ${m.from} into ${m.into.record.id}: ${(err as Error).message}`, { cause: err });
+      throw writeError(err, `cannot merge ${m.from} into ${m.into.record.id}`);
     }
   }
 
   async commitSplit(sp: SplitCommit): Promise<void> {
     const states: Buffer[] = [];
     const payload = {
+      fence: this.fence,
       from: eventPayload(sp.from, states),
       into: eventPayload(sp.into, states),
       moved: sp.moved.map((m) => [m.articleId, String(m.sentenceIndex)]),
@@ -154,7 +166,7 @@ export class RedisStore implements Store {
     try {
       await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!, ERASED_LABEL);
     } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot split ${sp.into.record.id} off ${sp.from.record.id}: ${(err as Error).message}`, { cause: err });
+      throw writeError(err, `cannot split ${sp.into.record.id} off ${sp.from.record.id}`);
     }
   }
 
@@ -548,6 +560,13 @@ function namedIn(body: string): { articles: string[]; events: string[] } {
 function parseMerge(from: string, rec: string): MergeRecord {
   const [into, score, at] = rec.split('\n');
   return { from, into: into!, score: Number(score), at: at! };
+}
+
+/** A failed write script as a StrandError: a fenced-off linker's write, or a store failure. */
+function writeError(err: unknown, what: string): StrandError {
+  const message = (err as Error).message;
+  if (message.includes('STRAND_LEASE_LOST')) return new StrandError('STRAND_LEASE_LOST', `${what}: this linker no longer holds the partition lease; nothing was written`, { cause: err });
+  return new StrandError('STRAND_STORE_FAILED', `${what}: ${message}`, { cause: err });
 }
 
 function splitMember(m: string): [string, string] {

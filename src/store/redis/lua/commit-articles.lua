@@ -3,11 +3,14 @@
 -- is left exactly as it is, so replaying a commit changes nothing.
 -- KEYS[1]  the partition's counts hash ({strandline:<partition>}:counts; routes the call)
 -- ARGV[1]  the partition prefix, {strandline:<partition>} (key names as in keys.ts)
--- ARGV[2]  JSON array of commits, built by redis-store.ts (toPayload)
+-- ARGV[2]  JSON {fence: the writer's lease token or null, commits: [...]}, built by redis-store.ts
 -- ARGV[3+] event states (binary), numbered by the commits' events[].state
--- returns  one status per commit: 'stored' or 'already-stored'
+-- returns  one status per commit: 'stored' or 'already-stored'; an error
+--          STRAND_LEASE_LOST (nothing written) when the fence token no longer holds the lease
 local P = ARGV[1]
-local commits = cjson.decode(ARGV[2])
+local body = cjson.decode(ARGV[2])
+check_fence(P, body.fence)
+local commits = body.commits
 local counts = KEYS[1]
 local out = {}
 for i, c in ipairs(commits) do

@@ -3,12 +3,13 @@
 -- event leaves, earlier merges into it now point at the survivor, and the merge is recorded.
 -- KEYS[1]  the partition's counts hash
 -- ARGV[1]  the partition prefix
--- ARGV[2]  JSON {from, into: event (as in commit-articles), merge: "into\nscore\nat", messages}
+-- ARGV[2]  JSON {fence, from, into: event (as in commit-articles), merge: "into\nscore\nat", messages}
 -- ARGV[3]  the surviving event's state (binary)
 -- returns  the number of links dropped because the sentence was linked to both events
 local P = ARGV[1]
 local counts = KEYS[1]
 local m = cjson.decode(ARGV[2])
+check_fence(P, m.fence)
 local from, into = m.from, m.into.id
 local dropped = 0
 for _, member in ipairs(redis.call('SMEMBERS', P .. ':event-links:' .. from)) do

@@ -2,7 +2,7 @@
 -- old event for the new one, both events' states are written, and the split is recorded.
 -- KEYS[1]  the partition's counts hash
 -- ARGV[1]  the partition prefix
--- ARGV[2]  JSON {from: event, into: event (as in commit-articles), moved: [[article, index]], split: "{from, mentions, score, at}"}
+-- ARGV[2]  JSON {fence, from: event, into: event (as in commit-articles), moved: [[article, index]], split: "{from, mentions, score, at}"}
 -- ARGV[3]  the old event's state (binary)
 -- ARGV[4]  the new event's state (binary)
 -- ARGV[5]  the placeholder label (for an event left with no sentence text)
@@ -10,6 +10,7 @@
 local P = ARGV[1]
 local counts = KEYS[1]
 local s = cjson.decode(ARGV[2])
+check_fence(P, s.fence)
 local from, into = s.from.id, s.into.id
 local moved = 0
 local movedTexts = {}

@@ -1,6 +1,15 @@
 -- lib: helpers prepended to every script of this folder when it is loaded (redis-store.ts).
 -- Defines functions only; touches no key by itself.
 
+-- Refuses a write from a linker that no longer holds the partition's lease (a fencing
+-- token: a linker that stalled past its lease, while another took over, must not write).
+-- `fence` is the writer's lease token, or JSON null for a writer that holds no lease.
+local function check_fence(P, fence)
+  if fence ~= nil and fence ~= cjson.null and redis.call('GET', P .. ':linker-lease') ~= fence then
+    error({ err = 'STRAND_LEASE_LOST this linker no longer holds the partition lease' })
+  end
+end
+
 -- Queues outbox messages and one pending delivery per subscriber; a message or delivery
 -- already queued is left as it is (the same change gives the same message id).
 local function queue_messages(P, messages)
