@@ -30,6 +30,7 @@ export const ERROR_CODES = {
   STRAND_FEED_CONFLICT: { status: 409 },
   STRAND_VECTOR_SPACE_CHANGED: { status: 500 },
   STRAND_UNAUTHORIZED: { status: 401 },
+  STRAND_STOPPED: { status: 503 },
 } as const;
 
 /** One of the stable error codes. */

@@ -241,19 +241,21 @@ class ConsolidationCadence {
 
 /**
  * Consolidation over the events among `ids`: merges those that turn out to be one, then
- * splits those whose mentions drifted apart. Each merge and split is its own commit.
+ * splits those whose mentions drifted apart. Each merge and split is its own commit; when
+ * `signal` aborts, the pass stops after the one in hand.
  */
-export async function consolidate(ctx: PipelineContext, ids: readonly string[]): Promise<ConsolidationOutcome> {
-  const merges = await mergeEvents(ctx, ids);
+export async function consolidate(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<ConsolidationOutcome> {
+  const merges = await mergeEvents(ctx, ids, signal);
   const gone = new Set(merges.map((m) => m.from));
-  const splits = await splitEvents(ctx, ids.filter((id) => !gone.has(id)));
+  const splits = signal?.aborted ? [] : await splitEvents(ctx, ids.filter((id) => !gone.has(id)), signal);
   return { merges, splits };
 }
 
 /** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
-async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promise<SplitOutcome[]> {
+async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<SplitOutcome[]> {
   const done: SplitOutcome[] = [];
   for (const id of ctx.linker.splitCandidates(ids)) {
+    if (signal?.aborted) break;
     const linked = await ctx.store.linkedMentions(id);
     if (linked.some((l) => l.mention.vector === null)) continue;
     const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
@@ -280,9 +282,10 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[]): Promis
 }
 
 /** Merges the events among `ids` that turn out to be one; each merge is its own commit. */
-async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>): Promise<ArticleOutcome['merges']> {
+async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?: AbortSignal): Promise<ArticleOutcome['merges']> {
   const done: ArticleOutcome['merges'] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
+    if (signal?.aborted) break;
     const merged = ctx.linker.mergedState(m.into, m.from, await ctx.store.linkedToBoth(m.into, m.from));
     await useStoredLabels(ctx, [merged]);
     const at = ctx.now().toISOString();

@@ -2,7 +2,7 @@
  * Runs feed documents through the pipeline and tallies the outcome; shared by `replay`,
  * `ingest` and `serve --replay`.
  */
-import { concatMap, delay, from, lastValueFrom, of, tap, type Subscription, Observable } from 'rxjs';
+import { NEVER, type Observable, concatMap, delay, from, fromEvent, lastValueFrom, of, take, takeUntil, tap, timer } from 'rxjs';
 import { readReplayInput } from '../ingest/replay-source.js';
 import type { IngestProblem } from '../ingest/read-source.js';
 import { type ArticleOutcome, runPipeline } from '../pipeline.js';
@@ -24,25 +24,39 @@ export interface RunSummary {
   eventsMerged: number;
   problems: IngestProblem[];
   seconds: number;
+  /** Articles read that the run never came to, because it was asked to stop (0 for a finished run). */
+  notRun: number;
 }
 
 /** Callbacks while running. */
 export interface RunHooks {
+  /** Before the sources are read. */
+  onStart?(): void;
   onRead?(total: number): void;
   onOutcome?(o: ArticleOutcome, done: number): void;
 }
 
-/** Reads the sources, runs every article through the pipeline and returns the totals. */
-export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { paceMs?: number; signal?: AbortSignal } = {}, hooks: RunHooks = {}): Promise<RunSummary> {
+/** How long a stopped run may take to finish the articles already on their way, ms. */
+const DRAIN_MS = 3_000;
+
+/**
+ * Reads the sources, runs every article through the pipeline and returns the totals. When
+ * `signal` aborts, no further article enters the pipeline; those already on their way are
+ * finished (each committed whole) for up to `drainMs`, then the run ends where it is.
+ */
+export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { paceMs?: number; signal?: AbortSignal; drainMs?: number } = {}, hooks: RunHooks = {}): Promise<RunSummary> {
   const t0 = performance.now();
-  const input = await readReplayInput(sources, rt.config.ingest);
+  hooks.onStart?.();
+  const input = await readReplayInput(sources, rt.config.ingest, opts.signal);
   const summary: RunSummary = {
     files: input.files.length, articlesRead: input.articles.length, stored: 0, alreadyStored: 0, copies: 0, rejected: [],
-    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0,
+    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0, notRun: 0,
   };
   hooks.onRead?.(input.articles.length);
   const pace = opts.paceMs ?? 0;
-  const source = pace > 0 ? from(input.articles).pipe(concatMap((a) => of(a).pipe(delay(pace)))) : from(input.articles);
+  const stop$ = aborted(opts.signal);
+  const paced = pace > 0 ? from(input.articles).pipe(concatMap((a) => of(a).pipe(delay(pace)))) : from(input.articles);
+  const source = paced.pipe(takeUntil(stop$));
   let done = 0;
   const outcomes = runPipeline(source, rt).pipe(
     tap((o) => {
@@ -63,28 +77,18 @@ export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { 
       hooks.onOutcome?.(o, done);
     }),
   );
-  await lastValueFrom(abortable(outcomes, opts.signal), { defaultValue: null });
+  // Articles already on their way get drainMs to finish; after that the run ends where it is.
+  const drained$ = stop$.pipe(concatMap(() => timer(opts.drainMs ?? DRAIN_MS)));
+  await lastValueFrom(outcomes.pipe(takeUntil(drained$)), { defaultValue: null });
+  summary.notRun = input.articles.length - done;
   summary.seconds = (performance.now() - t0) / 1000;
   return summary;
 }
 
-/** Completes the stream early (after the article in progress) when the signal fires. */
-function abortable<T>(src: Observable<T>, signal?: AbortSignal): Observable<T> {
-  if (!signal) return src;
-  return new Observable<T>((sub) => {
-    let inner: Subscription | null = null;
-    const stop = (): void => {
-      inner?.unsubscribe();
-      sub.complete();
-    };
-    if (signal.aborted) return stop();
-    signal.addEventListener('abort', stop, { once: true });
-    inner = src.subscribe(sub);
-    return () => {
-      signal.removeEventListener('abort', stop);
-      inner?.unsubscribe();
-    };
-  });
+/** Emits once when the signal aborts (at once if it already has); never without a signal. */
+function aborted(signal?: AbortSignal): Observable<unknown> {
+  if (!signal) return NEVER;
+  return signal.aborted ? of(true) : fromEvent(signal, 'abort').pipe(take(1));
 }
 
 /** A human-readable summary. */
@@ -95,6 +99,7 @@ export function formatSummary(s: RunSummary): string {
     `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others`,
     `time      ${s.seconds.toFixed(1)} s${s.sentences ? ` (${Math.round(s.sentences / s.seconds)} sentences/s)` : ''}`,
   ];
+  if (s.notRun > 0) lines.push(`stopped   early: ${s.notRun} of ${s.articlesRead} article(s) not run; the same command again continues where it stopped`);
   const problems = [
     ...s.problems.map((p) => `${p.severity === 'error' ? 'error  ' : 'warning'} ${p.source}${p.item ? ` [${p.item}]` : ''}: ${p.code}: ${p.message}`),
     ...s.rejected.map((r) => `error   [${r.article}]: ${r.reason}`),

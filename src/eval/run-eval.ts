@@ -4,10 +4,11 @@
  * extended BCubed and pairwise link scores by link type, and runs the baselines on the
  * same mentions and vectors, side by side. Optionally sweeps the link threshold.
  */
-import { from, lastValueFrom, toArray } from 'rxjs';
+import { NEVER, from, fromEvent, lastValueFrom, takeUntil, toArray } from 'rxjs';
 import type { Config } from '../config/schema.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
 import { OnlineLinker } from '../link/online-linker.js';
+import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { type ArticleOutcome, runPipeline } from '../pipeline.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
@@ -29,6 +30,8 @@ export interface EvalOptions {
   /** Name of the input, for the report. */
   source: string;
   logger: Logger;
+  /** Stops the evaluation between steps (STRAND_STOPPED). */
+  signal?: AbortSignal;
 }
 
 /** Scores of one system in one setting. */
@@ -99,6 +102,13 @@ export const MULTI_EVENT_NOTE =
 export const PRIMARY_RULE =
   'Partition scores (MUC, B3, CEAF, LEA, BLANC, CoNLL) need one event per mention: a gold mention takes the event of its first gold line in file order, a system mention its best-scoring link. Extended BCubed and the pairwise scores use every event of every mention.';
 
+/** Throws STRAND_STOPPED once `signal` aborted; first lets a pending signal handler run. */
+async function stopIfAsked(signal: AbortSignal | undefined): Promise<void> {
+  if (!signal) return;
+  await new Promise((r) => setImmediate(r));
+  if (signal.aborted) throw new StrandError('STRAND_STOPPED', 'stopped by a signal before the report was written');
+}
+
 /** Runs the evaluation. */
 export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalReport> {
   const log = o.logger.child({ stage: 'eval' });
@@ -126,15 +136,17 @@ export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalRep
   const settings: SettingResult[] = [];
   let sweep: EvalReport['sweep'] = null;
   for (const setting of o.settings) {
+    await stopIfAsked(o.signal);
     const select = selector(input, setting);
     const store = openSqliteStore(':memory:');
     const t0 = performance.now();
-    const outcomes = await lastValueFrom(runPipeline(from(articles), {
+    const outcomes = await lastValueFrom(runPipeline(from(articles).pipe(takeUntil(o.signal ? fromEvent(o.signal, 'abort') : NEVER)), {
       config: o.config, nlp, embedder: new TfidfEmbedder(o.config.embed.hashBits), linker: new OnlineLinker(o.config.link), store, logger: o.logger,
       now: () => new Date(startedAt), selectMentions: select,
     }).pipe(toArray()));
     const pipelineSeconds = (performance.now() - t0) / 1000;
     await store.close();
+    await stopIfAsked(o.signal);
     const linked = clusteringOf(outcomes);
 
     const prepared = prepareMentions(nlp, articles, select, o.config.detect.threshold, o.config.embed.hashBits);
@@ -161,6 +173,7 @@ export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalRep
       ['baseline: batch average-link (all pairs)', () => batchAverageLink(flat, threshold, halfLifeDays)],
     ];
     for (const [name, run] of baselines) {
+      await stopIfAsked(o.signal);
       const { clustering, seconds } = timed(run);
       result.systems.push(score(clustering, name, 'baseline', seconds));
     }

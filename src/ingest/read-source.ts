@@ -60,13 +60,13 @@ export async function listFeedFiles(path: string): Promise<string[]> {
     .sort();
 }
 
-/** Reads one file or URL into articles; never throws for bad content, only reports problems. */
-export async function readFeedDocument(source: string, limits: ReadLimits, now: () => Date = () => new Date()): Promise<FeedDocument> {
+/** Reads one file or URL into articles; never throws for bad content, only reports problems. `signal` abandons a fetch. */
+export async function readFeedDocument(source: string, limits: ReadLimits, now: () => Date = () => new Date(), signal?: AbortSignal): Promise<FeedDocument> {
   let bytes: Uint8Array;
   let charset: string | null = null;
   try {
     if (/^https?:\/\//i.test(source)) {
-      const res = await fetchFeed(source, limits);
+      const res = await fetchFeed(source, limits, {}, undefined, signal);
       if (res.status !== 200) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${res.url} answered HTTP ${res.status}`);
       ({ bytes, charset } = res);
     } else {
@@ -164,26 +164,37 @@ export interface FetchedFeed {
  * or breaks a limit; the body is read only for a 200. A caller polling many feeds passes
  * one `agent` (from NetworkGuard.agent) for all of them, so connections are kept and reused.
  */
-export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent): Promise<FetchedFeed> {
-  return fetchDocument(url, limits, { validators, accept: FEED_TYPES }, agent);
+export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent, signal?: AbortSignal): Promise<FetchedFeed> {
+  return fetchDocument(url, limits, { validators, accept: FEED_TYPES, ...(signal ? { signal } : {}) }, agent);
 }
 
 const FEED_TYPES = 'application/rss+xml, application/atom+xml, application/feed+json, application/xml;q=0.9, */*;q=0.5';
 
+/** What a fetch sends and when it gives up. */
+export interface FetchOptions {
+  validators?: Validators;
+  accept: string;
+  /** Abandons the fetch (the caller is stopping); the timeout applies regardless. */
+  signal?: AbortSignal;
+}
+
 /** fetchFeed for any document (a linked article page): the same guard and limits, the given Accept. */
-export async function fetchDocument(url: string, limits: ReadLimits, o: { validators?: Validators; accept: string }, agent?: Agent): Promise<FetchedFeed> {
+export async function fetchDocument(url: string, limits: ReadLimits, o: FetchOptions, agent?: Agent): Promise<FetchedFeed> {
   const guard = new NetworkGuard(limits);
-  if (agent) return fetchWith(agent, url, limits, guard, o.validators ?? {}, o.accept);
+  if (agent) return fetchWith(agent, url, limits, guard, o);
   const own = guard.agent();
   try {
-    return await fetchWith(own, url, limits, guard, o.validators ?? {}, o.accept);
+    return await fetchWith(own, url, limits, guard, o);
   } finally {
     void own.close();
   }
 }
 
-async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: NetworkGuard, validators: Validators, accept: string): Promise<FetchedFeed> {
-  const signal = AbortSignal.timeout(limits.fetchTimeoutMs);
+async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: NetworkGuard, o: FetchOptions): Promise<FetchedFeed> {
+  const validators = o.validators ?? {};
+  const accept = o.accept;
+  const timeout = AbortSignal.timeout(limits.fetchTimeoutMs);
+  const signal = o.signal ? AbortSignal.any([timeout, o.signal]) : timeout;
   let res: Response;
   let at = new URL(url);
   const headers: Record<string, string> = { accept, 'user-agent': 'Strandline/0.1' };
@@ -197,6 +208,7 @@ async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: N
     } catch (err) {
       const cause = (err as Error).cause;
       if (cause instanceof StrandError) throw cause;
+      if (o.signal?.aborted) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${at.href}: fetch abandoned (stopping)`, { cause: err });
       const timedOut = signal.aborted;
       throw new StrandError('STRAND_SOURCE_UNREADABLE', timedOut ? `${at.href} did not answer within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)` : `cannot fetch ${at.href}: ${describeError(cause ?? err)}`, { cause: err });
     }

@@ -14,10 +14,15 @@ export interface ReplayInput {
   problems: IngestProblem[];
 }
 
-/** Reads and orders the articles of files, folders and URLs. */
-export async function readReplayInput(paths: readonly string[], limits: ReadLimits): Promise<ReplayInput> {
+/**
+ * Reads and orders the articles of files, folders and URLs. `files` lists the documents
+ * read (one refused or unreadable as a whole is a problem, not a file read). When `signal`
+ * aborts, reading stops and what was read so far is returned.
+ */
+export async function readReplayInput(paths: readonly string[], limits: ReadLimits, signal?: AbortSignal): Promise<ReplayInput> {
   const input: ReplayInput = { files: [], articles: [], problems: [] };
   for (const path of paths) {
+    if (signal?.aborted) break;
     let files: string[];
     try {
       files = /^https?:\/\//i.test(path) ? [path] : await listFeedFiles(path);
@@ -26,8 +31,9 @@ export async function readReplayInput(paths: readonly string[], limits: ReadLimi
       continue;
     }
     for (const file of files) {
-      const doc = await readFeedDocument(file, limits);
-      input.files.push(file);
+      if (signal?.aborted) break;
+      const doc = await readFeedDocument(file, limits, undefined, signal);
+      if (!doc.problems.some((p) => p.item === null && p.severity === 'error')) input.files.push(file);
       input.articles.push(...doc.articles);
       input.problems.push(...doc.problems);
     }

@@ -6,7 +6,8 @@
  */
 import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
+import { createRequire } from 'node:module';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Piscina } from 'piscina';
 import { StrandError } from '../errors.js';
 import type { Article } from '../records.js';
@@ -61,5 +62,7 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
 function workerFile(): { filename: string; execArgv?: string[] } {
   const js = new URL('./analysis-worker.js', import.meta.url);
   if (existsSync(fileURLToPath(js))) return { filename: js.href };
-  return { filename: new URL('./analysis-worker.ts', import.meta.url).href, execArgv: ['--import', 'tsx'] };
+  // tsx by its path: the working directory may be anywhere.
+  const tsx = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
+  return { filename: new URL('./analysis-worker.ts', import.meta.url).href, execArgv: ['--import', tsx] };
 }

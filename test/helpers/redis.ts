@@ -1,5 +1,9 @@
 /** Helpers for the tests that need Redis. */
+import { spawn, spawnSync } from 'node:child_process';
 import { randomUUID } from 'node:crypto';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { createServer } from 'node:net';
 import { inject } from 'vitest';
 import { type RedisStore, openRedisStore } from '../../src/store/redis/redis-store.js';
@@ -30,4 +34,42 @@ export async function freshRedisStore(url: string, cluster = false): Promise<Red
     await close();
   };
   return store;
+}
+
+/** A redis-server of the test's own, with the append-only file on, that it can restart or stop (stop is idempotent). */
+export async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(downMs?: number): Promise<void>; stop(): Promise<void> }> {
+  const dir = mkdtempSync(join(tmpdir(), 'strandline-redis-'));
+  const port = await freePort();
+  const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--appendonly', 'yes', '--save', '', '--logfile', join(dir, 'redis.log')];
+  let proc = spawn('redis-server', args, { stdio: 'ignore' });
+  let alive = true;
+  const up = async () => {
+    for (let i = 0; i < 100; i++) {
+      if (spawnSync('redis-cli', ['-p', String(port), 'ping'], { encoding: 'utf8' }).stdout.includes('PONG')) return;
+      await new Promise((r) => setTimeout(r, 100));
+    }
+    throw new Error(`private redis-server on ${port} did not start`);
+  };
+  const down = async () => {
+    if (!alive) return;
+    alive = false;
+    const exited = new Promise((r) => proc.once('exit', r));
+    spawnSync('redis-cli', ['-p', String(port), 'shutdown']);
+    await exited;
+  };
+  await up();
+  const handle = {
+    url: `redis://127.0.0.1:${port}`,
+    restarts: 0,
+    async restart(downMs = 0) {
+      await down();
+      await new Promise((r) => setTimeout(r, downMs));
+      proc = spawn('redis-server', args, { stdio: 'ignore' });
+      alive = true;
+      await up();
+      handle.restarts++;
+    },
+    stop: down,
+  };
+  return handle;
 }

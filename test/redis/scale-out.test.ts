@@ -1,4 +1,4 @@
-import { type ChildProcess, spawn, spawnSync } from 'node:child_process';
+import { type ChildProcess, spawn } from 'node:child_process';
 import { randomUUID } from 'node:crypto';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { hostname, tmpdir } from 'node:os';
@@ -18,7 +18,7 @@ import type { Article } from '../../src/records.js';
 import { openRedisStore } from '../../src/store/redis/redis-store.js';
 import type { Store } from '../../src/store/store.js';
 import { DEMO_DIR } from '../helpers/demo.js';
-import { freePort, redisTestsRun } from '../helpers/redis.js';
+import { redisTestsRun, startPrivateRedis } from '../helpers/redis.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 const run = redisTestsRun();
@@ -174,37 +174,3 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     }
   }, 240_000);
 });
-
-/** A redis-server of the test's own, with the append-only file on, that it can restart. */
-async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(downMs?: number): Promise<void>; stop(): Promise<void> }> {
-  const dir = mkdtempSync(join(tmpdir(), 'strandline-redis-'));
-  const port = await freePort();
-  const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--appendonly', 'yes', '--save', '', '--logfile', join(dir, 'redis.log')];
-  let proc = spawn('redis-server', args, { stdio: 'ignore' });
-  const up = async () => {
-    for (let i = 0; i < 100; i++) {
-      if (spawnSync('redis-cli', ['-p', String(port), 'ping'], { encoding: 'utf8' }).stdout.includes('PONG')) return;
-      await new Promise((r) => setTimeout(r, 100));
-    }
-    throw new Error(`private redis-server on ${port} did not start`);
-  };
-  const down = async () => {
-    const exited = new Promise((r) => proc.once('exit', r));
-    spawnSync('redis-cli', ['-p', String(port), 'shutdown']);
-    await exited;
-  };
-  await up();
-  const handle = {
-    url: `redis://127.0.0.1:${port}`,
-    restarts: 0,
-    async restart(downMs = 0) {
-      await down();
-      await new Promise((r) => setTimeout(r, downMs));
-      proc = spawn('redis-server', args, { stdio: 'ignore' });
-      await up();
-      handle.restarts++;
-    },
-    stop: down,
-  };
-  return handle;
-}

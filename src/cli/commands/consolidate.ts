@@ -2,22 +2,25 @@
 import { consolidate } from '../../pipeline.js';
 import { createRuntime } from '../../runtime.js';
 import { type CommonOptions, setup } from '../common.js';
+import { listenForStop } from '../stop-signals.js';
 
-/** Runs consolidation over all events; returns the exit code. */
+/** Runs consolidation over all events; returns the exit code (130 or 143 when a signal stopped it part-way). */
 export async function consolidateCommand(opts: CommonOptions): Promise<number> {
   const { config, logger } = setup(opts);
   const rt = await createRuntime(config, logger);
+  const stop = listenForStop('consolidation');
   try {
     const ids = await rt.store.recentEventIds(Number.MAX_SAFE_INTEGER);
-    const { merges, splits } = await consolidate(rt, ids);
+    const { merges, splits } = await consolidate(rt, ids, stop.signal);
     const lines = [
-      `examined ${ids.length} event(s); merged ${merges.length}, split ${splits.length}`,
+      `${stop.received() ? `stopped by ${stop.received()} part-way; ` : ''}examined ${ids.length} event(s); merged ${merges.length}, split ${splits.length}`,
       ...merges.map((m) => `  merged ${m.from} -> ${m.into} (score ${m.score.toFixed(3)})`),
       ...splits.map((s) => `  split  ${s.into} off ${s.from}: ${s.moved.length} mention(s) moved (parts alike ${s.score.toFixed(3)})`),
     ];
     process.stdout.write(`${lines.join('\n')}\n`);
-    return 0;
+    return stop.exitCode(0);
   } finally {
+    stop.dispose();
     await rt.close();
   }
 }

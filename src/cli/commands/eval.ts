@@ -1,7 +1,7 @@
 /** `strandline eval` and `strandline export-demo`. */
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
-import { StrandError } from '../../errors.js';
+import { StrandError, isStrandError } from '../../errors.js';
 import { demoEvalInput } from '../../eval/demo-input.js';
 import { readEvalInput } from '../../eval/eval-input.js';
 import { formatReport } from '../../eval/format-report.js';
@@ -10,6 +10,7 @@ import type { Setting } from '../../eval/prepare-mentions.js';
 import { defaultSweep, runEval } from '../../eval/run-eval.js';
 import { createNlp } from '../../text/nlp.js';
 import { type CommonOptions, DEMO_DIR, setup } from '../common.js';
+import { listenForStop } from '../stop-signals.js';
 
 /** Options of eval. */
 export interface EvalCommandOptions extends CommonOptions {
@@ -29,7 +30,18 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
   const { config, logger } = setup({ logLevel: 'warn', ...opts });
   const input = opts.demo ? await demoEvalInput(createNlp(), DEMO_DIR, config) : await readEvalInput({ articles: opts.articles!, gold: opts.gold!, scope: opts.scope });
   const settings: Setting[] = opts.setting === 'both' ? ['gold', 'predicted'] : [opts.setting];
-  const report = await runEval(input, { config, settings, sweep: opts.sweep ? defaultSweep() : null, source: opts.demo ? 'the demo (demo-feed/)' : resolve(opts.articles!), logger });
+  const stop = listenForStop('the evaluation');
+  if (!opts.json) process.stderr.write(`evaluating ${input.articles.length} article(s) (${settings.join(', ')} mentions)…\n`);
+  let report: Awaited<ReturnType<typeof runEval>>;
+  try {
+    report = await runEval(input, { config, settings, sweep: opts.sweep ? defaultSweep() : null, source: opts.demo ? 'the demo (demo-feed/)' : resolve(opts.articles!), logger, signal: stop.signal });
+  } catch (err) {
+    if (!isStrandError(err, 'STRAND_STOPPED')) throw err;
+    process.stdout.write(`evaluation stopped by ${stop.received()}: no report written\n`);
+    return stop.exitCode(1);
+  } finally {
+    stop.dispose();
+  }
   const out = opts.out ?? join('eval-results', report.created.replace(/[:.]/g, '-'));
   mkdirSync(out, { recursive: true });
   writeFileSync(join(out, 'report.json'), `${JSON.stringify(report, null, 2)}\n`);

@@ -2,6 +2,7 @@
 import { openStore } from '../../store/open-store.js';
 import { StrandError } from '../../errors.js';
 import { type CommonOptions, setup } from '../common.js';
+import { listenForStop } from '../stop-signals.js';
 
 /** Options of forget. */
 export interface ForgetOptions extends CommonOptions {
@@ -16,6 +17,8 @@ export async function forgetCommand(opts: ForgetOptions): Promise<number> {
   const { config, logger } = setup(opts);
   // The configured store, so a Redis deployment erases in Redis, not in a stray SQLite file.
   const store = await openStore(config.store, logger);
+  // Erasing is committed article by article; a signal ends the command within the grace period.
+  const stop = listenForStop('the erasure');
   try {
     if (opts.article) {
       const found = await store.eraseArticleText(opts.article);
@@ -28,8 +31,9 @@ export async function forgetCommand(opts: ForgetOptions): Promise<number> {
     process.stdout.write(config.store.kind === 'sqlite'
       ? 'store compacted: the erased text is off the disk\n'
       : 'erased in Redis; its snapshot and append-only files keep old values until Redis rewrites them (BGSAVE, BGREWRITEAOF)\n');
-    return 0;
+    return stop.exitCode(0);
   } finally {
+    stop.dispose();
     await store.close();
   }
 }

@@ -20,6 +20,7 @@ import { keyspace } from '../../store/redis/keys.js';
 import { RetentionSweeper } from '../../store/retention-sweeper.js';
 import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
 import { formatSummary, runFeeds } from '../run-feeds.js';
+import { listenForStop } from '../stop-signals.js';
 
 /** Options of serve. */
 export interface ServeOptions extends CommonOptions {
@@ -39,8 +40,21 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const demoDb = opts.demo && !opts.db ? { store: { path: 'data/demo.sqlite' } } : {};
   const { config, logger } = setup(opts, { ...demoDb, ...(Object.keys(server).length ? { server } : {}), ...(opts.role ? { process: { role: opts.role } } : {}) });
   checkRole(config);
-  if (config.process.role === 'worker' || config.process.role === 'linker') return serveQueueRole(config, logger);
-  if (config.process.role === 'api') return serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])]);
+  // Listening from the start: a signal during start-up stops the server as soon as it is up.
+  const stop = listenForStop(`the ${config.process.role === 'all' ? 'server' : `${config.process.role} process`}`);
+  try {
+    if (config.process.role === 'worker' || config.process.role === 'linker') await serveQueueRole(config, logger, stop.requested);
+    else if (config.process.role === 'api') await serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])], stop.requested);
+    else await serveAll(config, logger, opts, stop.requested, stop.signal);
+    process.stdout.write('stopped\n');
+    return 0;
+  } finally {
+    stop.dispose();
+  }
+}
+
+/** The single process: everything, on any store. */
+async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOptions, requested: Promise<unknown>, stopping: AbortSignal): Promise<void> {
   const rt = await createRuntime(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   // Pushed articles and the replay take turns on the one pipeline.
@@ -59,12 +73,11 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   const sweeper = new RetentionSweeper({ store: rt.store, textDays: config.retention.textDays, notificationDays: config.retention.notificationDays, logger });
   await sweeper.start();
 
-  const abort = new AbortController();
   const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
   const replay = sources.length === 0 ? Promise.resolve() : (async () => {
     status.state = 'replaying';
     process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`);
-    const summary = await intake.exclusive(() => runFeeds(rt, sources, { signal: abort.signal }, {
+    const summary = await intake.exclusive(() => runFeeds(rt, sources, { signal: stopping }, {
       onRead: (total) => { status.total = total; },
       onOutcome: (o, done) => {
         status.processed = done;
@@ -73,15 +86,14 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
       },
     }));
     status.state = 'finished';
-    process.stdout.write(`${formatSummary(summary)}\nReplay finished; still serving on ${shown}/ (Ctrl+C to stop)\n`);
+    process.stdout.write(`${formatSummary(summary)}\n${stopping.aborted ? 'Replay stopped' : `Replay finished; still serving on ${shown}/ (Ctrl+C to stop)`}\n`);
   })().catch((err: unknown) => {
     status.state = 'finished';
     logger.error({ err }, 'replay failed');
   });
 
-  await untilSignal();
+  await requested;
   process.stdout.write('stopping…\n');
-  abort.abort();
   await sweeper.stop();
   await replay;
   await poller?.stop();
@@ -89,7 +101,6 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   await dispatcher.stop();
   await app.close();
   await rt.close();
-  return 0;
 }
 
 /** Loads the feed list and starts polling, unless poll.enabled is off. */
@@ -103,15 +114,8 @@ async function startPoller(config: Readonly<Config>, logger: Logger, store: Stor
   return poller;
 }
 
-function untilSignal(): Promise<void> {
-  return new Promise<void>((resolve) => {
-    process.once('SIGINT', () => resolve());
-    process.once('SIGTERM', () => resolve());
-  });
-}
-
 /** `--role worker` or `--role linker`: no HTTP; runs until a signal. */
-async function serveQueueRole(config: Readonly<Config>, logger: Logger): Promise<number> {
+async function serveQueueRole(config: Readonly<Config>, logger: Logger, requested: Promise<unknown>): Promise<void> {
   const role = config.process.role;
   let stopRole: () => Promise<void>;
   if (role === 'worker') {
@@ -126,14 +130,13 @@ async function serveQueueRole(config: Readonly<Config>, logger: Logger): Promise
     };
   }
   process.stdout.write(`Strandline ${role} running on Redis partition ${config.store.redis.partition} (Ctrl+C to stop)\n`);
-  await untilSignal();
+  await requested;
   process.stdout.write('stopping…\n');
   await stopRole();
-  return 0;
 }
 
 /** `--role api`: queries and the page over the shared store; feeds given to it are queued for the workers. */
-async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: readonly string[]): Promise<number> {
+async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: readonly string[], requested: Promise<unknown>): Promise<void> {
   const store = await openStore(config.store, logger);
   const queue = await openQueue(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
@@ -153,13 +156,13 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
     status.state = 'finished';
     process.stdout.write(`Queued ${input.articles.length} articles from ${sources.join(', ')} for the workers\n`);
   }
-  await untilSignal();
+  await requested;
+  process.stdout.write('stopping…\n');
   await poller?.stop();
   await lease.stop();
   await app.close();
   queue.close();
   await store.close();
-  return 0;
 }
 
 /** Says so when the API listens beyond this machine with nothing checked. */
