@@ -14,6 +14,9 @@
  *                   (src/bench/transformer-throughput.ts);
  *   poll rounds     200 feeds on a local server polled twice; the second round should be
  *                   answered almost entirely by 304 Not Modified (src/bench/poll-rounds.ts);
+ *   large feed      one 10,000-item feed (about 19 MB) into an existing store, in a process
+ *                   of its own: every item stored, seconds, peak resident memory
+ *                   (src/bench/large-feed-run.ts);
  *   linker vs batch the online linker's link step against the batch all-pairs baseline
  *                   (average-link agglomerative clustering) on the same 20,000 mentions of
  *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
@@ -42,6 +45,7 @@ import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
 import type { TransformerRow } from './transformer-throughput.js';
+import type { LargeFeedRow } from './large-feed-run.js';
 import { pollRounds } from './poll-rounds.js';
 import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
@@ -155,6 +159,7 @@ async function main(): Promise<void> {
   // In a process of its own, like the link-scale rows: the heaps of the workloads measured
   // here (and the all-pairs baseline's matrices) slowed whatever was measured after them.
   const transformer: TransformerRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./transformer-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as TransformerRow;
+  const largeFeed: LargeFeedRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./large-feed-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as LargeFeedRow;
   const versus = quick ? null : linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
   // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
@@ -172,6 +177,8 @@ async function main(): Promise<void> {
   process.stdout.write(`\npolling ${polling[0]!.feeds} feeds on a local server (poll.concurrency ${parseConfig({}).poll.concurrency}; a few feeds publish between rounds):\n`
     + `  round  requests  200  304  new items  body bytes  poller CPU ms  seconds\n`
     + polling.map((r) => `  ${String(r.round).padStart(5)}  ${String(r.requests).padStart(8)}  ${String(r.ok).padStart(3)}  ${String(r.notModified).padStart(3)}  ${String(r.newItems).padStart(9)}  ${String(r.bytes).padStart(10)}  ${r.cpuMs.toFixed(0).padStart(13)}  ${r.seconds.toFixed(2).padStart(7)}`).join('\n') + '\n');
+  if (largeFeed) process.stdout.write(`\none large feed into an existing store (its own process, default configuration):\n`
+    + `  ${largeFeed.items} items, ${(largeFeed.feedBytes / 1048576).toFixed(1)} MiB: ${largeFeed.stored} stored, ${largeFeed.refused} refused, ${largeFeed.seconds.toFixed(1)} s, peak resident memory ${largeFeed.peakRssMiB.toFixed(0)} MiB\n`);
   if (versus) process.stdout.write(`\nlinker vs batch all-pairs baseline on ${versus.mentions} synthetic mentions (same vectors):\n`
     + `  online linker, link step   ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
     + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
@@ -195,7 +202,7 @@ async function main(): Promise<void> {
   if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

@@ -129,3 +129,25 @@ describe('erasing demo articles after a replay into a SQLite file', () => {
     expect(kept.some((t) => disk.includes(t))).toBe(true);
   });
 });
+
+describe('a commit while another connection holds the write lock past the busy timeout', () => {
+  it('waits and stores the articles instead of refusing them as "database is locked"', async () => {
+    const path = join(scratch(), 'busy.sqlite');
+    const store = openSqliteStore(path, { busyTimeoutMs: 100, backgroundCheckpoint: false });
+    const other = new Database(path);
+    try {
+      // Another writer (a checkpoint, another process) holds the lock ten busy timeouts long.
+      other.exec('BEGIN IMMEDIATE');
+      const release = setTimeout(() => other.exec('COMMIT'), 1000);
+      const started = Date.now();
+      expect(await store.commitArticles([article(1), article(2)])).toEqual(['stored', 'stored']);
+      clearTimeout(release);
+      expect(Date.now() - started).toBeGreaterThanOrEqual(900);
+      expect((await store.counts()).articles).toBe(2);
+    } finally {
+      if (other.inTransaction) other.exec('COMMIT');
+      other.close();
+      await store.close();
+    }
+  });
+});

@@ -8,7 +8,9 @@ import Database from 'better-sqlite3';
 /** @type {{ path: string, everyMs: number, restartBytes: number }} */
 const { path, everyMs, restartBytes } = workerData;
 const db = new Database(path, { fileMustExist: true });
-db.pragma('busy_timeout = 5000');
+// Short: a RESTART checkpoint holds the write lock while it waits for readers, so it gives
+// up soon (and tries again at the next tick) rather than keep the pipeline's commits waiting.
+db.pragma('busy_timeout = 100');
 const pageSize = db.pragma('page_size', { simple: true });
 // Past restartBytes of log, one checkpoint waits for the writer (RESTART) so the log starts over.
 let restart = false;

@@ -20,6 +20,7 @@ import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { MIGRATIONS } from './schema.js';
 import { type WalCheckpointer, startWalCheckpointer } from './wal-checkpointer.js';
+import { whenFree } from './when-free.js';
 
 type Row = Record<string, unknown>;
 
@@ -29,8 +30,10 @@ export interface SqliteStoreOptions {
   idfSnapshotEvery?: number;
   /** Checkpoint the write-ahead log on a thread of its own (file stores only). Default true. */
   backgroundCheckpoint?: boolean;
-  /** Where a failing checkpoint thread is reported. */
+  /** Where a failing checkpoint thread, and a write waiting for a busy file, are reported. */
   logger?: Pick<Logger, 'warn'>;
+  /** SQLite's own wait for a lock before it answers busy, ms (a busy write then waits again, when-free.ts). Default 5,000. */
+  busyTimeoutMs?: number;
 }
 
 /** Opens (creating if needed) a SQLite store at `path`; ':memory:' for tests. */
@@ -44,7 +47,7 @@ export function openSqliteStore(path: string, options: SqliteStoreOptions = {}):
     // last transactions), and several times faster than FULL for small commits.
     db.pragma('synchronous = NORMAL');
     db.pragma('foreign_keys = OFF');
-    db.pragma('busy_timeout = 5000');
+    db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 5000}`);
     // 64 MB of page cache (the default is 2 MB): event rows are rewritten all the time.
     db.pragma('cache_size = -65536');
     // After a checkpoint that let the log start over, its file is cut back to this size.
@@ -57,7 +60,7 @@ export function openSqliteStore(path: string, options: SqliteStoreOptions = {}):
     throw new StrandError('STRAND_STORE_FAILED', `cannot open SQLite store at ${path}: ${(err as Error).message}`, { cause: err });
   }
   const checkpointer = path !== ':memory:' && options.backgroundCheckpoint !== false ? startWalCheckpointer(db, path, options.logger) : undefined;
-  return new SqliteStore(db, options.idfSnapshotEvery ?? IDF_SNAPSHOT_EVERY, checkpointer);
+  return new SqliteStore(db, options.idfSnapshotEvery ?? IDF_SNAPSHOT_EVERY, checkpointer, options.logger);
 }
 
 function migrate(db: Database.Database): void {
@@ -78,7 +81,7 @@ export class SqliteStore implements Store {
   private readonly mergeTx: (m: MergeCommit) => void;
   private readonly splitTx: (s: SplitCommit) => void;
 
-  constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY, private readonly checkpointer?: WalCheckpointer) {
+  constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY, private readonly checkpointer?: WalCheckpointer, private readonly log?: Pick<Logger, 'warn'>) {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
       eventLabel: db.prepare('SELECT label FROM events WHERE id = ?').pluck(),
@@ -172,19 +175,16 @@ export class SqliteStore implements Store {
   }
 
   async commitArticle(c: ArticleCommit): Promise<CommitResult> {
-    try {
-      return this.commitTx(c);
-    } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot store article ${c.article.id}: ${(err as Error).message}`, { cause: err });
-    }
+    return this.write(`cannot store article ${c.article.id}`, () => this.commitTx(c));
   }
 
   async commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]> {
-    try {
-      return this.commitManyTx(cs);
-    } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot store ${cs.length} article(s) from ${cs[0]?.article.id ?? '(none)'}: ${(err as Error).message}`, { cause: err });
-    }
+    return this.write(`cannot store ${cs.length} article(s) from ${cs[0]?.article.id ?? '(none)'}`, () => this.commitManyTx(cs));
+  }
+
+  /** Runs a write, waiting while the file is busy (when-free.ts); logs each wait. */
+  private write<T>(what: string, fn: () => T): Promise<T> {
+    return whenFree(what, fn, { onWait: (attempt, err) => this.log?.warn({ attempt, code: (err as { code?: string }).code, err: (err as Error).message }, 'SQLite file busy; the write waits and goes again') });
   }
 
   private commitInTx(c: ArticleCommit): CommitResult {
@@ -241,11 +241,7 @@ export class SqliteStore implements Store {
   }
 
   async commitMerge(m: MergeCommit): Promise<void> {
-    try {
-      this.mergeTx(m);
-    } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot merge ${m.from} into ${m.into.record.id}: ${(err as Error).message}`, { cause: err });
-    }
+    await this.write(`cannot merge ${m.from} into ${m.into.record.id}`, () => this.mergeTx(m));
   }
 
   private mergeInTx(m: MergeCommit): void {
@@ -266,11 +262,7 @@ export class SqliteStore implements Store {
   }
 
   async commitSplit(sp: SplitCommit): Promise<void> {
-    try {
-      this.splitTx(sp);
-    } catch (err) {
-      throw new StrandError('STRAND_STORE_FAILED', `cannot split ${sp.into.record.id} off ${sp.from.record.id}: ${(err as Error).message}`, { cause: err });
-    }
+    await this.write(`cannot split ${sp.into.record.id} off ${sp.from.record.id}`, () => this.splitTx(sp));
   }
 
   private splitInTx(sp: SplitCommit): void {
@@ -430,7 +422,7 @@ export class SqliteStore implements Store {
   }
 
   async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
-    this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber);
+    await this.write(`cannot record a delivery to ${subscriber}`, () => this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber));
   }
 
   async deadLetters(limit: number): Promise<Delivery[]> {
@@ -443,11 +435,11 @@ export class SqliteStore implements Store {
   }
 
   async pruneNotifications(before: string): Promise<number> {
-    return this.db.transaction(() => {
+    return this.write('cannot prune notifications', this.db.transaction(() => {
       // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
       this.db.prepare("DELETE FROM deliveries WHERE status IN ('delivered', 'dead') AND next_at < ?").run(before);
       return this.db.prepare('DELETE FROM outbox WHERE created < ? AND NOT EXISTS (SELECT 1 FROM deliveries d WHERE d.message_id = outbox.id)').run(before).changes;
-    })();
+    }));
   }
 
   async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
@@ -464,17 +456,17 @@ export class SqliteStore implements Store {
   }
 
   async putFeed(f: FeedEntry): Promise<void> {
-    this.db.prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data').run(f.id, JSON.stringify(f));
+    await this.write(`cannot store feed ${f.id}`, () => this.db.prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data').run(f.id, JSON.stringify(f)));
   }
 
   async updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
-    return this.db.transaction((): FeedEntry | null => {
+    return this.write(`cannot update feed ${id}`, this.db.transaction((): FeedEntry | null => {
       const data = this.db.prepare('SELECT data FROM feeds WHERE id = ?').pluck().get(id) as string | undefined;
       if (data === undefined) return null;
       const next = change(JSON.parse(data) as FeedEntry);
       this.db.prepare('UPDATE feeds SET data = ? WHERE id = ?').run(JSON.stringify(next), id);
       return next;
-    })();
+    }));
   }
 
   async deleteFeed(id: string): Promise<boolean> {
@@ -483,13 +475,13 @@ export class SqliteStore implements Store {
 
   async eraseTextBefore(day: string): Promise<number> {
     const ids = this.db.prepare('SELECT id FROM articles WHERE coalesce(published, fetched) < ? AND text IS NOT NULL').pluck().all(day) as string[];
-    if (ids.length > 0) this.eraseSecurely(ids);
+    if (ids.length > 0) await this.write('cannot erase text', () => this.eraseSecurely(ids));
     return ids.length;
   }
 
   async eraseArticleText(id: string): Promise<boolean> {
     if (this.st.hasArticle.get(id) === undefined) return false;
-    this.eraseSecurely([id]);
+    await this.write(`cannot erase the text of ${id}`, () => this.eraseSecurely([id]));
     return true;
   }
 
