@@ -3,7 +3,7 @@
  * serialisation and the OpenAPI document served at /openapi.json). Route handlers are
  * thin: they read the store they are handed and shape the answer.
  */
-import fastify, { LogController, type FastifyBaseLogger, type FastifyInstance, type FastifyError } from 'fastify';
+import fastify, { LogController, type FastifyBaseLogger, type FastifyInstance, type FastifyError, type FastifyReply } from 'fastify';
 import swagger from '@fastify/swagger';
 import { StrandError, isStrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
@@ -35,6 +35,17 @@ export interface ApiDeps {
   auth?: TokenPolicy | undefined;
 }
 
+/** Seconds a client is asked to wait when the store is unreachable. */
+const RETRY_AFTER_SECONDS = '5';
+
+/** The 503 answer while the store cannot be reached. */
+function storeUnavailable(reply: FastifyReply): FastifyReply {
+  return reply.code(503).header('retry-after', RETRY_AFTER_SECONDS).send({ error: {
+    code: 'STRAND_STORE_UNAVAILABLE',
+    message: 'the store cannot be reached just now; nothing in this request was done (a push was not queued: send it again, articles already stored are recognised by their id)',
+  } });
+}
+
 /** Builds the fastify app (not yet listening). */
 export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   const app = fastify({
@@ -63,7 +74,11 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     },
   });
   app.setErrorHandler((err: FastifyError | StrandError, _req, reply) => {
-    if (isStrandError(err)) return reply.code(err.status).send({ error: { code: err.code, message: err.message } });
+    if (!isStrandError(err) && deps.store.unavailable(err)) return storeUnavailable(reply);
+    if (isStrandError(err)) {
+      if (err.status === 503) void reply.header('retry-after', RETRY_AFTER_SECONDS);
+      return reply.code(err.status).send({ error: { code: err.code, message: err.message } });
+    }
     if ((err as FastifyError).validation) return reply.code(400).send({ error: { code: 'STRAND_REQUEST_INVALID', message: err.message } });
     const status = (err as FastifyError).statusCode ?? 500;
     if (status >= 500) app.log.error({ err }, 'request failed');
@@ -71,6 +86,11 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   });
   app.setNotFoundHandler((req, reply) => reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }));
 
+  // While the store cannot be reached, every API request is answered 503 at once (with
+  // Retry-After) instead of waiting on it; a push is then not queued at all.
+  app.addHook('onRequest', async (req, reply) => {
+    if (req.url.startsWith('/api/') && deps.store.unavailable()) return storeUnavailable(reply);
+  });
   if (deps.auth) registerTokenCheck(app, deps.auth);
   registerEventRoutes(app, deps.store);
   registerArticleRoutes(app, deps.store);

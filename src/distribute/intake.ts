@@ -20,13 +20,18 @@ export async function ensureIntake(redis: RedisClient, k: Keyspace): Promise<voi
   }
 }
 
-/** Adds articles to the intake stream, in order; returns their entry ids. */
-export async function enqueueArticles(redis: RedisClient, k: Keyspace, articles: readonly Article[]): Promise<string[]> {
+/**
+ * Adds articles to the intake stream, in order; returns their entry ids. Sent in chunks of
+ * 200, or, with `atomic` (a push, whose client must be told all or nothing), as one
+ * MULTI/EXEC transaction.
+ */
+export async function enqueueArticles(redis: RedisClient, k: Keyspace, articles: readonly Article[], o: { atomic?: boolean } = {}): Promise<string[]> {
   await ensureIntake(redis, k);
   const ids: string[] = [];
-  for (let at = 0; at < articles.length; at += 200) {
-    const p = redis.pipeline();
-    for (const a of articles.slice(at, at + 200)) p.xadd(k.intake, '*', 'article', encodeArticle(a));
+  const chunk = o.atomic ? Math.max(1, articles.length) : 200;
+  for (let at = 0; at < articles.length; at += chunk) {
+    const p = o.atomic ? redis.multi() : redis.pipeline();
+    for (const a of articles.slice(at, at + chunk)) p.xadd(k.intake, '*', 'article', encodeArticle(a));
     for (const [err, id] of (await p.exec())!) {
       if (err) throw err;
       ids.push(id as string);

@@ -12,7 +12,7 @@ import type { Logger } from '../logger.js';
 import { createRuntime, type Runtime } from '../runtime.js';
 import { keyspace } from '../store/redis/keys.js';
 import { RedisStore } from '../store/redis/redis-store.js';
-import { type RedisClient, connectRedis } from '../store/redis/connect.js';
+import { FAIL_FAST, type RedisClient, closeClient, connectRedis } from '../store/redis/connect.js';
 import { createNlp } from '../text/nlp.js';
 import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
 import type { QueueView } from '../api/routes/operations.js';
@@ -79,16 +79,16 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
   };
 }
 
-/** The queue as the API and the replaying api process see it. */
-export async function openQueue(config: Readonly<Config>, logger: Logger): Promise<QueueView & { enqueue(articles: readonly Article[]): Promise<string[]>; close(): void; redis: RedisClient }> {
-  const redis = await connectRedis(config.store.redis, {}, redisErrorLog(logger));
+/** The queue as the API and the replaying api process see it; `failFast` for the API (connect.ts FAIL_FAST). */
+export async function openQueue(config: Readonly<Config>, logger: Logger, o: { failFast?: boolean } = {}): Promise<QueueView & { enqueue(articles: readonly Article[], o?: { atomic?: boolean }): Promise<string[]>; close(): void; redis: RedisClient }> {
+  const redis = await connectRedis(config.store.redis, o.failFast ? FAIL_FAST : {}, redisErrorLog(logger));
   const keys = keyspace(config.store.redis.partition);
   return {
     redis,
     depth: () => queueDepth(redis, keys),
     deadLetters: (limit) => deadLetters(redis, keys, limit),
-    enqueue: (articles) => enqueueArticles(redis, keys, articles),
-    close: () => redis.disconnect(),
+    enqueue: (articles, e) => enqueueArticles(redis, keys, articles, e),
+    close: () => void closeClient(redis),
   };
 }
 

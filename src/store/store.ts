@@ -341,5 +341,11 @@ export interface Store {
    * proportion to the store's size; callers run it after erasures, not after every one.
    */
   compact(): Promise<void>;
+  /**
+   * True when the store cannot be reached now (Redis down or reconnecting), or when `err`
+   * (from one of this store's calls) says so; the API then answers 503 at once. Always
+   * false for an embedded store.
+   */
+  unavailable(err?: unknown): boolean;
   close(): Promise<void>;
 }

@@ -62,7 +62,10 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
     if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
   });
   const poller = await startPoller(config, logger, rt.store, (a) => intake.submit(a));
-  const app = await buildApp({ store: rt.store, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
+  // On Redis the API reads through a connection of its own that fails at once while Redis is
+  // away (503), where the pipeline's waits for it to come back.
+  const apiStore = config.store.kind === 'redis' ? await openStore(config.store, logger, { failFast: true }) : rt.store;
+  const app = await buildApp({ store: apiStore, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
   const address = await app.listen({ host: config.server.host, port: config.server.port });
   warnIfOpen(config, logger);
   const shown = address.replace('//127.0.0.1', '//localhost');
@@ -100,6 +103,7 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
   await intake.idle();
   await dispatcher.stop();
   await app.close();
+  if (apiStore !== rt.store) await apiStore.close();
   await rt.close();
 }
 
@@ -137,10 +141,12 @@ async function serveQueueRole(config: Readonly<Config>, logger: Logger, requeste
 
 /** `--role api`: queries and the page over the shared store; feeds given to it are queued for the workers. */
 async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: readonly string[], requested: Promise<unknown>): Promise<void> {
-  const store = await openStore(config.store, logger);
-  const queue = await openQueue(config, logger);
+  // Fail fast: while Redis is away, requests are answered 503 at once rather than left hanging.
+  const store = await openStore(config.store, logger, { failFast: true });
+  const queue = await openQueue(config, logger, { failFast: true });
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a));
+  // A push is queued whole or not at all (its client is told one or the other).
+  const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a, { atomic: true }));
   // Every api process serves the feeds; the one holding the partition's poll lease polls them.
   const lease = new Lease(queue.redis, keyspace(config.store.redis.partition).pollLease, 'feed poller', logger);
   if (config.poll.enabled) await lease.start();

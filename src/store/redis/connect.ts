@@ -9,6 +9,40 @@ import { StrandError } from '../../errors.js';
 /** A connection to one server or to a cluster. */
 export type RedisClient = Redis | Cluster;
 
+/**
+ * Options for a connection that answers at once while Redis is away instead of waiting
+ * for it (the API: a client should hear 503 now, not hang): no offline queue, nothing
+ * resent after a reconnect (a push the client was told failed is never stored later), and
+ * a command that gets no answer fails after `commandTimeout`.
+ */
+export const FAIL_FAST: RedisOptions = { enableOfflineQueue: false, autoResendUnfulfilledCommands: false, commandTimeout: 5000, maxRetriesPerRequest: 0 };
+
+/** True for an error that says Redis cannot be reached now (closed, refused, reset, timed out, not writeable). */
+export function isConnectionError(err: unknown): boolean {
+  const message = err instanceof Error ? err.message : String(err);
+  return /Connection is closed|Stream isn't writeable|ECONNREFUSED|ECONNRESET|EPIPE|ETIMEDOUT|Command timed out|Reached the max retries|Cluster(All)?FailedError|None of startup nodes is available/i.test(message);
+}
+
+/** True while the connection is up and serving commands. */
+export function isReady(client: RedisClient): boolean {
+  return client.status === 'ready';
+}
+
+/**
+ * Closes a connection without waiting on a Redis that is gone: QUIT (which lets commands
+ * in flight finish) only while connected, for at most a second; otherwise the socket is
+ * dropped at once. A shutdown therefore never hangs on an unreachable Redis.
+ */
+export async function closeClient(client: RedisClient): Promise<void> {
+  if (client.status === 'end') return;
+  if (!isReady(client)) return void client.disconnect();
+  let timer: NodeJS.Timeout | undefined;
+  const late = new Promise<void>((resolve) => { timer = setTimeout(resolve, 1000); });
+  await Promise.race([client.quit().catch(() => undefined), late]);
+  clearTimeout(timer);
+  if ((client.status as string) !== 'end') client.disconnect();
+}
+
 /** Where Redis is. */
 export interface RedisTarget {
   url: string;
@@ -32,6 +66,7 @@ export async function connectRedis(target: RedisTarget | string, options: RedisO
       if (!/^rediss?:$/.test(u.protocol)) throw new Error('not a redis:// or rediss:// URL');
       client = new Cluster([{ host: u.hostname, port: Number(u.port || 6379) }], {
         lazyConnect: true,
+        ...(options.enableOfflineQueue === false ? { enableOfflineQueue: false } : {}),
         redisOptions: { ...base, ...(u.username ? { username: decodeURIComponent(u.username) } : {}), ...(u.password ? { password: decodeURIComponent(u.password) } : {}), ...(u.protocol === 'rediss:' ? { tls: {} } : {}) },
       });
     } else {

@@ -58,14 +58,17 @@ export interface RedisStoreOptions {
   redis?: RedisOptions;
   /** Told of connection errors (Redis down, restarting); commands wait meanwhile. */
   onError?: (err: Error) => void;
+  /** Commands fail at once while Redis is away instead of waiting (connect.ts FAIL_FAST; the API's store). */
+  failFast?: boolean;
 }
 
 export { connectRedis, redactUrl } from './connect.js';
+import { FAIL_FAST, closeClient, isConnectionError, isReady } from './connect.js';
 
 /** Connects to Redis and checks it answers; refuses a malformed URL or partition. */
 export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> {
   const keys = keyspace(o.partition);
-  return new RedisStore(await connectRedis({ url: o.url, cluster: o.cluster ?? false }, o.redis, o.onError), keys);
+  return new RedisStore(await connectRedis({ url: o.url, cluster: o.cluster ?? false }, { ...(o.failFast ? FAIL_FAST : {}), ...o.redis }, o.onError), keys);
 }
 
 export class RedisStore implements Store {
@@ -477,8 +480,12 @@ export class RedisStore implements Store {
     return Number(/used_memory:(\d+)/.exec(info)?.[1] ?? 0);
   }
 
+  unavailable(err?: unknown): boolean {
+    return !isReady(this.redis) || (err !== undefined && isConnectionError(err));
+  }
+
   async close(): Promise<void> {
-    if (this.redis.status !== 'end') await this.redis.quit().catch(() => this.redis.disconnect());
+    await closeClient(this.redis);
   }
 
   private async summaries(ids: readonly string[]): Promise<EventSummary[]> {

@@ -575,6 +575,10 @@ export class SqliteStore implements Store {
     }
   }
 
+  unavailable(): boolean {
+    return false;
+  }
+
   async close(): Promise<void> {
     await this.checkpointer?.stop();
     if (this.db.open) this.db.close();
