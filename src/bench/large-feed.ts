@@ -18,6 +18,8 @@ const FILLER = [
   'The main road through the valley is often closed for a few hours in spring when the river runs high.',
 ];
 
+const FIVE_YEARS_MS = 5 * 365 * 86_400_000;
+
 /** XML text escaping for element content. */
 function esc(s: string): string {
   return s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
@@ -29,7 +31,9 @@ export function largeFeed(items: number, seed = 11): string {
   const out: string[] = ['<?xml version="1.0" encoding="UTF-8"?>\n<rss version="2.0"><channel><title>Tessel Bay Wire</title><link>https://tesselbay.example/</link><description>Archive feed</description>'];
   for (const a of stream.articles.slice(0, items)) {
     const body = [...a.sentences, ...FILLER].map((p) => `<p>${esc(p)}</p>`).join('');
-    out.push(`<item><title>${esc(a.title)}</title><link>https://tesselbay.example/news/${a.id}</link><guid>https://tesselbay.example/news/${a.id}</guid><pubDate>${new Date(a.published!).toUTCString()}</pubDate><description>${esc(body)}</description></item>`);
+    // The stream is dated from 2030; an archive is dated in the past (feeds refuse far-future dates).
+    const published = new Date(Date.parse(a.published!) - FIVE_YEARS_MS).toUTCString();
+    out.push(`<item><title>${esc(a.title)}</title><link>https://tesselbay.example/news/${a.id}</link><guid>https://tesselbay.example/news/${a.id}</guid><pubDate>${published}</pubDate><description>${esc(body)}</description></item>`);
   }
   out.push('</channel></rss>\n');
   return out.join('\n');

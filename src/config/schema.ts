@@ -75,6 +75,18 @@ export const configSchema = z.strictObject({
     allowedNetworks: networkList,
     /** Redirects followed for one feed URL. Default 5. */
     maxRedirects: z.number().int().min(0).max(20).default(5),
+    /**
+     * Oldest publication date taken, in days before the article is read. Default 36,500 (a
+     * century: any news archive). An older date (year 0001) leaves a feed item undated, with
+     * a warning, and refuses a pushed one.
+     */
+    publishedPastDays: z.number().int().min(1).max(3_650_000).default(36_500),
+    /**
+     * Latest publication date taken, in hours after the article is read. Default 48 (clocks
+     * and time zones err). A later date (year 9999) becomes the time the feed item was read,
+     * with a warning, and refuses a pushed one.
+     */
+    publishedAheadHours: z.number().int().min(0).max(8760).default(48),
   }).prefault({}),
   copies: z.strictObject({
     /** Recognise lightly edited copies (MinHash), not only verbatim ones. Default true. */

@@ -31,6 +31,9 @@ export interface PushContext {
   maxArticleChars: number;
   fetched: string;
   source: string;
+  /** The window of publication dates taken (ingest.publishedPastDays, ingest.publishedAheadHours). */
+  publishedPastDays?: number;
+  publishedAheadHours?: number;
 }
 
 /** Splits a request body into items: an object, an array of objects, or NDJSON lines. */
@@ -67,9 +70,13 @@ export function readPushedItems(items: readonly unknown[], ctx: PushContext): Pu
     try {
       const { article } = toArticle(
         { guid: p.id, url: p.url ?? null, title: p.title, published: p.published ?? null, html: p.html ?? null, text: p.text ?? null, language: p.language ?? null },
-        { outlet: p.outlet, source: ctx.source, fetched: ctx.fetched, maxArticleChars: ctx.maxArticleChars },
+        // A pushing system is told of a bad date rather than having it repaired.
+        {
+          outlet: p.outlet, source: ctx.source, fetched: ctx.fetched, maxArticleChars: ctx.maxArticleChars, strictDates: true,
+          ...(ctx.publishedPastDays ? { publishedPastDays: ctx.publishedPastDays } : {}),
+          ...(ctx.publishedAheadHours !== undefined ? { publishedAheadHours: ctx.publishedAheadHours } : {}),
+        },
       );
-      if (p.published && article.published === null) throw new StrandError('STRAND_ARTICLE_INVALID', `published "${p.published.slice(0, 64)}" is not a date`);
       return { index, article };
     } catch (err) {
       return { index, id, error: err instanceof StrandError ? err : new StrandError('STRAND_ARTICLE_INVALID', describeError(err), { cause: err }) };

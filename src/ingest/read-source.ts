@@ -20,6 +20,9 @@ export interface ReadLimits extends NetworkPolicy {
   fetchTimeoutMs: number;
   /** Redirects followed (default 5). */
   maxRedirects?: number;
+  /** The window of publication dates taken (to-article.ts; defaults a century back, 48 hours ahead). */
+  publishedPastDays?: number;
+  publishedAheadHours?: number;
 }
 
 /** Something that went wrong with one document or one item, kept for the summary. */
@@ -81,7 +84,7 @@ export async function readFeedDocument(source: string, limits: ReadLimits, now: 
 }
 
 /** Turns the bytes of one feed document into articles; never throws, reports problems. */
-export function parseFeedBytes(source: string, bytes: Uint8Array, charset: string | null, limits: Pick<ReadLimits, 'maxArticleChars'>, now: () => Date = () => new Date()): FeedDocument {
+export function parseFeedBytes(source: string, bytes: Uint8Array, charset: string | null, limits: Pick<ReadLimits, 'maxArticleChars' | 'publishedPastDays' | 'publishedAheadHours'>, now: () => Date = () => new Date()): FeedDocument {
   const doc: FeedDocument = { source, outlet: '', articles: [], problems: [] };
   const fail = (err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): void => {
     doc.problems.push(problem(source, err, item, severity));
@@ -96,7 +99,11 @@ export function parseFeedBytes(source: string, bytes: Uint8Array, charset: strin
     const fetched = now().toISOString();
     for (const item of feed.items) {
       try {
-        const { article, warning } = toArticle(item, { outlet: doc.outlet, source, fetched, maxArticleChars: limits.maxArticleChars, documentUrl });
+        const { article, warning } = toArticle(item, {
+          outlet: doc.outlet, source, fetched, maxArticleChars: limits.maxArticleChars, documentUrl,
+          ...(limits.publishedPastDays ? { publishedPastDays: limits.publishedPastDays } : {}),
+          ...(limits.publishedAheadHours !== undefined ? { publishedAheadHours: limits.publishedAheadHours } : {}),
+        });
         if (warning) fail(new StrandError('STRAND_ARTICLE_INVALID', warning), article.id, 'warning');
         doc.articles.push(article);
       } catch (err) {

@@ -7,6 +7,7 @@ import { StrandError } from '../errors.js';
 import type { Article } from '../records.js';
 import type { FeedItem } from './feed-item.js';
 import { htmlToPlainText, normaliseText } from './html-to-plain-text.js';
+import { parseFeedDate } from './parse-date.js';
 
 /** Where an item came from and the limits that apply. */
 export interface ItemContext {
@@ -16,6 +17,12 @@ export interface ItemContext {
   maxArticleChars: number;
   /** The URL relative links are read against when the item gives no base: the feed's own URL, else its site link. */
   documentUrl?: string | null;
+  /** Publication dates accepted: from this many days before `fetched` (default 36,500, a century)... */
+  publishedPastDays?: number;
+  /** ...to this many hours after it (default 48: clocks and time zones err). */
+  publishedAheadHours?: number;
+  /** Refuse an item whose date is unreadable or out of range (pushed items), instead of repairing it with a warning (feed items). */
+  strictDates?: boolean;
 }
 
 /** An Article, plus a note for the operator when something was repaired on the way. */
@@ -40,11 +47,7 @@ export function toArticle(item: FeedItem, ctx: ItemContext): ArticleResult {
 
   let warning: string | null = null;
   let published: string | null = null;
-  if (item.published) {
-    const ms = parseDate(item.published);
-    if (Number.isNaN(ms) || !calendarDateExists(item.published)) warning = `unreadable date "${item.published.slice(0, 60)}"; publication time unknown`;
-    else published = new Date(ms).toISOString();
-  }
+  if (item.published) ({ published, warning } = publicationDate(item.published, ctx));
   const url = item.url ? resolveUrl(item.url, item.base ?? null, ctx.documentUrl ?? null) : null;
   if (item.url && !url) warning = [warning, `link "${item.url.slice(0, 80)}" is not an http(s) URL; dropped`].filter(Boolean).join('; ');
   return {
@@ -63,6 +66,37 @@ export function toArticle(item: FeedItem, ctx: ItemContext): ArticleResult {
     },
     warning,
   };
+}
+
+/**
+ * An item's publication date as RFC 3339 UTC, judged against the fetch time: an unreadable
+ * date leaves it unknown; one more than `publishedPastDays` before the fetch (year 0001)
+ * is unknown too, and one more than `publishedAheadHours` after it (year 9999) becomes the
+ * fetch time, so that it cannot sit at the top of every list for ever. Each repair is a
+ * warning naming the date given; with `strictDates` it is a refusal instead.
+ */
+function publicationDate(given: string, ctx: ItemContext): { published: string | null; warning: string | null } {
+  const shown = `"${given.slice(0, 60)}"`;
+  const ms = parseFeedDate(given);
+  const refuse = (why: string): never => {
+    throw new StrandError('STRAND_ARTICLE_INVALID', `published ${shown} ${why}`);
+  };
+  if (Number.isNaN(ms)) {
+    if (ctx.strictDates) refuse('is not a date (RFC 3339, e.g. 2026-10-05T09:30:00Z)');
+    return { published: null, warning: `unreadable date ${shown}; publication time unknown` };
+  }
+  const fetched = Date.parse(ctx.fetched);
+  const pastDays = ctx.publishedPastDays ?? 36_500;
+  const aheadHours = ctx.publishedAheadHours ?? 48;
+  if (ms < fetched - pastDays * 86_400_000) {
+    if (ctx.strictDates) refuse(`is more than ingest.publishedPastDays (${pastDays}) before now`);
+    return { published: null, warning: `date ${shown} is more than ingest.publishedPastDays (${pastDays}) days before it was fetched; publication time unknown` };
+  }
+  if (ms > fetched + aheadHours * 3_600_000) {
+    if (ctx.strictDates) refuse(`is more than ingest.publishedAheadHours (${aheadHours}) after now`);
+    return { published: ctx.fetched, warning: `date ${shown} is more than ingest.publishedAheadHours (${aheadHours}) hours after it was fetched; the fetch time is used` };
+  }
+  return { published: new Date(ms).toISOString(), warning: null };
 }
 
 /** Stable article id: absolute guids are globally unique by the feed standards; others are scoped to the outlet. */
@@ -86,38 +120,6 @@ export function resolveUrl(link: string, base: string | null, documentUrl: strin
   } catch {
     return null;
   }
-}
-
-/**
- * Milliseconds since the epoch of an RFC 822 / RFC 3339 date (and the usual variants
- * Date.parse reads), or NaN. A leap second (":60", allowed by RFC 3339, 5.7) is read as
- * the second after ":59".
- */
-function parseDate(s: string): number {
-  const leap = /(\d{2}:\d{2}):60(?=\D|$)/;
-  if (!leap.test(s)) return Date.parse(s);
-  const ms = Date.parse(s.replace(leap, '$1:59'));
-  return Number.isNaN(ms) ? ms : ms + 1000;
-}
-
-const MONTHS = ['jan', 'feb', 'mar', 'apr', 'may', 'jun', 'jul', 'aug', 'sep', 'oct', 'nov', 'dec'];
-
-/**
- * False for a date that names a day its month does not have ("31 Feb"), which Date.parse
- * would quietly roll into the next month. Reads the RFC 822 (day month year) and RFC 3339
- * (year-month-day) forms; other forms pass.
- */
-export function calendarDateExists(s: string): boolean {
-  const rfc822 = /(\d{1,2})[\s-]+([a-z]{3})[a-z]*\.?[\s-]+(\d{2,4})/i.exec(s);
-  const rfc3339 = /^\s*(\d{4})-(\d{2})-(\d{2})/.exec(s);
-  let y: number, m: number, d: number;
-  if (rfc3339) [y, m, d] = [Number(rfc3339[1]), Number(rfc3339[2]), Number(rfc3339[3])];
-  else if (rfc822) {
-    const month = MONTHS.indexOf(rfc822[2]!.toLowerCase());
-    if (month < 0) return true;
-    [y, m, d] = [Number(rfc822[3]!.length === 2 ? `20${rfc822[3]}` : rfc822[3]), month + 1, Number(rfc822[1])];
-  } else return true;
-  return m >= 1 && m <= 12 && d >= 1 && d <= new Date(Date.UTC(y, m, 0)).getUTCDate();
 }
 
 /** SHA-256 of the text with case and whitespace folded, so re-wrapped copies hash alike. */

@@ -61,6 +61,15 @@ describe('pushing articles to POST /api/articles', () => {
     expect(submitted.flat().map((a) => a.id)).toEqual(['https://harbourline.example/news/b1']);
   });
 
+  it('refuses publication dates outside the window, saying which limit they break', async () => {
+    const r = await post(JSON.stringify([item('d1', { published: '0001-01-01T00:00:00Z' }), item('d2', { published: '9999-12-31T00:00:00Z' }), item('d3', { published: '+275760-09-13T00:00:00Z' })]));
+    expect(r.json().results.map((x: { status: string; reason: string }) => [x.status, x.reason])).toEqual([
+      ['rejected', expect.stringMatching(/published "0001-01-01T00:00:00Z" is more than ingest.publishedPastDays \(36500\) before now/)],
+      ['rejected', expect.stringMatching(/published "9999-12-31T00:00:00Z" is more than ingest.publishedAheadHours \(48\) after now/)],
+      ['rejected', expect.stringMatching(/published "\+275760-09-13T00:00:00Z" is not a date/)],
+    ]);
+  });
+
   it('reports an article already stored as a duplicate', async () => {
     const intake = new LocalIntake(rt);
     const app2 = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: idle, push: { submit: (a) => intake.submit(a), limits } });

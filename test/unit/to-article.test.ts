@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { articleId, contentHash, toArticle } from '../../src/ingest/to-article.js';
+import { type ItemContext, articleId, contentHash, toArticle } from '../../src/ingest/to-article.js';
+import { parseFeedDate } from '../../src/ingest/parse-date.js';
 import { isStrandError } from '../../src/errors.js';
 import type { FeedItem } from '../../src/ingest/feed-item.js';
 
@@ -58,5 +59,44 @@ describe('turning feed items into articles', () => {
   it('hashes content with case and spacing folded, so re-wrapped copies match', () => {
     expect(contentHash('The  Bridge\nfell.')).toBe(contentHash('the bridge fell.'));
     expect(contentHash('The bridge fell.')).not.toBe(contentHash('The bridge stood.'));
+  });
+});
+
+describe('publication dates out of range', () => {
+  const fetched = '2026-12-03T12:00:00.000Z';
+  const at = (published: string, over: Partial<ItemContext> = {}) => toArticle(item({ guid: 'g', text: 'x', published }), { ...ctx, fetched, ...over });
+
+  it('reads four-digit years as written: the year 0001 is not 2001 (RFC 2822 section 4.3 keeps two-digit years only for 00-99)', () => {
+    expect(parseFeedDate('Mon, 01 Jan 0001 00:00:00 GMT')).toBe(Date.parse('0001-01-01T00:00:00Z'));
+    expect(parseFeedDate('Sat, 07 Sep 49 00:00:01 GMT')).toBe(Date.parse('2049-09-07T00:00:01Z'));
+    expect(parseFeedDate('Sat, 07 Sep 50 00:00:01 GMT')).toBe(Date.parse('1950-09-07T00:00:01Z'));
+  });
+
+  it('leaves a feed item dated a century or more before it was read undated, with a warning naming the date', () => {
+    const r = at('Mon, 01 Jan 0001 00:00:00 GMT');
+    expect(r.article.published).toBeNull();
+    expect(r.warning).toBe('date "Mon, 01 Jan 0001 00:00:00 GMT" is more than ingest.publishedPastDays (36500) days before it was fetched; publication time unknown');
+  });
+
+  it('dates a feed item from the far future at the time it was read, with a warning', () => {
+    for (const given of ['Fri, 31 Dec 9999 23:59:59 GMT', '9999-12-31T23:59:59Z', '2026-12-08T00:00:00Z']) {
+      const r = at(given);
+      expect(r.article.published).toBe(fetched);
+      expect(r.warning).toMatch(/is more than ingest.publishedAheadHours \(48\) hours after it was fetched; the fetch time is used/);
+    }
+    // Within the allowance (a clock or zone error of a day) the date stands.
+    expect(at('2026-12-04T12:00:00Z').article.published).toBe('2026-12-04T12:00:00.000Z');
+  });
+
+  it('takes the extended year +275760 (the last day JavaScript can hold) for no date at all', () => {
+    const r = at('+275760-09-13T00:00:00Z');
+    expect(r.article.published).toBeNull();
+    expect(r.warning).toMatch(/unreadable date/);
+  });
+
+  it('refuses such dates outright when asked to (pushed items), saying why', () => {
+    expect(() => at('0001-01-01T00:00:00Z', { strictDates: true })).toThrow(/published "0001-01-01T00:00:00Z" is more than ingest.publishedPastDays \(36500\) before now/);
+    expect(() => at('9999-12-31T00:00:00Z', { strictDates: true })).toThrow(/is more than ingest.publishedAheadHours \(48\) after now/);
+    expect(() => at('soon', { strictDates: true })).toThrow(/published "soon" is not a date/);
   });
 });

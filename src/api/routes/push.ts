@@ -16,6 +16,8 @@ export interface PushLimits {
   maxArticleChars: number;
   maxPushItems: number;
   maxPushBytes: number;
+  publishedPastDays?: number;
+  publishedAheadHours?: number;
 }
 
 /** One item's result. */
@@ -33,6 +35,8 @@ export function registerPushRoute(app: FastifyInstance, deps: { store: Store; su
     const ndjson = (req.headers['content-type'] ?? '').startsWith('application/x-ndjson');
     const items = readPushedItems(splitPushedBody(req.body, ndjson, limits.maxPushItems), {
       maxArticleChars: limits.maxArticleChars, fetched: deps.now().toISOString(), source: `push:${req.ip}`,
+      ...(limits.publishedPastDays ? { publishedPastDays: limits.publishedPastDays } : {}),
+      ...(limits.publishedAheadHours !== undefined ? { publishedAheadHours: limits.publishedAheadHours } : {}),
     });
     const results: ItemResult[] = [];
     const accepted: Article[] = [];
