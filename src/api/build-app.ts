@@ -16,6 +16,7 @@ import { type PushLimits, type SubmitArticles, registerPushRoute } from './route
 import { CAUTION } from './schemas.js';
 import { type FeedControl, registerFeedRoutes } from './routes/feeds.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
+import { parseJsonText } from '../ingest/parse-json-text.js';
 
 const TOKEN_NOTE = 'When the operator sets server.tokens, requests that change something (POST, PUT, PATCH, DELETE) need Authorization: Bearer <token>, and with server.protect "everything" reads under /api/ too (not /api/health). A missing or unknown token gets 401 with code STRAND_UNAUTHORIZED.';
 
@@ -83,6 +84,15 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     const status = (err as FastifyError).statusCode ?? 500;
     if (status >= 500) app.log.error({ err }, 'request failed');
     return reply.code(status).send({ error: { code: status >= 500 ? 'STRAND_INTERNAL' : 'STRAND_REQUEST_INVALID', message: status >= 500 ? 'internal error' : err.message } });
+  });
+  // Our own JSON parser: a poisoned key is refused with its reason (ingest/parse-json-text.ts).
+  app.removeContentTypeParser('application/json');
+  app.addContentTypeParser('application/json', { parseAs: 'string' }, (_req, body, done) => {
+    try {
+      done(null, parseJsonText(body as string));
+    } catch (err) {
+      done(err as Error, undefined);
+    }
   });
   app.setNotFoundHandler((req, reply) => reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }));
 

@@ -11,6 +11,7 @@ import { z } from 'zod';
 import { StrandError, describeError } from '../errors.js';
 import type { Article } from '../records.js';
 import { toArticle } from './to-article.js';
+import { parseJsonText } from './parse-json-text.js';
 
 const pushedItemSchema = z.strictObject({
   id: z.string().trim().min(1).max(2048),
@@ -43,9 +44,9 @@ export function splitPushedBody(body: unknown, ndjson: boolean, maxItems: number
     if (typeof body !== 'string') throw new StrandError('STRAND_REQUEST_INVALID', 'an NDJSON body must be text');
     items = body.split('\n').map((line, i) => ({ line: line.trim(), i })).filter((l) => l.line !== '').map(({ line, i }) => {
       try {
-        return JSON.parse(line) as unknown;
+        return parseJsonText(line, `line ${i + 1}`);
       } catch (err) {
-        return new StrandError('STRAND_ARTICLE_INVALID', `line ${i + 1} is not JSON: ${(err as Error).message}`);
+        return new StrandError('STRAND_ARTICLE_INVALID', (err as Error).message, { cause: err });
       }
     });
   } else {

@@ -54,11 +54,25 @@ describe('pushing articles to POST /api/articles', () => {
     const body = r.json();
     expect(body.results.map((x: { status: string }) => x.status)).toEqual(['accepted', 'duplicate', 'rejected', 'rejected', 'rejected', 'rejected']);
     expect(body.results[1].reason).toBe('earlier in this request');
-    expect(body.results[2].reason).toMatch(/STRAND_ARTICLE_INVALID: line 3 is not JSON/);
+    expect(body.results[2].reason).toMatch(/STRAND_ARTICLE_INVALID: line 3 is not valid JSON/);
     expect(body.results[3].reason).toMatch(/published "next Tuesday-ish" is not a date/);
     expect(body.results[4].reason).toMatch(/extra/);
     expect(body.results[5].reason).toMatch(/STRAND_ARTICLE_TOO_LARGE/);
     expect(submitted.flat().map((a) => a.id)).toEqual(['https://harbourline.example/news/b1']);
+  });
+
+  it('refuses a body with a __proto__ or constructor key, saying why, in JSON and in NDJSON alike', async () => {
+    for (const [payload, key] of [['{"__proto__": {"polluted": true}, "id": "a"}', '"__proto__"'], ['[{"id": "a", "constructor": {"prototype": {"polluted": true}}}]', '"constructor" with a "prototype"']] as const) {
+      const r = await post(payload);
+      expect(r.statusCode).toBe(400);
+      expect(r.json().error).toEqual({ code: 'STRAND_REQUEST_INVALID', message: `the body was refused: it has a ${key} key, which could change the prototype of the objects it is read into (prototype poisoning); rename or remove that key` });
+    }
+    const r = await post(`${JSON.stringify(item('p1'))}\n{"__proto__": {"polluted": true}}`, 'application/x-ndjson');
+    expect(r.json().results.map((x: { status: string; reason: string | null }) => [x.status, x.reason])).toEqual([
+      ['accepted', null],
+      ['rejected', expect.stringMatching(/^STRAND_ARTICLE_INVALID: line 2 was refused: it has a "__proto__" key/)],
+    ]);
+    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
   });
 
   it('refuses publication dates outside the window, saying which limit they break', async () => {
