@@ -296,12 +296,20 @@ export async function consolidate(ctx: PipelineContext, ids: readonly string[], 
 /** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
 async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<SplitOutcome[]> {
   const done: SplitOutcome[] = [];
+  // Events examined and left whole: their marks are stored, so a restart examines the same.
+  const unsplit: string[] = [];
   for (const id of ctx.linker.splitCandidates(ids)) {
     if (signal?.aborted) break;
     const linked = await ctx.store.linkedMentions(id);
-    if (linked.some((l) => l.mention.vector === null)) continue;
+    if (linked.some((l) => l.mention.vector === null)) {
+      unsplit.push(id);
+      continue;
+    }
     const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
-    if (!plan) continue;
+    if (!plan) {
+      unsplit.push(id);
+      continue;
+    }
     await useStoredLabels(ctx, [plan.kept]);
     // The store relabels the event left behind when its label sentence moved (commitSplit);
     // the notification says the same: its earliest remaining sentence, as listed.
@@ -319,6 +327,8 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
     ctx.linker.applySplit(plan);
     done.push({ from: id, into: plan.split.id, score: plan.score, moved: plan.moved });
   }
+  const marks = unsplit.map((id) => ctx.linker.event(id)).filter((e): e is EventState => e !== undefined);
+  await ctx.store.putEventStates(marks.map((e) => ({ id: e.id, state: serialiseEvent(e) })));
   if (done.length) ctx.logger.child({ stage: 'link' }).debug({ splits: done.length }, 'consolidation split events');
   return done;
 }

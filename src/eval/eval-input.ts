@@ -4,7 +4,7 @@
  *   articles.jsonl  {"id", "outlet", "published" (RFC 3339, YYYY-MM-DD or null), "title",
  *                    "sentences": [string, ...], "topic" (or null), "subtopic" (or null)}
  *   gold.jsonl      {"article", "sentence" (0-based index, or null for an article-level
- *                    label), "event"}, optionally "text" (checked against the sentence)
+ *                    label), "event"}, optionally "text" (the sentence, or the mention's words in it; checked)
  *   scope.jsonl     {"article", "sentence"}: only these sentences are scored (optional)
  *
  * Every line is validated; problems are reported with file, line and reason, all at once.
@@ -162,8 +162,9 @@ function checkGoldRef(g: GoldLine, byId: Map<string, EvalArticle>, where: string
     problems.push(`${where}: sentence ${g.sentence} is beyond the ${a.sentences.length} sentences of ${g.article}`);
     return false;
   }
-  if (g.sentence !== null && g.text !== undefined && g.text.trim() !== a.sentences[g.sentence]!.trim()) {
-    problems.push(`${where}: the text does not match sentence ${g.sentence} of ${g.article}: gold ${JSON.stringify(g.text.slice(0, 80))}, article ${JSON.stringify(a.sentences[g.sentence]!.slice(0, 80))}`);
+  // `text` is the whole sentence, or the mention's words inside it (WEC-style gold).
+  if (g.sentence !== null && g.text !== undefined && !a.sentences[g.sentence]!.includes(g.text.trim())) {
+    problems.push(`${where}: the text is not found in sentence ${g.sentence} of ${g.article}: gold ${JSON.stringify(g.text.slice(0, 80))}, article ${JSON.stringify(a.sentences[g.sentence]!.slice(0, 80))}`);
     return false;
   }
   return true;

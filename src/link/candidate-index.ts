@@ -1,6 +1,6 @@
 /**
  * The candidate index: which events might a new mention report? An inverted index from
- * keys (a mention's most distinctive hashed terms, its participants and places) to the
+ * keys (an event's most distinctive hashed terms, its participants and places) to the
  * events registered under them, plus a list of the most recently touched events.
  *
  * Each posting keeps at most `postingLimit` events, the most recently touched last, so a
@@ -8,7 +8,12 @@
  * keys ever reach the limit; an old event stays reachable through its rarer keys, which is
  * how a sentence today finds last month's event from another story.
  *
- *   key ──► [ev_old … ev_recent]     (append on touch; drop the front past the limit)
+ *   key ──► [ev_old … ev_recent]     (move to the end on touch; drop the front past the limit)
+ *
+ * What an event is registered under is a function of its state alone (the caller gives
+ * the keys and the touch number stored with it), and an event leaves the postings of keys
+ * it no longer carries at once, so the index rebuilt from stored events in touch order is
+ * the one a running linker holds: a restarted linker links as an uninterrupted one does.
  *
  * Events are numbered internally so that a lookup adds votes in a typed array (reset by
  * an epoch mark, not cleared) and keeps the best `limit` by insertion: no map, no sort,
@@ -27,43 +32,54 @@ const RECENT = 'r:';
 /** Inverted index over event keys. */
 export class CandidateIndex {
   private readonly postings = new Map<string, number[]>();
-  /** Number of events that ever carried each participant/place key (for rarity). */
-  private readonly keyEvents = new Map<string, number>();
+  /** Number of events now carrying each key (for the rarity of names). */
+  private readonly carriers = new Map<string, number>();
+  /** The keys each event is registered under. */
+  private readonly keysOf: (readonly string[] | undefined)[] = [];
   private readonly handles = new Map<string, number>();
   private readonly ids: string[] = [];
-  /** Handles of merged-away events; skipped by lookups and dropped from postings lazily. */
-  private readonly removed = new Set<number>();
   private votes = new Float64Array(1024);
   private marks = new Uint32Array(1024);
   private lastTouch = new Float64Array(1024);
   private epoch = 0;
-  private clock = 0;
 
   constructor(private readonly postingLimit: number) {}
 
-  /** Registers (or refreshes) an event under keys, and as recently touched. */
-  add(eventId: string, keys: readonly string[]): void {
+  /**
+   * Registers an event under `keys` (replacing the keys it had), as touched at `touched`
+   * (a number that grows with every change the linker makes; ties and recency order by it).
+   * Calls must come in increasing `touched`.
+   */
+  register(eventId: string, keys: readonly string[], touched: number): void {
     const h = this.handle(eventId);
-    this.lastTouch[h] = ++this.clock;
-    for (const key of keys) this.touch(key, h);
+    this.lastTouch[h] = touched;
+    const next = [...new Set(keys)];
+    const before = this.keysOf[h];
+    if (before) {
+      const keep = new Set(next);
+      for (const key of before) if (!keep.has(key)) this.leave(key, h);
+    }
+    const had = new Set(before ?? []);
+    for (const key of next) {
+      if (!had.has(key)) this.carriers.set(key, (this.carriers.get(key) ?? 0) + 1);
+      this.touch(key, h);
+    }
     this.touch(RECENT, h);
+    this.keysOf[h] = next;
   }
 
-  /** Forgets an event (merged into another): it is no longer returned by lookups. */
+  /** Forgets an event (merged into another): it leaves every posting at once. */
   remove(eventId: string): void {
     const h = this.handles.get(eventId);
     if (h === undefined) return;
-    this.removed.add(h);
+    for (const key of this.keysOf[h] ?? []) this.leave(key, h);
+    dropFrom(this.postings.get(RECENT), h);
+    this.keysOf[h] = undefined;
   }
 
-  /** Counts one more event carrying a participant or place key. */
-  countKey(key: string): void {
-    this.keyEvents.set(key, (this.keyEvents.get(key) ?? 0) + 1);
-  }
-
-  /** How many events carry a key. */
+  /** How many events carry a key now. */
   eventsWith(key: string): number {
-    return this.keyEvents.get(key) ?? 0;
+    return this.carriers.get(key) ?? 0;
   }
 
   /**
@@ -103,7 +119,6 @@ export class CandidateIndex {
     const best: number[] = [];
     const better = (a: number, b: number): boolean => votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
     for (const h of touched) {
-      if (this.removed.size > 0 && this.removed.has(h)) continue;
       if (best.length === limit && !better(h, best[limit - 1]!)) continue;
       let i = best.length === limit ? limit - 1 : best.length;
       if (best.length < limit) best.push(h);
@@ -157,4 +172,21 @@ export class CandidateIndex {
     posting.push(h);
     if (posting.length > this.postingLimit) posting.shift();
   }
+
+  /** The event no longer carries `key`. */
+  private leave(key: string, h: number): void {
+    const n = (this.carriers.get(key) ?? 1) - 1;
+    if (n > 0) this.carriers.set(key, n);
+    else this.carriers.delete(key);
+    const posting = this.postings.get(key);
+    dropFrom(posting, h);
+    if (posting && posting.length === 0) this.postings.delete(key);
+  }
+}
+
+/** Takes `h` out of a posting (at most postingLimit long, so the scan is short). */
+function dropFrom(posting: number[] | undefined, h: number): void {
+  if (!posting) return;
+  const at = posting.lastIndexOf(h);
+  if (at >= 0) posting.splice(at, 1);
 }

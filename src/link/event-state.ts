@@ -31,6 +31,14 @@ export interface EventState {
   /** Outlet → [mentions, independent mentions (not from copies of other articles)]. */
   outlets: Map<string, [number, number]>;
   version: number;
+  /**
+   * When the linker last changed the event: a number that grows with every change it makes
+   * (0 for states written before it was kept). The candidate index orders events by it, so a
+   * linker rebuilt from the store orders them as the running one did.
+   */
+  touched: number;
+  /** The event's mention count when consolidation last examined it for a split; -1: never. */
+  splitCheckedAt: number;
 }
 
 /**
@@ -93,6 +101,8 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
     places: new Map(),
     outlets: new Map(),
     version: 0,
+    touched: 0,
+    splitCheckedAt: -1,
   };
   return e;
 }
@@ -225,7 +235,7 @@ export function toRecord(e: EventState): EventRecord {
 export function serialiseEvent(e: EventState): Buffer {
   const header = Buffer.from(JSON.stringify({
     id: e.id, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
-    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version,
+    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version, touched: e.touched, splitCheckedAt: e.splitCheckedAt,
     participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
     sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
   }));
@@ -247,7 +257,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
     id: string; label?: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
-    mentionCount: number; version: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
+    mentionCount: number; version: number; touched?: number; splitCheckedAt?: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
     outlets: [string, [number, number]][]; sparse: number; dense: number;
   };
   let at = 4 + hlen;
@@ -265,6 +275,8 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
     id: h.id, label: h.label ?? '', firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
     explicitTime: h.explicitTime, sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
     participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
+    // States written before these were kept: untouched, never examined.
+    touched: h.touched ?? 0, splitCheckedAt: h.splitCheckedAt ?? -1,
   };
 }
 

@@ -55,10 +55,6 @@ export interface LinkPlan {
   events: EventState[];
   opened: string[];
   outletsAdded: OutletAdded[];
-  /** Index keys to register per event once committed. */
-  keys: Map<string, string[]>;
-  /** Participant/place keys new to each event (for rarity counts). */
-  newNameKeys: string[];
 }
 
 /** Further links of one sentence carry half the weight in the event centroid. */
@@ -71,8 +67,8 @@ export class OnlineLinker {
   private readonly events = new Map<string, EventState>();
   private index: CandidateIndex;
   private centroids: CentroidIndex;
-  /** Event → its mention count when last examined for a split. */
-  private splitChecked = new Map<string, number>();
+  /** The latest touch number given to an event (EventState.touched); restored from the store. */
+  private clock = 0;
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
@@ -84,19 +80,26 @@ export class OnlineLinker {
     this.events.clear();
     this.index = new CandidateIndex(this.o.postingLimit);
     this.centroids = new CentroidIndex(this.o.annAbove);
-    this.splitChecked = new Map();
+    this.clock = 0;
   }
 
-  /** Rebuilds the in-memory state from stored events, oldest activity first. */
+  /**
+   * Rebuilds the in-memory state from stored events in the order the linker touched them,
+   * so the index is the one the running linker held (candidate-index.ts).
+   */
   load(states: Iterable<EventState>): void {
-    const sorted = [...states].sort((a, b) => (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1));
+    const sorted = [...states].sort((a, b) => a.touched - b.touched || (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1));
     for (const e of sorted) {
       this.events.set(e.id, e);
-      const names = [...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`);
-      for (const k of new Set(names)) this.index.countKey(k);
-      this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...names]);
-      if (e.dense) this.centroids.upsert(e.id, e.dense);
+      this.register(e);
+      this.clock = Math.max(this.clock, e.touched);
     }
+  }
+
+  /** Indexes an event under the keys of its current state. */
+  private register(e: EventState): void {
+    this.index.register(e.id, indexKeys(e, this.o.lookupTerms), e.touched);
+    if (e.dense) this.centroids.upsert(e.id, e.dense);
   }
 
   /** Number of events held. */
@@ -115,8 +118,6 @@ export class OnlineLinker {
     const opened: string[] = [];
     const links: Link[] = [];
     const outletsAdded: OutletAdded[] = [];
-    const keys = new Map<string, string[]>();
-    const newNameKeys: string[] = [];
     const current = (id: string): EventState | undefined => overlay.get(id) ?? this.events.get(id);
 
     for (const m of mentions) {
@@ -156,9 +157,7 @@ export class OnlineLinker {
           overlay.set(id, e);
         }
         const hadOutlet = e.outlets.has(m.outlet);
-        const before = new Set([...e.participants.keys(), ...e.places.keys()]);
         addMention(e, m, rank === 0 ? 1 : SECONDARY_WEIGHT, this.o.centroidTerms);
-        for (const k of new Set([...e.participants.keys(), ...e.places.keys()])) if (!before.has(k)) newNameKeys.push(`p:${k}`);
         const score = sc ? sc.score : m.eventness;
         links.push({
           articleId: m.articleId,
@@ -169,12 +168,11 @@ export class OnlineLinker {
           evidence: sc ? sc.evidence : { similarity: 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: true },
         });
         if (!hadOutlet && sc) outletsAdded.push({ eventId: id, outlet: m.outlet, articleId: m.articleId, sentenceIndex: m.sentenceIndex, score, independent: !m.isCopy });
-        const list = keys.get(id) ?? [];
-        list.push(...mkeys.map((k) => k.key));
-        keys.set(id, list);
       });
     }
-    return { links, events: [...overlay.values()], opened, outletsAdded, keys, newNameKeys };
+    // Touch numbers in plan order; they are stored with the events.
+    for (const e of overlay.values()) e.touched = ++this.clock;
+    return { links, events: [...overlay.values()], opened, outletsAdded };
   }
 
   /**
@@ -222,24 +220,25 @@ export class OnlineLinker {
       const dropped = toFrom.score > toInto.score ? toInto : toFrom;
       removeMention(merged, s.mention, dropped.rank === 0 ? 1 : SECONDARY_WEIGHT);
     }
+    merged.touched = ++this.clock;
     return merged;
   }
 
   /** Applies a committed merge: the absorbed event leaves, the survivor takes its keys. */
   applyMerge(merged: EventState, from: string): void {
-    const gone = this.events.get(from);
     this.events.delete(from);
-    this.events.set(merged.id, merged);
-    this.index.add(merged.id, [...topTermKeys(merged, this.o.lookupTerms), ...[...merged.participants.keys(), ...merged.places.keys()].map((k) => `p:${k}`)]);
-    if (gone) this.index.remove(from);
+    this.index.remove(from);
     this.centroids.remove(from);
-    if (merged.dense) this.centroids.upsert(merged.id, merged.dense);
+    this.events.set(merged.id, merged);
+    this.register(merged);
   }
 
   /**
    * The events among `ids` worth examining for a split: big enough, and grown by half (at
    * least splitMinMentions mentions) since they were last examined, so that a long-running
-   * event is read back a logarithmic number of times, not at every pass. Marks them examined.
+   * event is read back a logarithmic number of times, not at every pass. Marks them
+   * examined (EventState.splitCheckedAt); the caller stores the marks of those that are not
+   * split, so that a restarted linker examines what an uninterrupted one would.
    */
   splitCandidates(ids: Iterable<string>): string[] {
     const out: string[] = [];
@@ -247,38 +246,47 @@ export class OnlineLinker {
     if (min <= 0) return out;
     for (const id of ids) {
       const e = this.events.get(id);
-      const last = this.splitChecked.get(id);
       if (!e || e.mentionCount < min) continue;
-      if (last !== undefined && e.mentionCount < Math.max(last + min, last * 1.5)) continue;
-      this.splitChecked.set(id, e.mentionCount);
+      const last = e.splitCheckedAt;
+      if (last >= 0 && e.mentionCount < Math.max(last + min, last * 1.5)) continue;
+      e.splitCheckedAt = e.mentionCount;
       out.push(id);
     }
     return out;
   }
 
+  /** The current state of an event (for storing an examination mark), or undefined. */
+  event(id: string): EventState | undefined {
+    return this.events.get(id);
+  }
+
   /** Divides an event whose mentions drifted apart (see split-event.ts), or null. Changes nothing. */
   planSplit(id: string, members: readonly SplitMember[]): SplitPlan | null {
     const e = this.events.get(id);
-    return e ? planSplit(e, members, this.o) : null;
+    const plan = e ? planSplit(e, members, this.o) : null;
+    if (plan) {
+      for (const part of [plan.kept, plan.split]) {
+        part.splitCheckedAt = part.mentionCount;
+        part.touched = ++this.clock;
+      }
+    }
+    return plan;
   }
 
   /** Applies a committed split: the event takes its smaller self, the new event joins the index. */
   applySplit(plan: SplitPlan): void {
-    for (const k of new Set([...plan.split.participants.keys(), ...plan.split.places.keys()])) this.index.countKey(`p:${k}`);
     for (const e of [plan.kept, plan.split]) {
       this.events.set(e.id, e);
-      this.index.add(e.id, [...topTermKeys(e, this.o.lookupTerms), ...[...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`)]);
-      if (e.dense) this.centroids.upsert(e.id, e.dense);
-      this.splitChecked.set(e.id, e.mentionCount);
+      this.register(e);
     }
   }
 
   /** Makes a committed plan part of the linker's state. */
   apply(plan: LinkPlan): void {
-    for (const e of plan.events) this.events.set(e.id, e);
-    for (const k of plan.newNameKeys) this.index.countKey(k);
-    for (const [id, ks] of plan.keys) this.index.add(id, [...new Set(ks)]);
-    for (const e of plan.events) if (e.dense) this.centroids.upsert(e.id, e.dense);
+    for (const e of plan.events) {
+      this.events.set(e.id, e);
+      this.register(e);
+    }
   }
 }
 
@@ -309,4 +317,9 @@ function mentionKeys(m: EmbeddedMention, lookupTerms: number): WeightedKey[] {
 
 function topTermKeys(e: EventState, n: number): string[] {
   return [...e.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, n * 2).map(([f]) => `t:${f}`);
+}
+
+/** What an event is indexed under, from its state alone: its strongest centroid terms and its names. */
+function indexKeys(e: EventState, lookupTerms: number): string[] {
+  return [...topTermKeys(e, lookupTerms), ...[...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`)];
 }

@@ -266,6 +266,12 @@ export interface Store {
   commitMerge(m: MergeCommit): Promise<void>;
   /** Moves part of an event's mentions to a new event; both events' states are written, the split is recorded. */
   commitSplit(s: SplitCommit): Promise<void>;
+  /**
+   * Replaces the linker states of stored events (the record and links stay as they are):
+   * how consolidation keeps its marks on the events it examined without splitting them.
+   * An event no longer stored is skipped.
+   */
+  putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void>;
   /** The mentions linked to an event, oldest first (published, article, sentence). */
   linkedMentions(eventId: string): Promise<LinkedMention[]>;
   /**

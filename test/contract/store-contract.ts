@@ -194,6 +194,16 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
     });
 
+    it('replaces the linker state of a stored event, and skips one no longer stored', async () => {
+      const { commit, event } = commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 'The levee failed.', null);
+      await store.commitArticle(commit);
+      const marked = { ...deserialiseEvent(serialiseEvent(event)), splitCheckedAt: 7, touched: 41 };
+      await store.putEventStates([{ id: event.id, state: serialiseEvent(marked) }, { id: 'ev_gone', state: serialiseEvent({ ...marked, id: 'ev_gone' }) }]);
+      const states = (await store.loadLinkerState()).events.map(deserialiseEvent);
+      expect(states.map((e) => [e.id, e.splitCheckedAt, e.touched])).toEqual([[event.id, 7, 41]]);
+      expect((await store.getEvent(event.id))!.event.mentionCount).toBe(1);
+    });
+
     it('lists due deliveries past the subscribers a dispatcher is busy with, however long their backlog', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       // The slow receiver's 700 deliveries are older than the healthy one's single delivery.

@@ -52,7 +52,7 @@ describe('reading evaluation input', () => {
     ['gold for an unknown article', A1, '{"article":"nope","sentence":0,"event":"E"}', /unknown article "nope"/],
     ['a sentence index beyond the article', A1, '{"article":"a1","sentence":5,"event":"E"}', /sentence 5 is beyond the 2 sentences/],
     ['a negative or fractional index', A1, '{"article":"a1","sentence":-1,"event":"E"}\n{"article":"a1","sentence":0.5,"event":"E"}', /0-based index or null/],
-    ['gold text that does not match', A1, '{"article":"a1","sentence":0,"event":"E","text":"Something else."}', /does not match sentence 0/],
+    ['gold text that is not in its sentence', A1, '{"article":"a1","sentence":0,"event":"E","text":"Something else."}', /the text is not found in sentence 0/],
     ['a mix of sentence and article lines', `${A1}\n${A2}`, '{"article":"a1","sentence":0,"event":"E"}\n{"article":"a2","sentence":null,"event":"E"}', /mixes sentence-level lines and article-level lines/],
     ['no gold at all', A1, '\n', /no gold lines/],
     ['an empty event id', A1, '{"article":"a1","sentence":0,"event":""}', /"event" must be non-empty/],

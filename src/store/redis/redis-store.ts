@@ -43,6 +43,7 @@ interface Scripts {
   commitArticles: Script;
   commitMerge: Script;
   commitSplit: Script;
+  putStates: Script;
   eraseArticle: Script;
   pruneNotifications: Script;
   setIfUnchanged: Script;
@@ -81,6 +82,7 @@ export class RedisStore implements Store {
       commitArticles: defineScript(redis, 'commit-articles'),
       commitMerge: defineScript(redis, 'commit-merge'),
       commitSplit: defineScript(redis, 'commit-split'),
+      putStates: defineScript(redis, 'put-states'),
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
       setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
@@ -153,6 +155,15 @@ export class RedisStore implements Store {
       await this.scripts.commitMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
     } catch (err) {
       throw writeError(err, `cannot merge ${m.from} into ${m.into.record.id}`);
+    }
+  }
+
+  async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    if (states.length === 0) return;
+    try {
+      await this.scripts.putStates(this.k.counts, this.k.prefix, JSON.stringify({ fence: this.fence, ids: states.map((s) => s.id) }), ...states.map((s) => Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength)));
+    } catch (err) {
+      throw writeError(err, `cannot store the state of ${states.length} event(s)`);
     }
   }
 

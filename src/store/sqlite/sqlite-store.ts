@@ -261,6 +261,14 @@ export class SqliteStore implements Store {
     this.queue(m.messages);
   }
 
+  async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    if (states.length === 0) return;
+    const put = this.db.prepare('UPDATE events SET state = ? WHERE id = ?');
+    await this.write(`cannot store the state of ${states.length} event(s)`, this.db.transaction(() => {
+      for (const s of states) put.run(Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength), s.id);
+    }));
+  }
+
   async commitSplit(sp: SplitCommit): Promise<void> {
     await this.write(`cannot split ${sp.into.record.id} off ${sp.from.record.id}`, () => this.splitTx(sp));
   }
