@@ -117,3 +117,9 @@ describe('configuration', () => {
     expect(parseConfig({ retention: { notificationDays: null } }).retention.notificationDays).toBeNull();
   });
 });
+
+describe('the configuration files shipped in config/', () => {
+  it.each(['default.json', 'example-webhooks.json'])('%s loads as it stands', (file) => {
+    expect(() => loadConfig({ file: join(import.meta.dirname, '../../config', file), env: {} })).not.toThrow();
+  });
+});

@@ -1,7 +1,11 @@
 import type { LookupAddress } from 'node:dns';
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { replayCommand } from '../../src/cli/commands/replay.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { fetchFullText } from '../../src/ingest/fetch-full-text.js';
 import { FEED_NAMES, NetworkGuard, WEBHOOK_NAMES, refusedAddress } from '../../src/ingest/network-guard.js';
@@ -182,5 +186,23 @@ describe('fetching from private addresses', () => {
   it('stops after ingest.maxRedirects', async () => {
     const doc = await readFeedDocument(`http://127.0.0.1:${port}/loop`, { ...limits, allowPrivateNetworks: true, maxRedirects: 3 });
     expect(doc.problems[0]).toMatchObject({ code: 'STRAND_SOURCE_UNREADABLE', message: expect.stringMatching(/redirects more than ingest.maxRedirects \(3\)/) });
+  });
+});
+
+describe('strandline ingest of an address it may not fetch', () => {
+  it('refuses an IPv4-mapped loopback URL, stores nothing, and exits 1', async () => {
+    const out: string[] = [];
+    const write = vi.spyOn(process.stdout, 'write').mockImplementation((s) => void out.push(String(s)) as never);
+    const err = vi.spyOn(process.stderr, 'write').mockImplementation(() => true);
+    try {
+      const db = join(mkdtempSync(join(tmpdir(), 'strandline-guard-')), 'x.sqlite');
+      const code = await replayCommand(['http://[::ffff:127.0.0.1]:9/feed.xml'], { db, json: true, logLevel: 'silent' });
+      expect(code).toBe(1);
+      const summary = JSON.parse(out.join(''));
+      expect(summary).toMatchObject({ files: 0, stored: 0, problems: [{ code: 'STRAND_SOURCE_FORBIDDEN', message: expect.stringMatching(/loopback, carried in IPv6/) }] });
+    } finally {
+      write.mockRestore();
+      err.mockRestore();
+    }
   });
 });
