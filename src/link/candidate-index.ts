@@ -15,27 +15,28 @@
  * it no longer carries at once, so the index rebuilt from stored events in touch order is
  * the one a running linker holds: a restarted linker links as an uninterrupted one does.
  *
- * Events are numbered internally so that a lookup adds votes in a typed array (reset by
- * an epoch mark, not cleared) and keeps the best `limit` by insertion: no map, no sort,
+ * Keys are numbers (a term's hashed feature, or a name's id from the caller, negative),
+ * and events are numbered internally, so that a lookup adds votes in a typed array (reset
+ * by an epoch mark, not cleared) and keeps the best `limit` by insertion: no map, no sort,
  * no allocation per candidate. Measured on 20,000 synthetic mentions, this made the
- * lookup several times cheaper than a Map of votes sorted in full.
+ * lookup several times cheaper than a Map of votes sorted in full; string keys and Set
+ * diffs on every registration cost a fifth of the link step at a million mentions.
  */
 
 /** A key with the weight its vote carries. */
 export interface WeightedKey {
-  key: string;
+  key: number;
   weight: number;
 }
 
-const RECENT = 'r:';
-
 /** Inverted index over event keys. */
 export class CandidateIndex {
-  private readonly postings = new Map<string, number[]>();
+  private readonly postings = new Map<number, number[]>();
+  private readonly recent: number[] = [];
   /** Number of events now carrying each key (for the rarity of names). */
-  private readonly carriers = new Map<string, number>();
-  /** The keys each event is registered under. */
-  private readonly keysOf: (readonly string[] | undefined)[] = [];
+  private readonly carriers = new Map<number, number>();
+  /** The keys each event is registered under, ascending. */
+  private readonly keysOf: (Int32Array | undefined)[] = [];
   private readonly handles = new Map<string, number>();
   private readonly ids: string[] = [];
   private votes = new Float64Array(1024);
@@ -46,25 +47,26 @@ export class CandidateIndex {
   constructor(private readonly postingLimit: number) {}
 
   /**
-   * Registers an event under `keys` (replacing the keys it had), as touched at `touched`
-   * (a number that grows with every change the linker makes; ties and recency order by it).
-   * Calls must come in increasing `touched`.
+   * Registers an event under `keys` (replacing the keys it had; repeats are fine), as
+   * touched at `touched` (a number that grows with every change the linker makes; ties and
+   * recency order by it). Calls must come in increasing `touched`.
    */
-  register(eventId: string, keys: readonly string[], touched: number): void {
+  register(eventId: string, keys: readonly number[], touched: number): void {
     const h = this.handle(eventId);
     this.lastTouch[h] = touched;
-    const next = [...new Set(keys)];
+    const next = ascendingUnique(keys);
     const before = this.keysOf[h];
-    if (before) {
-      const keep = new Set(next);
-      for (const key of before) if (!keep.has(key)) this.leave(key, h);
+    // Both ascending: one walk finds the keys left and the keys gained.
+    let i = 0;
+    for (let j = 0; j < next.length; j++) {
+      const key = next[j]!;
+      while (before && i < before.length && before[i]! < key) this.leave(before[i++]!, h);
+      if (before && i < before.length && before[i] === key) i++;
+      else this.carriers.set(key, (this.carriers.get(key) ?? 0) + 1);
+      this.touch(this.postingOf(key), h);
     }
-    const had = new Set(before ?? []);
-    for (const key of next) {
-      if (!had.has(key)) this.carriers.set(key, (this.carriers.get(key) ?? 0) + 1);
-      this.touch(key, h);
-    }
-    this.touch(RECENT, h);
+    while (before && i < before.length) this.leave(before[i++]!, h);
+    this.touch(this.recent, h);
     this.keysOf[h] = next;
   }
 
@@ -73,12 +75,12 @@ export class CandidateIndex {
     const h = this.handles.get(eventId);
     if (h === undefined) return;
     for (const key of this.keysOf[h] ?? []) this.leave(key, h);
-    dropFrom(this.postings.get(RECENT), h);
+    dropFrom(this.recent, h);
     this.keysOf[h] = undefined;
   }
 
   /** How many events carry a key now. */
-  eventsWith(key: string): number {
+  eventsWith(key: number): number {
     return this.carriers.get(key) ?? 0;
   }
 
@@ -101,8 +103,8 @@ export class CandidateIndex {
       }
       votes[h]! += w;
     };
-    const recent = this.postings.get(RECENT);
-    if (recent) for (let i = 0; i < recent.length; i++) vote(recent[i]!, (recentWeight * (i + 1)) / recent.length);
+    const recent = this.recent;
+    for (let i = 0; i < recent.length; i++) vote(recent[i]!, (recentWeight * (i + 1)) / recent.length);
     const postings: [number[], number][] = [];
     for (const { key, weight } of keys) {
       const posting = this.postings.get(key);
@@ -160,12 +162,17 @@ export class CandidateIndex {
     this.lastTouch = last;
   }
 
-  private touch(key: string, h: number): void {
+  private postingOf(key: number): number[] {
     let posting = this.postings.get(key);
     if (!posting) {
       posting = [];
       this.postings.set(key, posting);
     }
+    return posting;
+  }
+
+  /** Moves `h` to the end of a posting, dropping the front past the limit. */
+  private touch(posting: number[], h: number): void {
     const at = posting.lastIndexOf(h);
     if (at === posting.length - 1 && at >= 0) return;
     if (at >= 0) posting.splice(at, 1);
@@ -174,19 +181,27 @@ export class CandidateIndex {
   }
 
   /** The event no longer carries `key`. */
-  private leave(key: string, h: number): void {
+  private leave(key: number, h: number): void {
     const n = (this.carriers.get(key) ?? 1) - 1;
     if (n > 0) this.carriers.set(key, n);
     else this.carriers.delete(key);
     const posting = this.postings.get(key);
+    if (!posting) return;
     dropFrom(posting, h);
-    if (posting && posting.length === 0) this.postings.delete(key);
+    if (posting.length === 0) this.postings.delete(key);
   }
 }
 
 /** Takes `h` out of a posting (at most postingLimit long, so the scan is short). */
-function dropFrom(posting: number[] | undefined, h: number): void {
-  if (!posting) return;
+function dropFrom(posting: number[], h: number): void {
   const at = posting.lastIndexOf(h);
   if (at >= 0) posting.splice(at, 1);
+}
+
+/** The keys in ascending order, each once. */
+function ascendingUnique(keys: readonly number[]): Int32Array {
+  const sorted = Int32Array.from(keys).sort();
+  let n = 0;
+  for (let i = 0; i < sorted.length; i++) if (i === 0 || sorted[i] !== sorted[n - 1]) sorted[n++] = sorted[i]!;
+  return sorted.slice(0, n);
 }

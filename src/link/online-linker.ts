@@ -69,6 +69,13 @@ export class OnlineLinker {
   private centroids: CentroidIndex;
   /** The latest touch number given to an event (EventState.touched); restored from the store. */
   private clock = 0;
+  /** Name key → its index key (negative; term keys are their hashed features, non-negative). */
+  private names = new Map<string, number>();
+  /** How many events carry a name now (the rarity of a shared name). */
+  private readonly carriersOf = (name: string): number => {
+    const key = this.names.get(name);
+    return key === undefined ? 0 : this.index.eventsWith(key);
+  };
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
@@ -81,6 +88,7 @@ export class OnlineLinker {
     this.index = new CandidateIndex(this.o.postingLimit);
     this.centroids = new CentroidIndex(this.o.annAbove);
     this.clock = 0;
+    this.names = new Map();
   }
 
   /**
@@ -98,8 +106,34 @@ export class OnlineLinker {
 
   /** Indexes an event under the keys of its current state. */
   private register(e: EventState): void {
-    this.index.register(e.id, indexKeys(e, this.o.lookupTerms), e.touched);
+    const keys = topTermFeatures(e, this.o.lookupTerms * 2);
+    for (const k of e.participants.keys()) keys.push(this.nameKeyOf(k));
+    for (const k of e.places.keys()) keys.push(this.nameKeyOf(k));
+    this.index.register(e.id, keys, e.touched);
     if (e.dense) this.centroids.upsert(e.id, e.dense);
+  }
+
+  /** The index key of a name, given on first sight. */
+  private nameKeyOf(name: string): number {
+    let key = this.names.get(name);
+    if (key === undefined) this.names.set(name, (key = -(this.names.size + 1)));
+    return key;
+  }
+
+  /** A mention's lookup keys: its highest-weighted (rarest) terms and its names. */
+  private mentionKeys(m: EmbeddedMention): WeightedKey[] {
+    const keys: WeightedKey[] = [];
+    const v = m.vector;
+    if (v.kind === 'sparse') {
+      const order = [...v.indices.keys()].sort((a, b) => v.values[b]! - v.values[a]! || v.indices[a]! - v.indices[b]!);
+      for (const i of order.slice(0, this.o.lookupTerms)) keys.push({ key: v.indices[i]!, weight: v.values[i]! });
+    }
+    for (const p of new Set([...m.participants, ...m.places].map(nameKey))) {
+      // A name no event carries has no posting to read.
+      const key = p === '' ? undefined : this.names.get(p);
+      if (key !== undefined) keys.push({ key, weight: 0.5 });
+    }
+    return keys;
   }
 
   /** Number of events held. */
@@ -121,7 +155,7 @@ export class OnlineLinker {
     const current = (id: string): EventState | undefined => overlay.get(id) ?? this.events.get(id);
 
     for (const m of mentions) {
-      const mkeys = mentionKeys(m, this.o.lookupTerms);
+      const mkeys = this.mentionKeys(m);
       const ids = new Set(this.index.lookup(mkeys, this.o.maxCandidates, RECENT_VOTE, this.o.lookupBudget));
       if (m.vector.kind === 'dense') for (const id of this.centroids.nearest(m.vector.values, this.o.maxCandidates)) ids.add(id);
       for (const id of opened) ids.add(id);
@@ -130,7 +164,7 @@ export class OnlineLinker {
       const scored: ScoredCandidate[] = [];
       for (const id of ids) {
         const e = current(id);
-        if (e) scored.push(scoreCandidate(features, e, this.index, total, this.o));
+        if (e) scored.push(scoreCandidate(features, e, this.carriersOf, total, this.o));
       }
       scored.sort((a, b) => b.score - a.score || (a.event.id < b.event.id ? -1 : 1));
 
@@ -188,7 +222,7 @@ export class OnlineLinker {
     for (const id of eventIds) {
       const e = this.events.get(id);
       if (!e || gone.has(id)) continue;
-      const keys = [...topTermKeys(e, this.o.lookupTerms)].map((key) => ({ key, weight: 1 }));
+      const keys = topTermFeatures(e, this.o.lookupTerms * 2).map((key) => ({ key, weight: 1 }));
       const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
       if (e.dense) for (const x of this.centroids.nearest(Float32Array.from(e.dense), this.o.maxCandidates)) others.add(x);
       for (const other of others) {
@@ -303,23 +337,29 @@ export interface MergePlan {
   score: number;
 }
 
-/** A mention's lookup keys: its highest-weighted (rarest) terms and its names. */
-function mentionKeys(m: EmbeddedMention, lookupTerms: number): WeightedKey[] {
-  const keys: WeightedKey[] = [];
-  const v = m.vector;
-  if (v.kind === 'sparse') {
-    const order = [...v.indices.keys()].sort((a, b) => v.values[b]! - v.values[a]! || v.indices[a]! - v.indices[b]!);
-    for (const i of order.slice(0, lookupTerms)) keys.push({ key: `t:${v.indices[i]!}`, weight: v.values[i]! });
+/**
+ * An event's `n` strongest centroid features (weight descending, feature ascending on a
+ * tie), chosen by insertion into a short list rather than by sorting every term: the
+ * linker works this out at every change of an event.
+ */
+function topTermFeatures(e: EventState, n: number): number[] {
+  const features: number[] = [];
+  const weights: number[] = [];
+  for (const [f, w] of e.sparse) {
+    const full = features.length === n;
+    if (full && (w < weights[n - 1]! || (w === weights[n - 1]! && f > features[n - 1]!))) continue;
+    let i = full ? n - 1 : features.length;
+    if (!full) {
+      features.push(f);
+      weights.push(w);
+    }
+    while (i > 0 && (w > weights[i - 1]! || (w === weights[i - 1]! && f < features[i - 1]!))) {
+      features[i] = features[i - 1]!;
+      weights[i] = weights[i - 1]!;
+      i--;
+    }
+    features[i] = f;
+    weights[i] = w;
   }
-  for (const p of new Set([...m.participants, ...m.places].map(nameKey))) if (p !== '') keys.push({ key: `p:${p}`, weight: 0.5 });
-  return keys;
-}
-
-function topTermKeys(e: EventState, n: number): string[] {
-  return [...e.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, n * 2).map(([f]) => `t:${f}`);
-}
-
-/** What an event is indexed under, from its state alone: its strongest centroid terms and its names. */
-function indexKeys(e: EventState, lookupTerms: number): string[] {
-  return [...topTermKeys(e, lookupTerms), ...[...e.participants.keys(), ...e.places.keys()].map((k) => `p:${k}`)];
+  return features;
 }

@@ -9,7 +9,6 @@
  *   rarity of a shared name = ln(1 + E / (1 + events with the name)), E = events so far
  */
 import type { EmbeddedMention, LinkEvidence, Vector } from '../records.js';
-import type { CandidateIndex } from './candidate-index.js';
 import { type EventState, mentionSpan, nameKey } from './event-state.js';
 
 /** Scoring settings. */
@@ -57,8 +56,8 @@ export function mentionFeatures(m: EmbeddedMention): MentionFeatures {
   };
 }
 
-/** Scores one candidate event for a mention. */
-export function scoreCandidate(f: MentionFeatures, e: EventState, index: CandidateIndex, totalEvents: number, o: ScoreOptions): ScoredCandidate {
+/** Scores one candidate event for a mention; `carriers` says how many events carry a name now. */
+export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nameKey: string) => number, totalEvents: number, o: ScoreOptions): ScoredCandidate {
   const m = f.mention;
   const similarity = cosine(m.vector, e);
   const [ms, me] = f.span;
@@ -72,7 +71,7 @@ export function scoreCandidate(f: MentionFeatures, e: EventState, index: Candida
   for (const [surface, k, isPlace] of f.names) {
     if (!e.participants.has(k) && !e.places.has(k)) continue;
     (isPlace ? sharedPlaces : sharedParticipants).push(surface);
-    rarity += Math.log(1 + totalEvents / (1 + index.eventsWith(`p:${k}`)));
+    rarity += Math.log(1 + totalEvents / (1 + carriers(k)));
   }
   const base = similarity * timeDecay;
   // The bonus scales the similarity rather than adding to it, so shared names can tip a
