@@ -47,17 +47,24 @@ describe('addresses refused without permission', () => {
   });
 });
 
+// The WHATWG URL parser (which Node's URL follows) reads decimal, octal, hexadecimal and
+// short IPv4 forms as the dotted address, and writes IPv6 hosts in compressed hexadecimal.
+const HOSTILE_URLS = [
+  'http://127.0.0.1/', 'http://2130706433/', 'http://0x7f000001/', 'http://0x7f.0.0.1/', 'http://0177.0.0.1/', 'http://017700000001/', 'http://127.1/', 'http://127.0.1/',
+  'http://[::1]/', 'http://[::ffff:127.0.0.1]/', 'http://[::ffff:7f00:1]/', 'http://[0:0:0:0:0:ffff:127.0.0.1]/', 'http://[::7f00:1]/', 'http://[::ffff:0:7f00:1]/',
+  'http://169.254.169.254/latest/meta-data/', 'http://2852039166/', 'http://0xa9fea9fe/', 'http://0251.0376.0251.0376/', 'http://[::ffff:169.254.169.254]/',
+  'http://[64:ff9b::a9fe:a9fe]/', 'http://[2002:a9fe:a9fe::1]/', 'http://10.0.0.1/', 'http://0xa.1/', 'http://192.168.0.1:8080/', 'http://[fd00::1]/', 'http://[fe80::1]/', 'http://0/',
+];
+
 describe('URLs a feed or webhook may not name', () => {
   const guard = new NetworkGuard({});
-  // The WHATWG URL parser (which Node's URL follows) reads decimal, octal, hexadecimal and
-  // short IPv4 forms as the dotted address, and writes IPv6 hosts in compressed hexadecimal.
-  it.each([
-    'http://127.0.0.1/', 'http://2130706433/', 'http://0x7f000001/', 'http://0x7f.0.0.1/', 'http://0177.0.0.1/', 'http://017700000001/', 'http://127.1/', 'http://127.0.1/',
-    'http://[::1]/', 'http://[::ffff:127.0.0.1]/', 'http://[::ffff:7f00:1]/', 'http://[0:0:0:0:0:ffff:127.0.0.1]/', 'http://[::7f00:1]/', 'http://[::ffff:0:7f00:1]/',
-    'http://169.254.169.254/latest/meta-data/', 'http://2852039166/', 'http://0xa9fea9fe/', 'http://0251.0376.0251.0376/', 'http://[::ffff:169.254.169.254]/',
-    'http://[64:ff9b::a9fe:a9fe]/', 'http://[2002:a9fe:a9fe::1]/', 'http://10.0.0.1/', 'http://0xa.1/', 'http://192.168.0.1:8080/', 'http://[fd00::1]/', 'http://[fe80::1]/', 'http://0/',
-  ])('refuses %s', (url) => {
+  it.each(HOSTILE_URLS)('refuses %s', (url) => {
     expect(() => guard.checkUrl(new URL(url))).toThrow(expect.objectContaining({ code: 'STRAND_SOURCE_FORBIDDEN' }));
+  });
+
+  it.each(HOSTILE_URLS)('refuses %s as a webhook target when the configuration loads', (url) => {
+    const subscribers = [{ name: 'x', url: `${url}hook`, secret: 'whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw' }];
+    expect(() => parseConfig({ webhooks: { subscribers } })).toThrow(/webhook targets on private networks are called only with webhooks.allowPrivateNetworks/);
   });
 
   it('says which switches open the way, for feeds and for webhook targets', () => {
