@@ -12,9 +12,10 @@ const compose = parse(readFileSync(new URL('../../docker/compose.yaml', import.m
 };
 
 describe('the Dockerfile', () => {
-  it('builds in two stages and runs as an unprivileged user', () => {
+  it('builds in two stages on a supported Node line (24, active LTS) and runs as an unprivileged user', () => {
     expect(dockerfile.match(/^FROM /gm)).toHaveLength(2);
-    expect(dockerfile).toMatch(/^FROM node:20\S* AS build$/m);
+    // Both stages on the same line: the native modules are built for the Node that runs them.
+    expect(dockerfile.match(/^FROM node:24-bookworm-slim( AS build)?$/gm)).toHaveLength(2);
     expect(dockerfile).toMatch(/^COPY --from=build /m);
     expect(dockerfile).toMatch(/^USER node$/m);
     expect(dockerfile).toMatch(/^ENTRYPOINT \["node", "dist\/cli\/main.js"\]$/m);
