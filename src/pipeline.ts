@@ -19,8 +19,10 @@ import { describeError } from './errors.js';
 import { type EventState, deserialiseEvent, serialiseEvent, toRecord } from './link/event-state.js';
 import type { LinkPlan, OnlineLinker } from './link/online-linker.js';
 import type { Logger } from './logger.js';
-import { buildMergeMessages, buildMessages, buildSplitMessages } from './notify/messages.js';
-import type { Article, EmbeddedMention, Vector } from './records.js';
+import { buildMergeMessages, buildMessages, buildSplitMessages, buildStoryMergeMessages, buildStoryMessages } from './notify/messages.js';
+import type { Article, DenseVector, EmbeddedMention, Vector } from './records.js';
+import type { StoryLinker, StoryPlan } from './link/story-linker.js';
+import { type StoryArticle, deserialiseStory, serialiseStory, storyRecord } from './link/story-state.js';
 import { type ArticleCommit, type CommitResult, ERASED_LABEL, type Store, drawnFrom } from './store/store.js';
 import { orderedMergeMap } from './ordered-merge-map.js';
 import { type AnalysedArticle, analyseArticle } from './text/analyse-article.js';
@@ -35,6 +37,8 @@ export interface PipelineContext {
   nlp: Nlp;
   embedder: Embedder;
   linker: OnlineLinker;
+  /** Which story each article joins (whole-article evidence). */
+  stories: StoryLinker;
   store: Store;
   logger: Logger;
   now: () => Date;
@@ -64,6 +68,12 @@ export interface ArticleOutcome {
   merges: { from: string; into: string; score: number }[];
   /** Splits consolidation made after this article (the `moved` mentions left `from` for the new event `into`). */
   splits: SplitOutcome[];
+  /** The story the article joined or opened (null when not stored). */
+  story: string | null;
+  /** Whether the article opened its story. */
+  storyOpened: boolean;
+  /** Story merges consolidation made after this article (story `from` now lives in `into`). */
+  storyMerges: { from: string; into: string; score: number }[];
 }
 
 /** One split as reported to callers. */
@@ -78,6 +88,7 @@ export interface SplitOutcome {
 export interface ConsolidationOutcome {
   merges: ArticleOutcome['merges'];
   splits: SplitOutcome[];
+  storyMerges: ArticleOutcome['storyMerges'];
 }
 
 /** Largest group of articles committed in one transaction. */
@@ -97,6 +108,8 @@ interface EmbeddedArticle extends DetectedArticle {
   embedded: EmbeddedMention[];
   /** What this article added to the TF-IDF document frequencies, committed with it. */
   idf: { docs: number; df: Map<number, number> } | null;
+  /** The article as its story sees it; null when there is no vector to judge it by. */
+  storyInput: StoryArticle | null;
 }
 
 /**
@@ -182,7 +195,7 @@ function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: Pipeli
       return { go: await fn(f.go) };
     } catch (err) {
       log.warn({ article: article.id, err: describeError(err) }, 'article rejected');
-      return { done: outcome(article, 'rejected', `${name}: ${describeError(err)}`) };
+      return { done: outcomeOf(article, 'rejected', `${name}: ${describeError(err)}`) };
     }
   };
   return concurrency > 1 ? orderedMergeMap(run, concurrency) : concatMap(run);
@@ -197,11 +210,11 @@ export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<A
   const inFlightUrls = new Map<string, string>();
   const INFLIGHT_LIMIT = 10_000;
   return async (a) => {
-    if (inFlightIds.has(a.id) || (await ctx.store.hasArticle(a.id))) return { done: outcome(a, 'duplicate', 'already stored') };
+    if (inFlightIds.has(a.id) || (await ctx.store.hasArticle(a.id))) return { done: outcomeOf(a, 'duplicate', 'already stored') };
     // The same article under another id (another guid, a tracking parameter): its canonical URL gives it away.
     const url = canonicalUrl(a.url);
     const sameUrl = url ? inFlightUrls.get(url) ?? (await ctx.store.findByUrl(url)) : null;
-    if (sameUrl && sameUrl !== a.id) return { done: outcome(a, 'duplicate', `already stored as ${sameUrl} (same URL)`) };
+    if (sameUrl && sameUrl !== a.id) return { done: outcomeOf(a, 'duplicate', `already stored as ${sameUrl} (same URL)`) };
     const original = inFlightHashes.get(a.contentHash) ?? (await ctx.store.findByContentHash(a.contentHash));
     if (inFlightIds.size >= INFLIGHT_LIMIT) {
       inFlightIds.clear();
@@ -224,6 +237,21 @@ export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<A
 }
 
 /**
+ * Admission for articles analysed elsewhere (worker processes, the evaluation's prepared
+ * input): the same checks as admitStage, in stream order, and the mentions marked as a
+ * copy's when admission finds the article to be one.
+ */
+export function admitWork(ctx: PipelineContext): (work: DetectedWork) => Promise<Flow<DetectedWork>> {
+  const admit = admitStage(ctx);
+  return async (work) => {
+    const admitted = await admit(work.article);
+    if (admitted.done) return admitted;
+    const article = admitted.go;
+    return { go: { ...work, article, mentions: work.mentions.map((m) => ({ ...m, isCopy: article.duplicateOf !== null })) } };
+  };
+}
+
+/**
  * The embed stage, on a group of articles: each article's sentences are learned in turn
  * (TF-IDF document frequencies, in stream order) and the group's mentions are embedded
  * in one batch, which is what keeps a transformer model busy.
@@ -239,7 +267,9 @@ async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedWor
     // crash never stores a later article's.
     const idf = tfidf ? tfidf.takeDelta() : null;
     const vectors = a.vectors ?? (tfidf ? a.mentions.map((m) => tfidf.vector(m.terms)) : null);
-    return { a, idf, vectors };
+    // The whole article, for its story, as the frequencies stand after it (like its sentences).
+    const docVector = ctx.embedder.documentVector?.(a.sentences.flatMap((s) => s.terms)) ?? null;
+    return { a, idf, vectors, docVector };
   });
   const pending = prepared.flatMap((p) => ('a' in p && !p.vectors ? p.a.mentions : []));
   let batch: Vector[] = [];
@@ -248,15 +278,35 @@ async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedWor
   } catch (err) {
     const reason = `embed: ${describeError(err)}`;
     ctx.logger.child({ stage: 'embed' }).error({ articles: group.length, err: reason }, 'embedding failed');
-    return prepared.map((p) => ('a' in p ? { done: outcome(p.a.article, 'rejected', reason) } : p));
+    return prepared.map((p) => ('a' in p ? { done: outcomeOf(p.a.article, 'rejected', reason) } : p));
   }
   let at = 0;
   return prepared.map((p) => {
     if (!('a' in p)) return p;
     const vectors = p.vectors ?? batch.slice(at, (at += p.a.mentions.length));
     const { vectors: _carried, ...a } = p.a;
-    return { go: { ...a, idf: p.idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })) } };
+    return { go: { ...a, idf: p.idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })), storyInput: storyInput(a, p.docVector ?? meanVector(vectors)) } };
   });
+}
+
+/** What the story linker reads of an article. */
+function storyInput(a: DetectedArticle, vector: Vector | null): StoryArticle | null {
+  if (!vector) return null;
+  const names = a.sentences.flatMap((s) => [...s.participants, ...s.places]);
+  return { id: a.article.id, title: a.article.title, outlet: a.article.outlet, published: a.article.published ?? a.article.fetched, vector, names, isCopy: a.article.duplicateOf !== null };
+}
+
+/** The normalised mean of dense vectors (a whole article for a model without document vectors), or null. */
+function meanVector(vectors: readonly Vector[]): Vector | null {
+  const dense = vectors.filter((v): v is DenseVector => v.kind === 'dense');
+  if (dense.length === 0) return null;
+  const sum = new Float32Array(dense[0]!.values.length);
+  for (const v of dense) for (let i = 0; i < sum.length; i++) sum[i]! += v.values[i]!;
+  let n = 0;
+  for (const x of sum) n += x * x;
+  n = Math.sqrt(n) || 1;
+  for (let i = 0; i < sum.length; i++) sum[i]! /= n;
+  return { kind: 'dense', values: sum };
 }
 
 /**
@@ -286,11 +336,28 @@ class ConsolidationCadence {
  * splits those whose mentions drifted apart. Each merge and split is its own commit; when
  * `signal` aborts, the pass stops after the one in hand.
  */
-export async function consolidate(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<ConsolidationOutcome> {
+export async function consolidate(ctx: PipelineContext, ids: readonly string[], storyIds: readonly string[], signal?: AbortSignal): Promise<ConsolidationOutcome> {
   const merges = await mergeEvents(ctx, ids, signal);
   const gone = new Set(merges.map((m) => m.from));
   const splits = signal?.aborted ? [] : await splitEvents(ctx, ids.filter((id) => !gone.has(id)), signal);
-  return { merges, splits };
+  const storyMerges = signal?.aborted ? [] : await mergeStoriesOf(ctx, storyIds, signal);
+  return { merges, splits, storyMerges };
+}
+
+/** Merges the stories among `ids` that turn out to be one thread; each merge is its own commit. */
+async function mergeStoriesOf(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<ArticleOutcome['storyMerges']> {
+  const done: ArticleOutcome['storyMerges'] = [];
+  for (const m of ctx.stories.planMerges(ids)) {
+    if (signal?.aborted) break;
+    const merged = ctx.stories.mergedState(m.into, m.from);
+    await ctx.store.commitStoryMerge({
+      into: { record: storyRecord(merged), state: serialiseStory(merged) }, from: m.from, score: m.score, at: ctx.now().toISOString(),
+      messages: buildStoryMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.stories.applyMerge(merged, m.from);
+    done.push(m);
+  }
+  return done;
 }
 
 /** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
@@ -382,7 +449,7 @@ function outletRows(e: EventState): { outlet: string; mentions: number; independ
 async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArticle>[], cadence: ConsolidationCadence): Promise<ArticleOutcome[]> {
   const log = ctx.logger.child({ stage: 'link' });
   const outcomes: ArticleOutcome[] = new Array(flows.length);
-  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; commit: Omit<ArticleCommit, 'events' | 'messages'> }[] = [];
+  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; storyPlan: StoryPlan | null; commit: Omit<ArticleCommit, 'events' | 'messages' | 'story'> }[] = [];
   const flush = async (): Promise<void> => {
     if (pending.length === 0) return;
     const batch = pending;
@@ -390,8 +457,10 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
     // An event several articles of the group touched is written once, in its last state:
     // the group commits as one, so the states in between would be overwritten anyway.
     const lastWriter = new Map<string, number>();
+    const lastStoryWriter = new Map<string, number>();
     batch.forEach((p, k) => {
       for (const e of p.plan.events) lastWriter.set(e.id, k);
+      if (p.storyPlan) lastStoryWriter.set(p.storyPlan.story.id, k);
     });
     const subscribers = ctx.config.webhooks.subscribers;
     const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
@@ -399,14 +468,15 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
     const commits: ArticleCommit[] = batch.map((p, k) => ({
       ...p.commit,
       events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
-      messages: buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()),
+      story: p.storyPlan && lastStoryWriter.get(p.storyPlan.story.id) === k ? { record: storyRecord(p.storyPlan.story), state: serialiseStory(p.storyPlan.story) } : null,
+      messages: [...buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()), ...(p.storyPlan ? buildStoryMessages(p.storyPlan, p.a.article, subscribers, ctx.now()) : [])],
     }));
     let results: CommitResult[];
     try {
       results = await ctx.store.commitArticles(commits);
     } catch (err) {
       log.error({ articles: batch.length, err: describeError(err) }, 'commit failed; articles not stored');
-      for (const p of batch) outcomes[p.index] = outcome(p.a.article, 'rejected', describeError(err));
+      for (const p of batch) outcomes[p.index] = outcomeOf(p.a.article, 'rejected', describeError(err));
       await resync(ctx, cadence);
       return;
     }
@@ -415,15 +485,17 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       if (results[k] === 'already-stored') {
         // Another writer stored it first: our in-memory plan for it must go.
         stale = true;
-        outcomes[p.index] = outcome(p.a.article, 'duplicate', 'already stored');
+        outcomes[p.index] = outcomeOf(p.a.article, 'duplicate', 'already stored');
         return;
       }
       outcomes[p.index] = {
-        ...outcome(p.a.article, 'stored', null),
+        ...outcomeOf(p.a.article, 'stored', null),
         sentences: p.a.sentences.length,
         mentions: p.a.mentions.length,
         links: p.plan.links.length,
         opened: p.plan.opened.length,
+        story: p.storyPlan?.story.id ?? null,
+        storyOpened: p.storyPlan?.opened ?? false,
         outletsAdded: p.plan.outletsAdded.length,
         assignments: assignments(p.plan.links),
       };
@@ -438,17 +510,22 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       continue;
     }
     const a = f.go;
-    const plan = ctx.linker.plan(a.embedded);
+    // The story first: a sentence is judged against its article's story.
+    const storyPlan = a.storyInput ? ctx.stories.plan(a.storyInput) : null;
+    if (storyPlan) ctx.stories.apply(storyPlan);
+    const plan = ctx.linker.plan(a.embedded, storyPlan?.story.id ?? null, (id) => ctx.stories.resolve(id));
     ctx.linker.apply(plan);
     pending.push({
-      index: i, a, plan,
+      index: i, a, plan, storyPlan,
       commit: {
+        storyId: storyPlan?.story.id ?? null,
         article: a.article,
         sentences: a.sentences.map((s, k) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[k]! })),
         mentions: a.embedded,
         links: plan.links,
         sketch: ctx.copies?.sketchOf(a.article.id) ?? null,
         idf: a.idf,
+        tally: plan.tally,
       },
     });
     if (await cadence.next()) {
@@ -456,7 +533,8 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
       await flush();
       if (outcomes[i]?.status !== 'stored') continue;
       try {
-        outcomes[i] = { ...outcomes[i]!, ...await consolidate(ctx, await ctx.store.recentEventIds(ctx.config.link.consolidateEvery)) };
+        const every = ctx.config.link.consolidateEvery;
+        outcomes[i] = { ...outcomes[i]!, ...await consolidate(ctx, await ctx.store.recentEventIds(every), await ctx.store.recentStoryIds(every)) };
       } catch (err) {
         // The articles are stored; a failed merge is retried at the next pass.
         log.error({ err: describeError(err) }, 'consolidation failed');
@@ -472,7 +550,9 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
 export async function reloadLinking(ctx: PipelineContext): Promise<void> {
   const snapshot = await ctx.store.loadLinkerState();
   ctx.linker.reset();
-  ctx.linker.load(snapshot.events.map(deserialiseEvent));
+  ctx.linker.load(snapshot.events.map(deserialiseEvent), snapshot.tally);
+  ctx.stories.reset();
+  ctx.stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);
   if (ctx.embedder instanceof TfidfEmbedder) ctx.embedder.load(snapshot.idf);
   await ctx.copies?.load(ctx.store);
 }
@@ -489,6 +569,7 @@ function assignments(links: readonly { sentenceIndex: number; eventId: string; r
   return [...by].map(([sentenceIndex, ls]) => ({ sentenceIndex, eventIds: ls.sort((x, y) => x.rank - y.rank).map((l) => l.eventId) }));
 }
 
-function outcome(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
-  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [] };
+/** An outcome with nothing stored yet (a rejection, a duplicate; a stored article's counts are filled in). */
+export function outcomeOf(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
+  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [], story: null, storyOpened: false, storyMerges: [] };
 }

@@ -143,6 +143,20 @@ export interface LinkEvidence {
   overlapBonus: number;
   /** True when the mention opened the event rather than joining it. */
   opened: boolean;
+  /**
+   * True when the event belongs to another story than the mention's article: such a link
+   * needed a higher score (link.crossStoryMargin). Absent on links made before stories.
+   */
+  crossStory?: boolean;
+  /** How much the event's size raised the score (link.sizePrior); absent when it did not. */
+  sizeFactor?: number;
+  /** The share of the score kept because the mention's own article opened the event (link.sameArticleFactor). */
+  sameArticleFactor?: number;
+  /**
+   * The score the link had to reach: the threshold as calibrated on the stream at the
+   * time, plus link.crossStoryMargin for an event of another story sharing no name.
+   */
+  bar?: number;
 }
 
 /** A mention → event link with its score and evidence. */
@@ -163,6 +177,8 @@ export interface EventRecord {
   label: string;
   firstSeen: string;
   lastSeen: string;
+  /** The story the event belongs to (the story of the article that opened it), or null. */
+  story: string | null;
   /** Earliest and latest day the event's mentions place it on. */
   timeStart: string;
   timeEnd: string;

@@ -6,10 +6,12 @@
 import type { Config } from './config/schema.js';
 import type { Embedder } from './embed/embedder.js';
 import { TfidfEmbedder } from './embed/tfidf-embedder.js';
-import { TransformerEmbedder } from './embed/transformer-embedder.js';
+import { createEmbedder } from './embed/create-embedder.js';
 import { claimVectorSpace, vectorSpaceOf } from './embed/vector-space.js';
 import { deserialiseEvent } from './link/event-state.js';
 import { OnlineLinker } from './link/online-linker.js';
+import { StoryLinker } from './link/story-linker.js';
+import { deserialiseStory } from './link/story-state.js';
 import type { Logger } from './logger.js';
 import type { PipelineContext } from './pipeline.js';
 import { openStore } from './store/open-store.js';
@@ -28,7 +30,7 @@ export interface Runtime extends PipelineContext {
  * analysis pool, which the runtime then uses but does not close (benchmarks reuse one).
  */
 export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store, sharedAnalysis?: AnalysisPool): Promise<Runtime> {
-  const embedder: Embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
+  const embedder: Embedder = await createEmbedder(config.embed);
   const s = store ?? (await openStore(config.store, logger));
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
@@ -40,7 +42,9 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
     throw err;
   }
   if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
-  linker.load(events);
+  linker.load(events, snapshot.tally);
+  const stories = new StoryLinker(config.link);
+  stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);
   const copies = new CopyDetector(config.copies);
   await copies.load(s);
   const threads = sharedAnalysis?.threads ?? analysisThreads(config.analysis.threads);
@@ -52,6 +56,7 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
     nlp: createNlp(),
     embedder,
     linker,
+    stories,
     store: s,
     logger,
     now: () => new Date(),

@@ -9,6 +9,7 @@ import { StrandError, isStrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import type { Store } from '../store/store.js';
 import { registerEventRoutes } from './routes/events.js';
+import { registerStoryRoutes } from './routes/stories.js';
 import { registerArticleRoutes } from './routes/articles.js';
 import { registerOperationRoutes, type IngestStatus, type QueueView } from './routes/operations.js';
 import { registerWebPage } from '../web/serve-page.js';
@@ -66,9 +67,9 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
       info: {
         title: 'Strandline API',
         version: deps.version,
-        description: `Events reported in news feeds, the sentences that report them and the links between the two.\n\n${CAUTION}`,
+        description: `Events reported in news feeds, the sentences that report them and the links between the two, grouped into stories (threads of coverage).\n\n${CAUTION}`,
       },
-      tags: [{ name: 'events' }, { name: 'articles' }, { name: 'feeds' }, { name: 'operations' }],
+      tags: [{ name: 'events' }, { name: 'stories' }, { name: 'articles' }, { name: 'feeds' }, { name: 'operations' }],
       components: { securitySchemes: { bearer: { type: 'http', scheme: 'bearer', description: TOKEN_NOTE } } },
       // Whether a token is needed depends on server.tokens and server.protect (see the scheme).
       security: [{}, { bearer: [] }],
@@ -103,6 +104,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   });
   if (deps.auth) registerTokenCheck(app, deps.auth);
   registerEventRoutes(app, deps.store);
+  registerStoryRoutes(app, deps.store);
   registerArticleRoutes(app, deps.store);
   registerOperationRoutes(app, deps);
   if (deps.push) registerPushRoute(app, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });

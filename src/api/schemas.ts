@@ -26,6 +26,9 @@ export const evidenceSchema = {
     sharedPlaces: strings,
     overlapBonus: { ...num, description: 'Score added for shared rare names.' },
     opened: { type: 'boolean', description: 'The mention opened this event.' },
+    crossStory: { type: 'boolean', description: "The event belongs to another story than the sentence's article: such a link had to clear a higher bar (link.crossStoryMargin). These links across stories are the rarest and the most worth checking." },
+    sizeFactor: { ...num, description: 'How much the number of sentences the event already holds raised the score (link.sizePrior).' },
+    sameArticleFactor: { ...num, description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor)." },
   },
   required: ['similarity', 'timeDecay', 'timeGapDays', 'sharedParticipants', 'sharedPlaces', 'overlapBonus', 'opened'],
 } as const;
@@ -48,8 +51,28 @@ export const eventSummarySchema = {
     independentOutlets: { ...int, description: 'Outlets with a mention that is not a verbatim copy of another outlet.' },
     mentionCount: int,
     version: int,
+    story: { ...nullableStr, description: 'The story the event lives in (that of the article that opened it, after story merges); null for events from before stories were kept.' },
   },
-  required: ['id', 'label', 'firstSeen', 'lastSeen', 'timeStart', 'timeEnd', 'participants', 'places', 'outlets', 'independentOutlets', 'mentionCount', 'version'],
+  required: ['id', 'label', 'firstSeen', 'lastSeen', 'timeStart', 'timeEnd', 'participants', 'places', 'outlets', 'independentOutlets', 'mentionCount', 'version', 'story'],
+} as const;
+
+/** A story as listed. */
+export const storySummarySchema = {
+  type: 'object',
+  description: 'A story: an ongoing thread of coverage that articles join by their whole text, names and time (an automatic grouping, a suggestion like every link).',
+  properties: {
+    id: str,
+    label: { ...str, description: 'The headline of the article that opened the story.' },
+    firstSeen: { ...str, format: 'date-time' },
+    lastSeen: { ...str, format: 'date-time' },
+    articleCount: int,
+    eventCount: int,
+    outlets: strings,
+    independentOutlets: { ...int, description: 'Outlets with an article that is not a copy of another outlet\'s.' },
+    names: { ...strings, description: 'People, organisations and places the articles name most often.' },
+    version: int,
+  },
+  required: ['id', 'label', 'firstSeen', 'lastSeen', 'articleCount', 'eventCount', 'outlets', 'independentOutlets', 'names', 'version'],
 } as const;
 
 const mentionSchema = {
@@ -85,6 +108,7 @@ export const listEventsSchema = {
       outlet: { type: 'string', maxLength: 200, description: 'Only events this outlet reported.' },
       q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label or a sentence.' },
       minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      story: { type: 'string', maxLength: 100, description: 'Only events of this story.' },
       sort: { type: 'string', enum: ['recent', 'outlets', 'mentions'], default: 'recent' },
       limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
       offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
@@ -137,6 +161,76 @@ export const getEventSchema = {
   },
 } as const;
 
+/** GET /api/stories */
+export const listStoriesSchema = {
+  summary: 'List stories',
+  description: 'Stories (threads of coverage above events), most recently active first unless sorted otherwise.',
+  tags: ['stories'],
+  querystring: {
+    type: 'object',
+    additionalProperties: false,
+    properties: {
+      from: { ...dayOrTime, description: 'Only stories active on or after this day or time.' },
+      to: { ...dayOrTime, description: 'Only stories that began on or before this day or time.' },
+      outlet: { type: 'string', maxLength: 200, description: 'Only stories this outlet reported on.' },
+      q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label, a headline or a name.' },
+      minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      sort: { type: 'string', enum: ['recent', 'outlets', 'articles'], default: 'recent' },
+      limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
+      offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
+    },
+  },
+  response: {
+    200: { type: 'object', properties: { total: int, stories: { type: 'array', items: storySummarySchema }, caution: str }, required: ['total', 'stories', 'caution'] },
+    400: errorSchema,
+  },
+} as const;
+
+/** GET /api/stories/:id */
+export const getStorySchema = {
+  summary: 'One story with its events, its articles by outlet and its timeline',
+  tags: ['stories'],
+  params: { type: 'object', properties: { id: { type: 'string', maxLength: 100 } }, required: ['id'] },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        story: storySummarySchema,
+        events: { type: 'array', description: 'Its events, earliest first.', items: eventSummarySchema },
+        byOutlet: {
+          type: 'array',
+          description: 'Its articles grouped by outlet, outlets in the order they first reported on the story.',
+          items: {
+            type: 'object',
+            properties: {
+              outlet: str, independent: { type: 'boolean' },
+              articles: {
+                type: 'array',
+                items: { type: 'object', properties: { id: str, title: str, url: nullableStr, published: nullableStr, duplicateOf: nullableStr }, required: ['id', 'title', 'url', 'published', 'duplicateOf'] },
+              },
+            },
+            required: ['outlet', 'independent', 'articles'],
+          },
+        },
+        timeline: {
+          type: 'array',
+          description: 'Articles per day, with the outlets reporting on the story for the first time that day and the events that opened that day.',
+          items: { type: 'object', properties: { day: str, articles: int, newOutlets: strings, newEvents: strings }, required: ['day', 'articles', 'newOutlets', 'newEvents'] },
+        },
+        merges: {
+          type: 'array',
+          description: 'Stories that consolidation found to be this one and merged into it.',
+          items: { type: 'object', properties: { from: str, into: str, score: num, at: str }, required: ['from', 'into', 'score', 'at'] },
+        },
+        caution: str,
+      },
+      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'caution'],
+    },
+    308: { description: 'The story was merged into another; Location names it.', type: 'null' },
+    404: errorSchema,
+  },
+} as const;
+
 /** GET /api/articles/:id */
 export const getArticleSchema = {
   summary: 'One article with its sentences and their links',
@@ -155,8 +249,9 @@ export const getArticleSchema = {
             duplicateOf: { ...nullableStr, description: 'The earlier article this one copies (a syndicated copy, verbatim or lightly edited), or null. A copy still counts as its outlet reporting the event, but not as independent confirmation.' },
             copySimilarity: { type: ['number', 'null'], description: 'For a copy: 1 when verbatim, else the estimated Jaccard similarity of the two texts (4-word shingles, MinHash). Null when not a copy.' },
             source: str,
+            story: { ...nullableStr, description: 'The story the article joined (an automatic grouping), or null.' },
           },
-          required: ['id', 'outlet', 'url', 'title', 'published', 'fetched', 'language', 'text', 'contentHash', 'duplicateOf', 'source'],
+          required: ['id', 'outlet', 'url', 'title', 'published', 'fetched', 'language', 'text', 'contentHash', 'duplicateOf', 'source', 'story'],
         },
         sentences: {
           type: 'array',

@@ -20,6 +20,7 @@ export interface RunSummary {
   mentions: number;
   links: number;
   eventsOpened: number;
+  storiesOpened: number;
   /** Events consolidation found to be one with another and merged. */
   eventsMerged: number;
   problems: IngestProblem[];
@@ -50,7 +51,7 @@ export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { 
   const input = await readReplayInput(sources, rt.config.ingest, opts.signal);
   const summary: RunSummary = {
     files: input.files.length, articlesRead: input.articles.length, stored: 0, alreadyStored: 0, copies: 0, rejected: [],
-    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0, notRun: 0,
+    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, storiesOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0, notRun: 0,
   };
   hooks.onRead?.(input.articles.length);
   const pace = opts.paceMs ?? 0;
@@ -68,6 +69,7 @@ export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { 
         summary.mentions += o.mentions;
         summary.links += o.links;
         summary.eventsOpened += o.opened;
+        if (o.storyOpened) summary.storiesOpened++;
         summary.eventsMerged += o.merges.length;
       } else if (o.status === 'duplicate') {
         summary.alreadyStored++;
@@ -96,7 +98,7 @@ export function formatSummary(s: RunSummary): string {
   const lines = [
     `read      ${s.files} feed file(s), ${s.articlesRead} article(s)`,
     `stored    ${s.stored} article(s)${s.copies ? `, of which ${s.copies} copies of earlier articles (verbatim or lightly edited)` : ''}; ${s.alreadyStored} already stored before`,
-    `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others`,
+    `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others, in ${s.storiesOpened} new story(ies)`,
     `time      ${s.seconds.toFixed(1)} s${s.sentences ? ` (${Math.round(s.sentences / s.seconds)} sentences/s)` : ''}`,
   ];
   if (s.notRun > 0) lines.push(`stopped   early: ${s.notRun} of ${s.articlesRead} article(s) not run; the same command again continues where it stopped`);

@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { NetworkGuard, WEBHOOK_NAMES, parseNetworks } from '../ingest/network-guard.js';
+import { NOTIFICATION_TYPES } from '../notify/notification-types.js';
 
 /** CIDR networks (or single addresses) an operator opens despite the private-network refusal. */
 const networkList = z.array(z.string().min(1).max(100)).max(256).default([]).superRefine((list, ctx) => {
@@ -22,7 +23,7 @@ const subscriberSchema = z.strictObject({
   /** Standard Webhooks secret: `whsec_` followed by base64 (24 to 64 bytes). */
   secret: z.string().regex(/^whsec_[A-Za-z0-9+/]{32,88}={0,2}$/, 'must be whsec_ followed by base64'),
   /** Which notifications to send. Default: all. */
-  types: z.array(z.enum(['event.opened', 'event.outlet_added', 'event.merged', 'event.split'])).min(1).default(['event.opened', 'event.outlet_added', 'event.merged', 'event.split']),
+  types: z.array(z.enum(NOTIFICATION_TYPES)).min(1).default([...NOTIFICATION_TYPES]),
 });
 
 /** The full configuration. */
@@ -166,14 +167,42 @@ export const configSchema = z.strictObject({
     modelPath: z.string().min(1).default('models/sentence-embedder'),
     /** Sentences per transformer batch. Default 32. */
     batchSize: z.number().int().min(1).max(1024).default(32),
-    /** log2 of the hashed feature space. Default 20 (about a million buckets, few collisions for news vocabulary). */
     /** Threads the transformer model may use; 0 lets the ONNX runtime choose (all cores). Set 1 when running one worker process per core. */
     threads: z.number().int().min(0).max(64).default(0),
+    /** log2 of the hashed feature space. Default 20 (about a million buckets, few collisions for news vocabulary). */
     hashBits: z.number().int().min(10).max(26).default(20),
+    /**
+     * TF-IDF over adjacent word pairs too, not only single lemmas. Default false: on
+     * meantime-en and wec-eng-val together, unigrams did better (DEVELOPERS.md).
+     */
+    bigrams: z.boolean().default(false),
+    /**
+     * The power idf is raised to: above 1, rare, specific words (names, numbers) count more
+     * against words every article of a topic shares. Default 2 (DEVELOPERS.md).
+     */
+    idfPower: z.number().min(0.5).max(4).default(2),
   }).prefault({}),
   link: z.strictObject({
-    /** Score at or above which a mention joins an event; below, it opens one. Default 0.2 cosine (trials put the best value between 0.10 and 0.28). */
+    /**
+     * Score at or above which a mention joins an event; below, it opens one. With
+     * calibration on (the default) this is the threshold for a stream where half the best
+     * candidates score high, moved up or down as the stream shows itself (link/calibration.ts).
+     * Default 0.2 (decided on meantime-en and wec-eng-val, DEVELOPERS.md).
+     */
     threshold: z.number().min(0).max(1).default(0.2),
+    /**
+     * The threshold calibrated on the stream: threshold + slope x ln((1 - r) / r), r the share
+     * of mentions whose best candidate scores at least anchor (with priorMentions
+     * pseudo-mentions at priorShare). mode 'fixed' keeps the threshold as configured.
+     * Defaults decided on meantime-en and wec-eng-val (DEVELOPERS.md).
+     */
+    calibration: z.strictObject({
+      mode: z.enum(['stream', 'fixed']).default('stream'),
+      anchor: z.number().min(0).max(1).default(0.3),
+      slope: z.number().min(0).max(1).default(0.09),
+      priorMentions: z.number().min(1).max(1_000_000).default(20),
+      priorShare: z.number().gt(0).lt(1).default(0.35),
+    }).prefault({}),
     /** Half-life of the time decay, days. Default 7 (best single setting in trials on dated news). */
     halfLifeDays: z.number().min(0.1).default(7),
     /** Events scored per mention at most. Default 24 (16, 24 and 48 gave the same CoNLL F1 on the demo, meantime-en and a synthetic stream). */
@@ -219,6 +248,34 @@ export const configSchema = z.strictObject({
     splitThreshold: z.number().min(0).max(1).default(0.1),
     /** Events with fewer mentions are not examined for a split; 0 turns splitting off. Default 6. */
     splitMinMentions: z.number().int().min(0).default(6),
+    /**
+     * A sentence is compared with every candidate event, but one of another story than its
+     * article's, sharing no participant or place with the sentence, needs threshold + this
+     * to be linked: cross-story links are the valuable rare case, a shared name is the
+     * stronger evidence that lets one through, and the story level stays soft (a wrong story
+     * never hides the right event). Default 0.15 (decided on meantime-en and wec-eng-val,
+     * DEVELOPERS.md).
+     */
+    crossStoryMargin: z.number().min(0).max(1).default(0.15),
+    /**
+     * An event's score is multiplied by 1 + sizePrior x ln(its mentions), at most x3: an event
+     * many sentences already report is the likelier home for one more (the prior of a Chinese
+     * restaurant process). Default 0.3 (DEVELOPERS.md); 0 turns it off.
+     */
+    sizePrior: z.number().min(0).max(2).default(0.3),
+    /**
+     * Events the sentence's own article opened score this much of their similarity: an
+     * article's sentences share its words whatever they report, and mostly report different
+     * events. Default 1, off: with the calibrated threshold it no longer earned its place
+     * on meantime-en and wec-eng-val (DEVELOPERS.md).
+     */
+    sameArticleFactor: z.number().min(0).max(1).default(1),
+    /** Score (whole-article cosine x story time decay) at or above which an article joins a story. Default 0.2. */
+    storyThreshold: z.number().min(0).max(1).default(0.2),
+    /** Half-life of the time decay between an article and a story, days. Default 7. */
+    storyHalfLifeDays: z.number().min(0.1).default(7),
+    /** Two stories merge when their centroids score this alike (cosine x decay). Default 0.5. */
+    storyMergeThreshold: z.number().min(0).max(1).default(0.5),
   }).prefault({}).refine((l) => l.splitThreshold <= l.mergeThreshold, { message: 'splitThreshold must not exceed mergeThreshold (a split event would merge back)', path: ['splitThreshold'] }),
   webhooks: z.strictObject({
     subscribers: z.array(subscriberSchema).default([]),

@@ -17,7 +17,7 @@ import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitStage, linkStages, reloadLinking } from '../pipeline.js';
+import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitWork, linkStages, outcomeOf, reloadLinking } from '../pipeline.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';
@@ -171,7 +171,7 @@ export class QueueLinker {
 
   private async run(): Promise<void> {
     const { ctx, redis, keys } = this.d;
-    const admit = admitStage(ctx);
+    const admit = admitWork(ctx);
     // Entries between reading and their outcome, in order, with what the worker sent.
     const order: { entry: string; body: string }[] = [];
     let inFlight = 0;
@@ -248,18 +248,14 @@ export class QueueLinker {
     return out;
   }
 
-  private async toFlow(admit: ReturnType<typeof admitStage>, f: Record<string, string>): Promise<Flow<DetectedWork>> {
+  private async toFlow(admit: ReturnType<typeof admitWork>, f: Record<string, string>): Promise<Flow<DetectedWork>> {
     if (f.rejected !== undefined) {
       const article = { id: `queue:${f.entry}`, outlet: '', url: null, title: '', published: null, fetched: new Date(0).toISOString(), language: null, text: '', contentHash: '', duplicateOf: null, source: 'queue' };
-      return { done: { articleId: article.id, outlet: '', status: 'rejected', reason: `worker: ${f.rejected}`, duplicateOf: null, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [] } };
+      return { done: { ...outcomeOf(article, 'rejected', `worker: ${f.rejected}`), duplicateOf: null } };
     }
-    const work = decodeWork(f.work!);
-    const admitted = await admit(work.article);
-    if (admitted.done) return admitted;
-    // Copies are recognised here, in intake order; mark the worker's mentions accordingly.
-    const article = admitted.go;
-    return { go: { ...work, article, mentions: work.mentions.map((m) => ({ ...m, isCopy: article.duplicateOf !== null })) } };
+    return admit(decodeWork(f.work!));
   }
+
 
   private async deadLetter(entry: string, error: string, body: string): Promise<void> {
     this.log.error({ entry, err: error }, 'article not stored; moved to the dead-letter list');

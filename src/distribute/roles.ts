@@ -5,8 +5,7 @@
  * single process and does not come through here.
  */
 import type { Config } from '../config/schema.js';
-import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
-import { TransformerEmbedder } from '../embed/transformer-embedder.js';
+import { createEmbedder } from '../embed/create-embedder.js';
 import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { createRuntime, type Runtime } from '../runtime.js';
@@ -31,7 +30,7 @@ export function checkRole(config: Readonly<Config>): void {
 /** A running worker: analyses queued articles until stopped. */
 export async function startWorker(config: Readonly<Config>, logger: Logger): Promise<{ worker: AnalysisWorker; stop(): Promise<void> }> {
   // The model first: a missing model stops start-up before any connection is open.
-  const embedder = config.embed.kind === 'transformer' ? await TransformerEmbedder.load(config.embed.modelPath, config.embed.batchSize, config.embed.threads) : new TfidfEmbedder(config.embed.hashBits);
+  const embedder = await createEmbedder(config.embed);
   const onError = redisErrorLog(logger);
   const [redis, blocking] = await Promise.all([connectRedis(config.store.redis, {}, onError), connectRedis(config.store.redis, {}, onError)]);
   const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger });

@@ -16,4 +16,9 @@ export interface Embedder {
   learn?(batch: readonly EmbedInput[]): void;
   /** Vectors for a batch, in order. */
   embed(batch: readonly EmbedInput[]): Promise<Vector[]>;
+  /**
+   * A whole article's vector from all its terms (story evidence), when the model can make
+   * one cheaply; otherwise stories use the mean of the article's mention vectors.
+   */
+  documentVector?(terms: readonly string[]): Vector;
 }

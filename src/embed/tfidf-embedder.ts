@@ -1,11 +1,13 @@
 /**
- * The offline default embedder: sparse TF-IDF over hashed word unigrams and bigrams, with
- * document frequencies learned incrementally from the stream (every sentence is a
- * document). Hashing (Weinberger et al. 2009, "Feature hashing for large scale multitask
- * learning") keeps the vocabulary bounded without a dictionary.
+ * The offline default embedder: sparse TF-IDF over hashed word unigrams (and, if asked,
+ * adjacent bigrams), with document frequencies learned incrementally from the stream
+ * (every sentence is a document). Hashing (Weinberger et al. 2009, "Feature hashing for
+ * large scale multitask learning") keeps the vocabulary bounded without a dictionary.
  *
  *   tf  = 1 + ln(count)                          (sublinear tf; Manning et al., IIR 6.4.1)
- *   idf = ln((1 + N) / (1 + df)) + 1             (smoothed idf, as scikit-learn's default)
+ *   idf = (ln((1 + N) / (1 + df)) + 1) ^ p       (smoothed idf, as scikit-learn's default,
+ *                                                 raised to idfPower: p > 1 weighs rare,
+ *                                                 specific words more against topical ones)
  */
 import type { SparseVector } from '../records.js';
 import type { EmbedInput, Embedder } from './embedder.js';
@@ -42,10 +44,15 @@ export class TfidfEmbedder implements Embedder {
   private delta: IdfDelta = { docs: 0, df: new Map() };
   // Scratch space reused across sentences: the hot path allocates only its output.
   private scratch = new Uint32Array(256);
+  private readonly bigrams: boolean;
+  private readonly idfPower: number;
 
-  constructor(hashBits: number) {
+  /** `bigrams` (default false) adds hashed adjacent-word pairs; `idfPower` (default 1) sharpens idf. */
+  constructor(hashBits: number, o: { bigrams?: boolean; idfPower?: number } = {}) {
     this.mask = (1 << hashBits) - 1;
     this.df = new Uint32Array(1 << hashBits);
+    this.bigrams = o.bigrams ?? false;
+    this.idfPower = o.idfPower ?? 1;
   }
 
   /** Restores persisted document frequencies, replacing what was learned in memory. */
@@ -81,11 +88,17 @@ export class TfidfEmbedder implements Embedder {
 
   /** Inverse document frequency of a hashed feature. */
   idf(feature: number): number {
-    return Math.log((1 + this.docs) / (1 + this.df[feature & this.mask]!)) + 1;
+    const idf = Math.log((1 + this.docs) / (1 + this.df[feature & this.mask]!)) + 1;
+    return this.idfPower === 1 ? idf : idf ** this.idfPower;
   }
 
   async embed(batch: readonly EmbedInput[]): Promise<SparseVector[]> {
     return batch.map((item) => this.vector(item.terms));
+  }
+
+  /** A whole article's TF-IDF vector (its terms pooled, as one document). */
+  documentVector(terms: readonly string[]): SparseVector {
+    return this.vector(terms);
   }
 
   /** The TF-IDF vector of one term list (synchronous, for callers that need no batching). */
@@ -116,14 +129,14 @@ export class TfidfEmbedder implements Embedder {
     return { kind: 'sparse', indices, values };
   }
 
-  /** Hashes unigrams and adjacent bigrams into the scratch buffer; returns how many. */
+  /** Hashes unigrams (and adjacent bigrams when asked) into the scratch buffer; returns how many. */
   private features(terms: readonly string[]): number {
     const need = terms.length * 2;
     if (this.scratch.length < need) this.scratch = new Uint32Array(need * 2);
     let n = 0;
     for (let i = 0; i < terms.length; i++) {
       this.scratch[n++] = fnv1a(terms[i]!) & this.mask;
-      if (i > 0) this.scratch[n++] = fnv1a(`${terms[i - 1]!}\u0001${terms[i]!}`) & this.mask;
+      if (this.bigrams && i > 0) this.scratch[n++] = fnv1a(`${terms[i - 1]!}\u0001${terms[i]!}`) & this.mask;
     }
     return n;
   }

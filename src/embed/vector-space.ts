@@ -15,7 +15,11 @@ import type { Store } from '../store/store.js';
 
 /** A description of the configured embedder's vector space, stable across restarts. */
 export async function vectorSpaceOf(embed: Readonly<Config['embed']>): Promise<string> {
-  if (embed.kind === 'tfidf') return `tfidf: hashed unigrams and bigrams, 2^${embed.hashBits} features`;
+  if (embed.kind === 'tfidf') {
+    // Stores made before these settings existed recorded the first form (bigrams, idf^1).
+    const grams = embed.bigrams ? 'unigrams and bigrams' : 'unigrams';
+    return `tfidf: hashed ${grams}, 2^${embed.hashBits} features${embed.idfPower === 1 ? '' : `, idf^${embed.idfPower}`}`;
+  }
   // The model's weights and vocabulary, not its folder name: a folder is easily reused for another model.
   const hash = createHash('sha256');
   for (const file of [join('onnx', 'model.onnx'), 'tokenizer.json']) {
@@ -31,7 +35,7 @@ export async function vectorSpaceOf(embed: Readonly<Config['embed']>): Promise<s
  */
 export async function claimVectorSpace(store: Pick<Store, 'claimVectorSpace'>, space: string, kind: 'sparse' | 'dense', storedKind: 'sparse' | 'dense' | null): Promise<void> {
   const refuse = (was: string): never => {
-    throw new StrandError('STRAND_VECTOR_SPACE_CHANGED', `the store's vectors were made by another embedder (${was}) than the one configured (${space}); vectors of the two cannot be compared. Keep the embed settings the store was made with, or start a new store (store.path, or store.redis.partition)`);
+    throw new StrandError('STRAND_VECTOR_SPACE_CHANGED', `the store's vectors were made by another embedder (${was}) than the one configured (${space}); vectors of the two cannot be compared. Keep the embed settings the store was made with (a store from before embed.bigrams and embed.idfPower: set them to true and 1), or start a new store (store.path, or store.redis.partition)`);
   };
   if (storedKind !== null && storedKind !== kind) refuse(storedKind === 'sparse' ? 'tfidf' : 'a transformer model');
   const recorded = await store.claimVectorSpace(space);

@@ -1,5 +1,6 @@
 /**
- * Baselines the linker is compared with, run on the same mentions and vectors:
+ * Baselines the linker is compared with, run on the same mentions with plain TF-IDF vectors
+ * (unigrams, smoothed idf: the standard vectors of the trade, not the linker's settings):
  *
  *   all singletons        every mention its own event;
  *   one per subtopic      every mention of a subtopic (else topic) in one event;
@@ -8,12 +9,18 @@
  *                         transitive closure (in the spirit of the same-lemma baselines of
  *                         event coreference work; common practice);
  *   online centroid       online TF-IDF centroid clustering with a similarity threshold and
- *                         time decay, scanning every event (in the style of Miranda et al.
+ *                         time decay against every event (in the style of Miranda et al.
  *                         2018, "Multilingual clustering of streaming news", EMNLP);
  *   batch average-link    agglomerative clustering with average linkage over all pairs of
  *                         mentions (cosine x the same time decay), cut at the threshold;
  *                         the nearest-neighbour-chain algorithm (Murtagh 1983) builds the
- *                         full dendrogram in O(n^2) after the O(n^2) similarity matrix.
+ *                         full dendrogram in O(n^2) once, and each threshold is a cut of it.
+ *
+ * Each gives exactly the answer of the all-pairs, all-events version it replaces
+ * (test/helpers/reference-baselines.ts, compared in the tests), found through an inverted
+ * index over the vectors' features: an event or mention sharing no feature scores 0, which
+ * no threshold above 0 accepts. Sums run over features in the same order as the dot
+ * products they replace, so every score is the same number.
  */
 import type { EmbeddedMention, SparseVector, Vector } from '../records.js';
 import { mentionSpan } from '../link/event-state.js';
@@ -36,26 +43,41 @@ export function onePerSubtopic(mentions: readonly EmbeddedMention[], groupOf: (a
 
 /** Shared event-word lemma plus content-word overlap, then transitive closure. */
 export function lexicalOverlap(mentions: readonly EmbeddedMention[], minJaccard = 0.25): Clustering {
-  const terms = mentions.map((m) => new Set(m.terms));
+  // Terms as sorted ids, so an intersection is one merge walk.
+  const ids = new Map<string, number>();
+  const idOf = (t: string): number => {
+    let id = ids.get(t);
+    if (id === undefined) ids.set(t, (id = ids.size));
+    return id;
+  };
+  const terms = mentions.map((m) => Int32Array.from(new Set(m.terms.map(idOf))).sort());
   const parent = mentions.map((_, i) => i);
   const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
   // Only pairs sharing an event-word lemma can link: index mentions by those lemmas.
   const byLemma = new Map<string, number[]>();
-  terms.forEach((ts, i) => {
-    for (const t of ts) if (EVENT_WORDS.has(t)) byLemma.set(t, [...(byLemma.get(t) ?? []), i]);
+  mentions.forEach((m, i) => {
+    for (const t of new Set(m.terms)) if (EVENT_WORDS.has(t)) byLemma.set(t, [...(byLemma.get(t) ?? []), i]);
   });
-  const tried = new Set<number>();
-  for (const list of byLemma.values()) {
-    for (let x = 0; x < list.length; x++) {
-      for (let y = x + 1; y < list.length; y++) {
-        const i = list[x]!;
-        const j = list[y]!;
-        const pair = i * mentions.length + j;
-        if (tried.has(pair)) continue;
-        tried.add(pair);
+  const lemmasOf = mentions.map((m) => [...new Set(m.terms)].filter((t) => EVENT_WORDS.has(t)));
+  // Each pair once: a stamp per later mention instead of a set of every pair tried.
+  const seen = new Int32Array(mentions.length).fill(-1);
+  for (let i = 0; i < mentions.length; i++) {
+    for (const lemma of lemmasOf[i]!) {
+      for (const j of byLemma.get(lemma)!) {
+        if (j <= i || seen[j] === i) continue;
+        seen[j] = i;
+        const a = terms[i]!;
+        const b = terms[j]!;
         let inter = 0;
-        for (const t of terms[i]!) if (terms[j]!.has(t)) inter++;
-        const union = terms[i]!.size + terms[j]!.size - inter;
+        for (let x = 0, y = 0; x < a.length && y < b.length;) {
+          if (a[x] === b[y]) {
+            inter++;
+            x++;
+            y++;
+          } else if (a[x]! < b[y]!) x++;
+          else y++;
+        }
+        const union = a.length + b.length - inter;
         if (union > 0 && inter / union >= minJaccard) parent[find(i)] = find(j);
       }
     }
@@ -63,32 +85,70 @@ export function lexicalOverlap(mentions: readonly EmbeddedMention[], minJaccard 
   return new Map(mentions.map((m, i) => [keyOf(m), [`lex:${find(i)}`]]));
 }
 
-/** Online centroid clustering with a threshold and time decay, scanning every event. */
+/**
+ * Online centroid clustering with a threshold (above 0) and time decay. Each mention is
+ * scored against the events sharing a feature with it (an inverted index of the events'
+ * features); it joins the best, the earliest on a tie, when that reaches the threshold.
+ */
 export function onlineCentroid(byArticle: readonly (readonly EmbeddedMention[])[], threshold: number, halfLifeDays: number): Clustering {
   const events: { sum: Map<number, number>; norm: number; day: number }[] = [];
+  const postings = new Map<number, number[]>();
+  let dot = new Float64Array(1024);
+  let mark = new Int32Array(1024).fill(-1);
   const out: Clustering = new Map();
+  let step = 0;
   for (const mentions of byArticle) {
     for (const m of mentions) {
+      step++;
       const v = m.vector as SparseVector;
       const day = mentionSpan(m)[1];
+      const touched: number[] = [];
+      for (let k = 0; k < v.indices.length; k++) {
+        const posting = postings.get(v.indices[k]!);
+        if (!posting) continue;
+        for (const e of posting) {
+          if (mark[e] !== step) {
+            mark[e] = step;
+            dot[e] = 0;
+            touched.push(e);
+          }
+          dot[e]! += events[e]!.sum.get(v.indices[k]!)! * v.values[k]!;
+        }
+      }
+      touched.sort((a, b) => a - b);
       let best = -1;
       let bestScore = -Infinity;
-      events.forEach((e, i) => {
-        if (e.norm === 0) return;
-        let dot = 0;
-        for (let k = 0; k < v.indices.length; k++) dot += (e.sum.get(v.indices[k]!) ?? 0) * v.values[k]!;
-        const s = (dot / e.norm) * Math.pow(0.5, Math.abs(day - e.day) / halfLifeDays);
+      for (const e of touched) {
+        const ev = events[e]!;
+        if (ev.norm === 0) continue;
+        const s = (dot[e]! / ev.norm) * Math.pow(0.5, Math.abs(day - ev.day) / halfLifeDays);
         if (s > bestScore) {
           bestScore = s;
-          best = i;
+          best = e;
         }
-      });
+      }
       if (best < 0 || bestScore < threshold) {
         events.push({ sum: new Map(), norm: 0, day });
         best = events.length - 1;
+        if (best >= dot.length) {
+          const grownDot = new Float64Array(dot.length * 2);
+          grownDot.set(dot);
+          dot = grownDot;
+          const grownMark = new Int32Array(mark.length * 2).fill(-1);
+          grownMark.set(mark);
+          mark = grownMark;
+        }
       }
       const e = events[best]!;
-      for (let k = 0; k < v.indices.length; k++) e.sum.set(v.indices[k]!, (e.sum.get(v.indices[k]!) ?? 0) + v.values[k]!);
+      for (let k = 0; k < v.indices.length; k++) {
+        const f = v.indices[k]!;
+        if (!e.sum.has(f)) {
+          let posting = postings.get(f);
+          if (!posting) postings.set(f, (posting = []));
+          posting.push(best);
+        }
+        e.sum.set(f, (e.sum.get(f) ?? 0) + v.values[k]!);
+      }
       let sq = 0;
       for (const w of e.sum.values()) sq += w * w;
       e.norm = Math.sqrt(sq);
@@ -119,29 +179,70 @@ export function dot(a: Vector, b: Vector): number {
   return s;
 }
 
-/** Average-link agglomerative clustering over every pair, cut where the average similarity falls below the threshold. */
-export function batchAverageLink(mentions: readonly EmbeddedMention[], threshold: number, halfLifeDays: number): Clustering {
+/** The average-link dendrogram of some mentions, to cut at any threshold. */
+export interface Dendrogram {
+  /** The clustering where merges at or above `threshold` are kept. */
+  cut(threshold: number): Clustering;
+}
+
+/**
+ * Average-link agglomerative clustering over every pair (cosine x time decay), built once.
+ * The similarity matrix is filled through an inverted index: each mention's features,
+ * ascending, add into every earlier mention that has them, in the order a pairwise dot
+ * product would, so the matrix holds the same numbers.
+ */
+export function averageLinkDendrogram(mentions: readonly EmbeddedMention[], halfLifeDays: number): Dendrogram {
   const n = mentions.length;
-  const out: Clustering = new Map();
-  if (n === 0) return out;
-  // Similarity of every pair: the quadratic step the online linker avoids.
   const sim = new Float32Array(n * n);
   const spans = mentions.map(mentionSpan);
-  for (let i = 0; i < n; i++) {
-    for (let j = i + 1; j < n; j++) {
-      const gap = Math.max(0, spans[j]![0] - spans[i]![1], spans[i]![0] - spans[j]![1]);
-      const s = dot(mentions[i]!.vector, mentions[j]!.vector) * Math.pow(0.5, gap / halfLifeDays);
-      sim[i * n + j] = s;
-      sim[j * n + i] = s;
+  const sparse = mentions.every((m) => m.vector.kind === 'sparse');
+  if (sparse) {
+    const postings = new Map<number, { mention: number; value: number }[]>();
+    const acc = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const v = mentions[i]!.vector as SparseVector;
+      acc.fill(0, 0, i);
+      for (let k = 0; k < v.indices.length; k++) {
+        const posting = postings.get(v.indices[k]!);
+        if (posting) for (const p of posting) acc[p.mention]! += p.value * v.values[k]!;
+      }
+      for (let j = 0; j < i; j++) {
+        const gap = Math.max(0, spans[i]![0] - spans[j]![1], spans[j]![0] - spans[i]![1]);
+        const s = acc[j]! * Math.pow(0.5, gap / halfLifeDays);
+        sim[j * n + i] = s;
+        sim[i * n + j] = s;
+      }
+      for (let k = 0; k < v.indices.length; k++) {
+        let posting = postings.get(v.indices[k]!);
+        if (!posting) postings.set(v.indices[k]!, (posting = []));
+        posting.push({ mention: i, value: v.values[k]! });
+      }
+    }
+  } else {
+    for (let i = 0; i < n; i++) {
+      for (let j = i + 1; j < n; j++) {
+        const gap = Math.max(0, spans[j]![0] - spans[i]![1], spans[i]![0] - spans[j]![1]);
+        const s = dot(mentions[i]!.vector, mentions[j]!.vector) * Math.pow(0.5, gap / halfLifeDays);
+        sim[i * n + j] = s;
+        sim[j * n + i] = s;
+      }
     }
   }
-  const merges = nnChain(sim, n);
-  const parent = Array.from({ length: n }, (_, i) => i);
-  const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
-  // Average linkage has no inversions, so the cut keeps exactly the merges at or above it.
-  for (const [a, b, s] of merges) if (s >= threshold) parent[find(a)] = find(b);
-  mentions.forEach((m, i) => out.set(keyOf(m), [`batch:${find(i)}`]));
-  return out;
+  const merges = n > 1 ? nnChain(sim, n) : [];
+  return {
+    cut(threshold) {
+      const parent = Array.from({ length: n }, (_, i) => i);
+      const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)));
+      // Average linkage has no inversions, so the cut keeps exactly the merges at or above it.
+      for (const [a, b, s] of merges) if (s >= threshold) parent[find(a)] = find(b);
+      return new Map(mentions.map((m, i) => [keyOf(m), [`batch:${find(i)}`]]));
+    },
+  };
+}
+
+/** Average-link clustering cut at `threshold` (one dendrogram, one cut). */
+export function batchAverageLink(mentions: readonly EmbeddedMention[], threshold: number, halfLifeDays: number): Clustering {
+  return averageLinkDendrogram(mentions, halfLifeDays).cut(threshold);
 }
 
 /**

@@ -9,34 +9,47 @@ const pct = (x: number): string => (x * 100).toFixed(1);
 
 /** Renders the report as HTML. */
 export function htmlReport(r: EvalReport): string {
-  const sections = r.settings.map((s) => {
-    const rows = s.systems.map((x) => `<tr${x.kind === 'linker' ? ' class="ours"' : ''}><th>${esc(x.name)}</th>${[
-      x.partition.muc, x.partition.b3, x.partition.ceafm, x.partition.ceafe, x.partition.lea, x.partition.blanc,
-    ].map((m) => `<td title="R ${pct(m.recall)} P ${pct(m.precision)}">${pct(m.f1)}</td>`).join('')}<td><b>${pct(x.partition.conllF1)}</b></td><td>${pct(x.extendedBcubed.f1)}</td>${
-      (['withinArticle', 'crossArticle', 'sameStory', 'crossStory'] as const).map((k) => `<td>${x.pairwise[k].goldPairs + x.pairwise[k].systemPairs === 0 ? '–' : `${pct(x.pairwise[k].precision)} / ${pct(x.pairwise[k].recall)} / ${pct(x.pairwise[k].f1)}`}</td>`).join('')
-    }<td>${x.events}</td><td>${x.seconds.toFixed(3)}</td></tr>`).join('\n');
-    return `<h2>${s.setting === 'gold' ? 'Gold mentions' : 'Predicted mentions'}</h2>
-<p>${s.goldMentions} gold mentions; ${s.systemMentions} mentions linked by the system; whole pipeline ${s.pipelineSeconds.toFixed(2)} s.${s.detection ? ` Event-sentence detection: precision ${pct(s.detection.precision)}, recall ${pct(s.detection.recall)}, F1 ${pct(s.detection.f1)}.` : ''}</p>
-<table><thead><tr><th>system</th><th>MUC</th><th>B3</th><th>CEAF-m</th><th>CEAF-e</th><th>LEA</th><th>BLANC</th><th>CoNLL</th><th>ext. B3</th><th>within article</th><th>across articles</th><th>same story</th><th>cross-story</th><th>events</th><th>seconds</th></tr></thead>
-<tbody>${rows}</tbody></table>`;
+  const corpora = r.corpora.map((corpus) => {
+    const i = corpus.input;
+    const settings = corpus.settings.map((s) => {
+      const linker = s.systems.find((x) => x.kind === 'linker')!;
+      const rows = s.systems.map((x) => `<tr${x.kind === 'linker' ? ' class="ours"' : ''}><th>${esc(x.name)}</th>${[
+        x.partition.muc, x.partition.b3, x.partition.ceafm, x.partition.ceafe, x.partition.lea, x.partition.blanc,
+      ].map((m) => `<td title="R ${pct(m.recall)} P ${pct(m.precision)}">${pct(m.f1)}</td>`).join('')}<td><b>${pct(x.partition.conllF1)}</b></td><td>${pct(x.extendedBcubed.f1)}</td><td>${x.best ? `${pct(x.best.conll.value)} at ${x.best.conll.threshold}` : '–'}</td>${
+        (['withinArticle', 'crossArticle', 'sameStory', 'crossStory'] as const).map((k) => `<td>${x.pairwise[k].goldPairs + x.pairwise[k].systemPairs === 0 ? '–' : `${pct(x.pairwise[k].precision)} / ${pct(x.pairwise[k].recall)} / ${pct(x.pairwise[k].f1)}`}</td>`).join('')
+      }<td>${x.events}</td><td>${x.seconds.toFixed(3)}</td></tr>`).join('\n');
+      return `<h3>${s.setting === 'gold' ? 'Gold mentions' : 'Predicted mentions'}</h3>
+<p>${s.goldMentions} gold mentions; ${s.systemMentions} linked by the system; text stage ${s.textSeconds.toFixed(2)} s, link stage ${linker.seconds.toFixed(2)} s.${s.detection ? ` Event-sentence detection: precision ${pct(s.detection.precision)}, recall ${pct(s.detection.recall)}, F1 ${pct(s.detection.f1)}.` : ''}
+The linker's best CoNLL F1 is ${pct(linker.best!.conll.value)} at ${linker.best!.conll.threshold} (regret ${pct(linker.best!.conll.regret)}); its best extended BCubed ${pct(linker.best!.extendedB3.value)} at ${linker.best!.extendedB3.threshold} (regret ${pct(linker.best!.extendedB3.regret)}).
+${s.stories ? `Stories: ${s.stories.stories} for ${s.stories.articles} articles against ${s.stories.groups} ${esc(s.stories.against)} groups: CoNLL ${pct(s.stories.partition.conllF1)}.` : ''}</p>
+<table><thead><tr><th>system</th><th>MUC</th><th>B3</th><th>CEAF-m</th><th>CEAF-e</th><th>LEA</th><th>BLANC</th><th>CoNLL</th><th>ext. B3</th><th>best CoNLL</th><th>within article</th><th>across articles</th><th>same story</th><th>cross-story</th><th>events</th><th>seconds</th></tr></thead>
+<tbody>${rows}</tbody></table>
+${sweepChart(s.sweep, r.configuration.linkThreshold)}`;
+    }).join('\n');
+    return `<h2>${esc(corpus.name)}</h2>
+<p>${esc(corpus.source)}: ${i.articles} articles, ${i.goldLines} gold lines, ${i.goldEvents} gold events, ${i.level}-level gold, ${i.dated ? 'dated' : 'undated'}${i.scoped ? ', scored within the given scope' : ''}.</p>
+${i.multiEventMentions > 0 ? `<p class="note">${i.multiEventMentions} of ${i.goldMentions} gold mentions carry several events: ${esc(MULTI_EVENT_NOTE)}</p>` : ''}
+${settings}`;
   }).join('\n');
+  const overall = r.overall.map((o) => `<p><b>${o.setting} mentions</b>, ${o.corpora} corpus(es): mean CoNLL ${pct(o.meanConll)}, mean extended BCubed ${pct(o.meanExtendedB3)}; largest regret: CoNLL ${pct(o.maxRegretConll)}, extended BCubed ${pct(o.maxRegretExtendedB3)}. The linker at its threshold minus the online baseline at the baseline's best threshold: ${o.versusBaseline.map((v) => `${esc(v.corpus)} CoNLL ${signed(v.conll)}, ext-B3 ${signed(v.extendedB3)}`).join('; ')}.</p>`).join('\n');
   return `<!doctype html>
-<html lang="en"><head><meta charset="utf-8"><title>Strandline evaluation: ${esc(r.source)}</title>
+<html lang="en"><head><meta charset="utf-8"><title>Strandline evaluation</title>
 <style>
 body{font:15px/1.45 system-ui,sans-serif;margin:2rem;color:#1d232b;max-width:1200px}
 table{border-collapse:collapse;margin:.5rem 0 1.5rem;font-size:.9rem}th,td{border-bottom:1px solid #d9dee4;padding:.3rem .5rem;text-align:right}
 th:first-child{text-align:left}tr.ours{background:#eef4fb}.note{color:#5c6773;font-size:.88rem}
 </style></head><body>
 <h1>Strandline evaluation</h1>
-<p>Input: ${esc(r.source)} — ${r.input.articles} articles, ${r.input.goldLines} gold lines, ${r.input.goldEvents} gold events, ${r.input.level}-level gold${r.input.scoped ? ', scored within the given scope' : ''}. Run ${esc(r.created)}. Link threshold ${r.configuration.linkThreshold}, half-life ${r.configuration.halfLifeDays} days.</p>
-${r.input.multiEventMentions > 0 ? `<p class="note">${r.input.multiEventMentions} of ${r.input.goldMentions} gold mentions carry several events: ${esc(MULTI_EVENT_NOTE)}</p>` : ''}
-<p class="note">F1 scores in percent (hover a cell for recall and precision). Link-type columns give pairwise link precision / recall / F1. ${esc(r.primaryRule)} Timings: the linker's is its link step on the prepared mentions; each baseline's is its own clustering of the same mentions.</p>
-${sections}
-${r.sweep ? `<h2>Threshold sweep (${r.sweep.setting} mentions)</h2>${sweepChart(r.sweep.points, r.configuration.linkThreshold)}` : ''}
-<p class="note">Automatic links are machine suggestions; scores here describe how often they agree with human annotation on this input, not on any other.</p>
+<p>Run ${esc(r.created)}. Link threshold ${r.configuration.linkThreshold} (another story's events + ${r.configuration.crossStoryMargin}), story threshold ${r.configuration.storyThreshold}, half-life ${r.configuration.halfLifeDays} days; best thresholds and regret over ${r.thresholds[0]} to ${r.thresholds.at(-1)}.</p>
+<p class="note">F1 scores in percent (hover a cell for recall and precision). Link-type columns give pairwise link precision / recall / F1. Regret: the best score over the thresholds minus the score at the configured one. Baselines run on plain TF-IDF vectors (unigrams). ${esc(r.primaryRule)}</p>
+${corpora}
+${r.corpora.length ? `<h2>Across corpora</h2>${overall}` : ''}
+<p class="note">Automatic links are machine suggestions; scores here describe how often they agree with human annotation on these inputs, not on any other.</p>
 </body></html>
 `;
 }
+
+const signed = (x: number): string => `${x >= 0 ? '+' : ''}${(x * 100).toFixed(1)}`;
 
 /** Precision, recall and F1 (pairwise) and CoNLL F1 against the threshold, as SVG. */
 export function sweepChart(points: readonly SweepPoint[], current: number): string {

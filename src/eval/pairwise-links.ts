@@ -33,26 +33,44 @@ export type PairKind = 'all' | 'withinArticle' | 'crossArticle' | 'sameStory' | 
 export function pairwiseLinkScores(gold: Assignment, system: Assignment, articleOf: (key: string) => string, storyOf?: (article: string) => string | null): Record<PairKind, PairScores> {
   const counts: Record<PairKind, [number, number, number]> = { all: [0, 0, 0], withinArticle: [0, 0, 0], crossArticle: [0, 0, 0], sameStory: [0, 0, 0], crossStory: [0, 0, 0] };
   const keys = [...new Set([...gold.keys(), ...system.keys()])];
+  const index = new Map(keys.map((k, i) => [k, i]));
+  // Only pairs sharing an event on one side or the other count: they are found through the
+  // events' member lists, each pair once (a stamp per partner), never by trying every pair.
+  const members = (a: Assignment): Map<string, number[]> => {
+    const by = new Map<string, number[]>();
+    for (const [k, events] of a) for (const e of events) by.set(e, [...(by.get(e) ?? []), index.get(k)!]);
+    return by;
+  };
+  const groups = [...members(gold).values(), ...members(system).values()];
+  const groupsOf: number[][] = keys.map(() => []);
+  groups.forEach((g, gi) => {
+    for (const i of g) groupsOf[i]!.push(gi);
+  });
+  const seen = new Int32Array(keys.length).fill(-1);
   for (let i = 0; i < keys.length; i++) {
-    for (let j = i + 1; j < keys.length; j++) {
-      const a = keys[i]!;
-      const b = keys[j]!;
-      const g = shares(gold.get(a), gold.get(b));
-      const s = shares(system.get(a), system.get(b));
-      if (!g && !s) continue;
-      const artA = articleOf(a);
-      const artB = articleOf(b);
-      const kinds: PairKind[] = ['all', artA === artB ? 'withinArticle' : 'crossArticle'];
-      if (artA !== artB && storyOf) {
-        const sa = storyOf(artA);
-        const sb = storyOf(artB);
-        if (sa && sb) kinds.push(sa === sb ? 'sameStory' : 'crossStory');
-      }
-      for (const k of kinds) {
-        const c = counts[k];
-        if (g) c[0]++;
-        if (s) c[1]++;
-        if (g && s) c[2]++;
+    const a = keys[i]!;
+    for (const gi of groupsOf[i]!) {
+      for (const j of groups[gi]!) {
+        if (j <= i || seen[j] === i) continue;
+        seen[j] = i;
+        const b = keys[j]!;
+        const g = shares(gold.get(a), gold.get(b));
+        const s = shares(system.get(a), system.get(b));
+        if (!g && !s) continue;
+        const artA = articleOf(a);
+        const artB = articleOf(b);
+        const kinds: PairKind[] = ['all', artA === artB ? 'withinArticle' : 'crossArticle'];
+        if (artA !== artB && storyOf) {
+          const sa = storyOf(artA);
+          const sb = storyOf(artB);
+          if (sa && sb) kinds.push(sa === sb ? 'sameStory' : 'crossStory');
+        }
+        for (const k of kinds) {
+          const c = counts[k];
+          if (g) c[0]++;
+          if (s) c[1]++;
+          if (g && s) c[2]++;
+        }
       }
     }
   }

@@ -1,12 +1,16 @@
 /**
- * Turns evaluation input into what the pipeline and the baselines read: Articles in
- * stream order (publication order where dates exist, then undated ones in file order),
- * the mention selection for each setting, and, for the baselines and the link-step
- * timing, the mentions with their vectors exactly as the pipeline's stages produce them.
+ * Turns evaluation input into what the link stage and the baselines read: Articles in
+ * stream order (publication order where dates exist, then undated ones in file order), the
+ * mention selection for each setting, the articles analysed and their mentions detected
+ * once (the text stage is the costly part, and the same at every threshold), and, for the
+ * baselines, each mention with a plain TF-IDF vector.
  */
+import type { Config } from '../config/schema.js';
 import { ARTICLE_MENTION, type MentionSelection, detectMentions } from '../detect/detect-mentions.js';
+import type { Embedder } from '../embed/embedder.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
 import { contentHash } from '../ingest/to-article.js';
+import type { DetectedWork } from '../pipeline.js';
 import type { Article, EmbeddedMention } from '../records.js';
 import { analyseArticle, presplitText } from '../text/analyse-article.js';
 import type { Nlp } from '../text/nlp.js';
@@ -54,13 +58,28 @@ export function selector(input: EvalInput, setting: Setting): (a: Article) => Me
   return (a) => ({ kind: 'sentences', indices: bySentence.get(a.id) ?? new Set() });
 }
 
-/** Mentions with vectors, per article in stream order, as the pipeline's stages make them. */
-export function prepareMentions(nlp: Nlp, articles: readonly Article[], select: (a: Article) => MentionSelection, detectThreshold: number, hashBits: number): EmbeddedMention[][] {
+/**
+ * Every article analysed and its mentions detected, in stream order, as the text stages
+ * make them. A model without stream-learned statistics (a transformer) embeds the
+ * mentions here, once: every threshold of the sweep then reuses the vectors.
+ */
+export async function detectArticles(nlp: Nlp, articles: readonly Article[], select: (a: Article) => MentionSelection, config: Readonly<Config>, embedder: Embedder): Promise<DetectedWork[]> {
+  const detected = articles.map((article) => detectMentions(analyseArticle(nlp, article), config.detect.threshold, select(article)));
+  if (embedder.learn) return detected;
+  const vectors = await embedder.embed(detected.flatMap((d) => d.mentions));
+  let at = 0;
+  return detected.map((d) => ({ ...d, vectors: vectors.slice(at, (at += d.mentions.length)) }));
+}
+
+/**
+ * Each article's mentions with plain TF-IDF vectors (unigrams, smoothed idf, learned in
+ * stream order over every sentence): what the baselines compare, the standard vectors of
+ * the trade rather than the linker's own settings.
+ */
+export function baselineMentions(detected: readonly DetectedWork[], hashBits: number): EmbeddedMention[][] {
   const embedder = new TfidfEmbedder(hashBits);
-  return articles.map((article) => {
-    const analysed = analyseArticle(nlp, article);
-    const detected = detectMentions(analysed, detectThreshold, select(article));
-    embedder.learn(analysed.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
-    return detected.mentions.map((m) => ({ ...m, vector: embedder.vector(m.terms) }));
+  return detected.map((d) => {
+    embedder.learn(d.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
+    return d.mentions.map((m) => ({ ...m, vector: embedder.vector(m.terms) }));
   });
 }

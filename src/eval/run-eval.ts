@@ -1,106 +1,149 @@
 /**
- * `strandline eval`: runs the input through the same pipeline as live ingest (minus
- * splitting), in one or both settings, scores the answer with every partition metric,
- * extended BCubed and pairwise link scores by link type, and runs the baselines on the
- * same mentions and vectors, side by side. Optionally sweeps the link threshold.
+ * `strandline eval`: runs annotated corpora through the live link stage (the text stage
+ * once per corpus and setting, then admission, embedding, story and event linking,
+ * commits and consolidation on an in-memory store, at the configured threshold and at
+ * every threshold of the sweep), scores the answers with every partition metric, extended
+ * BCubed and pairwise link scores by link type, reports the linker's best threshold and
+ * its regret (the score lost by the configured one), scores the stories, and runs the
+ * baselines on the same mentions, side by side.
  */
-import { NEVER, from, fromEvent, lastValueFrom, takeUntil, toArray } from 'rxjs';
 import type { Config } from '../config/schema.js';
-import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
-import { OnlineLinker } from '../link/online-linker.js';
+import { createEmbedder } from '../embed/create-embedder.js';
+import type { Embedder } from '../embed/embedder.js';
 import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, runPipeline } from '../pipeline.js';
-import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
+import type { ArticleOutcome } from '../pipeline.js';
 import { createNlp } from '../text/nlp.js';
-import { type Clustering, allSingletons, batchAverageLink, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
+import { type Clustering, allSingletons, averageLinkDendrogram, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
+import type { EvalCorpus } from './corpus.js';
 import type { EvalInput } from './eval-input.js';
 import { extendedBcubed } from './extended-bcubed.js';
-import { linkPrepared } from './link-prepared.js';
+import { linkDetected } from './link-detected.js';
 import { type PairKind, type PairScores, pairwiseLinkScores } from './pairwise-links.js';
 import { type PartitionScores, type Score, f1, scorePartitions } from './partition-metrics.js';
-import { type Setting, mentionKey, prepareMentions, selector, toArticles } from './prepare-mentions.js';
+import { type Setting, baselineMentions, detectArticles, mentionKey, selector, toArticles } from './prepare-mentions.js';
 
 /** How to run an evaluation. */
 export interface EvalOptions {
   config: Readonly<Config>;
   settings: readonly Setting[];
-  /** Link thresholds to sweep (gold-mention setting when run, else the first setting), or null. */
-  sweep: readonly number[] | null;
-  /** Name of the input, for the report. */
-  source: string;
+  /** Link thresholds the linker and the thresholded baselines are run at, for best thresholds and regret. */
+  thresholds: readonly number[];
   logger: Logger;
   /** Stops the evaluation between steps (STRAND_STOPPED). */
   signal?: AbortSignal;
 }
 
-/** Scores of one system in one setting. */
+/** Scores of one system in one setting, at the configured threshold. */
 export interface SystemResult {
   name: string;
   kind: 'linker' | 'baseline';
   partition: PartitionScores;
   extendedBcubed: Score;
   pairwise: Record<PairKind, PairScores>;
-  /** Wall time of the system's clustering on prepared mentions, seconds. */
+  /** Wall time of the system's clustering, seconds (the linker's: its link stage). */
   seconds: number;
   events: number;
+  /** For systems with a threshold: their best over the sweep. */
+  best: { conll: Best; extendedB3: Best } | null;
 }
 
-/** Everything measured in one setting. */
-export interface SettingResult {
-  setting: Setting;
-  goldMentions: number;
-  systemMentions: number;
-  /** Mention detection against the gold (predicted setting, sentence-level gold only). */
-  detection: Score | null;
-  /** Wall time of the whole pipeline (analysis, detection, embedding, linking, storing), seconds. */
-  pipelineSeconds: number;
-  /** True when linking the prepared mentions gave the same events as the pipeline run. */
-  linkStepMatchesPipeline: boolean;
-  systems: SystemResult[];
-  /** The linker's answer for every scored mention: the event ids it gave, best first. */
-  answer: { article: string; sentence: number | null; events: string[] }[];
-  rejected: { article: string; reason: string }[];
+/** A system's best score over the sweep, and what the configured threshold gives up. */
+export interface Best {
+  threshold: number;
+  value: number;
+  /** Best value minus the value at the configured threshold (0 when the configured one is best). */
+  regret: number;
 }
 
 /** One point of the threshold sweep. */
 export interface SweepPoint {
   threshold: number;
   conllF1: number;
+  extendedB3F1: number;
   pairwise: { precision: number; recall: number; f1: number };
   b3: Score;
-  /** Extended BCubed F1: every gold event of a sentence counts, not only its first. */
-  extendedB3F1: number;
   /** The online TF-IDF centroid baseline at the same threshold. */
   baseline: { conllF1: number; extendedB3F1: number };
 }
 
-/** The whole evaluation. */
-export interface EvalReport {
+/** Stories scored as a clustering of articles. */
+export interface StoryScore {
+  /** What the articles' stories are compared with. */
+  against: 'subtopic' | 'topic' | 'article-level gold';
+  articles: number;
+  stories: number;
+  groups: number;
+  partition: PartitionScores;
+}
+
+/** Everything measured in one setting of one corpus. */
+export interface SettingResult {
+  setting: Setting;
+  goldMentions: number;
+  systemMentions: number;
+  /** Mention detection against the gold (predicted setting, sentence-level gold only). */
+  detection: Score | null;
+  /** Wall time of the text stage (analysis and detection, once), seconds. */
+  textSeconds: number;
+  systems: SystemResult[];
+  sweep: SweepPoint[];
+  stories: StoryScore | null;
+  /** The linker's answer for every scored mention: the event ids it gave, best first. */
+  answer: { article: string; sentence: number | null; events: string[] }[];
+  rejected: { article: string; reason: string }[];
+}
+
+/** One corpus's report. */
+export interface CorpusReport {
+  name: string;
   source: string;
-  created: string;
   input: {
-    articles: number; level: 'sentence' | 'article'; goldLines: number; goldEvents: number; scoped: boolean; subtopics: boolean;
+    articles: number; level: 'sentence' | 'article'; goldLines: number; goldEvents: number; scoped: boolean; subtopics: boolean; dated: boolean;
     /** Gold mentions (sentences or articles) carrying more than one gold event, and all gold mentions. */
     multiEventMentions: number; goldMentions: number;
   };
-  configuration: { detectThreshold: number; linkThreshold: number; halfLifeDays: number; secondaryMargin: number };
-  primaryRule: string;
   settings: SettingResult[];
-  sweep: { setting: Setting; points: SweepPoint[] } | null;
+}
+
+/** Across corpora, per setting. */
+export interface OverallRow {
+  setting: Setting;
+  corpora: number;
+  meanConll: number;
+  meanExtendedB3: number;
+  maxRegretConll: number;
+  maxRegretExtendedB3: number;
+  /** Per corpus: the linker at the configured threshold minus the online baseline at its best threshold. */
+  versusBaseline: { corpus: string; conll: number; extendedB3: number }[];
+}
+
+/** The whole evaluation. */
+export interface EvalReport {
+  created: string;
+  configuration: { detectThreshold: number; linkThreshold: number; halfLifeDays: number; secondaryMargin: number; crossStoryMargin: number; storyThreshold: number };
+  thresholds: number[];
+  primaryRule: string;
+  corpora: CorpusReport[];
+  overall: OverallRow[];
 }
 
 /**
  * Said when many gold mentions carry several events: the partition scores then count a
- * link to a sentence's other event as wrong, and favour higher thresholds than the
+ * link to a sentence's other events as wrong, and favour higher thresholds than the
  * scores that use every event (extended BCubed, pairwise).
  */
 export const MULTI_EVENT_NOTE =
-  'partition scores give each of these its first gold event only, so a link that matches one of its other events counts as wrong; extended BCubed and the pairwise scores count every event, and are the fairer guide to the threshold on such gold.';
+  'partition scores give each of these one gold event only, so a link that matches one of its other events counts as wrong; extended BCubed and the pairwise scores count every event, and are the fairer guide on such gold.';
 
 /** The rule that picks one gold event per mention for the partition scores. */
 export const PRIMARY_RULE =
-  'Partition scores (MUC, B3, CEAF, LEA, BLANC, CoNLL) need one event per mention: a gold mention takes the event of its first gold line in file order, a system mention its best-scoring link. Extended BCubed and the pairwise scores use every event of every mention.';
+  'Partition scores (MUC, B3, CEAF, LEA, BLANC, CoNLL) need one event per mention: a gold mention takes, of its gold events, the one spanning most articles (the first line on a tie), a system mention its best-scoring link. Extended BCubed and the pairwise scores use every event of every mention.';
+
+/** The default sweep: link thresholds 0.05 to 0.50 in steps of 0.025. */
+export function defaultSweep(): number[] {
+  return Array.from({ length: 19 }, (_, i) => Math.round((0.05 + i * 0.025) * 1000) / 1000);
+}
 
 /** Throws STRAND_STOPPED once `signal` aborted; first lets a pending signal handler run. */
 async function stopIfAsked(signal: AbortSignal | undefined): Promise<void> {
@@ -109,110 +152,196 @@ async function stopIfAsked(signal: AbortSignal | undefined): Promise<void> {
   if (signal.aborted) throw new StrandError('STRAND_STOPPED', 'stopped by a signal before the report was written');
 }
 
-/** Runs the evaluation. */
-export async function runEval(input: EvalInput, o: EvalOptions): Promise<EvalReport> {
-  const log = o.logger.child({ stage: 'eval' });
-  const startedAt = new Date().toISOString();
-  const articles = toArticles(input, o.source, startedAt);
+/** Runs the evaluation over every corpus. */
+export async function runEval(corpora: readonly EvalCorpus[], o: EvalOptions): Promise<EvalReport> {
+  const created = new Date().toISOString();
   const nlp = createNlp();
+  // A transformer model is loaded once; TF-IDF is made fresh for every run (it learns the stream).
+  const model = o.config.embed.kind === 'transformer' ? await createEmbedder(o.config.embed) : undefined;
+  const reports: CorpusReport[] = [];
+  for (const corpus of corpora) reports.push(await evaluateCorpus(corpus, o, { nlp, model, created }));
+  return {
+    created,
+    configuration: {
+      detectThreshold: o.config.detect.threshold, linkThreshold: o.config.link.threshold, halfLifeDays: o.config.link.halfLifeDays,
+      secondaryMargin: o.config.link.secondaryMargin, crossStoryMargin: o.config.link.crossStoryMargin, storyThreshold: o.config.link.storyThreshold,
+    },
+    thresholds: [...o.thresholds],
+    primaryRule: PRIMARY_RULE,
+    corpora: reports,
+    overall: o.settings.map((setting) => overall(setting, reports)),
+  };
+}
+
+async function evaluateCorpus(corpus: EvalCorpus, o: EvalOptions, shared: { nlp: ReturnType<typeof createNlp>; model: Embedder | undefined; created: string }): Promise<CorpusReport> {
+  const { input } = corpus;
+  const log = o.logger.child({ stage: 'eval', corpus: corpus.name });
+  const articles = toArticles(input, corpus.source, shared.created);
   const gold = goldMemberships(input);
   const subtopics = input.articles.some((a) => a.subtopic !== null);
   const meta = new Map(input.articles.map((a) => [a.id, a]));
   const storyOf = subtopics ? (id: string) => meta.get(id)?.subtopic ?? null : undefined;
   const articleOf = (key: string) => key.slice(0, key.lastIndexOf('#'));
   const inScope = (key: string) => !input.scope || input.scope.has(key);
-  const score = (system: Clustering, name: string, kind: SystemResult['kind'], seconds: number): SystemResult => {
-    const g = restrict(gold, inScope);
+  const g = restrict(gold, inScope);
+  const goldPartition = partition(g);
+  const goldSets = toSets(g);
+  const quick = (system: Clustering): { conll: number; ext: number; partition: PartitionScores; pairwise: Record<PairKind, PairScores> } => {
     const s = restrict(system, inScope);
-    return {
-      name, kind, seconds,
-      partition: scorePartitions(partition(g), partition(s)),
-      extendedBcubed: extendedBcubed(toSets(g), toSets(s)),
-      pairwise: pairwiseLinkScores(toSets(g), toSets(s), articleOf, storyOf),
-      events: new Set([...s.values()].flat()).size,
-    };
+    const p = scorePartitions(goldPartition, partition(s));
+    return { conll: p.conllF1, ext: extendedBcubed(goldSets, toSets(s)).f1, partition: p, pairwise: pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf) };
+  };
+  const score = (system: Clustering, name: string, kind: SystemResult['kind'], seconds: number, best: SystemResult['best'] = null): SystemResult => {
+    const s = restrict(system, inScope);
+    const q = quick(system);
+    return { name, kind, seconds, best, partition: q.partition, extendedBcubed: extendedBcubed(goldSets, toSets(s)), pairwise: q.pairwise, events: new Set([...s.values()].flat()).size };
   };
 
   const settings: SettingResult[] = [];
-  let sweep: EvalReport['sweep'] = null;
   for (const setting of o.settings) {
     await stopIfAsked(o.signal);
-    const select = selector(input, setting);
-    const store = openSqliteStore(':memory:');
     const t0 = performance.now();
-    const outcomes = await lastValueFrom(runPipeline(from(articles).pipe(takeUntil(o.signal ? fromEvent(o.signal, 'abort') : NEVER)), {
-      config: o.config, nlp, embedder: new TfidfEmbedder(o.config.embed.hashBits), linker: new OnlineLinker(o.config.link), store, logger: o.logger,
-      now: () => new Date(startedAt), selectMentions: select,
-    }).pipe(toArray()));
-    const pipelineSeconds = (performance.now() - t0) / 1000;
-    await store.close();
-    await stopIfAsked(o.signal);
-    const linked = clusteringOf(outcomes);
+    const detected = await detectArticles(shared.nlp, articles, selector(input, setting), o.config, shared.model ?? (await createEmbedder(o.config.embed)));
+    const textSeconds = (performance.now() - t0) / 1000;
+    const deps = { nlp: shared.nlp, logger: o.logger, now: () => new Date(shared.created), ...(shared.model ? { embedder: shared.model } : {}) };
+    const withThreshold = (t: number): Readonly<Config> => ({ ...o.config, link: { ...o.config.link, threshold: t } });
 
-    const prepared = prepareMentions(nlp, articles, select, o.config.detect.threshold, o.config.embed.hashBits);
-    const flat = prepared.flat();
-    const { clustering: stepOnly, seconds: linkSeconds } = timed(() => linkPrepared(prepared, o.config.link));
-    const result: SettingResult = {
+    // The linker at the configured threshold, then at every threshold of the sweep.
+    const configured = await linkDetected(o.config, detected, deps);
+    const linked = clusteringOf(configured.outcomes);
+    const runs = new Map<number, Clustering>([[o.config.link.threshold, linked]]);
+    for (const t of o.thresholds) {
+      await stopIfAsked(o.signal);
+      if (!runs.has(t)) runs.set(t, clusteringOf((await linkDetected(withThreshold(t), detected, deps)).outcomes));
+    }
+
+    // Baselines on plain TF-IDF vectors of the same mentions.
+    const plain = baselineMentions(detected, o.config.embed.hashBits);
+    const flat = plain.flat();
+    const { halfLifeDays, threshold } = o.config.link;
+    const sweepOf = (run: (t: number) => Clustering) => new Map([threshold, ...o.thresholds].map((t) => [t, quick(run(t))]));
+    let at = performance.now();
+    const online = sweepOf((t) => onlineCentroid(plain, t, halfLifeDays));
+    const onlineSeconds = (performance.now() - at) / 1000 / online.size;
+    at = performance.now();
+    const dendrogram = averageLinkDendrogram(flat, halfLifeDays);
+    const batch = sweepOf((t) => dendrogram.cut(t));
+    const batchSeconds = (performance.now() - at) / 1000;
+    const linkerSweep = new Map([...runs].map(([t, c]) => [t, quick(c)]));
+
+    const groupOf = (id: string) => meta.get(id)?.subtopic ?? meta.get(id)?.topic ?? null;
+    const systems: SystemResult[] = [
+      score(linked, 'Strandline linker', 'linker', configured.seconds, bestOf(linkerSweep, threshold, o.thresholds)),
+      timedScore(() => allSingletons(flat), 'baseline: all singletons', score),
+      timedScore(() => onePerSubtopic(flat, groupOf), 'baseline: one event per subtopic', score),
+      timedScore(() => lexicalOverlap(flat), 'baseline: lexical overlap', score),
+      score(onlineCentroid(plain, threshold, halfLifeDays), 'baseline: online TF-IDF centroid', 'baseline', onlineSeconds, bestOf(online, threshold, o.thresholds)),
+      score(dendrogram.cut(threshold), 'baseline: batch average-link (all pairs)', 'baseline', batchSeconds, bestOf(batch, threshold, o.thresholds)),
+    ];
+    const sweep: SweepPoint[] = o.thresholds.map((t) => {
+      const l = linkerSweep.get(t)!;
+      const b = online.get(t)!;
+      const all = l.pairwise.all;
+      return { threshold: t, conllF1: l.conll, extendedB3F1: l.ext, pairwise: { precision: all.precision, recall: all.recall, f1: all.f1 }, b3: l.partition.b3, baseline: { conllF1: b.conll, extendedB3F1: b.ext } };
+    });
+    log.info({ setting, mentions: flat.length, textSeconds, linkSeconds: configured.seconds }, 'setting scored');
+    settings.push({
       setting,
       goldMentions: [...gold.keys()].filter(inScope).length,
       systemMentions: [...linked.keys()].filter(inScope).length,
       detection: setting === 'predicted' && input.level === 'sentence' ? detectionScore(gold, linked, inScope) : null,
-      pipelineSeconds,
-      linkStepMatchesPipeline: samePartition(stepOnly, linked),
-      systems: [score(linked, 'Strandline linker', 'linker', linkSeconds)],
+      textSeconds,
+      systems,
+      sweep,
+      stories: storyScore(configured.outcomes, input),
       answer: [...linked].filter(([k]) => inScope(k)).map(([k, events]) => ({ article: articleOf(k), sentence: sentenceOf(k), events })),
-      rejected: outcomes.filter((x) => x.status === 'rejected').map((x) => ({ article: x.articleId, reason: x.reason ?? '' })),
-    };
-    const groupOf = (id: string) => meta.get(id)?.subtopic ?? meta.get(id)?.topic ?? null;
-    const { threshold, halfLifeDays } = o.config.link;
-    const baselines: [string, () => Clustering][] = [
-      ['baseline: all singletons', () => allSingletons(flat)],
-      ['baseline: one event per subtopic', () => onePerSubtopic(flat, groupOf)],
-      ['baseline: lexical overlap', () => lexicalOverlap(flat)],
-      ['baseline: online TF-IDF centroid', () => onlineCentroid(prepared, threshold, halfLifeDays)],
-      ['baseline: batch average-link (all pairs)', () => batchAverageLink(flat, threshold, halfLifeDays)],
-    ];
-    for (const [name, run] of baselines) {
-      await stopIfAsked(o.signal);
-      const { clustering, seconds } = timed(run);
-      result.systems.push(score(clustering, name, 'baseline', seconds));
-    }
-    log.info({ setting, mentions: flat.length, seconds: pipelineSeconds }, 'setting scored');
-    settings.push(result);
-
-    const sweepSetting = o.settings.includes('gold') ? 'gold' : o.settings[0];
-    if (o.sweep && setting === sweepSetting) {
-      sweep = {
-        setting,
-        points: o.sweep.map((t) => {
-          const s = score(linkPrepared(prepared, { ...o.config.link, threshold: t }), 'sweep', 'linker', 0);
-          const b = score(onlineCentroid(prepared, t, halfLifeDays), 'sweep', 'baseline', 0);
-          return {
-            threshold: t, conllF1: s.partition.conllF1, pairwise: { precision: s.pairwise.all.precision, recall: s.pairwise.all.recall, f1: s.pairwise.all.f1 }, b3: s.partition.b3,
-            extendedB3F1: s.extendedBcubed.f1, baseline: { conllF1: b.partition.conllF1, extendedB3F1: b.extendedBcubed.f1 },
-          };
-        }),
-      };
-    }
+      rejected: configured.outcomes.filter((x) => x.status === 'rejected').map((x) => ({ article: x.articleId, reason: x.reason ?? '' })),
+    });
   }
   return {
-    source: o.source,
-    created: startedAt,
+    name: corpus.name,
+    source: corpus.source,
     input: {
-      articles: input.articles.length, level: input.level, goldLines: input.gold.length, goldEvents: new Set(input.gold.map((g) => g.event)).size,
-      scoped: input.scope !== null, subtopics,
+      articles: input.articles.length, level: input.level, goldLines: input.gold.length, goldEvents: new Set(input.gold.map((x) => x.event)).size,
+      scoped: input.scope !== null, subtopics, dated: input.articles.some((a) => a.published !== null),
       multiEventMentions: [...gold.values()].filter((events) => events.length > 1).length, goldMentions: gold.size,
     },
-    configuration: { detectThreshold: o.config.detect.threshold, linkThreshold: o.config.link.threshold, halfLifeDays: o.config.link.halfLifeDays, secondaryMargin: o.config.link.secondaryMargin },
-    primaryRule: PRIMARY_RULE,
     settings,
-    sweep,
   };
 }
 
-/** The default sweep: link thresholds 0.05 to 0.50 in steps of 0.025. */
-export function defaultSweep(): number[] {
-  return Array.from({ length: 19 }, (_, i) => Math.round((0.05 + i * 0.025) * 1000) / 1000);
+function timedScore(run: () => Clustering, name: string, score: (c: Clustering, name: string, kind: SystemResult['kind'], seconds: number) => SystemResult): SystemResult {
+  const t0 = performance.now();
+  const c = run();
+  return score(c, name, 'baseline', (performance.now() - t0) / 1000);
+}
+
+/** The best CoNLL and extended BCubed over the sweep, and the regret of the configured threshold. */
+function bestOf(sweep: ReadonlyMap<number, { conll: number; ext: number }>, configured: number, thresholds: readonly number[]): SystemResult['best'] {
+  const pick = (f: (x: { conll: number; ext: number }) => number): Best => {
+    let best = { threshold: configured, value: f(sweep.get(configured)!) };
+    for (const t of thresholds) {
+      const v = f(sweep.get(t)!);
+      if (v > best.value) best = { threshold: t, value: v };
+    }
+    return { ...best, regret: best.value - f(sweep.get(configured)!) };
+  };
+  return { conll: pick((x) => x.conll), extendedB3: pick((x) => x.ext) };
+}
+
+function overall(setting: Setting, reports: readonly CorpusReport[]): OverallRow {
+  const rows = reports.flatMap((r) => r.settings.filter((s) => s.setting === setting).map((s) => ({ corpus: r.name, s })));
+  const linker = (s: SettingResult) => s.systems.find((x) => x.kind === 'linker')!;
+  const online = (s: SettingResult) => s.systems.find((x) => x.name === 'baseline: online TF-IDF centroid')!;
+  const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : 0);
+  return {
+    setting,
+    corpora: rows.length,
+    meanConll: mean(rows.map(({ s }) => linker(s).partition.conllF1)),
+    meanExtendedB3: mean(rows.map(({ s }) => linker(s).extendedBcubed.f1)),
+    maxRegretConll: Math.max(0, ...rows.map(({ s }) => linker(s).best!.conll.regret)),
+    maxRegretExtendedB3: Math.max(0, ...rows.map(({ s }) => linker(s).best!.extendedB3.regret)),
+    versusBaseline: rows.map(({ corpus, s }) => ({
+      corpus,
+      conll: linker(s).partition.conllF1 - online(s).best!.conll.value,
+      extendedB3: linker(s).extendedBcubed.f1 - online(s).best!.extendedB3.value,
+    })),
+  };
+}
+
+/**
+ * The stories as a clustering of articles, against the corpus's story labels: subtopics
+ * where given, else article-level gold events, else topics (coarser than stories; said so).
+ */
+function storyScore(outcomes: readonly ArticleOutcome[], input: EvalInput): StoryScore | null {
+  const storyOf = new Map<string, string>();
+  const redirect = new Map<string, string>();
+  for (const o of outcomes) {
+    if (o.story) storyOf.set(o.articleId, o.story);
+    for (const m of o.storyMerges) redirect.set(m.from, m.into);
+  }
+  const label = new Map<string, string>();
+  let against: StoryScore['against'];
+  if (input.articles.some((a) => a.subtopic !== null)) {
+    against = 'subtopic';
+    for (const a of input.articles) if (a.subtopic !== null) label.set(a.id, a.subtopic);
+  } else if (input.level === 'article') {
+    against = 'article-level gold';
+    for (const g of input.gold) if (!label.has(g.article)) label.set(g.article, g.event);
+  } else if (input.articles.some((a) => a.topic !== null)) {
+    against = 'topic';
+    for (const a of input.articles) if (a.topic !== null) label.set(a.id, a.topic);
+  } else {
+    return null;
+  }
+  const keys = [...label.keys()].filter((id) => storyOf.has(id));
+  if (keys.length === 0) return null;
+  const system = new Map(keys.map((id) => [id, [follow(redirect, storyOf.get(id)!)]]));
+  const key = new Map(keys.map((id) => [id, [label.get(id)!]]));
+  return {
+    against, articles: keys.length, stories: new Set([...system.values()].flat()).size, groups: new Set([...key.values()].flat()).size,
+    partition: scorePartitions(partition(key), partition(system)),
+  };
 }
 
 /** Each mention's events as the pipeline left them: links as made, then merges and splits in order. */
@@ -232,26 +361,30 @@ function clusteringOf(outcomes: readonly ArticleOutcome[]): Clustering {
   return new Map([...assigned].map(([k, events]) => [k, [...new Set(events.map((id) => follow(redirect, id)))]]));
 }
 
-/** The event an id ends up in, following merges. */
+/** The id an id ends up as, following merges. */
 function follow(redirect: ReadonlyMap<string, string>, id: string): string {
   let e = id;
   while (redirect.has(e)) e = redirect.get(e)!;
   return e;
 }
 
-function timed(run: () => Clustering): { clustering: Clustering; seconds: number } {
-  const t0 = performance.now();
-  const clustering = run();
-  return { clustering, seconds: (performance.now() - t0) / 1000 };
-}
-
+/**
+ * Each gold mention's events, the primary one first: the event spanning most articles (a
+ * cross-document event), the first in file order on a tie.
+ */
 function goldMemberships(input: EvalInput): Clustering {
+  const articlesOf = new Map<string, Set<string>>();
+  for (const x of input.gold) articlesOf.set(x.event, (articlesOf.get(x.event) ?? new Set()).add(x.article));
   const out: Clustering = new Map();
-  for (const g of input.gold) {
-    const k = mentionKey(g.article, g.sentence);
+  for (const x of input.gold) {
+    const k = mentionKey(x.article, x.sentence);
     const list = out.get(k) ?? [];
-    if (!list.includes(g.event)) list.push(g.event);
+    if (!list.includes(x.event)) list.push(x.event);
     out.set(k, list);
+  }
+  for (const [k, list] of out) {
+    const first = list.reduce((best, e) => (articlesOf.get(e)!.size > articlesOf.get(best)!.size ? e : best), list[0]!);
+    out.set(k, [first, ...list.filter((e) => e !== first)]);
   }
   return out;
 }
@@ -269,11 +402,6 @@ function partition(c: Clustering): string[][] {
 
 function toSets(c: Clustering): Map<string, Set<string>> {
   return new Map([...c].map(([k, v]) => [k, new Set(v)]));
-}
-
-function samePartition(a: Clustering, b: Clustering): boolean {
-  const canon = (c: Clustering) => partition(c).map((x) => [...x].sort().join(' ')).sort().join('\n');
-  return canon(a) === canon(b);
 }
 
 function detectionScore(gold: Clustering, system: Clustering, inScope: (k: string) => boolean): Score {

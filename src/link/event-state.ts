@@ -39,6 +39,8 @@ export interface EventState {
   touched: number;
   /** The event's mention count when consolidation last examined it for a split; -1: never. */
   splitCheckedAt: number;
+  /** The story of the article that opened it (null before stories were kept). */
+  story: string | null;
 }
 
 /**
@@ -103,6 +105,7 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
     version: 0,
     touched: 0,
     splitCheckedAt: -1,
+    story: null,
   };
   return e;
 }
@@ -219,6 +222,7 @@ export function toRecord(e: EventState): EventRecord {
     lastSeen: e.lastSeen,
     timeStart: dayString(e.timeStart),
     timeEnd: dayString(e.timeEnd),
+    story: e.story,
     participants: topNames(e.participants, 12),
     places: topNames(e.places, 8),
     outlets: [...e.outlets.keys()].sort(),
@@ -235,7 +239,7 @@ export function toRecord(e: EventState): EventRecord {
 export function serialiseEvent(e: EventState): Buffer {
   const header = Buffer.from(JSON.stringify({
     id: e.id, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
-    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version, touched: e.touched, splitCheckedAt: e.splitCheckedAt,
+    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version, touched: e.touched, splitCheckedAt: e.splitCheckedAt, story: e.story,
     participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
     sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
   }));
@@ -257,7 +261,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
     id: string; label?: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
-    mentionCount: number; version: number; touched?: number; splitCheckedAt?: number; participants: [string, [string, number]][]; places: [string, [string, number]][];
+    mentionCount: number; version: number; touched?: number; splitCheckedAt?: number; story?: string | null; participants: [string, [string, number]][]; places: [string, [string, number]][];
     outlets: [string, [number, number]][]; sparse: number; dense: number;
   };
   let at = 4 + hlen;
@@ -276,11 +280,22 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
     explicitTime: h.explicitTime, sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
     participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
     // States written before these were kept: untouched, never examined.
-    touched: h.touched ?? 0, splitCheckedAt: h.splitCheckedAt ?? -1,
+    touched: h.touched ?? 0, splitCheckedAt: h.splitCheckedAt ?? -1, story: h.story ?? null,
   };
 }
 
-function addVector(e: EventState, v: Vector, weight: number, centroidTerms: number, removing = false): void {
+/** A centroid sum: sparse features, or dense values, and its L2 norm. */
+export interface Centroid {
+  sparse: Map<number, number>;
+  dense: Float64Array | null;
+  norm: number;
+}
+
+/**
+ * Adds `weight` x `v` to a centroid sum (mutates it), keeping at most `centroidTerms`
+ * sparse features (the strongest; events and stories alike).
+ */
+export function addVector(e: Centroid, v: Vector, weight: number, centroidTerms: number, removing = false): void {
   if (v.kind === 'dense') {
     e.dense ??= new Float64Array(v.values.length);
     for (let i = 0; i < v.values.length; i++) e.dense[i]! += weight * v.values[i]!;
@@ -335,4 +350,31 @@ function makeLabel(text: string): string {
 
 function dayString(n: number): string {
   return new Date(n * 86_400_000).toISOString().slice(0, 10);
+}
+
+/**
+ * A centroid's `n` strongest features (weight descending, feature ascending on a
+ * tie), chosen by insertion into a short list rather than by sorting every term: the
+ * linkers work this out at every change of an event or story.
+ */
+export function topTermFeatures(e: Centroid, n: number): number[] {
+  const features: number[] = [];
+  const weights: number[] = [];
+  for (const [f, w] of e.sparse) {
+    const full = features.length === n;
+    if (full && (w < weights[n - 1]! || (w === weights[n - 1]! && f > features[n - 1]!))) continue;
+    let i = full ? n - 1 : features.length;
+    if (!full) {
+      features.push(f);
+      weights.push(w);
+    }
+    while (i > 0 && (w > weights[i - 1]! || (w === weights[i - 1]! && f < features[i - 1]!))) {
+      features[i] = features[i - 1]!;
+      weights[i] = weights[i - 1]!;
+      i--;
+    }
+    features[i] = f;
+    weights[i] = w;
+  }
+  return features;
 }

@@ -9,9 +9,11 @@
  * commit leaves the linker exactly as it was.
  */
 import type { EmbeddedMention, Link } from '../records.js';
+import type { LinkTally } from '../store/store.js';
+import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
-import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent, removeMention } from './event-state.js';
+import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent, removeMention, topTermFeatures } from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 import { planSplit, type SplitMember, type SplitPlan } from './split-event.js';
 
@@ -19,7 +21,9 @@ export { eventIdFor } from './event-state.js';
 
 /** Linker settings (see config schema for defaults and reasons). */
 export interface LinkerOptions {
+  /** The link threshold before calibration (calibration.ts). */
   threshold: number;
+  calibration: CalibrationOptions;
   halfLifeDays: number;
   maxCandidates: number;
   postingLimit: number;
@@ -35,6 +39,12 @@ export interface LinkerOptions {
   splitMinMentions: number;
   /** Posting entries read per lookup at most, rarest keys first. */
   lookupBudget: number;
+  /** An event of another story than the mention's article, sharing no name with it, needs threshold + this to be linked. */
+  crossStoryMargin: number;
+  /** Scores grow with the event's size: x (1 + sizePrior x ln mentions), at most x3. */
+  sizePrior: number;
+  /** Events the mention's own article opened score this share. */
+  sameArticleFactor: number;
 }
 
 /** A mention that reached an event's outlet list for the first time. */
@@ -55,6 +65,8 @@ export interface LinkPlan {
   events: EventState[];
   opened: string[];
   outletsAdded: OutletAdded[];
+  /** What the plan adds to the linker's calibration tally. */
+  tally: LinkTally;
 }
 
 /** Further links of one sentence carry half the weight in the event centroid. */
@@ -77,9 +89,12 @@ export class OnlineLinker {
     return key === undefined ? 0 : this.index.eventsWith(key);
   };
 
+  private calibration: Calibration;
+
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
     this.centroids = new CentroidIndex(o.annAbove);
+    this.calibration = new Calibration(o.threshold, o.calibration);
   }
 
   /** Forgets everything (before load() from the store after a failed commit). */
@@ -89,13 +104,16 @@ export class OnlineLinker {
     this.centroids = new CentroidIndex(this.o.annAbove);
     this.clock = 0;
     this.names = new Map();
+    this.calibration = new Calibration(this.o.threshold, this.o.calibration);
   }
 
   /**
    * Rebuilds the in-memory state from stored events in the order the linker touched them,
-   * so the index is the one the running linker held (candidate-index.ts).
+   * so the index is the one the running linker held (candidate-index.ts), and the
+   * calibration tally stored with them.
    */
-  load(states: Iterable<EventState>): void {
+  load(states: Iterable<EventState>, tally: LinkTally = { mentions: 0, high: 0 }): void {
+    this.calibration.load(tally);
     const sorted = [...states].sort((a, b) => a.touched - b.touched || (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1));
     for (const e of sorted) {
       this.events.set(e.id, e);
@@ -141,18 +159,28 @@ export class OnlineLinker {
     return this.events.size;
   }
 
+  /** The link threshold the next mention meets (calibrated on the stream unless fixed). */
+  get threshold(): number {
+    return this.calibration.threshold();
+  }
+
   /** Number of index keys, for statistics. */
   get indexKeys(): number {
     return this.index.keys;
   }
 
-  /** Works out the links for one article's mentions without changing committed state. */
-  plan(mentions: readonly EmbeddedMention[]): LinkPlan {
+  /**
+   * Works out the links for one article's mentions without changing committed state.
+   * `story` is the article's story: events of other stories need a higher score; `resolve`
+   * gives the story an event's story id now lives in (stories merge).
+   */
+  plan(mentions: readonly EmbeddedMention[], story: string | null = null, resolve: (storyId: string) => string = (id) => id): LinkPlan {
     const overlay = new Map<string, EventState>();
     const opened: string[] = [];
     const links: Link[] = [];
     const outletsAdded: OutletAdded[] = [];
     const current = (id: string): EventState | undefined => overlay.get(id) ?? this.events.get(id);
+    const tally: LinkTally = { mentions: 0, high: 0 };
 
     for (const m of mentions) {
       const mkeys = this.mentionKeys(m);
@@ -164,22 +192,38 @@ export class OnlineLinker {
       const scored: ScoredCandidate[] = [];
       for (const id of ids) {
         const e = current(id);
-        if (e) scored.push(scoreCandidate(features, e, this.carriersOf, total, this.o));
+        if (e) scored.push(scoreCandidate(features, e, this.carriersOf, total, this.o, opened.includes(id)));
       }
       scored.sort((a, b) => b.score - a.score || (a.event.id < b.event.id ? -1 : 1));
+      // The threshold as the stream so far sets it, then this mention joins the tally.
+      const threshold = this.calibration.threshold(tally);
+      tally.mentions++;
+      if (this.calibration.isHigh(scored[0]?.score ?? 0)) tally.high++;
 
       const chosen: { sc: ScoredCandidate | null; id: string }[] = [];
-      const best = scored[0];
-      const threshold = this.o.threshold;
-      if (best && best.score >= threshold) {
+      // The bar a candidate must clear: higher for an event of another story that shares
+      // no name with the sentence (a shared participant or place is the stronger evidence
+      // that lets a link cross stories).
+      const bar = (sc: ScoredCandidate): number => {
+        const cross = story !== null && sc.event.story !== null && resolve(sc.event.story) !== story;
+        if (cross) sc.evidence.crossStory = true;
+        const named = sc.evidence.sharedParticipants.length + sc.evidence.sharedPlaces.length > 0;
+        sc.evidence.bar = threshold + (cross && !named ? this.o.crossStoryMargin : 0);
+        return sc.evidence.bar;
+      };
+      const eligible = scored.filter((sc) => sc.score >= bar(sc));
+      const best = eligible[0];
+      if (best) {
         chosen.push({ sc: best, id: best.event.id });
-        for (const sc of scored.slice(1)) {
-          if (chosen.length >= MAX_LINKS_PER_SENTENCE || sc.score < threshold + this.o.secondaryMargin) break;
+        for (const sc of eligible.slice(1)) {
+          if (chosen.length >= MAX_LINKS_PER_SENTENCE || sc.score < bar(sc) + this.o.secondaryMargin) break;
           chosen.push({ sc, id: sc.event.id });
         }
       } else {
         const id = eventIdFor(m);
-        overlay.set(id, openEvent(id, m));
+        const e = openEvent(id, m);
+        e.story = story;
+        overlay.set(id, e);
         opened.push(id);
         chosen.push({ sc: null, id });
       }
@@ -206,7 +250,7 @@ export class OnlineLinker {
     }
     // Touch numbers in plan order; they are stored with the events.
     for (const e of overlay.values()) e.touched = ++this.clock;
-    return { links, events: [...overlay.values()], opened, outletsAdded };
+    return { links, events: [...overlay.values()], opened, outletsAdded, tally };
   }
 
   /**
@@ -321,6 +365,7 @@ export class OnlineLinker {
       this.events.set(e.id, e);
       this.register(e);
     }
+    this.calibration.add(plan.tally);
   }
 }
 
@@ -335,31 +380,4 @@ export interface MergePlan {
   into: string;
   from: string;
   score: number;
-}
-
-/**
- * An event's `n` strongest centroid features (weight descending, feature ascending on a
- * tie), chosen by insertion into a short list rather than by sorting every term: the
- * linker works this out at every change of an event.
- */
-function topTermFeatures(e: EventState, n: number): number[] {
-  const features: number[] = [];
-  const weights: number[] = [];
-  for (const [f, w] of e.sparse) {
-    const full = features.length === n;
-    if (full && (w < weights[n - 1]! || (w === weights[n - 1]! && f > features[n - 1]!))) continue;
-    let i = full ? n - 1 : features.length;
-    if (!full) {
-      features.push(f);
-      weights.push(w);
-    }
-    while (i > 0 && (w > weights[i - 1]! || (w === weights[i - 1]! && f < features[i - 1]!))) {
-      features[i] = features[i - 1]!;
-      weights[i] = weights[i - 1]!;
-      i--;
-    }
-    features[i] = f;
-    weights[i] = w;
-  }
-  return features;
 }

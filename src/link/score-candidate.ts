@@ -5,8 +5,11 @@
  * on dated news).
  *
  *   base  = cosine x 0.5 ^ (gap days / half-life)
- *   score = min(1, base x (1 + overlapWeight x min(1, sum of rarity / ln(2 + E))))
+ *   score = min(1, base x (1 + overlapWeight x min(1, sum of rarity / ln(2 + E))) x size x article)
  *   rarity of a shared name = ln(1 + E / (1 + events with the name)), E = events so far
+ *   size    = min(3, 1 + sizePrior x ln(mentions of the event))   (a Chinese restaurant
+ *             process's prior: an event many sentences report is the likelier home)
+ *   article = sameArticleFactor for an event the mention's own article opened, else 1
  */
 import type { EmbeddedMention, LinkEvidence, Vector } from '../records.js';
 import { type EventState, mentionSpan, nameKey } from './event-state.js';
@@ -15,7 +18,12 @@ import { type EventState, mentionSpan, nameKey } from './event-state.js';
 export interface ScoreOptions {
   halfLifeDays: number;
   overlapWeight: number;
+  sizePrior: number;
+  sameArticleFactor: number;
 }
+
+/** The size prior's multiplier is capped, so one huge event cannot take in everything. */
+const MAX_SIZE_MULTIPLIER = 3;
 
 /** A candidate's score and the evidence for it. */
 export interface ScoredCandidate {
@@ -56,8 +64,11 @@ export function mentionFeatures(m: EmbeddedMention): MentionFeatures {
   };
 }
 
-/** Scores one candidate event for a mention; `carriers` says how many events carry a name now. */
-export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nameKey: string) => number, totalEvents: number, o: ScoreOptions): ScoredCandidate {
+/**
+ * Scores one candidate event for a mention; `carriers` says how many events carry a name
+ * now; `sameArticle` says the mention's own article opened the event.
+ */
+export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nameKey: string) => number, totalEvents: number, o: ScoreOptions, sameArticle = false): ScoredCandidate {
   const m = f.mention;
   const similarity = cosine(m.vector, e);
   const [ms, me] = f.span;
@@ -78,10 +89,15 @@ export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nam
   // close call but never link sentences that share nothing else. On meantime-en an
   // additive bonus of 0.1 cost 3 CoNLL points (common company names in every article).
   const overlapBonus = base * o.overlapWeight * Math.min(1, rarity / Math.log(2 + totalEvents));
-  const score = Math.min(1, base + overlapBonus);
+  const sizeFactor = Math.min(MAX_SIZE_MULTIPLIER, 1 + o.sizePrior * Math.log(Math.max(1, e.mentionCount)));
+  const articleFactor = sameArticle ? o.sameArticleFactor : 1;
+  const score = Math.min(1, (base + overlapBonus) * sizeFactor * articleFactor);
   return {
     event: e,
     score,
-    evidence: { similarity, timeDecay, timeGapDays: gap, sharedParticipants, sharedPlaces, overlapBonus, opened: false },
+    evidence: {
+      similarity, timeDecay, timeGapDays: gap, sharedParticipants, sharedPlaces, overlapBonus, opened: false,
+      ...(sizeFactor !== 1 ? { sizeFactor } : {}), ...(sameArticle ? { sameArticleFactor: articleFactor } : {}),
+    },
   };
 }

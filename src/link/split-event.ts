@@ -87,6 +87,8 @@ export function planSplit(event: EventState, members: readonly SplitMember[], o:
 
   const build = (id: string, ms: readonly SplitMember[]): EventState => {
     const e = openEvent(id, ms[0]!.mention);
+    // Both parts stay in the event's story (a split is within one thread).
+    e.story = event.story;
     for (const m of ms) addMention(e, m.mention, weightOf(m), o.centroidTerms);
     return e;
   };

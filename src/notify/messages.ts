@@ -10,11 +10,13 @@ import type { Subscriber } from '../config/schema.js';
 import type { LinkPlan, MergePlan } from '../link/online-linker.js';
 import type { SplitPlan } from '../link/split-event.js';
 import { type EventState, toRecord } from '../link/event-state.js';
-import type { EmbeddedMention } from '../records.js';
+import type { Article, EmbeddedMention } from '../records.js';
+import type { StoryMergePlan, StoryPlan } from '../link/story-linker.js';
+import { type StoryState, storyRecord } from '../link/story-state.js';
 import type { OutboxMessage } from '../store/store.js';
 
-/** Notification types a subscriber can ask for. */
-export type NotificationType = 'event.opened' | 'event.outlet_added' | 'event.merged' | 'event.split';
+export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.js';
+import type { NotificationType } from './notification-types.js';
 
 /** The outbox messages for one committed plan; none when nobody subscribes. */
 export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
@@ -58,6 +60,33 @@ export function buildSplitMessages(p: SplitPlan, subscribers: readonly Subscribe
   });
   return out;
 }
+
+/**
+ * "story.opened" when an article opens a story, "story.outlet_added" when an outlet reports
+ * on a story for the first time (`independent` false for a copy of another article).
+ */
+export function buildStoryMessages(p: StoryPlan, article: Article, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  const push = messageSink(out, subscribers, now);
+  const about = { article: article.id, title: article.title, outlet: article.outlet, url: article.url, published: article.published };
+  if (p.opened) push('story.opened', p.story.id, { story: storyRecord(p.story), article: about, note: STORY_NOTE });
+  if (p.outletAdded) {
+    push('story.outlet_added', `${p.story.id}\n${article.outlet}`, {
+      story: storyRecord(p.story), outlet: article.outlet, independent: article.duplicateOf === null, article: about,
+      score: p.score, evidence: { similarity: p.similarity, timeGapDays: p.timeGapDays }, note: STORY_NOTE,
+    });
+  }
+  return out;
+}
+
+/** The "story.merged" notification for one consolidation merge of two stories. */
+export function buildStoryMergeMessages(m: StoryMergePlan, merged: StoryState, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  messageSink(out, subscribers, now)('story.merged', `${m.from}\n${m.into}`, { story: storyRecord(merged), mergedFrom: m.from, score: m.score, note: STORY_NOTE });
+  return out;
+}
+
+const STORY_NOTE = 'Automatic grouping: a machine suggestion to verify before publishing or acting on it.';
 
 /** The "event.merged" notification for one consolidation merge. */
 export function buildMergeMessages(m: MergePlan, merged: EventState, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {

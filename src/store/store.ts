@@ -4,6 +4,7 @@
  * same contract test suite. Stages never see a concrete store.
  */
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
+import type { StoryRecord } from '../link/story-state.js';
 
 /** The label of an event whose every sentence has had its text erased. */
 export const ERASED_LABEL = '(text erased under the retention policy)';
@@ -31,6 +32,21 @@ export interface EventUpdate {
   outlets: { outlet: string; mentions: number; independent: number }[];
   /** Serialised linker state (centroid etc.); the store keeps it as bytes. */
   state: Uint8Array;
+}
+
+/** A story's new state: its public record plus the story linker's opaque state. */
+export interface StoryUpdate {
+  record: StoryRecord;
+  state: Uint8Array;
+}
+
+/** One consolidation merge of two stories: `from`'s articles and events move to `into`, and `from` leaves. */
+export interface StoryMergeCommit {
+  into: StoryUpdate;
+  from: string;
+  score: number;
+  at: string;
+  messages: OutboxMessage[];
 }
 
 /** A notification to deliver to webhook subscribers (transactional outbox). */
@@ -102,6 +118,10 @@ export interface MergeRecord {
 /** Everything one article changes, committed atomically. */
 export interface ArticleCommit {
   article: Article;
+  /** The story the article joined or opened (null when it has none). */
+  storyId?: string | null;
+  /** That story's new state, when this commit is the last in its group to change it. */
+  story?: StoryUpdate | null;
   sentences: StoredSentence[];
   /** The article's MinHash sketch (copy detection), or null. */
   sketch?: Uint32Array | null;
@@ -111,7 +131,15 @@ export interface ArticleCommit {
   events: EventUpdate[];
   /** Document-frequency increments of the TF-IDF embedder. */
   idf: { docs: number; df: Map<number, number> } | null;
+  /** Increments of the linker's tally of best-candidate scores (its stream calibration). */
+  tally?: LinkTally | null;
   messages: OutboxMessage[];
+}
+
+/** The linker's count of mentions scored and of those whose best candidate scored high (link/calibration.ts). */
+export interface LinkTally {
+  mentions: number;
+  high: number;
 }
 
 /** What happened to a commit. */
@@ -158,6 +186,10 @@ export interface FeedState {
 export interface LinkerSnapshot {
   events: Uint8Array[];
   idf: { docs: number; df: [number, number][] };
+  tally: LinkTally;
+  stories: Uint8Array[];
+  /** Story merges made, [from, into], oldest first (events keep the story that opened them). */
+  storyMerges: [string, string][];
 }
 
 /** Filters for listing events. */
@@ -171,6 +203,8 @@ export interface EventQuery {
   text?: string | undefined;
   /** Only events reported by at least this many outlets. */
   minOutlets?: number | undefined;
+  /** Only events of this story (after its merges). */
+  story?: string | undefined;
   /** Order: most recent activity first (default), most outlets, or most mentions. */
   sort?: 'recent' | 'outlets' | 'mentions' | undefined;
   limit: number;
@@ -187,6 +221,63 @@ export interface EventSummary extends EventRecord {
 export interface EventPage {
   total: number;
   events: EventSummary[];
+}
+
+/** Filters for listing stories. */
+export interface StoryQuery {
+  /** Stories active on or after this day (YYYY-MM-DD or RFC 3339). */
+  from?: string | undefined;
+  to?: string | undefined;
+  outlet?: string | undefined;
+  /** Words that must appear in the story's label or names. */
+  text?: string | undefined;
+  minOutlets?: number | undefined;
+  /** Most recent activity first (default), most outlets, or most articles. */
+  sort?: 'recent' | 'outlets' | 'articles' | undefined;
+  limit: number;
+  offset: number;
+}
+
+/** One row of a story list. */
+export interface StorySummary extends StoryRecord {
+  /** Events the story holds now. */
+  eventCount: number;
+}
+
+/** A page of stories. */
+export interface StoryPage {
+  total: number;
+  stories: StorySummary[];
+}
+
+/** One article of a story, for its lanes and timeline. */
+export interface StoryArticleRow {
+  id: string;
+  title: string;
+  outlet: string;
+  url: string | null;
+  published: string | null;
+  /** A copy (verbatim or lightly edited) of this earlier article, or null. */
+  duplicateOf: string | null;
+}
+
+/** A story merge as recorded. */
+export interface StoryMergeRecord {
+  from: string;
+  into: string;
+  score: number;
+  at: string;
+}
+
+/** A story with its events and articles. */
+export interface StoryDetail {
+  story: StorySummary;
+  /** Its events, earliest first. */
+  events: EventSummary[];
+  /** Its articles, earliest first. */
+  articles: StoryArticleRow[];
+  /** Stories consolidation merged into this one. */
+  merges: StoryMergeRecord[];
 }
 
 /** One mention of an event, as shown to an analyst. */
@@ -224,7 +315,7 @@ export interface ArticleSentence extends StoredSentence {
 
 /** An article with its sentences and their links. */
 export interface ArticleDetail {
-  article: Omit<Article, 'text'> & { text: string | null };
+  article: Omit<Article, 'text'> & { text: string | null; story: string | null };
   sentences: ArticleSentence[];
 }
 
@@ -235,6 +326,7 @@ export interface StoreCounts {
   mentions: number;
   links: number;
   events: number;
+  stories: number;
 }
 
 /** A webhook delivery attempt record. */
@@ -294,6 +386,14 @@ export interface Store {
   mergedInto(id: string): Promise<string | null>;
   /** Merges into an event, oldest first. */
   mergesInto(id: string): Promise<MergeRecord[]>;
+  /** Merges one story into another: its articles and events move, it leaves, the merge is recorded. */
+  commitStoryMerge(m: StoryMergeCommit): Promise<void>;
+  /** The stories the last `articles` stored articles joined (after merges), most recent first. */
+  recentStoryIds(articles: number): Promise<string[]>;
+  /** The story a merged-away story now lives in (following chains), or null. */
+  storyMergedInto(id: string): Promise<string | null>;
+  listStories(q: StoryQuery): Promise<StoryPage>;
+  getStory(id: string): Promise<StoryDetail | null>;
   /** Everything the linker and embedder need to resume. */
   loadLinkerState(): Promise<LinkerSnapshot>;
   /**

@@ -5,6 +5,7 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import { addMention, deserialiseEvent, mergeStates, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
+import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
 import type { ArticleCommit, OutboxMessage, Store } from '../../src/store/store.js';
 
@@ -19,10 +20,12 @@ function mention(a: Article, index: number, text: string, isCopy = false): Embed
   return { articleId: a.id, sentenceIndex: index, text, outlet: a.outlet, published: a.published!, eventness: 0.8, participants: ['Vellmouth Port Authority'], places: ['Korrin Bay'], times: [], terms, isCopy, vector: embedder.vector(terms) };
 }
 
-/** A commit of one article whose single sentence opens or joins `event`. */
-function commitFor(a: Article, text: string, event: EventState | null, opts: { isCopy?: boolean; messages?: ArticleCommit['messages'] } = {}): { commit: ArticleCommit; event: EventState } {
+/** A commit of one article whose single sentence opens or joins `event` (filed under `story` when given, which it joins). */
+function commitFor(a: Article, text: string, event: EventState | null, opts: { isCopy?: boolean; messages?: ArticleCommit['messages']; story?: StoryState } = {}): { commit: ArticleCommit; event: EventState } {
   const m = mention(a, 0, text, opts.isCopy);
   const e = event ?? openEvent(`ev_${a.id}`, m);
+  if (!event && opts.story) e.story = opts.story.id;
+  if (opts.story) addArticle(opts.story, { id: a.id, title: a.title, outlet: a.outlet, published: a.published!, vector: m.vector, names: [...m.participants, ...m.places], isCopy: Boolean(opts.isCopy) }, 300);
   addMention(e, m, 1, 300);
   const link: Link = { articleId: a.id, sentenceIndex: 0, eventId: e.id, score: event ? 0.42 : 0.8, rank: 0, evidence: { similarity: event ? 0.4 : 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: ['Korrin Bay'], overlapBonus: 0.02, opened: !event } };
   return {
@@ -35,6 +38,7 @@ function commitFor(a: Article, text: string, event: EventState | null, opts: { i
       events: [{ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) }],
       idf: { docs: 2, df: new Map([[7, 1], [9, 2]]) },
       messages: opts.messages ?? [],
+      ...(opts.story ? { storyId: opts.story.id, story: { record: storyRecord(opts.story), state: serialiseStory(opts.story) } } : {}),
     },
   };
 }
@@ -72,7 +76,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.commitArticle(commit)).toBe('stored');
       expect(await store.hasArticle('a1')).toBe(true);
       expect(await store.findByContentHash('hash-a1')).toBe('a1');
-      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1 });
+      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1, stories: 0 });
       const detail = await store.getArticle('a1');
       expect(detail!.article.text).toBe(a.text);
       expect(detail!.sentences.map((s) => [s.index, s.isMention, s.links.map((l) => l.eventId)])).toEqual([[0, true, [event.id]], [1, false, []]]);
@@ -84,7 +88,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const { commit } = commitFor(a, 'A fire destroyed a warehouse.', null);
       await store.commitArticle(commit);
       expect(await store.commitArticle(commit)).toBe('already-stored');
-      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1 });
+      expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1, stories: 0 });
       expect((await store.loadLinkerState()).idf.docs).toBe(2);
     });
 
@@ -176,6 +180,95 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(snap.events.map((b) => deserialiseEvent(b).id).sort()).toEqual([event.id, 'ev_a2'].sort());
       // Everything but the label, which the store keeps with the event record only.
       expect(snap.events.map(deserialiseEvent).find((e) => e.id === event.id)).toEqual({ ...event, label: '' });
+    });
+
+    describe('stories', () => {
+      const levee = () => openStory({ id: 'a1', title: 'Levee fails at Dunvessel', outlet: '', published: '2026-10-05T10:00:00.000Z', vector: embedder.vector([]), names: [], isCopy: false });
+      const bridge = () => openStory({ id: 'a2', title: 'Orlin Bridge span falls', outlet: '', published: '2026-10-12T10:00:00.000Z', vector: embedder.vector([]), names: [], isCopy: false });
+      let s1: StoryState;
+      let s2: StoryState;
+      let e1: EventState;
+      beforeEach(async () => {
+        s1 = levee();
+        s2 = bridge();
+        const first = commitFor(article('a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z', 'x'), 'The levee at Dunvessel failed overnight.', null, { story: s1 });
+        e1 = first.event;
+        await store.commitArticle(first.commit);
+        await store.commitArticle(commitFor(article('a2', 'EBS News', '2026-10-12T10:00:00.000Z', 'y'), 'A span of the Orlin Bridge fell into the river.', null, { story: s2 }).commit);
+        const third = commitFor(article('a3', 'Northwire', '2026-10-13T12:00:00.000Z', 'z'), 'Crews began repairing the Dunvessel levee.', null, { story: s1 });
+        await store.commitArticle(third.commit);
+        // A later article of the first event, in its story (the event's story stays the one that opened it).
+        await store.commitArticle(commitFor(article('a4', 'EBS News', '2026-10-14T09:00:00.000Z', 'w'), 'The levee breach flooded Dunvessel.', deserialiseEvent(serialiseEvent(e1)), { story: s1 }).commit);
+      });
+
+      it('files each article and the events it opened under its story, and counts the stories', async () => {
+        expect((await store.counts()).stories).toBe(2);
+        expect((await store.getArticle('a3'))!.article.story).toBe(s1.id);
+        expect((await store.getEvent('ev_a1'))!.event.story).toBe(s1.id);
+        expect((await store.listEvents({ story: s1.id, limit: 10, offset: 0 })).events.map((e) => e.id).sort()).toEqual(['ev_a1', 'ev_a3']);
+        expect((await store.listEvents({ story: s2.id, limit: 10, offset: 0 })).events.map((e) => e.id)).toEqual(['ev_a2']);
+      });
+
+      it('lists stories, most recently active first, with filters and paging', async () => {
+        const page = await store.listStories({ limit: 1, offset: 0 });
+        expect(page.total).toBe(2);
+        expect(page.stories[0]).toMatchObject({ id: s1.id, label: 'Levee fails at Dunvessel', articleCount: 3, eventCount: 2, outlets: ['EBS News', 'Northwire', 'The Vellmouth Courier'], independentOutlets: 3 });
+        expect((await store.listStories({ limit: 1, offset: 1 })).stories.map((x) => x.id)).toEqual([s2.id]);
+        expect((await store.listStories({ outlet: 'Northwire', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
+        expect((await store.listStories({ text: 'orlin', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s2.id]);
+        expect((await store.listStories({ text: "%' OR 1=1 --", limit: 10, offset: 0 })).total).toBe(0);
+        expect((await store.listStories({ minOutlets: 2, limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
+        expect((await store.listStories({ to: '2026-10-05', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
+        expect((await store.listStories({ from: '2026-10-13', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
+        expect((await store.listStories({ sort: 'articles', limit: 10, offset: 0 })).stories[0]!.id).toBe(s1.id);
+      });
+
+      it('gives a story with its events and its articles, earliest first', async () => {
+        const d = (await store.getStory(s1.id))!;
+        expect(d.story.id).toBe(s1.id);
+        expect(d.events.map((e) => e.id)).toEqual(['ev_a1', 'ev_a3']);
+        expect(d.articles.map((a) => [a.id, a.outlet, a.published])).toEqual([
+          ['a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z'], ['a3', 'Northwire', '2026-10-13T12:00:00.000Z'], ['a4', 'EBS News', '2026-10-14T09:00:00.000Z'],
+        ]);
+        expect(d.merges).toEqual([]);
+        expect(await store.getStory('st_unknown')).toBeNull();
+      });
+
+      it('names the stories of the latest articles, most recent first', async () => {
+        expect(await store.recentStoryIds(1)).toEqual([s1.id]);
+        expect(await store.recentStoryIds(3)).toEqual([s1.id, s2.id]);
+      });
+
+      it('merges one story into another: articles and events move, the absorbed story leaves, the merge is recorded', async () => {
+        const merged = mergeStories(s1, s2, 300);
+        await store.commitStoryMerge({ into: { record: storyRecord(merged), state: serialiseStory(merged) }, from: s2.id, score: 0.55, at: '2026-10-15T00:00:00.000Z', messages: [] });
+        expect(await store.getStory(s2.id)).toBeNull();
+        expect(await store.storyMergedInto(s2.id)).toBe(s1.id);
+        expect(await store.storyMergedInto(s1.id)).toBeNull();
+        const d = (await store.getStory(s1.id))!;
+        expect(d.articles.map((a) => a.id)).toEqual(['a1', 'a2', 'a3', 'a4']);
+        expect(d.events.map((e) => e.id)).toEqual(['ev_a1', 'ev_a2', 'ev_a3']);
+        expect(d.merges).toEqual([{ from: s2.id, into: s1.id, score: 0.55, at: '2026-10-15T00:00:00.000Z' }]);
+        expect((await store.counts()).stories).toBe(1);
+        expect((await store.getArticle('a2'))!.article.story).toBe(s1.id);
+        expect(await store.recentStoryIds(5)).toEqual([s1.id]);
+        // A writer that had not heard of the merge still files its article under the survivor.
+        await store.commitArticle(commitFor(article('a5', 'Northwire', '2026-10-16T09:00:00.000Z', 'v'), 'The bridge reopened.', null, { story: s2 }).commit);
+        expect((await store.getArticle('a5'))!.article.story).toBe(s1.id);
+        expect((await store.getEvent('ev_a5'))!.event.story).toBe(s1.id);
+        expect(await store.getStory(s2.id)).toBeNull();
+        const snap = await store.loadLinkerState();
+        expect(snap.storyMerges).toEqual([[s2.id, s1.id]]);
+      });
+
+      it('keeps the stories for the linker to resume', async () => {
+        const snap = await store.loadLinkerState();
+        const { deserialiseStory } = await import('../../src/link/story-state.js');
+        const states = snap.stories.map(deserialiseStory);
+        expect(states.map((x) => x.id).sort()).toEqual([s1.id, s2.id].sort());
+        expect(states.find((x) => x.id === s1.id)).toEqual(s1);
+        expect(snap.storyMerges).toEqual([]);
+      });
     });
 
     it('queues webhook deliveries with the commit and records attempts, down to the dead-letter list', async () => {

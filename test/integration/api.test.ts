@@ -87,6 +87,45 @@ describe('the query API', () => {
     expect(r.headers.location).toBe(`/api/events/${merge!.into}`);
   });
 
+  it('lists stories, each with its events, outlets and articles counted, with the caution', async () => {
+    const { status, body } = await get('/api/stories?limit=200');
+    expect(status).toBe(200);
+    expect(body.total).toBeGreaterThan(1);
+    expect(body.caution).toMatch(/machine suggestions/);
+    const lastSeen = body.stories.map((s: { lastSeen: string }) => s.lastSeen);
+    expect(lastSeen).toEqual([...lastSeen].sort().reverse());
+    // Every stored article is in exactly one story.
+    expect(body.stories.reduce((n: number, s: { articleCount: number }) => n + s.articleCount, 0)).toBe(101);
+    const wide = (await get('/api/stories?minOutlets=3&sort=outlets&limit=200')).body;
+    expect(wide.stories.every((s: { outlets: string[] }) => s.outlets.length >= 3)).toBe(true);
+    const byOutlet = (await get(`/api/stories?outlet=${encodeURIComponent('Quarrenby Post')}&limit=200`)).body;
+    expect(byOutlet.stories.length).toBeGreaterThan(0);
+    expect(byOutlet.stories.every((s: { outlets: string[] }) => s.outlets.includes('Quarrenby Post'))).toBe(true);
+    expect((await get('/api/stories?q=Orlin&limit=200')).body.total).toBeGreaterThan(0);
+  });
+
+  it('shows one story with its events, its articles by outlet and its timeline; its events filter by story', async () => {
+    const [top] = (await get('/api/stories?sort=articles&limit=1')).body.stories;
+    const { status, body } = await get(`/api/stories/${top.id}`);
+    expect(status).toBe(200);
+    expect(body.story.id).toBe(top.id);
+    expect(body.events.length).toBe(top.eventCount);
+    expect(body.byOutlet.map((g: { outlet: string }) => g.outlet).sort()).toEqual([...top.outlets].sort());
+    expect(body.byOutlet.reduce((n: number, g: { articles: unknown[] }) => n + g.articles.length, 0)).toBe(top.articleCount);
+    expect(body.timeline.reduce((n: number, d: { articles: number }) => n + d.articles, 0)).toBe(top.articleCount);
+    expect(body.timeline.flatMap((d: { newEvents: string[] }) => d.newEvents).sort()).toEqual(body.events.map((e: { id: string }) => e.id).sort());
+    expect(body.caution).toMatch(/machine suggestions/);
+    const events = (await get(`/api/events?story=${top.id}&limit=200`)).body;
+    expect(events.events.map((e: { id: string }) => e.id).sort()).toEqual(body.events.map((e: { id: string }) => e.id).sort());
+    expect(events.events.every((e: { story: string }) => e.story === top.id)).toBe(true);
+    const article = (await get(`/api/articles/${encodeURIComponent(body.byOutlet[0].articles[0].id)}`)).body;
+    expect(article.article.story).toBe(top.id);
+  });
+
+  it('answers an unknown story with 404', async () => {
+    expect(await get('/api/stories/st_0000')).toMatchObject({ status: 404, body: { error: { code: 'STRAND_NOT_FOUND' } } });
+  });
+
   it('answers unknown ids with 404 and a coded error', async () => {
     expect(await get('/api/events/ev_0000')).toMatchObject({ status: 404, body: { error: { code: 'STRAND_NOT_FOUND' } } });
     expect(await get(`/api/articles/${encodeURIComponent('https://nowhere.example/x')}`)).toMatchObject({ status: 404 });
@@ -100,6 +139,11 @@ describe('the query API', () => {
     '/api/events?sort=random',
     '/api/events?unknown=1',
     `/api/events?q=${'x'.repeat(300)}`,
+    `/api/events?story=${'s'.repeat(300)}`,
+    '/api/stories?limit=0',
+    '/api/stories?sort=mentions',
+    '/api/stories?from=tomorrow',
+    "/api/stories?q=%27%20OR%201%3D1%20--&unknown=1",
   ])('refuses a malformed query with 400: %s', async (url) => {
     expect(await get(url)).toMatchObject({ status: 400, body: { error: { code: 'STRAND_REQUEST_INVALID' } } });
   });
@@ -108,7 +152,7 @@ describe('the query API', () => {
     const { status, body } = await get('/openapi.json');
     expect(status).toBe(200);
     expect(body.openapi).toBe('3.1.0');
-    expect(Object.keys(body.paths).sort()).toEqual(['/api/articles/{id}', '/api/events', '/api/events/{id}', '/api/health', '/api/outlets', '/api/webhooks/dead-letters']);
+    expect(Object.keys(body.paths).sort()).toEqual(['/api/articles/{id}', '/api/events', '/api/events/{id}', '/api/health', '/api/outlets', '/api/stories', '/api/stories/{id}', '/api/webhooks/dead-letters']);
     expect(body.info.description).toMatch(/machine suggestions/);
   });
 

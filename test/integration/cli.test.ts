@@ -46,7 +46,7 @@ describe('the command line', () => {
     expect(run('replay', 'demo-feed/feeds', '--db', db, '--no-progress', '--log-level', 'silent').status).toBe(0);
     const r = run('consolidate', '--db', db, '--log-level', 'silent');
     expect(r.status).toBe(0);
-    expect(r.stdout).toMatch(/^examined \d+ event\(s\); merged \d+/);
+    expect(r.stdout).toMatch(/^examined \d+ event\(s\) and \d+ story\(ies\); merged \d+ event\(s\), split \d+, merged \d+ story\(ies\)/);
   });
 
   it('erases text on the operator\'s say and compacts the file, so none of it stays on disk', () => {

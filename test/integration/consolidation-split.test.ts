@@ -5,8 +5,8 @@ import type { Article } from '../../src/records.js';
 import type { Runtime } from '../../src/runtime.js';
 import { buildApp } from '../../src/api/build-app.js';
 import { createLogger } from '../../src/logger.js';
-import { linkPrepared } from '../../src/eval/link-prepared.js';
-import { prepareMentions } from '../../src/eval/prepare-mentions.js';
+import { linkDetected } from '../../src/eval/link-detected.js';
+import { detectArticles } from '../../src/eval/prepare-mentions.js';
 import { testRuntime } from '../helpers/runtime.js';
 
 const SECRET = `whsec_${Buffer.alloc(32, 7).toString('base64')}`;
@@ -37,7 +37,7 @@ describe('consolidation splits an event that drifted', () => {
 
   async function chainedRun(): Promise<string> {
     rt = await testRuntime({
-      link: { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      link: { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
       webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
     });
     const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
@@ -48,14 +48,14 @@ describe('consolidation splits an event that drifted', () => {
 
   it('relabels the event left behind when its label sentence moved, in the store and in the notification alike', async () => {
     rt = await testRuntime({
-      link: { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      link: { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
       webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
     });
     const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'sentences', indices: new Set([0]) }) }).pipe(toArray()));
     const id = outcomes[0]!.assignments[0]!.eventIds[0]!;
     // As if the event had been labelled by a strike report (a split-off part keeps no opener of its own).
     (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('UPDATE events SET label = ? WHERE id = ?').run(TEXTS[5], id);
-    const { splits } = await consolidate(rt, [id]);
+    const { splits } = await consolidate(rt, [id], []);
     expect(splits).toHaveLength(1);
     expect(splits[0]!.moved.map((m) => m.articleId)).toContain('https://pier.example/5');
     expect((await rt.store.getEvent(id))!.event.label).toBe(TEXTS[0]);
@@ -65,7 +65,7 @@ describe('consolidation splits an event that drifted', () => {
 
   it('moves the strike reports to a new event, records the split and notifies subscribers', async () => {
     const id = await chainedRun();
-    const { merges, splits } = await consolidate(rt, [id]);
+    const { merges, splits } = await consolidate(rt, [id], []);
     expect(merges).toEqual([]);
     expect(splits).toHaveLength(1);
     const split = splits[0]!;
@@ -91,7 +91,7 @@ describe('consolidation splits an event that drifted', () => {
     expect(body.data.note).toMatch(/suggestion/);
 
     // A second pass finds nothing more to do, and the API shows the split on both events.
-    expect(await consolidate(rt, [id, split.into])).toEqual({ merges: [], splits: [] });
+    expect(await consolidate(rt, [id, split.into], [])).toEqual({ merges: [], splits: [], storyMerges: [] });
     const app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 7, total: 7, stored: 7, rejected: 0 }) });
     const res = await app.inject({ url: `/api/events/${split.into}` });
     expect(res.statusCode).toBe(200);
@@ -99,25 +99,22 @@ describe('consolidation splits an event that drifted', () => {
     await app.close();
   });
 
-  it('the link step alone (eval cross-check) splits the same way the pipeline and the store do', async () => {
-    const link = { threshold: 0.1, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 7 };
+  it('the evaluation link stage splits the same way the pipeline and the store do', async () => {
+    const link = { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 7 };
     rt = await testRuntime({ link });
     const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
     expect(outcomes.at(-1)!.splits).toHaveLength(1);
-    const ids = new Set([...outcomes.flatMap((o) => o.assignments.flatMap((a) => a.eventIds)), ...outcomes.flatMap((o) => o.splits.map((sp) => sp.into))]);
-    const stored = new Map<string, string[]>();
-    for (const id of [...ids].sort()) {
-      for (const l of await rt.store.linkedMentions(id)) stored.set(l.mention.articleId, [...(stored.get(l.mention.articleId) ?? []), id]);
-    }
-    const prepared = prepareMentions(rt.nlp, articles(), () => ({ kind: 'article' }), rt.config.detect.threshold, rt.config.embed.hashBits);
-    const alone = linkPrepared(prepared, rt.config.link);
-    expect(new Set([...stored.values()].map((evs) => evs.join())).size).toBe(2);
-    expect(new Map([...alone].map(([k, evs]) => [k.replace(/#-1$/, ''), evs]))).toEqual(stored);
+    const detected = await detectArticles(rt.nlp, articles(), () => ({ kind: 'article' }), rt.config, rt.embedder);
+    const alone = await linkDetected(rt.config, detected, { nlp: rt.nlp, logger: createLogger('silent'), now: () => new Date('2026-10-09T10:00:00.000Z') });
+    const last = (os: typeof outcomes) => os.at(-1)!.splits.map((sp) => ({ moved: sp.moved.map((m) => m.articleId).sort(), mentions: sp.moved.length }));
+    expect(last(alone.outcomes)).toEqual(last(outcomes));
+    const groups = (os: typeof outcomes) => os.map((o) => o.assignments.map((a) => a.eventIds.length));
+    expect(groups(alone.outcomes)).toEqual(groups(outcomes));
   });
 
   it('leaves an event whole once one of its mentions had its text erased', async () => {
     const id = await chainedRun();
     await rt.store.eraseArticleText('https://pier.example/5');
-    expect((await consolidate(rt, [id])).splits).toEqual([]);
+    expect((await consolidate(rt, [id], [])).splits).toEqual([]);
   });
 });

@@ -46,7 +46,7 @@ describe('agreement with the demo gold', () => {
     // Chance: the share of gold-sentence pairs that are gold links.
     const n = demoGold().length;
     const chance = scores.all.goldPairs / ((n * (n - 1)) / 2);
-    expect(scores.all.precision).toBeGreaterThan(10 * chance);
+    expect(scores.all.precision).toBeGreaterThan(5 * chance);
     expect(scores.all.recall).toBeGreaterThan(0.1);
     expect(scores.crossStory.agreedPairs).toBeGreaterThan(0);
   });

@@ -44,8 +44,19 @@ function linkRows(db: string): string[] {
   }
 }
 
+/** Each story as its sorted articles, and its record (label, article count, names). */
+function stories(db: string): string[] {
+  const d = new Database(db, { readonly: true });
+  try {
+    return (d.prepare(`SELECT s.id || ' ' || s.article_count || ' ' || s.names || ' ' || (SELECT group_concat(id, ' ') FROM (SELECT id FROM articles a WHERE a.story_id = s.id ORDER BY id))
+      FROM stories s ORDER BY s.id`).pluck().all() as string[]);
+  } finally {
+    d.close();
+  }
+}
+
 describe('a replay killed with SIGKILL and started again', () => {
-  it('stores every article once, no mention twice, and links as an uninterrupted run does, score for score', async () => {
+  it('stores every article once, no mention twice, and gives the stories and events of an uninterrupted run, score for score', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-crash-'));
     const clean = join(dir, 'clean.sqlite');
     const crashed = join(dir, 'crashed.sqlite');
@@ -81,5 +92,7 @@ describe('a replay killed with SIGKILL and started again', () => {
     expect(partition(crashed)).toEqual(partition(clean));
     // Not only the same events: every link's score, as the linker resumes from the store exactly.
     expect(linkRows(crashed)).toEqual(linkRows(clean));
+    expect(stories(crashed)).toEqual(stories(clean));
+    expect(stories(clean).length).toBeGreaterThan(5);
   });
 });

@@ -8,12 +8,17 @@ import type { Article } from '../../src/records.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
-/** Every stored link as article#sentence#rank → event and score, from the file alone. */
-function links(path: string): Map<string, [string, number]> {
+/** Every stored link as article#sentence#rank → event, score and the bar it cleared; each article's story; each story's record; from the file alone. */
+function links(path: string): { links: Map<string, [string, number, number]>; stories: Map<string, string>; records: Map<string, string> } {
   const d = new Database(path, { readonly: true });
   try {
-    const rows = d.prepare('SELECT article_id, sentence_idx, rank, event_id, score FROM links').all() as { article_id: string; sentence_idx: number; rank: number; event_id: string; score: number }[];
-    return new Map(rows.map((r) => [`${r.article_id}#${r.sentence_idx}#${r.rank}`, [r.event_id, r.score]]));
+    const rows = d.prepare('SELECT article_id, sentence_idx, rank, event_id, score, evidence FROM links').all() as { article_id: string; sentence_idx: number; rank: number; event_id: string; score: number; evidence: string }[];
+    const stories = d.prepare('SELECT id, story_id FROM articles').raw().all() as [string, string][];
+    const records = d.prepare('SELECT id, label || article_count || names FROM stories').raw().all() as [string, string][];
+    return {
+      links: new Map(rows.map((r) => [`${r.article_id}#${r.sentence_idx}#${r.rank}`, [r.event_id, r.score, (JSON.parse(r.evidence) as { bar?: number }).bar ?? -1]])),
+      stories: new Map(stories), records: new Map(records),
+    };
   } finally {
     d.close();
   }
@@ -22,7 +27,7 @@ function links(path: string): Map<string, [string, number]> {
 describe('a linker restarted from its store', () => {
   let articles: Article[];
   let dir: string;
-  let uninterrupted: Map<string, [string, number]>;
+  let uninterrupted: ReturnType<typeof links>;
   beforeAll(async () => {
     articles = (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
     dir = mkdtempSync(join(tmpdir(), 'strandline-resume-'));
@@ -30,11 +35,13 @@ describe('a linker restarted from its store', () => {
     await runArticles(rt, articles);
     await rt.close();
     uninterrupted = links(join(dir, 'whole.sqlite'));
+    expect(uninterrupted.records.size).toBeGreaterThan(5);
   });
 
   // Cuts after a consolidation pass (25, 50: consolidateEvery) and in between, so the
-  // restarted linker rebuilds the index, the rarity counts and the split marks from the store.
-  it.each([25, 37, 50, 64, 99])('links exactly as an uninterrupted one, every score bit for bit, when stopped after %i articles', async (cut) => {
+  // restarted linker rebuilds the index, the rarity counts, the split marks, the stories and
+  // the calibration tally from the store.
+  it.each([25, 37, 50, 64, 99])('links and files into stories exactly as an uninterrupted one, every score and calibrated bar bit for bit, when stopped after %i articles', async (cut) => {
     const path = join(dir, `cut-${cut}.sqlite`);
     const first = await testRuntime({}, path);
     await runArticles(first, articles.slice(0, cut));

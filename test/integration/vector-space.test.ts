@@ -51,7 +51,7 @@ describe('the vector space a store was made in', () => {
     await runOn(file, { hashBits: 18 }, articles);
     await runOn(file, { hashBits: 18 }, articles.slice(0, 1));
     const db = new Database(file, { readonly: true });
-    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe('tfidf: hashed unigrams and bigrams, 2^18 features');
+    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe('tfidf: hashed unigrams, 2^18 features, idf^2');
     db.close();
   });
 
@@ -61,6 +61,18 @@ describe('the vector space a store was made in', () => {
     const err = await refusal(file, { hashBits: 20 });
     expect(isStrandError(err, 'STRAND_VECTOR_SPACE_CHANGED')).toBe(true);
     expect(err.message).toMatch(/2\^18 features.*2\^20 features/);
+  });
+
+  it('refuses a store made before the word-evidence settings, saying which settings keep it', async () => {
+    const file = join(scratch(), 'e.sqlite');
+    await runOn(file, { hashBits: 18, bigrams: true, idfPower: 1 }, articles);
+    const db = new Database(file, { readonly: true });
+    // The form stores recorded before embed.bigrams and embed.idfPower existed.
+    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe('tfidf: hashed unigrams and bigrams, 2^18 features');
+    db.close();
+    const err = await refusal(file, { hashBits: 18 });
+    expect(isStrandError(err, 'STRAND_VECTOR_SPACE_CHANGED')).toBe(true);
+    expect(err.message).toMatch(/set them to true and 1/);
   });
 
   it('refuses a transformer on TF-IDF vectors stored before the space was recorded', async () => {

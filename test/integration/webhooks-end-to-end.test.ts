@@ -43,7 +43,7 @@ describe('feeds in, signed notifications out', () => {
     await new Promise((r) => feedServer.close(r));
   });
 
-  it('reads feeds from URLs and delivers "event opened" and "event reached a new outlet", signed', async () => {
+  it('reads feeds from URLs and delivers "event opened", "event reached a new outlet" and their story counterparts, signed', async () => {
     const base = `http://127.0.0.1:${(feedServer.address() as AddressInfo).port}`;
     const summary = await runFeeds(rt, [`${base}/northwire.json`, `${base}/courier.xml`, `${base}/missing.json`]);
     expect(summary.stored).toBe(35);
@@ -53,8 +53,12 @@ describe('feeds in, signed notifications out', () => {
     for (let i = 0; i < 20 && (await rt.store.dueDeliveries(new Date().toISOString(), 1)).length > 0; i++) await dispatcher.tick();
 
     const types = new Set(received.map((r) => r.type));
-    expect(types).toEqual(new Set(['event.opened', 'event.outlet_added']));
+    expect(types).toEqual(expect.objectContaining(new Set(['event.opened', 'event.outlet_added', 'story.opened', 'story.outlet_added'])));
+    expect([...types].every((t) => ['event.opened', 'event.outlet_added', 'event.merged', 'event.split', 'story.opened', 'story.outlet_added', 'story.merged'].includes(t))).toBe(true);
     expect(received.filter((r) => r.type === 'event.opened')).toHaveLength(summary.eventsOpened);
+    expect(received.filter((r) => r.type === 'story.opened')).toHaveLength(summary.storiesOpened);
+    const story = JSON.parse(received.find((r) => r.type === 'story.outlet_added')!.body).data;
+    expect(story).toMatchObject({ story: { id: expect.stringMatching(/^st_/) }, outlet: expect.any(String), score: expect.any(Number), evidence: expect.any(Object), note: expect.stringMatching(/machine suggestion/) });
     const wh = new Webhook(SECRET);
     for (const r of received) {
       expect(() => wh.verify(r.body, { 'webhook-id': r.headers['webhook-id']!, 'webhook-timestamp': r.headers['webhook-timestamp']!, 'webhook-signature': r.headers['webhook-signature']! })).not.toThrow();

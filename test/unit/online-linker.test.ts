@@ -110,6 +110,48 @@ describe('the online linker', () => {
     expect(ev.overlapBonus).toBeGreaterThan(0);
   });
 
+  it('asks more of an event of another story, unless the two share a name', () => {
+    const e = new TfidfEmbedder(16);
+    const fixed = { ...options, threshold: 0.1, calibration: { ...options.calibration, mode: 'fixed' as const }, crossStoryMargin: 0.8 };
+    const [opener, plain, named] = mentions(e, [
+      { article: 'a', terms: ['warehouse', 'fire', 'korrin', 'pier'], published: '2026-10-07T22:00:00Z', names: ['Korrin Pier'] },
+      { article: 'b', terms: ['warehouse', 'fire', 'korrin', 'smoke'], published: '2026-10-08T08:00:00Z' },
+      { article: 'c', terms: ['warehouse', 'fire', 'korrin', 'smoke'], published: '2026-10-08T08:00:00Z', names: ['Korrin Pier'] },
+    ]);
+    const l = new OnlineLinker(fixed);
+    l.apply(l.plan([opener!], 'st_fire'));
+    // The same story: the plain threshold.
+    const same = l.plan([plain!], 'st_fire').links[0]!;
+    expect([same.eventId, same.evidence.crossStory, same.evidence.bar]).toEqual([eventIdFor(opener!), undefined, 0.1]);
+    // Another story, no shared name: threshold + margin, out of reach here.
+    expect(l.plan([plain!], 'st_other').opened).toEqual([eventIdFor(plain!)]);
+    // Another story, a shared place: the plain threshold again, and the link says it crossed.
+    const crossed = l.plan([named!], 'st_other').links[0]!;
+    expect([crossed.eventId, crossed.evidence.crossStory, crossed.evidence.bar]).toEqual([eventIdFor(opener!), true, 0.1]);
+    // A story merged into the event's own counts as the same story.
+    const merged = l.plan([plain!], 'st_other', (id) => (id === 'st_fire' ? 'st_other' : id)).links[0]!;
+    expect(merged.eventId).toBe(eventIdFor(opener!));
+  });
+
+  it('carries the calibration tally in each plan, and resumes with the threshold it had', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(options);
+    const ms = mentions(e, Array.from({ length: 12 }, (_, i) => ({ article: `a${i}`, terms: ['levee', 'breach', i % 3 ? 'dunvessel' : `place${i}`], published: '2026-10-05T12:00:00Z' })));
+    const tally = { mentions: 0, high: 0 };
+    for (const m of ms) {
+      const p = l.plan([m]);
+      expect(p.tally.mentions).toBe(1);
+      tally.mentions += p.tally.mentions;
+      tally.high += p.tally.high;
+      l.apply(p);
+    }
+    expect(tally.high).toBeGreaterThan(0);
+    const resumed = new OnlineLinker(options);
+    resumed.load([], tally);
+    expect(resumed.threshold).toBe(l.threshold);
+    expect(l.threshold).not.toBe(new OnlineLinker(options).threshold);
+  });
+
   it('changes nothing until a plan is applied', () => {
     const e = new TfidfEmbedder(16);
     const l = new OnlineLinker(options);

@@ -21,7 +21,7 @@ describe('the TF-IDF embedder', () => {
     expect(e.idf(fnv1a('levee') & 0xffff)).toBeCloseTo(Math.log(4 / 2) + 1, 10);
   });
 
-  it('produces L2-normalised sparse vectors with sorted indices and bigrams', async () => {
+  it('produces L2-normalised sparse vectors with sorted indices, unigrams only by default', async () => {
     const e = new TfidfEmbedder(16);
     e.learn([{ text: '', terms: ['a', 'b'] }]);
     const [v] = await e.embed([{ text: '', terms: ['a', 'b', 'a'] }]);
@@ -30,8 +30,27 @@ describe('the TF-IDF embedder', () => {
     expect(Math.hypot(...values)).toBeCloseTo(1, 6);
     const idx = [...(v as { indices: Uint32Array }).indices];
     expect(idx).toEqual([...idx].sort((x, y) => x - y));
+    expect(idx).toHaveLength(2);
+  });
+
+  it('adds hashed adjacent bigrams when asked', () => {
     // a, b, "a b", "b a": four distinct features.
-    expect(idx).toHaveLength(4);
+    expect(new TfidfEmbedder(16, { bigrams: true }).vector(['a', 'b', 'a']).indices).toHaveLength(4);
+  });
+
+  it('raises idf to idfPower, weighing rare terms further up', () => {
+    const plain = new TfidfEmbedder(16);
+    const sharp = new TfidfEmbedder(16, { idfPower: 2 });
+    const docs = [{ text: '', terms: ['levee', 'river'] }, { text: '', terms: ['river'] }, { text: '', terms: ['river', 'bank'] }];
+    plain.learn(docs);
+    sharp.learn(docs);
+    const h = fnv1a('levee') & 0xffff;
+    expect(sharp.idf(h)).toBeCloseTo(plain.idf(h) ** 2, 10);
+    const share = (e: TfidfEmbedder) => {
+      const v = e.vector(['levee', 'river']);
+      return v.values[[...v.indices].indexOf(h)]!;
+    };
+    expect(share(sharp)).toBeGreaterThan(share(plain));
   });
 
   it('weighs repeated terms sublinearly (1 + ln tf)', () => {

@@ -5,14 +5,14 @@ import type { EventMention, Store } from '../../store/store.js';
 import { CAUTION, getEventSchema, listEventsSchema } from '../schemas.js';
 
 interface ListQuery {
-  from?: string; to?: string; outlet?: string; q?: string; minOutlets?: number; sort?: 'recent' | 'outlets' | 'mentions'; limit: number; offset: number;
+  from?: string; to?: string; outlet?: string; q?: string; minOutlets?: number; story?: string; sort?: 'recent' | 'outlets' | 'mentions'; limit: number; offset: number;
 }
 
 /** Registers /api/events and /api/events/:id. */
 export function registerEventRoutes(app: FastifyInstance, store: Store): void {
   app.get<{ Querystring: ListQuery }>('/api/events', { schema: listEventsSchema }, async (req) => {
     const q = req.query;
-    const page = await store.listEvents({ from: q.from, to: q.to, outlet: q.outlet, text: q.q, minOutlets: q.minOutlets, sort: q.sort, limit: q.limit, offset: q.offset });
+    const page = await store.listEvents({ from: q.from, to: q.to, outlet: q.outlet, text: q.q, minOutlets: q.minOutlets, story: q.story, sort: q.sort, limit: q.limit, offset: q.offset });
     return { ...page, caution: CAUTION };
   });
 

@@ -11,11 +11,13 @@ export async function consolidateCommand(opts: CommonOptions): Promise<number> {
   const stop = listenForStop('consolidation');
   try {
     const ids = await rt.store.recentEventIds(Number.MAX_SAFE_INTEGER);
-    const { merges, splits } = await consolidate(rt, ids, stop.signal);
+    const storyIds = await rt.store.recentStoryIds(Number.MAX_SAFE_INTEGER);
+    const { merges, splits, storyMerges } = await consolidate(rt, ids, storyIds, stop.signal);
     const lines = [
-      `${stop.received() ? `stopped by ${stop.received()} part-way; ` : ''}examined ${ids.length} event(s); merged ${merges.length}, split ${splits.length}`,
+      `${stop.received() ? `stopped by ${stop.received()} part-way; ` : ''}examined ${ids.length} event(s) and ${storyIds.length} story(ies); merged ${merges.length} event(s), split ${splits.length}, merged ${storyMerges.length} story(ies)`,
       ...merges.map((m) => `  merged ${m.from} -> ${m.into} (score ${m.score.toFixed(3)})`),
       ...splits.map((s) => `  split  ${s.into} off ${s.from}: ${s.moved.length} mention(s) moved (parts alike ${s.score.toFixed(3)})`),
+      ...storyMerges.map((m) => `  merged story ${m.from} -> ${m.into} (score ${m.score.toFixed(3)})`),
     ];
     process.stdout.write(`${lines.join('\n')}\n`);
     return stop.exitCode(0);

@@ -27,6 +27,8 @@ export interface Keyspace {
   /** Hash: hashed TF-IDF feature → document frequency; and the document count. */
   readonly idf: string;
   readonly idfDocs: string;
+  /** The linker's tally (link/calibration.ts): a hash of mentions and high. */
+  readonly linkTally: string;
   /** Hash: absorbed event id → JSON {into, score, at}. */
   readonly merges: string;
   /** Hash: event opened by a split → JSON {from, mentions, score, at}. */
@@ -43,6 +45,18 @@ export interface Keyspace {
   readonly settledIndexed: string;
   /** String: the vector space of the partition's vectors (vector-space.ts). */
   readonly vectorSpace: string;
+  /** Sorted set of story ids by last activity, ms. */
+  readonly stories: string;
+  /** Hash: absorbed story id → `<into>\n<score>\n<at>`. */
+  readonly storyMerges: string;
+  /** Hash: record, label and state of a story. */
+  story(id: string): string;
+  /** Sorted set of a story's article ids by publication (or fetch) time, ms. */
+  storyArticles(id: string): string;
+  /** Set of a story's event ids. */
+  storyEvents(id: string): string;
+  /** Set of story ids merged into a story. */
+  storyMergedInto(id: string): string;
   article(id: string): string;
   sentences(articleId: string): string;
   sentenceText(articleId: string): string;
@@ -95,6 +109,7 @@ export function keyspace(partition: string): Keyspace {
     events: `${p}:events`,
     idf: `${p}:idf`,
     idfDocs: `${p}:idf-docs`,
+    linkTally: `${p}:link-tally`,
     merges: `${p}:merges`,
     splits: `${p}:splits`,
     feeds: `${p}:feeds`,
@@ -105,6 +120,12 @@ export function keyspace(partition: string): Keyspace {
     settled: `${p}:settled`,
     settledIndexed: `${p}:settled-indexed`,
     vectorSpace: `${p}:vector-space`,
+    stories: `${p}:stories`,
+    storyMerges: `${p}:story-merges`,
+    story: (id) => `${p}:story:${id}`,
+    storyArticles: (id) => `${p}:story-articles:${id}`,
+    storyEvents: (id) => `${p}:story-events:${id}`,
+    storyMergedInto: (id) => `${p}:story-merged-into:${id}`,
     article: (id) => `${p}:article:${id}`,
     sentences: (id) => `${p}:sentences:${id}`,
     sentenceText: (id) => `${p}:sentence-text:${id}`,

@@ -18,6 +18,7 @@ import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
+  StoryDetail, StoryMergeCommit, StoryPage, StoryQuery, StorySummary, StoryUpdate,
   EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
 } from '../store.js';
 import { ERASED_LABEL } from '../store.js';
@@ -44,6 +45,7 @@ interface Scripts {
   commitMerge: Script;
   commitSplit: Script;
   putStates: Script;
+  commitStoryMerge: Script;
   eraseArticle: Script;
   pruneNotifications: Script;
   setIfUnchanged: Script;
@@ -83,6 +85,7 @@ export class RedisStore implements Store {
       commitMerge: defineScript(redis, 'commit-merge'),
       commitSplit: defineScript(redis, 'commit-split'),
       putStates: defineScript(redis, 'put-states'),
+      commitStoryMerge: defineScript(redis, 'commit-story-merge'),
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
       setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
@@ -137,7 +140,10 @@ export class RedisStore implements Store {
       }), ...(m.vector ? [encodeVector(m.vector).toString('base64')] : [])]),
       links: c.links.map((l) => [String(l.sentenceIndex), l.eventId, JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence })]),
       events: c.events.map((e) => eventPayload(e, states)),
+      storyId: c.storyId ?? null,
+      story: c.story ? storyPayload(c.story, states) : null,
       idf: c.idf && (c.idf.docs > 0 || c.idf.df.size > 0) ? { docs: c.idf.docs, df: [...c.idf.df].flat() } : null,
+      tally: c.tally && c.tally.mentions > 0 ? c.tally : null,
       messages: messagePayload(c.messages),
     }));
     try {
@@ -156,6 +162,101 @@ export class RedisStore implements Store {
     } catch (err) {
       throw writeError(err, `cannot merge ${m.from} into ${m.into.record.id}`);
     }
+  }
+
+  async commitStoryMerge(m: StoryMergeCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = { fence: this.fence, from: m.from, into: storyPayload(m.into, states), merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
+    try {
+      await this.scripts.commitStoryMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
+    } catch (err) {
+      throw writeError(err, `cannot merge story ${m.from} into ${m.into.record.id}`);
+    }
+  }
+
+  async recentStoryIds(articles: number): Promise<string[]> {
+    const ids = await this.redis.zrevrange(this.k.articles, 0, articles - 1);
+    const stories = await this.pipelined(ids, (p, id) => p.hget(this.k.article(id), 'story')) as (string | null)[];
+    const current = await this.currentStories(stories.filter((x): x is string => x !== null));
+    return [...new Set(stories.flatMap((x) => (x === null ? [] : [current.get(x)!])))];
+  }
+
+  async storyMergedInto(id: string): Promise<string | null> {
+    const into = (await this.currentStories([id])).get(id)!;
+    return into === id ? null : into;
+  }
+
+  async listStories(q: StoryQuery): Promise<StoryPage> {
+    const from = q.from ? Date.parse(q.from) : -Infinity;
+    const ids = await this.redis.zrangebyscore(this.k.stories, Number.isFinite(from) ? from : '-inf', '+inf');
+    let stories = await this.storySummaries(ids);
+    const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
+    if (to) stories = stories.filter((s) => s.firstSeen <= to);
+    if (q.outlet) stories = stories.filter((s) => s.outlets.includes(q.outlet!));
+    if (q.minOutlets) stories = stories.filter((s) => s.outlets.length >= q.minOutlets!);
+    const words = (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).map((w) => w.toLowerCase());
+    if (words.length) {
+      const titles = await Promise.all(stories.map(async (s) => (await this.storyArticles(s.id)).map((a) => a.title)));
+      stories = stories.filter((s, i) => {
+        const hay = [s.label, ...s.names, ...titles[i]!].map((t) => t.toLowerCase());
+        return words.every((w) => hay.some((t) => t.includes(w)));
+      });
+    }
+    const byRecent = (a: StorySummary, b: StorySummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
+    const order = q.sort === 'outlets' ? (a: StorySummary, b: StorySummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
+      : q.sort === 'articles' ? (a: StorySummary, b: StorySummary) => b.articleCount - a.articleCount || byRecent(a, b)
+        : byRecent;
+    stories.sort(order);
+    return { total: stories.length, stories: stories.slice(q.offset, q.offset + q.limit) };
+  }
+
+  async getStory(id: string): Promise<StoryDetail | null> {
+    const [story] = await this.storySummaries([id]);
+    if (!story) return null;
+    const eventIds = await this.redis.smembers(this.k.storyEvents(id));
+    const events = (await this.summaries(eventIds)).sort((a, b) => cmp(a.firstSeen, b.firstSeen) || cmp(a.id, b.id));
+    const from = await this.redis.smembers(this.k.storyMergedInto(id));
+    const recs = from.length ? await this.redis.hmget(this.k.storyMerges, ...from) : [];
+    const merges = from.map((f, i) => parseMerge(f, recs[i]!)).sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from));
+    return { story, events, articles: await this.storyArticles(id), merges };
+  }
+
+  /** A story's articles, earliest first. */
+  private async storyArticles(id: string): Promise<StoryDetail['articles']> {
+    const ids = await this.redis.zrange(this.k.storyArticles(id), '0', '-1');
+    const metas = await this.pipelined(ids, (p, a) => p.hget(this.k.article(a), 'meta')) as (string | null)[];
+    return metas.flatMap((m) => {
+      if (!m) return [];
+      const a = JSON.parse(m) as ArticleMeta;
+      return [{ id: a.id, title: a.title, outlet: a.outlet, url: a.url, published: a.published, duplicateOf: a.duplicateOf }];
+    });
+  }
+
+  private async storySummaries(ids: readonly string[]): Promise<StorySummary[]> {
+    const rows = await this.pipelined(ids, (p, id) => p.hmget(this.k.story(id), 'record', 'label').scard(this.k.storyEvents(id))) as unknown[];
+    return ids.flatMap((id, i) => {
+      const [record, label] = rows[i * 2] as (string | null)[];
+      if (!record) return [];
+      const r = JSON.parse(record) as Omit<StorySummary, 'id' | 'label' | 'eventCount'>;
+      return [{ id, label: label!, ...r, eventCount: rows[i * 2 + 1] as number }];
+    });
+  }
+
+  /** Each story id → the story it now lives in (itself when never merged), following merges. */
+  private async currentStories(ids: readonly string[]): Promise<Map<string, string>> {
+    const out = new Map<string, string>();
+    let open = [...new Set(ids)].map((id) => [id, id] as [string, string]);
+    for (let hop = 0; open.length > 0 && hop < 64; hop++) {
+      const recs = await this.redis.hmget(this.k.storyMerges, ...open.map(([, at]) => at));
+      const next: [string, string][] = [];
+      open.forEach(([start, at], i) => {
+        if (recs[i]) next.push([start, splitMember(recs[i]!)[0]]);
+        else out.set(start, at);
+      });
+      open = next;
+    }
+    for (const [start, at] of open) out.set(start, at);
+    return out;
   }
 
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
@@ -256,16 +357,29 @@ export class RedisStore implements Store {
   async loadLinkerState(): Promise<LinkerSnapshot> {
     const ids = await this.redis.zrange(this.k.events, '0', '-1');
     const states = await this.pipelined(ids, (p, id) => p.hgetBuffer(this.k.event(id), 'state')) as (Buffer | null)[];
-    const [docs, df] = await Promise.all([this.redis.get(this.k.idfDocs), this.redis.hgetall(this.k.idf)]);
+    const storyIds = await this.redis.zrange(this.k.stories, '0', '-1');
+    const storyStates = await this.pipelined(storyIds, (p, id) => p.hgetBuffer(this.k.story(id), 'state')) as (Buffer | null)[];
+    const [docs, df, merges, tally] = await Promise.all([
+      this.redis.get(this.k.idfDocs), this.redis.hgetall(this.k.idf), this.redis.hgetall(this.k.storyMerges), this.redis.hmget(this.k.linkTally, 'mentions', 'high'),
+    ]);
+    const bytes = (bs: (Buffer | null)[]): Uint8Array[] => bs.filter((b): b is Buffer => b !== null).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength));
     return {
-      events: states.filter((b): b is Buffer => b !== null).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength)),
+      events: bytes(states),
       idf: { docs: Number(docs ?? 0), df: Object.entries(df).map(([f, n]) => [Number(f), Number(n)]) },
+      tally: { mentions: Number(tally[0] ?? 0), high: Number(tally[1] ?? 0) },
+      stories: bytes(storyStates),
+      storyMerges: Object.entries(merges).map(([from, rec]) => parseMerge(from, rec)).sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from)).map((m) => [m.from, m.into]),
     };
   }
 
   async listEvents(q: EventQuery): Promise<EventPage> {
     const from = q.from ? Date.parse(q.from) : -Infinity;
-    const ids = await this.redis.zrangebyscore(this.k.events, Number.isFinite(from) ? from : '-inf', '+inf');
+    let ids = await this.redis.zrangebyscore(this.k.events, Number.isFinite(from) ? from : '-inf', '+inf');
+    if (q.story) {
+      // The story as it now stands: a merged-away id names its survivor's events.
+      const inStory = new Set(await this.redis.smembers(this.k.storyEvents((await this.currentStories([q.story])).get(q.story)!)));
+      ids = ids.filter((id) => inStory.has(id));
+    }
     let events = await this.summaries(ids);
     const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
     if (to) events = events.filter((e) => e.firstSeen <= to);
@@ -333,8 +447,9 @@ export class RedisStore implements Store {
       .map(([idx, v]) => ({ index: Number(idx), ...(JSON.parse(v) as { start: number; end: number; eventness: number }) }))
       .sort((x, y) => x.index - y.index);
     const meta = JSON.parse(article.meta) as ArticleMeta;
+    const story = article.story ? (await this.currentStories([article.story])).get(article.story)! : null;
     return {
-      article: { ...meta, text: article.text ?? null },
+      article: { ...meta, text: article.text ?? null, story },
       sentences: sentenceRows.map((s) => ({
         index: s.index, text: texts[String(s.index)] ?? '', start: s.start, end: s.end, eventness: s.eventness,
         isMention: isMention.has(s.index),
@@ -351,7 +466,7 @@ export class RedisStore implements Store {
   async counts(): Promise<StoreCounts> {
     const c = await this.redis.hgetall(this.k.counts);
     const n = (f: string) => Number(c[f] ?? 0);
-    return { articles: n('articles'), sentences: n('sentences'), mentions: n('mentions'), links: n('links'), events: n('events') };
+    return { articles: n('articles'), sentences: n('sentences'), mentions: n('mentions'), links: n('links'), events: n('events'), stories: n('stories') };
   }
 
   async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
@@ -501,11 +616,14 @@ export class RedisStore implements Store {
 
   private async summaries(ids: readonly string[]): Promise<EventSummary[]> {
     const rows = await this.pipelined(ids, (p, id) => p.hmget(this.k.event(id), 'record', 'label', 'outlets')) as (string | null)[][];
-    return rows.flatMap(([record, label, outlets], i) => {
-      if (!record) return [];
-      const r = JSON.parse(record) as Omit<EventSummary, 'id' | 'label' | 'outlets' | 'independentOutlets'>;
+    const parsed = rows.map(([record]) => (record ? JSON.parse(record) as Omit<EventSummary, 'id' | 'label' | 'outlets' | 'independentOutlets'> : null));
+    // An event keeps the story that opened it; the story it lives in now follows merges.
+    const stories = await this.currentStories(parsed.flatMap((r) => (r?.story ? [r.story] : [])));
+    return rows.flatMap(([, label, outlets], i) => {
+      const r = parsed[i];
+      if (!r) return [];
       const o = JSON.parse(outlets!) as EventUpdate['outlets'];
-      return [{ id: ids[i]!, label: label!, ...r, outlets: o.map((x) => x.outlet).sort(), independentOutlets: o.filter((x) => x.independent > 0).length }];
+      return [{ id: ids[i]!, label: label!, ...r, story: r.story ? stories.get(r.story)! : null, outlets: o.map((x) => x.outlet).sort(), independentOutlets: o.filter((x) => x.independent > 0).length }];
     });
   }
 
@@ -551,10 +669,17 @@ function articleMeta(a: Article): ArticleMeta {
 }
 
 /** An event as the scripts take it; its state goes into `states` and is referred to by number. */
-function eventPayload(e: EventUpdate, states: Buffer[]): { id: string; record: string; label: string; outlets: string; lastSeen: number; state: number } {
+function eventPayload(e: EventUpdate, states: Buffer[]): { id: string; record: string; label: string; outlets: string; lastSeen: number; state: number; story: string | null } {
   const { id, label, outlets: _names, ...record } = e.record;
   states.push(Buffer.from(e.state.buffer, e.state.byteOffset, e.state.byteLength));
-  return { id, record: JSON.stringify(record), label, outlets: JSON.stringify(e.outlets), lastSeen: Date.parse(e.record.lastSeen), state: states.length };
+  return { id, record: JSON.stringify(record), label, outlets: JSON.stringify(e.outlets), lastSeen: Date.parse(e.record.lastSeen), state: states.length, story: e.record.story };
+}
+
+/** A story as the scripts take it (as eventPayload). */
+function storyPayload(s: StoryUpdate, states: Buffer[]): { id: string; record: string; label: string; lastSeen: number; state: number } {
+  const { id, label, ...record } = s.record;
+  states.push(Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength));
+  return { id, record: JSON.stringify(record), label, lastSeen: Date.parse(s.record.lastSeen), state: states.length };
 }
 
 function messagePayload(messages: readonly OutboxMessage[]): object[] {

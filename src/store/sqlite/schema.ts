@@ -146,4 +146,30 @@ export const MIGRATIONS: readonly string[] = [
   ALTER TABLE articles ADD COLUMN canonical_url TEXT;
   CREATE INDEX articles_canonical_url ON articles(canonical_url);
   `,
+  // Stories: the threads articles join; an article and an event each belong to one.
+  `
+  CREATE TABLE stories (
+    id            TEXT PRIMARY KEY,
+    label         TEXT NOT NULL,
+    first_seen    TEXT NOT NULL,
+    last_seen     TEXT NOT NULL,
+    article_count INTEGER NOT NULL,
+    names         TEXT NOT NULL,
+    version       INTEGER NOT NULL,
+    state         BLOB NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX stories_last_seen ON stories(last_seen);
+  CREATE TABLE story_merges (
+    from_id TEXT PRIMARY KEY,
+    into_id TEXT NOT NULL,
+    score   REAL NOT NULL,
+    at      TEXT NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX story_merges_into ON story_merges(into_id);
+  ALTER TABLE articles ADD COLUMN story_id TEXT;
+  CREATE INDEX articles_story ON articles(story_id);
+  ALTER TABLE events ADD COLUMN story_id TEXT;
+  CREATE INDEX events_story ON events(story_id);
+  CREATE TABLE link_tally (id INTEGER PRIMARY KEY CHECK (id = 1), mentions INTEGER NOT NULL, high INTEGER NOT NULL);
+  `,
 ];

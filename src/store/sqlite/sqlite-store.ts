@@ -12,7 +12,8 @@ import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
+  EventUpdate, FeedEntry, LinkTally, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
+  StoryDetail, StoryMergeCommit, StoryPage, StoryQuery, StorySummary, StoryUpdate,
 } from '../store.js';
 import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
@@ -93,20 +94,33 @@ export class SqliteStore implements Store {
       sentenceText: db.prepare('SELECT text FROM sentences WHERE article_id = ? AND idx = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
-      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url)
-        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch, @canonicalUrl)`),
+      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url, story_id)
+        VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch, @canonicalUrl,
+          coalesce((SELECT into_id FROM story_merges WHERE from_id = @storyId), @storyId))`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
       insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
       insLink: db.prepare('INSERT INTO links (article_id, sentence_idx, event_id, score, rank, evidence) VALUES (?, ?, ?, ?, ?, ?)'),
-      upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state)
-        VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state)
+      // story_id is set when the event opens; afterwards only a story merge moves it.
+      upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state, story_id)
+        VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state,
+          coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story))
         ON CONFLICT(id) DO UPDATE SET first_seen = excluded.first_seen, last_seen = excluded.last_seen,
           time_start = excluded.time_start, time_end = excluded.time_end, participants = excluded.participants, places = excluded.places,
           mention_count = excluded.mention_count, version = excluded.version, state = excluded.state`),
+      upStory: db.prepare(`INSERT INTO stories (id, label, first_seen, last_seen, article_count, names, version, state)
+        VALUES (@id, @label, @firstSeen, @lastSeen, @articleCount, @names, @version, @state)
+        ON CONFLICT(id) DO UPDATE SET first_seen = excluded.first_seen, last_seen = excluded.last_seen, article_count = excluded.article_count,
+          names = excluded.names, version = excluded.version, state = excluded.state`),
+      storyStates: db.prepare('SELECT state FROM stories').pluck(),
+      storyMergedInto: db.prepare('SELECT into_id FROM story_merges WHERE from_id = ?').pluck(),
+      story: db.prepare(`${STORY_SELECT} WHERE s.id = ?`),
       delOutlets: db.prepare('DELETE FROM event_outlets WHERE event_id = ?'),
       insOutlet: db.prepare('INSERT INTO event_outlets (event_id, outlet, mentions, independent) VALUES (?, ?, ?, ?)'),
       insIdfLog: db.prepare('INSERT INTO idf_log (docs, data) VALUES (?, ?)'),
+      addTally: db.prepare(`INSERT INTO link_tally (id, mentions, high) VALUES (1, @mentions, @high)
+        ON CONFLICT (id) DO UPDATE SET mentions = mentions + excluded.mentions, high = high + excluded.high`),
+      tally: db.prepare('SELECT mentions, high FROM link_tally WHERE id = 1'),
       idfLogCount: db.prepare('SELECT count(*) FROM idf_log').pluck(),
       idfLogs: db.prepare('SELECT docs, data FROM idf_log ORDER BY seq').raw(),
       idfSnapshot: db.prepare('SELECT docs, data FROM idf_snapshot WHERE id = 1').raw(),
@@ -149,7 +163,8 @@ export class SqliteStore implements Store {
         WHERE l.article_id = ? ORDER BY l.sentence_idx, l.rank`),
       outlets: db.prepare('SELECT outlet, count(*) AS articles FROM articles GROUP BY outlet ORDER BY outlet'),
       counts: db.prepare(`SELECT (SELECT count(*) FROM articles) AS articles, (SELECT count(*) FROM sentences) AS sentences,
-        (SELECT count(*) FROM mentions) AS mentions, (SELECT count(*) FROM links) AS links, (SELECT count(*) FROM events) AS events`),
+        (SELECT count(*) FROM mentions) AS mentions, (SELECT count(*) FROM links) AS links, (SELECT count(*) FROM events) AS events,
+        (SELECT count(*) FROM stories) AS stories`),
       due: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
         WHERE d.status = 'pending' AND d.next_at <= ? AND d.subscriber NOT IN (SELECT value FROM json_each(?)) ORDER BY d.next_at LIMIT ?`),
       dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
@@ -190,7 +205,8 @@ export class SqliteStore implements Store {
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
-    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? encodeWords(c.sketch) : null, canonicalUrl: canonicalUrl(c.article.url) });
+    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? encodeWords(c.sketch) : null, canonicalUrl: canonicalUrl(c.article.url), storyId: c.storyId ?? null });
+    if (c.story) this.upsertStory(c.story);
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
       st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);
@@ -201,6 +217,7 @@ export class SqliteStore implements Store {
       st.insIdfLog.run(c.idf.docs, packIdf(c.idf.df));
       if ((st.idfLogCount.get() as number) >= this.idfSnapshotEvery) this.snapshotIdf();
     }
+    if (c.tally && c.tally.mentions > 0) st.addTally.run(c.tally);
     this.queue(c.messages);
     return 'stored';
   }
@@ -225,6 +242,12 @@ export class SqliteStore implements Store {
     if (snap) add(snap[0], snap[1]);
     for (const [d, blob] of this.st.idfLogs.all() as [number, Buffer][]) add(d, blob);
     return { docs, df };
+  }
+
+  /** Writes a story; a story merged away stays gone (a writer that had not heard of the merge files its article under the survivor). */
+  private upsertStory({ record: r, state }: StoryUpdate): void {
+    if (this.st.storyMergedInto.get(r.id) !== undefined) return;
+    this.st.upStory.run({ ...r, names: JSON.stringify(r.names), state: Buffer.from(state.buffer, state.byteOffset, state.byteLength) });
   }
 
   private upsertEvent({ record: r, outlets, state }: EventUpdate): void {
@@ -329,10 +352,81 @@ export class SqliteStore implements Store {
 
   async loadLinkerState(): Promise<LinkerSnapshot> {
     const idf = this.readIdf();
+    const bytes = (b: Buffer): Uint8Array => new Uint8Array(b.buffer, b.byteOffset, b.byteLength);
     return {
-      events: (this.st.eventStates.all() as Buffer[]).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength)),
+      events: (this.st.eventStates.all() as Buffer[]).map(bytes),
       idf: { docs: idf.docs, df: [...idf.df] },
+      tally: (this.st.tally.get() as LinkTally | undefined) ?? { mentions: 0, high: 0 },
+      stories: (this.st.storyStates.all() as Buffer[]).map(bytes),
+      storyMerges: this.db.prepare('SELECT from_id, into_id FROM story_merges ORDER BY at, from_id').raw().all() as [string, string][],
     };
+  }
+
+  async commitStoryMerge(m: StoryMergeCommit): Promise<void> {
+    const into = m.into.record.id;
+    await this.write(`cannot merge story ${m.from} into ${into}`, this.db.transaction(() => {
+      this.db.prepare('UPDATE articles SET story_id = ? WHERE story_id = ?').run(into, m.from);
+      this.db.prepare('UPDATE events SET story_id = ? WHERE story_id = ?').run(into, m.from);
+      this.db.prepare('DELETE FROM stories WHERE id = ?').run(m.from);
+      this.upsertStory(m.into);
+      // Earlier merges into the absorbed story now point at the survivor: one step to follow.
+      this.db.prepare('UPDATE story_merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
+      this.db.prepare('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
+      this.queue(m.messages);
+    }));
+  }
+
+  async recentStoryIds(articles: number): Promise<string[]> {
+    return this.db.prepare(`SELECT story_id FROM (SELECT story_id, max(seq) AS last FROM (SELECT story_id, seq FROM articles ORDER BY seq DESC LIMIT ?)
+      WHERE story_id IS NOT NULL GROUP BY story_id) ORDER BY last DESC`).pluck().all(articles) as string[];
+  }
+
+  async storyMergedInto(id: string): Promise<string | null> {
+    return (this.st.storyMergedInto.get(id) as string | undefined) ?? null;
+  }
+
+  async listStories(q: StoryQuery): Promise<StoryPage> {
+    const where: string[] = [];
+    const params: Record<string, unknown> = {};
+    if (q.from) {
+      where.push('s.last_seen >= @from');
+      params.from = q.from;
+    }
+    if (q.to) {
+      where.push('s.first_seen <= @to');
+      params.to = /^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to;
+    }
+    if (q.outlet) {
+      where.push('EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.outlet = @outlet)');
+      params.outlet = q.outlet;
+    }
+    if (q.minOutlets) {
+      where.push('(SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id) >= @minOutlets');
+      params.minOutlets = q.minOutlets;
+    }
+    (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).forEach((word, i) => {
+      where.push(`(s.label LIKE @w${i} ESCAPE '\\' OR s.names LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.title LIKE @w${i} ESCAPE '\\'))`);
+      params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
+    });
+    const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
+    const order = q.sort === 'outlets' ? 'outlet_count DESC, s.last_seen DESC' : q.sort === 'articles' ? 's.article_count DESC, s.last_seen DESC' : 's.last_seen DESC';
+    const total = this.db.prepare(`SELECT count(*) FROM stories s ${filter}`).pluck().get(params) as number;
+    const rows = this.db.prepare(`${STORY_SELECT} ${filter} ORDER BY ${order}, s.id LIMIT @limit OFFSET @offset`).all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
+    return { total, stories: rows.map(toStorySummary) };
+  }
+
+  async getStory(id: string): Promise<StoryDetail | null> {
+    const row = this.st.story.get(id) as Row | undefined;
+    if (!row) return null;
+    const events = (this.db.prepare(`${EVENT_SELECT} WHERE e.story_id = ? ORDER BY e.first_seen, e.id`).all(id) as Row[]).map(toSummary);
+    const articles = (this.db.prepare(`SELECT id, title, outlet, url, published, duplicate_of FROM articles WHERE story_id = ?
+      ORDER BY coalesce(published, fetched), seq`).all(id) as Row[]).map((r) => ({
+      id: r.id as string, title: r.title as string, outlet: r.outlet as string, url: (r.url as string | null) ?? null,
+      published: (r.published as string | null) ?? null, duplicateOf: (r.duplicate_of as string | null) ?? null,
+    }));
+    const merges = (this.db.prepare('SELECT from_id, into_id, score, at FROM story_merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[])
+      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
+    return { story: toStorySummary(row), events, articles, merges };
   }
 
   async listEvents(q: EventQuery): Promise<EventPage> {
@@ -353,6 +447,10 @@ export class SqliteStore implements Store {
     if (q.minOutlets) {
       where.push('(SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id) >= @minOutlets');
       params.minOutlets = q.minOutlets;
+    }
+    if (q.story) {
+      where.push('e.story_id = coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story)');
+      params.story = q.story;
     }
     (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).forEach((word, i) => {
       where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
@@ -411,7 +509,7 @@ export class SqliteStore implements Store {
         id: a.id as string, outlet: a.outlet as string, url: (a.url as string | null) ?? null, title: a.title as string,
         published: (a.published as string | null) ?? null, fetched: a.fetched as string, language: (a.language as string | null) ?? null,
         text: (a.text as string | null) ?? null, contentHash: a.content_hash as string, duplicateOf: (a.duplicate_of as string | null) ?? null, copySimilarity: (a.copy_similarity as number | null) ?? null,
-        source: a.source as string,
+        source: a.source as string, story: (a.story_id as string | null) ?? null,
       },
       sentences,
     };
@@ -630,7 +728,7 @@ function* unpackIdf(b: Buffer): Generator<[number, number]> {
   for (let at = 0; at + 8 <= b.length; at += 8) yield [b.readUInt32LE(at), b.readUInt32LE(at + 4)];
 }
 
-const EVENT_SELECT = `SELECT e.id, e.label, e.first_seen, e.last_seen, e.time_start, e.time_end, e.participants, e.places, e.mention_count, e.version,
+const EVENT_SELECT = `SELECT e.id, e.label, e.first_seen, e.last_seen, e.time_start, e.time_end, e.participants, e.places, e.mention_count, e.version, e.story_id,
   (SELECT json_group_array(outlet) FROM (SELECT outlet FROM event_outlets eo WHERE eo.event_id = e.id ORDER BY outlet)) AS outlets,
   (SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id) AS outlet_count,
   (SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id AND eo.independent > 0) AS independent
@@ -649,7 +747,30 @@ function toSummary(r: Row): EventSummary {
     outlets: JSON.parse(r.outlets as string) as string[],
     mentionCount: r.mention_count as number,
     version: r.version as number,
+    story: (r.story_id as string | null) ?? null,
     independentOutlets: r.independent as number,
+  };
+}
+
+const STORY_SELECT = `SELECT s.id, s.label, s.first_seen, s.last_seen, s.article_count, s.names, s.version,
+  (SELECT json_group_array(outlet) FROM (SELECT DISTINCT outlet FROM articles a WHERE a.story_id = s.id ORDER BY outlet)) AS outlets,
+  (SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id) AS outlet_count,
+  (SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id AND a.duplicate_of IS NULL) AS independent,
+  (SELECT count(*) FROM events e WHERE e.story_id = s.id) AS event_count
+  FROM stories s`;
+
+function toStorySummary(r: Row): StorySummary {
+  return {
+    id: r.id as string,
+    label: r.label as string,
+    firstSeen: r.first_seen as string,
+    lastSeen: r.last_seen as string,
+    articleCount: r.article_count as number,
+    outlets: JSON.parse(r.outlets as string) as string[],
+    names: JSON.parse(r.names as string) as string[],
+    version: r.version as number,
+    independentOutlets: r.independent as number,
+    eventCount: r.event_count as number,
   };
 }
 

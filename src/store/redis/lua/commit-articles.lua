@@ -4,7 +4,7 @@
 -- KEYS[1]  the partition's counts hash ({strandline:<partition>}:counts; routes the call)
 -- ARGV[1]  the partition prefix, {strandline:<partition>} (key names as in keys.ts)
 -- ARGV[2]  JSON {fence: the writer's lease token or null, commits: [...]}, built by redis-store.ts
--- ARGV[3+] event states (binary), numbered by the commits' events[].state
+-- ARGV[3+] event and story states (binary), numbered by the commits' events[].state and story.state
 -- returns  one status per commit: 'stored' or 'already-stored'; an error
 --          STRAND_LEASE_LOST (nothing written) when the fence token no longer holds the lease
 local P = ARGV[1]
@@ -39,11 +39,20 @@ for i, c in ipairs(commits) do
       redis.call('HSET', P .. ':links:' .. c.id, l[1] .. '\n' .. l[2], l[3])
       redis.call('SADD', P .. ':event-links:' .. l[2], c.id .. '\n' .. l[1])
     end
+    if c.storyId ~= cjson.null then
+      redis.call('HSET', ak, 'story', c.storyId)
+      redis.call('ZADD', P .. ':story-articles:' .. current_story(P, c.storyId), c.time, c.id)
+    end
+    if c.story ~= cjson.null then put_story(P, counts, c.story, ARGV[2 + c.story.state]) end
     for _, e in ipairs(c.events) do put_event(P, counts, e, ARGV[2 + e.state]) end
     if c.idf ~= cjson.null then
       redis.call('INCRBY', P .. ':idf-docs', c.idf.docs)
       local df = c.idf.df
       for k = 1, #df, 2 do redis.call('HINCRBY', P .. ':idf', df[k], df[k + 1]) end
+    end
+    if c.tally ~= cjson.null then
+      redis.call('HINCRBY', P .. ':link-tally', 'mentions', c.tally.mentions)
+      redis.call('HINCRBY', P .. ':link-tally', 'high', c.tally.high)
     end
     queue_messages(P, c.messages)
     redis.call('HINCRBY', counts, 'articles', 1)

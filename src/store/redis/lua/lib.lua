@@ -31,17 +31,43 @@ local function queue_messages(P, messages)
   end
 end
 
+-- The story a story id now lives in, following story merges.
+local function current_story(P, id)
+  local seen = 0
+  while true do
+    local rec = redis.call('HGET', P .. ':story-merges', id)
+    if not rec or seen > 64 then return id end
+    id = string.sub(rec, 1, string.find(rec, '\n', 1, true) - 1)
+    seen = seen + 1
+  end
+end
+
 -- Writes an event's record, outlets and linker state; counts it when new. The label is
 -- written only then: afterwards it changes only when text is erased (erase-article.lua),
--- so a linker holding an older label cannot put erased text back.
+-- so a linker holding an older label cannot put erased text back. A new event joins its
+-- story's event set (the story as it now stands, after merges).
 local function put_event(P, counts, e, state)
   local ek = P .. ':event:' .. e.id
   if redis.call('EXISTS', ek) == 0 then
     redis.call('HINCRBY', counts, 'events', 1)
     redis.call('HSET', ek, 'label', e.label)
+    if e.story and e.story ~= cjson.null then
+      redis.call('SADD', P .. ':story-events:' .. current_story(P, e.story), e.id)
+    end
   end
   redis.call('HSET', ek, 'record', e.record, 'outlets', e.outlets, 'state', state)
   redis.call('ZADD', P .. ':events', e.lastSeen, e.id)
+end
+
+-- Writes a story's record, label and state; counts it when new. A story merged away
+-- stays gone: a writer that had not yet heard of the merge files its article under the
+-- survivor (current_story) and its view of the absorbed story is dropped.
+local function put_story(P, counts, s, state)
+  if redis.call('HEXISTS', P .. ':story-merges', s.id) == 1 then return end
+  local sk = P .. ':story:' .. s.id
+  if redis.call('EXISTS', sk) == 0 then redis.call('HINCRBY', counts, 'stories', 1) end
+  redis.call('HSET', sk, 'record', s.record, 'label', s.label, 'state', state)
+  redis.call('ZADD', P .. ':stories', s.lastSeen, s.id)
 end
 
 -- The end (index of the closing quote) of the JSON string whose first character is at i.
