@@ -27,7 +27,10 @@ function article(i: number): ArticleCommit {
   };
 }
 
-/** Articles readable from the database file alone, as if the log were lost. */
+/**
+ * Articles readable from the database file alone, as if the log were lost. A copy taken while
+ * the thread is writing pages can be torn ("malformed"); that reads as none yet.
+ */
 function articlesInMainFile(path: string, dir: string): number {
   const copy = join(dir, 'main-only.sqlite');
   copyFileSync(path, copy);
@@ -35,9 +38,22 @@ function articlesInMainFile(path: string, dir: string): number {
   try {
     const hasTable = db.prepare("SELECT 1 FROM sqlite_master WHERE name = 'articles'").get() !== undefined;
     return hasTable ? (db.prepare('SELECT count(*) AS n FROM articles').get() as { n: number }).n : 0;
+  } catch {
+    return 0;
   } finally {
     db.close();
   }
+}
+
+/** Polls until the database file alone holds `n` articles (or ten seconds pass); the last count. */
+async function waitForMainFile(path: string, n: number): Promise<number> {
+  const deadline = Date.now() + 10_000;
+  let seen = articlesInMainFile(path, dirname(path));
+  while (seen < n && Date.now() < deadline) {
+    await new Promise((r) => setTimeout(r, 50));
+    seen = articlesInMainFile(path, dirname(path));
+  }
+  return seen;
 }
 
 describe('checkpointing the SQLite log on a thread of its own', () => {
@@ -47,9 +63,7 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     const store = openSqliteStore(path);
     for (let i = 0; i < 50; i++) await store.commitArticle(article(i));
     // Too few pages for SQLite's own automatic checkpoint (1000): only the thread moves them.
-    const deadline = Date.now() + 10_000;
-    while (articlesInMainFile(path, dir) < 50 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
-    expect(articlesInMainFile(path, dir)).toBe(50);
+    expect(await waitForMainFile(path, 50)).toBe(50);
     await store.close();
   });
 
@@ -73,8 +87,7 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     const store = openSqliteStore(path);
     for (let i = 0; i < 5; i++) await store.commitArticle(article(i));
     // The thread has its connection open once it has checkpointed.
-    const deadline = Date.now() + 10_000;
-    while (articlesInMainFile(path, dirname(path)) < 5 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 50));
+    expect(await waitForMainFile(path, 5)).toBe(5);
     await store.close();
     // Exclusive locking in WAL mode fails while any other connection has the file open.
     const alone = new Database(path);
