@@ -1,91 +1,9 @@
 #!/usr/bin/env node
 /** The `strandline` command line. */
-import { Command, InvalidArgumentError, Option } from 'commander';
-import { describeError, isStrandError } from '../errors.js';
-import { version } from './common.js';
-import { replayCommand } from './commands/replay.js';
-import { serveCommand } from './commands/serve.js';
-import { forgetCommand } from './commands/forget.js';
-import { evalCommand, exportDemoCommand } from './commands/eval.js';
-import { consolidateCommand } from './commands/consolidate.js';
+import { runCli } from './program.js';
 
-function integer(name: string, min: number, max: number) {
-  return (value: string): number => {
-    if (!/^\d+$/.test(value) || Number(value) < min || Number(value) > max) throw new InvalidArgumentError(`${name} must be a whole number from ${min} to ${max}`);
-    return Number(value);
-  };
-}
-
-function common(cmd: Command): Command {
-  return cmd
-    .option('-c, --config <file>', 'JSON configuration merged over config/default.json (or set STRANDLINE_CONFIG)')
-    .option('--db <file>', 'SQLite store file (default: store.path, or STRANDLINE_DB)')
-    .option('--log-level <level>', 'fatal, error, warn, info, debug, trace or silent');
-}
-
-const program = new Command()
-  .name('strandline')
-  .description('Links sentences from news feeds to the events they report, across outlets and stories.')
-  .version(version())
-  .showHelpAfterError();
-
-common(program.command('serve'))
-  .description('serve the query API and the analysts\' page; optionally replay feeds into the store while serving')
-  .addOption(new Option('--role <role>', 'all: everything in one process; with the Redis store: api, worker (run several) or linker (one per partition) (or STRANDLINE_ROLE)').choices(['all', 'api', 'worker', 'linker']))
-  .option('--demo', 'replay the bundled demo feeds into data/demo.sqlite (unless --db is given)')
-  .option('--replay <path...>', 'feed files, folders or URLs to replay while serving')
-  .option('--host <host>', 'interface to listen on (or HOST)')
-  .option('--port <port>', 'TCP port (or PORT)', integer('--port', 0, 65535))
-  .action(async (opts) => exit(await serveCommand(opts)));
-
-common(program.command('replay'))
-  .description('run feed files or folders (RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, then print a summary')
-  .argument('<path...>', 'feed files, folders of feed files, or URLs')
-  .option('--pace <ms>', 'wait this long between articles (a live-looking replay)', integer('--pace', 0, 600_000))
-  .option('--no-progress', 'no progress bar')
-  .option('--json', 'print the summary as JSON')
-  .action(async (paths: string[], opts) => exit(await replayCommand(paths, opts)));
-
-common(program.command('ingest'))
-  .description('fetch feeds once from URLs or files and run their new articles through the pipeline')
-  .argument('<source...>', 'feed URLs or files')
-  .option('--json', 'print the summary as JSON')
-  .action(async (sources: string[], opts) => exit(await replayCommand(sources, { ...opts, progress: false })));
-
-common(program.command('forget'))
-  .description('erase stored article and sentence text (links and events stay)')
-  .option('--article <id>', 'one article')
-  .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
-  .action(async (opts) => exit(await forgetCommand(opts)));
-
-common(program.command('consolidate'))
-  .description('merge stored events that turn out to be one (also runs by itself every link.consolidateEvery articles)')
-  .action(async (opts) => exit(await consolidateCommand(opts)));
-
-common(program.command('eval'))
-  .description('score linking against annotated corpora: partition metrics, link types, stories, each system\'s best threshold and the regret of the configured one, baselines side by side; writes report.json and report.html')
-  .option('--corpus <dir...>', 'corpus folders, each with articles.jsonl, gold.jsonl and optionally scope.jsonl (several in one run)')
-  .option('--articles <file>', 'articles.jsonl: {"id", "outlet", "published", "title", "sentences", "topic", "subtopic"} per line')
-  .option('--gold <file>', 'gold.jsonl: {"article", "sentence" (index or null), "event", "text"?} per line')
-  .option('--scope <file>', 'scope.jsonl: {"article", "sentence"} lines; only these sentences are scored')
-  .option('--demo', 'evaluate on the bundled demo and its gold too (for showing; never for choosing a setting)')
-  .addOption(new Option('--setting <setting>', 'gold mentions, predicted mentions, or both').choices(['gold', 'predicted', 'both']).default('both'))
-  .option('--thresholds <from:to:step>', 'link thresholds for best thresholds and regret (default 0.05:0.5:0.025)')
-  .option('--sweep', 'print each corpus\'s scores at every threshold too (always in report.json and report.html)')
-  .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
-  .option('--json', 'print the report as JSON')
-  .action(async (opts) => exit(await evalCommand(opts)));
-
-common(program.command('export-demo'))
-  .description('write the demo as articles.jsonl and gold.jsonl in the evaluation format')
-  .argument('<dir>', 'folder to write to')
-  .action(async (dir: string, opts) => exit(await exportDemoCommand(dir, opts)));
-
-function exit(code: number): void {
-  process.exitCode = code;
-}
-
-program.parseAsync(process.argv).catch((err: unknown) => {
+runCli(process.argv.slice(2)).then((code) => {
   // A failed start ends the process even if a connection or timer is still open.
-  process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : (err as Error).stack ?? String(err)}\n`, () => process.exit(2));
+  if (code === 2) process.stderr.write('', () => process.exit(2));
+  else process.exitCode = code;
 });

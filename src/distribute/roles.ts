@@ -46,7 +46,8 @@ export async function startWorker(config: Readonly<Config>, logger: Logger): Pro
 }
 
 /** A running linker: waits for the partition's lease, then links queued work until stopped. */
-export async function startLinker(config: Readonly<Config>, logger: Logger): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
+/** Starts the partition's linker; `o.leaseMs` shortens its lease (15 s) where a test outlives it. */
+export async function startLinker(config: Readonly<Config>, logger: Logger, o: { leaseMs?: number } = {}): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
   // The workers analyse; the linker needs no analysis threads of its own.
   const runtime = await createRuntime({ ...config, analysis: { threads: 0 } }, logger);
   const onError = redisErrorLog(logger);
@@ -60,7 +61,7 @@ export async function startLinker(config: Readonly<Config>, logger: Logger): Pro
   }
   const store = runtime.store;
   if (!(store instanceof RedisStore)) throw new StrandError('STRAND_CONFIG_INVALID', 'the linker role needs the Redis store');
-  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, fence: (token) => store.fenceWrites(token) });
+  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, fence: (token) => store.fenceWrites(token), leaseMs: o.leaseMs });
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');
   // Retention is the lease holder's job, so one process per partition erases.

@@ -1,15 +1,13 @@
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import iconv from 'iconv-lite';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cli } from '../helpers/cli-in-process.js';
 import { runFeeds, type RunSummary } from '../../src/cli/run-feeds.js';
 import type { Runtime } from '../../src/runtime.js';
 import { testRuntime } from '../helpers/runtime.js';
 
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const dir = mkdtempSync(join(tmpdir(), 'strandline-bad-'));
 
 const rss = (items: string, prolog = '<?xml version="1.0" encoding="UTF-8"?>') => `${prolog}<rss version="2.0"><channel><title>Test Outlet</title><link>https://t.example/</link><description>d</description>${items}</channel></rss>`;
@@ -57,16 +55,16 @@ describe('a replay over bad input', () => {
     expect((await rt.store.getArticle('https://t.example/legacy-1'))!.article.text).toBe('The café owner said “we reopened on Monday.”');
   });
 
-  it('prints the problems in the command summary, stores the rest, and exits 1 since files could not be read', () => {
-    const r = spawnSync(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), 'replay', dir, '--db', join(dir, 'cli.sqlite'), '--no-progress', '--log-level', 'silent'], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
+  it('prints the problems in the command summary, stores the rest, and exits 1 since files could not be read', async () => {
+    const r = await cli('replay', dir, '--db', join(dir, 'cli.sqlite'), '--no-progress', '--log-level', 'silent');
     expect(r.status).toBe(1);
     expect(r.stdout).toMatch(/stored {4}5 article/);
     expect(r.stdout).toMatch(/malformed\.xml: STRAND_FEED_MALFORMED: malformed XML at line \d+/);
     expect(r.stdout).toMatch(/STRAND_ARTICLE_TOO_LARGE: article body of \d+ characters exceeds ingest\.maxArticleChars/);
   });
 
-  it('fails with a clear message when nothing can be read', () => {
-    const r = spawnSync(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), 'replay', join(dir, 'no-such-folder'), '--db', join(dir, 'none.sqlite'), '--no-progress', '--log-level', 'silent'], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
+  it('fails with a clear message when nothing can be read', async () => {
+    const r = await cli('replay', join(dir, 'no-such-folder'), '--db', join(dir, 'none.sqlite'), '--no-progress', '--log-level', 'silent');
     expect(r.status).toBe(1);
     expect(r.stdout).toMatch(/STRAND_SOURCE_UNREADABLE: cannot read .*no-such-folder: ENOENT/);
   });

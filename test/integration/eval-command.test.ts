@@ -1,9 +1,8 @@
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
+import { cli } from '../helpers/cli-in-process.js';
 import { DEMO_DIR } from '../../src/cli/common.js';
 import { evalCommand, exportDemoCommand, parseThresholds } from '../../src/cli/commands/eval.js';
 import { demoEvalInput } from '../../src/eval/demo-input.js';
@@ -17,7 +16,6 @@ import { createLogger } from '../../src/logger.js';
 import { createNlp } from '../../src/text/nlp.js';
 import { testConfig } from '../helpers/runtime.js';
 
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const logger = createLogger('silent');
 
 const SMALL = [
@@ -196,8 +194,8 @@ describe('the eval command', () => {
     expect(parseThresholds('0.1:0.3:0.1')).toEqual([0.1, 0.2, 0.3]);
   });
 
-  it('refuses to run without input, naming what is missing, with exit 2', () => {
-    const r = spawnSync(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), 'eval'], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
+  it('refuses to run without input, naming what is missing, with exit 2', async () => {
+    const r = await cli('eval');
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/give corpus folders with --corpus <dir>/);
   });
