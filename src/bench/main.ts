@@ -35,6 +35,7 @@ import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
 import { DEMO_FEEDS, version } from '../cli/common.js';
+import type { EvalSpeedRow } from './eval-speed-run.js';
 import { batchAverageLink } from '../eval/baselines.js';
 import { checkEvalInput } from '../eval/eval-input.js';
 import { scorePartitions } from '../eval/partition-metrics.js';
@@ -170,6 +171,7 @@ async function main(): Promise<void> {
   // In a process of its own, like the link-scale rows: the heaps of the workloads measured
   // here (and the all-pairs baseline's matrices) slowed whatever was measured after them.
   const transformer: TransformerRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./transformer-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as TransformerRow;
+  const evalSpeed: EvalSpeedRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./eval-speed-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as EvalSpeedRow;
   const largeFeed: LargeFeedRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./large-feed-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as LargeFeedRow;
   const versus = quick ? null : await linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
@@ -190,6 +192,9 @@ async function main(): Promise<void> {
     + polling.map((r) => `  ${String(r.round).padStart(5)}  ${String(r.requests).padStart(8)}  ${String(r.ok).padStart(3)}  ${String(r.notModified).padStart(3)}  ${String(r.newItems).padStart(9)}  ${String(r.bytes).padStart(10)}  ${r.cpuMs.toFixed(0).padStart(13)}  ${r.seconds.toFixed(2).padStart(7)}`).join('\n') + '\n');
   if (largeFeed) process.stdout.write(`\none large feed into an existing store (its own process, default configuration):\n`
     + `  ${largeFeed.items} items, ${(largeFeed.feedBytes / 1048576).toFixed(1)} MiB: ${largeFeed.stored} stored, ${largeFeed.refused} refused, ${largeFeed.seconds.toFixed(1)} s, peak resident memory ${largeFeed.peakRssMiB.toFixed(0)} MiB\n`);
+  if (evalSpeed) process.stdout.write(`\nstrandline eval as the command runs it (gold and predicted mentions, default sweep, every baseline) on a synthetic corpus:\n`
+    + `  ${evalSpeed.articles} articles, ${evalSpeed.goldMentions} gold mentions: ${evalSpeed.seconds.toFixed(1)} s\n`
+    + evalSpeed.parts.map((p) => `  ${p.setting.padEnd(9)} text ${p.textSeconds.toFixed(1)} s; ${p.systems.map((y) => `${y.name.replace('baseline: ', '')} ${y.seconds.toFixed(2)} s`).join(', ')}`).join('\n') + '\n');
   if (versus) process.stdout.write(`\nlinker (its link stage, committing to an in-memory store) vs batch all-pairs baseline (plain TF-IDF) on ${versus.mentions} synthetic mentions:\n`
     + `  online linker, link stage  ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
     + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
@@ -213,7 +218,7 @@ async function main(): Promise<void> {
   if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
+  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
   process.stdout.write(`written: ${file}\n`);
 }
 

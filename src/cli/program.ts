@@ -70,7 +70,7 @@ function buildProgram(done: (code: number) => void): Command {
     .option('--scope <file>', 'scope.jsonl: {"article", "sentence"} lines; only these sentences are scored')
     .option('--demo', 'evaluate on the bundled demo and its gold too (for showing; never for choosing a setting)')
     .addOption(new Option('--setting <setting>', 'gold mentions, predicted mentions, or both').choices(['gold', 'predicted', 'both']).default('both'))
-    .option('--thresholds <from:to:step>', 'link thresholds for best thresholds and regret (default 0.05:0.5:0.025)')
+    .option('--thresholds <from:to:step>', 'link thresholds for best thresholds and regret, every one run (default: 0.05:0.5:0.025, every other one run, then the neighbours of the best)')
     .option('--sweep', 'print each corpus\'s scores at every threshold too (always in report.json and report.html)')
     .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
     .option('--json', 'print the report as JSON')

@@ -96,6 +96,9 @@ export function onlineCentroid(byArticle: readonly (readonly EmbeddedMention[])[
   let dot = new Float64Array(1024);
   let mark = new Int32Array(1024).fill(-1);
   const out: Clustering = new Map();
+  // Cosine is at most 1, so an event further away in time than this cannot reach the
+  // threshold whatever the words: it is passed over without summing (answers unchanged).
+  const farDays = threshold > 0 && threshold < 1 ? halfLifeDays * Math.log2(1 / threshold) * (1 + 1e-9) : Infinity;
   let step = 0;
   for (const mentions of byArticle) {
     for (const m of mentions) {
@@ -107,6 +110,7 @@ export function onlineCentroid(byArticle: readonly (readonly EmbeddedMention[])[
         const posting = postings.get(v.indices[k]!);
         if (!posting) continue;
         for (const e of posting) {
+          if (Math.abs(day - events[e]!.day) > farDays) continue;
           if (mark[e] !== step) {
             mark[e] = step;
             dot[e] = 0;

@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
 import { extendedBcubed } from '../../src/eval/extended-bcubed.js';
 import { b3Score } from '../../src/eval/partition-metrics.js';
 
@@ -47,5 +48,32 @@ describe('extended BCubed', () => {
   it('scores a perfect overlapping answer 1', () => {
     const gold = M({ a: ['1', '2'], b: ['1'], c: ['2'] });
     expect(extendedBcubed(gold, gold)).toEqual({ recall: 1, precision: 1, f1: 1 });
+  });
+});
+
+/** The definition item by item, every partner visited: the reference the grouped sums must equal. */
+function itemByItem(by: Map<string, Set<string>>, other: Map<string, Set<string>>): number {
+  const inter = (a: Set<string>, b: Set<string>) => [...a].filter((x) => b.has(x)).length;
+  let total = 0;
+  let items = 0;
+  for (const [e, groups] of by) {
+    if (groups.size === 0) continue;
+    const partners = [...by].filter(([, gx]) => inter(groups, gx) > 0);
+    total += partners.reduce((sum, [x, gx]) => sum + Math.min(inter(groups, gx), inter(other.get(e) ?? new Set(), other.get(x) ?? new Set())) / inter(groups, gx), 0) / partners.length;
+    items++;
+  }
+  return items === 0 ? 0 : total / items;
+}
+
+describe('extended BCubed, items with the same memberships counted together', () => {
+  it('equals the item-by-item definition on random overlapping clusterings', () => {
+    const side = fc.array(fc.tuple(fc.integer({ min: 0, max: 25 }), fc.array(fc.integer({ min: 0, max: 5 }), { maxLength: 3 })), { maxLength: 30 });
+    fc.assert(fc.property(side, side, (gold, sys) => {
+      const g = new Map(gold.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `G${e}`))]));
+      const s = new Map(sys.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `S${e}`))]));
+      const got = extendedBcubed(g, s);
+      expect(got.precision).toBeCloseTo(itemByItem(s, g), 12);
+      expect(got.recall).toBeCloseTo(itemByItem(g, s), 12);
+    }), { numRuns: 300 });
   });
 });

@@ -56,7 +56,7 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
   if (!opts.json) process.stderr.write(`evaluating ${corpora.map((c) => `${c.name} (${c.input.articles.length} articles)`).join(', ')}; ${settings.join(' and ')} mentions…\n`);
   let report: Awaited<ReturnType<typeof runEval>>;
   try {
-    report = await runEval(corpora, { config, settings, thresholds, logger, signal: stop.signal });
+    report = await runEval(corpora, { config, settings, thresholds, sweep: opts.thresholds ? 'every' : 'refine', logger, signal: stop.signal });
   } catch (err) {
     if (!isStrandError(err, 'STRAND_STOPPED')) throw err;
     process.stdout.write(`evaluation stopped by ${stop.received()}: no report written\n`);
