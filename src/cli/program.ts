@@ -39,7 +39,7 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (opts) => done(await (await import('./commands/serve.js')).serveCommand(opts)));
 
   common(program.command('replay'))
-    .description('run feed files or folders (RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, then print a summary')
+    .description('run an archive (feed files or folders of them; RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, with a progress bar, then print a summary: for a backfill or a demo. Exits 1 when a source could not be read')
     .argument('<path...>', 'feed files, folders of feed files, or URLs')
     .option('--pace <ms>', 'wait this long between articles (a live-looking replay)', integer('--pace', 0, 600_000))
     .option('--no-progress', 'no progress bar')
@@ -47,19 +47,19 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (paths: string[], opts) => done(await (await import('./commands/replay.js')).replayCommand(paths, opts)));
 
   common(program.command('ingest'))
-    .description('fetch feeds once from URLs or files and run their new articles through the pipeline')
+    .description('fetch live feeds once from their URLs (or files) and run the articles not stored yet through the pipeline, as one poll would: for scripts and scheduled jobs. Exits 1 when a source could not be fetched or read')
     .argument('<source...>', 'feed URLs or files')
     .option('--json', 'print the summary as JSON')
     .action(async (sources: string[], opts) => done(await (await import('./commands/replay.js')).replayCommand(sources, { ...opts, progress: false })));
 
   common(program.command('forget'))
     .description('erase stored article and sentence text (links and events stay)')
-    .option('--article <id>', 'one article')
+    .option('--article <id>', 'one article: its id as the API and the page show it (URL-encoded or not), or its URL')
     .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
     .action(async (opts) => done(await (await import('./commands/forget.js')).forgetCommand(opts)));
 
   common(program.command('consolidate'))
-    .description('merge stored events that turn out to be one (also runs by itself every link.consolidateEvery articles)')
+    .description('merge stored events (and stories) that turn out to be one, and split events that drifted into two happenings (also runs by itself every link.consolidateEvery articles)')
     .action(async (opts) => done(await (await import('./commands/consolidate.js')).consolidateCommand(opts)));
 
   common(program.command('eval'))

@@ -1,5 +1,7 @@
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { createServer } from 'node:http';
+import type { AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -110,5 +112,98 @@ describe('the command line', () => {
     expect(r.status).not.toBe(0);
     expect(r.stderr).toMatch(/STRAND_STORE_FAILED: cannot reach Redis at redis:\/\/ops:\*\*\*@127.0.0.1:1/);
     expect(r.stderr).not.toContain('hunter2');
+  });
+
+  describe('as scripts need it: one line and a non-zero exit for each failure', () => {
+    const scratch = () => mkdtempSync(join(tmpdir(), 'strandline-cli-'));
+    const oneLine = (stderr: string) => stderr.trim().split('\n').filter((l) => !l.startsWith('  '));
+
+    it.each([
+      ['a malformed feed', 'bad.xml', '<rss><channel><item><title>x</title></channel>', /STRAND_FEED_MALFORMED/],
+      ['a file that is no feed', 'notes.txt', 'hello world', /STRAND_FEED_UNKNOWN_FORMAT/],
+    ])('exits 1 on %s, naming it in the summary', async (_what, name, text, code) => {
+      const dir = scratch();
+      writeFileSync(join(dir, name), text);
+      const r = await run('replay', join(dir, name), '--db', join(dir, 's.sqlite'), '--no-progress', '--log-level', 'silent');
+      expect(r.status).toBe(1);
+      expect(r.stdout).toMatch(code);
+      expect(r.stdout).toMatch(/read {6}0 feed file/);
+    });
+
+    it('exits 1 on a refused feed URL and does not count it as read', async () => {
+      const dir = scratch();
+      const r = await run('ingest', 'http://[::ffff:127.0.0.1]:9/feed.xml', '--db', join(dir, 's.sqlite'), '--log-level', 'silent');
+      expect(r.status).toBe(1);
+      expect(r.stdout).toMatch(/STRAND_SOURCE_FORBIDDEN/);
+      expect(r.stdout).toMatch(/read {6}0 feed file/);
+    });
+
+    it('exits 2 on a missing configuration file, saying so in one line', async () => {
+      const r = await run('replay', 'demo-feed/feeds', '--config', join(scratch(), 'absent.json'));
+      expect(r.status).toBe(2);
+      expect(oneLine(r.stderr)).toEqual([expect.stringMatching(/^strandline: STRAND_CONFIG_UNREADABLE: cannot read configuration file .*absent\.json: no such file$/)]);
+    });
+
+    it('exits 2 on a misspelt key, suggesting the near one', async () => {
+      const config = join(scratch(), 'c.json');
+      writeFileSync(config, JSON.stringify({ link: { treshold: 0.3 } }));
+      const r = await run('replay', 'demo-feed/feeds', '--config', config);
+      expect(r.status).toBe(2);
+      expect(r.stderr).toMatch(/link: unknown key "treshold" \(did you mean "threshold"\?\)/);
+      expect(r.stderr).not.toMatch(/\n\s+at /);
+    });
+
+    it('exits 2 on an invalid choice, listing the allowed values', async () => {
+      const config = join(scratch(), 'c.json');
+      writeFileSync(config, JSON.stringify({ store: { kind: 'postgres' } }));
+      const r = await run('replay', 'demo-feed/feeds', '--config', config);
+      expect(r.status).toBe(2);
+      expect(r.stderr).toMatch(/store\.kind: Invalid option: expected one of "sqlite"\|"redis"/);
+    });
+
+    it('exits 2 on a port in use, in one line without a stack trace', async () => {
+      const busy = createServer();
+      await new Promise<void>((r) => busy.listen(0, '127.0.0.1', r));
+      try {
+        const port = String((busy.address() as AddressInfo).port);
+        // Its own process: the command exits with its store still open, as it would for real.
+        const r = runAlone('serve', '--port', port, '--db', join(scratch(), 's.sqlite'), '--log-level', 'silent');
+        expect(r.status).toBe(2);
+        expect(oneLine(r.stderr)).toEqual([`strandline: STRAND_LISTEN_FAILED: cannot listen on 127.0.0.1:${port}: the port is in use (choose another with --port, PORT or server.port; --host, HOST or server.host)`]);
+      } finally {
+        busy.close();
+      }
+    });
+
+    it('forgets an article named by its id, its URL-encoded id or its URL, and exits 1 with one line for one it does not know', async () => {
+      const dir = scratch();
+      const db = join(dir, 's.sqlite');
+      const feed = join(dir, 'feed.xml');
+      writeFileSync(feed, `<?xml version="1.0"?><rss version="2.0"><channel><title>Tidewater Courier</title>
+        <item><title>Quay fire</title><guid isPermaLink="false">q-1</guid><link>https://courier.example/quay-fire?utm_source=rss</link><description>A fire destroyed the grain shed at Marrow Quay on Monday.</description></item>
+        <item><title>Ferry strike</title><guid isPermaLink="false">q-2</guid><link>https://courier.example/ferry-strike</link><description>Ferry crews walked out at Saltmere on Tuesday.</description></item>
+        <item><title>Bridge vote</title><guid isPermaLink="false">q-3</guid><link>https://courier.example/bridge-vote</link><description>The council approved the bridge repairs on Wednesday.</description></item>
+      </channel></rss>`);
+      expect((await run('replay', feed, '--db', db, '--no-progress', '--log-level', 'silent')).status).toBe(0);
+      const read = new Database(db, { readonly: true });
+      const ids = read.prepare('SELECT id FROM articles ORDER BY id').pluck().all() as string[];
+      read.close();
+      expect(ids).toHaveLength(3);
+      const byId = await run('forget', '--article', ids[0]!, '--db', db, '--log-level', 'silent');
+      expect(byId.status, byId.stderr).toBe(0);
+      const encoded = await run('forget', '--article', encodeURIComponent(ids[1]!), '--db', db, '--log-level', 'silent');
+      expect(encoded.stdout).toContain(`erased the text of ${ids[1]}`);
+      // The URL as linked, tracking parameter and all.
+      const byUrl = await run('forget', '--article', 'http://courier.example/quay-fire?utm_source=mail', '--db', db, '--log-level', 'silent');
+      expect(byUrl.status, byUrl.stderr).toBe(0);
+      const unknown = await run('forget', '--article', 'no-such-article', '--db', db, '--log-level', 'silent');
+      expect(unknown.status).toBe(1);
+      expect(oneLine(unknown.stderr)).toEqual(['strandline: no stored article no-such-article (give its id as the API shows it, or its URL)']);
+    });
+
+    it('says in consolidate --help that it splits too, and lists export-demo among the commands', async () => {
+      expect((await run('consolidate', '--help')).stdout).toMatch(/split events/);
+      expect((await run('--help')).stdout).toMatch(/export-demo/);
+    });
   });
 });

@@ -40,7 +40,7 @@ describe('configuration', () => {
 
   it.each([
     ['STRANDLINE_STORE', 'postgres', /store\.kind/],
-    ['STRANDLINE_REDIS_URL', 'http://127.0.0.1:6379', /store\.redis\.url: must be a redis:\/\/ or rediss:\/\/ URL/],
+    ['STRANDLINE_REDIS_URL', 'http://127.0.0.1:6379', /STRANDLINE_REDIS_URL \(store\.redis\.url\): must be a redis:\/\/ or rediss:\/\/ URL/],
     ['STRANDLINE_ROLE', 'boss', /process\.role/],
   ])('names the bad value of %s', (name, value, message) => {
     expect(failure(() => loadConfig({ env: { [name]: value } })).message).toMatch(message);
@@ -110,6 +110,29 @@ describe('configuration', () => {
     expect(c.server.tokens).toEqual([fromFile, fromEnv]);
     expect(loadConfig({ env: { STRANDLINE_API_TOKEN: fromEnv } }).server.tokens).toEqual([fromEnv]);
     expect(failure(() => loadConfig({ env: { STRANDLINE_API_TOKEN: 'short' } })).message).toMatch(/server\.tokens/);
+  });
+
+  it('names the environment variable a bad value came from, not only the setting', () => {
+    expect(failure(() => loadConfig({ env: { STRANDLINE_API_TOKEN: 'short' } })).message).toMatch(/STRANDLINE_API_TOKEN \(server\.tokens\.0\): Too small/);
+    expect(failure(() => loadConfig({ env: { PORT: 'eighty' } })).message).toMatch(/PORT \(server\.port\)/);
+    expect(failure(() => loadConfig({ env: { STRANDLINE_STORE: 'postgres' } })).message).toMatch(/STRANDLINE_STORE \(store\.kind\): .*"sqlite"\|"redis"/);
+    // A token from the file in the same list keeps its own name.
+    const f = failure(() => loadConfig({ file: file('short-file-token.json', '{"server": {"tokens": ["short"]}}'), env: { STRANDLINE_API_TOKEN: 'e'.repeat(32) } }));
+    expect(f.message).toMatch(/^ {2}server\.tokens\.0: /m);
+    expect(f.message).not.toMatch(/STRANDLINE_API_TOKEN/);
+  });
+
+  it('suggests the key a misspelt one may mean, at any depth', () => {
+    expect(failure(() => loadConfig({ file: file('typo1.json', '{"link": {"treshold": 0.3}}'), env: {} })).message).toMatch(/link: unknown key "treshold" \(did you mean "threshold"\?\)/);
+    expect(failure(() => loadConfig({ file: file('typo2.json', '{"link": {"calibration": {"slop": 0.1}}}'), env: {} })).message).toMatch(/link\.calibration: unknown key "slop" \(did you mean "slope"\?\)/);
+    expect(failure(() => loadConfig({ file: file('typo3.json', '{"servr": {}}'), env: {} })).message).toMatch(/\(root\): unknown key "servr" \(did you mean "server"\?\)/);
+    // Nothing near: named without a guess.
+    expect(failure(() => loadConfig({ file: file('typo4.json', '{"link": {"zebra": 1}}'), env: {} })).message).toMatch(/link: unknown key "zebra"$/m);
+  });
+
+  it('says why a configuration file cannot be read', () => {
+    expect(failure(() => loadConfig({ file: join(dir, 'missing.json'), env: {} })).message).toMatch(/cannot read configuration file .*missing\.json: no such file/);
+    expect(failure(() => loadConfig({ file: dir, env: {} })).message).toMatch(/: it is a folder/);
   });
 
   it('keeps settled notifications 30 days unless told otherwise, and for ever when told null', () => {

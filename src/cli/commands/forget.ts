@@ -1,5 +1,7 @@
 /** `strandline forget`: erase stored text on the operator's say (one article, or all before a day). */
+import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { openStore } from '../../store/open-store.js';
+import type { Store } from '../../store/store.js';
 import { StrandError } from '../../errors.js';
 import { type CommonOptions, setup } from '../common.js';
 import { listenForStop } from '../stop-signals.js';
@@ -8,6 +10,22 @@ import { listenForStop } from '../stop-signals.js';
 export interface ForgetOptions extends CommonOptions {
   article?: string;
   before?: string;
+}
+
+/**
+ * The stored id an operator means: the id itself (as the API and the page show it), the
+ * same id URL-encoded (as in an API path), or the article's URL (any link that reaches it).
+ */
+async function storedId(store: Store, given: string): Promise<string | null> {
+  const tries = [given];
+  try {
+    tries.push(decodeURIComponent(given));
+  } catch {
+    // Not URL-encoded: the id as given is all there is.
+  }
+  for (const id of tries) if (await store.getArticle(id)) return id;
+  const canonical = canonicalUrl(given);
+  return canonical ? store.findByUrl(canonical) : null;
 }
 
 /** Erases text; returns the exit code. */
@@ -21,9 +39,13 @@ export async function forgetCommand(opts: ForgetOptions): Promise<number> {
   const stop = listenForStop('the erasure');
   try {
     if (opts.article) {
-      const found = await store.eraseArticleText(opts.article);
-      process.stdout.write(found ? `erased the text of ${opts.article}\n` : `no article ${opts.article}\n`);
-      if (!found) return 1;
+      const id = await storedId(store, opts.article);
+      const found = id !== null && (await store.eraseArticleText(id));
+      if (!found) {
+        process.stderr.write(`strandline: no stored article ${opts.article} (give its id as the API shows it, or its URL)\n`);
+        return 1;
+      }
+      process.stdout.write(`erased the text of ${id}\n`);
     }
     if (opts.before) process.stdout.write(`erased the text of ${await store.eraseTextBefore(opts.before)} article(s) published before ${opts.before}\n`);
     // The operator asked for the text to go: rebuild the file so no stale copy stays on disk.

@@ -6,6 +6,7 @@ import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';
 import type { IngestStatus } from '../../api/routes/operations.js';
 import type { Config } from '../../config/schema.js';
+import { StrandError } from '../../errors.js';
 import { Lease } from '../../distribute/lease.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
@@ -66,7 +67,7 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
   // away (503), where the pipeline's waits for it to come back.
   const apiStore = config.store.kind === 'redis' ? await openStore(config.store, logger, { failFast: true }) : rt.store;
   const app = await buildApp({ store: apiStore, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
-  const address = await app.listen({ host: config.server.host, port: config.server.port });
+  const address = await listenOn(app, config);
   warnIfOpen(config, logger);
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
@@ -152,7 +153,7 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   if (config.poll.enabled) await lease.start();
   const poller = await startPoller(config, logger, store, submit, () => lease.held);
   const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
-  const address = await app.listen({ host: config.server.host, port: config.server.port });
+  const address = await listenOn(app, config);
   warnIfOpen(config, logger);
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
@@ -176,4 +177,16 @@ function warnIfOpen(config: Readonly<Config>, logger: Logger): void {
   const host = config.server.host;
   if (config.server.tokens.length > 0 || host === 'localhost' || host === '::1' || host.startsWith('127.')) return;
   logger.warn({ host }, 'the API listens beyond this machine without server.tokens: anyone who can reach it can push articles and change feeds');
+}
+
+/** Starts listening; a port in use or not allowed is one clear line, naming how to choose another. */
+async function listenOn(app: { listen(o: { host: string; port: number }): Promise<string> }, config: Readonly<Config>): Promise<string> {
+  const { host, port } = config.server;
+  try {
+    return await app.listen({ host, port });
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    const why = code === 'EADDRINUSE' ? 'the port is in use' : code === 'EACCES' ? 'not allowed to use this port' : code === 'EADDRNOTAVAIL' ? 'no such address on this machine' : (err as Error).message;
+    throw new StrandError('STRAND_LISTEN_FAILED', `cannot listen on ${host}:${port}: ${why} (choose another with --port, PORT or server.port; --host, HOST or server.host)`, { cause: err });
+  }
 }
