@@ -173,12 +173,12 @@ export const configSchema = z.strictObject({
     hashBits: z.number().int().min(10).max(26).default(20),
     /**
      * TF-IDF over adjacent word pairs too, not only single lemmas. Default false: on
-     * meantime-en and wec-eng-val together, unigrams did better (DEVELOPERS.md).
+     * meantime-en and wec-eng-val together, unigrams did better (docs/decisions/linking-defaults.md).
      */
     bigrams: z.boolean().default(false),
     /**
      * The power idf is raised to: above 1, rare, specific words (names, numbers) count more
-     * against words every article of a topic shares. Default 2 (DEVELOPERS.md).
+     * against words every article of a topic shares. Default 2 (docs/decisions/linking-defaults.md).
      */
     idfPower: z.number().min(0.5).max(4).default(2),
   }).prefault({}),
@@ -187,14 +187,14 @@ export const configSchema = z.strictObject({
      * Score at or above which a mention joins an event; below, it opens one. With
      * calibration on (the default) this is the threshold for a stream where half the best
      * candidates score high, moved up or down as the stream shows itself (link/calibration.ts).
-     * Default 0.2 (decided on meantime-en and wec-eng-val, DEVELOPERS.md).
+     * Default 0.2 (decided on meantime-en and wec-eng-val, docs/decisions/linking-defaults.md).
      */
     threshold: z.number().min(0).max(1).default(0.2),
     /**
      * The threshold calibrated on the stream: threshold + slope x ln((1 - r) / r), r the share
      * of mentions whose best candidate scores at least anchor (with priorMentions
      * pseudo-mentions at priorShare). mode 'fixed' keeps the threshold as configured.
-     * Defaults decided on meantime-en and wec-eng-val (DEVELOPERS.md).
+     * Defaults decided on meantime-en and wec-eng-val (docs/decisions/linking-defaults.md).
      */
     calibration: z.strictObject({
       mode: z.enum(['stream', 'fixed']).default('stream'),
@@ -254,20 +254,20 @@ export const configSchema = z.strictObject({
      * to be linked: cross-story links are the valuable rare case, a shared name is the
      * stronger evidence that lets one through, and the story level stays soft (a wrong story
      * never hides the right event). Default 0.15 (decided on meantime-en and wec-eng-val,
-     * DEVELOPERS.md).
+     * docs/decisions/linking-defaults.md).
      */
     crossStoryMargin: z.number().min(0).max(1).default(0.15),
     /**
      * An event's score is multiplied by 1 + sizePrior x ln(its mentions), at most x3: an event
      * many sentences already report is the likelier home for one more (the prior of a Chinese
-     * restaurant process). Default 0.3 (DEVELOPERS.md); 0 turns it off.
+     * restaurant process). Default 0.3 (docs/decisions/linking-defaults.md); 0 turns it off.
      */
     sizePrior: z.number().min(0).max(2).default(0.3),
     /**
      * Events the sentence's own article opened score this much of their similarity: an
      * article's sentences share its words whatever they report, and mostly report different
      * events. Default 1, off: with the calibrated threshold it no longer earned its place
-     * on meantime-en and wec-eng-val (DEVELOPERS.md).
+     * on meantime-en and wec-eng-val (docs/decisions/linking-defaults.md).
      */
     sameArticleFactor: z.number().min(0).max(1).default(1),
     /** Score (whole-article cosine x story time decay) at or above which an article joins a story. Default 0.2. */
