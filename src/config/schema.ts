@@ -203,27 +203,25 @@ export const configSchema = z.strictObject({
       priorMentions: z.number().min(1).max(1_000_000).default(20),
       priorShare: z.number().gt(0).lt(1).default(0.35),
     }).prefault({}),
-    /** Half-life of the time decay, days. Default 7 (best single setting in trials on dated news). */
+    /** Half-life of the time decay, days. Default 7 (docs/decisions/link-settings.md). */
     halfLifeDays: z.number().min(0.1).default(7),
-    /** Events scored per mention at most. Default 24 (16, 24 and 48 gave the same CoNLL F1 on the demo, meantime-en and a synthetic stream). */
+    /** Events scored per mention at most. Default 24 (docs/decisions/link-settings.md). */
     maxCandidates: z.number().int().min(1).default(24),
     /**
      * Events remembered per index key (most recent kept). Default 64: it bounds the cost of
-     * a lookup once common keys fill up; 64, 256 and 32 gave the same CoNLL F1 on the demo,
-     * meantime-en and a synthetic stream.
+     * a lookup once common keys fill up (docs/decisions/link-settings.md).
      */
     postingLimit: z.number().int().min(8).default(64),
     /** Index keys looked up per mention (its rarest terms). Default 16. */
     lookupTerms: z.number().int().min(1).default(16),
-    /** Posting entries read per lookup at most, rarest keys first; keeps the cost per mention flat as history grows. Default 192 (128, 192 and 384 gave the same CoNLL F1 on the demo, meantime-en and synthetic streams). */
+    /** Posting entries read per lookup at most, rarest keys first; keeps the cost per mention flat as history grows. Default 192 (docs/decisions/link-settings.md). */
     lookupBudget: z.number().int().min(16).default(192),
     /** Relative boost of the score for shared rare participants and places, at most (0.1 = +10 %). Default 0.1. */
     overlapWeight: z.number().min(0).max(1).default(0.1),
     /**
      * A further link for the same sentence needs at least threshold + this. Default 0: every
-     * event clearing the threshold (up to three) gets a link of its own; against 0.1 it raised
-     * extended BCubed and pairwise F1 on meantime-en and the demo alike (sentences there often
-     * report several events), and cross-story recall on the demo from 28 to 38 %.
+     * event clearing the threshold (up to three) gets a link of its own, since sentences
+     * often report several events (docs/decisions/link-settings.md).
      */
     secondaryMargin: z.number().min(0).max(1).default(0),
     /** Terms kept per event centroid. Default 300. */
@@ -233,8 +231,7 @@ export const configSchema = z.strictObject({
     /**
      * Two events merge when their centroids' cosine times the time decay between them
      * reaches this. Default 0.4, twice the link threshold: centroids of one event agree more
-     * than a sentence agrees with a centroid. Improved CoNLL F1 on the demo, meantime-en
-     * and a synthetic stream alike from 0.3 to 0.6.
+     * than a sentence agrees with a centroid (docs/decisions/link-settings.md).
      */
     mergeThreshold: z.number().min(0).max(1).default(0.4),
     /** Dense (transformer) centroids are searched exactly up to this many events and with an HNSW index beyond. Default 20,000. */
