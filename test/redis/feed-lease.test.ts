@@ -7,18 +7,11 @@ import { connectRedis } from '../../src/store/redis/connect.js';
 import { openRedisStore } from '../../src/store/redis/redis-store.js';
 import { freshRedisStore, redisTestsRun } from '../helpers/redis.js';
 import { testConfig } from '../helpers/runtime.js';
+import { waitFor } from '../helpers/wait-for.js';
 
 const REDIS_URL = 'redis://127.0.0.1:6379';
 const silent = createLogger('silent');
 
-/** Polls `done` every 50 ms until it holds, failing after `ms` with what it waited for. */
-async function waitFor(what: string, done: () => boolean | Promise<boolean>, ms = 8000): Promise<void> {
-  const until = Date.now() + ms;
-  while (!(await done())) {
-    if (Date.now() > until) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 describe.skipIf(!redisTestsRun())('api processes sharing one partition\'s feeds', () => {
   it('poll each feed once, through whichever holds the lease, and see each other\'s changes', async () => {
@@ -32,8 +25,12 @@ describe.skipIf(!redisTestsRun())('api processes sharing one partition\'s feeds'
     const limits = { ...testConfig().ingest, allowPrivateNetworks: true };
     const options = { ...testConfig().poll, intervalSeconds: 600 };
     const submitted: string[] = [];
+    // How often each poller asked whether it may poll: the one without the lease must have
+    // asked, and been told no, before "it did not poll" means anything.
+    const asked = new Map<Lease, number>();
     const poller = (store: typeof first, lease: Lease) => new FeedPoller({
-      store, submit: async (a) => void submitted.push(...a.map((x) => x.id)), limits, options, logger: silent, polls: () => lease.held, refreshMs: 200,
+      store, submit: async (a) => void submitted.push(...a.map((x) => x.id)), limits, options, logger: silent, refreshMs: 200,
+      polls: () => (asked.set(lease, (asked.get(lease) ?? 0) + 1), lease.held),
     });
     const a = poller(first, leaseA);
     const b = poller(second, leaseB);
@@ -48,24 +45,25 @@ describe.skipIf(!redisTestsRun())('api processes sharing one partition\'s feeds'
       await b.load(feeds);
       a.start();
       b.start();
-      await waitFor('the three feeds polled', async () => (await first.listFeeds()).every((f) => f.state.requests === 1));
-      await new Promise((r) => setTimeout(r, 1200));
+      await waitFor('the three feeds polled', async () => (await first.listFeeds()).every((f) => f.state.requests === 1), 8000);
+      const askedBefore = asked.get(leaseB) ?? 0;
+      await waitFor('the poller without the lease to ask again three times', () => (asked.get(leaseB) ?? 0) >= askedBefore + 3, 8000);
       expect(server.counts().requests).toBe(3);
       expect(submitted).toHaveLength(9);
 
       // A change served by the process that does not poll reaches the stored feed and the poller.
       await b.update(feedId(server.url('/feeds/0.xml')), { paused: true });
-      await waitFor('the poller to see the pause', () => a.get(feedId(server.url('/feeds/0.xml')))?.paused === true);
+      await waitFor('the poller to see the pause', () => a.get(feedId(server.url('/feeds/0.xml')))?.paused === true, 8000);
       expect((await stored(0))!.state.requests).toBe(1);
       // A feed added there is polled by the lease holder.
       await b.add({ url: server.url('/feeds/3.xml') });
-      await waitFor('the added feed polled', async () => (await stored(3))?.state.requests === 1);
+      await waitFor('the added feed polled', async () => (await stored(3))?.state.requests === 1, 8000);
       expect(server.counts().requests).toBe(4);
 
       // The holder goes: the other takes the lease over.
       await a.stop();
       await leaseA.stop();
-      await waitFor('the lease to pass on', () => leaseB.held, 5000);
+      await waitFor('the lease to pass on', () => leaseB.held, 8000);
     } finally {
       await a.stop();
       await b.stop();

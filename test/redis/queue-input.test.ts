@@ -17,19 +17,14 @@ import type { Nlp } from '../../src/text/nlp.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { redisTestsRun } from '../helpers/redis.js';
 import { testConfig } from '../helpers/runtime.js';
+import { recordingLogger, waitFor } from '../helpers/wait-for.js';
 import { commitFixture } from '../contract/store-contract.js';
 
 const run = redisTestsRun();
 const REDIS_URL = 'redis://127.0.0.1:6379';
 const silent = createLogger('silent');
 
-async function until(check: () => Promise<boolean> | boolean, ms = 30_000): Promise<void> {
-  const end = Date.now() + ms;
-  while (!(await check())) {
-    if (Date.now() > end) throw new Error('timed out');
-    await new Promise((r) => setTimeout(r, 20));
-  }
-}
+const until = (check: () => Promise<boolean> | boolean, ms = 30_000): Promise<void> => waitFor('the condition', check, ms);
 
 describe.skipIf(!run)('the work queue with bad and failing input', () => {
   let config: Readonly<Config>;
@@ -181,9 +176,11 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
 
   it('lets only one linker link a partition: a second waits for the lease and takes over when the first stops', async () => {
     const first = await startLinker(config, silent);
-    const secondRt = await startLinkerLater(config);
+    const log = recordingLogger();
+    const secondRt = await startLinkerLater(config, log.logger);
     try {
-      await new Promise((r) => setTimeout(r, 400));
+      // It has asked for the lease and been refused, not merely not asked yet.
+      await waitFor('the second linker to find the lease held', () => log.said('another linker holds this partition'), 10_000);
       expect(secondRt.started).toBe(false);
       await first.stop();
       await until(() => secondRt.started, 10_000);
@@ -235,7 +232,8 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
     const runtime = await createRuntime(config, silent);
     const store = runtime.store as Awaited<ReturnType<typeof openRedisStore>>;
     const worker = await startWorker(config, silent);
-    const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys, logger: silent, leaseMs: 900, fence: (t) => store.fenceWrites(t) });
+    const log = recordingLogger();
+    const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys, logger: log.logger, leaseMs: 900, fence: (t) => store.fenceWrites(t) });
     const outcomes: ArticleOutcome[] = [];
     linker.outcome$.subscribe((o) => outcomes.push(o));
     await linker.start();
@@ -244,9 +242,11 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
       await until(() => outcomes.length === 1);
       // Another process takes the lease (as after an outage longer than the lease).
       await redis.set(keys.linkerLease, 'another-linker', 'PX', 2500);
-      await new Promise((r) => setTimeout(r, 700));
+      await waitFor('the linker to notice the lease gone', () => log.said('lost the linker lease'), 5000);
       await enqueueArticles(redis, keys, [demo[1]!, demo[2]!]);
-      await new Promise((r) => setTimeout(r, 1000));
+      // The worker has answered both (the linker could have linked them), yet none is stored.
+      await waitFor('the worker to answer both', async () => (await redis.hlen(keys.answered)) >= 2, 5000);
+      expect(await redis.get(keys.linkerLease)).toBe('another-linker');
       expect(await store.hasArticle(demo[1]!.id)).toBe(false);
       // The other lease lapses: this linker takes it back and links what waited.
       await until(() => outcomes.length === 3, 10_000);
@@ -263,12 +263,12 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
 });
 
 /** Starts a linker without waiting for its lease; `started` turns true once it holds it. */
-async function startLinkerLater(config: Readonly<Config>): Promise<{ started: boolean; stop(): Promise<void> }> {
+async function startLinkerLater(config: Readonly<Config>, logger = silent): Promise<{ started: boolean; stop(): Promise<void> }> {
   const redis = await connectRedis(REDIS_URL);
   const blocking = await connectRedis(REDIS_URL);
   const { createRuntime } = await import('../../src/runtime.js');
   const runtime = await createRuntime(config, silent);
-  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger: silent, leaseMs: 1500 });
+  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, leaseMs: 1500 });
   const handle = { started: false, stop: async () => {
     await linker.stop();
     await starting;

@@ -20,6 +20,7 @@ import type { Store } from '../../src/store/store.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { redisTestsRun, startPrivateRedis } from '../helpers/redis.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+import { waitFor } from '../helpers/wait-for.js';
 
 const run = redisTestsRun();
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
@@ -74,14 +75,6 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     short = await referenceOf(full.articles.slice(0, 400));
   }, 120_000);
 
-  /** Resolves once `done()` holds, or fails naming `what` after `ms`: a stalled run fails with a reason, not a timeout. */
-  async function waitFor(what: string, done: () => boolean | Promise<boolean>, ms: number, stepMs = 20): Promise<void> {
-    const deadline = Date.now() + ms;
-    while (!(await done())) {
-      if (Date.now() > deadline) throw new Error(`gave up waiting for ${what} after ${ms} ms`);
-      await new Promise((r) => setTimeout(r, stepMs));
-    }
-  }
 
   /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once `midwayAt` are linked. */
   async function distributedRun(url: string, articles: readonly Article[], midwayAt: number, leaseMs: number | undefined, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
