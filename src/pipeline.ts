@@ -14,7 +14,6 @@ import { type Observable, type OperatorFunction, bufferTime, concatMap, defer, f
 import type { Config } from './config/schema.js';
 import { type DetectedArticle, type MentionSelection, detectMentions } from './detect/detect-mentions.js';
 import type { Embedder } from './embed/embedder.js';
-import { TfidfEmbedder } from './embed/tfidf-embedder.js';
 import { describeError } from './errors.js';
 import { type EventState, deserialiseEvent, serialiseEvent, toRecord } from './link/event-state.js';
 import type { LinkPlan, OnlineLinker } from './link/online-linker.js';
@@ -257,7 +256,7 @@ export function admitWork(ctx: PipelineContext): (work: DetectedWork) => Promise
  * in one batch, which is what keeps a transformer model busy.
  */
 async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedWork>[]): Promise<Flow<EmbeddedArticle>[]> {
-  const tfidf = ctx.embedder instanceof TfidfEmbedder ? ctx.embedder : null;
+  const { embedder } = ctx;
   const prepared = group.map((f) => {
     if (f.done) return f;
     const a = f.go;
@@ -265,8 +264,8 @@ async function embedGroup(ctx: PipelineContext, group: readonly Flow<DetectedWor
     ctx.embedder.learn?.(a.sentences.map((s) => ({ text: s.sentence.text, terms: s.terms })));
     // Taken here, not at commit: each article commits exactly its own increments, so a
     // crash never stores a later article's.
-    const idf = tfidf ? tfidf.takeDelta() : null;
-    const vectors = a.vectors ?? (tfidf ? a.mentions.map((m) => tfidf.vector(m.terms)) : null);
+    const idf = embedder.takeLearned?.() ?? null;
+    const vectors = a.vectors ?? (embedder.vectorNow ? a.mentions.map((m) => embedder.vectorNow!(m.terms)) : null);
     // The whole article, for its story, as the frequencies stand after it (like its sentences).
     const docVector = ctx.embedder.documentVector?.(a.sentences.flatMap((s) => s.terms)) ?? null;
     return { a, idf, vectors, docVector };
@@ -553,7 +552,7 @@ export async function reloadLinking(ctx: PipelineContext): Promise<void> {
   ctx.linker.load(snapshot.events.map(deserialiseEvent), snapshot.tally);
   ctx.stories.reset();
   ctx.stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);
-  if (ctx.embedder instanceof TfidfEmbedder) ctx.embedder.load(snapshot.idf);
+  ctx.embedder.load?.(snapshot.idf);
   await ctx.copies?.load(ctx.store);
 }
 

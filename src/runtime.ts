@@ -5,7 +5,6 @@
  */
 import type { Config } from './config/schema.js';
 import type { Embedder } from './embed/embedder.js';
-import { TfidfEmbedder } from './embed/tfidf-embedder.js';
 import { createEmbedder } from './embed/create-embedder.js';
 import { claimVectorSpace, vectorSpaceOf } from './embed/vector-space.js';
 import { deserialiseEvent } from './link/event-state.js';
@@ -41,7 +40,7 @@ export async function createRuntime(config: Readonly<Config>, logger: Logger, st
     if (!store) await s.close();
     throw err;
   }
-  if (embedder instanceof TfidfEmbedder) embedder.load(snapshot.idf);
+  embedder.load?.(snapshot.idf);
   linker.load(events, snapshot.tally);
   const stories = new StoryLinker(config.link);
   stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);

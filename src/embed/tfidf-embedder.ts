@@ -10,20 +10,13 @@
  *                                                 specific words more against topical ones)
  */
 import type { SparseVector } from '../records.js';
-import type { EmbedInput, Embedder } from './embedder.js';
+import type { EmbedInput, Embedder, LearnedDelta, LearnedState } from './embedder.js';
 
 /** Document-frequency state, for persistence. */
-export interface IdfState {
-  docs: number;
-  /** [feature, df] pairs. */
-  df: Iterable<readonly [number, number]>;
-}
+export type IdfState = LearnedState;
 
-/** Changes to the document frequencies since the last call to takeDelta(). */
-export interface IdfDelta {
-  docs: number;
-  df: Map<number, number>;
-}
+/** Changes to the document frequencies since the last call to takeLearned(). */
+export type IdfDelta = LearnedDelta;
 
 /** FNV-1a 32-bit over UTF-16 code units (Fowler, Noll, Vo; common practice for feature hashing). */
 export function fnv1a(s: string): number {
@@ -80,7 +73,7 @@ export class TfidfEmbedder implements Embedder {
   }
 
   /** Returns and clears the document-frequency changes since the last call. */
-  takeDelta(): IdfDelta {
+  takeLearned(): IdfDelta {
     const d = this.delta;
     this.delta = { docs: 0, df: new Map() };
     return d;
@@ -98,6 +91,11 @@ export class TfidfEmbedder implements Embedder {
 
   /** A whole article's TF-IDF vector (its terms pooled, as one document). */
   documentVector(terms: readonly string[]): SparseVector {
+    return this.vector(terms);
+  }
+
+  /** The TF-IDF vector of one term list as the frequencies stand now. */
+  vectorNow(terms: readonly string[]): SparseVector {
     return this.vector(terms);
   }
 

@@ -64,10 +64,10 @@ describe('the TF-IDF embedder', () => {
   it('reports what it learned since the last delta, and resumes from saved state', () => {
     const e = new TfidfEmbedder(16);
     e.learn([{ text: '', terms: ['a', 'a'] }]);
-    const d = e.takeDelta();
+    const d = e.takeLearned();
     expect(d.docs).toBe(1);
     expect(d.df.get(fnv1a('a') & 0xffff)).toBe(1);
-    expect(e.takeDelta().docs).toBe(0);
+    expect(e.takeLearned().docs).toBe(0);
     const f = new TfidfEmbedder(16);
     f.load({ docs: d.docs, df: d.df });
     expect(f.idf(fnv1a('a') & 0xffff)).toBe(e.idf(fnv1a('a') & 0xffff));
