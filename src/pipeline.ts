@@ -318,7 +318,7 @@ class ConsolidationCadence {
   constructor(private readonly ctx: PipelineContext) {}
 
   /** Counts one more article about to be stored; true when consolidation is due after it. */
-  async next(): Promise<boolean> {
+  async afterArticle(): Promise<boolean> {
     const every = this.ctx.config.link.consolidateEvery;
     this.stored = this.stored === null ? (await this.ctx.store.counts()).articles + 1 : this.stored + 1;
     return every > 0 && this.stored % every === 0;
@@ -376,7 +376,7 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
       unsplit.push(id);
       continue;
     }
-    await useStoredLabels(ctx, [plan.kept]);
+    await applyStoredLabels(ctx, [plan.kept]);
     // The store relabels the event left behind when its label sentence moved (commitSplit);
     // the notification says the same: its earliest remaining sentence, as listed.
     const moved = new Set(plan.moved.map((m) => `${m.articleId}#${m.sentenceIndex}`));
@@ -405,7 +405,7 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?:
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
     if (signal?.aborted) break;
     const merged = ctx.linker.mergedState(m.into, m.from, await ctx.store.linkedToBoth(m.into, m.from));
-    await useStoredLabels(ctx, [merged]);
+    await applyStoredLabels(ctx, [merged]);
     const at = ctx.now().toISOString();
     await ctx.store.commitMerge({
       into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
@@ -424,7 +424,7 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?:
  * relabelled an event since the linker read it, and a notification must not carry erased
  * text. The states are the linker's own, so its memory is brought up to date as well.
  */
-async function useStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
+async function applyStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
   // Without subscribers nothing is notified, and commits never write an existing label.
   if (events.length === 0 || ctx.config.webhooks.subscribers.length === 0) return;
   const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
@@ -463,7 +463,7 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
     });
     const subscribers = ctx.config.webhooks.subscribers;
     const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
-    await useStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
+    await applyStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
     const commits: ArticleCommit[] = batch.map((p, k) => ({
       ...p.commit,
       events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
@@ -527,7 +527,7 @@ async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArti
         tally: plan.tally,
       },
     });
-    if (await cadence.next()) {
+    if (await cadence.afterArticle()) {
       // Consolidation reads what is stored: commit what is pending first.
       await flush();
       if (outcomes[i]?.status !== 'stored') continue;

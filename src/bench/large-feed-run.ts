@@ -7,7 +7,7 @@ import { mkdtempSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { DEMO_FEEDS } from '../cli/common.js';
-import { runFeeds } from '../cli/run-feeds.js';
+import { runSources } from '../cli/run-sources.js';
 import { parseConfig } from '../config/load-config.js';
 import { createLogger } from '../logger.js';
 import { createRuntime } from '../runtime.js';
@@ -31,8 +31,8 @@ try {
   const config = parseConfig({ store: { path: join(dir, 'store.sqlite') }, log: { level: 'error' } });
   const rt = await createRuntime(config, createLogger('error'));
   // An existing store: the demo first.
-  await runFeeds(rt, [DEMO_FEEDS]);
-  const summary = await runFeeds(rt, [feed]);
+  await runSources(rt, [DEMO_FEEDS]);
+  const summary = await runSources(rt, [feed]);
   await rt.close();
   const row: LargeFeedRow = {
     items: summary.articlesRead, feedBytes: statSync(feed).size, stored: summary.stored,

@@ -60,9 +60,9 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
 
 /** The compiled worker next to this file; from sources (tests, tsx) the TypeScript one, through tsx. */
 function workerFile(): { filename: string; execArgv?: string[] } {
-  const js = new URL('./analysis-worker.js', import.meta.url);
+  const js = new URL('./analysis-thread.js', import.meta.url);
   if (existsSync(fileURLToPath(js))) return { filename: js.href };
   // tsx by its path: the working directory may be anywhere.
   const tsx = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
-  return { filename: new URL('./analysis-worker.ts', import.meta.url).href, execArgv: ['--import', tsx] };
+  return { filename: new URL('./analysis-thread.ts', import.meta.url).href, execArgv: ['--import', tsx] };
 }

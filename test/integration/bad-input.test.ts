@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import iconv from 'iconv-lite';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cli } from '../helpers/cli-in-process.js';
-import { runFeeds, type RunSummary } from '../../src/cli/run-feeds.js';
+import { runSources, type RunSummary } from '../../src/cli/run-sources.js';
 import type { Runtime } from '../../src/runtime.js';
 import { testRuntime } from '../helpers/runtime.js';
 
@@ -28,7 +28,7 @@ describe('a replay over bad input', () => {
   let summary: RunSummary;
   beforeAll(async () => {
     rt = await testRuntime();
-    summary = await runFeeds(rt, [dir]);
+    summary = await runSources(rt, [dir]);
   });
   afterAll(async () => rt.close());
 

@@ -3,7 +3,7 @@ import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { Webhook } from 'standardwebhooks';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { runFeeds } from '../../src/cli/run-feeds.js';
+import { runSources } from '../../src/cli/run-sources.js';
 import { createLogger } from '../../src/logger.js';
 import { WebhookDispatcher } from '../../src/notify/webhook-dispatcher.js';
 import type { Runtime } from '../../src/runtime.js';
@@ -45,7 +45,7 @@ describe('feeds in, signed notifications out', () => {
 
   it('reads feeds from URLs and delivers "event opened", "event reached a new outlet" and their story counterparts, signed', async () => {
     const base = `http://127.0.0.1:${(feedServer.address() as AddressInfo).port}`;
-    const summary = await runFeeds(rt, [`${base}/northwire.json`, `${base}/courier.xml`, `${base}/missing.json`]);
+    const summary = await runSources(rt, [`${base}/northwire.json`, `${base}/courier.xml`, `${base}/missing.json`]);
     expect(summary.stored).toBe(35);
     expect(summary.problems).toEqual([expect.objectContaining({ code: 'STRAND_SOURCE_UNREADABLE', message: expect.stringMatching(/HTTP 404/) })]);
 

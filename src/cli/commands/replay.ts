@@ -2,7 +2,7 @@
 import { SingleBar, Presets } from 'cli-progress';
 import { createRuntime } from '../../runtime.js';
 import { type CommonOptions, setup } from '../common.js';
-import { formatSummary, runFeeds } from '../run-feeds.js';
+import { formatSummary, runSources } from '../run-sources.js';
 import { listenForStop } from '../stop-signals.js';
 
 /** Options of replay and ingest. */
@@ -26,7 +26,7 @@ export async function replayCommand(sources: string[], opts: ReplayOptions): Pro
   // Without a progress bar, a line on stderr says the run is under way (scripts and logs see it start).
   const say = (line: string): void => void (!showBar && process.stderr.write(`${line}\n`));
   try {
-    const summary = await runFeeds(rt, sources, { paceMs: opts.pace ?? 0, signal: stop.signal }, {
+    const summary = await runSources(rt, sources, { paceMs: opts.pace ?? 0, signal: stop.signal }, {
       onStart: () => say(`reading ${sources.length} source(s)…`),
       onRead: (total) => (showBar ? bar.start(total, 0) : say(`running ${total} article(s)…`)),
       onOutcome: (_o, done) => showBar && bar.update(done),

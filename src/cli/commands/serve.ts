@@ -20,7 +20,7 @@ import { openStore } from '../../store/open-store.js';
 import { keyspace } from '../../store/redis/keys.js';
 import { RetentionSweeper } from '../../store/retention-sweeper.js';
 import { type CommonOptions, DEMO_FEEDS, setup, version } from '../common.js';
-import { formatSummary, runFeeds } from '../run-feeds.js';
+import { formatSummary, runSources } from '../run-sources.js';
 import { listenForStop } from '../stop-signals.js';
 
 /** Options of serve. */
@@ -81,7 +81,7 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
   const replay = sources.length === 0 ? Promise.resolve() : (async () => {
     status.state = 'replaying';
     process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`);
-    const summary = await intake.exclusive(() => runFeeds(rt, sources, { signal: stopping }, {
+    const summary = await intake.exclusive(() => runSources(rt, sources, { signal: stopping }, {
       onRead: (total) => { status.total = total; },
       onOutcome: (o, done) => {
         status.processed = done;

@@ -45,7 +45,7 @@ const DRAIN_MS = 3_000;
  * `signal` aborts, no further article enters the pipeline; those already on their way are
  * finished (each committed whole) for up to `drainMs`, then the run ends where it is.
  */
-export async function runFeeds(rt: Runtime, sources: readonly string[], opts: { paceMs?: number; signal?: AbortSignal; drainMs?: number } = {}, hooks: RunHooks = {}): Promise<RunSummary> {
+export async function runSources(rt: Runtime, sources: readonly string[], opts: { paceMs?: number; signal?: AbortSignal; drainMs?: number } = {}, hooks: RunHooks = {}): Promise<RunSummary> {
   const t0 = performance.now();
   hooks.onStart?.();
   const input = await readReplayInput(sources, rt.config.ingest, opts.signal);
