@@ -8,7 +8,7 @@ export { StrandError, isStrandError, ERROR_CODES, type ErrorCode } from './error
 export type * from './records.js';
 export { createLogger } from './logger.js';
 export { createRuntime, type Runtime } from './runtime.js';
-export { runPipeline, type ArticleOutcome, type PipelineContext } from './pipeline.js';
+export { runPipeline, type ArticleOutcome, type PipelineContext } from './pipeline/index.js';
 export { readReplayInput } from './ingest/replay-source.js';
 export { readFeedDocument, listFeedFiles } from './ingest/read-source.js';
 export { parseFeed } from './ingest/parse-feed.js';

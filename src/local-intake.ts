@@ -7,7 +7,7 @@
 import { from, lastValueFrom, tap } from 'rxjs';
 import { describeError } from './errors.js';
 import type { Logger } from './logger.js';
-import { type ArticleOutcome, type PipelineContext, runPipeline } from './pipeline.js';
+import { type ArticleOutcome, type PipelineContext, runPipeline } from './pipeline/index.js';
 import type { Article } from './records.js';
 
 export class LocalIntake {

@@ -12,7 +12,7 @@ import { OnlineLinker } from './link/online-linker.js';
 import { StoryLinker } from './link/story-linker.js';
 import { deserialiseStory } from './link/story-state.js';
 import type { Logger } from './logger.js';
-import type { PipelineContext } from './pipeline.js';
+import type { PipelineContext } from './pipeline/index.js';
 import { openStore } from './store/open-store.js';
 import type { Store } from './store/store.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from './text/analysis-pool.js';

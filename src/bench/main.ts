@@ -30,7 +30,7 @@ import { from, lastValueFrom, toArray } from 'rxjs';
 import { parseConfig } from '../config/load-config.js';
 import { readReplayInput } from '../ingest/replay-source.js';
 import { createLogger } from '../logger.js';
-import { runPipeline } from '../pipeline.js';
+import { runPipeline } from '../pipeline/index.js';
 import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';

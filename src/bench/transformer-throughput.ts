@@ -14,7 +14,7 @@ import { from, lastValueFrom, toArray } from 'rxjs';
 import { parseConfig } from '../config/load-config.js';
 import { TransformerEmbedder } from '../embed/transformer-embedder.js';
 import { createLogger } from '../logger.js';
-import { runPipeline } from '../pipeline.js';
+import { runPipeline } from '../pipeline/index.js';
 import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { analysisThreads, startAnalysisPool } from '../text/analysis-pool.js';

@@ -20,7 +20,7 @@ import { from, lastValueFrom, toArray } from 'rxjs';
 import { parseConfig } from '../config/load-config.js';
 import { enqueueArticles, ensureIntake } from '../distribute/intake.js';
 import { createLogger } from '../logger.js';
-import { runPipeline } from '../pipeline.js';
+import { runPipeline } from '../pipeline/index.js';
 import type { Article } from '../records.js';
 import { createRuntime } from '../runtime.js';
 import { keyspace } from '../store/redis/keys.js';

@@ -5,7 +5,7 @@
 import { NEVER, type Observable, concatMap, delay, from, fromEvent, lastValueFrom, of, take, takeUntil, tap, timer } from 'rxjs';
 import { readReplayInput } from '../ingest/replay-source.js';
 import type { IngestProblem } from '../ingest/read-source.js';
-import { type ArticleOutcome, runPipeline } from '../pipeline.js';
+import { type ArticleOutcome, runPipeline } from '../pipeline/index.js';
 import type { Runtime } from '../runtime.js';
 
 /** Totals of one run. */

@@ -17,7 +17,7 @@ import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitWork, linkStages, outcomeOf, reloadLinking } from '../pipeline.js';
+import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitWork, linkStages, outcomeOf, reloadLinking } from '../pipeline/index.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';

@@ -5,7 +5,7 @@
  */
 import { z } from 'zod';
 import { StrandError } from '../errors.js';
-import type { DetectedWork } from '../pipeline.js';
+import type { DetectedWork } from '../pipeline/index.js';
 import type { Article, Vector } from '../records.js';
 
 const MAX_ARTICLE_JSON = 2 * 1024 * 1024;

@@ -14,7 +14,7 @@ import { detectMentions } from '../detect/detect-mentions.js';
 import type { Embedder } from '../embed/embedder.js';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import type { DetectedWork } from '../pipeline.js';
+import type { DetectedWork } from '../pipeline/index.js';
 import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';

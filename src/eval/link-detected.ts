@@ -12,7 +12,7 @@ import type { Embedder } from '../embed/embedder.js';
 import { OnlineLinker } from '../link/online-linker.js';
 import { StoryLinker } from '../link/story-linker.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, type DetectedWork, type PipelineContext, admitWork, linkStages } from '../pipeline.js';
+import { type ArticleOutcome, type DetectedWork, type PipelineContext, admitWork, linkStages } from '../pipeline/index.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
 import type { Nlp } from '../text/nlp.js';
 

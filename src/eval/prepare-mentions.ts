@@ -10,7 +10,7 @@ import { ARTICLE_MENTION, type MentionSelection, detectMentions } from '../detec
 import type { Embedder } from '../embed/embedder.js';
 import { TfidfEmbedder } from '../embed/tfidf-embedder.js';
 import { contentHash } from '../ingest/to-article.js';
-import type { DetectedWork } from '../pipeline.js';
+import type { DetectedWork } from '../pipeline/index.js';
 import type { Article, EmbeddedMention } from '../records.js';
 import { analyseArticle, presplitText } from '../text/analyse-article.js';
 import type { Nlp } from '../text/nlp.js';

@@ -12,7 +12,7 @@ import { createEmbedder } from '../embed/create-embedder.js';
 import type { Embedder } from '../embed/embedder.js';
 import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import type { ArticleOutcome } from '../pipeline.js';
+import type { ArticleOutcome } from '../pipeline/index.js';
 import { createNlp } from '../text/nlp.js';
 import { type Clustering, allSingletons, averageLinkDendrogram, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
 import type { EvalCorpus } from './corpus.js';

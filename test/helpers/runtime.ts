@@ -7,7 +7,7 @@ import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import type { Config } from '../../src/config/schema.js';
 import { createLogger } from '../../src/logger.js';
-import { type ArticleOutcome, runPipeline } from '../../src/pipeline.js';
+import { type ArticleOutcome, runPipeline } from '../../src/pipeline/index.js';
 import type { Article } from '../../src/records.js';
 import { type Runtime, createRuntime } from '../../src/runtime.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';

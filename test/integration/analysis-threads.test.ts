@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
-import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { ArticleOutcome } from '../../src/pipeline/index.js';
 import type { Article } from '../../src/records.js';
 import { analyseArticle } from '../../src/text/analyse-article.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from '../../src/text/analysis-pool.js';

@@ -1,7 +1,7 @@
 import { from, lastValueFrom, tap, toArray } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
-import { runPipeline } from '../../src/pipeline.js';
+import { runPipeline } from '../../src/pipeline/index.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { testConfig, testRuntime } from '../helpers/runtime.js';
 

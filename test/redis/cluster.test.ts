@@ -9,7 +9,7 @@ import { enqueueArticles } from '../../src/distribute/intake.js';
 import { startLinker, startWorker } from '../../src/distribute/roles.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { createLogger } from '../../src/logger.js';
-import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { ArticleOutcome } from '../../src/pipeline/index.js';
 import { connectRedis } from '../../src/store/redis/connect.js';
 import { keyspace } from '../../src/store/redis/keys.js';
 import { openRedisStore, type RedisStore } from '../../src/store/redis/redis-store.js';

@@ -9,7 +9,7 @@ import { AnalysisWorker } from '../../src/distribute/worker.js';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { createLogger } from '../../src/logger.js';
-import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { ArticleOutcome } from '../../src/pipeline/index.js';
 import type { Article } from '../../src/records.js';
 import { type Keyspace, keyspace } from '../../src/store/redis/keys.js';
 import { connectRedis, openRedisStore } from '../../src/store/redis/redis-store.js';

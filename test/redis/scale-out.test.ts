@@ -13,7 +13,7 @@ import { scorePartitions } from '../../src/eval/partition-metrics.js';
 import { toArticles } from '../../src/eval/prepare-mentions.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { createLogger } from '../../src/logger.js';
-import type { ArticleOutcome } from '../../src/pipeline.js';
+import type { ArticleOutcome } from '../../src/pipeline/index.js';
 import type { Article } from '../../src/records.js';
 import { openRedisStore } from '../../src/store/redis/redis-store.js';
 import type { Store } from '../../src/store/store.js';

@@ -1,0 +1,141 @@
+/**
+ * Consolidation: at fixed points of the stream, merges stories and events that turn out to
+ * be one and splits events that drifted into two happenings, each change one transaction
+ * with its notifications (labels as the store holds them).
+ */
+import { type EventState, serialiseEvent, toRecord } from '../link/event-state.js';
+import { buildMergeMessages, buildSplitMessages, buildStoryMergeMessages } from '../notify/messages.js';
+import type { EmbeddedMention } from '../records.js';
+import { serialiseStory, storyRecord } from '../link/story-state.js';
+import { ERASED_LABEL, drawnFrom } from '../store/store.js';
+import { type ArticleOutcome, type ConsolidationOutcome, type PipelineContext, type SplitOutcome } from './context.js';
+
+/**
+ * Counts stored articles over the whole store, so that a restarted process consolidates at
+ * the same points, and says when consolidation is due (every `consolidateEvery`).
+ */
+export class ConsolidationCadence {
+  private stored: number | null = null;
+
+  constructor(private readonly ctx: PipelineContext) {}
+
+  /** Counts one more article about to be stored; true when consolidation is due after it. */
+  async afterArticle(): Promise<boolean> {
+    const every = this.ctx.config.link.consolidateEvery;
+    this.stored = this.stored === null ? (await this.ctx.store.counts()).articles + 1 : this.stored + 1;
+    return every > 0 && this.stored % every === 0;
+  }
+
+  /** Forgets the count (after a failed commit it is read from the store again). */
+  reset(): void {
+    this.stored = null;
+  }
+}
+
+/**
+ * Consolidation over the events among `ids`: merges those that turn out to be one, then
+ * splits those whose mentions drifted apart. Each merge and split is its own commit; when
+ * `signal` aborts, the pass stops after the one in hand.
+ */
+export async function consolidate(ctx: PipelineContext, ids: readonly string[], storyIds: readonly string[], signal?: AbortSignal): Promise<ConsolidationOutcome> {
+  const merges = await mergeEvents(ctx, ids, signal);
+  const gone = new Set(merges.map((m) => m.from));
+  const splits = signal?.aborted ? [] : await splitEvents(ctx, ids.filter((id) => !gone.has(id)), signal);
+  const storyMerges = signal?.aborted ? [] : await mergeStoriesOf(ctx, storyIds, signal);
+  return { merges, splits, storyMerges };
+}
+
+/** Merges the stories among `ids` that turn out to be one thread; each merge is its own commit. */
+async function mergeStoriesOf(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<ArticleOutcome['storyMerges']> {
+  const done: ArticleOutcome['storyMerges'] = [];
+  for (const m of ctx.stories.planMerges(ids)) {
+    if (signal?.aborted) break;
+    const merged = ctx.stories.mergedState(m.into, m.from);
+    await ctx.store.commitStoryMerge({
+      into: { record: storyRecord(merged), state: serialiseStory(merged) }, from: m.from, score: m.score, at: ctx.now().toISOString(),
+      messages: buildStoryMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.stories.applyMerge(merged, m.from);
+    done.push(m);
+  }
+  return done;
+}
+
+/** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
+async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<SplitOutcome[]> {
+  const done: SplitOutcome[] = [];
+  // Events examined and left whole: their marks are stored, so a restart examines the same.
+  const unsplit: string[] = [];
+  for (const id of ctx.linker.splitCandidates(ids)) {
+    if (signal?.aborted) break;
+    const linked = await ctx.store.linkedMentions(id);
+    if (linked.some((l) => l.mention.vector === null)) {
+      unsplit.push(id);
+      continue;
+    }
+    const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
+    if (!plan) {
+      unsplit.push(id);
+      continue;
+    }
+    await applyStoredLabels(ctx, [plan.kept]);
+    // The store relabels the event left behind when its label sentence moved (commitSplit);
+    // the notification says the same: its earliest remaining sentence, as listed.
+    const moved = new Set(plan.moved.map((m) => `${m.articleId}#${m.sentenceIndex}`));
+    const movedTexts = linked.filter((l) => moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`)).map((l) => l.mention.text).filter((t) => t !== '');
+    if (drawnFrom(plan.kept.label, movedTexts)) {
+      plan.kept.label = linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text ?? ERASED_LABEL;
+    }
+    await ctx.store.commitSplit({
+      from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
+      into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
+      moved: plan.moved, score: plan.score, at: ctx.now().toISOString(),
+      messages: buildSplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.linker.applySplit(plan);
+    done.push({ from: id, into: plan.split.id, score: plan.score, moved: plan.moved });
+  }
+  const marks = unsplit.map((id) => ctx.linker.event(id)).filter((e): e is EventState => e !== undefined);
+  await ctx.store.putEventStates(marks.map((e) => ({ id: e.id, state: serialiseEvent(e) })));
+  if (done.length) ctx.logger.child({ stage: 'link' }).debug({ splits: done.length }, 'consolidation split events');
+  return done;
+}
+
+/** Merges the events among `ids` that turn out to be one; each merge is its own commit. */
+async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?: AbortSignal): Promise<ArticleOutcome['merges']> {
+  const done: ArticleOutcome['merges'] = [];
+  for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
+    if (signal?.aborted) break;
+    const merged = ctx.linker.mergedState(m.into, m.from, await ctx.store.linkedToBoth(m.into, m.from));
+    await applyStoredLabels(ctx, [merged]);
+    const at = ctx.now().toISOString();
+    await ctx.store.commitMerge({
+      into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
+      from: m.from, score: m.score, at,
+      messages: buildMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.linker.applyMerge(merged, m.from);
+    done.push(m);
+  }
+  if (done.length) ctx.logger.child({ stage: 'link' }).debug({ merges: done.length }, 'consolidation merged events');
+  return done;
+}
+
+/**
+ * Gives events the labels the store holds, before they are notified: an erasure may have
+ * relabelled an event since the linker read it, and a notification must not carry erased
+ * text. The states are the linker's own, so its memory is brought up to date as well.
+ */
+export async function applyStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
+  // Without subscribers nothing is notified, and commits never write an existing label.
+  if (events.length === 0 || ctx.config.webhooks.subscribers.length === 0) return;
+  const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
+  for (const e of events) {
+    const label = labels.get(e.id);
+    if (label !== undefined) e.label = label;
+  }
+}
+
+export function outletRows(e: EventState): { outlet: string; mentions: number; independent: number }[] {
+  return [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent }));
+}
