@@ -10,15 +10,13 @@
 import { hostname } from 'node:os';
 import type { RedisClient } from '../store/redis/connect.js';
 import type { Config } from '../config/schema.js';
-import { detectMentions } from '../detect/detect-mentions.js';
 import type { Embedder } from '../embed/embedder.js';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import type { DetectedWork } from '../pipeline/index.js';
+import { type DetectedWork, detectWork, embedTogether } from '../pipeline/index.js';
 import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
-import { analyseArticle } from '../text/analyse-article.js';
 import type { Nlp } from '../text/nlp.js';
 import { WORKER_GROUP, ensureIntake, fieldMap } from './intake.js';
 import { decodeArticle, encodeWork } from './wire.js';
@@ -123,18 +121,16 @@ export class AnalysisWorker {
       }
       try {
         // Workers scale by process, so each analyses on its own thread.
-        ready.push({ id, work: detectMentions(analyseArticle(this.d.nlp, article), this.d.config.detect.threshold) });
+        ready.push({ id, work: detectWork(this.d.nlp, article, this.d.config.detect.threshold) });
       } catch (err) {
         await this.failed(id, body, describeError(err));
       }
     }
     if (ready.length === 0) return;
     if (!this.d.embedder.learn) {
-      const mentions = ready.flatMap((r) => r.work.mentions);
       try {
-        const vectors = mentions.length ? await this.d.embedder.embed(mentions) : [];
-        let at = 0;
-        for (const r of ready) r.work = { ...r.work, vectors: vectors.slice(at, (at += r.work.mentions.length)) };
+        const vectors = await embedTogether(this.d.embedder, ready.map((r) => r.work.mentions));
+        ready.forEach((r, i) => (r.work = { ...r.work, vectors: vectors[i]! }));
       } catch (err) {
         for (const r of ready) await this.failed(r.id, JSON.stringify(r.work.article), `embed: ${describeError(err)}`);
         return;

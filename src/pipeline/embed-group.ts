@@ -3,9 +3,12 @@
  * (a model that learns from the stream sees them in stream order) and the group's mentions
  * are embedded in one batch; each article also gets its whole-text vector for its story.
  */
-import { type DetectedArticle } from '../detect/detect-mentions.js';
+import { type DetectedArticle, type MentionSelection, detectMentions } from '../detect/detect-mentions.js';
+import type { EmbedInput, Embedder } from '../embed/embedder.js';
+import { analyseArticle } from '../text/analyse-article.js';
+import type { Nlp } from '../text/nlp.js';
 import { describeError } from '../errors.js';
-import type { DenseVector, Vector } from '../records.js';
+import type { Article, DenseVector, Vector } from '../records.js';
 import { type StoryArticle } from '../link/story-state.js';
 import { type DetectedWork, type EmbeddedArticle, type Flow, type PipelineContext, outcomeOf } from './context.js';
 
@@ -29,19 +32,19 @@ export async function embedGroup(ctx: PipelineContext, group: readonly Flow<Dete
     const docVector = ctx.embedder.documentVector?.(a.sentences.flatMap((s) => s.terms)) ?? null;
     return { a, idf, vectors, docVector };
   });
-  const pending = prepared.flatMap((p) => ('a' in p && !p.vectors ? p.a.mentions : []));
-  let batch: Vector[] = [];
+  const pending = prepared.filter((p): p is Extract<typeof p, { a: unknown }> => 'a' in p && !p.vectors);
+  let batch: Vector[][] = [];
   try {
-    batch = pending.length ? await ctx.embedder.embed(pending) : [];
+    batch = await embedTogether(ctx.embedder, pending.map((p) => p.a.mentions));
   } catch (err) {
     const reason = `embed: ${describeError(err)}`;
     ctx.logger.child({ stage: 'embed' }).error({ articles: group.length, err: reason }, 'embedding failed');
     return prepared.map((p) => ('a' in p ? { done: outcomeOf(p.a.article, 'rejected', reason) } : p));
   }
-  let at = 0;
+  let next = 0;
   return prepared.map((p) => {
     if (!('a' in p)) return p;
-    const vectors = p.vectors ?? batch.slice(at, (at += p.a.mentions.length));
+    const vectors = p.vectors ?? batch[next++]!;
     const { vectors: _carried, ...a } = p.a;
     return { go: { ...a, idf: p.idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })), storyInput: storyInput(a, p.docVector ?? meanVector(vectors)) } };
   });
@@ -65,4 +68,20 @@ function meanVector(vectors: readonly Vector[]): Vector | null {
   n = Math.sqrt(n) || 1;
   for (let i = 0; i < sum.length; i++) sum[i]! /= n;
   return { kind: 'dense', values: sum };
+}
+
+/**
+ * Embeds the mentions of several articles in one batch (what keeps a transformer busy) and
+ * gives each article its vectors, in order. The pipeline and the scale-out worker share it.
+ */
+export async function embedTogether(embedder: Embedder, perArticle: readonly (readonly EmbedInput[])[]): Promise<Vector[][]> {
+  const all = perArticle.flat();
+  const batch = all.length ? await embedder.embed(all) : [];
+  let at = 0;
+  return perArticle.map((m) => batch.slice(at, (at += m.length)));
+}
+
+/** Analysis and mention detection on the calling thread: one article, start to finish. */
+export function detectWork(nlp: Nlp, article: Article, threshold: number, select?: MentionSelection): DetectedArticle {
+  return detectMentions(analyseArticle(nlp, article), threshold, select);
 }

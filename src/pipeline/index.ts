@@ -7,3 +7,4 @@ export { admitStage, admitWork } from './admit.js';
 export { consolidate } from './consolidate.js';
 export { reloadLinking } from './link-group.js';
 export { linkStages, runPipeline } from './run-pipeline.js';
+export { detectWork, embedTogether } from './embed-group.js';
