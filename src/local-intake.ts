@@ -14,7 +14,10 @@ export class LocalIntake {
   private tail: Promise<unknown> = Promise.resolve();
   private readonly log: Logger;
 
-  constructor(private readonly ctx: PipelineContext, private readonly onOutcome: (o: ArticleOutcome) => void = () => undefined) {
+  constructor(
+    private readonly ctx: PipelineContext,
+    private readonly onOutcome: (o: ArticleOutcome) => void = () => undefined,
+  ) {
     this.log = ctx.logger.child({ stage: 'intake' });
   }
 
@@ -27,8 +30,9 @@ export class LocalIntake {
 
   /** Queues a batch; resolves at once (the batch runs when its turn comes). */
   submit(articles: readonly Article[]): Promise<void> {
-    void this.exclusive(() => lastValueFrom(runPipeline(from(articles), this.ctx).pipe(tap((o) => this.onOutcome(o))), { defaultValue: null }))
-      .catch((err: unknown) => this.log.error({ err: describeError(err), articles: articles.length }, 'pushed batch failed'));
+    void this.exclusive(() =>
+      lastValueFrom(runPipeline(from(articles), this.ctx).pipe(tap((o) => this.onOutcome(o))), { defaultValue: null }),
+    ).catch((err: unknown) => this.log.error({ err: describeError(err), articles: articles.length }, 'pushed batch failed'));
     return Promise.resolve();
   }
 

@@ -11,19 +11,17 @@ export function orderedMergeMap<A, B>(project: (a: A) => Promise<B>, concurrency
     new Observable<B>((subscriber) => {
       const ready = new Map<number, B>();
       let next = 0;
-      return source
-        .pipe(mergeMap((a, i) => from(project(a)).pipe(map((b) => [i, b] as const)), Math.max(1, concurrency)))
-        .subscribe({
-          next: ([i, b]) => {
-            ready.set(i, b);
-            while (ready.has(next)) {
-              const value = ready.get(next) as B;
-              ready.delete(next++);
-              subscriber.next(value);
-            }
-          },
-          error: (err: unknown) => subscriber.error(err),
-          complete: () => subscriber.complete(),
-        });
+      return source.pipe(mergeMap((a, i) => from(project(a)).pipe(map((b) => [i, b] as const)), Math.max(1, concurrency))).subscribe({
+        next: ([i, b]) => {
+          ready.set(i, b);
+          while (ready.has(next)) {
+            const value = ready.get(next) as B;
+            ready.delete(next++);
+            subscriber.next(value);
+          }
+        },
+        error: (err: unknown) => subscriber.error(err),
+        complete: () => subscriber.complete(),
+      });
     });
 }

@@ -28,14 +28,24 @@ export interface Runtime extends PipelineContext {
  * Opens the store and resumes the linker. `store` may be passed in (tests); so may a running
  * analysis pool, which the runtime then uses but does not close (benchmarks reuse one).
  */
-export async function createRuntime(config: Readonly<Config>, logger: Logger, store?: Store, sharedAnalysis?: AnalysisPool): Promise<Runtime> {
+export async function createRuntime(
+  config: Readonly<Config>,
+  logger: Logger,
+  store?: Store,
+  sharedAnalysis?: AnalysisPool,
+): Promise<Runtime> {
   const embedder: Embedder = await createEmbedder(config.embed);
   const s = store ?? (await openStore(config.store, logger));
   const linker = new OnlineLinker(config.link);
   const snapshot = await s.loadLinkerState();
   const events = snapshot.events.map(deserialiseEvent);
   try {
-    await claimVectorSpace(s, await vectorSpaceOf(config.embed), config.embed.kind === 'tfidf' ? 'sparse' : 'dense', events.length ? (events[0]!.dense ? 'dense' : 'sparse') : null);
+    await claimVectorSpace(
+      s,
+      await vectorSpaceOf(config.embed),
+      config.embed.kind === 'tfidf' ? 'sparse' : 'dense',
+      events.length ? (events[0]!.dense ? 'dense' : 'sparse') : null,
+    );
   } catch (err) {
     if (!store) await s.close();
     throw err;

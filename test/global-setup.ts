@@ -41,7 +41,9 @@ export default async function setup(project: TestProject): Promise<() => void> {
   process.env.TMPDIR = scratch;
   const available = await ping('127.0.0.1', 6379, 1000);
   if (!available && process.env.STRANDLINE_REQUIRE_REDIS !== '1') {
-    process.stderr.write('\n*** REDIS NOT REACHABLE at 127.0.0.1:6379: the Redis tests are SKIPPED (set STRANDLINE_REQUIRE_REDIS=1 to make them fail instead) ***\n\n');
+    process.stderr.write(
+      '\n*** REDIS NOT REACHABLE at 127.0.0.1:6379: the Redis tests are SKIPPED (set STRANDLINE_REQUIRE_REDIS=1 to make them fail instead) ***\n\n',
+    );
   }
   project.provide('redisAvailable', available);
   return () => {

@@ -19,7 +19,8 @@ import { type FeedControl, registerFeedRoutes } from './routes/feeds.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
-const TOKEN_NOTE = 'When the operator sets server.tokens, requests that change something (POST, PUT, PATCH, DELETE) need Authorization: Bearer <token>, and with server.protect "everything" reads under /api/ too (not /api/health). A missing or unknown token gets 401 with code STRAND_UNAUTHORIZED.';
+const TOKEN_NOTE =
+  'When the operator sets server.tokens, requests that change something (POST, PUT, PATCH, DELETE) need Authorization: Bearer <token>, and with server.protect "everything" reads under /api/ too (not /api/health). A missing or unknown token gets 401 with code STRAND_UNAUTHORIZED.';
 
 /** What the API is handed. */
 export interface ApiDeps {
@@ -42,10 +43,16 @@ const RETRY_AFTER_SECONDS = '5';
 
 /** The 503 answer while the store cannot be reached. */
 function storeUnavailable(reply: FastifyReply): FastifyReply {
-  return reply.code(503).header('retry-after', RETRY_AFTER_SECONDS).send({ error: {
-    code: 'STRAND_STORE_UNAVAILABLE',
-    message: 'the store cannot be reached just now; nothing in this request was done (a push was not queued: send it again, articles already stored are recognised by their id)',
-  } });
+  return reply
+    .code(503)
+    .header('retry-after', RETRY_AFTER_SECONDS)
+    .send({
+      error: {
+        code: 'STRAND_STORE_UNAVAILABLE',
+        message:
+          'the store cannot be reached just now; nothing in this request was done (a push was not queued: send it again, articles already stored are recognised by their id)',
+      },
+    });
 }
 
 /** Builds the fastify app (not yet listening). */
@@ -84,7 +91,12 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     if ((err as FastifyError).validation) return reply.code(400).send({ error: { code: 'STRAND_REQUEST_INVALID', message: err.message } });
     const status = (err as FastifyError).statusCode ?? 500;
     if (status >= 500) app.log.error({ err }, 'request failed');
-    return reply.code(status).send({ error: { code: status >= 500 ? 'STRAND_INTERNAL' : 'STRAND_REQUEST_INVALID', message: status >= 500 ? 'internal error' : err.message } });
+    return reply.code(status).send({
+      error: {
+        code: status >= 500 ? 'STRAND_INTERNAL' : 'STRAND_REQUEST_INVALID',
+        message: status >= 500 ? 'internal error' : err.message,
+      },
+    });
   });
   // Our own JSON parser: a poisoned key is refused with its reason (ingest/parse-json-text.ts).
   app.removeContentTypeParser('application/json');
@@ -95,7 +107,9 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
       done(err as Error, undefined);
     }
   });
-  app.setNotFoundHandler((req, reply) => reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }));
+  app.setNotFoundHandler((req, reply) =>
+    reply.code(404).send({ error: { code: 'STRAND_NOT_FOUND', message: `no route ${req.method} ${req.url.split('?')[0]}` } }),
+  );
 
   // While the store cannot be reached, every API request is answered 503 at once (with
   // Retry-After) instead of waiting on it; a push is then not queued at all.

@@ -41,8 +41,14 @@ export function registerTokenCheck(app: FastifyInstance, policy: TokenPolicy): v
       for (const t of digests) ok = timingSafeEqual(d, t) || ok;
       if (ok) return;
     }
-    reply.header('www-authenticate', presented === undefined ? 'Bearer realm="strandline"' : 'Bearer realm="strandline", error="invalid_token"');
-    throw new StrandError('STRAND_UNAUTHORIZED', presented === undefined ? 'this request needs a token: send Authorization: Bearer <token>' : 'the token is not one of server.tokens');
+    reply.header(
+      'www-authenticate',
+      presented === undefined ? 'Bearer realm="strandline"' : 'Bearer realm="strandline", error="invalid_token"',
+    );
+    throw new StrandError(
+      'STRAND_UNAUTHORIZED',
+      presented === undefined ? 'this request needs a token: send Authorization: Bearer <token>' : 'the token is not one of server.tokens',
+    );
   });
 }
 

@@ -26,9 +26,16 @@ export const evidenceSchema = {
     sharedPlaces: strings,
     overlapBonus: { ...num, description: 'Score added for shared rare names.' },
     opened: { type: 'boolean', description: 'The mention opened this event.' },
-    crossStory: { type: 'boolean', description: "The event belongs to another story than the sentence's article: such a link had to clear a higher bar (link.crossStoryMargin). These links across stories are the rarest and the most worth checking." },
+    crossStory: {
+      type: 'boolean',
+      description:
+        "The event belongs to another story than the sentence's article: such a link had to clear a higher bar (link.crossStoryMargin). These links across stories are the rarest and the most worth checking.",
+    },
     sizeFactor: { ...num, description: 'How much the number of sentences the event already holds raised the score (link.sizePrior).' },
-    sameArticleFactor: { ...num, description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor)." },
+    sameArticleFactor: {
+      ...num,
+      description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor).",
+    },
   },
   required: ['similarity', 'timeDecay', 'timeGapDays', 'sharedParticipants', 'sharedPlaces', 'overlapBonus', 'opened'],
 } as const;
@@ -51,15 +58,34 @@ export const eventSummarySchema = {
     independentOutlets: { ...int, description: 'Outlets with a mention that is not a verbatim copy of another outlet.' },
     mentionCount: int,
     version: int,
-    story: { ...nullableStr, description: 'The story the event lives in (that of the article that opened it, after story merges); null for events from before stories were kept.' },
+    story: {
+      ...nullableStr,
+      description:
+        'The story the event lives in (that of the article that opened it, after story merges); null for events from before stories were kept.',
+    },
   },
-  required: ['id', 'label', 'firstSeen', 'lastSeen', 'timeStart', 'timeEnd', 'participants', 'places', 'outlets', 'independentOutlets', 'mentionCount', 'version', 'story'],
+  required: [
+    'id',
+    'label',
+    'firstSeen',
+    'lastSeen',
+    'timeStart',
+    'timeEnd',
+    'participants',
+    'places',
+    'outlets',
+    'independentOutlets',
+    'mentionCount',
+    'version',
+    'story',
+  ],
 } as const;
 
 /** A story as listed. */
 export const storySummarySchema = {
   type: 'object',
-  description: 'A story: an ongoing thread of coverage that articles join by their whole text, names and time (an automatic grouping, a suggestion like every link).',
+  description:
+    'A story: an ongoing thread of coverage that articles join by their whole text, names and time (an automatic grouping, a suggestion like every link).',
   properties: {
     id: str,
     label: { ...str, description: 'The headline of the article that opened the story.' },
@@ -68,7 +94,7 @@ export const storySummarySchema = {
     articleCount: int,
     eventCount: int,
     outlets: strings,
-    independentOutlets: { ...int, description: 'Outlets with an article that is not a copy of another outlet\'s.' },
+    independentOutlets: { ...int, description: "Outlets with an article that is not a copy of another outlet's." },
     names: { ...strings, description: 'People, organisations and places the articles name most often.' },
     version: int,
   },
@@ -78,12 +104,31 @@ export const storySummarySchema = {
 const mentionSchema = {
   type: 'object',
   properties: {
-    articleId: str, articleTitle: str, articleUrl: nullableStr, published: str, isCopy: { type: 'boolean' }, sentenceIndex: int,
+    articleId: str,
+    articleTitle: str,
+    articleUrl: nullableStr,
+    published: str,
+    isCopy: { type: 'boolean' },
+    sentenceIndex: int,
     text: { ...nullableStr, description: 'Null once the retention policy has erased the text.' },
-    score: { ...num, description: 'Link score in [0, 1].' }, rank: { ...int, description: '0 for the sentence’s best link.' },
-    evidence: evidenceSchema, times: { type: 'array', items: timeSchema },
+    score: { ...num, description: 'Link score in [0, 1].' },
+    rank: { ...int, description: '0 for the sentence’s best link.' },
+    evidence: evidenceSchema,
+    times: { type: 'array', items: timeSchema },
   },
-  required: ['articleId', 'articleTitle', 'articleUrl', 'published', 'isCopy', 'sentenceIndex', 'text', 'score', 'rank', 'evidence', 'times'],
+  required: [
+    'articleId',
+    'articleTitle',
+    'articleUrl',
+    'published',
+    'isCopy',
+    'sentenceIndex',
+    'text',
+    'score',
+    'rank',
+    'evidence',
+    'times',
+  ],
 } as const;
 
 const errorSchema = {
@@ -115,7 +160,11 @@ export const listEventsSchema = {
     },
   },
   response: {
-    200: { type: 'object', properties: { total: int, events: { type: 'array', items: eventSummarySchema }, caution: str }, required: ['total', 'events', 'caution'] },
+    200: {
+      type: 'object',
+      properties: { total: int, events: { type: 'array', items: eventSummarySchema }, caution: str },
+      required: ['total', 'events', 'caution'],
+    },
     400: errorSchema,
   },
 } as const;
@@ -140,7 +189,11 @@ export const getEventSchema = {
         },
         timeline: {
           type: 'array',
-          items: { type: 'object', properties: { day: str, mentions: int, newOutlets: strings }, required: ['day', 'mentions', 'newOutlets'] },
+          items: {
+            type: 'object',
+            properties: { day: str, mentions: int, newOutlets: strings },
+            required: ['day', 'mentions', 'newOutlets'],
+          },
         },
         merges: {
           type: 'array',
@@ -149,8 +202,13 @@ export const getEventSchema = {
         },
         splits: {
           type: 'array',
-          description: 'Splits this event took part in: consolidation found that part of its mentions (`mentions` of them) report another happening and moved them from `from` to the new event `into`. `score` is how alike the two parts were (centroid cosine x time decay), below the split threshold. A suggestion, like every link.',
-          items: { type: 'object', properties: { from: str, into: str, mentions: int, score: num, at: str }, required: ['from', 'into', 'mentions', 'score', 'at'] },
+          description:
+            'Splits this event took part in: consolidation found that part of its mentions (`mentions` of them) report another happening and moved them from `from` to the new event `into`. `score` is how alike the two parts were (centroid cosine x time decay), below the split threshold. A suggestion, like every link.',
+          items: {
+            type: 'object',
+            properties: { from: str, into: str, mentions: int, score: num, at: str },
+            required: ['from', 'into', 'mentions', 'score', 'at'],
+          },
         },
         caution: str,
       },
@@ -181,7 +239,11 @@ export const listStoriesSchema = {
     },
   },
   response: {
-    200: { type: 'object', properties: { total: int, stories: { type: 'array', items: storySummarySchema }, caution: str }, required: ['total', 'stories', 'caution'] },
+    200: {
+      type: 'object',
+      properties: { total: int, stories: { type: 'array', items: storySummarySchema }, caution: str },
+      required: ['total', 'stories', 'caution'],
+    },
     400: errorSchema,
   },
 } as const;
@@ -203,10 +265,15 @@ export const getStorySchema = {
           items: {
             type: 'object',
             properties: {
-              outlet: str, independent: { type: 'boolean' },
+              outlet: str,
+              independent: { type: 'boolean' },
               articles: {
                 type: 'array',
-                items: { type: 'object', properties: { id: str, title: str, url: nullableStr, published: nullableStr, duplicateOf: nullableStr }, required: ['id', 'title', 'url', 'published', 'duplicateOf'] },
+                items: {
+                  type: 'object',
+                  properties: { id: str, title: str, url: nullableStr, published: nullableStr, duplicateOf: nullableStr },
+                  required: ['id', 'title', 'url', 'published', 'duplicateOf'],
+                },
               },
             },
             required: ['outlet', 'independent', 'articles'],
@@ -214,8 +281,13 @@ export const getStorySchema = {
         },
         timeline: {
           type: 'array',
-          description: 'Articles per day, with the outlets reporting on the story for the first time that day and the events that opened that day.',
-          items: { type: 'object', properties: { day: str, articles: int, newOutlets: strings, newEvents: strings }, required: ['day', 'articles', 'newOutlets', 'newEvents'] },
+          description:
+            'Articles per day, with the outlets reporting on the story for the first time that day and the events that opened that day.',
+          items: {
+            type: 'object',
+            properties: { day: str, articles: int, newOutlets: strings, newEvents: strings },
+            required: ['day', 'articles', 'newOutlets', 'newEvents'],
+          },
         },
         merges: {
           type: 'array',
@@ -244,24 +316,61 @@ export const getArticleSchema = {
         article: {
           type: 'object',
           properties: {
-            id: str, outlet: str, url: nullableStr, title: str, published: nullableStr, fetched: str, language: nullableStr,
-            text: nullableStr, contentHash: str,
-            duplicateOf: { ...nullableStr, description: 'The earlier article this one copies (a syndicated copy, verbatim or lightly edited), or null. A copy still counts as its outlet reporting the event, but not as independent confirmation.' },
-            copySimilarity: { type: ['number', 'null'], description: 'For a copy: 1 when verbatim, else the estimated Jaccard similarity of the two texts (4-word shingles, MinHash). Null when not a copy.' },
+            id: str,
+            outlet: str,
+            url: nullableStr,
+            title: str,
+            published: nullableStr,
+            fetched: str,
+            language: nullableStr,
+            text: nullableStr,
+            contentHash: str,
+            duplicateOf: {
+              ...nullableStr,
+              description:
+                'The earlier article this one copies (a syndicated copy, verbatim or lightly edited), or null. A copy still counts as its outlet reporting the event, but not as independent confirmation.',
+            },
+            copySimilarity: {
+              type: ['number', 'null'],
+              description:
+                'For a copy: 1 when verbatim, else the estimated Jaccard similarity of the two texts (4-word shingles, MinHash). Null when not a copy.',
+            },
             source: str,
             story: { ...nullableStr, description: 'The story the article joined (an automatic grouping), or null.' },
           },
-          required: ['id', 'outlet', 'url', 'title', 'published', 'fetched', 'language', 'text', 'contentHash', 'duplicateOf', 'source', 'story'],
+          required: [
+            'id',
+            'outlet',
+            'url',
+            'title',
+            'published',
+            'fetched',
+            'language',
+            'text',
+            'contentHash',
+            'duplicateOf',
+            'source',
+            'story',
+          ],
         },
         sentences: {
           type: 'array',
           items: {
             type: 'object',
             properties: {
-              index: int, text: str, start: int, end: int, eventness: num, isMention: { type: 'boolean' },
+              index: int,
+              text: str,
+              start: int,
+              end: int,
+              eventness: num,
+              isMention: { type: 'boolean' },
               links: {
                 type: 'array',
-                items: { type: 'object', properties: { eventId: str, eventLabel: str, score: num, rank: int, evidence: evidenceSchema }, required: ['eventId', 'eventLabel', 'score', 'rank', 'evidence'] },
+                items: {
+                  type: 'object',
+                  properties: { eventId: str, eventLabel: str, score: num, rank: int, evidence: evidenceSchema },
+                  required: ['eventId', 'eventLabel', 'score', 'rank', 'evidence'],
+                },
               },
             },
             required: ['index', 'text', 'start', 'end', 'eventness', 'isMention', 'links'],
@@ -280,7 +389,13 @@ export const listOutletsSchema = {
   summary: 'Outlets and their article counts',
   tags: ['articles'],
   response: {
-    200: { type: 'object', properties: { outlets: { type: 'array', items: { type: 'object', properties: { outlet: str, articles: int }, required: ['outlet', 'articles'] } } }, required: ['outlets'] },
+    200: {
+      type: 'object',
+      properties: {
+        outlets: { type: 'array', items: { type: 'object', properties: { outlet: str, articles: int }, required: ['outlet', 'articles'] } },
+      },
+      required: ['outlets'],
+    },
   },
 } as const;
 
@@ -295,10 +410,20 @@ export const healthSchema = {
         status: { type: 'string', enum: ['ok'] },
         version: str,
         uptimeSeconds: num,
-        counts: { type: 'object', properties: { articles: int, sentences: int, mentions: int, links: int, events: int }, required: ['articles', 'sentences', 'mentions', 'links', 'events'] },
+        counts: {
+          type: 'object',
+          properties: { articles: int, sentences: int, mentions: int, links: int, events: int },
+          required: ['articles', 'sentences', 'mentions', 'links', 'events'],
+        },
         ingest: {
           type: 'object',
-          properties: { state: { type: 'string', enum: ['idle', 'replaying', 'finished'] }, processed: int, total: int, stored: int, rejected: int },
+          properties: {
+            state: { type: 'string', enum: ['idle', 'replaying', 'finished'] },
+            processed: int,
+            total: int,
+            stored: int,
+            rejected: int,
+          },
           required: ['state', 'processed', 'total', 'stored', 'rejected'],
         },
       },
@@ -308,7 +433,11 @@ export const healthSchema = {
 } as const;
 
 /** ?limit=1..500 (default 100), for the operator lists. */
-const limitQuery = { type: 'object', additionalProperties: false, properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } } } as const;
+const limitQuery = {
+  type: 'object',
+  additionalProperties: false,
+  properties: { limit: { type: 'integer', minimum: 1, maximum: 500, default: 100 } },
+} as const;
 
 /** GET /api/webhooks/dead-letters */
 export const deadLettersSchema = {
@@ -352,7 +481,11 @@ export const queueDeadLettersSchema = {
       properties: {
         entries: {
           type: 'array',
-          items: { type: 'object', properties: { id: str, entry: str, error: str, article: str }, required: ['id', 'entry', 'error', 'article'] },
+          items: {
+            type: 'object',
+            properties: { id: str, entry: str, error: str, article: str },
+            required: ['id', 'entry', 'error', 'article'],
+          },
         },
       },
       required: ['entries'],
@@ -361,8 +494,10 @@ export const queueDeadLettersSchema = {
 } as const;
 
 export const pushSchema = {
-  summary: 'Push articles: one JSON object, a JSON array, or NDJSON (application/x-ndjson), each {id, outlet, title, url?, published?, text? or html?, language?}',
-  description: 'Each item is checked on its own: accepted (queued for processing), duplicate (already stored, or twice in the request) or rejected with its reason. Accepted articles are processed in the order received; their links appear under /api/articles/{id} once processed.',
+  summary:
+    'Push articles: one JSON object, a JSON array, or NDJSON (application/x-ndjson), each {id, outlet, title, url?, published?, text? or html?, language?}',
+  description:
+    'Each item is checked on its own: accepted (queued for processing), duplicate (already stored, or twice in the request) or rejected with its reason. Accepted articles are processed in the order received; their links appear under /api/articles/{id} once processed.',
   tags: ['articles'],
   response: {
     200: {
@@ -375,7 +510,12 @@ export const pushSchema = {
           type: 'array',
           items: {
             type: 'object',
-            properties: { index: int, id: nullableStr, status: { type: 'string', enum: ['accepted', 'duplicate', 'rejected'] }, reason: nullableStr },
+            properties: {
+              index: int,
+              id: nullableStr,
+              status: { type: 'string', enum: ['accepted', 'duplicate', 'rejected'] },
+              reason: nullableStr,
+            },
             required: ['index', 'id', 'status', 'reason'],
           },
         },
@@ -394,12 +534,20 @@ export const feedSchema = {
     outlet: { ...nullableStr, description: "Outlet name used instead of the feed's title, or null." },
     intervalSeconds: int,
     paused: { type: 'boolean' },
-    origin: { type: 'string', enum: ['config', 'api'], description: 'config: listed in the configuration file (kept in line with it at each start); api: added here.' },
+    origin: {
+      type: 'string',
+      enum: ['config', 'api'],
+      description: 'config: listed in the configuration file (kept in line with it at each start); api: added here.',
+    },
     added: str,
     health: {
       type: 'object',
       properties: {
-        status: { type: 'string', enum: ['waiting', 'ok', 'failing', 'paused'], description: 'waiting: not polled yet; failing: the last poll failed.' },
+        status: {
+          type: 'string',
+          enum: ['waiting', 'ok', 'failing', 'paused'],
+          description: 'waiting: not polled yet; failing: the last poll failed.',
+        },
         lastPollAt: nullableStr,
         lastSuccessAt: nullableStr,
         lastStatus: { type: ['integer', 'null'], description: 'HTTP status of the last answer.' },
@@ -413,7 +561,21 @@ export const feedSchema = {
         itemsNew: { ...int, description: 'Items not stored before, handed to the pipeline.' },
         medianDelaySeconds: { type: ['number', 'null'], description: 'Median time from publication to ingest of the latest new items.' },
       },
-      required: ['status', 'lastPollAt', 'lastSuccessAt', 'lastStatus', 'lastError', 'failures', 'nextPollAt', 'requests', 'notModified', 'bytes', 'itemsSeen', 'itemsNew', 'medianDelaySeconds'],
+      required: [
+        'status',
+        'lastPollAt',
+        'lastSuccessAt',
+        'lastStatus',
+        'lastError',
+        'failures',
+        'nextPollAt',
+        'requests',
+        'notModified',
+        'bytes',
+        'itemsSeen',
+        'itemsNew',
+        'medianDelaySeconds',
+      ],
     },
   },
   required: ['id', 'url', 'outlet', 'intervalSeconds', 'paused', 'origin', 'added', 'health'],
@@ -430,12 +592,17 @@ export const listFeedsSchema = {
 
 export const addFeedSchema = {
   summary: 'Start polling a feed (RSS 2.0, Atom or JSON Feed); it is polled at once',
-  description: 'Refused with 409 when the feed is already polled or poll.maxFeeds is reached, with 403 when its address is on a loopback, private or link-local network (unless ingest.allowPrivateNetworks).',
+  description:
+    'Refused with 409 when the feed is already polled or poll.maxFeeds is reached, with 403 when its address is on a loopback, private or link-local network (unless ingest.allowPrivateNetworks).',
   tags: ['feeds'],
   body: {
     type: 'object',
     additionalProperties: false,
-    properties: { url: { type: 'string', minLength: 1, maxLength: 2048 }, outlet: { type: ['string', 'null'], minLength: 1, maxLength: 200 }, intervalSeconds: intervalSchema },
+    properties: {
+      url: { type: 'string', minLength: 1, maxLength: 2048 },
+      outlet: { type: ['string', 'null'], minLength: 1, maxLength: 200 },
+      intervalSeconds: intervalSchema,
+    },
     required: ['url'],
   },
   response: { 201: feedSchema, 400: errorSchema, 403: errorSchema, 409: errorSchema },
@@ -449,7 +616,11 @@ export const changeFeedSchema = {
     type: 'object',
     additionalProperties: false,
     minProperties: 1,
-    properties: { paused: { type: 'boolean' }, intervalSeconds: intervalSchema, outlet: { type: ['string', 'null'], minLength: 1, maxLength: 200 } },
+    properties: {
+      paused: { type: 'boolean' },
+      intervalSeconds: intervalSchema,
+      outlet: { type: ['string', 'null'], minLength: 1, maxLength: 200 },
+    },
   },
   response: { 200: feedSchema, 404: errorSchema },
 } as const;

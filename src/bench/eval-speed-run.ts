@@ -27,13 +27,26 @@ let mentions = ARTICLES * 3;
 let stream = syntheticStream(mentions, 11);
 while (stream.articles.length < ARTICLES) stream = syntheticStream((mentions *= 1.5), 11);
 const kept = new Set(stream.articles.slice(0, ARTICLES).map((a) => a.id));
-const input = checkEvalInput({ articles: stream.articles.filter((a) => kept.has(a.id)), gold: stream.gold.filter((g) => kept.has(g.article)) });
+const input = checkEvalInput({
+  articles: stream.articles.filter((a) => kept.has(a.id)),
+  gold: stream.gold.filter((g) => kept.has(g.article)),
+});
 const t0 = performance.now();
-const report = await runEval([{ name: 'synthetic', source: 'bench', input }], { config: parseConfig({ log: { level: 'silent' } }), settings: ['gold', 'predicted'], thresholds: defaultSweep(), sweep: 'refine', logger: createLogger('silent') });
+const report = await runEval([{ name: 'synthetic', source: 'bench', input }], {
+  config: parseConfig({ log: { level: 'silent' } }),
+  settings: ['gold', 'predicted'],
+  thresholds: defaultSweep(),
+  sweep: 'refine',
+  logger: createLogger('silent'),
+});
 const row: EvalSpeedRow = {
   articles: input.articles.length,
   goldMentions: input.gold.length,
   seconds: (performance.now() - t0) / 1000,
-  parts: report.corpora[0]!.settings.map((s) => ({ setting: s.setting, textSeconds: s.textSeconds, systems: s.systems.map((y) => ({ name: y.name, seconds: y.seconds })) })),
+  parts: report.corpora[0]!.settings.map((s) => ({
+    setting: s.setting,
+    textSeconds: s.textSeconds,
+    systems: s.systems.map((y) => ({ name: y.name, seconds: y.seconds })),
+  })),
 };
 process.stdout.write(`${JSON.stringify(row)}\n`);

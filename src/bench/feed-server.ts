@@ -55,7 +55,13 @@ export async function startFeedServer(feeds: number, items: number, special: Rec
     const lastModified = modified.toUTCString();
     const inm = req.headers['if-none-match'];
     const ims = req.headers['if-modified-since'];
-    const fresh = inm !== undefined ? inm.split(',').map((t) => t.trim()).includes(etag) : ims !== undefined && Date.parse(ims) >= modified.getTime();
+    const fresh =
+      inm !== undefined
+        ? inm
+            .split(',')
+            .map((t) => t.trim())
+            .includes(etag)
+        : ims !== undefined && Date.parse(ims) >= modified.getTime();
     if (fresh) {
       counts.notModified++;
       res.writeHead(304, { etag, 'last-modified': lastModified }).end();
@@ -70,13 +76,18 @@ export async function startFeedServer(feeds: number, items: number, special: Rec
   const port = (server.address() as AddressInfo).port;
   return {
     url: (path) => `http://127.0.0.1:${port}${path}`,
-    publish: (i) => { versions[i]!++; },
+    publish: (i) => {
+      versions[i]!++;
+    },
     counts: () => ({ ...counts }),
-    resetCounts: () => { counts = { requests: 0, ok: 0, notModified: 0, other: 0, bytes: 0 }; },
-    close: () => new Promise<void>((resolve) => {
-      server.closeAllConnections();
-      server.close(() => resolve());
-    }),
+    resetCounts: () => {
+      counts = { requests: 0, ok: 0, notModified: 0, other: 0, bytes: 0 };
+    },
+    close: () =>
+      new Promise<void>((resolve) => {
+        server.closeAllConnections();
+        server.close(() => resolve());
+      }),
   };
 }
 
@@ -85,9 +96,13 @@ function rss(i: number, version: number): string {
   const items: string[] = [];
   for (let n = version; n > Math.max(0, version - 10); n--) {
     const when = new Date(EPOCH + n * 60_000).toUTCString();
-    items.push(`<item><title>Harbour report ${i}.${n}</title><link>https://outlet${i}.example/news/${n}</link><guid>https://outlet${i}.example/news/${n}</guid>`
-      + `<pubDate>${when}</pubDate><description>The Vellmouth harbour board met on Tuesday and approved dredging of berth ${n} at the Korrin pier, outlet ${i} reported.</description></item>`);
+    items.push(
+      `<item><title>Harbour report ${i}.${n}</title><link>https://outlet${i}.example/news/${n}</link><guid>https://outlet${i}.example/news/${n}</guid>` +
+        `<pubDate>${when}</pubDate><description>The Vellmouth harbour board met on Tuesday and approved dredging of berth ${n} at the Korrin pier, outlet ${i} reported.</description></item>`,
+    );
   }
-  return `<?xml version="1.0" encoding="UTF-8"?><rss version="2.0"><channel><title>Outlet ${i} Harbour Desk</title><link>https://outlet${i}.example/</link>`
-    + `<description>Harbour news</description>${items.join('')}</channel></rss>`;
+  return (
+    `<?xml version="1.0" encoding="UTF-8"?><rss version="2.0"><channel><title>Outlet ${i} Harbour Desk</title><link>https://outlet${i}.example/</link>` +
+    `<description>Harbour news</description>${items.join('')}</channel></rss>`
+  );
 }

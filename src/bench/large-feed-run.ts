@@ -35,9 +35,12 @@ try {
   const summary = await runSources(rt, [feed]);
   await rt.close();
   const row: LargeFeedRow = {
-    items: summary.articlesRead, feedBytes: statSync(feed).size, stored: summary.stored,
+    items: summary.articlesRead,
+    feedBytes: statSync(feed).size,
+    stored: summary.stored,
     refused: summary.rejected.length + summary.problems.filter((p) => p.severity === 'error').length,
-    seconds: summary.seconds, peakRssMiB: process.resourceUsage().maxRSS / 1024,
+    seconds: summary.seconds,
+    peakRssMiB: process.resourceUsage().maxRSS / 1024,
   };
   process.stdout.write(JSON.stringify(row));
 } finally {

@@ -28,12 +28,16 @@ function esc(s: string): string {
 /** An RSS document with `items` items (the synthetic stream's first ones), seeded. */
 export function largeFeed(items: number, seed = 11): string {
   const stream = syntheticStream(items * 4, seed);
-  const out: string[] = ['<?xml version="1.0" encoding="UTF-8"?>\n<rss version="2.0"><channel><title>Tessel Bay Wire</title><link>https://tesselbay.example/</link><description>Archive feed</description>'];
+  const out: string[] = [
+    '<?xml version="1.0" encoding="UTF-8"?>\n<rss version="2.0"><channel><title>Tessel Bay Wire</title><link>https://tesselbay.example/</link><description>Archive feed</description>',
+  ];
   for (const a of stream.articles.slice(0, items)) {
     const body = [...a.sentences, ...FILLER].map((p) => `<p>${esc(p)}</p>`).join('');
     // The stream is dated from 2030; an archive is dated in the past (feeds refuse far-future dates).
     const published = new Date(Date.parse(a.published!) - FIVE_YEARS_MS).toUTCString();
-    out.push(`<item><title>${esc(a.title)}</title><link>https://tesselbay.example/news/${a.id}</link><guid>https://tesselbay.example/news/${a.id}</guid><pubDate>${published}</pubDate><description>${esc(body)}</description></item>`);
+    out.push(
+      `<item><title>${esc(a.title)}</title><link>https://tesselbay.example/news/${a.id}</link><guid>https://tesselbay.example/news/${a.id}</guid><pubDate>${published}</pubDate><description>${esc(body)}</description></item>`,
+    );
   }
   out.push('</channel></rss>\n');
   return out.join('\n');

@@ -22,7 +22,11 @@ export interface ScaleRow {
   heapMiB: number;
 }
 
-const STOP = new Set('a an the of in on at to and or for with by from was were is are be been has have had it its this that said says after before when as into their his her they he she who which than then there also'.split(' '));
+const STOP = new Set(
+  'a an the of in on at to and or for with by from was were is are be been has have had it its this that said says after before when as into their his her they he she who which than then there also'.split(
+    ' ',
+  ),
+);
 const WINDOW = 5000;
 
 /** Runs the stream to the largest checkpoint and measures a window of mentions after each. */
@@ -44,8 +48,18 @@ export function linkScale(config: Readonly<Config>, checkpoints: readonly number
     const terms = a.sentences.map(termsOf);
     embedder.learn(terms.map((t) => ({ text: '', terms: t })));
     const mentions: EmbeddedMention[] = a.sentences.map((text, i) => ({
-      articleId: a.id, sentenceIndex: i, text, outlet: a.outlet, published: a.published!, eventness: 1,
-      participants: namesOf(text), places: [], times: [], terms: terms[i]!, isCopy: false, vector: embedder.vector(terms[i]!),
+      articleId: a.id,
+      sentenceIndex: i,
+      text,
+      outlet: a.outlet,
+      published: a.published!,
+      eventness: 1,
+      participants: namesOf(text),
+      places: [],
+      times: [],
+      terms: terms[i]!,
+      isCopy: false,
+      vector: embedder.vector(terms[i]!),
     }));
     const measuring = next < checkpoints.length && stored >= checkpoints[next]!;
     const t0 = performance.now();
@@ -57,8 +71,12 @@ export function linkScale(config: Readonly<Config>, checkpoints: readonly number
         const sorted = times.splice(0).sort((x, y) => x - y);
         const mem = process.memoryUsage();
         rows.push({
-          storedMentions: checkpoints[next]!, events: linker.size, medianMs: sorted[Math.floor(sorted.length / 2)]!,
-          p99Ms: sorted[Math.floor(sorted.length * 0.99)]!, rssMiB: mem.rss / 2 ** 20, heapMiB: mem.heapUsed / 2 ** 20,
+          storedMentions: checkpoints[next]!,
+          events: linker.size,
+          medianMs: sorted[Math.floor(sorted.length / 2)]!,
+          p99Ms: sorted[Math.floor(sorted.length * 0.99)]!,
+          rssMiB: mem.rss / 2 ** 20,
+          heapMiB: mem.heapUsed / 2 ** 20,
         });
         next++;
       }
@@ -70,7 +88,10 @@ export function linkScale(config: Readonly<Config>, checkpoints: readonly number
 }
 
 function termsOf(s: string): string[] {
-  return s.toLowerCase().split(/[^a-z0-9]+/).filter((w) => w.length > 1 && !STOP.has(w));
+  return s
+    .toLowerCase()
+    .split(/[^a-z0-9]+/)
+    .filter((w) => w.length > 1 && !STOP.has(w));
 }
 
 function namesOf(s: string): string[] {

@@ -74,7 +74,11 @@ async function run(workload: string, articles: () => Promise<Article[]>, analysi
   let count = 0;
   for (let i = 0; i < REPEATS; i++) {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-bench-'));
-    const config = parseConfig({ store: { path: join(dir, 'bench.sqlite') }, log: { level: 'silent' }, analysis: { threads: analysis?.threads ?? 0 } });
+    const config = parseConfig({
+      store: { path: join(dir, 'bench.sqlite') },
+      log: { level: 'silent' },
+      analysis: { threads: analysis?.threads ?? 0 },
+    });
     const rt = await createRuntime(config, createLogger('silent'), openSqliteStore(config.store.path), analysis);
     const t0 = performance.now();
     const input = await articles();
@@ -105,7 +109,14 @@ function copies(base: readonly Article[], n: number): Article[] {
   for (let k = 0; k < n; k++) {
     for (const a of base) {
       const shift = (t: string | null) => (t ? new Date(Date.parse(t) + k * 20 * DAY_MS).toISOString() : t);
-      out.push({ ...a, id: `${a.id}#copy${k}`, url: a.url ? `${a.url}?copy=${k}` : null, published: shift(a.published), contentHash: `${a.contentHash}:${k}`, duplicateOf: null });
+      out.push({
+        ...a,
+        id: `${a.id}#copy${k}`,
+        url: a.url ? `${a.url}?copy=${k}` : null,
+        published: shift(a.published),
+        contentHash: `${a.contentHash}:${k}`,
+        duplicateOf: null,
+      });
     }
   }
   return out;
@@ -131,7 +142,11 @@ async function linkerVersusBatch(mentions: number): Promise<VersusRow> {
   const nlp = createNlp();
   const articles = toArticles(input, 'synthetic', '2030-01-01T00:00:00.000Z');
   const detected = await detectArticles(nlp, articles, selector(input, 'gold'), config, await createEmbedder(config.embed));
-  const run = await linkDetected(config, detected, { nlp, logger: createLogger('silent'), now: () => new Date('2030-01-01T00:00:00.000Z') });
+  const run = await linkDetected(config, detected, {
+    nlp,
+    logger: createLogger('silent'),
+    now: () => new Date('2030-01-01T00:00:00.000Z'),
+  });
   const linked = new Map<string, string[]>();
   const redirect = new Map<string, string>();
   for (const o of run.outcomes) {
@@ -145,8 +160,12 @@ async function linkerVersusBatch(mentions: number): Promise<VersusRow> {
   const batchSeconds = (performance.now() - t0) / 1000;
   const key = partitionOf(new Map(stream.gold.map((g) => [`${g.article}#${g.sentence}`, [g.event]])));
   return {
-    mentions: flat.length, linkerSeconds: run.seconds, batchSeconds, speedup: batchSeconds / run.seconds,
-    linkerConllF1: scorePartitions(key, partitionOf(new Map([...linked].map(([k, v]) => [k, v.map(follow)])))).conllF1, batchConllF1: scorePartitions(key, partitionOf(batch)).conllF1,
+    mentions: flat.length,
+    linkerSeconds: run.seconds,
+    batchSeconds,
+    speedup: batchSeconds / run.seconds,
+    linkerConllF1: scorePartitions(key, partitionOf(new Map([...linked].map(([k, v]) => [k, v.map(follow)])))).conllF1,
+    batchConllF1: scorePartitions(key, partitionOf(batch)).conllF1,
   };
 }
 
@@ -170,55 +189,150 @@ async function main(): Promise<void> {
   const polling = await pollRounds();
   // In a process of its own, like the link-scale rows: the heaps of the workloads measured
   // here (and the all-pairs baseline's matrices) slowed whatever was measured after them.
-  const transformer: TransformerRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./transformer-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as TransformerRow;
-  const evalSpeed: EvalSpeedRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./eval-speed-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as EvalSpeedRow;
-  const largeFeed: LargeFeedRow | null = quick ? null : JSON.parse(execFileSync(process.execPath, [fileURLToPath(new URL('./large-feed-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as LargeFeedRow;
+  const transformer: TransformerRow | null = quick
+    ? null
+    : (JSON.parse(
+        execFileSync(process.execPath, [fileURLToPath(new URL('./transformer-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as TransformerRow);
+  const evalSpeed: EvalSpeedRow | null = quick
+    ? null
+    : (JSON.parse(
+        execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./eval-speed-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as EvalSpeedRow);
+  const largeFeed: LargeFeedRow | null = quick
+    ? null
+    : (JSON.parse(
+        execFileSync(process.execPath, [fileURLToPath(new URL('./large-feed-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as LargeFeedRow);
   const versus = quick ? null : await linkerVersusBatch(20_000);
-  const scale: ScaleRow[] = quick ? [] : JSON.parse(execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], { encoding: 'utf8', maxBuffer: 1 << 20 })) as ScaleRow[];
+  const scale: ScaleRow[] = quick
+    ? []
+    : (JSON.parse(
+        execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./link-scale-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as ScaleRow[]);
   // Scale-out rows need Redis (store.redis.url); without it they are left out with a note.
   const redisUp = quick ? false : await redisAnswers();
   const { rows: scaling, ceilings } = redisUp ? await workerScaling(await demoArticles(), rows[0]!.mentions) : { rows: [], ceilings: [] };
   const redisMem = redisUp ? await redisMemory(await demoTimesTen()) : null;
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
   const header = ['workload', 'articles', 'sentences', 'mentions', 'median s', 'sentences/s'];
-  const table = rows.map((r) => [r.workload, String(r.articles), String(r.sentences), String(r.mentions), r.seconds.toFixed(3), r.sentencesPerSecond.toFixed(0)]);
+  const table = rows.map((r) => [
+    r.workload,
+    String(r.articles),
+    String(r.sentences),
+    String(r.mentions),
+    r.seconds.toFixed(3),
+    r.sentencesPerSecond.toFixed(0),
+  ]);
   const widths = header.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
   const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
-  process.stdout.write(`Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n`
-    + `${availableParallelism()} cores; articles analysed on ${threads === 0 ? 'the main thread' : `${threads} analysis thread(s)`}, linked and stored on the main thread\n\n`);
-  process.stdout.write(`${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`);
-  process.stdout.write(`\npolling ${polling[0]!.feeds} feeds on a local server (poll.concurrency ${parseConfig({}).poll.concurrency}; a few feeds publish between rounds):\n`
-    + `  round  requests  200  304  new items  body bytes  poller CPU ms  seconds\n`
-    + polling.map((r) => `  ${String(r.round).padStart(5)}  ${String(r.requests).padStart(8)}  ${String(r.ok).padStart(3)}  ${String(r.notModified).padStart(3)}  ${String(r.newItems).padStart(9)}  ${String(r.bytes).padStart(10)}  ${r.cpuMs.toFixed(0).padStart(13)}  ${r.seconds.toFixed(2).padStart(7)}`).join('\n') + '\n');
-  if (largeFeed) process.stdout.write(`\none large feed into an existing store (its own process, default configuration):\n`
-    + `  ${largeFeed.items} items, ${(largeFeed.feedBytes / 1048576).toFixed(1)} MiB: ${largeFeed.stored} stored, ${largeFeed.refused} refused, ${largeFeed.seconds.toFixed(1)} s, peak resident memory ${largeFeed.peakRssMiB.toFixed(0)} MiB\n`);
-  if (evalSpeed) process.stdout.write(`\nstrandline eval as the command runs it (gold and predicted mentions, default sweep, every baseline) on a synthetic corpus:\n`
-    + `  ${evalSpeed.articles} articles, ${evalSpeed.goldMentions} gold mentions: ${evalSpeed.seconds.toFixed(1)} s\n`
-    + evalSpeed.parts.map((p) => `  ${p.setting.padEnd(9)} text ${p.textSeconds.toFixed(1)} s; ${p.systems.map((y) => `${y.name.replace('baseline: ', '')} ${y.seconds.toFixed(2)} s`).join(', ')}`).join('\n') + '\n');
-  if (versus) process.stdout.write(`\nlinker (its link stage, committing to an in-memory store) vs batch all-pairs baseline (plain TF-IDF) on ${versus.mentions} synthetic mentions:\n`
-    + `  online linker, link stage  ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n`
-    + `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n`
-    + `  the linker is ${versus.speedup.toFixed(1)}x faster\n`);
-  if (transformer) process.stdout.write(`\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n`
-    + `  model alone ${transformer.rawSeconds.toFixed(2)} s, whole pipeline ${transformer.pipelineSeconds.toFixed(2)} s: the pipeline keeps ${(transformer.ratio * 100).toFixed(0)}% of the model's throughput\n`);
-  if (scale.length) process.stdout.write(`\nlink step per mention as history grows (synthetic stream, window of 5,000 mentions after each size):\n`
-    + `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n`
-    + scale.map((r) => `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`).join('\n')
-    + `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`);
+  process.stdout.write(
+    `Strandline ${version()} pipeline benchmark (median of ${REPEATS} runs; Node ${process.version}, default configuration)\n` +
+      `${availableParallelism()} cores; articles analysed on ${threads === 0 ? 'the main thread' : `${threads} analysis thread(s)`}, linked and stored on the main thread\n\n`,
+  );
+  process.stdout.write(
+    `${line(header)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${table.map(line).join('\n')}\n\npeak resident memory: ${peakRssMiB.toFixed(0)} MiB\n`,
+  );
+  process.stdout.write(
+    `\npolling ${polling[0]!.feeds} feeds on a local server (poll.concurrency ${parseConfig({}).poll.concurrency}; a few feeds publish between rounds):\n` +
+      `  round  requests  200  304  new items  body bytes  poller CPU ms  seconds\n` +
+      polling
+        .map(
+          (r) =>
+            `  ${String(r.round).padStart(5)}  ${String(r.requests).padStart(8)}  ${String(r.ok).padStart(3)}  ${String(r.notModified).padStart(3)}  ${String(r.newItems).padStart(9)}  ${String(r.bytes).padStart(10)}  ${r.cpuMs.toFixed(0).padStart(13)}  ${r.seconds.toFixed(2).padStart(7)}`,
+        )
+        .join('\n') +
+      '\n',
+  );
+  if (largeFeed)
+    process.stdout.write(
+      `\none large feed into an existing store (its own process, default configuration):\n` +
+        `  ${largeFeed.items} items, ${(largeFeed.feedBytes / 1048576).toFixed(1)} MiB: ${largeFeed.stored} stored, ${largeFeed.refused} refused, ${largeFeed.seconds.toFixed(1)} s, peak resident memory ${largeFeed.peakRssMiB.toFixed(0)} MiB\n`,
+    );
+  if (evalSpeed)
+    process.stdout.write(
+      `\nstrandline eval as the command runs it (gold and predicted mentions, default sweep, every baseline) on a synthetic corpus:\n` +
+        `  ${evalSpeed.articles} articles, ${evalSpeed.goldMentions} gold mentions: ${evalSpeed.seconds.toFixed(1)} s\n` +
+        evalSpeed.parts
+          .map(
+            (p) =>
+              `  ${p.setting.padEnd(9)} text ${p.textSeconds.toFixed(1)} s; ${p.systems.map((y) => `${y.name.replace('baseline: ', '')} ${y.seconds.toFixed(2)} s`).join(', ')}`,
+          )
+          .join('\n') +
+        '\n',
+    );
+  if (versus)
+    process.stdout.write(
+      `\nlinker (its link stage, committing to an in-memory store) vs batch all-pairs baseline (plain TF-IDF) on ${versus.mentions} synthetic mentions:\n` +
+        `  online linker, link stage  ${versus.linkerSeconds.toFixed(2)} s   CoNLL F1 ${(versus.linkerConllF1 * 100).toFixed(1)}\n` +
+        `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n` +
+        `  the linker is ${versus.speedup.toFixed(1)}x faster\n`,
+    );
+  if (transformer)
+    process.stdout.write(
+      `\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n` +
+        `  model alone ${transformer.rawSeconds.toFixed(2)} s, whole pipeline ${transformer.pipelineSeconds.toFixed(2)} s: the pipeline keeps ${(transformer.ratio * 100).toFixed(0)}% of the model's throughput\n`,
+    );
+  if (scale.length)
+    process.stdout.write(
+      `\nlink step per mention as history grows (synthetic stream, window of 5,000 mentions after each size):\n` +
+        `  stored mentions    events   median ms   p99 ms   RSS MiB   heap MiB\n` +
+        scale
+          .map(
+            (r) =>
+              `  ${String(r.storedMentions).padStart(15)}  ${String(r.events).padStart(8)}  ${r.medianMs.toFixed(3).padStart(10)}  ${r.p99Ms.toFixed(3).padStart(7)}  ${r.rssMiB.toFixed(0).padStart(8)}  ${r.heapMiB.toFixed(0).padStart(9)}`,
+          )
+          .join('\n') +
+        `\n  median at the largest size / median at the smallest: ${(scale.at(-1)!.medianMs / scale[0]!.medianMs).toFixed(2)}\n`,
+    );
   if (scaling.length) {
     const base = (embedder: string) => scaling.find((r) => r.embedder === embedder && r.workers === 1 && r.threadsPerWorker === '1')!;
-    process.stdout.write(`\nworker processes on the Redis queue (rate between the 10th and 90th percent of answers; Redis and the measuring process share the cores):\n`
-      + `  embedder                          articles  workers  threads/worker  seconds  articles/s  vs 1 worker\n`
-      + scaling.map((r) => `  ${r.embedder.padEnd(32)}  ${String(r.articles).padStart(8)}  ${String(r.workers).padStart(7)}  ${r.threadsPerWorker.padStart(14)}  ${r.seconds.toFixed(2).padStart(7)}  ${r.articlesPerSecond.toFixed(0).padStart(10)}  ${(r.articlesPerSecond / base(r.embedder).articlesPerSecond).toFixed(2).padStart(11)}`).join('\n') + '\n');
-    process.stdout.write(`\nwhat a second process adds on this machine at all (the same work without Redis, 1 process, then 2 side by side):\n`
-      + ceilings.map((c) => `  ${c.work.padEnd(42)}  1 process ${c.oneSeconds.toFixed(2)} s, 2 processes ${c.twoSeconds.toFixed(2)} s each: ${c.ceiling.toFixed(2)}x`).join('\n') + '\n');
+    process.stdout.write(
+      `\nworker processes on the Redis queue (rate between the 10th and 90th percent of answers; Redis and the measuring process share the cores):\n` +
+        `  embedder                          articles  workers  threads/worker  seconds  articles/s  vs 1 worker\n` +
+        scaling
+          .map(
+            (r) =>
+              `  ${r.embedder.padEnd(32)}  ${String(r.articles).padStart(8)}  ${String(r.workers).padStart(7)}  ${r.threadsPerWorker.padStart(14)}  ${r.seconds.toFixed(2).padStart(7)}  ${r.articlesPerSecond.toFixed(0).padStart(10)}  ${(r.articlesPerSecond / base(r.embedder).articlesPerSecond).toFixed(2).padStart(11)}`,
+          )
+          .join('\n') +
+        '\n',
+    );
+    process.stdout.write(
+      `\nwhat a second process adds on this machine at all (the same work without Redis, 1 process, then 2 side by side):\n` +
+        ceilings
+          .map(
+            (c) =>
+              `  ${c.work.padEnd(42)}  1 process ${c.oneSeconds.toFixed(2)} s, 2 processes ${c.twoSeconds.toFixed(2)} s each: ${c.ceiling.toFixed(2)}x`,
+          )
+          .join('\n') +
+        '\n',
+    );
   } else if (!quick) {
     process.stdout.write('\nworker scaling and Redis memory: left out, Redis does not answer at store.redis.url\n');
   }
-  if (redisMem) process.stdout.write(`\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`);
+  if (redisMem)
+    process.stdout.write(
+      `\nRedis memory: ${(redisMem.bytes / 1048576).toFixed(1)} MiB for ${redisMem.articles} articles and ${redisMem.mentions} mentions: ${(redisMem.bytesPerMention / 1024).toFixed(1)} KiB per stored mention (${(redisMem.bytesPerArticle / 1024).toFixed(1)} KiB per article, text and linker state included)\n`,
+    );
   mkdirSync('bench-results', { recursive: true });
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
-  writeFileSync(file, `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`);
+  writeFileSync(
+    file,
+    `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`,
+  );
   process.stdout.write(`written: ${file}\n`);
 }
 

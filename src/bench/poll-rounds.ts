@@ -29,14 +29,23 @@ const FEEDS = 200;
 const PUBLISHING = 5;
 
 export async function pollRounds(): Promise<PollRoundRow[]> {
-  const child = spawn(process.execPath, [fileURLToPath(new URL('./feed-server-run.js', import.meta.url)), String(FEEDS), '10'], { stdio: ['pipe', 'pipe', 'inherit'] });
+  const child = spawn(process.execPath, [fileURLToPath(new URL('./feed-server-run.js', import.meta.url)), String(FEEDS), '10'], {
+    stdio: ['pipe', 'pipe', 'inherit'],
+  });
   const lines = createInterface({ input: child.stdout! })[Symbol.asyncIterator]();
   const next = async (): Promise<string> => String((await lines.next()).value);
   const port = Number(await next());
   const config = parseConfig({ ingest: { allowPrivateNetworks: true } });
   const store = openSqliteStore(':memory:');
   let clock = new Date('2026-10-01T08:00:00.000Z');
-  const poller = new FeedPoller({ store, submit: async () => undefined, limits: config.ingest, options: config.poll, logger: createLogger('silent'), now: () => clock });
+  const poller = new FeedPoller({
+    store,
+    submit: async () => undefined,
+    limits: config.ingest,
+    options: config.poll,
+    logger: createLogger('silent'),
+    now: () => clock,
+  });
   await poller.load(Array.from({ length: FEEDS }, (_, i) => ({ url: `http://127.0.0.1:${port}/feeds/${i}.xml` })));
   const rows: PollRoundRow[] = [];
   try {
@@ -49,7 +58,17 @@ export async function pollRounds(): Promise<PollRoundRow[]> {
       const used = process.cpuUsage(cpu);
       child.stdin!.write('counts\n');
       const served = JSON.parse(await next()) as ServedCounts;
-      rows.push({ round, feeds: r.polled, requests: served.requests, ok: served.ok, notModified: served.notModified, newItems: r.newItems, bytes: r.bytes, cpuMs: (used.user + used.system) / 1000, seconds });
+      rows.push({
+        round,
+        feeds: r.polled,
+        requests: served.requests,
+        ok: served.ok,
+        notModified: served.notModified,
+        newItems: r.newItems,
+        bytes: r.bytes,
+        cpuMs: (used.user + used.system) / 1000,
+        seconds,
+      });
       clock = new Date(clock.getTime() + config.poll.intervalSeconds * 1000);
     }
   } finally {

@@ -21,22 +21,97 @@ interface Kind {
 }
 
 const KINDS: Kind[] = [
-  { verbs: ['destroyed', 'gutted', 'swept through', 'burned down'], nouns: ['fire', 'blaze', 'inferno'], objects: ['warehouse', 'depot', 'mill', 'market hall'] },
-  { verbs: ['arrested', 'detained', 'took into custody', 'held'], nouns: ['arrest', 'detention'], objects: ['suspect', 'driver', 'trader', 'official'] },
-  { verbs: ['collapsed', 'gave way', 'fell', 'caved in'], nouns: ['collapse', 'failure'], objects: ['bridge', 'roof', 'embankment', 'tower'] },
-  { verbs: ['flooded', 'inundated', 'swamped', 'submerged'], nouns: ['flood', 'flooding', 'deluge'], objects: ['village', 'district', 'valley', 'harbour'] },
-  { verbs: ['approved', 'passed', 'adopted', 'backed'], nouns: ['vote', 'approval'], objects: ['budget', 'tax law', 'housing plan', 'port levy'] },
-  { verbs: ['walked out', 'went on strike', 'stopped work', 'downed tools'], nouns: ['strike', 'walkout', 'stoppage'], objects: ['dockworkers', 'nurses', 'drivers', 'miners'] },
-  { verbs: ['resigned', 'stepped down', 'quit', 'left office'], nouns: ['resignation', 'departure'], objects: ['minister', 'mayor', 'chairman', 'director'] },
-  { verbs: ['convicted', 'found guilty', 'sentenced', 'jailed'], nouns: ['verdict', 'conviction', 'ruling'], objects: ['commissioner', 'banker', 'contractor', 'clerk'] },
-  { verbs: ['rescued', 'saved', 'pulled out', 'airlifted'], nouns: ['rescue', 'airlift'], objects: ['passengers', 'climbers', 'fishermen', 'families'] },
-  { verbs: ['signed', 'agreed', 'sealed', 'struck'], nouns: ['deal', 'agreement', 'accord'], objects: ['trade deal', 'ceasefire', 'merger', 'contract'] },
+  {
+    verbs: ['destroyed', 'gutted', 'swept through', 'burned down'],
+    nouns: ['fire', 'blaze', 'inferno'],
+    objects: ['warehouse', 'depot', 'mill', 'market hall'],
+  },
+  {
+    verbs: ['arrested', 'detained', 'took into custody', 'held'],
+    nouns: ['arrest', 'detention'],
+    objects: ['suspect', 'driver', 'trader', 'official'],
+  },
+  {
+    verbs: ['collapsed', 'gave way', 'fell', 'caved in'],
+    nouns: ['collapse', 'failure'],
+    objects: ['bridge', 'roof', 'embankment', 'tower'],
+  },
+  {
+    verbs: ['flooded', 'inundated', 'swamped', 'submerged'],
+    nouns: ['flood', 'flooding', 'deluge'],
+    objects: ['village', 'district', 'valley', 'harbour'],
+  },
+  {
+    verbs: ['approved', 'passed', 'adopted', 'backed'],
+    nouns: ['vote', 'approval'],
+    objects: ['budget', 'tax law', 'housing plan', 'port levy'],
+  },
+  {
+    verbs: ['walked out', 'went on strike', 'stopped work', 'downed tools'],
+    nouns: ['strike', 'walkout', 'stoppage'],
+    objects: ['dockworkers', 'nurses', 'drivers', 'miners'],
+  },
+  {
+    verbs: ['resigned', 'stepped down', 'quit', 'left office'],
+    nouns: ['resignation', 'departure'],
+    objects: ['minister', 'mayor', 'chairman', 'director'],
+  },
+  {
+    verbs: ['convicted', 'found guilty', 'sentenced', 'jailed'],
+    nouns: ['verdict', 'conviction', 'ruling'],
+    objects: ['commissioner', 'banker', 'contractor', 'clerk'],
+  },
+  {
+    verbs: ['rescued', 'saved', 'pulled out', 'airlifted'],
+    nouns: ['rescue', 'airlift'],
+    objects: ['passengers', 'climbers', 'fishermen', 'families'],
+  },
+  {
+    verbs: ['signed', 'agreed', 'sealed', 'struck'],
+    nouns: ['deal', 'agreement', 'accord'],
+    objects: ['trade deal', 'ceasefire', 'merger', 'contract'],
+  },
   { verbs: ['attacked', 'raided', 'stormed', 'ransacked'], nouns: ['attack', 'raid'], objects: ['bank', 'office', 'checkpoint', 'depot'] },
-  { verbs: ['derailed', 'crashed', 'overturned', 'collided'], nouns: ['crash', 'derailment', 'collision'], objects: ['train', 'bus', 'ferry', 'lorry'] },
+  {
+    verbs: ['derailed', 'crashed', 'overturned', 'collided'],
+    nouns: ['crash', 'derailment', 'collision'],
+    objects: ['train', 'bus', 'ferry', 'lorry'],
+  },
 ];
 
 const WEEKDAYS = ['Sunday', 'Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday'];
-const SYLLABLES = ['var', 'nek', 'dos', 'tal', 'mir', 'ena', 'kol', 'bra', 'ste', 'lun', 'orv', 'ik', 'tes', 'sam', 'und', 'hal', 'ber', 'qui', 'ron', 'vel', 'ash', 'tor', 'mel', 'dri', 'gan', 'pel', 'sor', 'yat', 'wen', 'cas'];
+const SYLLABLES = [
+  'var',
+  'nek',
+  'dos',
+  'tal',
+  'mir',
+  'ena',
+  'kol',
+  'bra',
+  'ste',
+  'lun',
+  'orv',
+  'ik',
+  'tes',
+  'sam',
+  'und',
+  'hal',
+  'ber',
+  'qui',
+  'ron',
+  'vel',
+  'ash',
+  'tor',
+  'mel',
+  'dri',
+  'gan',
+  'pel',
+  'sor',
+  'yat',
+  'wen',
+  'cas',
+];
 const BACKGROUND = [
   'The area has a long history of industry and trade.',
   'Officials say such cases are rare.',
@@ -45,7 +120,6 @@ const BACKGROUND = [
   'The council is expected to discuss the matter next month.',
   'Critics argue that more should have been done.',
 ];
-
 
 /** Generates a stream with about `mentions` event sentences. */
 export function syntheticStream(mentions: number, seed = 1): SyntheticStream {
@@ -58,26 +132,54 @@ export function syntheticStream(mentions: number, seed = 1): SyntheticStream {
   };
   const people = Array.from({ length: Math.max(50, mentions / 4) }, () => `${word(2)} ${word(2)}`);
   const places = Array.from({ length: Math.max(30, mentions / 20) }, () => word(2 + Math.floor(rand() * 2)));
-  const orgs = Array.from({ length: Math.max(20, mentions / 40) }, () => `${word(2)} ${pick(['Holdings', 'Council', 'Union', 'Authority', 'Group'])}`);
+  const orgs = Array.from(
+    { length: Math.max(20, mentions / 40) },
+    () => `${word(2)} ${pick(['Holdings', 'Council', 'Union', 'Authority', 'Group'])}`,
+  );
   const outlets = Array.from({ length: 12 }, (_, i) => `Synthetic Outlet ${i + 1}`);
   const start = Date.parse('2030-01-01T00:00:00Z');
   const DAY = 86_400_000;
 
   // Events, each with its own participants, place, day and number of mentions.
-  type Ev = { id: string; kind: Kind; person: string; org: string; place: string; day: number; object: string; count: number; left: number };
+  type Ev = {
+    id: string;
+    kind: Kind;
+    person: string;
+    org: string;
+    place: string;
+    day: number;
+    object: string;
+    count: number;
+    left: number;
+  };
   const events: Ev[] = [];
   let planned = 0;
   let day = 0;
   while (planned < mentions) {
     const count = 1 + Math.floor(Math.pow(rand(), 2) * 8);
     const kind = pick(KINDS);
-    events.push({ id: `syn-${events.length}`, kind, person: pick(people), org: pick(orgs), place: pick(places), day, object: pick(kind.objects), count, left: count });
+    events.push({
+      id: `syn-${events.length}`,
+      kind,
+      person: pick(people),
+      org: pick(orgs),
+      place: pick(places),
+      day,
+      object: pick(kind.objects),
+      count,
+      left: count,
+    });
     planned += count;
     if (rand() < 0.3) day++;
   }
 
   const sentence = (e: Ev, reportDay: number): string => {
-    const when = reportDay === e.day ? 'on ' + WEEKDAYS[new Date(start + e.day * DAY).getUTCDay()] : reportDay - e.day <= 6 ? `on ${WEEKDAYS[new Date(start + e.day * DAY).getUTCDay()]}` : `earlier this ${reportDay - e.day < 28 ? 'month' : 'year'}`;
+    const when =
+      reportDay === e.day
+        ? 'on ' + WEEKDAYS[new Date(start + e.day * DAY).getUTCDay()]
+        : reportDay - e.day <= 6
+          ? `on ${WEEKDAYS[new Date(start + e.day * DAY).getUTCDay()]}`
+          : `earlier this ${reportDay - e.day < 28 ? 'month' : 'year'}`;
     const n = 2 + Math.floor(rand() * 40);
     const templates = [
       () => `${e.person} said the ${pick(e.kind.nouns)} at the ${e.object} in ${e.place} happened ${when}.`,
@@ -111,8 +213,13 @@ export function syntheticStream(mentions: number, seed = 1): SyntheticStream {
     }
     while (cursor < events.length && events[cursor]!.left === 0) cursor++;
     articles.push({
-      id, outlet: pick(outlets), published: new Date(start + reportDay * DAY + Math.floor(rand() * DAY)).toISOString(),
-      title: `Report ${articles.length}`, sentences, topic: null, subtopic: null,
+      id,
+      outlet: pick(outlets),
+      published: new Date(start + reportDay * DAY + Math.floor(rand() * DAY)).toISOString(),
+      title: `Report ${articles.length}`,
+      sentences,
+      topic: null,
+      subtopic: null,
     });
   }
   return { articles, gold };

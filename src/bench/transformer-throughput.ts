@@ -43,7 +43,11 @@ export async function transformerThroughput(articles: readonly Article[]): Promi
     const words = new Set<string>();
     for (const a of articles) for (const w of a.text.toLowerCase().match(/[a-z]+|[0-9]+|[^\sa-z0-9]/g) ?? []) words.add(w);
     writeModel(join(dir, 'minilm-sized'), { vocab: [...SPECIAL_TOKENS, ...[...words].sort()], hidden: 384, blocks: 9 });
-    const config = parseConfig({ store: { path: ':memory:' }, embed: { kind: 'transformer', modelPath: join(dir, 'minilm-sized') }, log: { level: 'silent' } });
+    const config = parseConfig({
+      store: { path: ':memory:' },
+      embed: { kind: 'transformer', modelPath: join(dir, 'minilm-sized') },
+      log: { level: 'silent' },
+    });
     // Steady state on both sides: one warm-up run each, then the median of RUNS. The
     // analysis threads are started once and kept, as in a running service.
     const threads = analysisThreads(config.analysis.threads);

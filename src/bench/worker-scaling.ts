@@ -75,7 +75,10 @@ export async function redisAnswers(): Promise<boolean> {
 }
 
 /** Worker throughput with 1 and 2 worker processes, with the default embedder and a MiniLM-sized transformer. */
-export async function workerScaling(demo: readonly Article[], demoMentions: number): Promise<{ rows: WorkerRow[]; ceilings: CeilingRow[] }> {
+export async function workerScaling(
+  demo: readonly Article[],
+  demoMentions: number,
+): Promise<{ rows: WorkerRow[]; ceilings: CeilingRow[] }> {
   // TF-IDF workers are fast: ten copies of the demo; transformer workers: three.
   const many = copiesOf(demo, 10);
   const few = copiesOf(demo, 3);
@@ -86,19 +89,58 @@ export async function workerScaling(demo: readonly Article[], demoMentions: numb
     const model = join(dir, 'minilm-sized');
     writeModel(model, { vocab: [...SPECIAL_TOKENS, ...[...words].sort()], hidden: 384, blocks: 9 });
     const rows: WorkerRow[] = [];
-    for (const workers of [1, 2]) rows.push(await timeWorkers(dir, many, demoMentions * 10, workers, { kind: 'tfidf' }, 'default (TF-IDF: linker embeds)', '1'));
-    for (const workers of [1, 2]) rows.push(await timeWorkers(dir, few, demoMentions * 3, workers, { kind: 'transformer', modelPath: model, threads: 1 }, 'transformer (MiniLM-L6-sized)', '1'));
-    rows.push(await timeWorkers(dir, few, demoMentions * 3, 1, { kind: 'transformer', modelPath: model, threads: 0 }, 'transformer (MiniLM-L6-sized)', 'all cores'));
-    const ceilings = [await ceiling('analysis and event sentences (wink-nlp)', ['analysis', '10']), await ceiling('transformer model alone', ['model', model, '3'])];
+    for (const workers of [1, 2])
+      rows.push(await timeWorkers(dir, many, demoMentions * 10, workers, { kind: 'tfidf' }, 'default (TF-IDF: linker embeds)', '1'));
+    for (const workers of [1, 2])
+      rows.push(
+        await timeWorkers(
+          dir,
+          few,
+          demoMentions * 3,
+          workers,
+          { kind: 'transformer', modelPath: model, threads: 1 },
+          'transformer (MiniLM-L6-sized)',
+          '1',
+        ),
+      );
+    rows.push(
+      await timeWorkers(
+        dir,
+        few,
+        demoMentions * 3,
+        1,
+        { kind: 'transformer', modelPath: model, threads: 0 },
+        'transformer (MiniLM-L6-sized)',
+        'all cores',
+      ),
+    );
+    const ceilings = [
+      await ceiling('analysis and event sentences (wink-nlp)', ['analysis', '10']),
+      await ceiling('transformer model alone', ['model', model, '3']),
+    ];
     return { rows, ceilings };
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
 }
 
-async function timeWorkers(dir: string, articles: readonly Article[], mentions: number, count: number, embed: Record<string, unknown>, embedder: string, threadsPerWorker: string): Promise<WorkerRow> {
+async function timeWorkers(
+  dir: string,
+  articles: readonly Article[],
+  mentions: number,
+  count: number,
+  embed: Record<string, unknown>,
+  embedder: string,
+  threadsPerWorker: string,
+): Promise<WorkerRow> {
   const partition = `bench-${randomUUID()}`;
-  const raw = { store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, embed, queue: { blockMs: 100, batch: 8 }, analysis: { threads: 0 }, log: { level: 'warn' } };
+  const raw = {
+    store: { kind: 'redis', redis: { url: REDIS_URL, partition } },
+    embed,
+    queue: { blockMs: 100, batch: 8 },
+    analysis: { threads: 0 },
+    log: { level: 'warn' },
+  };
   const configFile = join(dir, `${partition}.json`);
   writeFileSync(configFile, JSON.stringify(raw));
   const keys = keyspace(partition);
@@ -112,10 +154,16 @@ async function timeWorkers(dir: string, articles: readonly Article[], mentions: 
     await enqueueArticles(redis, keys, articles);
     let failure = '';
     for (let i = 0; i < count; i++) {
-      const p = spawn(process.execPath, [CLI, 'serve', '--role', 'worker', '--config', configFile], { stdio: ['ignore', 'ignore', 'pipe'] });
+      const p = spawn(process.execPath, [CLI, 'serve', '--role', 'worker', '--config', configFile], {
+        stdio: ['ignore', 'ignore', 'pipe'],
+      });
       let stderr = '';
-      p.stderr!.on('data', (d: Buffer) => { stderr += d.toString(); });
-      p.once('exit', (code) => { failure ||= `a worker process exited (${code}): ${stderr.trim().slice(0, 500)}`; });
+      p.stderr!.on('data', (d: Buffer) => {
+        stderr += d.toString();
+      });
+      p.once('exit', (code) => {
+        failure ||= `a worker process exited (${code}): ${stderr.trim().slice(0, 500)}`;
+      });
       procs.push(p);
     }
     const at = async (share: number): Promise<number> => {
@@ -129,7 +177,15 @@ async function timeWorkers(dir: string, articles: readonly Article[], mentions: 
     const t1 = await at(0.9);
     await at(1);
     const seconds = (t1 - t0) / 1000;
-    return { embedder, workers: count, threadsPerWorker, articles: articles.length, mentions, seconds, articlesPerSecond: (Math.ceil(articles.length * 0.9) - Math.ceil(articles.length * 0.1)) / seconds };
+    return {
+      embedder,
+      workers: count,
+      threadsPerWorker,
+      articles: articles.length,
+      mentions,
+      seconds,
+      articlesPerSecond: (Math.ceil(articles.length * 0.9) - Math.ceil(articles.length * 0.1)) / seconds,
+    };
   } finally {
     for (const p of procs) p.kill('SIGTERM');
     await deleteMatching(redis, keys.pattern);
@@ -140,7 +196,11 @@ async function timeWorkers(dir: string, articles: readonly Article[], mentions: 
 /** Stores `articles` in a fresh partition with one process and reads how much Redis memory it took. */
 export async function redisMemory(articles: readonly Article[]): Promise<RedisMemoryRow> {
   const partition = `bench-${randomUUID()}`;
-  const config = parseConfig({ store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, analysis: { threads: 0 }, log: { level: 'silent' } });
+  const config = parseConfig({
+    store: { kind: 'redis', redis: { url: REDIS_URL, partition } },
+    analysis: { threads: 0 },
+    log: { level: 'silent' },
+  });
   const store = await openRedisStore({ url: REDIS_URL, partition });
   try {
     const before = await store.usedMemory();
@@ -148,7 +208,13 @@ export async function redisMemory(articles: readonly Article[]): Promise<RedisMe
     await lastValueFrom(runPipeline(from(articles), rt).pipe(toArray()));
     const counts = await store.counts();
     const bytes = (await store.usedMemory()) - before;
-    return { articles: counts.articles, mentions: counts.mentions, bytes, bytesPerMention: bytes / counts.mentions, bytesPerArticle: bytes / counts.articles };
+    return {
+      articles: counts.articles,
+      mentions: counts.mentions,
+      bytes,
+      bytesPerMention: bytes / counts.mentions,
+      bytesPerArticle: bytes / counts.articles,
+    };
   } finally {
     await store.dropPartition();
     await store.close();
@@ -161,19 +227,28 @@ function sleep(ms: number): Promise<void> {
 
 /** `n` copies of the articles under new ids (the workers do not check for copies). */
 function copiesOf(base: readonly Article[], n: number): Article[] {
-  return Array.from({ length: n }, (_, k) => base.map((a) => ({ ...a, id: `${a.id}#w${k}`, url: a.url ? `${a.url}?w=${k}` : null }))).flat();
+  return Array.from({ length: n }, (_, k) =>
+    base.map((a) => ({ ...a, id: `${a.id}#w${k}`, url: a.url ? `${a.url}?w=${k}` : null })),
+  ).flat();
 }
 
 /** Runs work-alone-run.js once alone, then twice side by side. */
 async function ceiling(work: string, args: string[]): Promise<CeilingRow> {
-  const once = () => new Promise<number>((resolve, reject) => {
-    const p = spawn(process.execPath, [ALONE, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let out = '';
-    let err = '';
-    p.stdout!.on('data', (d: Buffer) => { out += d.toString(); });
-    p.stderr!.on('data', (d: Buffer) => { err += d.toString(); });
-    p.once('exit', (code) => (code === 0 ? resolve(Number(out.trim())) : reject(new Error(`work-alone-run ${args[0]} exited ${code}: ${err.slice(0, 500)}`))));
-  });
+  const once = () =>
+    new Promise<number>((resolve, reject) => {
+      const p = spawn(process.execPath, [ALONE, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+      let out = '';
+      let err = '';
+      p.stdout!.on('data', (d: Buffer) => {
+        out += d.toString();
+      });
+      p.stderr!.on('data', (d: Buffer) => {
+        err += d.toString();
+      });
+      p.once('exit', (code) =>
+        code === 0 ? resolve(Number(out.trim())) : reject(new Error(`work-alone-run ${args[0]} exited ${code}: ${err.slice(0, 500)}`)),
+      );
+    });
   const oneSeconds = await once();
   const twoSeconds = Math.max(...(await Promise.all([once(), once()])));
   return { work, oneSeconds, twoSeconds, ceiling: (2 * oneSeconds) / twoSeconds };

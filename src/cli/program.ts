@@ -9,7 +9,8 @@ import { version } from './common.js';
 
 function integer(name: string, min: number, max: number) {
   return (value: string): number => {
-    if (!/^\d+$/.test(value) || Number(value) < min || Number(value) > max) throw new InvalidArgumentError(`${name} must be a whole number from ${min} to ${max}`);
+    if (!/^\d+$/.test(value) || Number(value) < min || Number(value) > max)
+      throw new InvalidArgumentError(`${name} must be a whole number from ${min} to ${max}`);
     return Number(value);
   };
 }
@@ -30,8 +31,13 @@ function buildProgram(done: (code: number) => void): Command {
     .showHelpAfterError();
 
   common(program.command('serve'))
-    .description('serve the query API and the analysts\' page; optionally replay feeds into the store while serving')
-    .addOption(new Option('--role <role>', 'all: everything in one process; with the Redis store: api, worker (run several) or linker (one per partition) (or STRANDLINE_ROLE)').choices(['all', 'api', 'worker', 'linker']))
+    .description("serve the query API and the analysts' page; optionally replay feeds into the store while serving")
+    .addOption(
+      new Option(
+        '--role <role>',
+        'all: everything in one process; with the Redis store: api, worker (run several) or linker (one per partition) (or STRANDLINE_ROLE)',
+      ).choices(['all', 'api', 'worker', 'linker']),
+    )
     .option('--demo', 'replay the bundled demo feeds into data/demo.sqlite (unless --db is given)')
     .option('--replay <path...>', 'feed files, folders or URLs to replay while serving')
     .option('--host <host>', 'interface to listen on (or HOST)')
@@ -39,7 +45,9 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (opts) => done(await (await import('./commands/serve.js')).serveCommand(opts)));
 
   common(program.command('replay'))
-    .description('run an archive (feed files or folders of them; RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, with a progress bar, then print a summary: for a backfill or a demo. Exits 1 when a source could not be read')
+    .description(
+      'run an archive (feed files or folders of them; RSS 2.0, Atom, JSON Feed) through the pipeline, oldest article first, with a progress bar, then print a summary: for a backfill or a demo. Exits 1 when a source could not be read',
+    )
     .argument('<path...>', 'feed files, folders of feed files, or URLs')
     .option('--pace <ms>', 'wait this long between articles (a live-looking replay)', integer('--pace', 0, 600_000))
     .option('--no-progress', 'no progress bar')
@@ -47,10 +55,14 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (paths: string[], opts) => done(await (await import('./commands/replay.js')).replayCommand(paths, opts)));
 
   common(program.command('ingest'))
-    .description('fetch live feeds once from their URLs (or files) and run the articles not stored yet through the pipeline, as one poll would: for scripts and scheduled jobs. Exits 1 when a source could not be fetched or read')
+    .description(
+      'fetch live feeds once from their URLs (or files) and run the articles not stored yet through the pipeline, as one poll would: for scripts and scheduled jobs. Exits 1 when a source could not be fetched or read',
+    )
     .argument('<source...>', 'feed URLs or files')
     .option('--json', 'print the summary as JSON')
-    .action(async (sources: string[], opts) => done(await (await import('./commands/replay.js')).replayCommand(sources, { ...opts, progress: false })));
+    .action(async (sources: string[], opts) =>
+      done(await (await import('./commands/replay.js')).replayCommand(sources, { ...opts, progress: false })),
+    );
 
   common(program.command('forget'))
     .description('erase stored article and sentence text (links and events stay)')
@@ -59,19 +71,30 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (opts) => done(await (await import('./commands/forget.js')).forgetCommand(opts)));
 
   common(program.command('consolidate'))
-    .description('merge stored events (and stories) that turn out to be one, and split events that drifted into two happenings (also runs by itself every link.consolidateEvery articles)')
+    .description(
+      'merge stored events (and stories) that turn out to be one, and split events that drifted into two happenings (also runs by itself every link.consolidateEvery articles)',
+    )
     .action(async (opts) => done(await (await import('./commands/consolidate.js')).consolidateCommand(opts)));
 
   common(program.command('eval'))
-    .description('score linking against annotated corpora: partition metrics, link types, stories, each system\'s best threshold and the regret of the configured one, baselines side by side; writes report.json and report.html')
+    .description(
+      "score linking against annotated corpora: partition metrics, link types, stories, each system's best threshold and the regret of the configured one, baselines side by side; writes report.json and report.html",
+    )
     .option('--corpus <dir...>', 'corpus folders, each with articles.jsonl, gold.jsonl and optionally scope.jsonl (several in one run)')
     .option('--articles <file>', 'articles.jsonl: {"id", "outlet", "published", "title", "sentences", "topic", "subtopic"} per line')
     .option('--gold <file>', 'gold.jsonl: {"article", "sentence" (index or null), "event", "text"?} per line')
     .option('--scope <file>', 'scope.jsonl: {"article", "sentence"} lines; only these sentences are scored')
     .option('--demo', 'evaluate on the bundled demo and its gold too (for showing; never for choosing a setting)')
-    .addOption(new Option('--setting <setting>', 'gold mentions, predicted mentions, or both').choices(['gold', 'predicted', 'both']).default('both'))
-    .option('--thresholds <from:to:step>', 'link thresholds for best thresholds and regret, every one run (default: 0.05:0.5:0.025, every other one run, then the neighbours of the best)')
-    .option('--sweep', 'print each corpus\'s scores at every threshold too (always in report.json and report.html)')
+    .addOption(
+      new Option('--setting <setting>', 'gold mentions, predicted mentions, or both')
+        .choices(['gold', 'predicted', 'both'])
+        .default('both'),
+    )
+    .option(
+      '--thresholds <from:to:step>',
+      'link thresholds for best thresholds and regret, every one run (default: 0.05:0.5:0.025, every other one run, then the neighbours of the best)',
+    )
+    .option('--sweep', "print each corpus's scores at every threshold too (always in report.json and report.html)")
     .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
     .option('--json', 'print the report as JSON')
     .action(async (opts) => done(await (await import('./commands/eval.js')).evalCommand(opts)));
@@ -94,11 +117,13 @@ function buildProgram(done: (code: number) => void): Command {
 export async function runCli(args: readonly string[]): Promise<number> {
   let code = 0;
   try {
-    await buildProgram((c) => { code = c; }).parseAsync([...args], { from: 'user' });
+    await buildProgram((c) => {
+      code = c;
+    }).parseAsync([...args], { from: 'user' });
     return code;
   } catch (err) {
     if (err instanceof CommanderError) return err.exitCode;
-    process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : (err as Error).stack ?? String(err)}\n`);
+    process.stderr.write(`strandline: ${isStrandError(err) ? describeError(err) : ((err as Error).stack ?? String(err))}\n`);
     return 2;
   }
 }

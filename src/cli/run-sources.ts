@@ -45,13 +45,31 @@ const DRAIN_MS = 3_000;
  * `signal` aborts, no further article enters the pipeline; those already on their way are
  * finished (each committed whole) for up to `drainMs`, then the run ends where it is.
  */
-export async function runSources(rt: Runtime, sources: readonly string[], opts: { paceMs?: number; signal?: AbortSignal; drainMs?: number } = {}, hooks: RunHooks = {}): Promise<RunSummary> {
+export async function runSources(
+  rt: Runtime,
+  sources: readonly string[],
+  opts: { paceMs?: number; signal?: AbortSignal; drainMs?: number } = {},
+  hooks: RunHooks = {},
+): Promise<RunSummary> {
   const t0 = performance.now();
   hooks.onStart?.();
   const input = await readReplayInput(sources, rt.config.ingest, opts.signal);
   const summary: RunSummary = {
-    files: input.files.length, articlesRead: input.articles.length, stored: 0, alreadyStored: 0, copies: 0, rejected: [],
-    sentences: 0, mentions: 0, links: 0, eventsOpened: 0, storiesOpened: 0, eventsMerged: 0, problems: input.problems, seconds: 0, notRun: 0,
+    files: input.files.length,
+    articlesRead: input.articles.length,
+    stored: 0,
+    alreadyStored: 0,
+    copies: 0,
+    rejected: [],
+    sentences: 0,
+    mentions: 0,
+    links: 0,
+    eventsOpened: 0,
+    storiesOpened: 0,
+    eventsMerged: 0,
+    problems: input.problems,
+    seconds: 0,
+    notRun: 0,
   };
   hooks.onRead?.(input.articles.length);
   const pace = opts.paceMs ?? 0;
@@ -101,9 +119,12 @@ export function formatSummary(s: RunSummary): string {
     `text      ${s.sentences} sentence(s), ${s.mentions} event sentence(s), ${s.links} link(s), ${s.eventsOpened} new event(s), ${s.eventsMerged} merged into others, in ${s.storiesOpened} new story(ies)`,
     `time      ${s.seconds.toFixed(1)} s${s.sentences ? ` (${Math.round(s.sentences / s.seconds)} sentences/s)` : ''}`,
   ];
-  if (s.notRun > 0) lines.push(`stopped   early: ${s.notRun} of ${s.articlesRead} article(s) not run; the same command again continues where it stopped`);
+  if (s.notRun > 0)
+    lines.push(`stopped   early: ${s.notRun} of ${s.articlesRead} article(s) not run; the same command again continues where it stopped`);
   const problems = [
-    ...s.problems.map((p) => `${p.severity === 'error' ? 'error  ' : 'warning'} ${p.source}${p.item ? ` [${p.item}]` : ''}: ${p.code}: ${p.message}`),
+    ...s.problems.map(
+      (p) => `${p.severity === 'error' ? 'error  ' : 'warning'} ${p.source}${p.item ? ` [${p.item}]` : ''}: ${p.code}: ${p.message}`,
+    ),
     ...s.rejected.map((r) => `error   [${r.article}]: ${r.reason}`),
   ];
   if (problems.length) lines.push(`problems  ${problems.length}:`, ...problems.map((p) => `  ${p}`));

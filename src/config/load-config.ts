@@ -66,7 +66,9 @@ function describeIssue(issue: z.core.$ZodIssue, envNames: ReadonlyMap<string, st
     const known = knownKeys(issue.path);
     const hints = issue.keys.map((k) => {
       const near = known.length ? closest(k, known) : undefined;
-      return near !== undefined && distance(k, near) <= Math.max(2, Math.floor(k.length / 4)) ? `"${k}" (did you mean "${near}"?)` : `"${k}"`;
+      return near !== undefined && distance(k, near) <= Math.max(2, Math.floor(k.length / 4))
+        ? `"${k}" (did you mean "${near}"?)`
+        : `"${k}"`;
     });
     return `${where}: unknown key${hints.length > 1 ? 's' : ''} ${hints.join(', ')}`;
   }
@@ -125,7 +127,12 @@ function readJson(path: string): Record<string, unknown> {
   try {
     text = readFileSync(path, 'utf8');
   } catch (err) {
-    const why = (err as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : (err as NodeJS.ErrnoException).code === 'EISDIR' ? 'it is a folder' : (err as Error).message;
+    const why =
+      (err as NodeJS.ErrnoException).code === 'ENOENT'
+        ? 'no such file'
+        : (err as NodeJS.ErrnoException).code === 'EISDIR'
+          ? 'it is a folder'
+          : (err as Error).message;
     throw new StrandError('STRAND_CONFIG_UNREADABLE', `cannot read configuration file ${path}: ${why}`, { cause: err });
   }
   if (text.length > 1024 * 1024) throw new StrandError('STRAND_CONFIG_INVALID', `configuration file ${path} is over 1 MiB`);
@@ -133,7 +140,9 @@ function readJson(path: string): Record<string, unknown> {
   try {
     value = JSON.parse(text);
   } catch (err) {
-    throw new StrandError('STRAND_CONFIG_INVALID', `configuration file ${path} is not valid JSON: ${(err as Error).message}`, { cause: err });
+    throw new StrandError('STRAND_CONFIG_INVALID', `configuration file ${path} is not valid JSON: ${(err as Error).message}`, {
+      cause: err,
+    });
   }
   if (!isPlainObject(value)) throw new StrandError('STRAND_CONFIG_INVALID', `configuration file ${path} must hold a JSON object`);
   return value;

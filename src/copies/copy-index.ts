@@ -70,7 +70,11 @@ export class CopyIndex {
         const similarity = estimateJaccard(sketch, e.sketch);
         if (similarity < this.o.nearThreshold) continue;
         // The closest wins; on a tie, the older (the original rather than another copy of it).
-        if (!best || similarity > best.similarity || (similarity === best.similarity && (e.time < best.time || (e.time === best.time && e.id < best.original)))) {
+        if (
+          !best ||
+          similarity > best.similarity ||
+          (similarity === best.similarity && (e.time < best.time || (e.time === best.time && e.id < best.original)))
+        ) {
           best = { original: e.id, similarity, time: e.time };
         }
       }

@@ -19,7 +19,11 @@ export const SHINGLE_WORDS = 4;
  * shingle string is ever built.
  */
 export function shingles(text: string, words = SHINGLE_WORDS): Set<number> {
-  const tokens = text.toLowerCase().normalize('NFKC').match(/[\p{L}\p{N}]+(?:['’][\p{L}]+)?/gu) ?? [];
+  const tokens =
+    text
+      .toLowerCase()
+      .normalize('NFKC')
+      .match(/[\p{L}\p{N}]+(?:['’][\p{L}]+)?/gu) ?? [];
   const out = new Set<number>();
   if (tokens.length === 0) return out;
   const h = tokens.map(fnv1a);

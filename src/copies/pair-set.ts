@@ -17,15 +17,24 @@ const EDITS: Record<string, (text: string, rnd: () => number) => string> = {
   'new headline and byline': (t) => `Harbour Ledger staff and agencies\n\n${t}`,
   'last paragraph cut': (t) => {
     const paras = t.split(/\n\n+/);
-    return paras.length > 1 ? paras.slice(0, -1).join('\n\n') : t.split(/(?<=\.)\s+/).slice(0, -1).join(' ');
+    return paras.length > 1
+      ? paras.slice(0, -1).join('\n\n')
+      : t
+          .split(/(?<=\.)\s+/)
+          .slice(0, -1)
+          .join(' ');
   },
-  'a few words changed': (t, rnd) => t.split(' ').map((w) => (rnd() < 0.03 ? 'reportedly' : w)).join(' '),
+  'a few words changed': (t, rnd) =>
+    t
+      .split(' ')
+      .map((w) => (rnd() < 0.03 ? 'reportedly' : w))
+      .join(' '),
   'credit line added': (t) => `${t}\n\nThis report was distributed by the Northwire agency.`,
 };
 
 export function buildPairSet(articles: readonly { id: string; text: string; story: string | null }[], seed = 1): LabelledPair[] {
   let x = seed >>> 0;
-  const rnd = (): number => ((x = (Math.imul(x, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+  const rnd = (): number => (x = (Math.imul(x, 1664525) + 1013904223) >>> 0) / 2 ** 32;
   const usable = articles.filter((a) => a.text.split(/\s+/).length >= 60);
   const pairs: LabelledPair[] = [];
   const names = Object.keys(EDITS);

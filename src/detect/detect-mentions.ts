@@ -22,10 +22,15 @@ export const ARTICLE_MENTION = -1;
 const LEAD_SENTENCES = 2;
 
 /** Scores sentences and builds Mention records for the selected ones. */
-export function detectMentions(a: AnalysedArticle, threshold: number, selection: MentionSelection = { kind: 'threshold' }): DetectedArticle {
+export function detectMentions(
+  a: AnalysedArticle,
+  threshold: number,
+  selection: MentionSelection = { kind: 'threshold' },
+): DetectedArticle {
   const published = a.article.published ?? a.article.fetched;
   const eventness = a.sentences.map(scoreEventSentence);
-  if (selection.kind === 'article') return { ...a, eventness, mentions: a.sentences.length ? [articleMention(a, eventness, published)] : [] };
+  if (selection.kind === 'article')
+    return { ...a, eventness, mentions: a.sentences.length ? [articleMention(a, eventness, published)] : [] };
   const mentions: Mention[] = [];
   a.sentences.forEach((s, i) => {
     if (selection.kind === 'threshold' ? eventness[i]! < threshold : !selection.indices.has(s.sentence.index)) return;

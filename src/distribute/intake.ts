@@ -25,7 +25,12 @@ export async function ensureIntake(redis: RedisClient, k: Keyspace): Promise<voi
  * 200, or, with `atomic` (a push, whose client must be told all or nothing), as one
  * MULTI/EXEC transaction.
  */
-export async function enqueueArticles(redis: RedisClient, k: Keyspace, articles: readonly Article[], o: { atomic?: boolean } = {}): Promise<string[]> {
+export async function enqueueArticles(
+  redis: RedisClient,
+  k: Keyspace,
+  articles: readonly Article[],
+  o: { atomic?: boolean } = {},
+): Promise<string[]> {
   await ensureIntake(redis, k);
   const ids: string[] = [];
   const chunk = o.atomic ? Math.max(1, articles.length) : 200;

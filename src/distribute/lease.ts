@@ -18,7 +18,13 @@ export class Lease {
   private readonly renew: ReturnType<typeof defineScript>;
   private readonly release: ReturnType<typeof defineScript>;
 
-  constructor(private readonly redis: RedisClient, private readonly key: string, private readonly what: string, private readonly logger: Pick<Logger, 'info' | 'warn'>, private readonly ms = 15_000) {
+  constructor(
+    private readonly redis: RedisClient,
+    private readonly key: string,
+    private readonly what: string,
+    private readonly logger: Pick<Logger, 'info' | 'warn'>,
+    private readonly ms = 15_000,
+  ) {
     this.renew = defineScript(redis, 'lease-renew');
     this.release = defineScript(redis, 'lease-release');
   }
@@ -31,7 +37,9 @@ export class Lease {
   /** Tries for the lease now, then again (or renews it) every third of its length. */
   async start(): Promise<void> {
     await this.attempt();
-    this.timer = setInterval(() => { this.turn = this.turn.then(() => this.attempt()); }, this.ms / 3);
+    this.timer = setInterval(() => {
+      this.turn = this.turn.then(() => this.attempt());
+    }, this.ms / 3);
     this.timer.unref();
   }
 

@@ -17,7 +17,16 @@ import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, admitWork, linkStages, outcomeOf, reloadLinking } from '../pipeline/index.js';
+import {
+  type ArticleOutcome,
+  type DetectedWork,
+  type Flow,
+  type PipelineContext,
+  admitWork,
+  linkStages,
+  outcomeOf,
+  reloadLinking,
+} from '../pipeline/index.js';
 import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';
@@ -126,7 +135,9 @@ export class QueueLinker {
     let told = false;
     while (!this.stopping) {
       try {
-        const mine = (await this.renewLease(keys.linkerLease, this.token, this.leaseMs)) === 1 || (await redis.set(keys.linkerLease, this.token, 'PX', this.leaseMs, 'NX')) === 'OK';
+        const mine =
+          (await this.renewLease(keys.linkerLease, this.token, this.leaseMs)) === 1 ||
+          (await redis.set(keys.linkerLease, this.token, 'PX', this.leaseMs, 'NX')) === 'OK';
         if (mine) {
           this.renewedAt = Date.now();
           this.d.fence?.(this.token);
@@ -192,7 +203,9 @@ export class QueueLinker {
           this.advancing = this.advancing
             .then(() => (notStored ? this.deadLetter(entry, o.reason ?? 'not stored', body) : undefined))
             .then(() => this.advance(entry))
-            .catch((err: unknown) => this.log.warn({ err: describeError(err) }, 'position not saved; the next start repeats a few articles harmlessly'));
+            .catch((err: unknown) =>
+              this.log.warn({ err: describeError(err) }, 'position not saved; the next start repeats a few articles harmlessly'),
+            );
           this.outcomes.next(o);
         },
         error: reject,
@@ -210,7 +223,8 @@ export class QueueLinker {
         const next = await this.nextAnswered(position);
         if (next.length === 0) {
           // Wait for any new analysed entry (or a second), then look again.
-          const r = await this.d.blocking.xread('COUNT', 1, 'BLOCK', 1000, 'STREAMS', keys.analysed, lastSeen) as [string, [string, string[]][]][] | null;
+          const r = (await this.d.blocking.xread('COUNT', 1, 'BLOCK', 1000, 'STREAMS', keys.analysed, lastSeen)) as
+            [string, [string, string[]][]][] | null;
           if (r) lastSeen = r[0]![1].at(-1)![0];
           continue;
         }
@@ -221,7 +235,9 @@ export class QueueLinker {
           const entry = next[i]!.entry;
           position = entry;
           // An answer recorded but no longer on the stream (not expected): reported, not skipped.
-          const f = row ? fieldMap(row[1]) : { entry, rejected: `analysed entry ${next[i]!.analysed} missing${err ? `: ${err.message}` : ''}` };
+          const f = row
+            ? fieldMap(row[1])
+            : { entry, rejected: `analysed entry ${next[i]!.analysed} missing${err ? `: ${err.message}` : ''}` };
           order.push({ entry, body: f.work ?? '' });
           inFlight++;
           input.next(await this.toFlow(admit, f));
@@ -250,12 +266,23 @@ export class QueueLinker {
 
   private async toFlow(admit: ReturnType<typeof admitWork>, f: Record<string, string>): Promise<Flow<DetectedWork>> {
     if (f.rejected !== undefined) {
-      const article = { id: `queue:${f.entry}`, outlet: '', url: null, title: '', published: null, fetched: new Date(0).toISOString(), language: null, text: '', contentHash: '', duplicateOf: null, source: 'queue' };
+      const article = {
+        id: `queue:${f.entry}`,
+        outlet: '',
+        url: null,
+        title: '',
+        published: null,
+        fetched: new Date(0).toISOString(),
+        language: null,
+        text: '',
+        contentHash: '',
+        duplicateOf: null,
+        source: 'queue',
+      };
       return { done: { ...outcomeOf(article, 'rejected', `worker: ${f.rejected}`), duplicateOf: null } };
     }
     return admit(decodeWork(f.work!));
   }
-
 
   private async deadLetter(entry: string, error: string, body: string): Promise<void> {
     this.log.error({ entry, err: error }, 'article not stored; moved to the dead-letter list');

@@ -23,7 +23,10 @@ import { AnalysisWorker } from './worker.js';
 /** Refuses a split role without the shared store. */
 export function checkRole(config: Readonly<Config>): void {
   if (config.process.role !== 'all' && config.store.kind !== 'redis') {
-    throw new StrandError('STRAND_CONFIG_INVALID', `process.role ${config.process.role} shares its work through Redis: set store.kind to redis (or STRANDLINE_STORE=redis)`);
+    throw new StrandError(
+      'STRAND_CONFIG_INVALID',
+      `process.role ${config.process.role} shares its work through Redis: set store.kind to redis (or STRANDLINE_STORE=redis)`,
+    );
   }
 }
 
@@ -32,8 +35,19 @@ export async function startWorker(config: Readonly<Config>, logger: Logger): Pro
   // The model first: a missing model stops start-up before any connection is open.
   const embedder = await createEmbedder(config.embed);
   const onError = redisErrorLog(logger);
-  const [redis, blocking] = await Promise.all([connectRedis(config.store.redis, {}, onError), connectRedis(config.store.redis, {}, onError)]);
-  const worker = new AnalysisWorker({ config, redis, blocking, keys: keyspace(config.store.redis.partition), nlp: createNlp(), embedder, logger });
+  const [redis, blocking] = await Promise.all([
+    connectRedis(config.store.redis, {}, onError),
+    connectRedis(config.store.redis, {}, onError),
+  ]);
+  const worker = new AnalysisWorker({
+    config,
+    redis,
+    blocking,
+    keys: keyspace(config.store.redis.partition),
+    nlp: createNlp(),
+    embedder,
+    logger,
+  });
   await worker.start();
   logger.child({ stage: 'worker' }).info({ consumer: worker.name }, 'worker reading the intake stream');
   return {
@@ -47,7 +61,11 @@ export async function startWorker(config: Readonly<Config>, logger: Logger): Pro
 
 /** A running linker: waits for the partition's lease, then links queued work until stopped. */
 /** Starts the partition's linker; `o.leaseMs` shortens its lease (15 s) where a test outlives it. */
-export async function startLinker(config: Readonly<Config>, logger: Logger, o: { leaseMs?: number } = {}): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
+export async function startLinker(
+  config: Readonly<Config>,
+  logger: Logger,
+  o: { leaseMs?: number } = {},
+): Promise<{ linker: QueueLinker; runtime: Runtime; stop(): Promise<void> }> {
   // The workers analyse; the linker needs no analysis threads of its own.
   const runtime = await createRuntime({ ...config, analysis: { threads: 0 } }, logger);
   const onError = redisErrorLog(logger);
@@ -61,11 +79,24 @@ export async function startLinker(config: Readonly<Config>, logger: Logger, o: {
   }
   const store = runtime.store;
   if (!(store instanceof RedisStore)) throw new StrandError('STRAND_CONFIG_INVALID', 'the linker role needs the Redis store');
-  const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, fence: (token) => store.fenceWrites(token), leaseMs: o.leaseMs });
+  const linker = new QueueLinker({
+    ctx: runtime,
+    redis,
+    blocking,
+    keys: keyspace(config.store.redis.partition),
+    logger,
+    fence: (token) => store.fenceWrites(token),
+    leaseMs: o.leaseMs,
+  });
   await linker.start();
   logger.child({ stage: 'linker' }).info('linker holds the partition lease');
   // Retention is the lease holder's job, so one process per partition erases.
-  const sweeper = new RetentionSweeper({ store: runtime.store, textDays: config.retention.textDays, notificationDays: config.retention.notificationDays, logger });
+  const sweeper = new RetentionSweeper({
+    store: runtime.store,
+    textDays: config.retention.textDays,
+    notificationDays: config.retention.notificationDays,
+    logger,
+  });
   await sweeper.start();
   return {
     linker,
@@ -80,7 +111,13 @@ export async function startLinker(config: Readonly<Config>, logger: Logger, o: {
 }
 
 /** The queue as the API and the replaying api process see it; `failFast` for the API (connect.ts FAIL_FAST). */
-export async function openQueue(config: Readonly<Config>, logger: Logger, o: { failFast?: boolean } = {}): Promise<QueueView & { enqueue(articles: readonly Article[], o?: { atomic?: boolean }): Promise<string[]>; close(): void; redis: RedisClient }> {
+export async function openQueue(
+  config: Readonly<Config>,
+  logger: Logger,
+  o: { failFast?: boolean } = {},
+): Promise<
+  QueueView & { enqueue(articles: readonly Article[], o?: { atomic?: boolean }): Promise<string[]>; close(): void; redis: RedisClient }
+> {
   const redis = await connectRedis(config.store.redis, o.failFast ? FAIL_FAST : {}, redisErrorLog(logger));
   const keys = keyspace(config.store.redis.partition);
   return {

@@ -33,7 +33,8 @@ export function encodeArticle(a: Article): string {
 
 /** Reads an intake entry's body; refuses anything that is not an article (STRAND_ARTICLE_INVALID). */
 export function decodeArticle(body: string): Article {
-  if (body.length > MAX_ARTICLE_JSON) throw new StrandError('STRAND_ARTICLE_TOO_LARGE', `queued article is ${body.length} bytes, over ${MAX_ARTICLE_JSON}`);
+  if (body.length > MAX_ARTICLE_JSON)
+    throw new StrandError('STRAND_ARTICLE_TOO_LARGE', `queued article is ${body.length} bytes, over ${MAX_ARTICLE_JSON}`);
   let raw: unknown;
   try {
     raw = JSON.parse(body);
@@ -41,7 +42,12 @@ export function decodeArticle(body: string): Article {
     throw new StrandError('STRAND_ARTICLE_INVALID', `queued article is not JSON: ${(err as Error).message}`, { cause: err });
   }
   const r = articleSchema.safeParse(raw);
-  if (!r.success) throw new StrandError('STRAND_ARTICLE_INVALID', `queued article is malformed: ${r.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ')}`, { cause: r.error });
+  if (!r.success)
+    throw new StrandError(
+      'STRAND_ARTICLE_INVALID',
+      `queued article is malformed: ${r.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ')}`,
+      { cause: r.error },
+    );
   const { presplit, ...rest } = r.data;
   return presplit ? { ...rest, presplit } : rest;
 }
@@ -50,18 +56,25 @@ type WireVector = { kind: 'dense'; values: number[] } | { kind: 'sparse'; indice
 
 /** A detected article as an analysed entry's body. */
 export function encodeWork(w: DetectedWork): string {
-  const vectors = w.vectors?.map((v): WireVector => (v.kind === 'dense' ? { kind: 'dense', values: [...v.values] } : { kind: 'sparse', indices: [...v.indices], values: [...v.values] }));
+  const vectors = w.vectors?.map((v): WireVector =>
+    v.kind === 'dense' ? { kind: 'dense', values: [...v.values] } : { kind: 'sparse', indices: [...v.indices], values: [...v.values] },
+  );
   return JSON.stringify({ ...w, vectors });
 }
 
 /** Reads an analysed entry's body (written by our own workers, so only its shape is checked). */
 export function decodeWork(body: string): DetectedWork {
   const w = JSON.parse(body) as Omit<DetectedWork, 'vectors'> & { vectors?: WireVector[] };
-  if (!w || typeof w !== 'object' || !w.article || !Array.isArray(w.mentions)) throw new StrandError('STRAND_ARTICLE_INVALID', 'analysed entry is malformed');
+  if (!w || typeof w !== 'object' || !w.article || !Array.isArray(w.mentions))
+    throw new StrandError('STRAND_ARTICLE_INVALID', 'analysed entry is malformed');
   const { vectors, ...rest } = w;
   if (!vectors) return rest;
   return {
     ...rest,
-    vectors: vectors.map((v): Vector => (v.kind === 'dense' ? { kind: 'dense', values: Float32Array.from(v.values) } : { kind: 'sparse', indices: Uint32Array.from(v.indices), values: Float32Array.from(v.values) })),
+    vectors: vectors.map((v): Vector =>
+      v.kind === 'dense'
+        ? { kind: 'dense', values: Float32Array.from(v.values) }
+        : { kind: 'sparse', indices: Uint32Array.from(v.indices), values: Float32Array.from(v.values) },
+    ),
   };
 }

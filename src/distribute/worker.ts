@@ -80,7 +80,18 @@ export class AnalysisWorker {
     while (!this.stopping) {
       try {
         if (Date.now() - this.lastSweep >= q.claimIdleMs / 2) await this.sweep();
-        const reply = await this.d.blocking.xreadgroup('GROUP', WORKER_GROUP, this.name, 'COUNT', q.batch, 'BLOCK', q.blockMs, 'STREAMS', this.d.keys.intake, '>') as [string, Entry[]][] | null;
+        const reply = (await this.d.blocking.xreadgroup(
+          'GROUP',
+          WORKER_GROUP,
+          this.name,
+          'COUNT',
+          q.batch,
+          'BLOCK',
+          q.blockMs,
+          'STREAMS',
+          this.d.keys.intake,
+          '>',
+        )) as [string, Entry[]][] | null;
         if (reply) await this.process(reply[0]![1]);
       } catch (err) {
         if (this.stopping) break;
@@ -96,7 +107,15 @@ export class AnalysisWorker {
     const q = this.d.config.queue;
     let cursor = '0-0';
     do {
-      const [next, entries] = await this.d.redis.xautoclaim(this.d.keys.intake, WORKER_GROUP, this.name, q.claimIdleMs, cursor, 'COUNT', q.batch) as [string, (Entry | null)[], string[]?];
+      const [next, entries] = (await this.d.redis.xautoclaim(
+        this.d.keys.intake,
+        WORKER_GROUP,
+        this.name,
+        q.claimIdleMs,
+        cursor,
+        'COUNT',
+        q.batch,
+      )) as [string, (Entry | null)[], string[]?];
       cursor = next;
       const live = entries.filter((e): e is Entry => e !== null && Array.isArray(e[1]));
       if (live.length) {
@@ -129,7 +148,10 @@ export class AnalysisWorker {
     if (ready.length === 0) return;
     if (!this.d.embedder.learn) {
       try {
-        const vectors = await embedTogether(this.d.embedder, ready.map((r) => r.work.mentions));
+        const vectors = await embedTogether(
+          this.d.embedder,
+          ready.map((r) => r.work.mentions),
+        );
         ready.forEach((r, i) => (r.work = { ...r.work, vectors: vectors[i]! }));
       } catch (err) {
         for (const r of ready) await this.failed(r.id, JSON.stringify(r.work.article), `embed: ${describeError(err)}`);
@@ -145,7 +167,7 @@ export class AnalysisWorker {
   /** Leaves a failed entry pending for a retry after claimIdleMs, or gives it up after maxDeliveries. */
   private async failed(id: string, body: string, error: string): Promise<void> {
     this.counts.failed++;
-    const pending = await this.d.redis.xpending(this.d.keys.intake, WORKER_GROUP, id, id, 1) as [string, string, number, number][];
+    const pending = (await this.d.redis.xpending(this.d.keys.intake, WORKER_GROUP, id, id, 1)) as [string, string, number, number][];
     const deliveries = pending[0]?.[3] ?? 1;
     this.log.warn({ entry: id, deliveries, err: error }, 'article failed in the worker');
     if (deliveries >= this.d.config.queue.maxDeliveries) await this.giveUp(id, body, `${error} (after ${deliveries} deliveries)`);

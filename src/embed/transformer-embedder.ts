@@ -23,7 +23,10 @@ type Extractor = (texts: string[], options: { pooling: 'mean'; normalize: boolea
 export class TransformerEmbedder implements Embedder {
   readonly name = 'transformer';
 
-  private constructor(private readonly extract: Extractor, private readonly batchSize: number) {}
+  private constructor(
+    private readonly extract: Extractor,
+    private readonly batchSize: number,
+  ) {}
 
   /**
    * Loads the model in `folder`; throws STRAND_MODEL_MISSING naming the folder and the
@@ -34,7 +37,10 @@ export class TransformerEmbedder implements Embedder {
     const dir = resolve(folder);
     const missing = MODEL_FILES.filter((f) => !existsSync(join(dir, f)));
     if (missing.length) {
-      throw new StrandError('STRAND_MODEL_MISSING', `no usable sentence-embedding model in ${dir}: missing ${missing.join(', ')} (see README, "Transformer embedder")`);
+      throw new StrandError(
+        'STRAND_MODEL_MISSING',
+        `no usable sentence-embedding model in ${dir}: missing ${missing.join(', ')} (see README, "Transformer embedder")`,
+      );
     }
     const { env, pipeline } = await import('@xenova/transformers');
     // Local files only: the library would otherwise try a model hub for anything missing.
@@ -48,7 +54,8 @@ export class TransformerEmbedder implements Embedder {
     // CommonJS module: its exports are the default export under Node's loader.
     const ort = (runtime.default ?? runtime).InferenceSession;
     const create = ort.create;
-    if (threads > 0) ort.create = (model, options = {}) => create.call(ort, model, { ...options, intraOpNumThreads: threads, interOpNumThreads: 1 });
+    if (threads > 0)
+      ort.create = (model, options = {}) => create.call(ort, model, { ...options, intraOpNumThreads: threads, interOpNumThreads: 1 });
     let extract: Extractor;
     try {
       extract = (await pipeline('feature-extraction', basename(dir), { quantized: false })) as unknown as Extractor;

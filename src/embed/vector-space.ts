@@ -33,9 +33,17 @@ export async function vectorSpaceOf(embed: Readonly<Config['embed']>): Promise<s
  * `storedKind` is the kind of vector the store's events already hold (null: none), for
  * stores written before the space was recorded.
  */
-export async function claimVectorSpace(store: Pick<Store, 'claimVectorSpace'>, space: string, kind: 'sparse' | 'dense', storedKind: 'sparse' | 'dense' | null): Promise<void> {
+export async function claimVectorSpace(
+  store: Pick<Store, 'claimVectorSpace'>,
+  space: string,
+  kind: 'sparse' | 'dense',
+  storedKind: 'sparse' | 'dense' | null,
+): Promise<void> {
   const refuse = (was: string): never => {
-    throw new StrandError('STRAND_VECTOR_SPACE_CHANGED', `the store's vectors were made by another embedder (${was}) than the one configured (${space}); vectors of the two cannot be compared. Keep the embed settings the store was made with (a store from before embed.bigrams and embed.idfPower: set them to true and 1), or start a new store (store.path, or store.redis.partition)`);
+    throw new StrandError(
+      'STRAND_VECTOR_SPACE_CHANGED',
+      `the store's vectors were made by another embedder (${was}) than the one configured (${space}); vectors of the two cannot be compared. Keep the embed settings the store was made with (a store from before embed.bigrams and embed.idfPower: set them to true and 1), or start a new store (store.path, or store.redis.partition)`,
+    );
   };
   if (storedKind !== null && storedKind !== kind) refuse(storedKind === 'sparse' ? 'tfidf' : 'a transformer model');
   const recorded = await store.claimVectorSpace(space);

@@ -20,9 +20,17 @@ export interface EvalCorpus {
 export async function readCorpus(dir: string): Promise<EvalCorpus> {
   const root = resolve(dir);
   for (const f of ['articles.jsonl', 'gold.jsonl']) {
-    if (!existsSync(join(root, f))) throw new StrandError('STRAND_EVAL_INPUT_INVALID', `${dir} holds no ${f} (a corpus folder holds articles.jsonl, gold.jsonl and optionally scope.jsonl)`);
+    if (!existsSync(join(root, f)))
+      throw new StrandError(
+        'STRAND_EVAL_INPUT_INVALID',
+        `${dir} holds no ${f} (a corpus folder holds articles.jsonl, gold.jsonl and optionally scope.jsonl)`,
+      );
   }
   const scope = join(root, 'scope.jsonl');
-  const input = await readEvalInput({ articles: join(root, 'articles.jsonl'), gold: join(root, 'gold.jsonl'), scope: existsSync(scope) ? scope : undefined });
+  const input = await readEvalInput({
+    articles: join(root, 'articles.jsonl'),
+    gold: join(root, 'gold.jsonl'),
+    scope: existsSync(scope) ? scope : undefined,
+  });
   return { name: basename(root), source: root, input };
 }

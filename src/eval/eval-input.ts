@@ -48,7 +48,10 @@ const MAX_REPORTED = 20;
 type Obj = Record<string, unknown>;
 
 /** Reads and validates the three files. */
-export async function readEvalInput(files: { articles: string; gold: string; scope?: string | undefined }, maxBytes = MAX_EVAL_FILE_BYTES): Promise<EvalInput> {
+export async function readEvalInput(
+  files: { articles: string; gold: string; scope?: string | undefined },
+  maxBytes = MAX_EVAL_FILE_BYTES,
+): Promise<EvalInput> {
   const problems: string[] = [];
   const articles = parseArticles(await readLines(files.articles, maxBytes), files.articles, problems);
   const byId = new Map(articles.map((a) => [a.id, a]));
@@ -76,7 +79,10 @@ function finish(x: { articles: EvalArticle[]; gold: GoldLine[]; scope: Set<strin
   if (problems.length) {
     const shown = problems.slice(0, MAX_REPORTED);
     const more = problems.length > MAX_REPORTED ? `\n  … and ${problems.length - MAX_REPORTED} more` : '';
-    throw new StrandError('STRAND_EVAL_INPUT_INVALID', `the evaluation input has ${problems.length} problem(s):\n  ${shown.join('\n  ')}${more}`);
+    throw new StrandError(
+      'STRAND_EVAL_INPUT_INVALID',
+      `the evaluation input has ${problems.length} problem(s):\n  ${shown.join('\n  ')}${more}`,
+    );
   }
   return { ...x, level: levels.has('article') ? 'article' : 'sentence' };
 }
@@ -86,7 +92,11 @@ async function readLines(path: string, maxBytes: number): Promise<string[]> {
   try {
     size = (await stat(path)).size;
   } catch (err) {
-    throw new StrandError('STRAND_EVAL_INPUT_INVALID', `cannot read ${path}: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`, { cause: err });
+    throw new StrandError(
+      'STRAND_EVAL_INPUT_INVALID',
+      `cannot read ${path}: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`,
+      { cause: err },
+    );
   }
   if (size > maxBytes) throw new StrandError('STRAND_EVAL_INPUT_INVALID', `${path} is ${size} bytes, over the ${maxBytes}-byte limit`);
   const text = await readFile(path, 'utf8');
@@ -123,15 +133,25 @@ function parseArticles(lines: string[], file: string, problems: string[]): EvalA
     if (!isStr(o.id) || o.id === '') return void bad('"id" must be a non-empty string');
     if (seen.has(o.id)) return void bad(`duplicate article id ${JSON.stringify(o.id)}`);
     if (!Array.isArray(o.sentences) || !o.sentences.every(isStr)) return void bad('"sentences" must be an array of strings');
-    if (!isNullableStr(o.outlet) || !isNullableStr(o.title) || !isNullableStr(o.topic) || !isNullableStr(o.subtopic)) return void bad('"outlet", "title", "topic" and "subtopic" must be strings or null');
+    if (!isNullableStr(o.outlet) || !isNullableStr(o.title) || !isNullableStr(o.topic) || !isNullableStr(o.subtopic))
+      return void bad('"outlet", "title", "topic" and "subtopic" must be strings or null');
     let published: string | null = null;
     if (o.published !== null && o.published !== undefined) {
-      if (!isStr(o.published) || Number.isNaN(Date.parse(o.published))) return void bad(`"published" must be RFC 3339, YYYY-MM-DD or null, not ${JSON.stringify(o.published)}`);
+      if (!isStr(o.published) || Number.isNaN(Date.parse(o.published)))
+        return void bad(`"published" must be RFC 3339, YYYY-MM-DD or null, not ${JSON.stringify(o.published)}`);
       // A bare date is taken at noon UTC so no time zone moves it to another day.
       published = /^\d{4}-\d{2}-\d{2}$/.test(o.published) ? `${o.published}T12:00:00.000Z` : new Date(o.published).toISOString();
     }
     seen.add(o.id);
-    out.push({ id: o.id, outlet: o.outlet ?? '(unknown outlet)', published, title: o.title ?? '', sentences: o.sentences as string[], topic: o.topic ?? null, subtopic: o.subtopic ?? null });
+    out.push({
+      id: o.id,
+      outlet: o.outlet ?? '(unknown outlet)',
+      published,
+      title: o.title ?? '',
+      sentences: o.sentences as string[],
+      topic: o.topic ?? null,
+      subtopic: o.subtopic ?? null,
+    });
   });
   return out;
 }
@@ -143,10 +163,17 @@ function parseGold(lines: string[], file: string, byId: Map<string, EvalArticle>
     const where = `${file}:${i + 1}`;
     const o = parseLine(line, where, problems);
     if (!o) return;
-    if (!isStr(o.article) || !isStr(o.event) || o.event === '') return void problems.push(`${where}: "article" and "event" must be non-empty strings`);
-    if (!(o.sentence === null || (Number.isInteger(o.sentence) && (o.sentence as number) >= 0))) return void problems.push(`${where}: "sentence" must be a 0-based index or null`);
+    if (!isStr(o.article) || !isStr(o.event) || o.event === '')
+      return void problems.push(`${where}: "article" and "event" must be non-empty strings`);
+    if (!(o.sentence === null || (Number.isInteger(o.sentence) && (o.sentence as number) >= 0)))
+      return void problems.push(`${where}: "sentence" must be a 0-based index or null`);
     if (o.text !== undefined && !isStr(o.text)) return void problems.push(`${where}: "text" must be a string when given`);
-    const g: GoldLine = { article: o.article, sentence: o.sentence as number | null, event: o.event, ...(isStr(o.text) ? { text: o.text } : {}) };
+    const g: GoldLine = {
+      article: o.article,
+      sentence: o.sentence as number | null,
+      event: o.event,
+      ...(isStr(o.text) ? { text: o.text } : {}),
+    };
     if (checkGoldRef(g, byId, where, problems)) out.push(g);
   });
   return out;
@@ -164,7 +191,9 @@ function checkGoldRef(g: GoldLine, byId: Map<string, EvalArticle>, where: string
   }
   // `text` is the whole sentence, or the mention's words inside it (WEC-style gold).
   if (g.sentence !== null && g.text !== undefined && !a.sentences[g.sentence]!.includes(g.text.trim())) {
-    problems.push(`${where}: the text is not found in sentence ${g.sentence} of ${g.article}: gold ${JSON.stringify(g.text.slice(0, 80))}, article ${JSON.stringify(a.sentences[g.sentence]!.slice(0, 80))}`);
+    problems.push(
+      `${where}: the text is not found in sentence ${g.sentence} of ${g.article}: gold ${JSON.stringify(g.text.slice(0, 80))}, article ${JSON.stringify(a.sentences[g.sentence]!.slice(0, 80))}`,
+    );
     return false;
   }
   return true;
@@ -177,7 +206,8 @@ function parseScope(lines: string[], file: string, byId: Map<string, EvalArticle
     const where = `${file}:${i + 1}`;
     const o = parseLine(line, where, problems);
     if (!o) return;
-    if (!isStr(o.article) || !Number.isInteger(o.sentence)) return void problems.push(`${where}: needs "article" (string) and "sentence" (index)`);
+    if (!isStr(o.article) || !Number.isInteger(o.sentence))
+      return void problems.push(`${where}: needs "article" (string) and "sentence" (index)`);
     if (!byId.has(o.article)) return void problems.push(`${where}: unknown article ${JSON.stringify(o.article)}`);
     out.add(`${o.article}#${o.sentence as number}`);
   });

@@ -34,7 +34,11 @@ export function extendedBcubed(gold: Memberships, system: Memberships): Score {
  * signatures, not a million pairs). Exactly the same sums as item by item.
  */
 function side(by: Memberships, other: Memberships): number {
-  interface Signature { by: ReadonlySet<string>; other: ReadonlySet<string>; count: number }
+  interface Signature {
+    by: ReadonlySet<string>;
+    other: ReadonlySet<string>;
+    count: number;
+  }
   const signatures = new Map<string, Signature>();
   for (const [item, groups] of by) {
     if (groups.size === 0) continue;

@@ -28,17 +28,34 @@ export interface LinkRun {
  * `embedder` may be passed for models that are slow to load (the vectors then come with
  * the input; a TF-IDF embedder is always made fresh, since it learns from the stream).
  */
-export async function linkDetected(config: Readonly<Config>, detected: readonly DetectedWork[], deps: { nlp: Nlp; logger: Logger; now: () => Date; embedder?: Embedder }): Promise<LinkRun> {
+export async function linkDetected(
+  config: Readonly<Config>,
+  detected: readonly DetectedWork[],
+  deps: { nlp: Nlp; logger: Logger; now: () => Date; embedder?: Embedder },
+): Promise<LinkRun> {
   const store = openSqliteStore(':memory:');
   const embedder = deps.embedder?.learn === undefined && deps.embedder ? deps.embedder : await createEmbedder(config.embed);
   const ctx: PipelineContext = {
-    config, nlp: deps.nlp, embedder, linker: new OnlineLinker(config.link), stories: new StoryLinker(config.link), store, logger: deps.logger, now: deps.now,
+    config,
+    nlp: deps.nlp,
+    embedder,
+    linker: new OnlineLinker(config.link),
+    stories: new StoryLinker(config.link),
+    store,
+    logger: deps.logger,
+    now: deps.now,
     copies: new CopyDetector(config.copies),
   };
   const t0 = performance.now();
   try {
     const admit = admitWork(ctx);
-    const outcomes = await lastValueFrom(from(detected).pipe(concatMap((d) => defer(() => admit(d))), linkStages(ctx), toArray()));
+    const outcomes = await lastValueFrom(
+      from(detected).pipe(
+        concatMap((d) => defer(() => admit(d))),
+        linkStages(ctx),
+        toArray(),
+      ),
+    );
     return { outcomes, seconds: (performance.now() - t0) / 1000 };
   } finally {
     await store.close();

@@ -36,8 +36,19 @@ export type PairKind = 'all' | 'withinArticle' | 'crossArticle' | 'sameStory' | 
  * once. The same counts as trying every pair, in time linear in the sentences when events
  * are single, so a threshold sweep over a giant cluster stays cheap.
  */
-export function pairwiseLinkScores(gold: Assignment, system: Assignment, articleOf: (key: string) => string, storyOf?: (article: string) => string | null): Record<PairKind, PairScores> {
-  const counts: Record<PairKind, [number, number, number]> = { all: [0, 0, 0], withinArticle: [0, 0, 0], crossArticle: [0, 0, 0], sameStory: [0, 0, 0], crossStory: [0, 0, 0] };
+export function pairwiseLinkScores(
+  gold: Assignment,
+  system: Assignment,
+  articleOf: (key: string) => string,
+  storyOf?: (article: string) => string | null,
+): Record<PairKind, PairScores> {
+  const counts: Record<PairKind, [number, number, number]> = {
+    all: [0, 0, 0],
+    withinArticle: [0, 0, 0],
+    crossArticle: [0, 0, 0],
+    sameStory: [0, 0, 0],
+    crossStory: [0, 0, 0],
+  };
   const keys = [...new Set([...gold.keys(), ...system.keys()])];
   const article = keys.map(articleOf);
   const story = article.map((a) => (storyOf ? storyOf(a) : null));
@@ -121,7 +132,14 @@ export function pairwiseLinkScores(gold: Assignment, system: Assignment, article
   for (const [k, [gp, sp, both]] of Object.entries(counts) as [PairKind, [number, number, number]][]) {
     const precision = sp === 0 ? 0 : both / sp;
     const recall = gp === 0 ? 0 : both / gp;
-    out[k] = { precision, recall, f1: precision + recall === 0 ? 0 : (2 * precision * recall) / (precision + recall), goldPairs: gp, systemPairs: sp, agreedPairs: both };
+    out[k] = {
+      precision,
+      recall,
+      f1: precision + recall === 0 ? 0 : (2 * precision * recall) / (precision + recall),
+      goldPairs: gp,
+      systemPairs: sp,
+      agreedPairs: both,
+    };
   }
   return out;
 }

@@ -41,7 +41,15 @@ export function scorePartitions(key: Partition, response: Partition): PartitionS
   const muc = mucScore(key, response);
   const b3 = b3Score(key, response);
   const ceafe = ceafScore(key, response, 'entity');
-  return { muc, b3, ceafm: ceafScore(key, response, 'mention'), ceafe, blanc: blancScore(key, response), lea: leaScore(key, response), conllF1: (muc.f1 + b3.f1 + ceafe.f1) / 3 };
+  return {
+    muc,
+    b3,
+    ceafm: ceafScore(key, response, 'mention'),
+    ceafe,
+    blanc: blancScore(key, response),
+    lea: leaScore(key, response),
+    conllF1: (muc.f1 + b3.f1 + ceafe.f1) / 3,
+  };
 }
 
 /** F1 from recall and precision (0 when both are 0). */
@@ -115,7 +123,8 @@ export function b3Score(key: Partition, response: Partition): Score {
  * clusters (clusters that share no mention have similarity 0 and do not need aligning).
  */
 export function ceafScore(key: Partition, response: Partition, kind: 'mention' | 'entity'): Score {
-  const phi = (k: readonly string[], overlap: number, r: readonly string[]): number => (kind === 'mention' ? overlap : (2 * overlap) / (k.length + r.length));
+  const phi = (k: readonly string[], overlap: number, r: readonly string[]): number =>
+    kind === 'mention' ? overlap : (2 * overlap) / (k.length + r.length);
   const inR = clusterOf(response);
   // Overlaps between key cluster i and response cluster j.
   const overlap = new Map<number, Map<number, number>>();

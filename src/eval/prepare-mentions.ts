@@ -40,8 +40,18 @@ function order(x: EvalArticle, y: EvalArticle): number {
 function toArticle(a: EvalArticle, source: string, undatedTime: string): Article {
   const text = presplitText(a.sentences);
   return {
-    id: a.id, outlet: a.outlet, url: null, title: a.title, published: a.published, fetched: a.published ?? undatedTime, language: null, text,
-    contentHash: contentHash(text), duplicateOf: null, source, presplit: a.sentences,
+    id: a.id,
+    outlet: a.outlet,
+    url: null,
+    title: a.title,
+    published: a.published,
+    fetched: a.published ?? undatedTime,
+    language: null,
+    text,
+    contentHash: contentHash(text),
+    duplicateOf: null,
+    source,
+    presplit: a.sentences,
   };
 }
 
@@ -63,7 +73,13 @@ export function selector(input: EvalInput, setting: Setting): (a: Article) => Me
  * make them. A model without stream-learned statistics (a transformer) embeds the
  * mentions here, once: every threshold of the sweep then reuses the vectors.
  */
-export async function detectArticles(nlp: Nlp, articles: readonly Article[], select: (a: Article) => MentionSelection, config: Readonly<Config>, embedder: Embedder): Promise<DetectedWork[]> {
+export async function detectArticles(
+  nlp: Nlp,
+  articles: readonly Article[],
+  select: (a: Article) => MentionSelection,
+  config: Readonly<Config>,
+  embedder: Embedder,
+): Promise<DetectedWork[]> {
   const detected = articles.map((article) => detectMentions(analyseArticle(nlp, article), config.detect.threshold, select(article)));
   if (embedder.learn) return detected;
   const vectors = await embedder.embed(detected.flatMap((d) => d.mentions));

@@ -105,9 +105,16 @@ export interface CorpusReport {
   name: string;
   source: string;
   input: {
-    articles: number; level: 'sentence' | 'article'; goldLines: number; goldEvents: number; scoped: boolean; subtopics: boolean; dated: boolean;
+    articles: number;
+    level: 'sentence' | 'article';
+    goldLines: number;
+    goldEvents: number;
+    scoped: boolean;
+    subtopics: boolean;
+    dated: boolean;
     /** Gold mentions (sentences or articles) carrying more than one gold event, and all gold mentions. */
-    multiEventMentions: number; goldMentions: number;
+    multiEventMentions: number;
+    goldMentions: number;
   };
   settings: SettingResult[];
 }
@@ -127,7 +134,14 @@ export interface OverallRow {
 /** The whole evaluation. */
 export interface EvalReport {
   created: string;
-  configuration: { detectThreshold: number; linkThreshold: number; halfLifeDays: number; secondaryMargin: number; crossStoryMargin: number; storyThreshold: number };
+  configuration: {
+    detectThreshold: number;
+    linkThreshold: number;
+    halfLifeDays: number;
+    secondaryMargin: number;
+    crossStoryMargin: number;
+    storyThreshold: number;
+  };
   thresholds: number[];
   primaryRule: string;
   corpora: CorpusReport[];
@@ -177,8 +191,12 @@ export async function runEval(corpora: readonly EvalCorpus[], o: EvalOptions): P
   return {
     created,
     configuration: {
-      detectThreshold: o.config.detect.threshold, linkThreshold: o.config.link.threshold, halfLifeDays: o.config.link.halfLifeDays,
-      secondaryMargin: o.config.link.secondaryMargin, crossStoryMargin: o.config.link.crossStoryMargin, storyThreshold: o.config.link.storyThreshold,
+      detectThreshold: o.config.detect.threshold,
+      linkThreshold: o.config.link.threshold,
+      halfLifeDays: o.config.link.halfLifeDays,
+      secondaryMargin: o.config.link.secondaryMargin,
+      crossStoryMargin: o.config.link.crossStoryMargin,
+      storyThreshold: o.config.link.storyThreshold,
     },
     thresholds: [...o.thresholds],
     primaryRule: PRIMARY_RULE,
@@ -187,7 +205,11 @@ export async function runEval(corpora: readonly EvalCorpus[], o: EvalOptions): P
   };
 }
 
-async function evaluateCorpus(corpus: EvalCorpus, o: EvalOptions, shared: { nlp: ReturnType<typeof createNlp>; model: Embedder | undefined; created: string }): Promise<CorpusReport> {
+async function evaluateCorpus(
+  corpus: EvalCorpus,
+  o: EvalOptions,
+  shared: { nlp: ReturnType<typeof createNlp>; model: Embedder | undefined; created: string },
+): Promise<CorpusReport> {
   const { input } = corpus;
   const log = o.logger.child({ stage: 'eval', corpus: corpus.name });
   const articles = toArticles(input, corpus.source, shared.created);
@@ -204,21 +226,52 @@ async function evaluateCorpus(corpus: EvalCorpus, o: EvalOptions, shared: { nlp:
   const quick = (system: Clustering, withPairs = true): Quick => {
     const s = restrict(system, inScope);
     const p = scorePartitions(goldPartition, partition(s));
-    return { conll: p.conllF1, ext: extendedBcubed(goldSets, toSets(s)).f1, partition: p, pairwise: withPairs ? pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf) : null };
+    return {
+      conll: p.conllF1,
+      ext: extendedBcubed(goldSets, toSets(s)).f1,
+      partition: p,
+      pairwise: withPairs ? pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf) : null,
+    };
   };
-  const score = (system: Clustering, name: string, kind: SystemResult['kind'], seconds: number, best: SystemResult['best'] = null): SystemResult => {
+  const score = (
+    system: Clustering,
+    name: string,
+    kind: SystemResult['kind'],
+    seconds: number,
+    best: SystemResult['best'] = null,
+  ): SystemResult => {
     const s = restrict(system, inScope);
     const q = quick(system);
-    return { name, kind, seconds, best, partition: q.partition, extendedBcubed: extendedBcubed(goldSets, toSets(s)), pairwise: q.pairwise!, events: new Set([...s.values()].flat()).size };
+    return {
+      name,
+      kind,
+      seconds,
+      best,
+      partition: q.partition,
+      extendedBcubed: extendedBcubed(goldSets, toSets(s)),
+      pairwise: q.pairwise!,
+      events: new Set([...s.values()].flat()).size,
+    };
   };
 
   const settings: SettingResult[] = [];
   for (const setting of o.settings) {
     await stopIfAsked(o.signal);
     const t0 = performance.now();
-    const detected = await detectArticles(shared.nlp, articles, selector(input, setting), o.config, shared.model ?? (await createEmbedder(o.config.embed)));
+    const detected = await detectArticles(
+      shared.nlp,
+      articles,
+      selector(input, setting),
+      o.config,
+      shared.model ?? (await createEmbedder(o.config.embed)),
+    );
     const textSeconds = (performance.now() - t0) / 1000;
-    const deps = { nlp: shared.nlp, logger: o.logger, now: () => new Date(shared.created), ...(shared.model ? { embedder: shared.model } : {}) };
+    const deps = {
+      nlp: shared.nlp,
+      logger: o.logger,
+      now: () => new Date(shared.created),
+      ...(shared.model ? { embedder: shared.model } : {}),
+    };
     const withThreshold = (t: number): Readonly<Config> => ({ ...o.config, link: { ...o.config.link, threshold: t } });
 
     // The linker at the configured threshold, then over the sweep.
@@ -270,14 +323,33 @@ async function evaluateCorpus(corpus: EvalCorpus, o: EvalOptions, shared: { nlp:
       timedScore(() => allSingletons(flat), 'baseline: all singletons', score),
       timedScore(() => onePerSubtopic(flat, groupOf), 'baseline: one event per subtopic', score),
       timedScore(() => lexicalOverlap(flat), 'baseline: lexical overlap', score),
-      score(onlineCentroid(plain, threshold, halfLifeDays), 'baseline: online TF-IDF centroid', 'baseline', onlineSeconds, bestOf(online, threshold, o.thresholds)),
-      score(dendrogram.cut(threshold), 'baseline: batch average-link (all pairs)', 'baseline', batchSeconds, bestOf(batch, threshold, o.thresholds)),
+      score(
+        onlineCentroid(plain, threshold, halfLifeDays),
+        'baseline: online TF-IDF centroid',
+        'baseline',
+        onlineSeconds,
+        bestOf(online, threshold, o.thresholds),
+      ),
+      score(
+        dendrogram.cut(threshold),
+        'baseline: batch average-link (all pairs)',
+        'baseline',
+        batchSeconds,
+        bestOf(batch, threshold, o.thresholds),
+      ),
     ];
     const sweep: SweepPoint[] = points.map((t) => {
       const l = linkerSweep.get(t)!;
       const b = online.get(t)!;
       const all = l.pairwise!.all;
-      return { threshold: t, conllF1: l.conll, extendedB3F1: l.ext, pairwise: { precision: all.precision, recall: all.recall, f1: all.f1 }, b3: l.partition.b3, baseline: { conllF1: b.conll, extendedB3F1: b.ext } };
+      return {
+        threshold: t,
+        conllF1: l.conll,
+        extendedB3F1: l.ext,
+        pairwise: { precision: all.precision, recall: all.recall, f1: all.f1 },
+        b3: l.partition.b3,
+        baseline: { conllF1: b.conll, extendedB3F1: b.ext },
+      };
     });
     log.info({ setting, mentions: flat.length, textSeconds, linkSeconds: configured.seconds }, 'setting scored');
     settings.push({
@@ -297,22 +369,36 @@ async function evaluateCorpus(corpus: EvalCorpus, o: EvalOptions, shared: { nlp:
     name: corpus.name,
     source: corpus.source,
     input: {
-      articles: input.articles.length, level: input.level, goldLines: input.gold.length, goldEvents: new Set(input.gold.map((x) => x.event)).size,
-      scoped: input.scope !== null, subtopics, dated: input.articles.some((a) => a.published !== null),
-      multiEventMentions: [...gold.values()].filter((events) => events.length > 1).length, goldMentions: gold.size,
+      articles: input.articles.length,
+      level: input.level,
+      goldLines: input.gold.length,
+      goldEvents: new Set(input.gold.map((x) => x.event)).size,
+      scoped: input.scope !== null,
+      subtopics,
+      dated: input.articles.some((a) => a.published !== null),
+      multiEventMentions: [...gold.values()].filter((events) => events.length > 1).length,
+      goldMentions: gold.size,
     },
     settings,
   };
 }
 
-function timedScore(run: () => Clustering, name: string, score: (c: Clustering, name: string, kind: SystemResult['kind'], seconds: number) => SystemResult): SystemResult {
+function timedScore(
+  run: () => Clustering,
+  name: string,
+  score: (c: Clustering, name: string, kind: SystemResult['kind'], seconds: number) => SystemResult,
+): SystemResult {
   const t0 = performance.now();
   const c = run();
   return score(c, name, 'baseline', (performance.now() - t0) / 1000);
 }
 
 /** The best CoNLL and extended BCubed over the sweep, and the regret of the configured threshold. */
-function bestOf(sweep: ReadonlyMap<number, { conll: number; ext: number }>, configured: number, thresholds: readonly number[]): SystemResult['best'] {
+function bestOf(
+  sweep: ReadonlyMap<number, { conll: number; ext: number }>,
+  configured: number,
+  thresholds: readonly number[],
+): SystemResult['best'] {
   const pick = (f: (x: { conll: number; ext: number }) => number): Best => {
     let best = { threshold: configured, value: f(sweep.get(configured)!) };
     for (const t of thresholds) {
@@ -374,7 +460,10 @@ function storyScore(outcomes: readonly ArticleOutcome[], input: EvalInput): Stor
   const system = new Map(keys.map((id) => [id, [follow(redirect, storyOf.get(id)!)]]));
   const key = new Map(keys.map((id) => [id, [label.get(id)!]]));
   return {
-    against, articles: keys.length, stories: new Set([...system.values()].flat()).size, groups: new Set([...key.values()].flat()).size,
+    against,
+    articles: keys.length,
+    stories: new Set([...system.values()].flat()).size,
+    groups: new Set([...key.values()].flat()).size,
     partition: scorePartitions(partition(key), partition(system)),
   };
 }
@@ -389,7 +478,10 @@ function clusteringOf(outcomes: readonly ArticleOutcome[]): Clustering {
     for (const sp of out.splits) {
       for (const mv of sp.moved) {
         const k = mentionKey(mv.articleId, mv.sentenceIndex);
-        assigned.set(k, assigned.get(k)!.map((id) => (follow(redirect, id) === sp.from ? sp.into : id)));
+        assigned.set(
+          k,
+          assigned.get(k)!.map((id) => (follow(redirect, id) === sp.from ? sp.into : id)),
+        );
       }
     }
   }

@@ -39,14 +39,23 @@ export function decodeBytes(bytes: Uint8Array, declared?: string | null): Decode
     const text = strictUtf8(bytes);
     if (text !== null) return { text, encoding: 'utf-8', warning: null };
     const utf8 = scanUtf8(bytes);
-    return { text: iconv.decode(Buffer.from(bytes), 'windows-1252'), encoding: 'windows-1252', warning: `no character set declared and not valid UTF-8 (${utf8.invalid} invalid byte sequence(s), the first at byte ${utf8.firstInvalid}); read as windows-1252` };
+    return {
+      text: iconv.decode(Buffer.from(bytes), 'windows-1252'),
+      encoding: 'windows-1252',
+      warning: `no character set declared and not valid UTF-8 (${utf8.invalid} invalid byte sequence(s), the first at byte ${utf8.firstInvalid}); read as windows-1252`,
+    };
   }
   if (label === 'utf-8' || label === 'utf8') return asUtf8(bytes, where);
-  if (!iconv.encodingExists(label)) throw new StrandError('STRAND_ENCODING_UNSUPPORTED', `unsupported character set "${label}" (declared ${where})`);
+  if (!iconv.encodingExists(label))
+    throw new StrandError('STRAND_ENCODING_UNSUPPORTED', `unsupported character set "${label}" (declared ${where})`);
   if (SINGLE_BYTE.test(label)) {
     const utf8 = scanUtf8(bytes);
     if (utf8.invalid === 0 && utf8.multiByte > 0) {
-      return { text: new TextDecoder('utf-8').decode(bytes), encoding: 'utf-8', warning: `declared ${label} ${where}, but the bytes are valid UTF-8 with ${utf8.multiByte} multi-byte character(s); read as UTF-8` };
+      return {
+        text: new TextDecoder('utf-8').decode(bytes),
+        encoding: 'utf-8',
+        warning: `declared ${label} ${where}, but the bytes are valid UTF-8 with ${utf8.multiByte} multi-byte character(s); read as UTF-8`,
+      };
     }
   }
   // WHATWG Encoding Standard: the labels iso-8859-1, latin1 and us-ascii mean windows-1252 on the web.
@@ -61,9 +70,17 @@ function asUtf8(bytes: Uint8Array, where: string): DecodedText {
   const utf8 = scanUtf8(bytes);
   // Not one valid multi-byte sequence, only stray high bytes: a legacy file labelled UTF-8.
   if (utf8.multiByte === 0) {
-    return { text: iconv.decode(Buffer.from(bytes), 'windows-1252'), encoding: 'windows-1252', warning: `declared UTF-8 ${where}, but ${utf8.invalid} byte(s) are not UTF-8 and no multi-byte UTF-8 character is present (the first bad byte at ${utf8.firstInvalid}); read as windows-1252` };
+    return {
+      text: iconv.decode(Buffer.from(bytes), 'windows-1252'),
+      encoding: 'windows-1252',
+      warning: `declared UTF-8 ${where}, but ${utf8.invalid} byte(s) are not UTF-8 and no multi-byte UTF-8 character is present (the first bad byte at ${utf8.firstInvalid}); read as windows-1252`,
+    };
   }
-  return { text: new TextDecoder('utf-8').decode(bytes), encoding: 'utf-8', warning: `declared UTF-8 ${where}, but ${utf8.invalid} byte sequence(s) are not valid UTF-8 (the first at byte ${utf8.firstInvalid}); each replaced with U+FFFD` };
+  return {
+    text: new TextDecoder('utf-8').decode(bytes),
+    encoding: 'utf-8',
+    warning: `declared UTF-8 ${where}, but ${utf8.invalid} byte sequence(s) are not valid UTF-8 (the first at byte ${utf8.firstInvalid}); each replaced with U+FFFD`,
+  };
 }
 
 /** The bytes as UTF-8 text, or null when they are not valid UTF-8 (the native decoder: the common case costs little). */

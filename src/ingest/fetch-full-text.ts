@@ -34,6 +34,7 @@ export function extractArticleText(html: string, url: string): string {
   }
   const text = content ? htmlToPlainText(content) : '';
   // Readability always returns something; a few words are a menu or a notice, not an article.
-  if (text.length < MIN_ARTICLE_CHARS) throw new StrandError('STRAND_ARTICLE_EMPTY', `no article text found on ${url} (${text.length} characters of text)`);
+  if (text.length < MIN_ARTICLE_CHARS)
+    throw new StrandError('STRAND_ARTICLE_EMPTY', `no article text found on ${url} (${text.length} characters of text)`);
   return text;
 }

@@ -48,12 +48,27 @@ type Ip = ipaddr.IPv4 | ipaddr.IPv6;
 
 /** Readable names of ipaddr.js's ranges, with the RFC that reserves each. */
 const RANGE_NAMES: Record<string, string> = {
-  unspecified: 'unspecified', broadcast: 'broadcast', multicast: 'multicast', linkLocal: 'link-local',
-  loopback: 'loopback', carrierGradeNat: 'shared address space, RFC 6598', private: 'private',
-  reserved: 'reserved or documentation', as112: 'AS112 DNS', amt: 'AMT relay', benchmarking: 'benchmarking',
-  uniqueLocal: 'unique local', deprecatedSiteLocal: 'site-local', discard: 'discard-only',
-  teredo: 'Teredo tunnel', as112v6: 'AS112 DNS', deprecatedOrchid: 'ORCHID', orchid2: 'ORCHID',
-  droneRemoteIdProtocolEntityTags: 'DRIP entity tag', segmentRouting: 'segment routing', rfc6052: 'local-use IPv4/IPv6 translation, RFC 8215',
+  unspecified: 'unspecified',
+  broadcast: 'broadcast',
+  multicast: 'multicast',
+  linkLocal: 'link-local',
+  loopback: 'loopback',
+  carrierGradeNat: 'shared address space, RFC 6598',
+  private: 'private',
+  reserved: 'reserved or documentation',
+  as112: 'AS112 DNS',
+  amt: 'AMT relay',
+  benchmarking: 'benchmarking',
+  uniqueLocal: 'unique local',
+  deprecatedSiteLocal: 'site-local',
+  discard: 'discard-only',
+  teredo: 'Teredo tunnel',
+  as112v6: 'AS112 DNS',
+  deprecatedOrchid: 'ORCHID',
+  orchid2: 'ORCHID',
+  droneRemoteIdProtocolEntityTags: 'DRIP entity tag',
+  segmentRouting: 'segment routing',
+  rfc6052: 'local-use IPv4/IPv6 translation, RFC 8215',
 };
 
 /** The IPv4 address an IPv6 address carries (mapped, translated, compatible, NAT64, 6to4), or null. */
@@ -97,7 +112,7 @@ function refusedIp(ip: Ip): string | null {
     }
   }
   const range = ip.range();
-  return range === 'unicast' ? null : RANGE_NAMES[range] ?? range;
+  return range === 'unicast' ? null : (RANGE_NAMES[range] ?? range);
 }
 
 /** Parses `allowedNetworks` entries; throws a plain Error naming the first bad one (config validation words it). */
@@ -114,7 +129,10 @@ export function parseNetworks(list: readonly string[]): [Ip, number][] {
 export class NetworkGuard {
   private readonly allowed: [Ip, number][];
 
-  constructor(private readonly policy: NetworkPolicy, private readonly names: PolicyNames = FEED_NAMES) {
+  constructor(
+    private readonly policy: NetworkPolicy,
+    private readonly names: PolicyNames = FEED_NAMES,
+  ) {
     this.allowed = parseNetworks(policy.allowedNetworks ?? []);
   }
 
@@ -138,7 +156,10 @@ export class NetworkGuard {
   /** The error for a refused address. */
   forbidden(host: string, address: string, why: string): StrandError {
     const shown = host === address ? host : `${host} is ${address}`;
-    return new StrandError('STRAND_SOURCE_FORBIDDEN', `${shown} (${why}); ${this.names.what} only with ${this.names.section}.allowPrivateNetworks or ${this.names.section}.allowedNetworks`);
+    return new StrandError(
+      'STRAND_SOURCE_FORBIDDEN',
+      `${shown} (${why}); ${this.names.what} only with ${this.names.section}.allowPrivateNetworks or ${this.names.section}.allowedNetworks`,
+    );
   }
 
   /** Throws STRAND_SOURCE_FORBIDDEN when the URL names a refused address literally. */

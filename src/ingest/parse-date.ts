@@ -7,10 +7,24 @@
 const MONTHS = ['jan', 'feb', 'mar', 'apr', 'may', 'jun', 'jul', 'aug', 'sep', 'oct', 'nov', 'dec'];
 
 /** RFC 822 section 5 zone names, and RFC 2822 section 4.3's obsolete ones, in minutes east of UTC. */
-const ZONES: Record<string, number> = { ut: 0, utc: 0, gmt: 0, z: 0, est: -300, edt: -240, cst: -360, cdt: -300, mst: -420, mdt: -360, pst: -480, pdt: -420 };
+const ZONES: Record<string, number> = {
+  ut: 0,
+  utc: 0,
+  gmt: 0,
+  z: 0,
+  est: -300,
+  edt: -240,
+  cst: -360,
+  cdt: -300,
+  mst: -420,
+  mdt: -360,
+  pst: -480,
+  pdt: -420,
+};
 
 // [weekday,] day month year [hh:mm[:ss] [zone]]
-const RFC822 = /^\s*(?:[a-z]{3,9},?\s+)?(\d{1,2})[\s-]+([a-z]{3})[a-z]*\.?[\s-]+(\d{2,4})(?:\s+(\d{1,2}):(\d{2})(?::(\d{2}))?(?:\s*([+-]\d{4}|[a-z]{1,5}))?)?\s*$/i;
+const RFC822 =
+  /^\s*(?:[a-z]{3,9},?\s+)?(\d{1,2})[\s-]+([a-z]{3})[a-z]*\.?[\s-]+(\d{2,4})(?:\s+(\d{1,2}):(\d{2})(?::(\d{2}))?(?:\s*([+-]\d{4}|[a-z]{1,5}))?)?\s*$/i;
 // yyyy-mm-dd[(T| )hh:mm[:ss[.frac]][zone]]
 const RFC3339 = /^\s*(\d{4})-(\d{2})-(\d{2})(?:[T\s](\d{2}):(\d{2})(?::(\d{2})(\.\d+)?)?\s*(Z|[+-]\d{2}:?\d{2})?)?\s*$/i;
 
@@ -23,7 +37,16 @@ export function parseFeedDate(text: string): number {
   const iso = RFC3339.exec(text);
   if (iso) {
     const [, y, mo, d, h = '0', mi = '0', s = '0', frac = '', zone = 'Z'] = iso;
-    return utc(Number(y), Number(mo), Number(d), Number(h), Number(mi), Number(s), frac ? Math.round(Number(frac) * 1000) : 0, offsetMinutes(zone));
+    return utc(
+      Number(y),
+      Number(mo),
+      Number(d),
+      Number(h),
+      Number(mi),
+      Number(s),
+      frac ? Math.round(Number(frac) * 1000) : 0,
+      offsetMinutes(zone),
+    );
   }
   const rfc = RFC822.exec(text);
   if (rfc) {

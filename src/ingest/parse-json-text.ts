@@ -16,11 +16,15 @@ export function parseJsonText(text: string, where = 'the body'): unknown {
   } catch (err) {
     const message = (err as Error).message;
     // secure-json-parse says the same for both keys; the text tells which one it met.
-    if (/forbidden prototype property/i.test(message)) throw refused(where, /"__proto__"\s*:/.test(text) ? '"__proto__"' : '"constructor" with a "prototype"');
+    if (/forbidden prototype property/i.test(message))
+      throw refused(where, /"__proto__"\s*:/.test(text) ? '"__proto__"' : '"constructor" with a "prototype"');
     throw new StrandError('STRAND_REQUEST_INVALID', `${where} is not valid JSON: ${message}`, { cause: err });
   }
 }
 
 function refused(where: string, key: string): StrandError {
-  return new StrandError('STRAND_REQUEST_INVALID', `${where} was refused: it has a ${key} key, which could change the prototype of the objects it is read into (prototype poisoning); rename or remove that key`);
+  return new StrandError(
+    'STRAND_REQUEST_INVALID',
+    `${where} was refused: it has a ${key} key, which could change the prototype of the objects it is read into (prototype poisoning); rename or remove that key`,
+  );
 }

@@ -50,51 +50,59 @@ function rss(root: Node): ParsedFeed {
   const channel = root.channel;
   if (!isNode(channel)) throw new StrandError('STRAND_FEED_MALFORMED', 'RSS document has no <channel>');
   const language = text(channel.language);
-  const items = asArray(channel.item).filter(isNode).map((item): FeedItem => {
-    const guid = text(item.guid);
-    const link = text(item.link);
-    const encoded = text(item['content:encoded']);
-    const description = text(item.description);
-    return {
-      guid,
-      url: link ?? (guid && isPermalink(item.guid) ? guid : null),
-      title: text(item.title) ?? '',
-      published: text(item.pubDate) ?? text(item['dc:date']),
-      html: encoded ?? description,
-      text: null,
-      language,
-    };
-  });
+  const items = asArray(channel.item)
+    .filter(isNode)
+    .map((item): FeedItem => {
+      const guid = text(item.guid);
+      const link = text(item.link);
+      const encoded = text(item['content:encoded']);
+      const description = text(item.description);
+      return {
+        guid,
+        url: link ?? (guid && isPermalink(item.guid) ? guid : null),
+        title: text(item.title) ?? '',
+        published: text(item.pubDate) ?? text(item['dc:date']),
+        html: encoded ?? description,
+        text: null,
+        language,
+      };
+    });
   return { format: 'rss', title: text(channel.title) ?? '', link: text(channel.link), language, items };
 }
 
 function atom(feed: Node): ParsedFeed {
   const language = attr(feed, 'xml:lang');
   const feedBase = attr(feed, 'xml:base');
-  const items = asArray(feed.entry).filter(isNode).map((entry): FeedItem => {
-    const content = first(entry.content) ?? first(entry.summary);
-    const type = isNode(content) ? attr(content, 'type') ?? 'text' : 'text';
-    const raw = isNode(content) ? content['#text'] : content;
-    const body = typeof raw === 'string' && raw.trim() !== '' ? (type === 'xhtml' ? unwrapXhtml(raw) : decodeXmlText(raw)) : null;
-    const entryBase = attr(entry, 'xml:base');
-    return {
-      guid: text(entry.id),
-      url: alternateLink(entry),
-      title: text(entry.title) ?? '',
-      published: text(entry.published) ?? text(entry.updated),
-      html: type === 'html' || type === 'xhtml' ? body : null,
-      text: type === 'html' || type === 'xhtml' ? null : body,
-      language: attr(entry, 'xml:lang') ?? language,
-      // xml:base nests: an entry's base is read against the feed's (RFC 4287, 2; XML Base).
-      base: entryBase && feedBase ? joinBase(entryBase, feedBase) : entryBase ?? feedBase,
-    };
-  });
+  const items = asArray(feed.entry)
+    .filter(isNode)
+    .map((entry): FeedItem => {
+      const content = first(entry.content) ?? first(entry.summary);
+      const type = isNode(content) ? (attr(content, 'type') ?? 'text') : 'text';
+      const raw = isNode(content) ? content['#text'] : content;
+      const body = typeof raw === 'string' && raw.trim() !== '' ? (type === 'xhtml' ? unwrapXhtml(raw) : decodeXmlText(raw)) : null;
+      const entryBase = attr(entry, 'xml:base');
+      return {
+        guid: text(entry.id),
+        url: alternateLink(entry),
+        title: text(entry.title) ?? '',
+        published: text(entry.published) ?? text(entry.updated),
+        html: type === 'html' || type === 'xhtml' ? body : null,
+        text: type === 'html' || type === 'xhtml' ? null : body,
+        language: attr(entry, 'xml:lang') ?? language,
+        // xml:base nests: an entry's base is read against the feed's (RFC 4287, 2; XML Base).
+        base: entryBase && feedBase ? joinBase(entryBase, feedBase) : (entryBase ?? feedBase),
+      };
+    });
   return { format: 'atom', title: text(feed.title) ?? '', link: alternateLink(feed), language, items };
 }
 
 /** The text of a raw (unparsed) element: CDATA sections kept as they are, character references decoded. */
 function decodeXmlText(raw: string): string {
-  return raw.split(/(<!\[CDATA\[[\s\S]*?\]\]>)/).map((part) => (part.startsWith('<![CDATA[') ? part.slice(9, -3) : decodeReferences(part))).join('').trim();
+  return raw
+    .split(/(<!\[CDATA\[[\s\S]*?\]\]>)/)
+    .map((part) => (part.startsWith('<![CDATA[') ? part.slice(9, -3) : decodeReferences(part)))
+    .join('')
+    .trim();
 }
 
 const NAMED: Record<string, string> = { lt: '<', gt: '>', amp: '&', quot: '"', apos: "'" };

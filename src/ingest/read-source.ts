@@ -53,7 +53,9 @@ export async function listFeedFiles(path: string): Promise<string[]> {
   try {
     info = await stat(abs);
   } catch (err) {
-    throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot read ${path}: ${(err as NodeJS.ErrnoException).code ?? describeError(err)}`, { cause: err });
+    throw new StrandError('STRAND_SOURCE_UNREADABLE', `cannot read ${path}: ${(err as NodeJS.ErrnoException).code ?? describeError(err)}`, {
+      cause: err,
+    });
   }
   if (!info.isDirectory()) return [abs];
   const entries = await readdir(abs, { recursive: true, withFileTypes: true });
@@ -64,7 +66,12 @@ export async function listFeedFiles(path: string): Promise<string[]> {
 }
 
 /** Reads one file or URL into articles; never throws for bad content, only reports problems. `signal` abandons a fetch. */
-export async function readFeedDocument(source: string, limits: ReadLimits, now: () => Date = () => new Date(), signal?: AbortSignal): Promise<FeedDocument> {
+export async function readFeedDocument(
+  source: string,
+  limits: ReadLimits,
+  now: () => Date = () => new Date(),
+  signal?: AbortSignal,
+): Promise<FeedDocument> {
   let bytes: Uint8Array;
   let charset: string | null = null;
   try {
@@ -84,7 +91,13 @@ export async function readFeedDocument(source: string, limits: ReadLimits, now: 
 }
 
 /** Turns the bytes of one feed document into articles; never throws, reports problems. */
-export function parseFeedBytes(source: string, bytes: Uint8Array, charset: string | null, limits: Pick<ReadLimits, 'maxArticleChars' | 'publishedPastDays' | 'publishedAheadHours'>, now: () => Date = () => new Date()): FeedDocument {
+export function parseFeedBytes(
+  source: string,
+  bytes: Uint8Array,
+  charset: string | null,
+  limits: Pick<ReadLimits, 'maxArticleChars' | 'publishedPastDays' | 'publishedAheadHours'>,
+  now: () => Date = () => new Date(),
+): FeedDocument {
   const doc: FeedDocument = { source, outlet: '', articles: [], problems: [] };
   const fail = (err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): void => {
     doc.problems.push(problem(source, err, item, severity));
@@ -100,7 +113,11 @@ export function parseFeedBytes(source: string, bytes: Uint8Array, charset: strin
     for (const item of feed.items) {
       try {
         const { article, warning } = toArticle(item, {
-          outlet: doc.outlet, source, fetched, maxArticleChars: limits.maxArticleChars, documentUrl,
+          outlet: doc.outlet,
+          source,
+          fetched,
+          maxArticleChars: limits.maxArticleChars,
+          documentUrl,
           ...(limits.publishedPastDays ? { publishedPastDays: limits.publishedPastDays } : {}),
           ...(limits.publishedAheadHours !== undefined ? { publishedAheadHours: limits.publishedAheadHours } : {}),
         });
@@ -125,7 +142,13 @@ function hostOf(url: string | null): string | null {
 }
 
 function problem(source: string, err: unknown, item: string | null = null, severity: 'warning' | 'error' = 'error'): IngestProblem {
-  return { source, item, code: err instanceof StrandError ? err.code : 'STRAND_SOURCE_UNREADABLE', message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''), severity };
+  return {
+    source,
+    item,
+    code: err instanceof StrandError ? err.code : 'STRAND_SOURCE_UNREADABLE',
+    message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''),
+    severity,
+  };
 }
 
 async function readFileCapped(path: string, cap: number): Promise<Uint8Array> {
@@ -171,7 +194,13 @@ export interface FetchedFeed {
  * or breaks a limit; the body is read only for a 200. A caller polling many feeds passes
  * one `agent` (from NetworkGuard.agent) for all of them, so connections are kept and reused.
  */
-export async function fetchFeed(url: string, limits: ReadLimits, validators: Validators = {}, agent?: Agent, signal?: AbortSignal): Promise<FetchedFeed> {
+export async function fetchFeed(
+  url: string,
+  limits: ReadLimits,
+  validators: Validators = {},
+  agent?: Agent,
+  signal?: AbortSignal,
+): Promise<FetchedFeed> {
   return fetchDocument(url, limits, { validators, accept: FEED_TYPES, ...(signal ? { signal } : {}) }, agent);
 }
 
@@ -217,18 +246,32 @@ async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: N
       if (cause instanceof StrandError) throw cause;
       if (o.signal?.aborted) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${at.href}: fetch abandoned (stopping)`, { cause: err });
       const timedOut = signal.aborted;
-      throw new StrandError('STRAND_SOURCE_UNREADABLE', timedOut ? `${at.href} did not answer within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)` : `cannot fetch ${at.href}: ${describeError(cause ?? err)}`, { cause: err });
+      throw new StrandError(
+        'STRAND_SOURCE_UNREADABLE',
+        timedOut
+          ? `${at.href} did not answer within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)`
+          : `cannot fetch ${at.href}: ${describeError(cause ?? err)}`,
+        { cause: err },
+      );
     }
     const location = res.status >= 300 && res.status < 400 && res.status !== 304 ? res.headers.get('location') : null;
     if (!location) break;
     await res.body?.cancel();
-    if (hop >= (limits.maxRedirects ?? 5)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects more than ingest.maxRedirects (${limits.maxRedirects ?? 5}) times`);
+    if (hop >= (limits.maxRedirects ?? 5))
+      throw new StrandError(
+        'STRAND_SOURCE_UNREADABLE',
+        `${url} redirects more than ingest.maxRedirects (${limits.maxRedirects ?? 5}) times`,
+      );
     at = new URL(location, at);
     if (!/^https?:$/.test(at.protocol)) throw new StrandError('STRAND_SOURCE_UNREADABLE', `${url} redirects to a ${at.protocol} URL`);
   }
   const answer = {
-    url: at.href, status: res.status, charset: null as string | null,
-    etag: res.headers.get('etag'), lastModified: res.headers.get('last-modified'), retryAfter: res.headers.get('retry-after'),
+    url: at.href,
+    status: res.status,
+    charset: null as string | null,
+    etag: res.headers.get('etag'),
+    lastModified: res.headers.get('last-modified'),
+    retryAfter: res.headers.get('retry-after'),
   };
   if (res.status !== 200) {
     await res.body?.cancel().catch(() => undefined);
@@ -237,20 +280,34 @@ async function fetchWith(agent: Agent, url: string, limits: ReadLimits, guard: N
   const declared = Number(res.headers.get('content-length') ?? '0');
   if (declared > limits.maxFeedBytes) {
     await res.body?.cancel().catch(() => undefined);
-    throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${at.href} declares ${declared} bytes, over ingest.maxFeedBytes (${limits.maxFeedBytes})`);
+    throw new StrandError(
+      'STRAND_SOURCE_TOO_LARGE',
+      `${at.href} declares ${declared} bytes, over ingest.maxFeedBytes (${limits.maxFeedBytes})`,
+    );
   }
   const chunks: Uint8Array[] = [];
   let total = 0;
   try {
     for await (const chunk of res.body as unknown as AsyncIterable<Uint8Array>) {
       total += chunk.byteLength;
-      if (total > limits.maxFeedBytes) throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${at.href} sent more than ingest.maxFeedBytes (${limits.maxFeedBytes})`);
+      if (total > limits.maxFeedBytes)
+        throw new StrandError('STRAND_SOURCE_TOO_LARGE', `${at.href} sent more than ingest.maxFeedBytes (${limits.maxFeedBytes})`);
       chunks.push(chunk);
     }
   } catch (err) {
     if (err instanceof StrandError) throw err;
-    throw new StrandError('STRAND_SOURCE_UNREADABLE', signal.aborted ? `${at.href} did not finish within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)` : `reading ${at.href} failed: ${describeError(err)}`, { cause: err });
+    throw new StrandError(
+      'STRAND_SOURCE_UNREADABLE',
+      signal.aborted
+        ? `${at.href} did not finish within ingest.fetchTimeoutMs (${limits.fetchTimeoutMs} ms)`
+        : `reading ${at.href} failed: ${describeError(err)}`,
+      { cause: err },
+    );
   }
-  answer.charset = /charset=([^;]+)/i.exec(res.headers.get('content-type') ?? '')?.[1]?.replace(/"/g, '').trim() ?? null;
+  answer.charset =
+    /charset=([^;]+)/i
+      .exec(res.headers.get('content-type') ?? '')?.[1]
+      ?.replace(/"/g, '')
+      .trim() ?? null;
   return { ...answer, bytes: Buffer.concat(chunks), received: total };
 }

@@ -27,7 +27,13 @@ export async function readReplayInput(paths: readonly string[], limits: ReadLimi
     try {
       files = /^https?:\/\//i.test(path) ? [path] : await listFeedFiles(path);
     } catch (err) {
-      input.problems.push({ source: path, item: null, code: (err as { code?: string }).code ?? 'STRAND_SOURCE_UNREADABLE', message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''), severity: 'error' });
+      input.problems.push({
+        source: path,
+        item: null,
+        code: (err as { code?: string }).code ?? 'STRAND_SOURCE_UNREADABLE',
+        message: describeError(err).replace(/^STRAND_[A-Z_]+: /, ''),
+        severity: 'error',
+      });
       continue;
     }
     for (const file of files) {

@@ -90,11 +90,17 @@ function publicationDate(given: string, ctx: ItemContext): { published: string |
   const aheadHours = ctx.publishedAheadHours ?? 48;
   if (ms < fetched - pastDays * 86_400_000) {
     if (ctx.strictDates) refuse(`is more than ingest.publishedPastDays (${pastDays}) before now`);
-    return { published: null, warning: `date ${shown} is more than ingest.publishedPastDays (${pastDays}) days before it was fetched; publication time unknown` };
+    return {
+      published: null,
+      warning: `date ${shown} is more than ingest.publishedPastDays (${pastDays}) days before it was fetched; publication time unknown`,
+    };
   }
   if (ms > fetched + aheadHours * 3_600_000) {
     if (ctx.strictDates) refuse(`is more than ingest.publishedAheadHours (${aheadHours}) after now`);
-    return { published: ctx.fetched, warning: `date ${shown} is more than ingest.publishedAheadHours (${aheadHours}) hours after it was fetched; the fetch time is used` };
+    return {
+      published: ctx.fetched,
+      warning: `date ${shown} is more than ingest.publishedAheadHours (${aheadHours}) hours after it was fetched; the fetch time is used`,
+    };
   }
   return { published: new Date(ms).toISOString(), warning: null };
 }
@@ -129,7 +135,13 @@ export function contentHash(text: string): string {
 
 /** A short, URL-safe key for an outlet name. */
 export function outletKey(outlet: string): string {
-  return outlet.toLowerCase().normalize('NFKD').replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '') || 'outlet';
+  return (
+    outlet
+      .toLowerCase()
+      .normalize('NFKD')
+      .replace(/[^a-z0-9]+/g, '-')
+      .replace(/^-|-$/g, '') || 'outlet'
+  );
 }
 
 function sha256(s: string): string {
@@ -137,5 +149,8 @@ function sha256(s: string): string {
 }
 
 function tooLarge(length: number, ctx: ItemContext): StrandError {
-  return new StrandError('STRAND_ARTICLE_TOO_LARGE', `article body of ${length} characters exceeds ingest.maxArticleChars (${ctx.maxArticleChars})`);
+  return new StrandError(
+    'STRAND_ARTICLE_TOO_LARGE',
+    `article body of ${length} characters exceeds ingest.maxArticleChars (${ctx.maxArticleChars})`,
+  );
 }

@@ -45,7 +45,10 @@ const CEILING = 0.9;
 export class Calibration {
   private tally: LinkTally = { mentions: 0, high: 0 };
 
-  constructor(private readonly base: number, private readonly o: CalibrationOptions) {}
+  constructor(
+    private readonly base: number,
+    private readonly o: CalibrationOptions,
+  ) {}
 
   /** Restores a stored tally. */
   load(t: LinkTally): void {

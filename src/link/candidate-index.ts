@@ -119,7 +119,8 @@ export class CandidateIndex {
     }
     // Keep the best `limit` by insertion into a short sorted list.
     const best: number[] = [];
-    const better = (a: number, b: number): boolean => votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
+    const better = (a: number, b: number): boolean =>
+      votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
     for (const h of touched) {
       if (best.length === limit && !better(h, best[limit - 1]!)) continue;
       let i = best.length === limit ? limit - 1 : best.length;

@@ -62,7 +62,9 @@ function implicitSpan(m: Pick<EmbeddedMention, 'published'>): [number, number] {
 /** The span of a mention's own time expressions, ignoring any more than a year from publication (background). */
 export function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [number, number] | null {
   const pub = dayNumber(m.published.slice(0, 10));
-  const near = m.times.filter((t) => Math.abs(dayNumber(t.end) - pub) <= 366 && dayNumber(t.end) - dayNumber(t.start) <= MAX_STATED_SPAN_DAYS);
+  const near = m.times.filter(
+    (t) => Math.abs(dayNumber(t.end) - pub) <= 366 && dayNumber(t.end) - dayNumber(t.start) <= MAX_STATED_SPAN_DAYS,
+  );
   if (near.length === 0) return null;
   let lo = Infinity;
   let hi = -Infinity;
@@ -75,7 +77,12 @@ export function explicitSpan(m: Pick<EmbeddedMention, 'times' | 'published'>): [
 
 /** Lower-cased key for matching names: no leading article, no possessive, single spaces. */
 export function nameKey(name: string): string {
-  return name.toLowerCase().replace(/^the\s+/, '').replace(/['\u2019]s?$/, '').replace(/\s+/g, ' ').trim();
+  return name
+    .toLowerCase()
+    .replace(/^the\s+/, '')
+    .replace(/['\u2019]s?$/, '')
+    .replace(/\s+/g, ' ')
+    .trim();
 }
 
 /** Deterministic event id from the mention that opens it: replaying the same mention opens the same id. */
@@ -171,7 +178,8 @@ export function centroidCosine(a: Pick<EventState, 'sparse' | 'dense' | 'norm'>,
 export function mergeStates(into: EventState, from: EventState, centroidTerms: number): EventState {
   const m = cloneEvent(into);
   for (const [f, w] of from.sparse) m.sparse.set(f, (m.sparse.get(f) ?? 0) + w);
-  if (m.sparse.size > centroidTerms * 1.5) m.sparse = new Map([...m.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, centroidTerms));
+  if (m.sparse.size > centroidTerms * 1.5)
+    m.sparse = new Map([...m.sparse].sort((a, b) => b[1] - a[1] || a[0] - b[0]).slice(0, centroidTerms));
   if (from.dense) {
     m.dense ??= new Float64Array(from.dense.length);
     for (let i = 0; i < from.dense.length; i++) m.dense[i]! += from.dense[i]!;
@@ -191,7 +199,8 @@ export function mergeStates(into: EventState, from: EventState, centroidTerms: n
   if (from.firstSeen < m.firstSeen) m.firstSeen = from.firstSeen;
   if (from.lastSeen > m.lastSeen) m.lastSeen = from.lastSeen;
   m.mentionCount += from.mentionCount;
-  for (const [k, [surface, n]] of from.participants) m.participants.set(k, [m.participants.get(k)?.[0] ?? surface, (m.participants.get(k)?.[1] ?? 0) + n]);
+  for (const [k, [surface, n]] of from.participants)
+    m.participants.set(k, [m.participants.get(k)?.[0] ?? surface, (m.participants.get(k)?.[1] ?? 0) + n]);
   for (const [k, [surface, n]] of from.places) m.places.set(k, [m.places.get(k)?.[0] ?? surface, (m.places.get(k)?.[1] ?? 0) + n]);
   for (const [k, [a, b]] of from.outlets) {
     const cur = m.outlets.get(k) ?? [0, 0];
@@ -237,21 +246,46 @@ export function toRecord(e: EventState): EventRecord {
  * erasing the text erases it (the store's label is the one shown and notified).
  */
 export function serialiseEvent(e: EventState): Buffer {
-  const header = Buffer.from(JSON.stringify({
-    id: e.id, firstSeen: e.firstSeen, lastSeen: e.lastSeen, timeStart: e.timeStart, timeEnd: e.timeEnd,
-    explicitTime: e.explicitTime, norm: e.norm, mentionCount: e.mentionCount, version: e.version, touched: e.touched, splitCheckedAt: e.splitCheckedAt, story: e.story,
-    participants: [...e.participants], places: [...e.places], outlets: [...e.outlets],
-    sparse: e.sparse.size, dense: e.dense ? e.dense.length : 0,
-  }));
+  const header = Buffer.from(
+    JSON.stringify({
+      id: e.id,
+      firstSeen: e.firstSeen,
+      lastSeen: e.lastSeen,
+      timeStart: e.timeStart,
+      timeEnd: e.timeEnd,
+      explicitTime: e.explicitTime,
+      norm: e.norm,
+      mentionCount: e.mentionCount,
+      version: e.version,
+      touched: e.touched,
+      splitCheckedAt: e.splitCheckedAt,
+      story: e.story,
+      participants: [...e.participants],
+      places: [...e.places],
+      outlets: [...e.outlets],
+      sparse: e.sparse.size,
+      dense: e.dense ? e.dense.length : 0,
+    }),
+  );
   const n = e.sparse.size;
   const body = Buffer.alloc(4 + header.length + n * 12 + (e.dense ? e.dense.length * 8 : 0));
   body.writeUInt32LE(header.length, 0);
   header.copy(body, 4);
   let at = 4 + header.length;
   // Features then values; values as float64 so a restart resumes bit-for-bit.
-  for (const f of e.sparse.keys()) { body.writeUInt32LE(f, at); at += 4; }
-  for (const v of e.sparse.values()) { body.writeDoubleLE(v, at); at += 8; }
-  if (e.dense) for (const v of e.dense) { body.writeDoubleLE(v, at); at += 8; }
+  for (const f of e.sparse.keys()) {
+    body.writeUInt32LE(f, at);
+    at += 4;
+  }
+  for (const v of e.sparse.values()) {
+    body.writeDoubleLE(v, at);
+    at += 8;
+  }
+  if (e.dense)
+    for (const v of e.dense) {
+      body.writeDoubleLE(v, at);
+      at += 8;
+    }
   return body;
 }
 
@@ -260,27 +294,65 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
   const b = Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
-    id: string; label?: string; firstSeen: string; lastSeen: string; timeStart: number; timeEnd: number; explicitTime: boolean; norm: number;
-    mentionCount: number; version: number; touched?: number; splitCheckedAt?: number; story?: string | null; participants: [string, [string, number]][]; places: [string, [string, number]][];
-    outlets: [string, [number, number]][]; sparse: number; dense: number;
+    id: string;
+    label?: string;
+    firstSeen: string;
+    lastSeen: string;
+    timeStart: number;
+    timeEnd: number;
+    explicitTime: boolean;
+    norm: number;
+    mentionCount: number;
+    version: number;
+    touched?: number;
+    splitCheckedAt?: number;
+    story?: string | null;
+    participants: [string, [string, number]][];
+    places: [string, [string, number]][];
+    outlets: [string, [number, number]][];
+    sparse: number;
+    dense: number;
   };
   let at = 4 + hlen;
   const keys: number[] = [];
-  for (let i = 0; i < h.sparse; i++) { keys.push(b.readUInt32LE(at)); at += 4; }
+  for (let i = 0; i < h.sparse; i++) {
+    keys.push(b.readUInt32LE(at));
+    at += 4;
+  }
   const sparse = new Map<number, number>();
-  for (let i = 0; i < h.sparse; i++) { sparse.set(keys[i]!, b.readDoubleLE(at)); at += 8; }
+  for (let i = 0; i < h.sparse; i++) {
+    sparse.set(keys[i]!, b.readDoubleLE(at));
+    at += 8;
+  }
   let dense: Float64Array | null = null;
   if (h.dense > 0) {
     dense = new Float64Array(h.dense);
-    for (let i = 0; i < h.dense; i++) { dense[i] = b.readDoubleLE(at); at += 8; }
+    for (let i = 0; i < h.dense; i++) {
+      dense[i] = b.readDoubleLE(at);
+      at += 8;
+    }
   }
   return {
     // States written before labels left the header still carry one.
-    id: h.id, label: h.label ?? '', firstSeen: h.firstSeen, lastSeen: h.lastSeen, timeStart: h.timeStart, timeEnd: h.timeEnd,
-    explicitTime: h.explicitTime, sparse, dense, norm: h.norm, mentionCount: h.mentionCount, version: h.version,
-    participants: new Map(h.participants), places: new Map(h.places), outlets: new Map(h.outlets),
+    id: h.id,
+    label: h.label ?? '',
+    firstSeen: h.firstSeen,
+    lastSeen: h.lastSeen,
+    timeStart: h.timeStart,
+    timeEnd: h.timeEnd,
+    explicitTime: h.explicitTime,
+    sparse,
+    dense,
+    norm: h.norm,
+    mentionCount: h.mentionCount,
+    version: h.version,
+    participants: new Map(h.participants),
+    places: new Map(h.places),
+    outlets: new Map(h.outlets),
     // States written before these were kept: untouched, never examined.
-    touched: h.touched ?? 0, splitCheckedAt: h.splitCheckedAt ?? -1, story: h.story ?? null,
+    touched: h.touched ?? 0,
+    splitCheckedAt: h.splitCheckedAt ?? -1,
+    story: h.story ?? null,
   };
 }
 
@@ -339,7 +411,10 @@ function bump(map: Map<string, [string, number]>, key: string, surface: string):
 }
 
 function topNames(map: Map<string, [string, number]>, n: number): string[] {
-  return [...map.values()].sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0])).slice(0, n).map((x) => x[0]);
+  return [...map.values()]
+    .sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0]))
+    .slice(0, n)
+    .map((x) => x[0]);
 }
 
 function makeLabel(text: string): string {

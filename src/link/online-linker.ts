@@ -13,7 +13,18 @@ import type { LinkTally } from '../store/store.js';
 import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
-import { addMention, centroidCosine, cloneEvent, eventIdFor, type EventState, mergeStates, nameKey, openEvent, removeMention, topTermFeatures } from './event-state.js';
+import {
+  addMention,
+  centroidCosine,
+  cloneEvent,
+  eventIdFor,
+  type EventState,
+  mergeStates,
+  nameKey,
+  openEvent,
+  removeMention,
+  topTermFeatures,
+} from './event-state.js';
 import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 import { planSplit, type SplitMember, type SplitPlan } from './split-event.js';
 
@@ -114,7 +125,9 @@ export class OnlineLinker {
    */
   load(states: Iterable<EventState>, tally: LinkTally = { mentions: 0, high: 0 }): void {
     this.calibration.load(tally);
-    const sorted = [...states].sort((a, b) => a.touched - b.touched || (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1));
+    const sorted = [...states].sort(
+      (a, b) => a.touched - b.touched || (a.lastSeen < b.lastSeen ? -1 : a.lastSeen > b.lastSeen ? 1 : a.id < b.id ? -1 : 1),
+    );
     for (const e of sorted) {
       this.events.set(e.id, e);
       this.register(e);
@@ -243,9 +256,19 @@ export class OnlineLinker {
           eventId: id,
           score,
           rank,
-          evidence: sc ? sc.evidence : { similarity: 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: true },
+          evidence: sc
+            ? sc.evidence
+            : { similarity: 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: true },
         });
-        if (!hadOutlet && sc) outletsAdded.push({ eventId: id, outlet: m.outlet, articleId: m.articleId, sentenceIndex: m.sentenceIndex, score, independent: !m.isCopy });
+        if (!hadOutlet && sc)
+          outletsAdded.push({
+            eventId: id,
+            outlet: m.outlet,
+            articleId: m.articleId,
+            sentenceIndex: m.sentenceIndex,
+            score,
+            independent: !m.isCopy,
+          });
       });
     }
     // Touch numbers in plan order; they are stored with the events.

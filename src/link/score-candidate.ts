@@ -60,7 +60,10 @@ export function mentionFeatures(m: EmbeddedMention): MentionFeatures {
   return {
     mention: m,
     span: mentionSpan(m),
-    names: [...m.participants.map((p): [string, string, boolean] => [p, nameKey(p), false]), ...m.places.map((p): [string, string, boolean] => [p, nameKey(p), true])],
+    names: [
+      ...m.participants.map((p): [string, string, boolean] => [p, nameKey(p), false]),
+      ...m.places.map((p): [string, string, boolean] => [p, nameKey(p), true]),
+    ],
   };
 }
 
@@ -68,7 +71,14 @@ export function mentionFeatures(m: EmbeddedMention): MentionFeatures {
  * Scores one candidate event for a mention; `carriers` says how many events carry a name
  * now; `sameArticle` says the mention's own article opened the event.
  */
-export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nameKey: string) => number, totalEvents: number, o: ScoreOptions, sameArticle = false): ScoredCandidate {
+export function scoreCandidate(
+  f: MentionFeatures,
+  e: EventState,
+  carriers: (nameKey: string) => number,
+  totalEvents: number,
+  o: ScoreOptions,
+  sameArticle = false,
+): ScoredCandidate {
   const m = f.mention;
   const similarity = cosine(m.vector, e);
   const [ms, me] = f.span;
@@ -96,8 +106,15 @@ export function scoreCandidate(f: MentionFeatures, e: EventState, carriers: (nam
     event: e,
     score,
     evidence: {
-      similarity, timeDecay, timeGapDays: gap, sharedParticipants, sharedPlaces, overlapBonus, opened: false,
-      ...(sizeFactor !== 1 ? { sizeFactor } : {}), ...(sameArticle ? { sameArticleFactor: articleFactor } : {}),
+      similarity,
+      timeDecay,
+      timeGapDays: gap,
+      sharedParticipants,
+      sharedPlaces,
+      overlapBonus,
+      opened: false,
+      ...(sizeFactor !== 1 ? { sizeFactor } : {}),
+      ...(sameArticle ? { sameArticleFactor: articleFactor } : {}),
     },
   };
 }

@@ -113,7 +113,12 @@ export function splitEventId(from: string, first: Pick<EmbeddedMention, 'article
 /** What the division needs of a part: its centroid and time span, built as addMention would. */
 type Part = Pick<EventState, 'sparse' | 'dense' | 'norm' | 'timeStart' | 'timeEnd'>;
 
-function part(members: readonly SplitMember[], explicit: readonly ([number, number] | null)[], spans: readonly [number, number][], indices: readonly number[]): Part {
+function part(
+  members: readonly SplitMember[],
+  explicit: readonly ([number, number] | null)[],
+  spans: readonly [number, number][],
+  indices: readonly number[],
+): Part {
   const p: Part = { sparse: new Map(), dense: null, norm: 0, timeStart: Infinity, timeEnd: -Infinity };
   let sq = 0;
   for (const i of indices) {

@@ -138,7 +138,14 @@ export class StoryLinker {
     const outletAdded = joins && !story.outlets.has(a.outlet);
     addArticle(story, a, this.o.centroidTerms);
     story.touched = ++this.clock;
-    return { story, opened: !joins, score: joins ? bestScore : 0, similarity: joins ? bestSimilarity : 0, timeGapDays: joins ? bestGap : 0, outletAdded };
+    return {
+      story,
+      opened: !joins,
+      score: joins ? bestScore : 0,
+      similarity: joins ? bestSimilarity : 0,
+      timeGapDays: joins ? bestGap : 0,
+      outletAdded,
+    };
   }
 
   /** Makes a committed plan part of the linker's state. */
@@ -161,7 +168,11 @@ export class StoryLinker {
         if (other === id || gone.has(other)) continue;
         const t = this.stories.get(other);
         if (!t) continue;
-        const gap = Math.max(0, dayNumber(t.firstSeen.slice(0, 10)) - dayNumber(s.lastSeen.slice(0, 10)), dayNumber(s.firstSeen.slice(0, 10)) - dayNumber(t.lastSeen.slice(0, 10)));
+        const gap = Math.max(
+          0,
+          dayNumber(t.firstSeen.slice(0, 10)) - dayNumber(s.lastSeen.slice(0, 10)),
+          dayNumber(s.firstSeen.slice(0, 10)) - dayNumber(t.lastSeen.slice(0, 10)),
+        );
         const score = centroidCosine(s, t) * Math.pow(0.5, gap / this.o.storyHalfLifeDays);
         if (score < this.o.storyMergeThreshold) continue;
         const [into, from] = s.firstSeen < t.firstSeen || (s.firstSeen === t.firstSeen && s.id < t.id) ? [s, t] : [t, s];

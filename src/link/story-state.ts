@@ -63,8 +63,18 @@ export function storyIdFor(articleId: string): string {
 /** A new, empty story for an article to open. */
 export function openStory(a: StoryArticle): StoryState {
   return {
-    id: storyIdFor(a.id), label: a.title || a.id, firstSeen: a.published, lastSeen: a.published, articleCount: 0,
-    sparse: new Map(), dense: null, norm: 0, outlets: new Map(), names: new Map(), touched: 0, version: 0,
+    id: storyIdFor(a.id),
+    label: a.title || a.id,
+    firstSeen: a.published,
+    lastSeen: a.published,
+    articleCount: 0,
+    sparse: new Map(),
+    dense: null,
+    norm: 0,
+    outlets: new Map(),
+    names: new Map(),
+    touched: 0,
+    version: 0,
   };
 }
 
@@ -128,9 +138,16 @@ export function cloneStory(s: StoryState): StoryState {
 /** The public record of a story. */
 export function storyRecord(s: StoryState): StoryRecord {
   return {
-    id: s.id, label: s.label, firstSeen: s.firstSeen, lastSeen: s.lastSeen, articleCount: s.articleCount,
+    id: s.id,
+    label: s.label,
+    firstSeen: s.firstSeen,
+    lastSeen: s.lastSeen,
+    articleCount: s.articleCount,
     outlets: [...s.outlets.keys()].sort(),
-    names: [...s.names.values()].sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0])).slice(0, 12).map((x) => x[0]),
+    names: [...s.names.values()]
+      .sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0]))
+      .slice(0, 12)
+      .map((x) => x[0]),
     independentOutlets: [...s.outlets.values()].filter(([, independent]) => independent > 0).length,
     version: s.version,
   };
@@ -138,17 +155,39 @@ export function storyRecord(s: StoryState): StoryRecord {
 
 /** Binary form: a JSON header, then the centroid arrays (as serialiseEvent). */
 export function serialiseStory(s: StoryState): Buffer {
-  const header = Buffer.from(JSON.stringify({
-    id: s.id, label: s.label, firstSeen: s.firstSeen, lastSeen: s.lastSeen, articleCount: s.articleCount, norm: s.norm,
-    outlets: [...s.outlets], names: [...s.names], touched: s.touched, version: s.version, sparse: s.sparse.size, dense: s.dense ? s.dense.length : 0,
-  }));
+  const header = Buffer.from(
+    JSON.stringify({
+      id: s.id,
+      label: s.label,
+      firstSeen: s.firstSeen,
+      lastSeen: s.lastSeen,
+      articleCount: s.articleCount,
+      norm: s.norm,
+      outlets: [...s.outlets],
+      names: [...s.names],
+      touched: s.touched,
+      version: s.version,
+      sparse: s.sparse.size,
+      dense: s.dense ? s.dense.length : 0,
+    }),
+  );
   const body = Buffer.alloc(4 + header.length + s.sparse.size * 12 + (s.dense ? s.dense.length * 8 : 0));
   body.writeUInt32LE(header.length, 0);
   header.copy(body, 4);
   let at = 4 + header.length;
-  for (const f of s.sparse.keys()) { body.writeUInt32LE(f, at); at += 4; }
-  for (const v of s.sparse.values()) { body.writeDoubleLE(v, at); at += 8; }
-  if (s.dense) for (const v of s.dense) { body.writeDoubleLE(v, at); at += 8; }
+  for (const f of s.sparse.keys()) {
+    body.writeUInt32LE(f, at);
+    at += 4;
+  }
+  for (const v of s.sparse.values()) {
+    body.writeDoubleLE(v, at);
+    at += 8;
+  }
+  if (s.dense)
+    for (const v of s.dense) {
+      body.writeDoubleLE(v, at);
+      at += 8;
+    }
   return body;
 }
 
@@ -157,21 +196,50 @@ export function deserialiseStory(buf: Uint8Array): StoryState {
   const b = Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
   const hlen = b.readUInt32LE(0);
   const h = JSON.parse(b.subarray(4, 4 + hlen).toString('utf8')) as {
-    id: string; label: string; firstSeen: string; lastSeen: string; articleCount: number; norm: number;
-    outlets: [string, [number, number]][]; names: [string, [string, number]][]; touched: number; version: number; sparse: number; dense: number;
+    id: string;
+    label: string;
+    firstSeen: string;
+    lastSeen: string;
+    articleCount: number;
+    norm: number;
+    outlets: [string, [number, number]][];
+    names: [string, [string, number]][];
+    touched: number;
+    version: number;
+    sparse: number;
+    dense: number;
   };
   let at = 4 + hlen;
   const keys: number[] = [];
-  for (let i = 0; i < h.sparse; i++) { keys.push(b.readUInt32LE(at)); at += 4; }
+  for (let i = 0; i < h.sparse; i++) {
+    keys.push(b.readUInt32LE(at));
+    at += 4;
+  }
   const sparse = new Map<number, number>();
-  for (let i = 0; i < h.sparse; i++) { sparse.set(keys[i]!, b.readDoubleLE(at)); at += 8; }
+  for (let i = 0; i < h.sparse; i++) {
+    sparse.set(keys[i]!, b.readDoubleLE(at));
+    at += 8;
+  }
   let dense: Float64Array | null = null;
   if (h.dense > 0) {
     dense = new Float64Array(h.dense);
-    for (let i = 0; i < h.dense; i++) { dense[i] = b.readDoubleLE(at); at += 8; }
+    for (let i = 0; i < h.dense; i++) {
+      dense[i] = b.readDoubleLE(at);
+      at += 8;
+    }
   }
   return {
-    id: h.id, label: h.label, firstSeen: h.firstSeen, lastSeen: h.lastSeen, articleCount: h.articleCount, norm: h.norm,
-    sparse, dense, outlets: new Map(h.outlets), names: new Map(h.names), touched: h.touched, version: h.version,
+    id: h.id,
+    label: h.label,
+    firstSeen: h.firstSeen,
+    lastSeen: h.lastSeen,
+    articleCount: h.articleCount,
+    norm: h.norm,
+    sparse,
+    dense,
+    outlets: new Map(h.outlets),
+    names: new Map(h.names),
+    touched: h.touched,
+    version: h.version,
   };
 }

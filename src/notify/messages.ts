@@ -19,10 +19,16 @@ export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.
 import type { NotificationType } from './notification-types.js';
 
 /** The outbox messages for one committed plan; none when nobody subscribes. */
-export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildMessages(
+  plan: LinkPlan,
+  mentions: readonly EmbeddedMention[],
+  subscribers: readonly Subscriber[],
+  now: Date,
+): OutboxMessage[] {
   if (subscribers.length === 0) return [];
   const events = new Map(plan.events.map((e) => [e.id, e]));
-  const mentionOf = (articleId: string, sentenceIndex: number) => mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);
+  const mentionOf = (articleId: string, sentenceIndex: number) =>
+    mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);
   const out: OutboxMessage[] = [];
   const push = messageSink(out, subscribers, now);
   for (const id of plan.opened) {
@@ -41,7 +47,14 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
       event: toRecord(events.get(a.eventId)!),
       outlet: a.outlet,
       independent: a.independent,
-      mention: { article: a.articleId, sentence: a.sentenceIndex, text: m?.text, published: m?.published, score: a.score, evidence: link?.evidence },
+      mention: {
+        article: a.articleId,
+        sentence: a.sentenceIndex,
+        text: m?.text,
+        published: m?.published,
+        score: a.score,
+        evidence: link?.evidence,
+      },
       note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
     });
   }
@@ -72,17 +85,32 @@ export function buildStoryMessages(p: StoryPlan, article: Article, subscribers: 
   if (p.opened) push('story.opened', p.story.id, { story: storyRecord(p.story), article: about, note: STORY_NOTE });
   if (p.outletAdded) {
     push('story.outlet_added', `${p.story.id}\n${article.outlet}`, {
-      story: storyRecord(p.story), outlet: article.outlet, independent: article.duplicateOf === null, article: about,
-      score: p.score, evidence: { similarity: p.similarity, timeGapDays: p.timeGapDays }, note: STORY_NOTE,
+      story: storyRecord(p.story),
+      outlet: article.outlet,
+      independent: article.duplicateOf === null,
+      article: about,
+      score: p.score,
+      evidence: { similarity: p.similarity, timeGapDays: p.timeGapDays },
+      note: STORY_NOTE,
     });
   }
   return out;
 }
 
 /** The "story.merged" notification for one consolidation merge of two stories. */
-export function buildStoryMergeMessages(m: StoryMergePlan, merged: StoryState, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildStoryMergeMessages(
+  m: StoryMergePlan,
+  merged: StoryState,
+  subscribers: readonly Subscriber[],
+  now: Date,
+): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, subscribers, now)('story.merged', `${m.from}\n${m.into}`, { story: storyRecord(merged), mergedFrom: m.from, score: m.score, note: STORY_NOTE });
+  messageSink(out, subscribers, now)('story.merged', `${m.from}\n${m.into}`, {
+    story: storyRecord(merged),
+    mergedFrom: m.from,
+    score: m.score,
+    note: STORY_NOTE,
+  });
   return out;
 }
 
@@ -100,7 +128,11 @@ export function buildMergeMessages(m: MergePlan, merged: EventState, subscribers
   return out;
 }
 
-function messageSink(out: OutboxMessage[], subscribers: readonly Subscriber[], now: Date): (type: NotificationType, key: string, data: unknown) => void {
+function messageSink(
+  out: OutboxMessage[],
+  subscribers: readonly Subscriber[],
+  now: Date,
+): (type: NotificationType, key: string, data: unknown) => void {
   const created = now.toISOString();
   return (type, key, data) => {
     const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);

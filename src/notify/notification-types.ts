@@ -1,5 +1,13 @@
 /** The notification types subscribers can ask for (shared by the configuration and the outbox). */
-export const NOTIFICATION_TYPES = ['event.opened', 'event.outlet_added', 'event.merged', 'event.split', 'story.opened', 'story.outlet_added', 'story.merged'] as const;
+export const NOTIFICATION_TYPES = [
+  'event.opened',
+  'event.outlet_added',
+  'event.merged',
+  'event.split',
+  'story.opened',
+  'story.outlet_added',
+  'story.merged',
+] as const;
 
 /** One notification type. */
 export type NotificationType = (typeof NOTIFICATION_TYPES)[number];

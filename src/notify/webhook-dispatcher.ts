@@ -17,7 +17,10 @@ import type { Delivery, Store } from '../store/store.js';
 import { signWebhook } from './sign-webhook.js';
 
 /** The fetch the dispatcher calls: undici's, with the address-guarded agent as dispatcher. */
-export type DeliveryFetch = (url: string, init: { method: string; headers: Record<string, string>; body: string; signal: AbortSignal; redirect: 'manual'; dispatcher: Agent }) => Promise<Response>;
+export type DeliveryFetch = (
+  url: string,
+  init: { method: string; headers: Record<string, string>; body: string; signal: AbortSignal; redirect: 'manual'; dispatcher: Agent },
+) => Promise<Response>;
 
 /** Injected so tests control time, chance and the network. */
 export interface DispatcherDeps {
@@ -123,7 +126,10 @@ export class WebhookDispatcher {
         await this.deliver(delivery);
       } catch (err) {
         // The store refused the record: the delivery stays due and goes again later.
-        this.log.warn({ message: delivery.messageId, subscriber: delivery.subscriber, err: describeError(err) }, 'delivery outcome not recorded');
+        this.log.warn(
+          { message: delivery.messageId, subscriber: delivery.subscriber, err: describeError(err) },
+          'delivery outcome not recorded',
+        );
         return;
       }
     }
@@ -133,14 +139,23 @@ export class WebhookDispatcher {
     const sub = this.subscribers.get(d.subscriber);
     const attempts = d.attempts + 1;
     if (!sub) {
-      await this.d.store.recordAttempt(d.messageId, d.subscriber, { status: 'dead', attempts, nextAt: this.now().toISOString(), error: 'subscriber no longer configured' });
+      await this.d.store.recordAttempt(d.messageId, d.subscriber, {
+        status: 'dead',
+        attempts,
+        nextAt: this.now().toISOString(),
+        error: 'subscriber no longer configured',
+      });
       return;
     }
     let error: string | null = null;
     try {
       const res = await this.fetch(sub.url, {
         method: 'POST',
-        headers: { 'content-type': 'application/json', 'user-agent': 'Strandline-Webhooks/0.1', ...signWebhook(sub.secret, d.messageId, this.now(), d.body) },
+        headers: {
+          'content-type': 'application/json',
+          'user-agent': 'Strandline-Webhooks/0.1',
+          ...signWebhook(sub.secret, d.messageId, this.now(), d.body),
+        },
         body: d.body,
         signal: AbortSignal.any([AbortSignal.timeout(this.d.config.timeoutMs), this.stopping.signal]),
         redirect: 'manual',
@@ -156,12 +171,20 @@ export class WebhookDispatcher {
     }
     const now = this.now();
     if (error === null) {
-      await this.d.store.recordAttempt(d.messageId, d.subscriber, { status: 'delivered', attempts, nextAt: now.toISOString(), error: null });
+      await this.d.store.recordAttempt(d.messageId, d.subscriber, {
+        status: 'delivered',
+        attempts,
+        nextAt: now.toISOString(),
+        error: null,
+      });
       return;
     }
     const dead = attempts >= this.d.config.maxAttempts;
     const nextAt = new Date(now.getTime() + (dead ? 0 : retryDelayMs(attempts, this.random))).toISOString();
     await this.d.store.recordAttempt(d.messageId, d.subscriber, { status: dead ? 'dead' : 'pending', attempts, nextAt, error });
-    this.log[dead ? 'warn' : 'debug']({ message: d.messageId, subscriber: d.subscriber, attempts, error }, dead ? 'delivery gave up; moved to dead letters' : 'delivery failed; will retry');
+    this.log[dead ? 'warn' : 'debug'](
+      { message: d.messageId, subscriber: d.subscriber, attempts, error },
+      dead ? 'delivery gave up; moved to dead letters' : 'delivery failed; will retry',
+    );
   }
 }

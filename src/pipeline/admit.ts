@@ -20,7 +20,7 @@ export function admitStage(ctx: PipelineContext): (a: Article) => Promise<Flow<A
     if (inFlightIds.has(a.id) || (await ctx.store.hasArticle(a.id))) return { done: outcomeOf(a, 'duplicate', 'already stored') };
     // The same article under another id (another guid, a tracking parameter): its canonical URL gives it away.
     const url = canonicalUrl(a.url);
-    const sameUrl = url ? inFlightUrls.get(url) ?? (await ctx.store.findByUrl(url)) : null;
+    const sameUrl = url ? (inFlightUrls.get(url) ?? (await ctx.store.findByUrl(url))) : null;
     if (sameUrl && sameUrl !== a.id) return { done: outcomeOf(a, 'duplicate', `already stored as ${sameUrl} (same URL)`) };
     const original = inFlightHashes.get(a.contentHash) ?? (await ctx.store.findByContentHash(a.contentHash));
     if (inFlightIds.size >= INFLIGHT_LIMIT) {

@@ -37,10 +37,21 @@ export class ConsolidationCadence {
  * splits those whose mentions drifted apart. Each merge and split is its own commit; when
  * `signal` aborts, the pass stops after the one in hand.
  */
-export async function consolidate(ctx: PipelineContext, ids: readonly string[], storyIds: readonly string[], signal?: AbortSignal): Promise<ConsolidationOutcome> {
+export async function consolidate(
+  ctx: PipelineContext,
+  ids: readonly string[],
+  storyIds: readonly string[],
+  signal?: AbortSignal,
+): Promise<ConsolidationOutcome> {
   const merges = await mergeEvents(ctx, ids, signal);
   const gone = new Set(merges.map((m) => m.from));
-  const splits = signal?.aborted ? [] : await splitEvents(ctx, ids.filter((id) => !gone.has(id)), signal);
+  const splits = signal?.aborted
+    ? []
+    : await splitEvents(
+        ctx,
+        ids.filter((id) => !gone.has(id)),
+        signal,
+      );
   const storyMerges = signal?.aborted ? [] : await mergeStoriesOf(ctx, storyIds, signal);
   return { merges, splits, storyMerges };
 }
@@ -52,7 +63,10 @@ async function mergeStoriesOf(ctx: PipelineContext, ids: readonly string[], sign
     if (signal?.aborted) break;
     const merged = ctx.stories.mergedState(m.into, m.from);
     await ctx.store.commitStoryMerge({
-      into: { record: storyRecord(merged), state: serialiseStory(merged) }, from: m.from, score: m.score, at: ctx.now().toISOString(),
+      into: { record: storyRecord(merged), state: serialiseStory(merged) },
+      from: m.from,
+      score: m.score,
+      at: ctx.now().toISOString(),
       messages: buildStoryMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
     });
     ctx.stories.applyMerge(merged, m.from);
@@ -73,7 +87,10 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
       unsplit.push(id);
       continue;
     }
-    const plan = ctx.linker.planSplit(id, linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })));
+    const plan = ctx.linker.planSplit(
+      id,
+      linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })),
+    );
     if (!plan) {
       unsplit.push(id);
       continue;
@@ -82,14 +99,21 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
     // The store relabels the event left behind when its label sentence moved (commitSplit);
     // the notification says the same: its earliest remaining sentence, as listed.
     const moved = new Set(plan.moved.map((m) => `${m.articleId}#${m.sentenceIndex}`));
-    const movedTexts = linked.filter((l) => moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`)).map((l) => l.mention.text).filter((t) => t !== '');
+    const movedTexts = linked
+      .filter((l) => moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`))
+      .map((l) => l.mention.text)
+      .filter((t) => t !== '');
     if (drawnFrom(plan.kept.label, movedTexts)) {
-      plan.kept.label = linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text ?? ERASED_LABEL;
+      plan.kept.label =
+        linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text ??
+        ERASED_LABEL;
     }
     await ctx.store.commitSplit({
       from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
       into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
-      moved: plan.moved, score: plan.score, at: ctx.now().toISOString(),
+      moved: plan.moved,
+      score: plan.score,
+      at: ctx.now().toISOString(),
       messages: buildSplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
     });
     ctx.linker.applySplit(plan);
@@ -111,7 +135,9 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?:
     const at = ctx.now().toISOString();
     await ctx.store.commitMerge({
       into: { record: toRecord(merged), outlets: outletRows(merged), state: serialiseEvent(merged) },
-      from: m.from, score: m.score, at,
+      from: m.from,
+      score: m.score,
+      at,
       messages: buildMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
     });
     ctx.linker.applyMerge(merged, m.from);

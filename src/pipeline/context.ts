@@ -93,5 +93,22 @@ export interface EmbeddedArticle extends DetectedArticle {
 
 /** An outcome with nothing stored yet (a rejection, a duplicate; a stored article's counts are filled in). */
 export function outcomeOf(a: Article, status: ArticleOutcome['status'], reason: string | null): ArticleOutcome {
-  return { articleId: a.id, outlet: a.outlet, status, reason, duplicateOf: a.duplicateOf, sentences: 0, mentions: 0, links: 0, opened: 0, outletsAdded: 0, assignments: [], merges: [], splits: [], story: null, storyOpened: false, storyMerges: [] };
+  return {
+    articleId: a.id,
+    outlet: a.outlet,
+    status,
+    reason,
+    duplicateOf: a.duplicateOf,
+    sentences: 0,
+    mentions: 0,
+    links: 0,
+    opened: 0,
+    outletsAdded: 0,
+    assignments: [],
+    merges: [],
+    splits: [],
+    story: null,
+    storyOpened: false,
+    storyMerges: [],
+  };
 }

@@ -35,7 +35,10 @@ export async function embedGroup(ctx: PipelineContext, group: readonly Flow<Dete
   const pending = prepared.filter((p): p is Extract<typeof p, { a: unknown }> => 'a' in p && !p.vectors);
   let batch: Vector[][] = [];
   try {
-    batch = await embedTogether(ctx.embedder, pending.map((p) => p.a.mentions));
+    batch = await embedTogether(
+      ctx.embedder,
+      pending.map((p) => p.a.mentions),
+    );
   } catch (err) {
     const reason = `embed: ${describeError(err)}`;
     ctx.logger.child({ stage: 'embed' }).error({ articles: group.length, err: reason }, 'embedding failed');
@@ -46,7 +49,14 @@ export async function embedGroup(ctx: PipelineContext, group: readonly Flow<Dete
     if (!('a' in p)) return p;
     const vectors = p.vectors ?? batch[next++]!;
     const { vectors: _carried, ...a } = p.a;
-    return { go: { ...a, idf: p.idf, embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })), storyInput: storyInput(a, p.docVector ?? meanVector(vectors)) } };
+    return {
+      go: {
+        ...a,
+        idf: p.idf,
+        embedded: a.mentions.map((m, i) => ({ ...m, vector: vectors[i]! })),
+        storyInput: storyInput(a, p.docVector ?? meanVector(vectors)),
+      },
+    };
   });
 }
 
@@ -54,7 +64,15 @@ export async function embedGroup(ctx: PipelineContext, group: readonly Flow<Dete
 function storyInput(a: DetectedArticle, vector: Vector | null): StoryArticle | null {
   if (!vector) return null;
   const names = a.sentences.flatMap((s) => [...s.participants, ...s.places]);
-  return { id: a.article.id, title: a.article.title, outlet: a.article.outlet, published: a.article.published ?? a.article.fetched, vector, names, isCopy: a.article.duplicateOf !== null };
+  return {
+    id: a.article.id,
+    title: a.article.title,
+    outlet: a.article.outlet,
+    published: a.article.published ?? a.article.fetched,
+    vector,
+    names,
+    isCopy: a.article.duplicateOf !== null,
+  };
 }
 
 /** The normalised mean of dense vectors (a whole article for a model without document vectors), or null. */

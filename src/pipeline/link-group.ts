@@ -20,10 +20,20 @@ import { ConsolidationCadence, applyStoredLabels, consolidate, outletRows } from
  * plan at once; if the commit fails, the linker and the embedder are reloaded from the
  * store, so memory never holds what the store does not.
  */
-export async function linkGroup(ctx: PipelineContext, flows: readonly Flow<EmbeddedArticle>[], cadence: ConsolidationCadence): Promise<ArticleOutcome[]> {
+export async function linkGroup(
+  ctx: PipelineContext,
+  flows: readonly Flow<EmbeddedArticle>[],
+  cadence: ConsolidationCadence,
+): Promise<ArticleOutcome[]> {
   const log = ctx.logger.child({ stage: 'link' });
   const outcomes: ArticleOutcome[] = new Array(flows.length);
-  let pending: { index: number; a: EmbeddedArticle; plan: LinkPlan; storyPlan: StoryPlan | null; commit: Omit<ArticleCommit, 'events' | 'messages' | 'story'> }[] = [];
+  let pending: {
+    index: number;
+    a: EmbeddedArticle;
+    plan: LinkPlan;
+    storyPlan: StoryPlan | null;
+    commit: Omit<ArticleCommit, 'events' | 'messages' | 'story'>;
+  }[] = [];
   const flush = async (): Promise<void> => {
     if (pending.length === 0) return;
     const batch = pending;
@@ -38,12 +48,23 @@ export async function linkGroup(ctx: PipelineContext, flows: readonly Flow<Embed
     });
     const subscribers = ctx.config.webhooks.subscribers;
     const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
-    await applyStoredLabels(ctx, batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)));
+    await applyStoredLabels(
+      ctx,
+      batch.flatMap((p) => p.plan.events).filter((e) => !openedHere.has(e.id)),
+    );
     const commits: ArticleCommit[] = batch.map((p, k) => ({
       ...p.commit,
-      events: p.plan.events.filter((e) => lastWriter.get(e.id) === k).map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
-      story: p.storyPlan && lastStoryWriter.get(p.storyPlan.story.id) === k ? { record: storyRecord(p.storyPlan.story), state: serialiseStory(p.storyPlan.story) } : null,
-      messages: [...buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()), ...(p.storyPlan ? buildStoryMessages(p.storyPlan, p.a.article, subscribers, ctx.now()) : [])],
+      events: p.plan.events
+        .filter((e) => lastWriter.get(e.id) === k)
+        .map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
+      story:
+        p.storyPlan && lastStoryWriter.get(p.storyPlan.story.id) === k
+          ? { record: storyRecord(p.storyPlan.story), state: serialiseStory(p.storyPlan.story) }
+          : null,
+      messages: [
+        ...buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()),
+        ...(p.storyPlan ? buildStoryMessages(p.storyPlan, p.a.article, subscribers, ctx.now()) : []),
+      ],
     }));
     let results: CommitResult[];
     try {
@@ -90,11 +111,20 @@ export async function linkGroup(ctx: PipelineContext, flows: readonly Flow<Embed
     const plan = ctx.linker.plan(a.embedded, storyPlan?.story.id ?? null, (id) => ctx.stories.resolve(id));
     ctx.linker.apply(plan);
     pending.push({
-      index: i, a, plan, storyPlan,
+      index: i,
+      a,
+      plan,
+      storyPlan,
       commit: {
         storyId: storyPlan?.story.id ?? null,
         article: a.article,
-        sentences: a.sentences.map((s, k) => ({ index: s.sentence.index, text: s.sentence.text, start: s.sentence.start, end: s.sentence.end, eventness: a.eventness[k]! })),
+        sentences: a.sentences.map((s, k) => ({
+          index: s.sentence.index,
+          text: s.sentence.text,
+          start: s.sentence.start,
+          end: s.sentence.end,
+          eventness: a.eventness[k]!,
+        })),
         mentions: a.embedded,
         links: plan.links,
         sketch: ctx.copies?.sketchOf(a.article.id) ?? null,
@@ -108,7 +138,10 @@ export async function linkGroup(ctx: PipelineContext, flows: readonly Flow<Embed
       if (outcomes[i]?.status !== 'stored') continue;
       try {
         const every = ctx.config.link.consolidateEvery;
-        outcomes[i] = { ...outcomes[i]!, ...await consolidate(ctx, await ctx.store.recentEventIds(every), await ctx.store.recentStoryIds(every)) };
+        outcomes[i] = {
+          ...outcomes[i]!,
+          ...(await consolidate(ctx, await ctx.store.recentEventIds(every), await ctx.store.recentStoryIds(every))),
+        };
       } catch (err) {
         // The articles are stored; a failed merge is retried at the next pass.
         log.error({ err: describeError(err) }, 'consolidation failed');

@@ -40,10 +40,12 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
     const admit = admitStage(ctx);
     const window = new Window((ctx.analysis ? ctx.analysis.threads * ANALYSIS_AHEAD : 0) + 2 * GROUP_MAX);
     return articles$.pipe(
-      concatMap((a) => defer(async () => {
-        await window.enter();
-        return admit(a);
-      })),
+      concatMap((a) =>
+        defer(async () => {
+          await window.enter();
+          return admit(a);
+        }),
+      ),
       ...analyseAndDetect(ctx),
       linkStages(ctx),
       tap(() => window.leave()),
@@ -52,7 +54,9 @@ export function runPipeline(articles$: Observable<Article>, ctx: PipelineContext
 }
 
 /** The analysis and detection stages (analysis on threads when the context has them). */
-function analyseAndDetect(ctx: PipelineContext): [OperatorFunction<Flow<Article>, Flow<AnalysedArticle>>, OperatorFunction<Flow<AnalysedArticle>, Flow<DetectedWork>>] {
+function analyseAndDetect(
+  ctx: PipelineContext,
+): [OperatorFunction<Flow<Article>, Flow<AnalysedArticle>>, OperatorFunction<Flow<AnalysedArticle>, Flow<DetectedWork>>] {
   return [
     // With analysis threads, articles are analysed ahead of the link stage (enough to keep
     // the threads busy while the main thread commits a group).
@@ -92,18 +96,24 @@ class Window {
  */
 export function linkStages(ctx: PipelineContext): OperatorFunction<Flow<DetectedWork>, ArticleOutcome> {
   const cadence = new ConsolidationCadence(ctx);
-  return (detected$) => detected$.pipe(
-    // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
-    // batch and one commit per group.
-    bufferTime(GROUP_MS, null, GROUP_MAX),
-    filter((group) => group.length > 0),
-    concatMap((group) => defer(() => embedGroup(ctx, group))),
-    concatMap((group) => defer(() => linkGroup(ctx, group, cadence)).pipe(concatMap((outcomes) => from(outcomes)))),
-  );
+  return (detected$) =>
+    detected$.pipe(
+      // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
+      // batch and one commit per group.
+      bufferTime(GROUP_MS, null, GROUP_MAX),
+      filter((group) => group.length > 0),
+      concatMap((group) => defer(() => embedGroup(ctx, group))),
+      concatMap((group) => defer(() => linkGroup(ctx, group, cadence)).pipe(concatMap((outcomes) => from(outcomes)))),
+    );
 }
 
 /** Wraps a stage function so that failures become a rejected outcome instead of ending the stream. */
-function stage<A extends AnalysedArticle | Article, B>(name: string, ctx: PipelineContext, fn: (a: A) => B | Promise<B>, concurrency = 1): OperatorFunction<Flow<A>, Flow<B>> {
+function stage<A extends AnalysedArticle | Article, B>(
+  name: string,
+  ctx: PipelineContext,
+  fn: (a: A) => B | Promise<B>,
+  concurrency = 1,
+): OperatorFunction<Flow<A>, Flow<B>> {
   const log = ctx.logger.child({ stage: name });
   const run = async (f: Flow<A>): Promise<Flow<B>> => {
     if (f.done) return f;

@@ -120,7 +120,8 @@ export class FeedPoller {
       const outlet = req.outlet ?? null;
       const interval = req.intervalSeconds ?? this.d.options.intervalSeconds;
       if (!have) await this.save(this.entry(req, 'config'));
-      else if (have.outlet !== outlet || have.intervalSeconds !== interval || have.origin !== 'config') await this.save({ ...have, outlet, intervalSeconds: interval, origin: 'config' });
+      else if (have.outlet !== outlet || have.intervalSeconds !== interval || have.origin !== 'config')
+        await this.save({ ...have, outlet, intervalSeconds: interval, origin: 'config' });
     }
     for (const f of [...this.feeds.values()]) {
       if (f.origin === 'config' && !listed.has(f.id)) {
@@ -135,14 +136,23 @@ export class FeedPoller {
     if (this.timer) return;
     this.timer = setInterval(() => {
       if (!this.refreshing && Date.now() - this.lastRefresh >= (this.d.refreshMs ?? REFRESH_MS)) {
-        this.refreshing = this.refresh().catch((err: unknown) => {
-          this.log.error({ err: describeError(err) }, 'reading the feeds back failed');
-        }).finally(() => { this.refreshing = null; });
+        this.refreshing = this.refresh()
+          .catch((err: unknown) => {
+            this.log.error({ err: describeError(err) }, 'reading the feeds back failed');
+          })
+          .finally(() => {
+            this.refreshing = null;
+          });
       }
-      if (!this.round && (this.d.polls?.() ?? true)) this.round = this.pollDue().catch((err: unknown) => {
-        this.log.error({ err: describeError(err) }, 'polling round failed');
-        return emptyRound();
-      }).finally(() => { this.round = null; });
+      if (!this.round && (this.d.polls?.() ?? true))
+        this.round = this.pollDue()
+          .catch((err: unknown) => {
+            this.log.error({ err: describeError(err) }, 'polling round failed');
+            return emptyRound();
+          })
+          .finally(() => {
+            this.round = null;
+          });
     }, TICK_MS);
     this.timer.unref();
   }
@@ -189,20 +199,25 @@ export class FeedPoller {
     } catch (err) {
       throw new StrandError('STRAND_REQUEST_INVALID', `feed URL ${JSON.stringify(req.url.slice(0, 200))} is not a URL`, { cause: err });
     }
-    if (!/^https?:$/.test(url.protocol)) throw new StrandError('STRAND_REQUEST_INVALID', `feed URL must be http or https, not ${url.protocol}`);
+    if (!/^https?:$/.test(url.protocol))
+      throw new StrandError('STRAND_REQUEST_INVALID', `feed URL must be http or https, not ${url.protocol}`);
     this.guard.checkUrl(url);
     // Another process may have added it, or others, since the last read.
     await this.refresh();
     const id = feedId(url.href);
     if (this.feeds.has(id)) throw new StrandError('STRAND_FEED_CONFLICT', `feed ${url.href} is already polled (${id})`);
-    if (this.feeds.size >= this.d.options.maxFeeds) throw new StrandError('STRAND_FEED_CONFLICT', `already polling poll.maxFeeds (${this.d.options.maxFeeds}) feeds`);
+    if (this.feeds.size >= this.d.options.maxFeeds)
+      throw new StrandError('STRAND_FEED_CONFLICT', `already polling poll.maxFeeds (${this.d.options.maxFeeds}) feeds`);
     const entry = this.entry({ ...req, url: url.href }, 'api');
     await this.save(entry);
     return entry;
   }
 
   /** Pauses or resumes a feed, or changes its interval or outlet. */
-  async update(id: string, change: { paused?: boolean | undefined; intervalSeconds?: number | undefined; outlet?: string | null | undefined }): Promise<FeedEntry> {
+  async update(
+    id: string,
+    change: { paused?: boolean | undefined; intervalSeconds?: number | undefined; outlet?: string | null | undefined },
+  ): Promise<FeedEntry> {
     // Applied to the feed as stored, atomically: the polling process may be saving a poll of it.
     const next = await this.d.store.updateFeed(id, (f) => {
       const n: FeedEntry = { ...f, state: { ...f.state } };
@@ -290,7 +305,9 @@ export class FeedPoller {
           this.succeeded(s, started, intervalMs);
           // The poll succeeded; what went wrong with single items is still worth showing.
           const notes = [
-            itemProblems.length ? `${itemProblems.length} item(s) skipped; first: ${itemProblems[0]!.code}: ${itemProblems[0]!.message}` : '',
+            itemProblems.length
+              ? `${itemProblems.length} item(s) skipped; first: ${itemProblems[0]!.code}: ${itemProblems[0]!.message}`
+              : '',
             full.failed ? `full text not fetched for ${full.failed} item(s); their summaries were kept` : '',
           ].filter(Boolean);
           if (notes.length) s.lastError = notes.join('; ');
@@ -300,7 +317,10 @@ export class FeedPoller {
         // a readable Retry-After, back off as on any error.
         const asked = retryAfterMs(res.retryAfter, started);
         summary.throttled++;
-        fail(`HTTP ${res.status}${asked !== null ? ` (Retry-After ${Math.round(asked / 1000)} s)` : ''}`, asked !== null ? Math.min(Math.max(asked, intervalMs), MAX_RETRY_AFTER_MS) : backoff());
+        fail(
+          `HTTP ${res.status}${asked !== null ? ` (Retry-After ${Math.round(asked / 1000)} s)` : ''}`,
+          asked !== null ? Math.min(Math.max(asked, intervalMs), MAX_RETRY_AFTER_MS) : backoff(),
+        );
       } else {
         fail(`HTTP ${res.status}`, backoff());
       }
@@ -312,7 +332,8 @@ export class FeedPoller {
     const saved = await this.d.store.updateFeed(f.id, (current) => ({ ...current, state: s }));
     if (saved) this.feeds.set(f.id, saved);
     else this.feeds.delete(f.id);
-    if (s.lastError && s.failures > 0) this.log.warn({ feed: f.url, failures: s.failures, error: s.lastError, next: s.nextPollAt }, 'feed poll failed');
+    if (s.lastError && s.failures > 0)
+      this.log.warn({ feed: f.url, failures: s.failures, error: s.lastError, next: s.nextPollAt }, 'feed poll failed');
   }
 
   /** Replaces summaries by the article bodies of their linked pages; a page that fails leaves its summary. */
@@ -326,7 +347,9 @@ export class FeedPoller {
       }
       try {
         const text = await fetchFullText(a.url, this.d.limits, this.agent);
-        out.push(text.length > a.text.length && text.length <= this.d.limits.maxArticleChars ? { ...a, text, contentHash: contentHash(text) } : a);
+        out.push(
+          text.length > a.text.length && text.length <= this.d.limits.maxArticleChars ? { ...a, text, contentHash: contentHash(text) } : a,
+        );
       } catch (err) {
         failed++;
         this.log.debug({ article: a.id, err: describeError(err) }, 'full text not fetched; the summary is kept');
@@ -363,11 +386,28 @@ export class FeedPoller {
   private entry(req: FeedRequest, origin: FeedEntry['origin']): FeedEntry {
     const now = this.now().toISOString();
     return {
-      id: feedId(req.url), url: req.url, outlet: req.outlet ?? null, intervalSeconds: req.intervalSeconds ?? this.d.options.intervalSeconds,
-      paused: false, origin, added: now,
+      id: feedId(req.url),
+      url: req.url,
+      outlet: req.outlet ?? null,
+      intervalSeconds: req.intervalSeconds ?? this.d.options.intervalSeconds,
+      paused: false,
+      origin,
+      added: now,
       state: {
-        etag: null, lastModified: null, nextPollAt: now, lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null,
-        failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [],
+        etag: null,
+        lastModified: null,
+        nextPollAt: now,
+        lastPollAt: null,
+        lastSuccessAt: null,
+        lastStatus: null,
+        lastError: null,
+        failures: 0,
+        requests: 0,
+        notModified: 0,
+        bytes: 0,
+        itemsSeen: 0,
+        itemsNew: 0,
+        delaysMs: [],
       },
     };
   }

@@ -13,7 +13,16 @@ export async function openStore(c: Config['store'], logger?: Logger, o: { failFa
   if (c.kind === 'sqlite') return openSqliteStore(c.path, { logger: logger?.child({ stage: 'store' }) });
   const log = logger?.child({ stage: 'store' });
   return openRedisStore({
-    url: c.redis.url, cluster: c.redis.cluster, partition: c.redis.partition, failFast: o.failFast ?? false,
-    onError: (err) => log?.warn({ err: err.message }, o.failFast ? 'Redis connection error; the API answers 503 until it is back' : 'Redis connection error; commands wait for it to return'),
+    url: c.redis.url,
+    cluster: c.redis.cluster,
+    partition: c.redis.partition,
+    failFast: o.failFast ?? false,
+    onError: (err) =>
+      log?.warn(
+        { err: err.message },
+        o.failFast
+          ? 'Redis connection error; the API answers 503 until it is back'
+          : 'Redis connection error; commands wait for it to return',
+      ),
   });
 }

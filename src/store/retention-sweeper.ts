@@ -61,7 +61,9 @@ export class RetentionSweeper {
 
   /** One sweep; never rejects (a failure is logged and the next sweep tries again). */
   sweep(): Promise<SweepResult> {
-    this.running ??= this.sweepOnce().finally(() => { this.running = undefined; });
+    this.running ??= this.sweepOnce().finally(() => {
+      this.running = undefined;
+    });
     return this.running;
   }
 
@@ -77,7 +79,10 @@ export class RetentionSweeper {
         if (this.uncompacted > 0 && now.getTime() - this.lastCompact >= (this.d.compactEveryMs ?? 24 * HOUR_MS)) {
           const t0 = Date.now();
           await this.d.store.compact();
-          this.d.logger.info({ articles: this.uncompacted, ms: Date.now() - t0 }, 'retention: store compacted, erased text is off the disk');
+          this.d.logger.info(
+            { articles: this.uncompacted, ms: Date.now() - t0 },
+            'retention: store compacted, erased text is off the disk',
+          );
           this.lastCompact = now.getTime();
           this.uncompacted = 0;
           result.compacted = true;
@@ -88,7 +93,9 @@ export class RetentionSweeper {
     }
     if (this.d.notificationDays !== null) {
       try {
-        result.pruned = await this.d.store.pruneNotifications(new Date(now.getTime() - this.d.notificationDays * 24 * HOUR_MS).toISOString());
+        result.pruned = await this.d.store.pruneNotifications(
+          new Date(now.getTime() - this.d.notificationDays * 24 * HOUR_MS).toISOString(),
+        );
         if (result.pruned > 0) this.d.logger.info({ notifications: result.pruned }, 'retention: deleted settled notifications');
       } catch (err) {
         this.d.logger.error({ err: (err as Error).message }, 'retention: pruning notifications failed; the next sweep tries again');

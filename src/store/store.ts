@@ -410,7 +410,11 @@ export interface Store {
   /** Pending deliveries due at or before `now`, oldest first, leaving out those to the subscribers in `skip`. */
   dueDeliveries(now: string, limit: number, skip?: readonly string[]): Promise<Delivery[]>;
   /** Records the outcome of one delivery attempt. */
-  recordAttempt(messageId: string, subscriber: string, outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void>;
+  recordAttempt(
+    messageId: string,
+    subscriber: string,
+    outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
+  ): Promise<void>;
   /** Deliveries that gave up. */
   deadLetters(limit: number): Promise<Delivery[]>;
   /**

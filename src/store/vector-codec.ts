@@ -19,8 +19,15 @@ export function encodeVector(v: Vector): Buffer {
   b.writeUInt8(v.kind === 'sparse' ? SPARSE : DENSE, 0);
   b.writeUInt32LE(n, 1);
   let at = 5;
-  if (v.kind === 'sparse') for (const f of v.indices) { b.writeUInt32LE(f, at); at += 4; }
-  for (const x of v.values) { b.writeFloatLE(x, at); at += 4; }
+  if (v.kind === 'sparse')
+    for (const f of v.indices) {
+      b.writeUInt32LE(f, at);
+      at += 4;
+    }
+  for (const x of v.values) {
+    b.writeFloatLE(x, at);
+    at += 4;
+  }
   return b;
 }
 
@@ -30,7 +37,8 @@ export function decodeVector(bytes: Uint8Array): Vector {
   const kind = b.length >= 5 ? b.readUInt8(0) : 0;
   const n = b.length >= 5 ? b.readUInt32LE(1) : -1;
   const expected = kind === SPARSE ? 5 + n * 8 : kind === DENSE ? 5 + n * 4 : -1;
-  if (expected !== b.length) throw new StrandError('STRAND_STORE_FAILED', `stored mention vector is damaged (${b.length} bytes, kind ${kind})`);
+  if (expected !== b.length)
+    throw new StrandError('STRAND_STORE_FAILED', `stored mention vector is damaged (${b.length} bytes, kind ${kind})`);
   // One copy into fresh (aligned) memory, then typed views: the bytes are little-endian,
   // as are the platforms Node runs on here (checked once below).
   const body = new Uint8Array(b.length - 5);
@@ -60,12 +68,21 @@ function decodeSlowly(b: Buffer, kind: number, n: number): Vector {
   let at = 5;
   if (kind === DENSE) {
     const values = new Float32Array(n);
-    for (let i = 0; i < n; i++) { values[i] = b.readFloatLE(at); at += 4; }
+    for (let i = 0; i < n; i++) {
+      values[i] = b.readFloatLE(at);
+      at += 4;
+    }
     return { kind: 'dense', values };
   }
   const indices = new Uint32Array(n);
   const values = new Float32Array(n);
-  for (let i = 0; i < n; i++) { indices[i] = b.readUInt32LE(at); at += 4; }
-  for (let i = 0; i < n; i++) { values[i] = b.readFloatLE(at); at += 4; }
+  for (let i = 0; i < n; i++) {
+    indices[i] = b.readUInt32LE(at);
+    at += 4;
+  }
+  for (let i = 0; i < n; i++) {
+    values[i] = b.readFloatLE(at);
+    at += 4;
+  }
   return { kind: 'sparse', indices, values };
 }

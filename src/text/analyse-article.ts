@@ -44,24 +44,34 @@ const FINAL_ABBREVIATIONS = new Set(['a.m.', 'p.m.', 'etc.', 'ltd.', 'inc.', 'co
 /** Splits and analyses an article. */
 export function analyseArticle(nlp: Nlp, article: Article): AnalysedArticle {
   const reference = article.published ?? article.fetched;
-  const read = article.presplit ? presplitParts(nlp, article.presplit) : paragraphs(article.text).map((p) => {
-    const tokens = readTokens(nlp, p.text);
-    return { ...p, tokens, spans: sentenceSpans(tokens) };
-  });
+  const read = article.presplit
+    ? presplitParts(nlp, article.presplit)
+    : paragraphs(article.text).map((p) => {
+        const tokens = readTokens(nlp, p.text);
+        return { ...p, tokens, spans: sentenceSpans(tokens) };
+      });
   // The tagger takes any capitalised first word for a name ("Police said", "Engineers
   // warned"); such a word counts as a name only if the article also capitalises it mid-sentence.
   const names = new Set<string>();
   for (const { tokens, spans } of read) {
-    for (const [s, e] of spans) for (let i = s + 1; i <= e; i++) if (tokens.pos[i] === 'PROPN' && isCapitalised(tokens.value[i]!)) names.add(tokens.value[i]!);
+    for (const [s, e] of spans)
+      for (let i = s + 1; i <= e; i++) if (tokens.pos[i] === 'PROPN' && isCapitalised(tokens.value[i]!)) names.add(tokens.value[i]!);
   }
   const sentences: SentenceAnalysis[] = [];
   for (const { text: para, offset, tokens, spans } of read) {
     // A pre-split sentence with no words still holds its index, so gold indices line up.
-    if (spans.length === 0 && article.presplit) sentences.push(emptyAnalysis({ articleId: article.id, index: sentences.length, text: '', start: offset, end: offset }));
+    if (spans.length === 0 && article.presplit)
+      sentences.push(emptyAnalysis({ articleId: article.id, index: sentences.length, text: '', start: offset, end: offset }));
     for (const [s, e] of spans) {
       const start = tokens.start[s]!;
       const end = tokens.end[e]!;
-      const sentence: Sentence = { articleId: article.id, index: sentences.length, text: para.slice(start, end), start: offset + start, end: offset + end };
+      const sentence: Sentence = {
+        articleId: article.id,
+        index: sentences.length,
+        text: para.slice(start, end),
+        start: offset + start,
+        end: offset + end,
+      };
       sentences.push(analyseSentence(sentence, tokens, s, e, reference, names));
     }
   }
@@ -191,7 +201,14 @@ function onlyPunctuation(tokens: Tokens, s: number, e: number): boolean {
   return true;
 }
 
-function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, reference: string, names: ReadonlySet<string>): SentenceAnalysis {
+function analyseSentence(
+  sentence: Sentence,
+  t: Tokens,
+  s: number,
+  e: number,
+  reference: string,
+  names: ReadonlySet<string>,
+): SentenceAnalysis {
   const terms: string[] = [];
   const participants: string[] = [];
   const places: string[] = [];
@@ -214,7 +231,10 @@ function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, re
 
     if (pos === 'PROPN' && isCapitalised(t.value[i]!) && !CALENDAR_WORDS.has(lower)) {
       let j = i;
-      while (j < e && (continuesName(t, j + 1) || (CONNECTORS.has(t.value[j + 1]!.toLowerCase()) && j + 1 < e && continuesName(t, j + 2)))) {
+      while (
+        j < e &&
+        (continuesName(t, j + 1) || (CONNECTORS.has(t.value[j + 1]!.toLowerCase()) && j + 1 < e && continuesName(t, j + 2)))
+      ) {
         j += CONNECTORS.has(t.value[j + 1]!.toLowerCase()) ? 2 : 1;
       }
       const phrase = text.slice(t.start[i]! - base, t.end[j]! - base);
@@ -250,8 +270,21 @@ function analyseSentence(sentence: Sentence, t: Tokens, s: number, e: number, re
 
 function emptyAnalysis(sentence: Sentence): SentenceAnalysis {
   return {
-    sentence, terms: [], participants: [], places: [], times: [],
-    cues: { pastVerbs: 0, eventWords: 0, modalOrFuture: 0, opinionWords: 0, isQuestion: false, quoteShare: 0, distantPast: false, tokens: 0 },
+    sentence,
+    terms: [],
+    participants: [],
+    places: [],
+    times: [],
+    cues: {
+      pastVerbs: 0,
+      eventWords: 0,
+      modalOrFuture: 0,
+      opinionWords: 0,
+      isQuestion: false,
+      quoteShare: 0,
+      distantPast: false,
+      tokens: 0,
+    },
   };
 }
 

@@ -37,7 +37,11 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
   // Tasks go straight to a thread's message port, which keeps them in order; piscina's own
   // queue (used past this many per thread) does not, and the pipeline needs input order.
   const pool = new Piscina<Article | null, AnalysedArticle | null>({
-    ...workerFile(), minThreads: threads, maxThreads: threads, idleTimeout: Infinity, concurrentTasksPerWorker: ANALYSIS_AHEAD,
+    ...workerFile(),
+    minThreads: threads,
+    maxThreads: threads,
+    idleTimeout: Infinity,
+    concurrentTasksPerWorker: ANALYSIS_AHEAD,
   });
   try {
     await Promise.all(Array.from({ length: threads }, () => pool.run(null)));
@@ -51,7 +55,9 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
       try {
         return (await pool.run(article)) as AnalysedArticle;
       } catch (err) {
-        throw new StrandError('STRAND_ANALYSIS_FAILED', `analysis thread failed on article ${article.id}: ${(err as Error).message}`, { cause: err });
+        throw new StrandError('STRAND_ANALYSIS_FAILED', `analysis thread failed on article ${article.id}: ${(err as Error).message}`, {
+          cause: err,
+        });
       }
     },
     close: () => pool.close({ force: true }),

@@ -6,7 +6,8 @@
  */
 
 /** Lemmas that usually denote a happening. */
-export const EVENT_WORDS = new Set(`
+export const EVENT_WORDS = new Set(
+  `
 abandon accept accident acquire acquit adjourn admit adopt agree agreement aid air alight announce appeal appear appoint approve
 arrest arrive arson assault attack attempt auction award ban bankrupt beat bid block blast blaze bomb break breach bribe
 burn burst buy call campaign cancel capture carry catch ceasefire charge clash close collapse collide collision conclude confirm
@@ -19,23 +20,90 @@ order oust overturn pass pay plead pledge present protest publish pull punish qu
 remand remove reopen replace report rescue resign resignation resume retire return reveal riot rise rob rule ruling sack search
 seize sell sentence set shoot shut sign sink smash spill split stab start stop storm strike sue suspend suspension table take talk
 test testify threaten topple trial vote walk walkout warn warning win withdraw wound
-`.trim().split(/\s+/));
+`
+    .trim()
+    .split(/\s+/),
+);
 
 /** Modal and future markers: the sentence speaks of what may or will happen. */
 export const MODAL_WORDS = new Set(['will', 'would', 'could', 'should', 'must', 'may', 'might', 'shall', "'ll", 'wo']);
 
 /** Phrases that mark a scheduled or expected happening, not a reported one. */
-export const FUTURE_PHRASES = /\b(?:is|are|was|were) (?:expected|due|scheduled|set|likely|going) to\b|\bplans? to\b|\bnext (?:week|month|year|spring|summer|autumn|winter)\b|\bwill\b/i;
+export const FUTURE_PHRASES =
+  /\b(?:is|are|was|were) (?:expected|due|scheduled|set|likely|going) to\b|\bplans? to\b|\bnext (?:week|month|year|spring|summer|autumn|winter)\b|\bwill\b/i;
 
 /** Markers of opinion and argument. */
-export const OPINION_WORDS = new Set(['believe', 'think', 'opinion', 'ought', 'mistake', 'arguably', 'surely', 'perhaps', 'hopefully', 'frankly', 'clearly', 'seem', 'must', 'should']);
+export const OPINION_WORDS = new Set([
+  'believe',
+  'think',
+  'opinion',
+  'ought',
+  'mistake',
+  'arguably',
+  'surely',
+  'perhaps',
+  'hopefully',
+  'frankly',
+  'clearly',
+  'seem',
+  'must',
+  'should',
+]);
 
 /** Prepositions after which a proper-noun phrase is usually a place. */
-export const LOCATIVE = new Set(['in', 'at', 'near', 'outside', 'across', 'into', 'from', 'towards', 'toward', 'beside', 'around', 'through', 'over', 'below', 'above', 'upstream', 'downstream']);
+export const LOCATIVE = new Set([
+  'in',
+  'at',
+  'near',
+  'outside',
+  'across',
+  'into',
+  'from',
+  'towards',
+  'toward',
+  'beside',
+  'around',
+  'through',
+  'over',
+  'below',
+  'above',
+  'upstream',
+  'downstream',
+]);
 
 /** Proper nouns that are dates, not participants. */
 export const CALENDAR_WORDS = new Set([
-  'monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday',
-  'january', 'february', 'march', 'april', 'may', 'june', 'july', 'august', 'september', 'october', 'november', 'december',
-  'jan.', 'feb.', 'mar.', 'apr.', 'jun.', 'jul.', 'aug.', 'sep.', 'sept.', 'oct.', 'nov.', 'dec.', 'christmas', 'easter',
+  'monday',
+  'tuesday',
+  'wednesday',
+  'thursday',
+  'friday',
+  'saturday',
+  'sunday',
+  'january',
+  'february',
+  'march',
+  'april',
+  'may',
+  'june',
+  'july',
+  'august',
+  'september',
+  'october',
+  'november',
+  'december',
+  'jan.',
+  'feb.',
+  'mar.',
+  'apr.',
+  'jun.',
+  'jul.',
+  'aug.',
+  'sep.',
+  'sept.',
+  'oct.',
+  'nov.',
+  'dec.',
+  'christmas',
+  'easter',
 ]);

@@ -21,7 +21,8 @@ const YEAR_ALONE = /\b(?:in|since|by|until|from|during|of) ((?:1[89]|20)\d\d)\b(
  * a weekday, a month, or a relative word. Most sentences have none, and skipping the parser
  * for them saves most of its cost.
  */
-const TIME_HINT = /\d|day\b|night|morning|afternoon|evening|noon|week|month|year|ago\b|earlier|later|\blast\b|\bnext\b|tomorrow|tonight|\b(?:jan|feb|mar|apr|may|jun|jul|aug|sep|oct|nov|dec)[a-z]*\b|spring|summer|autumn|winter|christmas|easter/i;
+const TIME_HINT =
+  /\d|day\b|night|morning|afternoon|evening|noon|week|month|year|ago\b|earlier|later|\blast\b|\bnext\b|tomorrow|tonight|\b(?:jan|feb|mar|apr|may|jun|jul|aug|sep|oct|nov|dec)[a-z]*\b|spring|summer|autumn|winter|christmas|easter/i;
 
 /** Resolves the time expressions of `text`, published on `published` (RFC 3339). */
 export function resolveTimes(text: string, published: string, future: boolean): TimeExpression[] {

@@ -20,8 +20,12 @@ export function registerWebPage(app: FastifyInstance): void {
         .type(type)
         .header('cache-control', 'no-cache')
         // The page loads nothing from elsewhere and never evaluates fetched text as code.
-        .header('content-security-policy', "default-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; connect-src 'self'; frame-ancestors 'none'")
+        .header(
+          'content-security-policy',
+          "default-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; connect-src 'self'; frame-ancestors 'none'",
+        )
         .header('x-content-type-options', 'nosniff')
-        .send(body));
+        .send(body),
+    );
   }
 }

@@ -7,21 +7,54 @@ import { isStrandError } from '../../src/errors.js';
 import { describeStoreContract } from './store-contract.js';
 
 describeStoreContract('SQLite store in memory', async () => openSqliteStore(':memory:'));
-describeStoreContract('SQLite store on disk', async () => openSqliteStore(join(mkdtempSync(join(tmpdir(), 'strandline-store-')), 'db', 'store.sqlite')));
+describeStoreContract('SQLite store on disk', async () =>
+  openSqliteStore(join(mkdtempSync(join(tmpdir(), 'strandline-store-')), 'db', 'store.sqlite')),
+);
 
 describe('document frequencies in the SQLite store', () => {
   it('folds per-article rows into a snapshot without changing the sums', async () => {
     const store = openSqliteStore(':memory:', { idfSnapshotEvery: 2 });
     for (let i = 0; i < 5; i++) {
       await store.commitArticle({
-        article: { id: `a${i}`, outlet: 'O', url: null, title: 't', published: null, fetched: '2026-10-01T00:00:00.000Z', language: null, text: 'x', contentHash: `h${i}`, duplicateOf: null, source: 's' },
-        sentences: [], mentions: [], links: [], events: [], messages: [],
-        idf: { docs: 3, df: new Map([[1, 1], [i + 10, 2]]) },
+        article: {
+          id: `a${i}`,
+          outlet: 'O',
+          url: null,
+          title: 't',
+          published: null,
+          fetched: '2026-10-01T00:00:00.000Z',
+          language: null,
+          text: 'x',
+          contentHash: `h${i}`,
+          duplicateOf: null,
+          source: 's',
+        },
+        sentences: [],
+        mentions: [],
+        links: [],
+        events: [],
+        messages: [],
+        idf: {
+          docs: 3,
+          df: new Map([
+            [1, 1],
+            [i + 10, 2],
+          ]),
+        },
       });
     }
     const { idf } = await store.loadLinkerState();
     expect(idf.docs).toBe(15);
-    expect(new Map(idf.df)).toEqual(new Map([[1, 5], [10, 2], [11, 2], [12, 2], [13, 2], [14, 2]]));
+    expect(new Map(idf.df)).toEqual(
+      new Map([
+        [1, 5],
+        [10, 2],
+        [11, 2],
+        [12, 2],
+        [13, 2],
+        [14, 2],
+      ]),
+    );
     await store.close();
   });
 });

@@ -4,7 +4,15 @@
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
-import { addMention, deserialiseEvent, mergeStates, openEvent, serialiseEvent, toRecord, type EventState } from '../../src/link/event-state.js';
+import {
+  addMention,
+  deserialiseEvent,
+  mergeStates,
+  openEvent,
+  serialiseEvent,
+  toRecord,
+  type EventState,
+} from '../../src/link/event-state.js';
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
 import type { ArticleCommit, OutboxMessage, Store } from '../../src/store/store.js';
@@ -12,31 +20,104 @@ import type { ArticleCommit, OutboxMessage, Store } from '../../src/store/store.
 const embedder = new TfidfEmbedder(16);
 
 function article(id: string, outlet: string, published: string, text: string, hash = `hash-${id}`): Article {
-  return { id, outlet, url: `https://${outlet.toLowerCase().replace(/\W+/g, '')}.example/${id}`, title: `Title ${id}`, published, fetched: published, language: 'en', text, contentHash: hash, duplicateOf: null, source: 'test' };
+  return {
+    id,
+    outlet,
+    url: `https://${outlet.toLowerCase().replace(/\W+/g, '')}.example/${id}`,
+    title: `Title ${id}`,
+    published,
+    fetched: published,
+    language: 'en',
+    text,
+    contentHash: hash,
+    duplicateOf: null,
+    source: 'test',
+  };
 }
 
 function mention(a: Article, index: number, text: string, isCopy = false): EmbeddedMention {
   const terms = text.toLowerCase().split(/\W+/).filter(Boolean);
-  return { articleId: a.id, sentenceIndex: index, text, outlet: a.outlet, published: a.published!, eventness: 0.8, participants: ['Vellmouth Port Authority'], places: ['Korrin Bay'], times: [], terms, isCopy, vector: embedder.vector(terms) };
+  return {
+    articleId: a.id,
+    sentenceIndex: index,
+    text,
+    outlet: a.outlet,
+    published: a.published!,
+    eventness: 0.8,
+    participants: ['Vellmouth Port Authority'],
+    places: ['Korrin Bay'],
+    times: [],
+    terms,
+    isCopy,
+    vector: embedder.vector(terms),
+  };
 }
 
 /** A commit of one article whose single sentence opens or joins `event` (filed under `story` when given, which it joins). */
-function commitFor(a: Article, text: string, event: EventState | null, opts: { isCopy?: boolean; messages?: ArticleCommit['messages']; story?: StoryState } = {}): { commit: ArticleCommit; event: EventState } {
+function commitFor(
+  a: Article,
+  text: string,
+  event: EventState | null,
+  opts: { isCopy?: boolean; messages?: ArticleCommit['messages']; story?: StoryState } = {},
+): { commit: ArticleCommit; event: EventState } {
   const m = mention(a, 0, text, opts.isCopy);
   const e = event ?? openEvent(`ev_${a.id}`, m);
   if (!event && opts.story) e.story = opts.story.id;
-  if (opts.story) addArticle(opts.story, { id: a.id, title: a.title, outlet: a.outlet, published: a.published!, vector: m.vector, names: [...m.participants, ...m.places], isCopy: Boolean(opts.isCopy) }, 300);
+  if (opts.story)
+    addArticle(
+      opts.story,
+      {
+        id: a.id,
+        title: a.title,
+        outlet: a.outlet,
+        published: a.published!,
+        vector: m.vector,
+        names: [...m.participants, ...m.places],
+        isCopy: Boolean(opts.isCopy),
+      },
+      300,
+    );
   addMention(e, m, 1, 300);
-  const link: Link = { articleId: a.id, sentenceIndex: 0, eventId: e.id, score: event ? 0.42 : 0.8, rank: 0, evidence: { similarity: event ? 0.4 : 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: ['Korrin Bay'], overlapBonus: 0.02, opened: !event } };
+  const link: Link = {
+    articleId: a.id,
+    sentenceIndex: 0,
+    eventId: e.id,
+    score: event ? 0.42 : 0.8,
+    rank: 0,
+    evidence: {
+      similarity: event ? 0.4 : 1,
+      timeDecay: 1,
+      timeGapDays: 0,
+      sharedParticipants: [],
+      sharedPlaces: ['Korrin Bay'],
+      overlapBonus: 0.02,
+      opened: !event,
+    },
+  };
   return {
     event: e,
     commit: {
       article: a,
-      sentences: [{ index: 0, text, start: 0, end: text.length, eventness: 0.8 }, { index: 1, text: 'Background only.', start: text.length + 1, end: text.length + 17, eventness: 0.1 }],
+      sentences: [
+        { index: 0, text, start: 0, end: text.length, eventness: 0.8 },
+        { index: 1, text: 'Background only.', start: text.length + 1, end: text.length + 17, eventness: 0.1 },
+      ],
       mentions: [m],
       links: [link],
-      events: [{ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) }],
-      idf: { docs: 2, df: new Map([[7, 1], [9, 2]]) },
+      events: [
+        {
+          record: toRecord(e),
+          outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
+          state: serialiseEvent(e),
+        },
+      ],
+      idf: {
+        docs: 2,
+        df: new Map([
+          [7, 1],
+          [9, 2],
+        ]),
+      },
       messages: opts.messages ?? [],
       ...(opts.story ? { storyId: opts.story.id, story: { record: storyRecord(opts.story), state: serialiseStory(opts.story) } } : {}),
     },
@@ -44,19 +125,33 @@ function commitFor(a: Article, text: string, event: EventState | null, opts: { i
 }
 
 /** Three articles linked into one event that drifted: a fire at a pier, then a strike there (for splits). */
-async function fireThenStrike(store: Store): Promise<{ first: ReturnType<typeof commitFor>; second: ReturnType<typeof commitFor>; third: ReturnType<typeof commitFor> }> {
+async function fireThenStrike(
+  store: Store,
+): Promise<{ first: ReturnType<typeof commitFor>; second: ReturnType<typeof commitFor>; third: ReturnType<typeof commitFor> }> {
   const first = commitFor(article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x'), 'A fire destroyed a warehouse.', null);
   await store.commitArticle(first.commit);
-  const second = commitFor(article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y'), 'Dockworkers voted to strike.', deserialiseEvent(serialiseEvent(first.event)));
+  const second = commitFor(
+    article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y'),
+    'Dockworkers voted to strike.',
+    deserialiseEvent(serialiseEvent(first.event)),
+  );
   await store.commitArticle(second.commit);
-  const third = commitFor(article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z'), 'The strike closed the pier.', deserialiseEvent(serialiseEvent(second.event)));
+  const third = commitFor(
+    article('a3', 'EBS News', '2026-10-09T08:00:00.000Z', 'z'),
+    'The strike closed the pier.',
+    deserialiseEvent(serialiseEvent(second.event)),
+  );
   await store.commitArticle(third.commit);
   return { first, second, third };
 }
 
 /** A commit of one article opening one event (for store-specific tests). */
 export function commitFixture(id: string): ArticleCommit {
-  return commitFor(article(id, 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'A fire destroyed a warehouse.'), 'A fire destroyed a warehouse.', null).commit;
+  return commitFor(
+    article(id, 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'A fire destroyed a warehouse.'),
+    'A fire destroyed a warehouse.',
+    null,
+  ).commit;
 }
 
 /** Registers the contract tests for one Store implementation. */
@@ -79,7 +174,10 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.counts()).toEqual({ articles: 1, sentences: 2, mentions: 1, links: 1, events: 1, stories: 0 });
       const detail = await store.getArticle('a1');
       expect(detail!.article.text).toBe(a.text);
-      expect(detail!.sentences.map((s) => [s.index, s.isMention, s.links.map((l) => l.eventId)])).toEqual([[0, true, [event.id]], [1, false, []]]);
+      expect(detail!.sentences.map((s) => [s.index, s.isMention, s.links.map((l) => l.eventId)])).toEqual([
+        [0, true, [event.id]],
+        [1, false, []],
+      ]);
       expect(detail!.sentences[0]!.links[0]!.evidence.opened).toBe(true);
     });
 
@@ -95,7 +193,9 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     it('commits several articles in one transaction, each once', async () => {
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const a2 = article('a2', 'O', '2026-10-05T11:00:00.000Z', 'y');
-      expect(await store.commitArticles([commitFor(a1, 'The levee failed.', null).commit, commitFor(a2, 'A bridge fell.', null).commit])).toEqual(['stored', 'stored']);
+      expect(
+        await store.commitArticles([commitFor(a1, 'The levee failed.', null).commit, commitFor(a2, 'A bridge fell.', null).commit]),
+      ).toEqual(['stored', 'stored']);
       expect(await store.commitArticles([commitFor(a2, 'A bridge fell.', null).commit])).toEqual(['already-stored']);
       expect((await store.counts()).articles).toBe(2);
     });
@@ -111,7 +211,10 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(d!.event.outlets).toEqual(['EBS News', 'The Vellmouth Courier']);
       expect(d!.event.mentionCount).toBe(2);
       expect(d!.event.independentOutlets).toBe(2);
-      expect(d!.mentions.map((m) => [m.outlet, m.score, m.evidence.sharedPlaces])).toEqual([['The Vellmouth Courier', 0.8, ['Korrin Bay']], ['EBS News', 0.42, ['Korrin Bay']]]);
+      expect(d!.mentions.map((m) => [m.outlet, m.score, m.evidence.sharedPlaces])).toEqual([
+        ['The Vellmouth Courier', 0.8, ['Korrin Bay']],
+        ['EBS News', 0.42, ['Korrin Bay']],
+      ]);
       expect(d!.mentions[0]!.articleUrl).toBe('https://thevellmouthcourier.example/a1');
       expect(await store.getEvent('ev_missing')).toBeNull();
       expect(await store.getArticle('missing')).toBeNull();
@@ -122,7 +225,9 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const a2 = article('a2', 'Quarrenby Post', '2026-10-06T10:00:00.000Z', 'x');
       const first = commitFor(a1, 'Lisk was evacuated.', null);
       await store.commitArticle(first.commit);
-      await store.commitArticle(commitFor(a2, 'Lisk was evacuated.', deserialiseEvent(serialiseEvent(first.event)), { isCopy: true }).commit);
+      await store.commitArticle(
+        commitFor(a2, 'Lisk was evacuated.', deserialiseEvent(serialiseEvent(first.event)), { isCopy: true }).commit,
+      );
       const d = await store.getEvent(first.event.id);
       expect(d!.event.outlets).toHaveLength(2);
       expect(d!.event.independentOutlets).toBe(1);
@@ -137,7 +242,9 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         const first = commitFor(a1, 'The levee at Dunvessel failed overnight.', null);
         await store.commitArticle(first.commit);
         await store.commitArticle(commitFor(a2, 'A span of the Orlin Bridge fell into the river, 50% of it.', null).commit);
-        await store.commitArticle(commitFor(a3, 'The levee breach flooded Dunvessel.', deserialiseEvent(serialiseEvent(first.event))).commit);
+        await store.commitArticle(
+          commitFor(a3, 'The levee breach flooded Dunvessel.', deserialiseEvent(serialiseEvent(first.event))).commit,
+        );
       });
 
       it('lists most recently active first, with totals and paging', async () => {
@@ -164,7 +271,11 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       });
 
       it('lists outlets with their article counts', async () => {
-        expect(await store.listOutlets()).toEqual([{ outlet: 'EBS News', articles: 1 }, { outlet: 'Northwire', articles: 1 }, { outlet: 'The Vellmouth Courier', articles: 1 }]);
+        expect(await store.listOutlets()).toEqual([
+          { outlet: 'EBS News', articles: 1 },
+          { outlet: 'Northwire', articles: 1 },
+          { outlet: 'The Vellmouth Courier', articles: 1 },
+        ]);
       });
     });
 
@@ -176,29 +287,73 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.commitArticle(commitFor(a2, 'A bridge fell.', null).commit);
       const snap = await store.loadLinkerState();
       expect(snap.idf.docs).toBe(4);
-      expect(new Map(snap.idf.df)).toEqual(new Map([[7, 2], [9, 4]]));
+      expect(new Map(snap.idf.df)).toEqual(
+        new Map([
+          [7, 2],
+          [9, 4],
+        ]),
+      );
       expect(snap.events.map((b) => deserialiseEvent(b).id).sort()).toEqual([event.id, 'ev_a2'].sort());
       // Everything but the label, which the store keeps with the event record only.
       expect(snap.events.map(deserialiseEvent).find((e) => e.id === event.id)).toEqual({ ...event, label: '' });
     });
 
     describe('stories', () => {
-      const levee = () => openStory({ id: 'a1', title: 'Levee fails at Dunvessel', outlet: '', published: '2026-10-05T10:00:00.000Z', vector: embedder.vector([]), names: [], isCopy: false });
-      const bridge = () => openStory({ id: 'a2', title: 'Orlin Bridge span falls', outlet: '', published: '2026-10-12T10:00:00.000Z', vector: embedder.vector([]), names: [], isCopy: false });
+      const levee = () =>
+        openStory({
+          id: 'a1',
+          title: 'Levee fails at Dunvessel',
+          outlet: '',
+          published: '2026-10-05T10:00:00.000Z',
+          vector: embedder.vector([]),
+          names: [],
+          isCopy: false,
+        });
+      const bridge = () =>
+        openStory({
+          id: 'a2',
+          title: 'Orlin Bridge span falls',
+          outlet: '',
+          published: '2026-10-12T10:00:00.000Z',
+          vector: embedder.vector([]),
+          names: [],
+          isCopy: false,
+        });
       let s1: StoryState;
       let s2: StoryState;
       let e1: EventState;
       beforeEach(async () => {
         s1 = levee();
         s2 = bridge();
-        const first = commitFor(article('a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z', 'x'), 'The levee at Dunvessel failed overnight.', null, { story: s1 });
+        const first = commitFor(
+          article('a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z', 'x'),
+          'The levee at Dunvessel failed overnight.',
+          null,
+          { story: s1 },
+        );
         e1 = first.event;
         await store.commitArticle(first.commit);
-        await store.commitArticle(commitFor(article('a2', 'EBS News', '2026-10-12T10:00:00.000Z', 'y'), 'A span of the Orlin Bridge fell into the river.', null, { story: s2 }).commit);
-        const third = commitFor(article('a3', 'Northwire', '2026-10-13T12:00:00.000Z', 'z'), 'Crews began repairing the Dunvessel levee.', null, { story: s1 });
+        await store.commitArticle(
+          commitFor(article('a2', 'EBS News', '2026-10-12T10:00:00.000Z', 'y'), 'A span of the Orlin Bridge fell into the river.', null, {
+            story: s2,
+          }).commit,
+        );
+        const third = commitFor(
+          article('a3', 'Northwire', '2026-10-13T12:00:00.000Z', 'z'),
+          'Crews began repairing the Dunvessel levee.',
+          null,
+          { story: s1 },
+        );
         await store.commitArticle(third.commit);
         // A later article of the first event, in its story (the event's story stays the one that opened it).
-        await store.commitArticle(commitFor(article('a4', 'EBS News', '2026-10-14T09:00:00.000Z', 'w'), 'The levee breach flooded Dunvessel.', deserialiseEvent(serialiseEvent(e1)), { story: s1 }).commit);
+        await store.commitArticle(
+          commitFor(
+            article('a4', 'EBS News', '2026-10-14T09:00:00.000Z', 'w'),
+            'The levee breach flooded Dunvessel.',
+            deserialiseEvent(serialiseEvent(e1)),
+            { story: s1 },
+          ).commit,
+        );
       });
 
       it('files each article and the events it opened under its story, and counts the stories', async () => {
@@ -212,7 +367,14 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       it('lists stories, most recently active first, with filters and paging', async () => {
         const page = await store.listStories({ limit: 1, offset: 0 });
         expect(page.total).toBe(2);
-        expect(page.stories[0]).toMatchObject({ id: s1.id, label: 'Levee fails at Dunvessel', articleCount: 3, eventCount: 2, outlets: ['EBS News', 'Northwire', 'The Vellmouth Courier'], independentOutlets: 3 });
+        expect(page.stories[0]).toMatchObject({
+          id: s1.id,
+          label: 'Levee fails at Dunvessel',
+          articleCount: 3,
+          eventCount: 2,
+          outlets: ['EBS News', 'Northwire', 'The Vellmouth Courier'],
+          independentOutlets: 3,
+        });
         expect((await store.listStories({ limit: 1, offset: 1 })).stories.map((x) => x.id)).toEqual([s2.id]);
         expect((await store.listStories({ outlet: 'Northwire', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
         expect((await store.listStories({ text: 'orlin', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s2.id]);
@@ -228,7 +390,9 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         expect(d.story.id).toBe(s1.id);
         expect(d.events.map((e) => e.id)).toEqual(['ev_a1', 'ev_a3']);
         expect(d.articles.map((a) => [a.id, a.outlet, a.published])).toEqual([
-          ['a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z'], ['a3', 'Northwire', '2026-10-13T12:00:00.000Z'], ['a4', 'EBS News', '2026-10-14T09:00:00.000Z'],
+          ['a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z'],
+          ['a3', 'Northwire', '2026-10-13T12:00:00.000Z'],
+          ['a4', 'EBS News', '2026-10-14T09:00:00.000Z'],
         ]);
         expect(d.merges).toEqual([]);
         expect(await store.getStory('st_unknown')).toBeNull();
@@ -241,7 +405,13 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
 
       it('merges one story into another: articles and events move, the absorbed story leaves, the merge is recorded', async () => {
         const merged = mergeStories(s1, s2, 300);
-        await store.commitStoryMerge({ into: { record: storyRecord(merged), state: serialiseStory(merged) }, from: s2.id, score: 0.55, at: '2026-10-15T00:00:00.000Z', messages: [] });
+        await store.commitStoryMerge({
+          into: { record: storyRecord(merged), state: serialiseStory(merged) },
+          from: s2.id,
+          score: 0.55,
+          at: '2026-10-15T00:00:00.000Z',
+          messages: [],
+        });
         expect(await store.getStory(s2.id)).toBeNull();
         expect(await store.storyMergedInto(s2.id)).toBe(s1.id);
         expect(await store.storyMergedInto(s1.id)).toBeNull();
@@ -253,7 +423,9 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         expect((await store.getArticle('a2'))!.article.story).toBe(s1.id);
         expect(await store.recentStoryIds(5)).toEqual([s1.id]);
         // A writer that had not heard of the merge still files its article under the survivor.
-        await store.commitArticle(commitFor(article('a5', 'Northwire', '2026-10-16T09:00:00.000Z', 'v'), 'The bridge reopened.', null, { story: s2 }).commit);
+        await store.commitArticle(
+          commitFor(article('a5', 'Northwire', '2026-10-16T09:00:00.000Z', 'v'), 'The bridge reopened.', null, { story: s2 }).commit,
+        );
         expect((await store.getArticle('a5'))!.article.story).toBe(s1.id);
         expect((await store.getEvent('ev_a5'))!.event.story).toBe(s1.id);
         expect(await store.getStory(s2.id)).toBeNull();
@@ -273,7 +445,15 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
 
     it('queues webhook deliveries with the commit and records attempts, down to the dead-letter list', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
-      const messages = [{ id: 'msg_1', type: 'event.opened', body: '{"type":"event.opened"}', created: '2026-10-05T10:00:00.000Z', subscribers: ['one', 'two'] }];
+      const messages = [
+        {
+          id: 'msg_1',
+          type: 'event.opened',
+          body: '{"type":"event.opened"}',
+          created: '2026-10-05T10:00:00.000Z',
+          subscribers: ['one', 'two'],
+        },
+      ];
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
       expect(await store.dueDeliveries('2026-10-05T09:00:00.000Z', 10)).toEqual([]);
       const due = await store.dueDeliveries('2026-10-05T10:00:00.000Z', 10);
@@ -291,7 +471,10 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const { commit, event } = commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 'The levee failed.', null);
       await store.commitArticle(commit);
       const marked = { ...deserialiseEvent(serialiseEvent(event)), splitCheckedAt: 7, touched: 41 };
-      await store.putEventStates([{ id: event.id, state: serialiseEvent(marked) }, { id: 'ev_gone', state: serialiseEvent({ ...marked, id: 'ev_gone' }) }]);
+      await store.putEventStates([
+        { id: event.id, state: serialiseEvent(marked) },
+        { id: 'ev_gone', state: serialiseEvent({ ...marked, id: 'ev_gone' }) },
+      ]);
       const states = (await store.loadLinkerState()).events.map(deserialiseEvent);
       expect(states.map((e) => [e.id, e.splitCheckedAt, e.touched])).toEqual([[event.id, 7, 41]]);
       expect((await store.getEvent(event.id))!.event.mentionCount).toBe(1);
@@ -300,11 +483,31 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     it('lists due deliveries past the subscribers a dispatcher is busy with, however long their backlog', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       // The slow receiver's 700 deliveries are older than the healthy one's single delivery.
-      const messages = Array.from({ length: 700 }, (_, i) => ({ id: `msg_${i}`, type: 'event.opened', body: `{"n":${i}}`, created: new Date(Date.parse('2026-10-05T09:00:00.000Z') + i).toISOString(), subscribers: ['slow'] }));
-      messages.push({ id: 'msg_new', type: 'event.opened', body: '{"n":"new"}', created: '2026-10-05T10:00:00.000Z', subscribers: ['healthy'] });
+      const messages = Array.from({ length: 700 }, (_, i) => ({
+        id: `msg_${i}`,
+        type: 'event.opened',
+        body: `{"n":${i}}`,
+        created: new Date(Date.parse('2026-10-05T09:00:00.000Z') + i).toISOString(),
+        subscribers: ['slow'],
+      }));
+      messages.push({
+        id: 'msg_new',
+        type: 'event.opened',
+        body: '{"n":"new"}',
+        created: '2026-10-05T10:00:00.000Z',
+        subscribers: ['healthy'],
+      });
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
-      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5)).map((d) => d.subscriber)).toEqual(['slow', 'slow', 'slow', 'slow', 'slow']);
-      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5, ['slow'])).map((d) => [d.messageId, d.subscriber])).toEqual([['msg_new', 'healthy']]);
+      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5)).map((d) => d.subscriber)).toEqual([
+        'slow',
+        'slow',
+        'slow',
+        'slow',
+        'slow',
+      ]);
+      expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5, ['slow'])).map((d) => [d.messageId, d.subscriber])).toEqual([
+        ['msg_new', 'healthy'],
+      ]);
     });
 
     it('records the vector space of its vectors once, and answers the first one recorded', async () => {
@@ -315,9 +518,16 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     it('prunes notifications once every delivery settled before the cut-off, never a pending one', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const body = (n: number) => `{"type":"event.opened","data":{"event":{"id":"ev_${n}"},"mention":{"article":"a1","sentence":0}}}`;
-      const messages = [1, 2, 3].map((n) => ({ id: `msg_${n}`, type: 'event.opened', body: body(n), created: '2026-10-05T10:00:00.000Z', subscribers: ['one', 'two'] }));
+      const messages = [1, 2, 3].map((n) => ({
+        id: `msg_${n}`,
+        type: 'event.opened',
+        body: body(n),
+        created: '2026-10-05T10:00:00.000Z',
+        subscribers: ['one', 'two'],
+      }));
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
-      const settle = (id: string, sub: string, status: 'delivered' | 'dead', at: string) => store.recordAttempt(id, sub, { status, attempts: 1, nextAt: at, error: status === 'dead' ? 'HTTP 500' : null });
+      const settle = (id: string, sub: string, status: 'delivered' | 'dead', at: string) =>
+        store.recordAttempt(id, sub, { status, attempts: 1, nextAt: at, error: status === 'dead' ? 'HTTP 500' : null });
       await settle('msg_1', 'one', 'delivered', '2026-10-05T10:00:01.000Z');
       await settle('msg_1', 'two', 'dead', '2026-10-05T16:00:00.000Z');
       await settle('msg_2', 'one', 'delivered', '2026-10-05T10:00:01.000Z'); // 'two' still pending
@@ -348,8 +558,15 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.recentEventIds(5)).sort()).toEqual([first.event.id, second.event.id].sort());
       const merged = mergeStates(first.event, second.event, 300);
       await store.commitMerge({
-        into: { record: toRecord(merged), outlets: [...merged.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(merged) },
-        from: second.event.id, score: 0.45, at: '2026-10-08T09:00:00.000Z', messages: [],
+        into: {
+          record: toRecord(merged),
+          outlets: [...merged.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
+          state: serialiseEvent(merged),
+        },
+        from: second.event.id,
+        score: 0.45,
+        at: '2026-10-08T09:00:00.000Z',
+        messages: [],
       });
       expect(await store.getEvent(second.event.id)).toBeNull();
       expect(await store.mergedInto(second.event.id)).toBe(first.event.id);
@@ -367,11 +584,22 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');
       const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
       await store.commitArticle(first.commit);
-      await store.commitArticle(commitFor(a2, 'The warehouse blaze burned for hours.', deserialiseEvent(serialiseEvent(first.event))).commit);
+      await store.commitArticle(
+        commitFor(a2, 'The warehouse blaze burned for hours.', deserialiseEvent(serialiseEvent(first.event))).commit,
+      );
       const linked = await store.linkedMentions(first.event.id);
-      expect(linked.map((l) => [l.mention.articleId, l.mention.outlet, l.rank, l.score])).toEqual([['a1', 'The Vellmouth Courier', 0, 0.8], ['a2', 'EBS News', 0, 0.42]]);
+      expect(linked.map((l) => [l.mention.articleId, l.mention.outlet, l.rank, l.score])).toEqual([
+        ['a1', 'The Vellmouth Courier', 0, 0.8],
+        ['a2', 'EBS News', 0, 0.42],
+      ]);
       const sent = first.commit.mentions[0]!;
-      expect(linked[0]!.mention).toMatchObject({ text: sent.text, participants: sent.participants, places: sent.places, published: sent.published, isCopy: false });
+      expect(linked[0]!.mention).toMatchObject({
+        text: sent.text,
+        participants: sent.participants,
+        places: sent.places,
+        published: sent.published,
+        isCopy: false,
+      });
       // Bit for bit: a split rebuilds events from exactly the vectors they were linked with.
       expect(linked[0]!.mention.vector).toEqual(sent.vector);
       expect(await store.linkedMentions('ev_missing')).toEqual([]);
@@ -384,10 +612,34 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.commitArticle(first.commit);
       // a2's sentence opens its own event and also links (rank 1) to a1's.
       const second = commitFor(a2, 'The warehouse fire closed the pier.', null);
-      const further: Link = { articleId: 'a2', sentenceIndex: 0, eventId: first.event.id, score: 0.31, rank: 1, evidence: { similarity: 0.31, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: false } };
+      const further: Link = {
+        articleId: 'a2',
+        sentenceIndex: 0,
+        eventId: first.event.id,
+        score: 0.31,
+        rank: 1,
+        evidence: {
+          similarity: 0.31,
+          timeDecay: 1,
+          timeGapDays: 0,
+          sharedParticipants: [],
+          sharedPlaces: [],
+          overlapBonus: 0,
+          opened: false,
+        },
+      };
       await store.commitArticle({ ...second.commit, links: [...second.commit.links, further] });
       const both = await store.linkedToBoth(second.event.id, first.event.id);
-      expect(both.map((b) => [b.mention.articleId, b.mention.sentenceIndex, b.links])).toEqual([['a2', 0, [{ rank: 0, score: 0.8 }, { rank: 1, score: 0.31 }]]]);
+      expect(both.map((b) => [b.mention.articleId, b.mention.sentenceIndex, b.links])).toEqual([
+        [
+          'a2',
+          0,
+          [
+            { rank: 0, score: 0.8 },
+            { rank: 1, score: 0.31 },
+          ],
+        ],
+      ]);
       expect(both[0]!.mention.vector).toEqual(second.commit.mentions[0]!.vector);
       expect(await store.linkedToBoth(first.event.id, 'ev_none')).toEqual([]);
     });
@@ -398,10 +650,21 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       addMention(kept, first.commit.mentions[0] as EmbeddedMention, 1, 300);
       const split = openEvent('ev_split', second.commit.mentions[0] as EmbeddedMention);
       for (const c of [second, third]) addMention(split, c.commit.mentions[0] as EmbeddedMention, 1, 300);
-      const update = (e: EventState) => ({ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) });
+      const update = (e: EventState) => ({
+        record: toRecord(e),
+        outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
+        state: serialiseEvent(e),
+      });
       await store.commitSplit({
-        from: update(kept), into: update(split), moved: [{ articleId: 'a2', sentenceIndex: 0 }, { articleId: 'a3', sentenceIndex: 0 }],
-        score: 0.05, at: '2026-10-09T09:00:00.000Z', messages: [],
+        from: update(kept),
+        into: update(split),
+        moved: [
+          { articleId: 'a2', sentenceIndex: 0 },
+          { articleId: 'a3', sentenceIndex: 0 },
+        ],
+        score: 0.05,
+        at: '2026-10-09T09:00:00.000Z',
+        messages: [],
       });
       const record = { from: first.event.id, into: 'ev_split', mentions: 2, score: 0.05, at: '2026-10-09T09:00:00.000Z' };
       const d = await store.getEvent(first.event.id);
@@ -410,7 +673,10 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(d!.event.outlets).toEqual(['The Vellmouth Courier']);
       expect(d!.splits).toEqual([record]);
       const s = await store.getEvent('ev_split');
-      expect(s!.mentions.map((m) => [m.articleId, m.score])).toEqual([['a2', 0.42], ['a3', 0.42]]);
+      expect(s!.mentions.map((m) => [m.articleId, m.score])).toEqual([
+        ['a2', 0.42],
+        ['a3', 0.42],
+      ]);
       expect(s!.splits).toEqual([record]);
       expect((await store.linkedMentions('ev_split')).map((l) => l.mention.articleId)).toEqual(['a2', 'a3']);
       expect((await store.getArticle('a3'))!.sentences[0]!.links.map((l) => l.eventId)).toEqual(['ev_split']);
@@ -424,8 +690,19 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       // The part with the labelling sentence goes (as when a split-off event, whose opener is not its id's, splits again).
       const kept = openEvent(first.event.id, second.commit.mentions[0] as EmbeddedMention);
       const split = openEvent('ev_split', first.commit.mentions[0] as EmbeddedMention);
-      const update = (e: EventState) => ({ record: toRecord(e), outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })), state: serialiseEvent(e) });
-      await store.commitSplit({ from: update(kept), into: update(split), moved: [{ articleId: 'a1', sentenceIndex: 0 }], score: 0.05, at: '2026-10-09T09:00:00.000Z', messages: [] });
+      const update = (e: EventState) => ({
+        record: toRecord(e),
+        outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
+        state: serialiseEvent(e),
+      });
+      await store.commitSplit({
+        from: update(kept),
+        into: update(split),
+        moved: [{ articleId: 'a1', sentenceIndex: 0 }],
+        score: 0.05,
+        at: '2026-10-09T09:00:00.000Z',
+        messages: [],
+      });
       expect((await store.getEvent(first.event.id))!.event.label).toBe('Dockworkers voted to strike.');
       expect((await store.getEvent('ev_split'))!.event.label).toBe('A fire destroyed a warehouse.');
       expect((await store.eventLabels([first.event.id, 'ev_split'])).get(first.event.id)).toBe('Dockworkers voted to strike.');
@@ -437,9 +714,16 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const a1 = commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'y'), 'The levee failed.', null).commit;
       const a2 = { ...commitFor(article('a2', 'P', '2026-10-06T10:00:00.000Z', 'z'), 'The levee failed, P reports.', null).commit };
       a2.article = { ...a2.article, duplicateOf: 'a1', copySimilarity: 0.8 };
-      await store.commitArticles([{ ...old, sketch: sk(0) }, { ...a1, sketch: sk(1) }, { ...a2, sketch: sk(2) }]);
+      await store.commitArticles([
+        { ...old, sketch: sk(0) },
+        { ...a1, sketch: sk(1) },
+        { ...a2, sketch: sk(2) },
+      ]);
       const recent = await store.recentSketches(7);
-      expect(recent.map((r) => [r.id, r.time])).toEqual([['a1', Date.parse('2026-10-05T10:00:00.000Z')], ['a2', Date.parse('2026-10-06T10:00:00.000Z')]]);
+      expect(recent.map((r) => [r.id, r.time])).toEqual([
+        ['a1', Date.parse('2026-10-05T10:00:00.000Z')],
+        ['a2', Date.parse('2026-10-06T10:00:00.000Z')],
+      ]);
       expect(recent[1]!.sketch).toEqual(sk(2));
       expect((await store.getArticle('a2'))!.article).toMatchObject({ duplicateOf: 'a1', copySimilarity: 0.8 });
       await store.eraseArticleText('a2');
@@ -454,13 +738,38 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
 
     it('keeps the polled feeds in the order added; writing one again keeps its place', async () => {
       const feed = (id: string, added: string) => ({
-        id, url: `https://${id}.example/rss`, outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added,
-        state: { etag: null, lastModified: null, nextPollAt: added, lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null, failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [] },
+        id,
+        url: `https://${id}.example/rss`,
+        outlet: null,
+        intervalSeconds: 600,
+        paused: false,
+        origin: 'api' as const,
+        added,
+        state: {
+          etag: null,
+          lastModified: null,
+          nextPollAt: added,
+          lastPollAt: null,
+          lastSuccessAt: null,
+          lastStatus: null,
+          lastError: null,
+          failures: 0,
+          requests: 0,
+          notModified: 0,
+          bytes: 0,
+          itemsSeen: 0,
+          itemsNew: 0,
+          delaysMs: [],
+        },
       });
       expect(await store.listFeeds()).toEqual([]);
       await store.putFeed(feed('fd_a', '2026-10-01T08:00:00.000Z'));
       await store.putFeed(feed('fd_b', '2026-10-01T09:00:00.000Z'));
-      const changed = { ...feed('fd_a', '2026-10-01T08:00:00.000Z'), paused: true, state: { ...feed('fd_a', '2026-10-01T08:00:00.000Z').state, etag: '"v2"', delaysMs: [1000, 2000] } };
+      const changed = {
+        ...feed('fd_a', '2026-10-01T08:00:00.000Z'),
+        paused: true,
+        state: { ...feed('fd_a', '2026-10-01T08:00:00.000Z').state, etag: '"v2"', delaysMs: [1000, 2000] },
+      };
       await store.putFeed(changed);
       expect(await store.listFeeds()).toEqual([changed, feed('fd_b', '2026-10-01T09:00:00.000Z')]);
       expect(await store.deleteFeed('fd_a')).toBe(true);
@@ -470,8 +779,29 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
 
     it('changes one stored feed through a function of the feed as stored; nothing for a feed not stored', async () => {
       const f = {
-        id: 'fd_a', url: 'https://fd-a.example/rss', outlet: null, intervalSeconds: 600, paused: false, origin: 'api' as const, added: '2026-10-01T08:00:00.000Z',
-        state: { etag: null, lastModified: null, nextPollAt: '2026-10-01T08:00:00.000Z', lastPollAt: null, lastSuccessAt: null, lastStatus: null, lastError: null, failures: 0, requests: 0, notModified: 0, bytes: 0, itemsSeen: 0, itemsNew: 0, delaysMs: [] },
+        id: 'fd_a',
+        url: 'https://fd-a.example/rss',
+        outlet: null,
+        intervalSeconds: 600,
+        paused: false,
+        origin: 'api' as const,
+        added: '2026-10-01T08:00:00.000Z',
+        state: {
+          etag: null,
+          lastModified: null,
+          nextPollAt: '2026-10-01T08:00:00.000Z',
+          lastPollAt: null,
+          lastSuccessAt: null,
+          lastStatus: null,
+          lastError: null,
+          failures: 0,
+          requests: 0,
+          notModified: 0,
+          bytes: 0,
+          itemsSeen: 0,
+          itemsNew: 0,
+          delaysMs: [],
+        },
       };
       await store.putFeed(f);
       const paused = await store.updateFeed('fd_a', (cur) => ({ ...cur, paused: true }));
@@ -508,7 +838,13 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const secret = 'The Dunvessel levee failed at night.';
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', secret);
       const a2 = article('a2', 'P', '2026-10-20T10:00:00.000Z', 'The levee was rebuilt.');
-      const message = (id: string, type: string, data: object): OutboxMessage => ({ id, type, body: JSON.stringify({ type, timestamp: '2026-10-20T10:00:00.000Z', data }), created: '2026-10-20T10:00:00.000Z', subscribers: ['desk'] });
+      const message = (id: string, type: string, data: object): OutboxMessage => ({
+        id,
+        type,
+        body: JSON.stringify({ type, timestamp: '2026-10-20T10:00:00.000Z', data }),
+        created: '2026-10-20T10:00:00.000Z',
+        subscribers: ['desk'],
+      });
       const first = commitFor(a1, secret, null);
       // A state as earlier versions wrote it, with the label in its header.
       const legacy = Buffer.from(serialiseEvent(first.event));
@@ -519,21 +855,34 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.commitArticle({
         ...first.commit,
         events: [{ ...first.commit.events[0]!, state: legacyState }],
-        messages: [message('msg_opened', 'event.opened', { event: { id: first.event.id, label: secret }, mention: { article: 'a1', sentence: 0, text: secret } })],
+        messages: [
+          message('msg_opened', 'event.opened', {
+            event: { id: first.event.id, label: secret },
+            mention: { article: 'a1', sentence: 0, text: secret },
+          }),
+        ],
       });
       // The linker's memory still holds the first label when the second article joins.
       const joined = commitFor(a2, 'The levee was rebuilt.', deserialiseEvent(serialiseEvent(first.event)));
       joined.event.label = secret;
       await store.commitArticle({
         ...joined.commit,
-        messages: [message('msg_outlet', 'event.outlet_added', { event: { id: first.event.id, label: secret }, outlet: 'P', mention: { article: 'a2', sentence: 0, text: 'The levee was rebuilt.' } })],
+        messages: [
+          message('msg_outlet', 'event.outlet_added', {
+            event: { id: first.event.id, label: secret },
+            outlet: 'P',
+            mention: { article: 'a2', sentence: 0, text: 'The levee was rebuilt.' },
+          }),
+        ],
       });
       expect(await store.eraseTextBefore('2026-10-10')).toBe(1);
 
       const bodies = (await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).map((d) => d.body);
       expect(bodies).toHaveLength(2);
       expect(bodies.filter((b) => b.includes('Dunvessel'))).toEqual([]);
-      const opened = JSON.parse(bodies.find((b) => b.includes('event.opened'))!) as { data: { event: { label: string }; mention: { text: string | null } } };
+      const opened = JSON.parse(bodies.find((b) => b.includes('event.opened'))!) as {
+        data: { event: { label: string }; mention: { text: string | null } };
+      };
       expect(opened.data.mention.text).toBeNull();
       expect(opened.data.event.label).toBe('The levee was rebuilt.');
       expect(bodies.find((b) => b.includes('event.outlet_added'))).toContain('"text":"The levee was rebuilt."');
@@ -542,7 +891,11 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(states.map((s) => deserialiseEvent(s).label)).toEqual(['']);
 
       // A linker that still remembers the erased label cannot write it back.
-      const later = commitFor(article('a3', 'Q', '2026-10-21T10:00:00.000Z', 'Repairs went on.'), 'Repairs went on.', deserialiseEvent(serialiseEvent(joined.event)));
+      const later = commitFor(
+        article('a3', 'Q', '2026-10-21T10:00:00.000Z', 'Repairs went on.'),
+        'Repairs went on.',
+        deserialiseEvent(serialiseEvent(joined.event)),
+      );
       later.event.label = secret;
       await store.commitArticle({ ...later.commit, events: [{ ...later.commit.events[0]!, record: toRecord(later.event) }] });
       expect((await store.getEvent(first.event.id))!.event.label).toBe('The levee was rebuilt.');

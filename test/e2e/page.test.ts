@@ -10,7 +10,7 @@ import { demoApi } from '../helpers/runtime.js';
 // Debian's chromium, driven headless; .ci/run installs it. Never a downloaded browser.
 const CHROMIUM = '/usr/bin/chromium';
 
-describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analysts\' page in a browser', () => {
+describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')("the analysts' page in a browser", () => {
   let rt: Runtime;
   let app: FastifyInstance;
   let browser: Browser;
@@ -19,7 +19,10 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analyst
   beforeAll(async () => {
     ({ rt, app } = await demoApi());
     base = await app.listen({ host: '127.0.0.1', port: 0 });
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'] });
+    browser = await chromium.launch({
+      executablePath: CHROMIUM,
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'],
+    });
   });
   afterAll(async () => {
     await browser?.close();
@@ -55,7 +58,13 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the analyst
 
   it('asks for an access token when the server protects reads, and shows the events once given one', async () => {
     const token = 'k7Qz2mVw9XcB4nRt8LpY3sHd6FgJ1aEu';
-    const guarded = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }), auth: { tokens: [token], protect: 'everything' } });
+    const guarded = await buildApp({
+      store: rt.store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
+      auth: { tokens: [token], protect: 'everything' },
+    });
     const url = await guarded.listen({ host: '127.0.0.1', port: 0 });
     const page = await browser.newPage();
     const errors: string[] = [];

@@ -21,7 +21,9 @@ function capture(stream: NodeJS.WriteStream, into: string[]): () => void {
     if (done) queueMicrotask(done);
     return true;
   }) as Write;
-  return () => { stream.write = original; };
+  return () => {
+    stream.write = original;
+  };
 }
 
 /** Runs `strandline ...args` in process; resolves once the command has finished. */

@@ -23,10 +23,18 @@ export interface Ended {
 }
 
 /** Starts the command, sends `sig` once `ready` shows on stdout or stderr (after `before`), and waits for the exit. */
-export function runAndStop(args: string[], ready: RegExp, sig: NodeJS.Signals, env: Record<string, string> = {}, before: () => Promise<void> = async () => undefined): Promise<Ended> {
+export function runAndStop(
+  args: string[],
+  ready: RegExp,
+  sig: NodeJS.Signals,
+  env: Record<string, string> = {},
+  before: () => Promise<void> = async () => undefined,
+): Promise<Ended> {
   // Each run in a folder of its own (its store, its report), so tsx is named by its path.
   const proc: ChildProcess = spawn(process.execPath, ['--import', TSX, join(ROOT, 'src/cli/main.ts'), ...args], {
-    cwd: mkdtempSync(join(tmpdir(), 'strandline-stop-')), env: { ...process.env, STRANDLINE_LOG_LEVEL: 'warn', ...env }, stdio: ['ignore', 'pipe', 'pipe'],
+    cwd: mkdtempSync(join(tmpdir(), 'strandline-stop-')),
+    env: { ...process.env, STRANDLINE_LOG_LEVEL: 'warn', ...env },
+    stdio: ['ignore', 'pipe', 'pipe'],
   });
   let stdout = '';
   let stderr = '';
@@ -34,14 +42,24 @@ export function runAndStop(args: string[], ready: RegExp, sig: NodeJS.Signals, e
   const send = (): void => {
     if (sentAt || !ready.test(stdout + stderr)) return;
     // A moment in, so the command is well into its work.
-    setTimeout(() => void before().then(() => {
-      sentAt = Date.now();
-      proc.kill(sig);
-    }), 400);
+    setTimeout(
+      () =>
+        void before().then(() => {
+          sentAt = Date.now();
+          proc.kill(sig);
+        }),
+      400,
+    );
     sentAt = -1;
   };
-  proc.stdout!.on('data', (d: Buffer) => { stdout += d; send(); });
-  proc.stderr!.on('data', (d: Buffer) => { stderr += d; send(); });
+  proc.stdout!.on('data', (d: Buffer) => {
+    stdout += d;
+    send();
+  });
+  proc.stderr!.on('data', (d: Buffer) => {
+    stderr += d;
+    send();
+  });
   return new Promise((resolve, reject) => {
     const guard = setTimeout(() => {
       proc.kill('SIGKILL');

@@ -23,7 +23,10 @@ export interface StoryLine {
 }
 
 function jsonl<T>(file: string): T[] {
-  return readFileSync(`${DEMO_DIR}${file}`, 'utf8').trim().split('\n').map((l) => JSON.parse(l) as T);
+  return readFileSync(`${DEMO_DIR}${file}`, 'utf8')
+    .trim()
+    .split('\n')
+    .map((l) => JSON.parse(l) as T);
 }
 
 /** The demo's gold lines. */

@@ -37,10 +37,28 @@ export async function freshRedisStore(url: string, cluster = false): Promise<Red
 }
 
 /** A redis-server of the test's own, with the append-only file on, that it can restart or stop (stop is idempotent). */
-export async function startPrivateRedis(): Promise<{ url: string; restarts: number; restart(downMs?: number): Promise<void>; stop(): Promise<void> }> {
+export async function startPrivateRedis(): Promise<{
+  url: string;
+  restarts: number;
+  restart(downMs?: number): Promise<void>;
+  stop(): Promise<void>;
+}> {
   const dir = mkdtempSync(join(tmpdir(), 'strandline-redis-'));
   const port = await freePort();
-  const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--appendonly', 'yes', '--save', '', '--logfile', join(dir, 'redis.log')];
+  const args = [
+    '--port',
+    String(port),
+    '--bind',
+    '127.0.0.1',
+    '--dir',
+    dir,
+    '--appendonly',
+    'yes',
+    '--save',
+    '',
+    '--logfile',
+    join(dir, 'redis.log'),
+  ];
   let proc = spawn('redis-server', args, { stdio: 'ignore' });
   let alive = true;
   const up = async () => {

@@ -39,7 +39,11 @@ export function lexicalOverlapByPairs(mentions: readonly EmbeddedMention[], minJ
 }
 
 /** Online centroid clustering with a threshold and time decay, scanning every event. */
-export function onlineCentroidByScan(byArticle: readonly (readonly EmbeddedMention[])[], threshold: number, halfLifeDays: number): Clustering {
+export function onlineCentroidByScan(
+  byArticle: readonly (readonly EmbeddedMention[])[],
+  threshold: number,
+  halfLifeDays: number,
+): Clustering {
   const events: { sum: Map<number, number>; norm: number; day: number }[] = [];
   const out: Clustering = new Map();
   for (const mentions of byArticle) {

@@ -33,6 +33,11 @@ export function runArticles(rt: Runtime, articles: Article[]): Promise<ArticleOu
 export async function demoApi(): Promise<{ rt: Runtime; app: FastifyInstance }> {
   const rt = await testRuntime();
   await runArticles(rt, (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles);
-  const app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }) });
+  const app = await buildApp({
+    store: rt.store,
+    logger: createLogger('silent'),
+    version: 'test',
+    ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
+  });
   return { rt, app };
 }

@@ -2,7 +2,30 @@
 import { writeModel } from '../../src/bench/build-onnx-model.js';
 
 /** The vocabulary: special tokens first, as BERT tokenizers order them. */
-export const TINY_VOCAB = ['[PAD]', '[UNK]', '[CLS]', '[SEP]', 'the', 'levee', 'failed', 'bridge', 'fell', 'fire', 'burned', 'warehouse', 'police', 'arrested', 'a', 'man', '##s', 'in', 'on', 'monday', '.', ','];
+export const TINY_VOCAB = [
+  '[PAD]',
+  '[UNK]',
+  '[CLS]',
+  '[SEP]',
+  'the',
+  'levee',
+  'failed',
+  'bridge',
+  'fell',
+  'fire',
+  'burned',
+  'warehouse',
+  'police',
+  'arrested',
+  'a',
+  'man',
+  '##s',
+  'in',
+  'on',
+  'monday',
+  '.',
+  ',',
+];
 
 /** Writes a plain-lookup model (last_hidden_state = embedding rows); returns the table. */
 export function writeTinyModel(dir: string, hidden = 8): number[][] {

@@ -46,7 +46,10 @@ describe('analysis threads', () => {
 
   it('reject an article the thread cannot analyse, with its id, and go on with the next', async () => {
     const broken = { ...articles[0]!, id: 'broken-1', text: 42 } as unknown as Article;
-    await expect(pool.analyse(broken)).rejects.toMatchObject({ code: 'STRAND_ANALYSIS_FAILED', message: expect.stringContaining('broken-1') });
+    await expect(pool.analyse(broken)).rejects.toMatchObject({
+      code: 'STRAND_ANALYSIS_FAILED',
+      message: expect.stringContaining('broken-1'),
+    });
     expect((await pool.analyse(articles[1]!)).sentences.length).toBeGreaterThan(0);
     const rt = await testRuntime({ analysis: { threads: 1 } });
     try {

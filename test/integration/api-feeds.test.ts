@@ -21,7 +21,12 @@ describe('the feeds API', () => {
     const deps = { store, submit: async () => undefined, options: testConfig().poll, logger: createLogger('silent') };
     poller = new FeedPoller({ ...deps, limits: { ...testConfig().ingest, allowPrivateNetworks: true } });
     const strict = new FeedPoller({ ...deps, limits: testConfig().ingest });
-    const base = { store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'idle' as const, processed: 0, total: 0, stored: 0, rejected: 0 }) };
+    const base = {
+      store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: () => ({ state: 'idle' as const, processed: 0, total: 0, stored: 0, rejected: 0 }),
+    };
     app = await buildApp({ ...base, feeds: poller });
     strictApp = await buildApp({ ...base, feeds: strict });
   });
@@ -33,7 +38,11 @@ describe('the feeds API', () => {
   });
 
   it('adds a feed, shows its health after a poll, pauses, resumes and removes it', async () => {
-    const added = await app.inject({ method: 'POST', url: '/api/feeds', payload: { url: server.url('/feeds/0.xml'), outlet: 'Harbour Ledger' } });
+    const added = await app.inject({
+      method: 'POST',
+      url: '/api/feeds',
+      payload: { url: server.url('/feeds/0.xml'), outlet: 'Harbour Ledger' },
+    });
     expect(added.statusCode).toBe(201);
     const feed = added.json();
     expect(added.headers.location).toBe(`/api/feeds/${feed.id}`);
@@ -69,7 +78,11 @@ describe('the feeds API', () => {
   });
 
   it('refuses a feed on a private address (server-side request forgery) and a feed already polled', async () => {
-    const forbidden = await strictApp.inject({ method: 'POST', url: '/api/feeds', payload: { url: 'http://169.254.169.254/latest/meta-data' } });
+    const forbidden = await strictApp.inject({
+      method: 'POST',
+      url: '/api/feeds',
+      payload: { url: 'http://169.254.169.254/latest/meta-data' },
+    });
     expect(forbidden.statusCode).toBe(403);
     expect(forbidden.json().error.code).toBe('STRAND_SOURCE_FORBIDDEN');
     expect((await app.inject({ method: 'POST', url: '/api/feeds', payload: { url: server.url('/feeds/1.xml') } })).statusCode).toBe(201);

@@ -12,8 +12,11 @@ const OTHER = 'p0Oi9Uy8Tr7Ee6Ww5Qq4Aa3Ss2Dd1Ff0';
 const idle = () => ({ state: 'idle' as const, processed: 0, total: 0, stored: 0, rejected: 0 });
 const limits = { maxArticleChars: 5000, maxPushItems: 6, maxPushBytes: 64 * 1024 };
 const article = JSON.stringify({
-  id: 'https://harbourline.example/news/t1', outlet: 'Harbourline Daily', title: 'Levee fails at Dunvessel',
-  published: '2026-10-05T08:00:00Z', text: 'The levee at Dunvessel failed on Saturday night, flooding forty homes.',
+  id: 'https://harbourline.example/news/t1',
+  outlet: 'Harbourline Daily',
+  title: 'Levee fails at Dunvessel',
+  published: '2026-10-05T08:00:00Z',
+  text: 'The levee at Dunvessel failed on Saturday night, flooding forty homes.',
 });
 
 describe('API tokens (server.tokens)', () => {
@@ -25,7 +28,13 @@ describe('API tokens (server.tokens)', () => {
 
   beforeAll(async () => {
     rt = await testRuntime();
-    const base = { store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: idle, push: { submit: async (a: readonly Article[]) => void submitted.push([...a]), limits } };
+    const base = {
+      store: rt.store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: idle,
+      push: { submit: async (a: readonly Article[]) => void submitted.push([...a]), limits },
+    };
     changes = await buildApp({ ...base, auth: { tokens: [OTHER, TOKEN], protect: 'changes' } });
     everything = await buildApp({ ...base, auth: { tokens: [TOKEN], protect: 'everything' } });
     open = await buildApp({ ...base, auth: { tokens: [], protect: 'everything' } });
@@ -36,7 +45,12 @@ describe('API tokens (server.tokens)', () => {
   });
 
   const push = (app: FastifyInstance, authorization?: string) =>
-    app.inject({ method: 'POST', url: '/api/articles', headers: { 'content-type': 'application/json', ...(authorization === undefined ? {} : { authorization }) }, payload: article });
+    app.inject({
+      method: 'POST',
+      url: '/api/articles',
+      headers: { 'content-type': 'application/json', ...(authorization === undefined ? {} : { authorization }) },
+      payload: article,
+    });
 
   it('refuses a change without a token: 401, the Bearer challenge (RFC 6750 section 3), nothing submitted', async () => {
     const r = await push(changes);
@@ -99,6 +113,11 @@ describe('API tokens (server.tokens)', () => {
 
   it('decides by method and path alone', () => {
     const p = { tokens: [TOKEN], protect: 'changes' as const };
-    expect([needsToken(p, 'GET', '/api/events'), needsToken(p, 'DELETE', '/api/feeds/x'), needsToken(p, 'PATCH', '/api/feeds/x'), needsToken(p, 'POST', '/app.js')]).toEqual([false, true, true, false]);
+    expect([
+      needsToken(p, 'GET', '/api/events'),
+      needsToken(p, 'DELETE', '/api/feeds/x'),
+      needsToken(p, 'PATCH', '/api/feeds/x'),
+      needsToken(p, 'POST', '/app.js'),
+    ]).toEqual([false, true, true, false]);
   });
 });

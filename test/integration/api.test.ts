@@ -55,7 +55,12 @@ describe('the query API', () => {
     expect(status).toBe(200);
     expect(body.byOutlet.map((g: { outlet: string }) => g.outlet).sort()).toEqual([...top.outlets].sort());
     const m = body.byOutlet[0].mentions[0];
-    expect(m).toMatchObject({ articleId: expect.any(String), text: expect.any(String), score: expect.any(Number), evidence: { similarity: expect.any(Number), timeDecay: expect.any(Number) } });
+    expect(m).toMatchObject({
+      articleId: expect.any(String),
+      text: expect.any(String),
+      score: expect.any(Number),
+      evidence: { similarity: expect.any(Number), timeDecay: expect.any(Number) },
+    });
     expect(body.timeline.reduce((n: number, d: { mentions: number }) => n + d.mentions, 0)).toBe(top.mentionCount);
     expect(body.timeline.flatMap((d: { newOutlets: string[] }) => d.newOutlets).sort()).toEqual([...top.outlets].sort());
   });
@@ -66,7 +71,11 @@ describe('the query API', () => {
     expect(status).toBe(200);
     expect(body.article.outlet).toBe('EBS News');
     expect(body.sentences[0].text).toMatch(/^A levee on the River Veshel gave way/);
-    expect(body.sentences[0].links[0]).toMatchObject({ eventId: expect.stringMatching(/^ev_/), score: expect.any(Number), evidence: expect.any(Object) });
+    expect(body.sentences[0].links[0]).toMatchObject({
+      eventId: expect.stringMatching(/^ev_/),
+      score: expect.any(Number),
+      evidence: expect.any(Object),
+    });
     expect(body.caution).toMatch(/machine suggestions/);
   });
 
@@ -113,7 +122,9 @@ describe('the query API', () => {
     expect(body.byOutlet.map((g: { outlet: string }) => g.outlet).sort()).toEqual([...top.outlets].sort());
     expect(body.byOutlet.reduce((n: number, g: { articles: unknown[] }) => n + g.articles.length, 0)).toBe(top.articleCount);
     expect(body.timeline.reduce((n: number, d: { articles: number }) => n + d.articles, 0)).toBe(top.articleCount);
-    expect(body.timeline.flatMap((d: { newEvents: string[] }) => d.newEvents).sort()).toEqual(body.events.map((e: { id: string }) => e.id).sort());
+    expect(body.timeline.flatMap((d: { newEvents: string[] }) => d.newEvents).sort()).toEqual(
+      body.events.map((e: { id: string }) => e.id).sort(),
+    );
     expect(body.caution).toMatch(/machine suggestions/);
     const events = (await get(`/api/events?story=${top.id}&limit=200`)).body;
     expect(events.events.map((e: { id: string }) => e.id).sort()).toEqual(body.events.map((e: { id: string }) => e.id).sort());
@@ -143,7 +154,7 @@ describe('the query API', () => {
     '/api/stories?limit=0',
     '/api/stories?sort=mentions',
     '/api/stories?from=tomorrow',
-    "/api/stories?q=%27%20OR%201%3D1%20--&unknown=1",
+    '/api/stories?q=%27%20OR%201%3D1%20--&unknown=1',
   ])('refuses a malformed query with 400: %s', async (url) => {
     expect(await get(url)).toMatchObject({ status: 400, body: { error: { code: 'STRAND_REQUEST_INVALID' } } });
   });
@@ -152,11 +163,20 @@ describe('the query API', () => {
     const { status, body } = await get('/openapi.json');
     expect(status).toBe(200);
     expect(body.openapi).toBe('3.1.0');
-    expect(Object.keys(body.paths).sort()).toEqual(['/api/articles/{id}', '/api/events', '/api/events/{id}', '/api/health', '/api/outlets', '/api/stories', '/api/stories/{id}', '/api/webhooks/dead-letters']);
+    expect(Object.keys(body.paths).sort()).toEqual([
+      '/api/articles/{id}',
+      '/api/events',
+      '/api/events/{id}',
+      '/api/health',
+      '/api/outlets',
+      '/api/stories',
+      '/api/stories/{id}',
+      '/api/webhooks/dead-letters',
+    ]);
     expect(body.info.description).toMatch(/machine suggestions/);
   });
 
-  it('serves the analysts\' page with a strict content security policy', async () => {
+  it("serves the analysts' page with a strict content security policy", async () => {
     const page = await get('/');
     expect(page.status).toBe(200);
     expect(page.body).toMatch(/machine suggestions/);

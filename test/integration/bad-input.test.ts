@@ -10,16 +10,44 @@ import { testRuntime } from '../helpers/runtime.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'strandline-bad-'));
 
-const rss = (items: string, prolog = '<?xml version="1.0" encoding="UTF-8"?>') => `${prolog}<rss version="2.0"><channel><title>Test Outlet</title><link>https://t.example/</link><description>d</description>${items}</channel></rss>`;
-const item = (guid: string, body: string) => `<item><title>Item ${guid}</title><guid>https://t.example/${guid}</guid><pubDate>Mon, 05 Oct 2026 10:00:00 GMT</pubDate><description>${body}</description></item>`;
+const rss = (items: string, prolog = '<?xml version="1.0" encoding="UTF-8"?>') =>
+  `${prolog}<rss version="2.0"><channel><title>Test Outlet</title><link>https://t.example/</link><description>d</description>${items}</channel></rss>`;
+const item = (guid: string, body: string) =>
+  `<item><title>Item ${guid}</title><guid>https://t.example/${guid}</guid><pubDate>Mon, 05 Oct 2026 10:00:00 GMT</pubDate><description>${body}</description></item>`;
 
 beforeAll(() => {
-  writeFileSync(join(dir, 'good.xml'), rss(item('good-1', 'Police arrested a man in Vellmouth on Sunday.') + item('good-2', 'The bridge reopened on Monday.')));
+  writeFileSync(
+    join(dir, 'good.xml'),
+    rss(item('good-1', 'Police arrested a man in Vellmouth on Sunday.') + item('good-2', 'The bridge reopened on Monday.')),
+  );
   writeFileSync(join(dir, 'malformed.xml'), '<rss version="2.0"><channel><title>Broken</title><item><title>unclosed</channel></rss>');
-  writeFileSync(join(dir, 'empty-item.json'), JSON.stringify({ version: 'https://jsonfeed.org/version/1.1', title: 'JSON Outlet', items: [{ id: 'https://j.example/empty', content_text: '   ' }, { id: 'https://j.example/ok', title: 'Fine', content_text: 'The council voted on Tuesday.' }] }));
-  writeFileSync(join(dir, 'huge.json'), JSON.stringify({ version: 'https://jsonfeed.org/version/1.1', title: 'Huge Outlet', items: [{ id: 'https://h.example/huge', title: 'Huge', content_text: 'word '.repeat(2 * 1024 * 1024) }, { id: 'https://h.example/small', title: 'Small', content_text: 'The mayor resigned on Friday.' }] }));
+  writeFileSync(
+    join(dir, 'empty-item.json'),
+    JSON.stringify({
+      version: 'https://jsonfeed.org/version/1.1',
+      title: 'JSON Outlet',
+      items: [
+        { id: 'https://j.example/empty', content_text: '   ' },
+        { id: 'https://j.example/ok', title: 'Fine', content_text: 'The council voted on Tuesday.' },
+      ],
+    }),
+  );
+  writeFileSync(
+    join(dir, 'huge.json'),
+    JSON.stringify({
+      version: 'https://jsonfeed.org/version/1.1',
+      title: 'Huge Outlet',
+      items: [
+        { id: 'https://h.example/huge', title: 'Huge', content_text: 'word '.repeat(2 * 1024 * 1024) },
+        { id: 'https://h.example/small', title: 'Small', content_text: 'The mayor resigned on Friday.' },
+      ],
+    }),
+  );
   // windows-1252 bytes (0x93 0x94 curly quotes, 0xE9 é) with no declaration: not UTF-8.
-  writeFileSync(join(dir, 'legacy.xml'), iconv.encode(rss(item('legacy-1', 'The café owner said “we reopened on Monday.”'), '<?xml version="1.0"?>'), 'windows-1252'));
+  writeFileSync(
+    join(dir, 'legacy.xml'),
+    iconv.encode(rss(item('legacy-1', 'The café owner said “we reopened on Monday.”'), '<?xml version="1.0"?>'), 'windows-1252'),
+  );
   writeFileSync(join(dir, 'binary.xml'), Buffer.from(Array.from({ length: 4096 }, (_, i) => (i * 7919) % 256)));
 });
 
@@ -35,7 +63,13 @@ describe('a replay over bad input', () => {
   it('keeps going and stores every good article', async () => {
     // Six files, of which the malformed and the binary one could not be read as feeds.
     expect(summary.files).toBe(4);
-    for (const id of ['https://t.example/good-1', 'https://t.example/good-2', 'https://j.example/ok', 'https://h.example/small', 'https://t.example/legacy-1']) {
+    for (const id of [
+      'https://t.example/good-1',
+      'https://t.example/good-2',
+      'https://j.example/ok',
+      'https://h.example/small',
+      'https://t.example/legacy-1',
+    ]) {
       expect(await rt.store.hasArticle(id)).toBe(true);
     }
     expect(summary.stored).toBe(5);

@@ -21,7 +21,13 @@ describe('the index-based baselines give the answers of the all-pairs versions',
   beforeAll(async () => {
     const config = testConfig();
     const input = await demoEvalInput(createNlp(), DEMO_DIR, config);
-    const detected = await detectArticles(createNlp(), toArticles(input, 'demo', '2026-01-01T00:00:00.000Z'), selector(input, 'predicted'), config, await createEmbedder(config.embed));
+    const detected = await detectArticles(
+      createNlp(),
+      toArticles(input, 'demo', '2026-01-01T00:00:00.000Z'),
+      selector(input, 'predicted'),
+      config,
+      await createEmbedder(config.embed),
+    );
     byArticle = baselineMentions(detected, config.embed.hashBits);
   });
 
@@ -38,6 +44,7 @@ describe('the index-based baselines give the answers of the all-pairs versions',
   it('batch average-link, one dendrogram cut at several thresholds', () => {
     const flat = byArticle.flat();
     const dendrogram = averageLinkDendrogram(flat, 7);
-    for (const t of [0.1, 0.2, 0.3, 0.45]) expect(groups(dendrogram.cut(t)), `at ${t}`).toEqual(groups(batchAverageLinkByPairs(flat, t, 7)));
+    for (const t of [0.1, 0.2, 0.3, 0.45])
+      expect(groups(dendrogram.cut(t)), `at ${t}`).toEqual(groups(batchAverageLinkByPairs(flat, t, 7)));
   });
 });

@@ -13,7 +13,12 @@ const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 // In process: the same command tree and exit codes, without a process start per case.
 const run = cli;
 // In a process of its own where the command leaves connections behind it on a failed start.
-const runAlone = (...args: string[]) => spawnSync(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), ...args], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
+const runAlone = (...args: string[]) =>
+  spawnSync(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), ...args], {
+    cwd: ROOT,
+    encoding: 'utf8',
+    timeout: 60_000,
+  });
 
 describe('the command line', () => {
   it.each([
@@ -55,18 +60,30 @@ describe('the command line', () => {
     expect(r.stdout).toMatch(/^examined \d+ event\(s\) and \d+ story\(ies\); merged \d+ event\(s\), split \d+, merged \d+ story\(ies\)/);
   });
 
-  it('erases text on the operator\'s say and compacts the file, so none of it stays on disk', async () => {
+  it("erases text on the operator's say and compacts the file, so none of it stays on disk", async () => {
     const db = join(mkdtempSync(join(tmpdir(), 'strandline-forget-')), 'store.sqlite');
     expect((await run('replay', 'demo-feed/feeds', '--db', db, '--no-progress', '--log-level', 'silent')).status).toBe(0);
     const read = new Database(db, { readonly: true });
-    const days = read.prepare("SELECT DISTINCT substr(coalesce(published, fetched), 1, 10) FROM articles ORDER BY 1").pluck().all() as string[];
+    const days = read
+      .prepare('SELECT DISTINCT substr(coalesce(published, fetched), 1, 10) FROM articles ORDER BY 1')
+      .pluck()
+      .all() as string[];
     const cutoff = days[Math.floor(days.length / 2)]!;
-    const textsWhere = (op: string) => read.prepare(`SELECT s.text FROM sentences s JOIN articles a ON a.id = s.article_id
-      WHERE substr(coalesce(a.published, a.fetched), 1, 10) ${op} ? AND length(s.text) >= 60`).pluck().all(cutoff) as string[];
+    const textsWhere = (op: string) =>
+      read
+        .prepare(
+          `SELECT s.text FROM sentences s JOIN articles a ON a.id = s.article_id
+      WHERE substr(coalesce(a.published, a.fetched), 1, 10) ${op} ? AND length(s.text) >= 60`,
+        )
+        .pluck()
+        .all(cutoff) as string[];
     // Sentences a kept article also has (copies, repeated background) rightly stay.
     const kept = new Set(textsWhere('>='));
     const erased = textsWhere('<').filter((t) => !kept.has(t));
-    const articles = read.prepare('SELECT count(*) FROM articles WHERE substr(coalesce(published, fetched), 1, 10) < ?').pluck().get(cutoff) as number;
+    const articles = read
+      .prepare('SELECT count(*) FROM articles WHERE substr(coalesce(published, fetched), 1, 10) < ?')
+      .pluck()
+      .get(cutoff) as number;
     read.close();
     expect(erased.length).toBeGreaterThan(20);
     const r = await run('forget', '--before', cutoff, '--db', db, '--log-level', 'silent');
@@ -98,7 +115,13 @@ describe('the command line', () => {
   it('ends a worker whose transformer model is missing at once, naming the folder', () => {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-nomodel-'));
     const config = join(dir, 'c.json');
-    writeFileSync(config, JSON.stringify({ store: { kind: 'redis', redis: { url: 'redis://127.0.0.1:1' } }, embed: { kind: 'transformer', modelPath: join(dir, 'absent') } }));
+    writeFileSync(
+      config,
+      JSON.stringify({
+        store: { kind: 'redis', redis: { url: 'redis://127.0.0.1:1' } },
+        embed: { kind: 'transformer', modelPath: join(dir, 'absent') },
+      }),
+    );
     const r = runAlone('serve', '--role', 'worker', '--config', config);
     expect(r.status).not.toBe(0);
     expect(r.stderr).toMatch(/STRAND_MODEL_MISSING: no usable sentence-embedding model in .*absent/);
@@ -116,7 +139,11 @@ describe('the command line', () => {
 
   describe('as scripts need it: one line and a non-zero exit for each failure', () => {
     const scratch = () => mkdtempSync(join(tmpdir(), 'strandline-cli-'));
-    const oneLine = (stderr: string) => stderr.trim().split('\n').filter((l) => !l.startsWith('  '));
+    const oneLine = (stderr: string) =>
+      stderr
+        .trim()
+        .split('\n')
+        .filter((l) => !l.startsWith('  '));
 
     it.each([
       ['a malformed feed', 'bad.xml', '<rss><channel><item><title>x</title></channel>', /STRAND_FEED_MALFORMED/],
@@ -141,7 +168,9 @@ describe('the command line', () => {
     it('exits 2 on a missing configuration file, saying so in one line', async () => {
       const r = await run('replay', 'demo-feed/feeds', '--config', join(scratch(), 'absent.json'));
       expect(r.status).toBe(2);
-      expect(oneLine(r.stderr)).toEqual([expect.stringMatching(/^strandline: STRAND_CONFIG_UNREADABLE: cannot read configuration file .*absent\.json: no such file$/)]);
+      expect(oneLine(r.stderr)).toEqual([
+        expect.stringMatching(/^strandline: STRAND_CONFIG_UNREADABLE: cannot read configuration file .*absent\.json: no such file$/),
+      ]);
     });
 
     it('exits 2 on a misspelt key, suggesting the near one', async () => {
@@ -169,7 +198,9 @@ describe('the command line', () => {
         // Its own process: the command exits with its store still open, as it would for real.
         const r = runAlone('serve', '--port', port, '--db', join(scratch(), 's.sqlite'), '--log-level', 'silent');
         expect(r.status).toBe(2);
-        expect(oneLine(r.stderr)).toEqual([`strandline: STRAND_LISTEN_FAILED: cannot listen on 127.0.0.1:${port}: the port is in use (choose another with --port, PORT or server.port; --host, HOST or server.host)`]);
+        expect(oneLine(r.stderr)).toEqual([
+          `strandline: STRAND_LISTEN_FAILED: cannot listen on 127.0.0.1:${port}: the port is in use (choose another with --port, PORT or server.port; --host, HOST or server.host)`,
+        ]);
       } finally {
         busy.close();
       }
@@ -179,11 +210,14 @@ describe('the command line', () => {
       const dir = scratch();
       const db = join(dir, 's.sqlite');
       const feed = join(dir, 'feed.xml');
-      writeFileSync(feed, `<?xml version="1.0"?><rss version="2.0"><channel><title>Tidewater Courier</title>
+      writeFileSync(
+        feed,
+        `<?xml version="1.0"?><rss version="2.0"><channel><title>Tidewater Courier</title>
         <item><title>Quay fire</title><guid isPermaLink="false">q-1</guid><link>https://courier.example/quay-fire?utm_source=rss</link><description>A fire destroyed the grain shed at Marrow Quay on Monday.</description></item>
         <item><title>Ferry strike</title><guid isPermaLink="false">q-2</guid><link>https://courier.example/ferry-strike</link><description>Ferry crews walked out at Saltmere on Tuesday.</description></item>
         <item><title>Bridge vote</title><guid isPermaLink="false">q-3</guid><link>https://courier.example/bridge-vote</link><description>The council approved the bridge repairs on Wednesday.</description></item>
-      </channel></rss>`);
+      </channel></rss>`,
+      );
       expect((await run('replay', feed, '--db', db, '--no-progress', '--log-level', 'silent')).status).toBe(0);
       const read = new Database(db, { readonly: true });
       const ids = read.prepare('SELECT id FROM articles ORDER BY id').pluck().all() as string[];
@@ -194,11 +228,21 @@ describe('the command line', () => {
       const encoded = await run('forget', '--article', encodeURIComponent(ids[1]!), '--db', db, '--log-level', 'silent');
       expect(encoded.stdout).toContain(`erased the text of ${ids[1]}`);
       // The URL as linked, tracking parameter and all.
-      const byUrl = await run('forget', '--article', 'http://courier.example/quay-fire?utm_source=mail', '--db', db, '--log-level', 'silent');
+      const byUrl = await run(
+        'forget',
+        '--article',
+        'http://courier.example/quay-fire?utm_source=mail',
+        '--db',
+        db,
+        '--log-level',
+        'silent',
+      );
       expect(byUrl.status, byUrl.stderr).toBe(0);
       const unknown = await run('forget', '--article', 'no-such-article', '--db', db, '--log-level', 'silent');
       expect(unknown.status).toBe(1);
-      expect(oneLine(unknown.stderr)).toEqual(['strandline: no stored article no-such-article (give its id as the API shows it, or its URL)']);
+      expect(oneLine(unknown.stderr)).toEqual([
+        'strandline: no stored article no-such-article (give its id as the API shows it, or its URL)',
+      ]);
     });
 
     it('says in consolidate --help that it splits too, and lists export-demo among the commands', async () => {

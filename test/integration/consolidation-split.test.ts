@@ -25,9 +25,17 @@ const TEXTS = [
 
 function articles(): Article[] {
   return TEXTS.map((text, i) => ({
-    id: `https://pier.example/${i}`, outlet: i % 2 ? 'Harbour Ledger' : 'Korrin Evening Post', url: `https://pier.example/${i}`, title: `Pier ${i}`,
-    published: `2026-10-0${1 + Math.floor(i / 3)}T10:00:00.000Z`, fetched: '2026-10-09T10:00:00.000Z', language: 'en', text,
-    contentHash: `h${i}`, duplicateOf: null, source: 'test',
+    id: `https://pier.example/${i}`,
+    outlet: i % 2 ? 'Harbour Ledger' : 'Korrin Evening Post',
+    url: `https://pier.example/${i}`,
+    title: `Pier ${i}`,
+    published: `2026-10-0${1 + Math.floor(i / 3)}T10:00:00.000Z`,
+    fetched: '2026-10-09T10:00:00.000Z',
+    language: 'en',
+    text,
+    contentHash: `h${i}`,
+    duplicateOf: null,
+    source: 'test',
   }));
 }
 
@@ -37,10 +45,19 @@ describe('consolidation splits an event that drifted', () => {
 
   async function chainedRun(): Promise<string> {
     rt = await testRuntime({
-      link: { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      link: {
+        threshold: 0.1,
+        calibration: { mode: 'fixed' },
+        crossStoryMargin: 0,
+        splitThreshold: 0.2,
+        splitMinMentions: 4,
+        consolidateEvery: 0,
+      },
       webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
     });
-    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
+    const outcomes = await lastValueFrom(
+      runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()),
+    );
     const events = new Set(outcomes.flatMap((o) => o.assignments.flatMap((a) => a.eventIds)));
     expect(events.size).toBe(1);
     return [...events][0]!;
@@ -48,13 +65,24 @@ describe('consolidation splits an event that drifted', () => {
 
   it('relabels the event left behind when its label sentence moved, in the store and in the notification alike', async () => {
     rt = await testRuntime({
-      link: { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 0 },
+      link: {
+        threshold: 0.1,
+        calibration: { mode: 'fixed' },
+        crossStoryMargin: 0,
+        splitThreshold: 0.2,
+        splitMinMentions: 4,
+        consolidateEvery: 0,
+      },
       webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
     });
-    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'sentences', indices: new Set([0]) }) }).pipe(toArray()));
+    const outcomes = await lastValueFrom(
+      runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'sentences', indices: new Set([0]) }) }).pipe(toArray()),
+    );
     const id = outcomes[0]!.assignments[0]!.eventIds[0]!;
     // As if the event had been labelled by a strike report (a split-off part keeps no opener of its own).
-    (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('UPDATE events SET label = ? WHERE id = ?').run(TEXTS[5], id);
+    (rt.store as unknown as { db: import('better-sqlite3').Database }).db
+      .prepare('UPDATE events SET label = ? WHERE id = ?')
+      .run(TEXTS[5], id);
     const { splits } = await consolidate(rt, [id], []);
     expect(splits).toHaveLength(1);
     expect(splits[0]!.moved.map((m) => m.articleId)).toContain('https://pier.example/5');
@@ -84,7 +112,9 @@ describe('consolidation splits an event that drifted', () => {
 
     const messages = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).filter((d) => d.type === 'event.split');
     expect(messages).toHaveLength(1);
-    const body = JSON.parse(messages[0]!.body) as { data: { event: { id: string }; splitOff: { id: string }; moved: unknown[]; note: string } };
+    const body = JSON.parse(messages[0]!.body) as {
+      data: { event: { id: string }; splitOff: { id: string }; moved: unknown[]; note: string };
+    };
     expect(body.data.event.id).toBe(id);
     expect(body.data.splitOff.id).toBe(split.into);
     expect(body.data.moved).toHaveLength(moved.length);
@@ -92,7 +122,12 @@ describe('consolidation splits an event that drifted', () => {
 
     // A second pass finds nothing more to do, and the API shows the split on both events.
     expect(await consolidate(rt, [id, split.into], [])).toEqual({ merges: [], splits: [], storyMerges: [] });
-    const app = await buildApp({ store: rt.store, logger: createLogger('silent'), version: 'test', ingestStatus: () => ({ state: 'finished', processed: 7, total: 7, stored: 7, rejected: 0 }) });
+    const app = await buildApp({
+      store: rt.store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: () => ({ state: 'finished', processed: 7, total: 7, stored: 7, rejected: 0 }),
+    });
     const res = await app.inject({ url: `/api/events/${split.into}` });
     expect(res.statusCode).toBe(200);
     expect(res.json().splits).toEqual([expect.objectContaining({ from: id, into: split.into, mentions: moved.length })]);
@@ -100,13 +135,27 @@ describe('consolidation splits an event that drifted', () => {
   });
 
   it('the evaluation link stage splits the same way the pipeline and the store do', async () => {
-    const link = { threshold: 0.1, calibration: { mode: 'fixed' }, crossStoryMargin: 0, splitThreshold: 0.2, splitMinMentions: 4, consolidateEvery: 7 };
+    const link = {
+      threshold: 0.1,
+      calibration: { mode: 'fixed' },
+      crossStoryMargin: 0,
+      splitThreshold: 0.2,
+      splitMinMentions: 4,
+      consolidateEvery: 7,
+    };
     rt = await testRuntime({ link });
-    const outcomes = await lastValueFrom(runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()));
+    const outcomes = await lastValueFrom(
+      runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()),
+    );
     expect(outcomes.at(-1)!.splits).toHaveLength(1);
     const detected = await detectArticles(rt.nlp, articles(), () => ({ kind: 'article' }), rt.config, rt.embedder);
-    const alone = await linkDetected(rt.config, detected, { nlp: rt.nlp, logger: createLogger('silent'), now: () => new Date('2026-10-09T10:00:00.000Z') });
-    const last = (os: typeof outcomes) => os.at(-1)!.splits.map((sp) => ({ moved: sp.moved.map((m) => m.articleId).sort(), mentions: sp.moved.length }));
+    const alone = await linkDetected(rt.config, detected, {
+      nlp: rt.nlp,
+      logger: createLogger('silent'),
+      now: () => new Date('2026-10-09T10:00:00.000Z'),
+    });
+    const last = (os: typeof outcomes) =>
+      os.at(-1)!.splits.map((sp) => ({ moved: sp.moved.map((m) => m.articleId).sort(), mentions: sp.moved.length }));
     expect(last(alone.outcomes)).toEqual(last(outcomes));
     const groups = (os: typeof outcomes) => os.map((o) => o.assignments.map((a) => a.eventIds.length));
     expect(groups(alone.outcomes)).toEqual(groups(outcomes));

@@ -11,15 +11,22 @@ import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 async function demoArticles(): Promise<{ articles: Article[]; story: Map<string, { story: string; copyOf: string | null }> }> {
   const articles = (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles;
-  const story = new Map(readFileSync(new URL('../../demo-feed/stories.jsonl', import.meta.url), 'utf8').trim().split('\n')
-    .map((l) => JSON.parse(l) as { article: string; story: string; copyOf: string | null }).map((s) => [s.article, s]));
+  const story = new Map(
+    readFileSync(new URL('../../demo-feed/stories.jsonl', import.meta.url), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l) as { article: string; story: string; copyOf: string | null })
+      .map((s) => [s.article, s]),
+  );
   return { articles, story };
 }
 
 describe('recognising syndicated copies', () => {
   it('separates lightly edited copies from other articles, even on the same story by another outlet (built pair set)', async () => {
     const { articles, story } = await demoArticles();
-    const originals = articles.filter((a) => !story.get(a.id)?.copyOf).map((a) => ({ id: a.id, text: a.text, story: story.get(a.id)?.story ?? null }));
+    const originals = articles
+      .filter((a) => !story.get(a.id)?.copyOf)
+      .map((a) => ({ id: a.id, text: a.text, story: story.get(a.id)?.story ?? null }));
     const pairs = buildPairSet(originals);
     const threshold = testConfig().copies.nearThreshold;
     const counts = { tp: 0, fp: 0, fn: 0, tn: 0 };
@@ -45,8 +52,13 @@ describe('recognising syndicated copies', () => {
     function editedCopy(a: Article, outlet: string): Article {
       const paras = a.text.split(/\n\n+/);
       return {
-        ...a, id: `https://ledger.example/wire/${encodeURIComponent(a.id)}`, outlet, url: null, title: `Wire: ${a.title}`,
-        text: `Harbour Ledger staff and agencies\n\n${paras.slice(0, Math.max(1, paras.length - 1)).join('\n\n')}`, contentHash: `edited-${a.contentHash}`,
+        ...a,
+        id: `https://ledger.example/wire/${encodeURIComponent(a.id)}`,
+        outlet,
+        url: null,
+        title: `Wire: ${a.title}`,
+        text: `Harbour Ledger staff and agencies\n\n${paras.slice(0, Math.max(1, paras.length - 1)).join('\n\n')}`,
+        contentHash: `edited-${a.contentHash}`,
         published: new Date(Date.parse(a.published!) + 3 * 3_600_000).toISOString(),
       };
     }
@@ -87,7 +99,13 @@ describe('recognising syndicated copies', () => {
       rt = await testRuntime();
       const { articles } = await demoArticles();
       const a = articles.find((x) => x.url)!;
-      const again = { ...a, id: 'urn:uuid:4f0c6f1e-0000-4000-8000-000000000001', url: `${a.url}?utm_source=rss#top`, text: `${a.text} (Updated.)`, contentHash: 'other' };
+      const again = {
+        ...a,
+        id: 'urn:uuid:4f0c6f1e-0000-4000-8000-000000000001',
+        url: `${a.url}?utm_source=rss#top`,
+        text: `${a.text} (Updated.)`,
+        contentHash: 'other',
+      };
       const [first, second] = await runArticles(rt, [a, again]);
       expect(first!.status).toBe('stored');
       expect(second).toMatchObject({ status: 'duplicate', reason: expect.stringContaining('same URL') });

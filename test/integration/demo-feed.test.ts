@@ -9,7 +9,14 @@ const gold = demoGold();
 const stories = demoStories();
 const storyOf = new Map(stories.map((s) => [s.article, s.story]));
 // Event ids carry their story as a prefix (flood-…, bridge-…); see demo-feed/README.md.
-const HOME_STORY: Record<string, string> = { flood: 'flood-valley', bridge: 'flood-bridge', strike: 'port-strike', budget: 'budget', fire: 'warehouse-fire', trial: 'maskell-trial' };
+const HOME_STORY: Record<string, string> = {
+  flood: 'flood-valley',
+  bridge: 'flood-bridge',
+  strike: 'port-strike',
+  budget: 'budget',
+  fire: 'warehouse-fire',
+  trial: 'maskell-trial',
+};
 
 describe('the demo scenario', () => {
   it('has at least 6 outlets publishing in all three feed formats', () => {
@@ -30,7 +37,9 @@ describe('the demo scenario', () => {
   it('has at least 15 sentences that refer back to an event of another story, and sentences with several events', () => {
     const bySentence = new Map<string, string[]>();
     for (const g of gold) bySentence.set(`${g.article}#${g.sentence}`, [...(bySentence.get(`${g.article}#${g.sentence}`) ?? []), g.event]);
-    const cross = [...bySentence].filter(([k, evs]) => evs.some((e) => HOME_STORY[e.split('-')[0]!] !== storyOf.get(k.slice(0, k.lastIndexOf('#')))));
+    const cross = [...bySentence].filter(([k, evs]) =>
+      evs.some((e) => HOME_STORY[e.split('-')[0]!] !== storyOf.get(k.slice(0, k.lastIndexOf('#')))),
+    );
     expect(cross.length).toBeGreaterThanOrEqual(15);
     expect([...bySentence.values()].filter((evs) => evs.length >= 2).length).toBeGreaterThanOrEqual(5);
   });
@@ -56,7 +65,8 @@ describe('the demo through the pipeline', () => {
     for (const g of gold) {
       const a = await rt.store.getArticle(g.article);
       const s = a?.sentences[g.sentence];
-      if (s?.text !== g.text) wrong.push(`${g.article}#${g.sentence}: expected ${JSON.stringify(g.text)}, split gave ${JSON.stringify(s?.text)}`);
+      if (s?.text !== g.text)
+        wrong.push(`${g.article}#${g.sentence}: expected ${JSON.stringify(g.text)}, split gave ${JSON.stringify(s?.text)}`);
     }
     expect(wrong).toEqual([]);
   });

@@ -19,13 +19,44 @@ import { testConfig } from '../helpers/runtime.js';
 const logger = createLogger('silent');
 
 const SMALL = [
-  { id: 'r1', outlet: 'A', published: '2026-03-01', title: 'Shooting in Norvale', sentences: ['Two men were shot in Norvale on Saturday night.', 'Police arrested a suspect.'], topic: 'crime', subtopic: 'norvale' },
-  { id: 'r2', outlet: 'B', published: '2026-03-02', title: 'Norvale shooting suspect held', sentences: ['A suspect was arrested after two men were shot in Norvale on Saturday.'], topic: 'crime', subtopic: 'norvale' },
-  { id: 'r3', outlet: 'C', published: '2026-05-20', title: 'Warehouse fire in Tessbury', sentences: ['A fire destroyed a warehouse in Tessbury on Tuesday.'], topic: 'fire', subtopic: 'tessbury' },
+  {
+    id: 'r1',
+    outlet: 'A',
+    published: '2026-03-01',
+    title: 'Shooting in Norvale',
+    sentences: ['Two men were shot in Norvale on Saturday night.', 'Police arrested a suspect.'],
+    topic: 'crime',
+    subtopic: 'norvale',
+  },
+  {
+    id: 'r2',
+    outlet: 'B',
+    published: '2026-03-02',
+    title: 'Norvale shooting suspect held',
+    sentences: ['A suspect was arrested after two men were shot in Norvale on Saturday.'],
+    topic: 'crime',
+    subtopic: 'norvale',
+  },
+  {
+    id: 'r3',
+    outlet: 'C',
+    published: '2026-05-20',
+    title: 'Warehouse fire in Tessbury',
+    sentences: ['A fire destroyed a warehouse in Tessbury on Tuesday.'],
+    topic: 'fire',
+    subtopic: 'tessbury',
+  },
 ];
 
 function articleLevel(): EvalCorpus {
-  const input = checkEvalInput({ articles: SMALL, gold: [{ article: 'r1', sentence: null, event: 'I1' }, { article: 'r2', sentence: null, event: 'I1' }, { article: 'r3', sentence: null, event: 'I2' }] });
+  const input = checkEvalInput({
+    articles: SMALL,
+    gold: [
+      { article: 'r1', sentence: null, event: 'I1' },
+      { article: 'r2', sentence: null, event: 'I1' },
+      { article: 'r3', sentence: null, event: 'I2' },
+    ],
+  });
   return { name: 'incidents', source: 'test', input };
 }
 
@@ -44,11 +75,16 @@ describe('evaluating several corpora in one run', () => {
       expect(c.settings.map((s) => s.setting)).toEqual(['gold', 'predicted']);
       for (const s of c.settings) {
         expect(s.systems.map((x) => x.name)).toEqual([
-          'Strandline linker', 'baseline: all singletons', 'baseline: one event per subtopic', 'baseline: lexical overlap',
-          'baseline: online TF-IDF centroid', 'baseline: batch average-link (all pairs)',
+          'Strandline linker',
+          'baseline: all singletons',
+          'baseline: one event per subtopic',
+          'baseline: lexical overlap',
+          'baseline: online TF-IDF centroid',
+          'baseline: batch average-link (all pairs)',
         ]);
         // CoNLL F1 is the mean of MUC, B3 and CEAFe F1 (Pradhan et al. 2014, "Scoring coreference partitions"; common practice).
-        for (const x of s.systems) expect(x.partition.conllF1).toBeCloseTo((x.partition.muc.f1 + x.partition.b3.f1 + x.partition.ceafe.f1) / 3, 12);
+        for (const x of s.systems)
+          expect(x.partition.conllF1).toBeCloseTo((x.partition.muc.f1 + x.partition.b3.f1 + x.partition.ceafe.f1) / 3, 12);
       }
     }
     const demo = report.corpora[0]!;
@@ -56,15 +92,19 @@ describe('evaluating several corpora in one run', () => {
     expect(demo.settings[1]!.detection!.recall).toBeGreaterThan(0.5);
   });
 
-  it('reports each thresholded system\'s best threshold and the regret of the configured one', () => {
+  it("reports each thresholded system's best threshold and the regret of the configured one", () => {
     for (const c of report.corpora) {
       for (const s of c.settings) {
         for (const x of s.systems.filter((y) => y.best)) {
-          const at = (t: number) => (x.kind === 'linker' ? s.sweep.find((p) => p.threshold === t)?.conllF1 : s.sweep.find((p) => p.threshold === t)?.baseline.conllF1);
+          const at = (t: number) =>
+            x.kind === 'linker'
+              ? s.sweep.find((p) => p.threshold === t)?.conllF1
+              : s.sweep.find((p) => p.threshold === t)?.baseline.conllF1;
           expect([config.link.threshold, ...thresholds]).toContain(x.best!.conll.threshold);
           expect(x.best!.conll.regret).toBeGreaterThanOrEqual(0);
           expect(x.best!.conll.value - x.best!.conll.regret).toBeCloseTo(x.partition.conllF1, 12);
-          for (const t of thresholds) if (x.kind === 'linker' || x.name.includes('online')) expect(at(t)!).toBeLessThanOrEqual(x.best!.conll.value + 1e-12);
+          for (const t of thresholds)
+            if (x.kind === 'linker' || x.name.includes('online')) expect(at(t)!).toBeLessThanOrEqual(x.best!.conll.value + 1e-12);
         }
       }
     }
@@ -110,7 +150,11 @@ describe('evaluating several corpora in one run', () => {
     const gold = report.corpora[0]!.settings[0]!;
     expect(gold.answer).toHaveLength(gold.goldMentions);
     expect(gold.answer[0]).toEqual({ article: expect.any(String), sentence: expect.any(Number), events: [expect.stringMatching(/^ev_/)] });
-    expect(report.corpora[1]!.settings[0]!.answer.map((a) => [a.article, a.sentence])).toEqual([['r1', null], ['r2', null], ['r3', null]]);
+    expect(report.corpora[1]!.settings[0]!.answer.map((a) => [a.article, a.sentence])).toEqual([
+      ['r1', null],
+      ['r2', null],
+      ['r3', null],
+    ]);
   });
 
   it('counts the gold sentences that carry several events, since partition scores see only one', () => {
@@ -131,19 +175,40 @@ describe('evaluating several corpora in one run', () => {
 describe('evaluating scoped gold and gold that quotes the mention inside its sentence', () => {
   it('scores only the sentences in scope', async () => {
     const input = checkEvalInput({
-      articles: SMALL, gold: [{ article: 'r1', sentence: 0, event: 'I1' }, { article: 'r1', sentence: 1, event: 'I1' }, { article: 'r2', sentence: 0, event: 'I1' }],
+      articles: SMALL,
+      gold: [
+        { article: 'r1', sentence: 0, event: 'I1' },
+        { article: 'r1', sentence: 1, event: 'I1' },
+        { article: 'r2', sentence: 0, event: 'I1' },
+      ],
       scope: new Set(['r1#0', 'r2#0']),
     });
-    const report = await runEval([{ name: 'scoped', source: 'test', input }], { config: testConfig(), settings: ['gold', 'predicted'], thresholds: [0.2], logger });
+    const report = await runEval([{ name: 'scoped', source: 'test', input }], {
+      config: testConfig(),
+      settings: ['gold', 'predicted'],
+      thresholds: [0.2],
+      logger,
+    });
     const [gold, predicted] = report.corpora[0]!.settings;
     expect(gold!.goldMentions).toBe(2);
     expect(gold!.answer.map((a) => `${a.article}#${a.sentence}`).sort()).toEqual(['r1#0', 'r2#0']);
     expect(predicted!.answer.every((a) => ['r1#0', 'r2#0'].includes(`${a.article}#${a.sentence}`))).toBe(true);
   });
 
-  it('takes a gold line whose text is the mention\'s words rather than the whole sentence', async () => {
-    const input = checkEvalInput({ articles: SMALL, gold: [{ article: 'r1', sentence: 0, event: 'I1', text: 'were shot' }, { article: 'r2', sentence: 0, event: 'I1', text: 'shot in Norvale' }] });
-    const report = await runEval([{ name: 'spans', source: 'test', input }], { config: testConfig(), settings: ['gold'], thresholds: [0.2], logger });
+  it("takes a gold line whose text is the mention's words rather than the whole sentence", async () => {
+    const input = checkEvalInput({
+      articles: SMALL,
+      gold: [
+        { article: 'r1', sentence: 0, event: 'I1', text: 'were shot' },
+        { article: 'r2', sentence: 0, event: 'I1', text: 'shot in Norvale' },
+      ],
+    });
+    const report = await runEval([{ name: 'spans', source: 'test', input }], {
+      config: testConfig(),
+      settings: ['gold'],
+      thresholds: [0.2],
+      logger,
+    });
     expect(report.corpora[0]!.settings[0]!.goldMentions).toBe(2);
   });
 });
@@ -161,10 +226,27 @@ describe('the eval command', () => {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-eval-'));
     capture();
     expect(await exportDemoCommand(join(dir, 'demo'), { logLevel: 'silent' })).toBe(0);
-    const gold = readFileSync(join(dir, 'demo', 'gold.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
-    expect(gold[0]).toMatchObject({ article: expect.any(String), sentence: expect.any(Number), text: expect.any(String), event: expect.any(String) });
+    const gold = readFileSync(join(dir, 'demo', 'gold.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
+    expect(gold[0]).toMatchObject({
+      article: expect.any(String),
+      sentence: expect.any(Number),
+      text: expect.any(String),
+      event: expect.any(String),
+    });
     writeFileSync(join(dir, 'demo', 'scope.jsonl'), `${JSON.stringify({ article: gold[0].article, sentence: gold[0].sentence })}\n`);
-    const code = await evalCommand({ corpus: [join(dir, 'demo')], articles: join(dir, 'demo', 'articles.jsonl'), gold: join(dir, 'demo', 'gold.jsonl'), setting: 'gold', thresholds: '0.2:0.3:0.1', sweep: true, out: join(dir, 'out'), logLevel: 'silent' });
+    const code = await evalCommand({
+      corpus: [join(dir, 'demo')],
+      articles: join(dir, 'demo', 'articles.jsonl'),
+      gold: join(dir, 'demo', 'gold.jsonl'),
+      setting: 'gold',
+      thresholds: '0.2:0.3:0.1',
+      sweep: true,
+      out: join(dir, 'out'),
+      logLevel: 'silent',
+    });
     expect(code).toBe(0);
     expect(out).toMatch(/Gold mentions: 1 gold/);
     expect(out).toMatch(/baseline: batch average-link \(all pairs\)/);
@@ -184,7 +266,11 @@ describe('the eval command', () => {
   });
 
   it.each([
-    ['0.5:0.1:0.1', /from <= to/], ['0:0.5:0.1', /0 < from/], ['0.1:0.5', /from:to:step/], ['0.1:0.5:0.0001', /at most 200 steps/], ['x', /from:to:step/],
+    ['0.5:0.1:0.1', /from <= to/],
+    ['0:0.5:0.1', /0 < from/],
+    ['0.1:0.5', /from:to:step/],
+    ['0.1:0.5:0.0001', /at most 200 steps/],
+    ['x', /from:to:step/],
   ])('refuses --thresholds %s', (spec, message) => {
     expect(() => parseThresholds(spec)).toThrow(message);
   });

@@ -14,9 +14,18 @@ const SPECIAL = {
   '/down': (_req: IncomingMessage, res: ServerResponse) => res.writeHead(503, { 'retry-after': 'Thu, 01 Oct 2026 09:00:00 GMT' }).end(),
   '/broken': (_req: IncomingMessage, res: ServerResponse) => res.writeHead(500).end('oops'),
   '/loop': (_req: IncomingMessage, res: ServerResponse) => res.writeHead(302, { location: '/loop' }).end(),
-  '/huge': (_req: IncomingMessage, res: ServerResponse) => { res.writeHead(200, { 'content-type': 'application/rss+xml' }); res.end(`<rss version="2.0"><channel><title>x</title>${'<!-- pad -->'.repeat(20_000)}</channel></rss>`); },
-  '/garbage': (_req: IncomingMessage, res: ServerResponse) => res.writeHead(200, { 'content-type': 'text/html' }).end('<html><body>not a feed</body></html>'),
-  '/bomb': (_req: IncomingMessage, res: ServerResponse) => res.writeHead(200, { 'content-type': 'application/xml' }).end('<?xml version="1.0"?><!DOCTYPE r [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]><rss version="2.0"><channel><title>&b;</title></channel></rss>'),
+  '/huge': (_req: IncomingMessage, res: ServerResponse) => {
+    res.writeHead(200, { 'content-type': 'application/rss+xml' });
+    res.end(`<rss version="2.0"><channel><title>x</title>${'<!-- pad -->'.repeat(20_000)}</channel></rss>`);
+  },
+  '/garbage': (_req: IncomingMessage, res: ServerResponse) =>
+    res.writeHead(200, { 'content-type': 'text/html' }).end('<html><body>not a feed</body></html>'),
+  '/bomb': (_req: IncomingMessage, res: ServerResponse) =>
+    res
+      .writeHead(200, { 'content-type': 'application/xml' })
+      .end(
+        '<?xml version="1.0"?><!DOCTYPE r [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]><rss version="2.0"><channel><title>&b;</title></channel></rss>',
+      ),
   '/slow': () => undefined,
 };
 
@@ -27,10 +36,19 @@ describe('polling feeds', () => {
   let clock: Date;
   const limits = { ...testConfig().ingest, allowPrivateNetworks: true, fetchTimeoutMs: 1500, maxFeedBytes: 100_000 };
   const options = { ...testConfig().poll, intervalSeconds: 600, maxBackoffSeconds: 3600 };
-  const poller = (over: Partial<typeof options> = {}) => new FeedPoller({
-    store, submit: async (a) => void submitted.push(...a), limits, options: { ...options, ...over }, logger: createLogger('silent'), now: () => clock, random: () => 0.5,
-  });
-  const later = (seconds: number) => { clock = new Date(clock.getTime() + seconds * 1000); };
+  const poller = (over: Partial<typeof options> = {}) =>
+    new FeedPoller({
+      store,
+      submit: async (a) => void submitted.push(...a),
+      limits,
+      options: { ...options, ...over },
+      logger: createLogger('silent'),
+      now: () => clock,
+      random: () => 0.5,
+    });
+  const later = (seconds: number) => {
+    clock = new Date(clock.getTime() + seconds * 1000);
+  };
 
   beforeEach(async () => {
     server = await startFeedServer(3, 4, SPECIAL);
@@ -154,11 +172,20 @@ describe('polling feeds', () => {
     const p = poller({ maxFeeds: 2 });
     await expect(p.add({ url: 'not a url' })).rejects.toMatchObject({ code: 'STRAND_REQUEST_INVALID' });
     await expect(p.add({ url: 'file:///etc/passwd' })).rejects.toMatchObject({ code: 'STRAND_REQUEST_INVALID' });
-    const strict = new FeedPoller({ store, submit: async () => undefined, limits: { ...limits, allowPrivateNetworks: false }, options, logger: createLogger('silent') });
+    const strict = new FeedPoller({
+      store,
+      submit: async () => undefined,
+      limits: { ...limits, allowPrivateNetworks: false },
+      options,
+      logger: createLogger('silent'),
+    });
     await expect(strict.add({ url: 'http://127.0.0.1:9/feed' })).rejects.toMatchObject({ code: 'STRAND_SOURCE_FORBIDDEN' });
     await p.add({ url: server.url('/feeds/0.xml') });
     await expect(p.add({ url: server.url('/feeds/0.xml') })).rejects.toMatchObject({ code: 'STRAND_FEED_CONFLICT' });
     await p.add({ url: server.url('/feeds/1.xml') });
-    await expect(p.add({ url: server.url('/feeds/2.xml') })).rejects.toMatchObject({ code: 'STRAND_FEED_CONFLICT', message: expect.stringMatching(/maxFeeds/) });
+    await expect(p.add({ url: server.url('/feeds/2.xml') })).rejects.toMatchObject({
+      code: 'STRAND_FEED_CONFLICT',
+      message: expect.stringMatching(/maxFeeds/),
+    });
   });
 });

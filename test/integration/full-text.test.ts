@@ -24,11 +24,14 @@ describe('full text of summary-only feeds', () => {
     expect(text).toMatch(/^A container crane collapsed/);
     expect(text).toMatch(/delays of up to three days\.$/);
     expect(text.split('\n\n')).toHaveLength(3);
-    for (const noise of ['Home', 'The fallen crane on Tuesday', 'ferry timetable', 'all rights reserved', 'track()']) expect(text).not.toContain(noise);
+    for (const noise of ['Home', 'The fallen crane on Tuesday', 'ferry timetable', 'all rights reserved', 'track()'])
+      expect(text).not.toContain(noise);
   });
 
   it('says clearly when a page has no article', () => {
-    expect(() => extractArticleText('<html><body><nav>Menu</nav></body></html>', 'https://ledger.example/x')).toThrow(/no article text found/);
+    expect(() => extractArticleText('<html><body><nav>Menu</nav></body></html>', 'https://ledger.example/x')).toThrow(
+      /no article text found/,
+    );
   });
 
   describe('when polling', () => {
@@ -40,7 +43,8 @@ describe('full text of summary-only feeds', () => {
     beforeEach(async () => {
       server = createServer((req, res) => {
         if (req.url === '/feed.xml') {
-          res.writeHead(200, { 'content-type': 'application/rss+xml' }).end(`<rss version="2.0"><channel><title>Harbour Ledger</title><link>${base}/</link><description>d</description>
+          res.writeHead(200, { 'content-type': 'application/rss+xml' })
+            .end(`<rss version="2.0"><channel><title>Harbour Ledger</title><link>${base}/</link><description>d</description>
             <item><title>Crane falls at Korrin pier</title><link>/crane</link><description>A crane fell.</description><pubDate>Tue, 06 Oct 2026 09:00:00 GMT</pubDate></item>
             <item><title>Missing page</title><link>/gone</link><description>Something happened.</description><pubDate>Tue, 06 Oct 2026 10:00:00 GMT</pubDate></item>
           </channel></rss>`);
@@ -61,10 +65,14 @@ describe('full text of summary-only feeds', () => {
       await store.close();
     });
 
-    const poller = (fullText: boolean) => new FeedPoller({
-      store, submit: async (a) => void submitted.push(...a), limits: { ...testConfig().ingest, allowPrivateNetworks: true },
-      options: { ...testConfig().poll, fullText }, logger: createLogger('silent'),
-    });
+    const poller = (fullText: boolean) =>
+      new FeedPoller({
+        store,
+        submit: async (a) => void submitted.push(...a),
+        limits: { ...testConfig().ingest, allowPrivateNetworks: true },
+        options: { ...testConfig().poll, fullText },
+        logger: createLogger('silent'),
+      });
 
     it('replaces a summary by the page body, keeps the summary when the page fails, and says so in the health', async () => {
       const p = poller(true);
@@ -74,7 +82,11 @@ describe('full text of summary-only feeds', () => {
       expect(crane!.text).toMatch(/^A container crane collapsed/);
       expect(crane!.contentHash).not.toBe(gone!.contentHash);
       expect(gone!.text).toBe('Something happened.');
-      expect(p.list()[0]!.state).toMatchObject({ failures: 0, lastStatus: 200, lastError: expect.stringMatching(/full text not fetched for 1 item/) });
+      expect(p.list()[0]!.state).toMatchObject({
+        failures: 0,
+        lastStatus: 200,
+        lastError: expect.stringMatching(/full text not fetched for 1 item/),
+      });
       await p.stop();
     });
 

@@ -32,9 +32,17 @@ describe('agreement with the demo gold', () => {
     const found = [...gold.keys()].filter((k) => system.has(k)).length;
     detection = { precision: found / detected, recall: found / gold.size };
     const story = new Map(demoStories().map((s) => [s.article, s.story]));
-    scores = pairwiseLinkScores(gold, system, (k) => k.slice(0, k.lastIndexOf('#')), (a) => story.get(a) ?? null);
-    const line = (k: PairKind) => `${k.padEnd(13)} P ${scores[k].precision.toFixed(3)}  R ${scores[k].recall.toFixed(3)}  F1 ${scores[k].f1.toFixed(3)}  (gold pairs ${scores[k].goldPairs}, system pairs ${scores[k].systemPairs})`;
-    process.stdout.write(`\ndemo agreement, predicted mentions, default configuration\nevent sentences P ${detection.precision.toFixed(3)}  R ${detection.recall.toFixed(3)}\n${(['all', 'withinArticle', 'crossArticle', 'crossStory'] as PairKind[]).map(line).join('\n')}\n`);
+    scores = pairwiseLinkScores(
+      gold,
+      system,
+      (k) => k.slice(0, k.lastIndexOf('#')),
+      (a) => story.get(a) ?? null,
+    );
+    const line = (k: PairKind) =>
+      `${k.padEnd(13)} P ${scores[k].precision.toFixed(3)}  R ${scores[k].recall.toFixed(3)}  F1 ${scores[k].f1.toFixed(3)}  (gold pairs ${scores[k].goldPairs}, system pairs ${scores[k].systemPairs})`;
+    process.stdout.write(
+      `\ndemo agreement, predicted mentions, default configuration\nevent sentences P ${detection.precision.toFixed(3)}  R ${detection.recall.toFixed(3)}\n${(['all', 'withinArticle', 'crossArticle', 'crossStory'] as PairKind[]).map(line).join('\n')}\n`,
+    );
   });
 
   it('finds most event sentences', () => {

@@ -18,15 +18,20 @@ describe('articles between admission and their outcome', () => {
     let detected = 0;
     let out = 0;
     let most = 0;
-    const outcomes = await lastValueFrom(runPipeline(from(articles), {
-      ...rt,
-      // Asked once per article at detection, after its analysis: counts the articles in hand.
-      selectMentions: () => {
-        detected++;
-        most = Math.max(most, detected - out);
-        return { kind: 'threshold' };
-      },
-    }).pipe(tap(() => out++), toArray()));
+    const outcomes = await lastValueFrom(
+      runPipeline(from(articles), {
+        ...rt,
+        // Asked once per article at detection, after its analysis: counts the articles in hand.
+        selectMentions: () => {
+          detected++;
+          most = Math.max(most, detected - out);
+          return { kind: 'threshold' };
+        },
+      }).pipe(
+        tap(() => out++),
+        toArray(),
+      ),
+    );
     await rt.close();
     expect(outcomes.filter((o) => o.status === 'stored')).toHaveLength(101);
     // Analysis on the main thread: the window is two groups of 32. Without it, all 101.

@@ -11,7 +11,11 @@ const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const CLI = ['--import', 'tsx', join(ROOT, 'src/cli/main.ts')];
 
 function replay(db: string, extra: string[] = []) {
-  return spawnSync(process.execPath, [...CLI, 'replay', `${DEMO_DIR}feeds`, '--db', db, '--no-progress', '--log-level', 'silent', ...extra], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
+  return spawnSync(
+    process.execPath,
+    [...CLI, 'replay', `${DEMO_DIR}feeds`, '--db', db, '--no-progress', '--log-level', 'silent', ...extra],
+    { cwd: ROOT, encoding: 'utf8', timeout: 120_000 },
+  );
 }
 
 function count(db: string, sql: string): number {
@@ -27,7 +31,11 @@ function count(db: string, sql: string): number {
 function partition(db: string): string[] {
   const d = new Database(db, { readonly: true });
   try {
-    const rows = d.prepare("SELECT event_id, group_concat(article_id || '#' || sentence_idx, ' ') AS members FROM (SELECT * FROM links ORDER BY article_id, sentence_idx) GROUP BY event_id").all() as { members: string }[];
+    const rows = d
+      .prepare(
+        "SELECT event_id, group_concat(article_id || '#' || sentence_idx, ' ') AS members FROM (SELECT * FROM links ORDER BY article_id, sentence_idx) GROUP BY event_id",
+      )
+      .all() as { members: string }[];
     return rows.map((r) => r.members).sort();
   } finally {
     d.close();
@@ -38,7 +46,10 @@ function partition(db: string): string[] {
 function linkRows(db: string): string[] {
   const d = new Database(db, { readonly: true });
   try {
-    return (d.prepare("SELECT article_id || '#' || sentence_idx || '#' || rank || ' ' || event_id || ' ' || score FROM links ORDER BY 1").pluck().all() as string[]);
+    return d
+      .prepare("SELECT article_id || '#' || sentence_idx || '#' || rank || ' ' || event_id || ' ' || score FROM links ORDER BY 1")
+      .pluck()
+      .all() as string[];
   } finally {
     d.close();
   }
@@ -48,8 +59,13 @@ function linkRows(db: string): string[] {
 function stories(db: string): string[] {
   const d = new Database(db, { readonly: true });
   try {
-    return (d.prepare(`SELECT s.id || ' ' || s.article_count || ' ' || s.names || ' ' || (SELECT group_concat(id, ' ') FROM (SELECT id FROM articles a WHERE a.story_id = s.id ORDER BY id))
-      FROM stories s ORDER BY s.id`).pluck().all() as string[]);
+    return d
+      .prepare(
+        `SELECT s.id || ' ' || s.article_count || ' ' || s.names || ' ' || (SELECT group_concat(id, ' ') FROM (SELECT id FROM articles a WHERE a.story_id = s.id ORDER BY id))
+      FROM stories s ORDER BY s.id`,
+      )
+      .pluck()
+      .all() as string[];
   } finally {
     d.close();
   }
@@ -63,7 +79,11 @@ describe('a replay killed with SIGKILL and started again', () => {
     expect(replay(clean).status).toBe(0);
 
     // Pace the replay so that the kill lands in the middle of it.
-    const child = spawn(process.execPath, [...CLI, 'replay', `${DEMO_DIR}feeds`, '--db', crashed, '--no-progress', '--log-level', 'silent', '--pace', '40'], { cwd: ROOT, stdio: 'ignore' });
+    const child = spawn(
+      process.execPath,
+      [...CLI, 'replay', `${DEMO_DIR}feeds`, '--db', crashed, '--no-progress', '--log-level', 'silent', '--pace', '40'],
+      { cwd: ROOT, stdio: 'ignore' },
+    );
     const exited = new Promise((r) => child.once('exit', r));
     let stored = 0;
     for (let i = 0; i < 600 && stored < 30; i++) {

@@ -12,12 +12,25 @@ import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 function links(path: string): { links: Map<string, [string, number, number]>; stories: Map<string, string>; records: Map<string, string> } {
   const d = new Database(path, { readonly: true });
   try {
-    const rows = d.prepare('SELECT article_id, sentence_idx, rank, event_id, score, evidence FROM links').all() as { article_id: string; sentence_idx: number; rank: number; event_id: string; score: number; evidence: string }[];
+    const rows = d.prepare('SELECT article_id, sentence_idx, rank, event_id, score, evidence FROM links').all() as {
+      article_id: string;
+      sentence_idx: number;
+      rank: number;
+      event_id: string;
+      score: number;
+      evidence: string;
+    }[];
     const stories = d.prepare('SELECT id, story_id FROM articles').raw().all() as [string, string][];
     const records = d.prepare('SELECT id, label || article_count || names FROM stories').raw().all() as [string, string][];
     return {
-      links: new Map(rows.map((r) => [`${r.article_id}#${r.sentence_idx}#${r.rank}`, [r.event_id, r.score, (JSON.parse(r.evidence) as { bar?: number }).bar ?? -1]])),
-      stories: new Map(stories), records: new Map(records),
+      links: new Map(
+        rows.map((r) => [
+          `${r.article_id}#${r.sentence_idx}#${r.rank}`,
+          [r.event_id, r.score, (JSON.parse(r.evidence) as { bar?: number }).bar ?? -1],
+        ]),
+      ),
+      stories: new Map(stories),
+      records: new Map(records),
     };
   } finally {
     d.close();
@@ -41,14 +54,17 @@ describe('a linker restarted from its store', () => {
   // Cuts after a consolidation pass (25, 50: consolidateEvery) and in between, so the
   // restarted linker rebuilds the index, the rarity counts, the split marks, the stories and
   // the calibration tally from the store.
-  it.each([25, 37, 50, 64, 99])('links and files into stories exactly as an uninterrupted one, every score and calibrated bar bit for bit, when stopped after %i articles', async (cut) => {
-    const path = join(dir, `cut-${cut}.sqlite`);
-    const first = await testRuntime({}, path);
-    await runArticles(first, articles.slice(0, cut));
-    await first.close();
-    const second = await testRuntime({}, path);
-    await runArticles(second, articles);
-    await second.close();
-    expect(links(path)).toEqual(uninterrupted);
-  });
+  it.each([25, 37, 50, 64, 99])(
+    'links and files into stories exactly as an uninterrupted one, every score and calibrated bar bit for bit, when stopped after %i articles',
+    async (cut) => {
+      const path = join(dir, `cut-${cut}.sqlite`);
+      const first = await testRuntime({}, path);
+      await runArticles(first, articles.slice(0, cut));
+      await first.close();
+      const second = await testRuntime({}, path);
+      await runArticles(second, articles);
+      await second.close();
+      expect(links(path)).toEqual(uninterrupted);
+    },
+  );
 });

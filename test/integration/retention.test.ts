@@ -9,7 +9,9 @@ import { redisTestsRun } from '../helpers/redis.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 const subscriber = {
-  name: 'desk', url: 'http://127.0.0.1:9/hook', secret: 'whsec_c3RyYW5kbGluZS1leGFtcGxlLXNlY3JldC1rZXk=',
+  name: 'desk',
+  url: 'http://127.0.0.1:9/hook',
+  secret: 'whsec_c3RyYW5kbGluZS1leGFtcGxlLXNlY3JldC1rZXk=',
   types: ['event.opened', 'event.outlet_added', 'event.merged', 'event.split'],
 };
 
@@ -19,7 +21,14 @@ async function runtimeOn(kind: 'sqlite' | 'redis') {
   if (kind === 'sqlite') return { rt: await testRuntime({ webhooks }), done: async () => undefined };
   const redis = { url: 'redis://127.0.0.1:6379', partition: `test-${randomUUID()}` };
   const rt = await createRuntime(testConfig({ webhooks, store: { kind: 'redis', redis } }), createLogger('silent'));
-  return { rt, done: async () => { const s = await openRedisStore(redis); await s.dropPartition(); await s.close(); } };
+  return {
+    rt,
+    done: async () => {
+      const s = await openRedisStore(redis);
+      await s.dropPartition();
+      await s.close();
+    },
+  };
 }
 
 describe.each([
@@ -35,7 +44,8 @@ describe.each([
     const before = articles.filter((a) => day(a) < cutoff);
     const after = articles.filter((a) => day(a) >= cutoff);
     await runArticles(rt, before);
-    const textsOf = async (list: typeof articles) => (await Promise.all(list.map(async (a) => ((await rt.store.getArticle(a.id))?.sentences ?? []).map((s) => s.text ?? '')))).flat();
+    const textsOf = async (list: typeof articles) =>
+      (await Promise.all(list.map(async (a) => ((await rt.store.getArticle(a.id))?.sentences ?? []).map((s) => s.text ?? '')))).flat();
     const erasable = new Set((await textsOf(before)).filter((t) => t.length >= 40));
     expect(await rt.store.eraseTextBefore(cutoff)).toBe(before.length);
     // Later articles join events first reported (and labelled) by erased ones.

@@ -20,10 +20,20 @@ describe.concurrent('SIGINT and SIGTERM end every long-running command within 5 
     await new Promise<void>((r) => slow.listen(0, '127.0.0.1', r));
     slowUrl = `http://127.0.0.1:${(slow.address() as AddressInfo).port}/feed.xml`;
   });
-  afterAll(() => new Promise((r) => { slow.closeAllConnections(); slow.close(r); }));
+  afterAll(
+    () =>
+      new Promise((r) => {
+        slow.closeAllConnections();
+        slow.close(r);
+      }),
+  );
 
   it('replay --pace, SIGINT: stops storing, prints how far it got, exits 130', async () => {
-    const r = await runAndStop(['replay', join(ROOT, 'demo-feed/feeds'), '--pace', '150', '--db', 'x.sqlite', '--no-progress'], /running 101 article/, 'SIGINT');
+    const r = await runAndStop(
+      ['replay', join(ROOT, 'demo-feed/feeds'), '--pace', '150', '--db', 'x.sqlite', '--no-progress'],
+      /running 101 article/,
+      'SIGINT',
+    );
     expect(r.code, r.stderr).toBe(130);
     expect(r.stopMs).toBeLessThan(5000);
     expect(r.stdout).toMatch(/stored\s+\d+ article/);
@@ -31,7 +41,11 @@ describe.concurrent('SIGINT and SIGTERM end every long-running command within 5 
   });
 
   it('replay --pace, SIGTERM: the same, exits 143', async () => {
-    const r = await runAndStop(['replay', join(ROOT, 'demo-feed/feeds'), '--pace', '150', '--db', 'x.sqlite', '--json'], /running 101 article/, 'SIGTERM');
+    const r = await runAndStop(
+      ['replay', join(ROOT, 'demo-feed/feeds'), '--pace', '150', '--db', 'x.sqlite', '--json'],
+      /running 101 article/,
+      'SIGTERM',
+    );
     expect(r.code, r.stderr).toBe(143);
     expect(r.stopMs).toBeLessThan(5000);
     expect(JSON.parse(r.stdout).notRun).toBeGreaterThan(0);

@@ -31,6 +31,8 @@ describe('the pipeline with the transformer embedder', () => {
 
   it('refuses to start when the configured model folder is empty', async () => {
     const empty = mkdtempSync(join(tmpdir(), 'strandline-nomodel-'));
-    await expect(createRuntime(testConfig({ embed: { kind: 'transformer', modelPath: empty } }), createLogger('silent'), openSqliteStore(':memory:'))).rejects.toThrow(/STRAND|no usable sentence-embedding model/);
+    await expect(
+      createRuntime(testConfig({ embed: { kind: 'transformer', modelPath: empty } }), createLogger('silent'), openSqliteStore(':memory:')),
+    ).rejects.toThrow(/STRAND|no usable sentence-embedding model/);
   });
 });

@@ -51,7 +51,9 @@ describe('the vector space a store was made in', () => {
     await runOn(file, { hashBits: 18 }, articles);
     await runOn(file, { hashBits: 18 }, articles.slice(0, 1));
     const db = new Database(file, { readonly: true });
-    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe('tfidf: hashed unigrams, 2^18 features, idf^2');
+    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe(
+      'tfidf: hashed unigrams, 2^18 features, idf^2',
+    );
     db.close();
   });
 
@@ -68,7 +70,9 @@ describe('the vector space a store was made in', () => {
     await runOn(file, { hashBits: 18, bigrams: true, idfPower: 1 }, articles);
     const db = new Database(file, { readonly: true });
     // The form stores recorded before embed.bigrams and embed.idfPower existed.
-    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe('tfidf: hashed unigrams and bigrams, 2^18 features');
+    expect(db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get()).toBe(
+      'tfidf: hashed unigrams and bigrams, 2^18 features',
+    );
     db.close();
     const err = await refusal(file, { hashBits: 18 });
     expect(isStrandError(err, 'STRAND_VECTOR_SPACE_CHANGED')).toBe(true);

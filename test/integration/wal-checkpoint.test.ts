@@ -22,8 +22,25 @@ afterEach(() => {
 
 function article(i: number): ArticleCommit {
   return {
-    article: { id: `a${i}`, outlet: 'Harbour Ledger', url: null, title: 't', published: null, fetched: '2026-10-01T00:00:00.000Z', language: null, text: 'x'.repeat(2000), contentHash: `h${i}`, duplicateOf: null, source: 's' },
-    sentences: [], mentions: [], links: [], events: [], messages: [], idf: { docs: 0, df: new Map() },
+    article: {
+      id: `a${i}`,
+      outlet: 'Harbour Ledger',
+      url: null,
+      title: 't',
+      published: null,
+      fetched: '2026-10-01T00:00:00.000Z',
+      language: null,
+      text: 'x'.repeat(2000),
+      contentHash: `h${i}`,
+      duplicateOf: null,
+      source: 's',
+    },
+    sentences: [],
+    mentions: [],
+    links: [],
+    events: [],
+    messages: [],
+    idf: { docs: 0, df: new Map() },
   };
 }
 
@@ -67,7 +84,7 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     await store.close();
   });
 
-  it('turns SQLite\'s own checkpoint back on when the thread cannot open the database', async () => {
+  it("turns SQLite's own checkpoint back on when the thread cannot open the database", async () => {
     const dir = scratch();
     const db = new Database(join(dir, 'store.sqlite'));
     db.pragma('journal_mode = WAL');
@@ -82,7 +99,7 @@ describe('checkpointing the SQLite log on a thread of its own', () => {
     db.close();
   });
 
-  it('closes the thread\'s connection with the store: nothing else holds the file afterwards', async () => {
+  it("closes the thread's connection with the store: nothing else holds the file afterwards", async () => {
     const path = join(scratch(), 'store.sqlite');
     const store = openSqliteStore(path);
     for (let i = 0; i < 5; i++) await store.commitArticle(article(i));
@@ -110,7 +127,8 @@ describe('erasing text from the SQLite store, then compacting it', () => {
     for (let i = 2; i < 20; i++) await store.commitArticle(article(i));
     expect(await store.eraseArticleText('a1')).toBe(true);
     await store.compact();
-    const bytesOnDisk = (): string => ['', '-wal'].map((s) => (existsSync(path + s) ? readFileSync(path + s).toString('latin1') : '')).join('');
+    const bytesOnDisk = (): string =>
+      ['', '-wal'].map((s) => (existsSync(path + s) ? readFileSync(path + s).toString('latin1') : '')).join('');
     // While the store is still open, and after it is closed.
     expect(bytesOnDisk().includes(marker)).toBe(false);
     await store.close();
@@ -125,7 +143,8 @@ describe('erasing demo articles after a replay into a SQLite file', () => {
     const rt = await testRuntime({}, path);
     const articles = (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles;
     await runArticles(rt, articles);
-    const sentencesOf = async (id: string) => ((await rt.store.getArticle(id))?.sentences ?? []).map((s) => s.text ?? '').filter((t) => t.length >= 60);
+    const sentencesOf = async (id: string) =>
+      ((await rt.store.getArticle(id))?.sentences ?? []).map((s) => s.text ?? '').filter((t) => t.length >= 60);
     // Articles published before the middle day go (the retention path); the rest stay.
     const days = articles.map((a) => (a.published ?? a.fetched).slice(0, 10)).sort();
     const cutoff = days[Math.floor(days.length / 2)]!;

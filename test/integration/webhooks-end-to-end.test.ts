@@ -21,21 +21,31 @@ describe('feeds in, signed notifications out', () => {
   beforeAll(async () => {
     server = createServer((req, res) => {
       let body = '';
-      req.on('data', (c) => (body += c)).on('end', () => {
-        received.push({ type: JSON.parse(body).type, headers: req.headers as Record<string, string>, body });
-        res.writeHead(200).end('ok');
-      });
+      req
+        .on('data', (c) => (body += c))
+        .on('end', () => {
+          received.push({ type: JSON.parse(body).type, headers: req.headers as Record<string, string>, body });
+          res.writeHead(200).end('ok');
+        });
     });
     // The demo feeds of two outlets, served over HTTP, so ingest reads URLs as it would live.
     feedServer = createServer((req, res) => {
       const file = req.url === '/northwire.json' ? 'northwire.feed.json' : req.url === '/courier.xml' ? 'courier.rss.xml' : null;
       if (!file) return void res.writeHead(404).end();
-      res.writeHead(200, { 'content-type': file.endsWith('.json') ? 'application/feed+json' : 'application/rss+xml; charset=utf-8' }).end(readFileSync(`${DEMO_DIR}feeds/${file}`));
+      res
+        .writeHead(200, { 'content-type': file.endsWith('.json') ? 'application/feed+json' : 'application/rss+xml; charset=utf-8' })
+        .end(readFileSync(`${DEMO_DIR}feeds/${file}`));
     });
     await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
     await new Promise<void>((r) => feedServer.listen(0, '127.0.0.1', r));
     // The feeds are served on 127.0.0.1, which live ingest refuses unless allowed.
-    rt = await testRuntime({ ingest: { allowPrivateNetworks: true }, webhooks: { allowPrivateNetworks: true, subscribers: [{ name: 'desk', url: `http://127.0.0.1:${(server.address() as AddressInfo).port}/hook`, secret: SECRET }] } });
+    rt = await testRuntime({
+      ingest: { allowPrivateNetworks: true },
+      webhooks: {
+        allowPrivateNetworks: true,
+        subscribers: [{ name: 'desk', url: `http://127.0.0.1:${(server.address() as AddressInfo).port}/hook`, secret: SECRET }],
+      },
+    });
   });
   afterAll(async () => {
     await rt.close();
@@ -47,29 +57,60 @@ describe('feeds in, signed notifications out', () => {
     const base = `http://127.0.0.1:${(feedServer.address() as AddressInfo).port}`;
     const summary = await runSources(rt, [`${base}/northwire.json`, `${base}/courier.xml`, `${base}/missing.json`]);
     expect(summary.stored).toBe(35);
-    expect(summary.problems).toEqual([expect.objectContaining({ code: 'STRAND_SOURCE_UNREADABLE', message: expect.stringMatching(/HTTP 404/) })]);
+    expect(summary.problems).toEqual([
+      expect.objectContaining({ code: 'STRAND_SOURCE_UNREADABLE', message: expect.stringMatching(/HTTP 404/) }),
+    ]);
 
     const dispatcher = new WebhookDispatcher({ store: rt.store, config: rt.config.webhooks, logger: createLogger('silent') });
     for (let i = 0; i < 20 && (await rt.store.dueDeliveries(new Date().toISOString(), 1)).length > 0; i++) await dispatcher.tick();
 
     const types = new Set(received.map((r) => r.type));
     expect(types).toEqual(expect.objectContaining(new Set(['event.opened', 'event.outlet_added', 'story.opened', 'story.outlet_added'])));
-    expect([...types].every((t) => ['event.opened', 'event.outlet_added', 'event.merged', 'event.split', 'story.opened', 'story.outlet_added', 'story.merged'].includes(t))).toBe(true);
+    expect(
+      [...types].every((t) =>
+        [
+          'event.opened',
+          'event.outlet_added',
+          'event.merged',
+          'event.split',
+          'story.opened',
+          'story.outlet_added',
+          'story.merged',
+        ].includes(t),
+      ),
+    ).toBe(true);
     expect(received.filter((r) => r.type === 'event.opened')).toHaveLength(summary.eventsOpened);
     expect(received.filter((r) => r.type === 'story.opened')).toHaveLength(summary.storiesOpened);
     const story = JSON.parse(received.find((r) => r.type === 'story.outlet_added')!.body).data;
-    expect(story).toMatchObject({ story: { id: expect.stringMatching(/^st_/) }, outlet: expect.any(String), score: expect.any(Number), evidence: expect.any(Object), note: expect.stringMatching(/machine suggestion/) });
+    expect(story).toMatchObject({
+      story: { id: expect.stringMatching(/^st_/) },
+      outlet: expect.any(String),
+      score: expect.any(Number),
+      evidence: expect.any(Object),
+      note: expect.stringMatching(/machine suggestion/),
+    });
     const wh = new Webhook(SECRET);
     for (const r of received) {
-      expect(() => wh.verify(r.body, { 'webhook-id': r.headers['webhook-id']!, 'webhook-timestamp': r.headers['webhook-timestamp']!, 'webhook-signature': r.headers['webhook-signature']! })).not.toThrow();
+      expect(() =>
+        wh.verify(r.body, {
+          'webhook-id': r.headers['webhook-id']!,
+          'webhook-timestamp': r.headers['webhook-timestamp']!,
+          'webhook-signature': r.headers['webhook-signature']!,
+        }),
+      ).not.toThrow();
     }
     const added = received.find((r) => r.type === 'event.outlet_added')!;
-    expect(JSON.parse(added.body).data).toMatchObject({ outlet: expect.any(String), mention: { score: expect.any(Number), evidence: expect.any(Object) }, note: expect.stringMatching(/machine suggestion/) });
+    expect(JSON.parse(added.body).data).toMatchObject({
+      outlet: expect.any(String),
+      mention: { score: expect.any(Number), evidence: expect.any(Object) },
+      note: expect.stringMatching(/machine suggestion/),
+    });
     // The Courier's verbatim copy of the Northwire wire story is flagged as not independent.
     expect(received.some((r) => r.type === 'event.outlet_added' && JSON.parse(r.body).data.independent === false)).toBe(true);
 
     // Delivered notifications stay in the outbox until notificationDays after delivery, then go.
-    const outbox = () => (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('SELECT count(*) FROM outbox').pluck().get();
+    const outbox = () =>
+      (rt.store as unknown as { db: import('better-sqlite3').Database }).db.prepare('SELECT count(*) FROM outbox').pluck().get();
     expect(outbox()).toBe(received.length);
     expect(await rt.store.pruneNotifications(new Date(Date.now() - 86_400_000).toISOString())).toBe(0);
     expect(await rt.store.pruneNotifications(new Date(Date.now() + 1000).toISOString())).toBe(received.length);

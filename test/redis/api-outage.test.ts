@@ -15,10 +15,23 @@ describe.skipIf(!redisTestsRun())('the API while its Redis is away', () => {
     const store = await openStore(config.store, silent, { failFast: true });
     const queue = await openQueue(config, silent, { failFast: true });
     const app = await buildApp({
-      store, logger: silent, version: 'test', queue, ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }),
+      store,
+      logger: silent,
+      version: 'test',
+      queue,
+      ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }),
       push: { submit: async (a) => void (await queue.enqueue(a, { atomic: true })), limits: config.ingest },
     });
-    const push = { method: 'POST' as const, url: '/api/articles', payload: { id: 'https://courier.example/levee', outlet: 'The Vellmouth Courier', title: 'Levee', text: 'The levee at Korrin Bay failed on Monday night.' } };
+    const push = {
+      method: 'POST' as const,
+      url: '/api/articles',
+      payload: {
+        id: 'https://courier.example/levee',
+        outlet: 'The Vellmouth Courier',
+        title: 'Levee',
+        text: 'The levee at Korrin Bay failed on Monday night.',
+      },
+    };
     try {
       expect((await app.inject({ url: '/api/events' })).statusCode).toBe(200);
       await redis.stop();
@@ -28,7 +41,10 @@ describe.skipIf(!redisTestsRun())('the API while its Redis is away', () => {
         expect(Date.now() - started).toBeLessThan(1000);
         expect(res.statusCode).toBe(503);
         expect(res.headers['retry-after']).toBe('5');
-        expect(res.json().error).toMatchObject({ code: 'STRAND_STORE_UNAVAILABLE', message: expect.stringMatching(/a push was not queued/) });
+        expect(res.json().error).toMatchObject({
+          code: 'STRAND_STORE_UNAVAILABLE',
+          message: expect.stringMatching(/a push was not queued/),
+        });
       }
       // The page itself does not need the store.
       expect((await app.inject({ url: '/' })).statusCode).toBe(200);

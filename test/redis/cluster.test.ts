@@ -30,24 +30,50 @@ interface LocalCluster {
 async function startCluster(): Promise<LocalCluster> {
   const dir = mkdtempSync(join(tmpdir(), 'strandline-cluster-'));
   const ports = [await freePort(), await freePort(), await freePort()];
-  const procs: ChildProcess[] = ports.map((port) => spawn('redis-server', [
-    '--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--cluster-enabled', 'yes', '--cluster-config-file', `nodes-${port}.conf`,
-    '--save', '', '--appendonly', 'no', '--logfile', join(dir, `redis-${port}.log`),
-  ], { stdio: 'ignore' }));
+  const procs: ChildProcess[] = ports.map((port) =>
+    spawn(
+      'redis-server',
+      [
+        '--port',
+        String(port),
+        '--bind',
+        '127.0.0.1',
+        '--dir',
+        dir,
+        '--cluster-enabled',
+        'yes',
+        '--cluster-config-file',
+        `nodes-${port}.conf`,
+        '--save',
+        '',
+        '--appendonly',
+        'no',
+        '--logfile',
+        join(dir, `redis-${port}.log`),
+      ],
+      { stdio: 'ignore' },
+    ),
+  );
   const cli = (...args: string[]) => spawnSync('redis-cli', args, { encoding: 'utf8', timeout: 30_000 });
   for (const port of ports) {
     for (let i = 0; i < 100 && !cli('-p', String(port), 'ping').stdout.includes('PONG'); i++) await new Promise((r) => setTimeout(r, 100));
   }
   const created = cli('--cluster', 'create', ...ports.map((p) => `127.0.0.1:${p}`), '--cluster-replicas', '0', '--cluster-yes');
   if (created.status !== 0) throw new Error(`cluster create failed: ${created.stdout}${created.stderr}`);
-  for (let i = 0; i < 100 && !cli('-p', String(ports[0]), 'cluster', 'info').stdout.includes('cluster_state:ok'); i++) await new Promise((r) => setTimeout(r, 100));
+  for (let i = 0; i < 100 && !cli('-p', String(ports[0]), 'cluster', 'info').stdout.includes('cluster_state:ok'); i++)
+    await new Promise((r) => setTimeout(r, 100));
   return {
     url: `redis://127.0.0.1:${ports[0]}`,
     async stop() {
-      await Promise.all(procs.map((p) => new Promise((r) => {
-        p.once('exit', r);
-        p.kill('SIGTERM');
-      })));
+      await Promise.all(
+        procs.map(
+          (p) =>
+            new Promise((r) => {
+              p.once('exit', r);
+              p.kill('SIGTERM');
+            }),
+        ),
+      );
     },
   };
 }
@@ -69,7 +95,11 @@ describe.skipIf(!run)('the Redis store on a three-node Redis Cluster', () => {
       const slots = new Set<number>();
       for (let i = 0; i < 12; i++) {
         const k = keyspace(`desk-${i}`);
-        const own = await Promise.all([k.counts, k.intake, k.article('https://x.example/a?b={c}'), k.event('ev_1')].map((key) => client.call('CLUSTER', 'KEYSLOT', key) as Promise<number>));
+        const own = await Promise.all(
+          [k.counts, k.intake, k.article('https://x.example/a?b={c}'), k.event('ev_1')].map(
+            (key) => client.call('CLUSTER', 'KEYSLOT', key) as Promise<number>,
+          ),
+        );
         expect(new Set(own).size).toBe(1);
         slots.add(own[0]!);
       }
@@ -86,7 +116,12 @@ describe.skipIf(!run)('the Redis store on a three-node Redis Cluster', () => {
     const reference = await rt.store.counts();
     await rt.close();
     const partition = `test-${randomUUID()}`;
-    const config = parseConfig({ store: { kind: 'redis', redis: { url: cluster.url, cluster: true, partition } }, queue: { blockMs: 100 }, analysis: { threads: 0 }, log: { level: 'silent' } });
+    const config = parseConfig({
+      store: { kind: 'redis', redis: { url: cluster.url, cluster: true, partition } },
+      queue: { blockMs: 100 },
+      analysis: { threads: 0 },
+      log: { level: 'silent' },
+    });
     const worker = await startWorker(config, createLogger('silent'));
     const linking = await startLinker(config, createLogger('silent'));
     const outcomes: ArticleOutcome[] = [];

@@ -12,9 +12,8 @@ import { waitFor } from '../helpers/wait-for.js';
 const REDIS_URL = 'redis://127.0.0.1:6379';
 const silent = createLogger('silent');
 
-
-describe.skipIf(!redisTestsRun())('api processes sharing one partition\'s feeds', () => {
-  it('poll each feed once, through whichever holds the lease, and see each other\'s changes', async () => {
+describe.skipIf(!redisTestsRun())("api processes sharing one partition's feeds", () => {
+  it("poll each feed once, through whichever holds the lease, and see each other's changes", async () => {
     const server: FeedServer = await startFeedServer(4, 3);
     const first = await freshRedisStore(REDIS_URL);
     const partition = first.keys.prefix.slice('{strandline:'.length, -1);
@@ -28,10 +27,16 @@ describe.skipIf(!redisTestsRun())('api processes sharing one partition\'s feeds'
     // How often each poller asked whether it may poll: the one without the lease must have
     // asked, and been told no, before "it did not poll" means anything.
     const asked = new Map<Lease, number>();
-    const poller = (store: typeof first, lease: Lease) => new FeedPoller({
-      store, submit: async (a) => void submitted.push(...a.map((x) => x.id)), limits, options, logger: silent, refreshMs: 200,
-      polls: () => (asked.set(lease, (asked.get(lease) ?? 0) + 1), lease.held),
-    });
+    const poller = (store: typeof first, lease: Lease) =>
+      new FeedPoller({
+        store,
+        submit: async (a) => void submitted.push(...a.map((x) => x.id)),
+        limits,
+        options,
+        logger: silent,
+        refreshMs: 200,
+        polls: () => (asked.set(lease, (asked.get(lease) ?? 0) + 1), lease.held),
+      });
     const a = poller(first, leaseA);
     const b = poller(second, leaseB);
     const feeds = [0, 1, 2].map((i) => ({ url: server.url(`/feeds/${i}.xml`) }));

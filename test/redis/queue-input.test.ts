@@ -33,7 +33,12 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
 
   beforeEach(async () => {
     const partition = `test-${randomUUID()}`;
-    config = parseConfig({ store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, queue: { claimIdleMs: 200, blockMs: 50, maxDeliveries: 3 }, analysis: { threads: 0 }, log: { level: 'silent' } });
+    config = parseConfig({
+      store: { kind: 'redis', redis: { url: REDIS_URL, partition } },
+      queue: { claimIdleMs: 200, blockMs: 50, maxDeliveries: 3 },
+      analysis: { threads: 0 },
+      log: { level: 'silent' },
+    });
     keys = keyspace(partition);
     demo ??= (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
   });
@@ -63,7 +68,16 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
       await redis.xadd(keys.intake, '*', 'unexpected', 'field');
       await enqueueArticles(redis, keys, [demo[2]!]);
       await until(() => outcomes.length === 8);
-      expect(outcomes.map((o) => o.status)).toEqual(['stored', 'rejected', 'rejected', 'rejected', 'rejected', 'rejected', 'rejected', 'stored']);
+      expect(outcomes.map((o) => o.status)).toEqual([
+        'stored',
+        'rejected',
+        'rejected',
+        'rejected',
+        'rejected',
+        'rejected',
+        'rejected',
+        'stored',
+      ]);
       const letters = await deadLetters(redis, keys, 10);
       expect(letters).toHaveLength(6);
       for (const l of letters) expect(l.error).toMatch(/STRAND_ARTICLE_(INVALID|TOO_LARGE)|queued article/);
@@ -87,12 +101,28 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
     const { openQueue } = await import('../../src/distribute/roles.js');
     const queue = await openQueue(config, silent);
     const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
-    const app = await buildApp({ store, logger: silent, version: 'test', ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }), queue,
-      push: { submit: async (a) => void (await queue.enqueue(a)), limits: { maxArticleChars: 200_000, maxPushItems: 10, maxPushBytes: 1 << 20 } } });
+    const app = await buildApp({
+      store,
+      logger: silent,
+      version: 'test',
+      ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }),
+      queue,
+      push: {
+        submit: async (a) => void (await queue.enqueue(a)),
+        limits: { maxArticleChars: 200_000, maxPushItems: 10, maxPushBytes: 1 << 20 },
+      },
+    });
     const worker = await startWorker(config, silent);
     const linking = await startLinker(config, silent);
     try {
-      const payload = [demo[3]!, demo[4]!].map((a) => ({ id: a.id, outlet: a.outlet, title: a.title, url: a.url, published: a.published, text: a.text }));
+      const payload = [demo[3]!, demo[4]!].map((a) => ({
+        id: a.id,
+        outlet: a.outlet,
+        title: a.title,
+        url: a.url,
+        published: a.published,
+        text: a.text,
+      }));
       const r = await app.inject({ method: 'POST', url: '/api/articles', payload });
       expect(r.json()).toMatchObject({ accepted: 2, rejected: 0 });
       await until(async () => (await store.counts()).articles === 2);
@@ -110,7 +140,11 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
   it('retries an article that fails in analysis, then gives it up after queue.maxDeliveries', async () => {
     const redis = await connectRedis(REDIS_URL);
     const blocking = await connectRedis(REDIS_URL);
-    const broken = { readDoc: () => { throw new Error('model crashed'); } } as unknown as Nlp;
+    const broken = {
+      readDoc: () => {
+        throw new Error('model crashed');
+      },
+    } as unknown as Nlp;
     const worker = new AnalysisWorker({ config, redis, blocking, keys, nlp: broken, embedder: new TfidfEmbedder(10), logger: silent });
     await worker.start();
     try {
@@ -121,7 +155,7 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
       const [letter] = await deadLetters(redis, keys, 1);
       expect(letter!.error).toMatch(/model crashed \(after 3 deliveries\)/);
       expect(JSON.parse(letter!.article).id).toBe(demo[0]!.id);
-      const [pending] = await redis.xpending(keys.intake, 'workers') as [number];
+      const [pending] = (await redis.xpending(keys.intake, 'workers')) as [number];
       expect(pending).toBe(0);
     } finally {
       await worker.stop();
@@ -197,7 +231,12 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
 
   beforeEach(async () => {
     const partition = `test-${randomUUID()}`;
-    config = parseConfig({ store: { kind: 'redis', redis: { url: REDIS_URL, partition } }, queue: { claimIdleMs: 200, blockMs: 50 }, analysis: { threads: 0 }, log: { level: 'silent' } });
+    config = parseConfig({
+      store: { kind: 'redis', redis: { url: REDIS_URL, partition } },
+      queue: { claimIdleMs: 200, blockMs: 50 },
+      analysis: { threads: 0 },
+      log: { level: 'silent' },
+    });
     keys = keyspace(partition);
     demo ??= (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
   });
@@ -233,7 +272,15 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
     const store = runtime.store as Awaited<ReturnType<typeof openRedisStore>>;
     const worker = await startWorker(config, silent);
     const log = recordingLogger();
-    const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys, logger: log.logger, leaseMs: 900, fence: (t) => store.fenceWrites(t) });
+    const linker = new QueueLinker({
+      ctx: runtime,
+      redis,
+      blocking,
+      keys,
+      logger: log.logger,
+      leaseMs: 900,
+      fence: (t) => store.fenceWrites(t),
+    });
     const outcomes: ArticleOutcome[] = [];
     linker.outcome$.subscribe((o) => outcomes.push(o));
     await linker.start();
@@ -269,12 +316,17 @@ async function startLinkerLater(config: Readonly<Config>, logger = silent): Prom
   const { createRuntime } = await import('../../src/runtime.js');
   const runtime = await createRuntime(config, silent);
   const linker = new QueueLinker({ ctx: runtime, redis, blocking, keys: keyspace(config.store.redis.partition), logger, leaseMs: 1500 });
-  const handle = { started: false, stop: async () => {
-    await linker.stop();
-    await starting;
-    redis.disconnect();
-    await runtime.close();
-  } };
-  const starting = linker.start().then(() => { handle.started = true; });
+  const handle = {
+    started: false,
+    stop: async () => {
+      await linker.stop();
+      await starting;
+      redis.disconnect();
+      await runtime.close();
+    },
+  };
+  const starting = linker.start().then(() => {
+    handle.started = true;
+  });
   return handle;
 }

@@ -46,7 +46,9 @@ function clusters(p: Map<string, string>): string[][] {
 
 function startWorkerProcess(configFile: string): ChildProcess {
   return spawn(process.execPath, ['--import', 'tsx', join(ROOT, 'src/cli/main.ts'), 'serve', '--role', 'worker', '--config', configFile], {
-    cwd: ROOT, env: { ...process.env, STRANDLINE_LOG_LEVEL: 'warn' }, stdio: ['ignore', 'pipe', 'pipe'],
+    cwd: ROOT,
+    env: { ...process.env, STRANDLINE_LOG_LEVEL: 'warn' },
+    stdio: ['ignore', 'pipe', 'pipe'],
   });
 }
 
@@ -70,18 +72,43 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
 
   beforeAll(async () => {
     const demo = (await readReplayInput([`${DEMO_DIR}feeds`], testConfig().ingest)).articles;
-    const synthetic = toArticles(checkEvalInput(syntheticStream(6000, 7)), 'synthetic', '2030-01-01T00:00:00.000Z').slice(0, 2000 - demo.length);
+    const synthetic = toArticles(checkEvalInput(syntheticStream(6000, 7)), 'synthetic', '2030-01-01T00:00:00.000Z').slice(
+      0,
+      2000 - demo.length,
+    );
     full = await referenceOf([...demo, ...synthetic]);
     short = await referenceOf(full.articles.slice(0, 400));
   }, 120_000);
 
-
   /** Runs the articles through three worker processes and a linker on `url`; `midway` runs once `midwayAt` are linked. */
-  async function distributedRun(url: string, articles: readonly Article[], midwayAt: number, leaseMs: number | undefined, midway: (ctx: { workers: ChildProcess[]; queue: Awaited<ReturnType<typeof openQueue>>; partitionName: string; outcomes: ArticleOutcome[] }) => Promise<void>): Promise<{ outcomes: ArticleOutcome[]; counts: Awaited<ReturnType<Store['counts']>>; got: Map<string, string>; deadLetters: number; pendingLeft: number; stderr: string }> {
+  async function distributedRun(
+    url: string,
+    articles: readonly Article[],
+    midwayAt: number,
+    leaseMs: number | undefined,
+    midway: (ctx: {
+      workers: ChildProcess[];
+      queue: Awaited<ReturnType<typeof openQueue>>;
+      partitionName: string;
+      outcomes: ArticleOutcome[];
+    }) => Promise<void>,
+  ): Promise<{
+    outcomes: ArticleOutcome[];
+    counts: Awaited<ReturnType<Store['counts']>>;
+    got: Map<string, string>;
+    deadLetters: number;
+    pendingLeft: number;
+    stderr: string;
+  }> {
     const dir = mkdtempSync(join(tmpdir(), 'strandline-scale-'));
     const configFile = join(dir, 'config.json');
     const partitionName = `test-${randomUUID()}`;
-    const raw = { store: { kind: 'redis', redis: { url, partition: partitionName } }, queue: { claimIdleMs: 1500, blockMs: 200, batch: 8 }, analysis: { threads: 0 }, log: { level: 'warn' } };
+    const raw = {
+      store: { kind: 'redis', redis: { url, partition: partitionName } },
+      queue: { claimIdleMs: 1500, blockMs: 200, batch: 8 },
+      analysis: { threads: 0 },
+      log: { level: 'warn' },
+    };
     writeFileSync(configFile, JSON.stringify(raw));
     const config = parseConfig(raw);
     const queue = await openQueue(config, createLogger('silent'));
@@ -98,8 +125,15 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
       await midway({ workers, queue, partitionName, outcomes });
       const deadline = Date.now() + 120_000;
       while (outcomes.length < articles.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
-      const [pendingLeft] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number];
-      return { outcomes, counts: await store.counts(), got: await partition(store, articles), deadLetters: (await queue.depth()).deadLetters, pendingLeft, stderr: stderr.join('') };
+      const [pendingLeft] = (await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers')) as [number];
+      return {
+        outcomes,
+        counts: await store.counts(),
+        got: await partition(store, articles),
+        deadLetters: (await queue.depth()).deadLetters,
+        pendingLeft,
+        stderr: stderr.join(''),
+      };
     } finally {
       for (const w of workers) w.kill('SIGTERM');
       await linking.stop();
@@ -127,12 +161,22 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
     const r = await distributedRun(REDIS_URL, full.articles, 20, undefined, async ({ workers, queue, partitionName }) => {
       // Kill one worker while it holds entries: the others must take them over.
       const victim = `${hostname()}-${workers[1]!.pid}`;
-      await waitFor('the chosen worker to hold entries', async () => {
-        const [, , , consumers] = await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers') as [number, string, string, [string, string][] | null];
-        heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
-        if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
-        return heldAtKill > 0;
-      }, 60_000, 5);
+      await waitFor(
+        'the chosen worker to hold entries',
+        async () => {
+          const [, , , consumers] = (await queue.redis.xpending(`{strandline:${partitionName}}:intake`, 'workers')) as [
+            number,
+            string,
+            string,
+            [string, string][] | null,
+          ];
+          heldAtKill = Number(consumers?.find(([name]) => name === victim)?.[1] ?? 0);
+          if (heldAtKill > 0) workers[1]!.kill('SIGKILL');
+          return heldAtKill > 0;
+        },
+        60_000,
+        5,
+      );
     });
     expect(heldAtKill).toBeGreaterThan(0);
     expectSameAsOneProcess(r, full);
@@ -153,7 +197,7 @@ describe.skipIf(!run)('scale-out over Redis: three worker processes and one link
 
   // Three times the linker's lease (shortened here from 15 s to 4 s, so the outage is 12 s):
   // the lease lapses during the outage and the linker must take it back by itself.
-  it('links every article afterwards, with no manual step, when Redis is down for longer than the linker\'s lease', async () => {
+  it("links every article afterwards, with no manual step, when Redis is down for longer than the linker's lease", async () => {
     const redis = await startPrivateRedis();
     try {
       let linkedBefore = 0;

@@ -8,7 +8,9 @@ describe.skipIf(!redisTestsRun()).concurrent('stopping the scale-out roles', () 
     const redis = await startPrivateRedis();
     try {
       const env = { STRANDLINE_STORE: 'redis', STRANDLINE_REDIS_URL: redis.url };
-      const r = await runAndStop(['serve', '--role', role, '--port', '0'], /running on Redis|api is serving/, 'SIGTERM', env, () => redis.stop());
+      const r = await runAndStop(['serve', '--role', role, '--port', '0'], /running on Redis|api is serving/, 'SIGTERM', env, () =>
+        redis.stop(),
+      );
       expect(r.stopMs, r.stderr).toBeLessThan(5000);
       expect(r.stderr).toMatch(/SIGTERM: stopping the (worker|linker|api) process/);
     } finally {

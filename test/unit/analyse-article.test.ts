@@ -6,7 +6,19 @@ import type { Article } from '../../src/records.js';
 const nlp = createNlp();
 
 function article(text: string, published = '2026-10-15T09:00:00Z'): Article {
-  return { id: 'a1', outlet: 'Test', url: null, title: 't', published, fetched: published, language: 'en', text, contentHash: 'h', duplicateOf: null, source: 'test' };
+  return {
+    id: 'a1',
+    outlet: 'Test',
+    url: null,
+    title: 't',
+    published,
+    fetched: published,
+    language: 'en',
+    text,
+    contentHash: 'h',
+    duplicateOf: null,
+    source: 'test',
+  };
 }
 
 // News needs an abbreviation list on top of plain sentence rules: "Mr.", "Jan.", "No. 3"
@@ -27,16 +39,24 @@ describe('splitting sentences', () => {
   });
 
   it('keeps a quotation and its attribution together', () => {
-    expect(splitSentences(nlp, '"We are not leaving," she said. The crowd cheered.')).toEqual(['"We are not leaving," she said.', 'The crowd cheered.']);
+    expect(splitSentences(nlp, '"We are not leaving," she said. The crowd cheered.')).toEqual([
+      '"We are not leaving," she said.',
+      'The crowd cheered.',
+    ]);
   });
 
   it('ends a sentence at a.m. or p.m. when a new clause follows, not before a weekday', () => {
-    expect(splitSentences(nlp, 'The result came at 6 p.m. Work resumes on Friday.')).toEqual(['The result came at 6 p.m.', 'Work resumes on Friday.']);
+    expect(splitSentences(nlp, 'The result came at 6 p.m. Work resumes on Friday.')).toEqual([
+      'The result came at 6 p.m.',
+      'Work resumes on Friday.',
+    ]);
     expect(splitSentences(nlp, 'She spoke at 10 a.m. Monday. Then it ended.')).toEqual(['She spoke at 10 a.m. Monday.', 'Then it ended.']);
   });
 
   it('joins a piece that starts in lower case back to the sentence before it', () => {
-    expect(splitSentences(nlp, 'The vote passed 112 to 97. the motion failed later.')).toEqual(['The vote passed 112 to 97. the motion failed later.']);
+    expect(splitSentences(nlp, 'The vote passed 112 to 97. the motion failed later.')).toEqual([
+      'The vote passed 112 to 97. the motion failed later.',
+    ]);
   });
 
   it('treats a blank line as a hard break even without a full stop', () => {
@@ -52,7 +72,10 @@ describe('splitting sentences', () => {
 });
 
 describe('reading a sentence', () => {
-  const [s] = analyseArticle(nlp, article('Finance Minister Odile Varnay announced a 400 million mark fund in Vellmouth on Friday.')).sentences;
+  const [s] = analyseArticle(
+    nlp,
+    article('Finance Minister Odile Varnay announced a 400 million mark fund in Vellmouth on Friday.'),
+  ).sentences;
 
   it('finds participants, numbers with units and places', () => {
     expect(s!.participants).toContain('Finance Minister Odile Varnay');

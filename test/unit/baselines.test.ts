@@ -6,7 +6,17 @@ function mention(article: string, terms: string[], vector: number[], published =
   const norm = Math.hypot(...vector) || 1;
   const indices = vector.map((_, i) => i).filter((i) => vector[i] !== 0);
   return {
-    articleId: article, sentenceIndex: 0, text: terms.join(' '), outlet: 'O', published, eventness: 1, participants: [], places: [], times: [], terms, isCopy: false,
+    articleId: article,
+    sentenceIndex: 0,
+    text: terms.join(' '),
+    outlet: 'O',
+    published,
+    eventness: 1,
+    participants: [],
+    places: [],
+    times: [],
+    terms,
+    isCopy: false,
     vector: { kind: 'sparse', indices: Uint32Array.from(indices), values: Float32Array.from(indices.map((i) => vector[i]! / norm)) },
   };
 }
@@ -53,18 +63,29 @@ describe('baselines', () => {
   });
 
   it('groups by subtopic', () => {
-    expect(groups(onePerSubtopic(ms, (id) => (id < 'c' ? 'floods' : 'labour')))).toEqual([['a', 'b'], ['c', 'd']]);
+    expect(groups(onePerSubtopic(ms, (id) => (id < 'c' ? 'floods' : 'labour')))).toEqual([
+      ['a', 'b'],
+      ['c', 'd'],
+    ]);
   });
 
   it('links a shared event word with enough word overlap, transitively', () => {
-    const chain = [mention('a', ['strike', 'port', 'vellmouth'], [1]), mention('b', ['strike', 'port', 'guild'], [1]), mention('c', ['strike', 'guild', 'plan'], [1]), mention('d', ['budget', 'plan', 'guild'], [1])];
+    const chain = [
+      mention('a', ['strike', 'port', 'vellmouth'], [1]),
+      mention('b', ['strike', 'port', 'guild'], [1]),
+      mention('c', ['strike', 'guild', 'plan'], [1]),
+      mention('d', ['budget', 'plan', 'guild'], [1]),
+    ];
     // a-b share "strike" (an event word) and 2 of 4 words; b-c share "strike" and 2 of 4;
     // c-d share 2 of 4 words but no event word; so {a b c} {d}.
     expect(groups(lexicalOverlap(chain))).toEqual([['a', 'b', 'c'], ['d']]);
   });
 
   it('clusters online against centroids with a threshold', () => {
-    expect(groups(onlineCentroid([ms.slice(0, 2), ms.slice(2)], 0.5, 7))).toEqual([['a', 'b'], ['c', 'd']]);
+    expect(groups(onlineCentroid([ms.slice(0, 2), ms.slice(2)], 0.5, 7))).toEqual([
+      ['a', 'b'],
+      ['c', 'd'],
+    ]);
   });
 
   it('halves similarity one half-life apart in the online baseline', () => {
@@ -75,10 +96,16 @@ describe('baselines', () => {
 
   it('builds the same average-link clusters as the definition, on random inputs', () => {
     let seed = 11;
-    const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+    const rand = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648;
     for (let t = 0; t < 40; t++) {
       const n = 2 + Math.floor(rand() * 9);
-      const set = Array.from({ length: n }, (_, i) => mention(`m${String(i).padStart(2, '0')}`, [], Array.from({ length: 5 }, () => (rand() < 0.5 ? 0 : rand()))));
+      const set = Array.from({ length: n }, (_, i) =>
+        mention(
+          `m${String(i).padStart(2, '0')}`,
+          [],
+          Array.from({ length: 5 }, () => (rand() < 0.5 ? 0 : rand())),
+        ),
+      );
       const threshold = 0.2 + rand() * 0.5;
       expect(groups(batchAverageLink(set, threshold, 1e9))).toEqual(naiveAverageLink(set, threshold));
     }

@@ -15,6 +15,7 @@ describe('canonical article URLs', () => {
   });
 
   it('has none for what is not an absolute http(s) URL', () => {
-    for (const bad of [null, '', '/news/a1', 'javascript:alert(1)', 'mailto:desk@courier.example', 'not a url']) expect(canonicalUrl(bad)).toBeNull();
+    for (const bad of [null, '', '/news/a1', 'javascript:alert(1)', 'mailto:desk@courier.example', 'not a url'])
+      expect(canonicalUrl(bad)).toBeNull();
   });
 });

@@ -7,7 +7,19 @@ import { configSchema } from '../../src/config/schema.js';
 // Compose reads YAML merge keys (<<), so the file is parsed with them on.
 const dockerfile = readFileSync(new URL('../../docker/Dockerfile', import.meta.url), 'utf8');
 const compose = parse(readFileSync(new URL('../../docker/compose.yaml', import.meta.url), 'utf8'), { merge: true }) as {
-  services: Record<string, { build?: { context: string; dockerfile: string }; command?: string[]; environment?: Record<string, string>; depends_on?: Record<string, { condition: string }>; deploy?: { replicas: number }; ports?: string[]; volumes?: string[]; healthcheck?: object }>;
+  services: Record<
+    string,
+    {
+      build?: { context: string; dockerfile: string };
+      command?: string[];
+      environment?: Record<string, string>;
+      depends_on?: Record<string, { condition: string }>;
+      deploy?: { replicas: number };
+      ports?: string[];
+      volumes?: string[];
+      healthcheck?: object;
+    }
+  >;
   volumes: Record<string, unknown>;
 };
 
@@ -33,12 +45,21 @@ describe('the compose file', () => {
     expect(redis.volumes).toEqual(['redis-data:/data']);
     expect(compose.volumes).toHaveProperty('redis-data');
     expect(redis.healthcheck).toBeDefined();
-    for (const name of ['api', 'worker', 'linker']) expect(compose.services[name]!.depends_on).toEqual({ redis: { condition: 'service_healthy' } });
+    for (const name of ['api', 'worker', 'linker'])
+      expect(compose.services[name]!.depends_on).toEqual({ redis: { condition: 'service_healthy' } });
   });
 
   it('runs the API, two workers and the linker from the one image, on the Redis store', () => {
-    const roles = Object.fromEntries(Object.entries(compose.services).filter(([n]) => n !== 'redis').map(([n, s]) => [n, s.command]));
-    expect(roles).toEqual({ api: ['serve', '--role', 'api'], worker: ['serve', '--role', 'worker'], linker: ['serve', '--role', 'linker'] });
+    const roles = Object.fromEntries(
+      Object.entries(compose.services)
+        .filter(([n]) => n !== 'redis')
+        .map(([n, s]) => [n, s.command]),
+    );
+    expect(roles).toEqual({
+      api: ['serve', '--role', 'api'],
+      worker: ['serve', '--role', 'worker'],
+      linker: ['serve', '--role', 'linker'],
+    });
     expect(compose.services.worker!.deploy!.replicas).toBe(2);
     for (const name of ['api', 'worker', 'linker']) {
       const s = compose.services[name]!;

@@ -1,12 +1,33 @@
 import { describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
-import { addMention, deserialiseEvent, mentionSpan, mergeStates, nameKey, openEvent, removeMention, serialiseEvent, toRecord } from '../../src/link/event-state.js';
+import {
+  addMention,
+  deserialiseEvent,
+  mentionSpan,
+  mergeStates,
+  nameKey,
+  openEvent,
+  removeMention,
+  serialiseEvent,
+  toRecord,
+} from '../../src/link/event-state.js';
 import type { EmbeddedMention } from '../../src/records.js';
 
 const e = new TfidfEmbedder(16);
 const m = (over: Partial<EmbeddedMention>): EmbeddedMention => ({
-  articleId: 'a', sentenceIndex: 0, text: 'The levee failed.', outlet: 'O', published: '2026-10-06T05:00:00Z', eventness: 0.9,
-  participants: ['Marek Tavish'], places: ['Dunvessel'], times: [], terms: ['levee', 'fail'], isCopy: false, vector: e.vector(['levee', 'fail']), ...over,
+  articleId: 'a',
+  sentenceIndex: 0,
+  text: 'The levee failed.',
+  outlet: 'O',
+  published: '2026-10-06T05:00:00Z',
+  eventness: 0.9,
+  participants: ['Marek Tavish'],
+  places: ['Dunvessel'],
+  times: [],
+  terms: ['levee', 'fail'],
+  isCopy: false,
+  vector: e.vector(['levee', 'fail']),
+  ...over,
 });
 
 describe('event state', () => {
@@ -24,7 +45,12 @@ describe('event state', () => {
     const ev = openEvent('ev_1', m({}));
     addMention(ev, m({ published: '2026-10-20T00:00:00Z' }), 1, 300);
     expect(toRecord(ev).timeEnd).toBe('2026-10-06');
-    addMention(ev, m({ published: '2026-10-20T00:00:00Z', times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }] }), 1, 300);
+    addMention(
+      ev,
+      m({ published: '2026-10-20T00:00:00Z', times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }] }),
+      1,
+      300,
+    );
     expect([toRecord(ev).timeStart, toRecord(ev).timeEnd]).toEqual(['2026-10-05', '2026-10-05']);
   });
 
@@ -32,7 +58,10 @@ describe('event state', () => {
     const ev = openEvent('ev_1', m({}));
     addMention(ev, m({}), 1, 300);
     addMention(ev, m({ outlet: 'Copier', isCopy: true }), 1, 300);
-    expect([...ev.outlets]).toEqual([['O', [1, 1]], ['Copier', [1, 0]]]);
+    expect([...ev.outlets]).toEqual([
+      ['O', [1, 1]],
+      ['Copier', [1, 0]],
+    ]);
   });
 
   it('round-trips through its binary form exactly, all but the label (a sentence, kept by the store alone)', () => {
@@ -45,9 +74,21 @@ describe('event state', () => {
   });
 
   it('counts a sentence linked to both of two merged events once: the merge with its dropped link taken out equals the events built without it', () => {
-    const shared = m({ articleId: 's', outlet: 'P', terms: ['levee', 'breach'], vector: e.vector(['levee', 'breach']), participants: ['Ila Serrow'] });
+    const shared = m({
+      articleId: 's',
+      outlet: 'P',
+      terms: ['levee', 'breach'],
+      vector: e.vector(['levee', 'breach']),
+      participants: ['Ila Serrow'],
+    });
     const a1 = m({ articleId: 'a1' });
-    const b1 = m({ articleId: 'b1', outlet: 'Q', terms: ['flood', 'dunvessel'], vector: e.vector(['flood', 'dunvessel']), places: ['Dunvessel'] });
+    const b1 = m({
+      articleId: 'b1',
+      outlet: 'Q',
+      terms: ['flood', 'dunvessel'],
+      vector: e.vector(['flood', 'dunvessel']),
+      places: ['Dunvessel'],
+    });
     const into = openEvent('ev_a', a1);
     addMention(into, a1, 1, 300);
     addMention(into, shared, 1, 300);

@@ -59,7 +59,12 @@ function itemByItem(by: Map<string, Set<string>>, other: Map<string, Set<string>
   for (const [e, groups] of by) {
     if (groups.size === 0) continue;
     const partners = [...by].filter(([, gx]) => inter(groups, gx) > 0);
-    total += partners.reduce((sum, [x, gx]) => sum + Math.min(inter(groups, gx), inter(other.get(e) ?? new Set(), other.get(x) ?? new Set())) / inter(groups, gx), 0) / partners.length;
+    total +=
+      partners.reduce(
+        (sum, [x, gx]) =>
+          sum + Math.min(inter(groups, gx), inter(other.get(e) ?? new Set(), other.get(x) ?? new Set())) / inter(groups, gx),
+        0,
+      ) / partners.length;
     items++;
   }
   return items === 0 ? 0 : total / items;
@@ -67,13 +72,18 @@ function itemByItem(by: Map<string, Set<string>>, other: Map<string, Set<string>
 
 describe('extended BCubed, items with the same memberships counted together', () => {
   it('equals the item-by-item definition on random overlapping clusterings', () => {
-    const side = fc.array(fc.tuple(fc.integer({ min: 0, max: 25 }), fc.array(fc.integer({ min: 0, max: 5 }), { maxLength: 3 })), { maxLength: 30 });
-    fc.assert(fc.property(side, side, (gold, sys) => {
-      const g = new Map(gold.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `G${e}`))]));
-      const s = new Map(sys.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `S${e}`))]));
-      const got = extendedBcubed(g, s);
-      expect(got.precision).toBeCloseTo(itemByItem(s, g), 12);
-      expect(got.recall).toBeCloseTo(itemByItem(g, s), 12);
-    }), { numRuns: 300 });
+    const side = fc.array(fc.tuple(fc.integer({ min: 0, max: 25 }), fc.array(fc.integer({ min: 0, max: 5 }), { maxLength: 3 })), {
+      maxLength: 30,
+    });
+    fc.assert(
+      fc.property(side, side, (gold, sys) => {
+        const g = new Map(gold.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `G${e}`))]));
+        const s = new Map(sys.map(([n, es]) => [`m${n}`, new Set(es.map((e) => `S${e}`))]));
+        const got = extendedBcubed(g, s);
+        expect(got.precision).toBeCloseTo(itemByItem(s, g), 12);
+        expect(got.recall).toBeCloseTo(itemByItem(g, s), 12);
+      }),
+      { numRuns: 300 },
+    );
   });
 });

@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { CopyIndex } from '../../src/copies/copy-index.js';
 import { SKETCH_SIZE, estimateJaccard, exactJaccard, shingles, sketch } from '../../src/copies/minhash.js';
 
-const BASE = 'The Vellmouth harbour board met on Tuesday and approved the dredging of berth four at the Korrin pier after months of delay caused by silt and a dispute over costs with the port authority';
+const BASE =
+  'The Vellmouth harbour board met on Tuesday and approved the dredging of berth four at the Korrin pier after months of delay caused by silt and a dispute over costs with the port authority';
 
 describe('shingles', () => {
   it('are the distinct 4-word sequences of the lower-cased words, punctuation ignored', () => {
@@ -36,7 +37,9 @@ describe('the MinHash estimate against the exact Jaccard similarity', () => {
 
   it('gives 1 for identical sets and 0 for disjoint ones', () => {
     expect(estimateJaccard(sketch(shingles(BASE)), sketch(shingles(BASE)))).toBe(1);
-    expect(estimateJaccard(sketch(shingles(BASE)), sketch(shingles('Completely different words make another text entirely for sure')))).toBe(0);
+    expect(
+      estimateJaccard(sketch(shingles(BASE)), sketch(shingles('Completely different words make another text entirely for sure'))),
+    ).toBe(0);
     expect(exactJaccard(new Set([1, 2, 3]), new Set([2, 3, 4]))).toBe(0.5);
   });
 });
@@ -48,7 +51,11 @@ describe('the copy index', () => {
   it('finds the earlier article an edited copy comes from, and the closest one when several match', () => {
     const idx = new CopyIndex(options);
     idx.add('original', sketch(shingles(BASE)), 0);
-    idx.add('unrelated', sketch(shingles('Fire crews fought a warehouse blaze at the Korrin pier through the night while smoke drifted over the old town')), 0);
+    idx.add(
+      'unrelated',
+      sketch(shingles('Fire crews fought a warehouse blaze at the Korrin pier through the night while smoke drifted over the old town')),
+      0,
+    );
     const edited = `${BASE} the board said`;
     expect(idx.find(sketch(shingles(edited)), day)).toEqual({ original: 'original', similarity: expect.any(Number) });
     idx.add('first copy', sketch(shingles(edited)), day);

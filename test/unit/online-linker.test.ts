@@ -6,11 +6,24 @@ import type { EmbeddedMention, TimeExpression } from '../../src/records.js';
 
 const options = testConfig().link;
 
-function mentions(embedder: TfidfEmbedder, specs: { article: string; terms: string[]; published: string; outlet?: string; names?: string[]; times?: TimeExpression[] }[]): EmbeddedMention[] {
+function mentions(
+  embedder: TfidfEmbedder,
+  specs: { article: string; terms: string[]; published: string; outlet?: string; names?: string[]; times?: TimeExpression[] }[],
+): EmbeddedMention[] {
   embedder.learn(specs.map((s) => ({ text: '', terms: s.terms })));
   return specs.map((s, i) => ({
-    articleId: s.article, sentenceIndex: i, text: s.terms.join(' '), outlet: s.outlet ?? 'Outlet A', published: s.published, eventness: 0.9,
-    participants: s.names ?? [], places: [], times: s.times ?? [], terms: s.terms, isCopy: false, vector: embedder.vector(s.terms),
+    articleId: s.article,
+    sentenceIndex: i,
+    text: s.terms.join(' '),
+    outlet: s.outlet ?? 'Outlet A',
+    published: s.published,
+    eventness: 0.9,
+    participants: s.names ?? [],
+    places: [],
+    times: s.times ?? [],
+    terms: s.terms,
+    isCopy: false,
+    vector: embedder.vector(s.terms),
   }));
 }
 
@@ -66,16 +79,34 @@ describe('the online linker', () => {
   it('finds a weeks-old event from another story when a sentence names its date', () => {
     const e = new TfidfEmbedder(16);
     const l = new OnlineLinker(options);
-    const first = mentions(e, [{ article: 'flood-1', terms: ['levee', 'dunvessel', 'breach', 'veshel', 'river'], published: '2026-10-06T05:00:00Z', outlet: 'Outlet A' }]);
+    const first = mentions(e, [
+      {
+        article: 'flood-1',
+        terms: ['levee', 'dunvessel', 'breach', 'veshel', 'river'],
+        published: '2026-10-06T05:00:00Z',
+        outlet: 'Outlet A',
+      },
+    ]);
     l.apply(l.plan(first));
     // Thirty unrelated events in between, from another story and outlet.
     for (let i = 0; i < 30; i++) {
-      l.apply(l.plan(mentions(e, [{ article: `other-${i}`, terms: [`topic${i}`, `word${i}`, 'budget'], published: '2026-10-20T09:00:00Z', outlet: 'Outlet C' }])));
+      l.apply(
+        l.plan(
+          mentions(e, [
+            { article: `other-${i}`, terms: [`topic${i}`, `word${i}`, 'budget'], published: '2026-10-20T09:00:00Z', outlet: 'Outlet C' },
+          ]),
+        ),
+      );
     }
-    const [back] = mentions(e, [{
-      article: 'bridge-9', terms: ['report', 'levee', 'dunvessel', 'breach', 'scour'], published: '2026-10-29T10:00:00Z', outlet: 'Outlet B',
-      times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }],
-    }]);
+    const [back] = mentions(e, [
+      {
+        article: 'bridge-9',
+        terms: ['report', 'levee', 'dunvessel', 'breach', 'scour'],
+        published: '2026-10-29T10:00:00Z',
+        outlet: 'Outlet B',
+        times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }],
+      },
+    ]);
     const plan = l.plan([back!]);
     expect(plan.links[0]!.eventId).toBe(eventIdFor(first[0]!));
     expect(plan.links[0]!.evidence.timeGapDays).toBe(0);
@@ -87,8 +118,15 @@ describe('the online linker', () => {
     const [h1, h2, ruling] = mentions(e, [
       { article: 'a', terms: ['hearing', 'maskell', 'plead', 'bribery'], published: '2026-10-05T12:00:00Z' },
       { article: 'b', terms: ['hearing', 'gray', 'testify', 'list'], published: '2026-10-08T12:00:00Z' },
-      { article: 'c', terms: ['ruling', 'hearing', 'maskell', 'plead', 'gray', 'testify', 'list', 'bribery'], published: '2026-10-09T12:00:00Z',
-        times: [{ text: 'October 5', start: '2026-10-05', end: '2026-10-05' }, { text: 'October 8', start: '2026-10-08', end: '2026-10-08' }] },
+      {
+        article: 'c',
+        terms: ['ruling', 'hearing', 'maskell', 'plead', 'gray', 'testify', 'list', 'bribery'],
+        published: '2026-10-09T12:00:00Z',
+        times: [
+          { text: 'October 5', start: '2026-10-05', end: '2026-10-05' },
+          { text: 'October 8', start: '2026-10-08', end: '2026-10-08' },
+        ],
+      },
     ]);
     l.apply(l.plan([h1!]));
     l.apply(l.plan([h2!]));
@@ -136,7 +174,14 @@ describe('the online linker', () => {
   it('carries the calibration tally in each plan, and resumes with the threshold it had', () => {
     const e = new TfidfEmbedder(16);
     const l = new OnlineLinker(options);
-    const ms = mentions(e, Array.from({ length: 12 }, (_, i) => ({ article: `a${i}`, terms: ['levee', 'breach', i % 3 ? 'dunvessel' : `place${i}`], published: '2026-10-05T12:00:00Z' })));
+    const ms = mentions(
+      e,
+      Array.from({ length: 12 }, (_, i) => ({
+        article: `a${i}`,
+        terms: ['levee', 'breach', i % 3 ? 'dunvessel' : `place${i}`],
+        published: '2026-10-05T12:00:00Z',
+      })),
+    );
     const tally = { mentions: 0, high: 0 };
     for (const m of ms) {
       const p = l.plan([m]);
@@ -188,7 +233,9 @@ describe('the online linker', () => {
   });
 
   it('opens the same event id for the same mention every time', () => {
-    expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toBe(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 }));
+    expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toBe(
+      eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 }),
+    );
     expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toMatch(/^ev_[0-9a-f]{16}$/);
   });
 });

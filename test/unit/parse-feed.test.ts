@@ -68,16 +68,27 @@ describe('reading feeds', () => {
     const f = parseFeed(RFC4287_EXAMPLE);
     expect(f.format).toBe('atom');
     expect(f.title).toBe('Example Feed');
-    expect(f.items).toEqual([{
-      guid: 'urn:uuid:1225c695-cfb8-4ebb-aaaa-80da344efa6a', url: 'http://example.org/2003/12/13/atom03', title: 'Atom-Powered Robots Run Amok',
-      published: '2003-12-13T18:30:02Z', html: null, text: 'Some text.', language: null, base: null,
-    }]);
+    expect(f.items).toEqual([
+      {
+        guid: 'urn:uuid:1225c695-cfb8-4ebb-aaaa-80da344efa6a',
+        url: 'http://example.org/2003/12/13/atom03',
+        title: 'Atom-Powered Robots Run Amok',
+        published: '2003-12-13T18:30:02Z',
+        html: null,
+        text: 'Some text.',
+        language: null,
+        base: null,
+      },
+    ]);
   });
 
   it('reads the JSON Feed 1.1 example, HTML and text bodies alike', () => {
     const f = parseFeed(JSONFEED_EXAMPLE);
     expect(f.format).toBe('jsonfeed');
-    expect(f.items.map((i) => [i.guid, i.text, i.html])).toEqual([['2', 'This is a second item.', null], ['1', null, '<p>Hello, world!</p>']]);
+    expect(f.items.map((i) => [i.guid, i.text, i.html])).toEqual([
+      ['2', 'This is a second item.', null],
+      ['1', null, '<p>Hello, world!</p>'],
+    ]);
   });
 
   it('reads RSS 2.0 items with a title or only a description, and prefers content:encoded', () => {
@@ -106,8 +117,16 @@ describe('reading feeds', () => {
     ['broken JSON', '{"version": ', 'STRAND_FEED_MALFORMED'],
     ['JSON that is not a JSON Feed', '{"title": "x", "items": []}', 'STRAND_FEED_UNKNOWN_FORMAT'],
     ['a JSON Feed without items', '{"version": "https://jsonfeed.org/version/1.1", "title": "x"}', 'STRAND_FEED_MALFORMED'],
-    ['an entity-expansion attack', '<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol"><!ENTITY lol2 "&lol;&lol;&lol;">]><rss><channel><title>&lol2;</title></channel></rss>', 'STRAND_FEED_HOSTILE'],
-    ['an external entity', '<?xml version="1.0"?><!DOCTYPE x [<!ENTITY xxe SYSTEM "file:///etc/passwd">]><rss><channel><title>&xxe;</title></channel></rss>', 'STRAND_FEED_HOSTILE'],
+    [
+      'an entity-expansion attack',
+      '<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol"><!ENTITY lol2 "&lol;&lol;&lol;">]><rss><channel><title>&lol2;</title></channel></rss>',
+      'STRAND_FEED_HOSTILE',
+    ],
+    [
+      'an external entity',
+      '<?xml version="1.0"?><!DOCTYPE x [<!ENTITY xxe SYSTEM "file:///etc/passwd">]><rss><channel><title>&xxe;</title></channel></rss>',
+      'STRAND_FEED_HOSTILE',
+    ],
   ])('refuses %s with a clear reason', (_name, text, code) => {
     let caught: unknown;
     try {
@@ -121,7 +140,13 @@ describe('reading feeds', () => {
 });
 
 describe('feed extensions and links (conformance)', () => {
-  const ctx = { outlet: 'O', source: 'https://feeds.example/news/rss.xml', fetched: '2026-01-01T00:00:00.000Z', maxArticleChars: 10_000, documentUrl: 'https://feeds.example/news/rss.xml' };
+  const ctx = {
+    outlet: 'O',
+    source: 'https://feeds.example/news/rss.xml',
+    fetched: '2026-01-01T00:00:00.000Z',
+    maxArticleChars: 10_000,
+    documentUrl: 'https://feeds.example/news/rss.xml',
+  };
 
   it('reads Atom xhtml content as the markup inside its div (RFC 4287, 3.1.1.3)', () => {
     const f = parseFeed(`<feed xmlns="http://www.w3.org/2005/Atom"><title>T</title><id>x</id><updated>2026-01-01T00:00:00Z</updated>
@@ -138,11 +163,17 @@ describe('feed extensions and links (conformance)', () => {
   });
 
   it('resolves relative links against nested xml:base, then the feed URL (RFC 4287 section 2, RFC 3986 section 5)', () => {
-    const f = parseFeed(`<feed xmlns="http://www.w3.org/2005/Atom" xml:base="https://ledger.example/blog/"><title>T</title><id>x</id><updated>2026-01-01T00:00:00Z</updated>
+    const f =
+      parseFeed(`<feed xmlns="http://www.w3.org/2005/Atom" xml:base="https://ledger.example/blog/"><title>T</title><id>x</id><updated>2026-01-01T00:00:00Z</updated>
       <entry xml:base="posts/"><id>e1</id><title>E</title><updated>2026-01-01T00:00:00Z</updated><link href="one.html"/></entry>
       <entry><id>e2</id><title>F</title><updated>2026-01-01T00:00:00Z</updated><link href="/two.html"/></entry></feed>`);
-    expect(f.items.map((i) => toArticle(i, ctx).article.url)).toEqual(['https://ledger.example/blog/posts/one.html', 'https://ledger.example/two.html']);
-    const rss = parseFeed(`<rss version="2.0"><channel><title>C</title><link>https://c.example/</link><description>d</description><item><title>A</title><link>../a/1</link></item></channel></rss>`);
+    expect(f.items.map((i) => toArticle(i, ctx).article.url)).toEqual([
+      'https://ledger.example/blog/posts/one.html',
+      'https://ledger.example/two.html',
+    ]);
+    const rss = parseFeed(
+      `<rss version="2.0"><channel><title>C</title><link>https://c.example/</link><description>d</description><item><title>A</title><link>../a/1</link></item></channel></rss>`,
+    );
     const a = toArticle(rss.items[0]!, ctx).article;
     expect(a.url).toBe('https://feeds.example/a/1');
     expect(a.id).toBe('https://feeds.example/a/1');
@@ -158,7 +189,8 @@ describe('feed extensions and links (conformance)', () => {
   });
 
   it('reads the Dublin Core date of an RSS item (dc:date, W3C-DTF)', () => {
-    const f = parseFeed(`<rss version="2.0" xmlns:dc="http://purl.org/dc/elements/1.1/"><channel><title>C</title><link>https://c.example/</link><description>d</description>
+    const f =
+      parseFeed(`<rss version="2.0" xmlns:dc="http://purl.org/dc/elements/1.1/"><channel><title>C</title><link>https://c.example/</link><description>d</description>
       <item><title>A</title><dc:date>2002-09-07T00:00:01+02:00</dc:date></item></channel></rss>`);
     expect(toArticle(f.items[0]!, ctx).article.published).toBe('2002-09-06T22:00:01.000Z');
   });
@@ -182,12 +214,17 @@ describe('feed extensions and links (conformance)', () => {
     ['Sat, 07 Sep 2002', '2002-09-07T00:00:00.000Z'],
     ['2002-09-07 00:00:01', '2002-09-07T00:00:01.000Z'],
   ])('normalises the date %s to %s', (given, expected) => {
-    expect(toArticle({ guid: 'g', url: null, title: 't', published: given, html: null, text: 'x', language: null }, ctx).article.published).toBe(expected);
+    expect(
+      toArticle({ guid: 'g', url: null, title: 't', published: given, html: null, text: 'x', language: null }, ctx).article.published,
+    ).toBe(expected);
   });
 
-  it.each(['Sat, 31 Feb 2002 00:00:01 GMT', '2002-02-30T10:00:00Z', 'yesterday', '2002-13-01T00:00:00Z'])('warns about the impossible or unreadable date %s and keeps the item undated', (given) => {
-    const r = toArticle({ guid: 'g', url: null, title: 't', published: given, html: null, text: 'x', language: null }, ctx);
-    expect(r.article.published).toBeNull();
-    expect(r.warning).toMatch(/unreadable date/);
-  });
+  it.each(['Sat, 31 Feb 2002 00:00:01 GMT', '2002-02-30T10:00:00Z', 'yesterday', '2002-13-01T00:00:00Z'])(
+    'warns about the impossible or unreadable date %s and keeps the item undated',
+    (given) => {
+      const r = toArticle({ guid: 'g', url: null, title: 't', published: given, html: null, text: 'x', language: null }, ctx);
+      expect(r.article.published).toBeNull();
+      expect(r.warning).toMatch(/unreadable date/);
+    },
+  );
 });

@@ -1,9 +1,22 @@
 import { munkres } from 'munkres';
 import { describe, expect, it } from 'vitest';
-import { type Partition, type Score, b3Score, blancScore, ceafScore, leaScore, mucScore, scorePartitions } from '../../src/eval/partition-metrics.js';
+import {
+  type Partition,
+  type Score,
+  b3Score,
+  blancScore,
+  ceafScore,
+  leaScore,
+  mucScore,
+  scorePartitions,
+} from '../../src/eval/partition-metrics.js';
 import { seededRandom as rng } from '../../src/bench/seeded-random.js';
 
-const P = (s: string): Partition => s.trim().split(/\}\s*\{/).map((c) => c.replace(/[{}]/g, '').trim().split(/\s+/).filter(Boolean));
+const P = (s: string): Partition =>
+  s
+    .trim()
+    .split(/\}\s*\{/)
+    .map((c) => c.replace(/[{}]/g, '').trim().split(/\s+/).filter(Boolean));
 const KEY_A = P('{a} {b c} {d e f}');
 const TOL = 1e-4;
 
@@ -106,7 +119,6 @@ describe('CoNLL F1', () => {
     expect(s.conllF1).toBeCloseTo((1 / 3 + 0.46832 + 0.62857) / 3, 4);
   });
 });
-
 
 function permutations(n: number): number[][] {
   if (n === 0) return [[]];

@@ -31,11 +31,15 @@ describe('resolving time expressions against the publication date', () => {
   });
 
   it('reads a weekday forward when the sentence speaks of the future', () => {
-    expect(resolveTimes('Members will vote on Saturday.', PUBLISHED, true)).toEqual([{ text: 'on Saturday', start: '2026-10-17', end: '2026-10-17' }]);
+    expect(resolveTimes('Members will vote on Saturday.', PUBLISHED, true)).toEqual([
+      { text: 'on Saturday', start: '2026-10-17', end: '2026-10-17' },
+    ]);
   });
 
   it('reads a month and day forward for a future sentence', () => {
-    expect(resolveTimes('He will be sentenced on October 30.', PUBLISHED, true)).toEqual([{ text: 'October 30', start: '2026-10-30', end: '2026-10-30' }]);
+    expect(resolveTimes('He will be sentenced on October 30.', PUBLISHED, true)).toEqual([
+      { text: 'October 30', start: '2026-10-30', end: '2026-10-30' },
+    ]);
   });
 
   it('drops relative phrases that would put a reported event after the report', () => {
@@ -47,6 +51,8 @@ describe('resolving time expressions against the publication date', () => {
   });
 
   it('takes a whole month when only the month is given', () => {
-    expect(resolveTimes('The company dismissed staff in April.', PUBLISHED, false)).toEqual([{ text: 'April', start: '2026-04-01', end: '2026-04-30' }]);
+    expect(resolveTimes('The company dismissed staff in April.', PUBLISHED, false)).toEqual([
+      { text: 'April', start: '2026-04-01', end: '2026-04-30' },
+    ]);
   });
 });

@@ -30,7 +30,13 @@ const HOUR = 3_600_000;
 describe('the retention sweeper', () => {
   it('erases text older than textDays, counted back from today', async () => {
     const { store, calls } = fakeStore([3]);
-    const sweeper = new RetentionSweeper({ store, textDays: 30, notificationDays: null, logger: quiet, now: () => new Date('2026-12-03T10:00:00Z') });
+    const sweeper = new RetentionSweeper({
+      store,
+      textDays: 30,
+      notificationDays: null,
+      logger: quiet,
+      now: () => new Date('2026-12-03T10:00:00Z'),
+    });
     expect(await sweeper.sweep()).toEqual({ erased: 3, compacted: true, pruned: 0 });
     expect(calls.erasedBefore).toEqual(['2026-11-03']);
   });
@@ -68,7 +74,13 @@ describe('the retention sweeper', () => {
 
   it('deletes notifications settled more than notificationDays ago, to the millisecond, and erases no text unless told', async () => {
     const { store, calls } = fakeStore([9]);
-    const sweeper = new RetentionSweeper({ store, textDays: null, notificationDays: 30, logger: quiet, now: () => new Date('2026-12-03T10:00:00.500Z') });
+    const sweeper = new RetentionSweeper({
+      store,
+      textDays: null,
+      notificationDays: 30,
+      logger: quiet,
+      now: () => new Date('2026-12-03T10:00:00.500Z'),
+    });
     expect(await sweeper.sweep()).toEqual({ erased: 0, compacted: false, pruned: 2 });
     expect(calls.prunedBefore).toEqual(['2026-11-03T10:00:00.500Z']);
     expect(calls.erasedBefore).toEqual([]);
@@ -77,7 +89,12 @@ describe('the retention sweeper', () => {
   it('logs a failing sweep and resolves, so a store outage cannot end the process', async () => {
     const errors: unknown[] = [];
     const { store } = fakeStore([], new Error('disk I/O error'));
-    const sweeper = new RetentionSweeper({ store, textDays: 7, notificationDays: null, logger: { info: () => undefined, error: (o: unknown) => errors.push(o) } });
+    const sweeper = new RetentionSweeper({
+      store,
+      textDays: 7,
+      notificationDays: null,
+      logger: { info: () => undefined, error: (o: unknown) => errors.push(o) },
+    });
     expect(await sweeper.sweep()).toEqual({ erased: 0, compacted: false, pruned: 0 });
     expect(errors).toEqual([{ err: 'disk I/O error' }]);
   });

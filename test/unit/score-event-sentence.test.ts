@@ -6,7 +6,19 @@ import { createNlp } from '../../src/text/nlp.js';
 const nlp = createNlp();
 
 function score(text: string): number {
-  const [s] = analyseArticle(nlp, { id: 'a', outlet: 'o', url: null, title: '', published: '2026-10-15T09:00:00Z', fetched: '2026-10-15T09:00:00Z', language: null, text, contentHash: '', duplicateOf: null, source: '' }).sentences;
+  const [s] = analyseArticle(nlp, {
+    id: 'a',
+    outlet: 'o',
+    url: null,
+    title: '',
+    published: '2026-10-15T09:00:00Z',
+    fetched: '2026-10-15T09:00:00Z',
+    language: null,
+    text,
+    contentHash: '',
+    duplicateOf: null,
+    source: '',
+  }).sentences;
   return scoreEventSentence(s!);
 }
 

@@ -6,7 +6,12 @@ describe('signing webhooks', () => {
   // Test vector of the Standard Webhooks specification's library tests
   // (repository standard-webhooks/standard-webhooks; checks.md).
   it('reproduces the specification test vector', () => {
-    const headers = signWebhook('whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw', 'msg_p5jXN8AQM9LWM0D4loKWxJek', new Date(1614265330 * 1000), '{"test": 2432232314}');
+    const headers = signWebhook(
+      'whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw',
+      'msg_p5jXN8AQM9LWM0D4loKWxJek',
+      new Date(1614265330 * 1000),
+      '{"test": 2432232314}',
+    );
     expect(headers).toEqual({
       'webhook-id': 'msg_p5jXN8AQM9LWM0D4loKWxJek',
       'webhook-timestamp': '1614265330',

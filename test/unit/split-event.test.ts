@@ -16,8 +16,18 @@ function stream(specs: { article: string; terms: string[]; published?: string }[
   const e = new TfidfEmbedder(16);
   e.learn(specs.map((s) => ({ text: '', terms: s.terms })));
   return specs.map((s) => ({
-    articleId: s.article, sentenceIndex: 0, text: s.terms.join(' '), outlet: 'Outlet A', published: s.published ?? '2026-10-07T10:00:00Z',
-    eventness: 0.9, participants: [], places: [], times: [], terms: s.terms, isCopy: false, vector: e.vector(s.terms),
+    articleId: s.article,
+    sentenceIndex: 0,
+    text: s.terms.join(' '),
+    outlet: 'Outlet A',
+    published: s.published ?? '2026-10-07T10:00:00Z',
+    eventness: 0.9,
+    participants: [],
+    places: [],
+    times: [],
+    terms: s.terms,
+    isCopy: false,
+    vector: e.vector(s.terms),
   }));
 }
 
@@ -46,7 +56,10 @@ describe('splitting a drifted event', () => {
     const l = chained(ms);
     expect(l.size).toBe(1);
     const id = eventIdFor(ms[0]!);
-    const plan = l.planSplit(id, ms.map((mention) => ({ mention, rank: 0 })));
+    const plan = l.planSplit(
+      id,
+      ms.map((mention) => ({ mention, rank: 0 })),
+    );
     expect(plan).not.toBeNull();
     expect(plan!.kept.id).toBe(id);
     expect(plan!.score).toBeLessThan(options.splitThreshold);
@@ -58,7 +71,10 @@ describe('splitting a drifted event', () => {
   it('after the split a new strike sentence joins the split-off event, not the fire', () => {
     const ms = drifted();
     const l = chained(ms);
-    const plan = l.planSplit(eventIdFor(ms[0]!), ms.map((mention) => ({ mention, rank: 0 })))!;
+    const plan = l.planSplit(
+      eventIdFor(ms[0]!),
+      ms.map((mention) => ({ mention, rank: 0 })),
+    )!;
     l.applySplit(plan);
     expect(l.size).toBe(2);
     const [late] = stream([...ms.map((m) => ({ article: m.articleId, terms: m.terms })), { article: 's4', terms: STRIKE }]).slice(-1);
@@ -69,13 +85,23 @@ describe('splitting a drifted event', () => {
     const ms = stream(['a', 'b', 'c', 'd', 'e', 'f'].map((article, i) => ({ article, terms: FIRE.filter((_, k) => k !== i) })));
     const l = chained(ms);
     expect(l.size).toBe(1);
-    expect(l.planSplit(eventIdFor(ms[0]!), ms.map((mention) => ({ mention, rank: 0 })))).toBeNull();
+    expect(
+      l.planSplit(
+        eventIdFor(ms[0]!),
+        ms.map((mention) => ({ mention, rank: 0 })),
+      ),
+    ).toBeNull();
   });
 
   it('does not split off a single stray sentence, nor examine small events', () => {
     const ms = drifted().slice(0, 5);
     const l = chained(ms);
-    expect(l.planSplit(eventIdFor(ms[0]!), ms.map((mention) => ({ mention, rank: 0 })))).toBeNull();
+    expect(
+      l.planSplit(
+        eventIdFor(ms[0]!),
+        ms.map((mention) => ({ mention, rank: 0 })),
+      ),
+    ).toBeNull();
     expect(l.splitCandidates([eventIdFor(ms[0]!)])).toEqual([eventIdFor(ms[0]!)]);
     const small = chained(drifted().slice(0, 3));
     expect(small.splitCandidates([eventIdFor(ms[0]!)])).toEqual([]);
@@ -99,8 +125,14 @@ describe('splitting a drifted event', () => {
 
   it('gives the same answer for the same mentions (every process reaches the same split)', () => {
     const ms = drifted();
-    const a = chained(ms).planSplit(eventIdFor(ms[0]!), ms.map((mention) => ({ mention, rank: 0 })));
-    const b = chained(ms).planSplit(eventIdFor(ms[0]!), ms.map((mention) => ({ mention, rank: 0 })));
+    const a = chained(ms).planSplit(
+      eventIdFor(ms[0]!),
+      ms.map((mention) => ({ mention, rank: 0 })),
+    );
+    const b = chained(ms).planSplit(
+      eventIdFor(ms[0]!),
+      ms.map((mention) => ({ mention, rank: 0 })),
+    );
     expect(b).toEqual(a);
   });
 
@@ -108,7 +140,19 @@ describe('splitting a drifted event', () => {
     const ms = drifted();
     const e = openEvent(eventIdFor(ms[0]!), ms[0]!);
     for (const m of ms) addMention(e, m, 1, options.centroidTerms);
-    expect(planSplit(e, ms.map((mention) => ({ mention, rank: 0 })), options)).not.toBeNull();
-    expect(planSplit(e, ms.map((mention) => ({ mention, rank: 0 })), { ...options, splitMinMentions: 0 })).toBeNull();
+    expect(
+      planSplit(
+        e,
+        ms.map((mention) => ({ mention, rank: 0 })),
+        options,
+      ),
+    ).not.toBeNull();
+    expect(
+      planSplit(
+        e,
+        ms.map((mention) => ({ mention, rank: 0 })),
+        { ...options, splitMinMentions: 0 },
+      ),
+    ).toBeNull();
   });
 });

@@ -9,7 +9,15 @@ const options = testConfig().link;
 function articles(specs: { id: string; words: string[]; published: string; outlet?: string; names?: string[] }[]): StoryArticle[] {
   const e = new TfidfEmbedder(16);
   e.learn(specs.map((s) => ({ text: '', terms: s.words })));
-  return specs.map((s) => ({ id: s.id, title: `Headline ${s.id}`, outlet: s.outlet ?? 'Outlet A', published: s.published, vector: e.vector(s.words), names: s.names ?? [], isCopy: false }));
+  return specs.map((s) => ({
+    id: s.id,
+    title: `Headline ${s.id}`,
+    outlet: s.outlet ?? 'Outlet A',
+    published: s.published,
+    vector: e.vector(s.words),
+    names: s.names ?? [],
+    isCopy: false,
+  }));
 }
 
 const LEVEE = ['levee', 'breach', 'dunvessel', 'flood', 'river', 'veshel', 'water', 'town'];
@@ -35,7 +43,10 @@ describe('the story linker', () => {
 
   it('opens another story for an article about something else', () => {
     const l = new StoryLinker(options);
-    const [a, b] = articles([{ id: 'a', words: LEVEE, published: '2026-10-06T05:00:00Z' }, { id: 'b', words: STRIKE, published: '2026-10-06T09:00:00Z' }]);
+    const [a, b] = articles([
+      { id: 'a', words: LEVEE, published: '2026-10-06T05:00:00Z' },
+      { id: 'b', words: STRIKE, published: '2026-10-06T09:00:00Z' },
+    ]);
     l.apply(l.plan(a!));
     expect(l.plan(b!).opened).toBe(true);
   });
@@ -73,12 +84,18 @@ describe('the story linker', () => {
   });
 
   it('resumes from stored states and merges, planning as an uninterrupted linker does', () => {
-    const run = articles(Array.from({ length: 20 }, (_, i) => ({
-      id: `x${i}`, words: i % 2 ? [...LEVEE.slice(0, 5), `w${i}`] : [...STRIKE.slice(0, 4), `w${i}`], published: `2026-10-${String(6 + (i % 9)).padStart(2, '0')}T05:00:00Z`,
-    })));
+    const run = articles(
+      Array.from({ length: 20 }, (_, i) => ({
+        id: `x${i}`,
+        words: i % 2 ? [...LEVEE.slice(0, 5), `w${i}`] : [...STRIKE.slice(0, 4), `w${i}`],
+        published: `2026-10-${String(6 + (i % 9)).padStart(2, '0')}T05:00:00Z`,
+      })),
+    );
     const live = new StoryLinker(options);
     for (const x of run.slice(0, 15)) live.apply(live.plan(x));
-    const stored = [...new Set(run.slice(0, 15).map((x) => live.resolve(live.plan(x).story.id)))].map((id) => deserialiseStory(serialiseStory(live.story(id)!)));
+    const stored = [...new Set(run.slice(0, 15).map((x) => live.resolve(live.plan(x).story.id)))].map((id) =>
+      deserialiseStory(serialiseStory(live.story(id)!)),
+    );
     const resumed = new StoryLinker(options);
     resumed.load(stored, []);
     for (const x of run.slice(15)) {
@@ -92,7 +109,10 @@ describe('the story linker', () => {
 
   it('keeps every part of a story through its binary form', () => {
     const l = new StoryLinker(options);
-    const [a, b] = articles([{ id: 'a', words: LEVEE, published: '2026-10-06T05:00:00Z', names: ['Dunvessel'] }, { id: 'b', words: LEVEE, published: '2026-10-07T05:00:00Z', outlet: 'Outlet B', names: ['Dunvessel', 'Veshel'] }]);
+    const [a, b] = articles([
+      { id: 'a', words: LEVEE, published: '2026-10-06T05:00:00Z', names: ['Dunvessel'] },
+      { id: 'b', words: LEVEE, published: '2026-10-07T05:00:00Z', outlet: 'Outlet B', names: ['Dunvessel', 'Veshel'] },
+    ]);
     l.apply(l.plan(a!));
     const p = l.plan(b!);
     expect(deserialiseStory(serialiseStory(p.story))).toEqual(p.story);

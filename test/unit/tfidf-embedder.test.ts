@@ -15,7 +15,11 @@ describe('FNV-1a hashing', () => {
 describe('the TF-IDF embedder', () => {
   it('learns document frequencies from the stream and weighs rare terms up', async () => {
     const e = new TfidfEmbedder(16);
-    e.learn([{ text: '', terms: ['levee', 'river'] }, { text: '', terms: ['river'] }, { text: '', terms: ['river', 'bank'] }]);
+    e.learn([
+      { text: '', terms: ['levee', 'river'] },
+      { text: '', terms: ['river'] },
+      { text: '', terms: ['river', 'bank'] },
+    ]);
     // idf = ln((1 + N) / (1 + df)) + 1 with N = 3 (scikit-learn's smoothed idf).
     expect(e.idf(fnv1a('river') & 0xffff)).toBeCloseTo(Math.log(4 / 4) + 1, 10);
     expect(e.idf(fnv1a('levee') & 0xffff)).toBeCloseTo(Math.log(4 / 2) + 1, 10);
@@ -41,7 +45,11 @@ describe('the TF-IDF embedder', () => {
   it('raises idf to idfPower, weighing rare terms further up', () => {
     const plain = new TfidfEmbedder(16);
     const sharp = new TfidfEmbedder(16, { idfPower: 2 });
-    const docs = [{ text: '', terms: ['levee', 'river'] }, { text: '', terms: ['river'] }, { text: '', terms: ['river', 'bank'] }];
+    const docs = [
+      { text: '', terms: ['levee', 'river'] },
+      { text: '', terms: ['river'] },
+      { text: '', terms: ['river', 'bank'] },
+    ];
     plain.learn(docs);
     sharp.learn(docs);
     const h = fnv1a('levee') & 0xffff;

@@ -5,7 +5,16 @@ import { isStrandError } from '../../src/errors.js';
 import type { FeedItem } from '../../src/ingest/feed-item.js';
 
 const ctx = { outlet: 'Harbourline Daily', source: 'feed.json', fetched: '2026-10-20T00:00:00.000Z', maxArticleChars: 1000 };
-const item = (over: Partial<FeedItem>): FeedItem => ({ guid: null, url: null, title: 'A title', published: null, html: null, text: null, language: null, ...over });
+const item = (over: Partial<FeedItem>): FeedItem => ({
+  guid: null,
+  url: null,
+  title: 'A title',
+  published: null,
+  html: null,
+  text: null,
+  language: null,
+  ...over,
+});
 
 function code(fn: () => unknown): string | undefined {
   try {
@@ -24,20 +33,36 @@ describe('turning feed items into articles', () => {
   });
 
   it('gives an item with no guid and no link the same id every time', () => {
-    const a = toArticle(item({ title: 'Bridge shut', published: 'Mon, 12 Oct 2026 07:45:00 +0000', text: 'The bridge was shut.' }), ctx).article;
-    const b = toArticle(item({ title: 'Bridge shut', published: 'Mon, 12 Oct 2026 07:45:00 +0000', text: 'The bridge was shut.' }), ctx).article;
+    const a = toArticle(
+      item({ title: 'Bridge shut', published: 'Mon, 12 Oct 2026 07:45:00 +0000', text: 'The bridge was shut.' }),
+      ctx,
+    ).article;
+    const b = toArticle(
+      item({ title: 'Bridge shut', published: 'Mon, 12 Oct 2026 07:45:00 +0000', text: 'The bridge was shut.' }),
+      ctx,
+    ).article;
     expect(a.id).toBe(b.id);
     expect(a.id).toMatch(/^harbourline-daily:[0-9a-f]{16}$/);
   });
 
   it('turns HTML into paragraphs of plain text, without scripts, styles or captions', () => {
-    const a = toArticle(item({ guid: 'g', html: '<p>One &amp; two.</p><script>alert(1)</script><figure><img src=x><figcaption>Photo: staff</figcaption></figure><p>Three <a href="https://x">four</a>.</p><style>p{}</style>' }), ctx).article;
+    const a = toArticle(
+      item({
+        guid: 'g',
+        html: '<p>One &amp; two.</p><script>alert(1)</script><figure><img src=x><figcaption>Photo: staff</figcaption></figure><p>Three <a href="https://x">four</a>.</p><style>p{}</style>',
+      }),
+      ctx,
+    ).article;
     expect(a.text).toBe('One & two.\n\nThree four.');
   });
 
   it('normalises RFC 822 and RFC 3339 dates to UTC, and warns about unreadable ones', () => {
-    expect(toArticle(item({ guid: 'g', text: 'x', published: 'Sat, 07 Sep 02 00:00:01 GMT' }), ctx).article.published).toBe('2002-09-07T00:00:01.000Z');
-    expect(toArticle(item({ guid: 'g', text: 'x', published: '2003-12-13T18:30:02.25+01:00' }), ctx).article.published).toBe('2003-12-13T17:30:02.250Z');
+    expect(toArticle(item({ guid: 'g', text: 'x', published: 'Sat, 07 Sep 02 00:00:01 GMT' }), ctx).article.published).toBe(
+      '2002-09-07T00:00:01.000Z',
+    );
+    expect(toArticle(item({ guid: 'g', text: 'x', published: '2003-12-13T18:30:02.25+01:00' }), ctx).article.published).toBe(
+      '2003-12-13T17:30:02.250Z',
+    );
     const r = toArticle(item({ guid: 'g', text: 'x', published: 'last Tuesday-ish' }), ctx);
     expect(r.article.published).toBeNull();
     expect(r.warning).toMatch(/unreadable date/);
@@ -53,7 +78,9 @@ describe('turning feed items into articles', () => {
 
   it('rejects a body over the size limit, before and after HTML conversion', () => {
     expect(code(() => toArticle(item({ guid: 'g', text: 'x'.repeat(1001) }), ctx))).toBe('STRAND_ARTICLE_TOO_LARGE');
-    expect(code(() => toArticle(item({ guid: 'g', html: `<p>${'y'.repeat(10 * 1024 * 1024)}</p>` }), ctx))).toBe('STRAND_ARTICLE_TOO_LARGE');
+    expect(code(() => toArticle(item({ guid: 'g', html: `<p>${'y'.repeat(10 * 1024 * 1024)}</p>` }), ctx))).toBe(
+      'STRAND_ARTICLE_TOO_LARGE',
+    );
   });
 
   it('hashes content with case and spacing folded, so re-wrapped copies match', () => {
@@ -64,7 +91,8 @@ describe('turning feed items into articles', () => {
 
 describe('publication dates out of range', () => {
   const fetched = '2026-12-03T12:00:00.000Z';
-  const at = (published: string, over: Partial<ItemContext> = {}) => toArticle(item({ guid: 'g', text: 'x', published }), { ...ctx, fetched, ...over });
+  const at = (published: string, over: Partial<ItemContext> = {}) =>
+    toArticle(item({ guid: 'g', text: 'x', published }), { ...ctx, fetched, ...over });
 
   it('reads four-digit years as written: the year 0001 is not 2001 (RFC 2822 section 4.3 keeps two-digit years only for 00-99)', () => {
     expect(parseFeedDate('Mon, 01 Jan 0001 00:00:00 GMT')).toBe(Date.parse('0001-01-01T00:00:00Z'));
@@ -75,7 +103,9 @@ describe('publication dates out of range', () => {
   it('leaves a feed item dated a century or more before it was read undated, with a warning naming the date', () => {
     const r = at('Mon, 01 Jan 0001 00:00:00 GMT');
     expect(r.article.published).toBeNull();
-    expect(r.warning).toBe('date "Mon, 01 Jan 0001 00:00:00 GMT" is more than ingest.publishedPastDays (36500) days before it was fetched; publication time unknown');
+    expect(r.warning).toBe(
+      'date "Mon, 01 Jan 0001 00:00:00 GMT" is more than ingest.publishedPastDays (36500) days before it was fetched; publication time unknown',
+    );
   });
 
   it('dates a feed item from the far future at the time it was read, with a warning', () => {
@@ -95,7 +125,9 @@ describe('publication dates out of range', () => {
   });
 
   it('refuses such dates outright when asked to (pushed items), saying why', () => {
-    expect(() => at('0001-01-01T00:00:00Z', { strictDates: true })).toThrow(/published "0001-01-01T00:00:00Z" is more than ingest.publishedPastDays \(36500\) before now/);
+    expect(() => at('0001-01-01T00:00:00Z', { strictDates: true })).toThrow(
+      /published "0001-01-01T00:00:00Z" is more than ingest.publishedPastDays \(36500\) before now/,
+    );
     expect(() => at('9999-12-31T00:00:00Z', { strictDates: true })).toThrow(/is more than ingest.publishedAheadHours \(48\) after now/);
     expect(() => at('soon', { strictDates: true })).toThrow(/published "soon" is not a date/);
   });

@@ -26,7 +26,11 @@ describe('the transformer embedder on a tiny model built here', () => {
   });
 
   it('splits unknown words into word pieces or [UNK] and embeds batches in order', async () => {
-    const vs = await embedder.embed([{ text: 'Police arrested a man', terms: [] }, { text: 'The bridge fell', terms: [] }, { text: 'Zzyzx', terms: [] }]);
+    const vs = await embedder.embed([
+      { text: 'Police arrested a man', terms: [] },
+      { text: 'The bridge fell', terms: [] },
+      { text: 'Zzyzx', terms: [] },
+    ]);
     expect(vs).toHaveLength(3);
     for (const v of vs) expect(Math.hypot(...v.values)).toBeCloseTo(1, 5);
     const again = await embedder.embed([{ text: 'The bridge fell', terms: [] }]);
@@ -39,7 +43,9 @@ describe('the transformer embedder on a tiny model built here', () => {
     try {
       const capped = await TransformerEmbedder.load(dir, 2, 1);
       expect(spy.mock.calls.at(-1)![1]).toMatchObject({ intraOpNumThreads: 1, interOpNumThreads: 1 });
-      expect((await capped.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values).toEqual((await embedder.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values);
+      expect((await capped.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values).toEqual(
+        (await embedder.embed([{ text: 'The levee failed.', terms: [] }]))[0]!.values,
+      );
       await TransformerEmbedder.load(dir, 2);
       expect(spy.mock.calls.at(-1)![1]).not.toHaveProperty('intraOpNumThreads');
     } finally {

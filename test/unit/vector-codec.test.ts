@@ -3,7 +3,11 @@ import { decodeVector, encodeVector } from '../../src/store/vector-codec.js';
 
 describe('stored mention vectors', () => {
   it('round-trip sparse and dense vectors bit for bit', () => {
-    const sparse = { kind: 'sparse' as const, indices: Uint32Array.from([3, 70_000, 4_294_967_295]), values: Float32Array.from([0.1, -0.5, 1 / 3]) };
+    const sparse = {
+      kind: 'sparse' as const,
+      indices: Uint32Array.from([3, 70_000, 4_294_967_295]),
+      values: Float32Array.from([0.1, -0.5, 1 / 3]),
+    };
     const dense = { kind: 'dense' as const, values: Float32Array.from({ length: 384 }, (_, i) => Math.sin(i)) };
     expect(decodeVector(encodeVector(sparse))).toEqual(sparse);
     expect(decodeVector(encodeVector(dense))).toEqual(dense);

@@ -16,8 +16,24 @@ afterEach(async () => {
 
 function commitWithMessage(store: SqliteStore, created: string): Promise<unknown> {
   const c: ArticleCommit = {
-    article: { id: 'a1', outlet: 'O', url: null, title: 't', published: created, fetched: created, language: null, text: 'x', contentHash: 'h', duplicateOf: null, source: 's' },
-    sentences: [], mentions: [], links: [], events: [], idf: null,
+    article: {
+      id: 'a1',
+      outlet: 'O',
+      url: null,
+      title: 't',
+      published: created,
+      fetched: created,
+      language: null,
+      text: 'x',
+      contentHash: 'h',
+      duplicateOf: null,
+      source: 's',
+    },
+    sentences: [],
+    mentions: [],
+    links: [],
+    events: [],
+    idf: null,
     messages: [{ id: 'msg_test1', type: 'event.opened', body: '{"type":"event.opened"}', created, subscribers: ['recv'] }],
   };
   return store.commitArticle(c);
@@ -27,9 +43,18 @@ function setup(url: string, fetchImpl?: typeof fetch, maxAttempts = 3, start = n
   const store = openSqliteStore(':memory:');
   open.push(store);
   // The receivers here listen on loopback, which a deployment refuses unless allowed.
-  const config = parseConfig({ webhooks: { subscribers: [{ name: 'recv', url, secret: SECRET }], maxAttempts, allowPrivateNetworks: true } });
+  const config = parseConfig({
+    webhooks: { subscribers: [{ name: 'recv', url, secret: SECRET }], maxAttempts, allowPrivateNetworks: true },
+  });
   let now = start;
-  const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent'), now: () => now, random: () => 0.5, ...(fetchImpl ? { fetch: fetchImpl } : {}) });
+  const d = new WebhookDispatcher({
+    store,
+    config: config.webhooks,
+    logger: createLogger('silent'),
+    now: () => now,
+    random: () => 0.5,
+    ...(fetchImpl ? { fetch: fetchImpl } : {}),
+  });
   return { store, d, advance: (ms: number) => (now = new Date(now.getTime() + ms)), now: () => now };
 }
 
@@ -38,10 +63,12 @@ describe('delivering webhooks', () => {
     const received: { headers: IncomingMessage['headers']; body: string }[] = [];
     const server = createServer((req, res) => {
       let body = '';
-      req.on('data', (c) => (body += c)).on('end', () => {
-        received.push({ headers: req.headers, body });
-        res.writeHead(204).end();
-      });
+      req
+        .on('data', (c) => (body += c))
+        .on('end', () => {
+          received.push({ headers: req.headers, body });
+          res.writeHead(204).end();
+        });
     });
     await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
     open.push({ close: () => new Promise((r) => server.close(r)) });
@@ -52,7 +79,11 @@ describe('delivering webhooks', () => {
     await d.tick();
     expect(received).toHaveLength(1);
     const h = received[0]!.headers;
-    const headers = { 'webhook-id': h['webhook-id'] as string, 'webhook-timestamp': h['webhook-timestamp'] as string, 'webhook-signature': h['webhook-signature'] as string };
+    const headers = {
+      'webhook-id': h['webhook-id'] as string,
+      'webhook-timestamp': h['webhook-timestamp'] as string,
+      'webhook-signature': h['webhook-signature'] as string,
+    };
     expect(new Webhook(SECRET).verify(received[0]!.body, headers)).toEqual({ type: 'event.opened' });
     expect(h['webhook-id']).toBe('msg_test1');
     expect(await store.dueDeliveries('2999-01-01T00:00:00Z', 10)).toEqual([]);
@@ -110,25 +141,61 @@ describe('delivering webhooks', () => {
     });
     for (const s of [hanging, healthy]) {
       await new Promise<void>((r) => s.listen(0, '127.0.0.1', r));
-      open.push({ close: () => new Promise((r) => { s.closeAllConnections(); s.close(r); }) });
+      open.push({
+        close: () =>
+          new Promise((r) => {
+            s.closeAllConnections();
+            s.close(r);
+          }),
+      });
     }
     const url = (s: typeof healthy) => `http://127.0.0.1:${(s.address() as AddressInfo).port}/hook`;
     const store = openSqliteStore(':memory:');
     open.push(store);
-    const config = parseConfig({ webhooks: {
-      subscribers: [{ name: 'hanging', url: url(hanging), secret: SECRET }, { name: 'healthy', url: url(healthy), secret: SECRET }],
-      allowedNetworks: ['127.0.0.1'], timeoutMs: 10_000, pollMs: 50,
-    } });
+    const config = parseConfig({
+      webhooks: {
+        subscribers: [
+          { name: 'hanging', url: url(hanging), secret: SECRET },
+          { name: 'healthy', url: url(healthy), secret: SECRET },
+        ],
+        allowedNetworks: ['127.0.0.1'],
+        timeoutMs: 10_000,
+        pollMs: 50,
+      },
+    });
     const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent') });
     // Five notifications now, five more a second later, each to both subscribers.
     const created = new Map<string, number>();
     const publish = async (from: number) => {
       const at = new Date();
-      const messages = [0, 1, 2, 3, 4].map((i) => ({ id: `msg_${from + i}`, type: 'event.opened', body: '{}', created: at.toISOString(), subscribers: ['hanging', 'healthy'] }));
+      const messages = [0, 1, 2, 3, 4].map((i) => ({
+        id: `msg_${from + i}`,
+        type: 'event.opened',
+        body: '{}',
+        created: at.toISOString(),
+        subscribers: ['hanging', 'healthy'],
+      }));
       for (const m of messages) created.set(m.id, at.getTime());
       const c: ArticleCommit = {
-        article: { id: `a${from}`, outlet: 'O', url: null, title: 't', published: at.toISOString(), fetched: at.toISOString(), language: null, text: 'x', contentHash: `h${from}`, duplicateOf: null, source: 's' },
-        sentences: [], mentions: [], links: [], events: [], idf: null, messages,
+        article: {
+          id: `a${from}`,
+          outlet: 'O',
+          url: null,
+          title: 't',
+          published: at.toISOString(),
+          fetched: at.toISOString(),
+          language: null,
+          text: 'x',
+          contentHash: `h${from}`,
+          duplicateOf: null,
+          source: 's',
+        },
+        sentences: [],
+        mentions: [],
+        links: [],
+        events: [],
+        idf: null,
+        messages,
       };
       await store.commitArticle(c);
     };
@@ -143,17 +210,23 @@ describe('delivering webhooks', () => {
     expect(arrived.map((a) => a.id).sort()).toEqual([...created.keys()].sort());
     for (const a of arrived) expect(a.at - created.get(a.id)!).toBeLessThan(2000);
     // The hanging receiver's first delivery was abandoned at stop, not counted as a failure.
-    expect((await store.dueDeliveries('2999-01-01T00:00:00Z', 100)).filter((x) => x.subscriber === 'hanging').map((x) => x.attempts)).toEqual(Array(10).fill(0));
+    expect(
+      (await store.dueDeliveries('2999-01-01T00:00:00Z', 100)).filter((x) => x.subscriber === 'hanging').map((x) => x.attempts),
+    ).toEqual(Array(10).fill(0));
   });
 
   it('refuses, at delivery, a subscriber whose name resolves to a private address', async () => {
     const store = openSqliteStore(':memory:');
     open.push(store);
-    const config = parseConfig({ webhooks: { subscribers: [{ name: 'recv', url: 'http://localhost:65531/hook', secret: SECRET }], maxAttempts: 1 } });
+    const config = parseConfig({
+      webhooks: { subscribers: [{ name: 'recv', url: 'http://localhost:65531/hook', secret: SECRET }], maxAttempts: 1 },
+    });
     const d = new WebhookDispatcher({ store, config: config.webhooks, logger: createLogger('silent') });
     await commitWithMessage(store, new Date().toISOString());
     await d.tick();
-    expect((await store.deadLetters(10))[0]!.lastError).toMatch(/STRAND_SOURCE_FORBIDDEN: localhost is (127\.0\.0\.1|::1) \(loopback\); webhook targets on private networks are called only with webhooks.allowPrivateNetworks/);
+    expect((await store.deadLetters(10))[0]!.lastError).toMatch(
+      /STRAND_SOURCE_FORBIDDEN: localhost is (127\.0\.0\.1|::1) \(loopback\); webhook targets on private networks are called only with webhooks.allowPrivateNetworks/,
+    );
   });
 
   it('spreads retries with exponential backoff and full jitter, capped at one hour', () => {

@@ -5,14 +5,32 @@ import type { EventMention, Store } from '../../store/store.js';
 import { CAUTION, getEventSchema, listEventsSchema } from '../schemas.js';
 
 interface ListQuery {
-  from?: string; to?: string; outlet?: string; q?: string; minOutlets?: number; story?: string; sort?: 'recent' | 'outlets' | 'mentions'; limit: number; offset: number;
+  from?: string;
+  to?: string;
+  outlet?: string;
+  q?: string;
+  minOutlets?: number;
+  story?: string;
+  sort?: 'recent' | 'outlets' | 'mentions';
+  limit: number;
+  offset: number;
 }
 
 /** Registers /api/events and /api/events/:id. */
 export function registerEventRoutes(app: FastifyInstance, store: Store): void {
   app.get<{ Querystring: ListQuery }>('/api/events', { schema: listEventsSchema }, async (req) => {
     const q = req.query;
-    const page = await store.listEvents({ from: q.from, to: q.to, outlet: q.outlet, text: q.q, minOutlets: q.minOutlets, story: q.story, sort: q.sort, limit: q.limit, offset: q.offset });
+    const page = await store.listEvents({
+      from: q.from,
+      to: q.to,
+      outlet: q.outlet,
+      text: q.q,
+      minOutlets: q.minOutlets,
+      story: q.story,
+      sort: q.sort,
+      limit: q.limit,
+      offset: q.offset,
+    });
     return { ...page, caution: CAUTION };
   });
 
@@ -24,7 +42,14 @@ export function registerEventRoutes(app: FastifyInstance, store: Store): void {
       if (into) return reply.redirect(`/api/events/${encodeURIComponent(into)}`, 308);
       throw new StrandError('STRAND_NOT_FOUND', `no event ${req.params.id}`);
     }
-    return { event: detail.event, byOutlet: groupByOutlet(detail.mentions), timeline: timeline(detail.mentions), merges: detail.merges, splits: detail.splits, caution: CAUTION };
+    return {
+      event: detail.event,
+      byOutlet: groupByOutlet(detail.mentions),
+      timeline: timeline(detail.mentions),
+      merges: detail.merges,
+      splits: detail.splits,
+      caution: CAUTION,
+    };
   });
 }
 

@@ -12,12 +12,20 @@ export type FeedControl = Pick<FeedPoller, 'list' | 'add' | 'update' | 'remove'>
 export function registerFeedRoutes(app: FastifyInstance, feeds: FeedControl): void {
   app.get('/api/feeds', { schema: listFeedsSchema }, async () => ({ feeds: feeds.list().map(feedView) }));
 
-  app.post<{ Body: { url: string; outlet?: string | null; intervalSeconds?: number } }>('/api/feeds', { schema: addFeedSchema }, async (req, reply) => {
-    const f = await feeds.add(req.body);
-    return reply.code(201).header('location', `/api/feeds/${f.id}`).send(feedView(f));
-  });
+  app.post<{ Body: { url: string; outlet?: string | null; intervalSeconds?: number } }>(
+    '/api/feeds',
+    { schema: addFeedSchema },
+    async (req, reply) => {
+      const f = await feeds.add(req.body);
+      return reply.code(201).header('location', `/api/feeds/${f.id}`).send(feedView(f));
+    },
+  );
 
-  app.patch<{ Params: { id: string }; Body: { paused?: boolean; intervalSeconds?: number; outlet?: string | null } }>('/api/feeds/:id', { schema: changeFeedSchema }, async (req) => feedView(await feeds.update(req.params.id, req.body)));
+  app.patch<{ Params: { id: string }; Body: { paused?: boolean; intervalSeconds?: number; outlet?: string | null } }>(
+    '/api/feeds/:id',
+    { schema: changeFeedSchema },
+    async (req) => feedView(await feeds.update(req.params.id, req.body)),
+  );
 
   app.delete<{ Params: { id: string } }>('/api/feeds/:id', { schema: removeFeedSchema }, async (req, reply) => {
     if (!(await feeds.remove(req.params.id))) throw new StrandError('STRAND_NOT_FOUND', `no feed ${req.params.id}`);
@@ -30,11 +38,26 @@ export function feedView(f: FeedEntry): object {
   const s = f.state;
   const delay = median(s.delaysMs);
   return {
-    id: f.id, url: f.url, outlet: f.outlet, intervalSeconds: f.intervalSeconds, paused: f.paused, origin: f.origin, added: f.added,
+    id: f.id,
+    url: f.url,
+    outlet: f.outlet,
+    intervalSeconds: f.intervalSeconds,
+    paused: f.paused,
+    origin: f.origin,
+    added: f.added,
     health: {
       status: f.paused ? 'paused' : s.lastPollAt === null ? 'waiting' : s.failures > 0 ? 'failing' : 'ok',
-      lastPollAt: s.lastPollAt, lastSuccessAt: s.lastSuccessAt, lastStatus: s.lastStatus, lastError: s.lastError, failures: s.failures,
-      nextPollAt: s.nextPollAt, requests: s.requests, notModified: s.notModified, bytes: s.bytes, itemsSeen: s.itemsSeen, itemsNew: s.itemsNew,
+      lastPollAt: s.lastPollAt,
+      lastSuccessAt: s.lastSuccessAt,
+      lastStatus: s.lastStatus,
+      lastError: s.lastError,
+      failures: s.failures,
+      nextPollAt: s.nextPollAt,
+      requests: s.requests,
+      notModified: s.notModified,
+      bytes: s.bytes,
+      itemsSeen: s.itemsSeen,
+      itemsNew: s.itemsNew,
       medianDelaySeconds: delay === null ? null : Math.round(delay / 1000),
     },
   };

@@ -20,7 +20,10 @@ export interface QueueView {
 }
 
 /** Registers /api/health, /api/webhooks/dead-letters and, with a queue, /api/queue and /api/queue/dead-letters. */
-export function registerOperationRoutes(app: FastifyInstance, deps: { store: Store; version: string; ingestStatus: () => IngestStatus; queue?: QueueView | undefined }): void {
+export function registerOperationRoutes(
+  app: FastifyInstance,
+  deps: { store: Store; version: string; ingestStatus: () => IngestStatus; queue?: QueueView | undefined },
+): void {
   const started = Date.now();
   app.get('/api/health', { schema: healthSchema }, async () => ({
     status: 'ok' as const,

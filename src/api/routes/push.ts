@@ -28,13 +28,20 @@ interface ItemResult {
   reason: string | null;
 }
 
-export function registerPushRoute(app: FastifyInstance, deps: { store: Store; submit: SubmitArticles; limits: PushLimits; now: () => Date }): void {
+export function registerPushRoute(
+  app: FastifyInstance,
+  deps: { store: Store; submit: SubmitArticles; limits: PushLimits; now: () => Date },
+): void {
   const { limits } = deps;
-  app.addContentTypeParser('application/x-ndjson', { parseAs: 'string', bodyLimit: limits.maxPushBytes }, (_req, body, done) => done(null, body));
+  app.addContentTypeParser('application/x-ndjson', { parseAs: 'string', bodyLimit: limits.maxPushBytes }, (_req, body, done) =>
+    done(null, body),
+  );
   app.post('/api/articles', { schema: pushSchema, bodyLimit: limits.maxPushBytes }, async (req) => {
     const ndjson = (req.headers['content-type'] ?? '').startsWith('application/x-ndjson');
     const items = readPushedItems(splitPushedBody(req.body, ndjson, limits.maxPushItems), {
-      maxArticleChars: limits.maxArticleChars, fetched: deps.now().toISOString(), source: `push:${req.ip}`,
+      maxArticleChars: limits.maxArticleChars,
+      fetched: deps.now().toISOString(),
+      source: `push:${req.ip}`,
       ...(limits.publishedPastDays ? { publishedPastDays: limits.publishedPastDays } : {}),
       ...(limits.publishedAheadHours !== undefined ? { publishedAheadHours: limits.publishedAheadHours } : {}),
     });
@@ -45,9 +52,19 @@ export function registerPushRoute(app: FastifyInstance, deps: { store: Store; su
       if (item.error) {
         results.push({ index: item.index, id: item.id, status: 'rejected', reason: `${item.error.code}: ${item.error.message}` });
       } else if (seen.has(item.article.id) || (await deps.store.hasArticle(item.article.id))) {
-        results.push({ index: item.index, id: item.article.id, status: 'duplicate', reason: seen.has(item.article.id) ? 'earlier in this request' : 'already stored' });
+        results.push({
+          index: item.index,
+          id: item.article.id,
+          status: 'duplicate',
+          reason: seen.has(item.article.id) ? 'earlier in this request' : 'already stored',
+        });
       } else if (url(item.article) && (seen.has(url(item.article)!) || (await deps.store.findByUrl(url(item.article)!)))) {
-        results.push({ index: item.index, id: item.article.id, status: 'duplicate', reason: seen.has(url(item.article)!) ? 'same URL earlier in this request' : 'an article with the same URL is stored' });
+        results.push({
+          index: item.index,
+          id: item.article.id,
+          status: 'duplicate',
+          reason: seen.has(url(item.article)!) ? 'same URL earlier in this request' : 'an article with the same URL is stored',
+        });
       } else {
         seen.add(item.article.id);
         if (url(item.article)) seen.add(url(item.article)!);

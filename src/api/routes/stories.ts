@@ -5,14 +5,30 @@ import type { EventSummary, StoryArticleRow, Store } from '../../store/store.js'
 import { CAUTION, getStorySchema, listStoriesSchema } from '../schemas.js';
 
 interface ListQuery {
-  from?: string; to?: string; outlet?: string; q?: string; minOutlets?: number; sort?: 'recent' | 'outlets' | 'articles'; limit: number; offset: number;
+  from?: string;
+  to?: string;
+  outlet?: string;
+  q?: string;
+  minOutlets?: number;
+  sort?: 'recent' | 'outlets' | 'articles';
+  limit: number;
+  offset: number;
 }
 
 /** Registers /api/stories and /api/stories/:id. */
 export function registerStoryRoutes(app: FastifyInstance, store: Store): void {
   app.get<{ Querystring: ListQuery }>('/api/stories', { schema: listStoriesSchema }, async (req) => {
     const q = req.query;
-    const page = await store.listStories({ from: q.from, to: q.to, outlet: q.outlet, text: q.q, minOutlets: q.minOutlets, sort: q.sort, limit: q.limit, offset: q.offset });
+    const page = await store.listStories({
+      from: q.from,
+      to: q.to,
+      outlet: q.outlet,
+      text: q.q,
+      minOutlets: q.minOutlets,
+      sort: q.sort,
+      limit: q.limit,
+      offset: q.offset,
+    });
     return { ...page, caution: CAUTION };
   });
 
@@ -25,23 +41,34 @@ export function registerStoryRoutes(app: FastifyInstance, store: Store): void {
       throw new StrandError('STRAND_NOT_FOUND', `no story ${req.params.id}`);
     }
     return {
-      story: detail.story, events: detail.events, byOutlet: articlesByOutlet(detail.articles), timeline: storyTimeline(detail.articles, detail.events),
-      merges: detail.merges, caution: CAUTION,
+      story: detail.story,
+      events: detail.events,
+      byOutlet: articlesByOutlet(detail.articles),
+      timeline: storyTimeline(detail.articles, detail.events),
+      merges: detail.merges,
+      caution: CAUTION,
     };
   });
 }
 
 /** Articles grouped by outlet, outlets in the order they first reported on the story. */
-export function articlesByOutlet(articles: readonly StoryArticleRow[]): { outlet: string; independent: boolean; articles: Omit<StoryArticleRow, 'outlet'>[] }[] {
+export function articlesByOutlet(
+  articles: readonly StoryArticleRow[],
+): { outlet: string; independent: boolean; articles: Omit<StoryArticleRow, 'outlet'>[] }[] {
   const groups = new Map<string, StoryArticleRow[]>();
   for (const a of articles) groups.set(a.outlet, [...(groups.get(a.outlet) ?? []), a]);
   return [...groups].map(([outlet, list]) => ({
-    outlet, independent: list.some((a) => a.duplicateOf === null), articles: list.map(({ outlet: _, ...rest }) => rest),
+    outlet,
+    independent: list.some((a) => a.duplicateOf === null),
+    articles: list.map(({ outlet: _, ...rest }) => rest),
   }));
 }
 
 /** Articles per day, the outlets new to the story that day, and the events that opened that day. */
-export function storyTimeline(articles: readonly StoryArticleRow[], events: readonly EventSummary[]): { day: string; articles: number; newOutlets: string[]; newEvents: string[] }[] {
+export function storyTimeline(
+  articles: readonly StoryArticleRow[],
+  events: readonly EventSummary[],
+): { day: string; articles: number; newOutlets: string[]; newEvents: string[] }[] {
   const seen = new Set<string>();
   const days = new Map<string, { day: string; articles: number; newOutlets: string[]; newEvents: string[] }>();
   const day = (d: string) => days.get(d) ?? days.set(d, { day: d, articles: 0, newOutlets: [], newEvents: [] }).get(d)!;

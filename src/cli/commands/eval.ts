@@ -32,7 +32,10 @@ export function parseThresholds(spec: string): number[] {
   const m = /^(\d*\.?\d+):(\d*\.?\d+):(\d*\.?\d+)$/.exec(spec.trim());
   const [from, to, step] = m ? [Number(m[1]), Number(m[2]), Number(m[3])] : [NaN, NaN, NaN];
   if (!m || !(from > 0) || to > 1 || to < from || !(step > 0) || (to - from) / step > 200) {
-    throw new StrandError('STRAND_REQUEST_INVALID', `--thresholds must be from:to:step with 0 < from <= to <= 1 and at most 200 steps, such as 0.05:0.5:0.025, not "${spec}"`);
+    throw new StrandError(
+      'STRAND_REQUEST_INVALID',
+      `--thresholds must be from:to:step with 0 < from <= to <= 1 and at most 200 steps, such as 0.05:0.5:0.025, not "${spec}"`,
+    );
   }
   const out: number[] = [];
   for (let t = from; t <= to + 1e-9; t += step) out.push(Math.round(t * 10000) / 10000);
@@ -44,19 +47,41 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
   const corpora: EvalCorpus[] = [];
   const { config, logger } = setup({ logLevel: 'warn', ...opts });
   if (opts.articles || opts.gold) {
-    if (!opts.articles || !opts.gold) throw new StrandError('STRAND_REQUEST_INVALID', 'give both --articles <file> and --gold <file> (or a corpus folder with --corpus <dir>)');
-    corpora.push({ name: basename(dirname(resolve(opts.articles))), source: resolve(opts.articles), input: await readEvalInput({ articles: opts.articles, gold: opts.gold, scope: opts.scope }) });
+    if (!opts.articles || !opts.gold)
+      throw new StrandError(
+        'STRAND_REQUEST_INVALID',
+        'give both --articles <file> and --gold <file> (or a corpus folder with --corpus <dir>)',
+      );
+    corpora.push({
+      name: basename(dirname(resolve(opts.articles))),
+      source: resolve(opts.articles),
+      input: await readEvalInput({ articles: opts.articles, gold: opts.gold, scope: opts.scope }),
+    });
   }
   for (const dir of opts.corpus ?? []) corpora.push(await readCorpus(dir));
   if (opts.demo) corpora.push({ name: 'demo', source: 'the demo (demo-feed/)', input: await demoEvalInput(createNlp(), DEMO_DIR, config) });
-  if (corpora.length === 0) throw new StrandError('STRAND_REQUEST_INVALID', 'give corpus folders with --corpus <dir> (repeatable), or --articles <file> and --gold <file>, or --demo');
+  if (corpora.length === 0)
+    throw new StrandError(
+      'STRAND_REQUEST_INVALID',
+      'give corpus folders with --corpus <dir> (repeatable), or --articles <file> and --gold <file>, or --demo',
+    );
   const settings: Setting[] = opts.setting === 'both' ? ['gold', 'predicted'] : [opts.setting];
   const thresholds = opts.thresholds ? parseThresholds(opts.thresholds) : defaultSweep();
   const stop = listenForStop('the evaluation');
-  if (!opts.json) process.stderr.write(`evaluating ${corpora.map((c) => `${c.name} (${c.input.articles.length} articles)`).join(', ')}; ${settings.join(' and ')} mentions…\n`);
+  if (!opts.json)
+    process.stderr.write(
+      `evaluating ${corpora.map((c) => `${c.name} (${c.input.articles.length} articles)`).join(', ')}; ${settings.join(' and ')} mentions…\n`,
+    );
   let report: Awaited<ReturnType<typeof runEval>>;
   try {
-    report = await runEval(corpora, { config, settings, thresholds, sweep: opts.thresholds ? 'every' : 'refine', logger, signal: stop.signal });
+    report = await runEval(corpora, {
+      config,
+      settings,
+      thresholds,
+      sweep: opts.thresholds ? 'every' : 'refine',
+      logger,
+      signal: stop.signal,
+    });
   } catch (err) {
     if (!isStrandError(err, 'STRAND_STOPPED')) throw err;
     process.stdout.write(`evaluation stopped by ${stop.received()}: no report written\n`);
@@ -68,7 +93,11 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
   mkdirSync(out, { recursive: true });
   writeFileSync(join(out, 'report.json'), `${JSON.stringify(report, null, 2)}\n`);
   writeFileSync(join(out, 'report.html'), htmlReport(report));
-  process.stdout.write(opts.json ? `${JSON.stringify(report, null, 2)}\n` : `${formatReport(report, { sweep: opts.sweep })}\n\nwritten: ${join(out, 'report.json')}, ${join(out, 'report.html')}\n`);
+  process.stdout.write(
+    opts.json
+      ? `${JSON.stringify(report, null, 2)}\n`
+      : `${formatReport(report, { sweep: opts.sweep })}\n\nwritten: ${join(out, 'report.json')}, ${join(out, 'report.html')}\n`,
+  );
   return 0;
 }
 

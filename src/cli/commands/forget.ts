@@ -31,7 +31,8 @@ async function storedId(store: Store, given: string): Promise<string | null> {
 /** Erases text; returns the exit code. */
 export async function forgetCommand(opts: ForgetOptions): Promise<number> {
   if (!opts.article && !opts.before) throw new StrandError('STRAND_REQUEST_INVALID', 'give --article <id> or --before <YYYY-MM-DD>');
-  if (opts.before && !/^\d{4}-\d{2}-\d{2}$/.test(opts.before)) throw new StrandError('STRAND_REQUEST_INVALID', `--before must be a day as YYYY-MM-DD, not "${opts.before}"`);
+  if (opts.before && !/^\d{4}-\d{2}-\d{2}$/.test(opts.before))
+    throw new StrandError('STRAND_REQUEST_INVALID', `--before must be a day as YYYY-MM-DD, not "${opts.before}"`);
   const { config, logger } = setup(opts);
   // The configured store, so a Redis deployment erases in Redis, not in a stray SQLite file.
   const store = await openStore(config.store, logger);
@@ -47,12 +48,15 @@ export async function forgetCommand(opts: ForgetOptions): Promise<number> {
       }
       process.stdout.write(`erased the text of ${id}\n`);
     }
-    if (opts.before) process.stdout.write(`erased the text of ${await store.eraseTextBefore(opts.before)} article(s) published before ${opts.before}\n`);
+    if (opts.before)
+      process.stdout.write(`erased the text of ${await store.eraseTextBefore(opts.before)} article(s) published before ${opts.before}\n`);
     // The operator asked for the text to go: rebuild the file so no stale copy stays on disk.
     await store.compact();
-    process.stdout.write(config.store.kind === 'sqlite'
-      ? 'store compacted: the erased text is off the disk\n'
-      : 'erased in Redis; its snapshot and append-only files keep old values until Redis rewrites them (BGSAVE, BGREWRITEAOF)\n');
+    process.stdout.write(
+      config.store.kind === 'sqlite'
+        ? 'store compacted: the erased text is off the disk\n'
+        : 'erased in Redis; its snapshot and append-only files keep old values until Redis rewrites them (BGSAVE, BGREWRITEAOF)\n',
+    );
     return stop.exitCode(0);
   } finally {
     stop.dispose();

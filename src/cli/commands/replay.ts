@@ -21,16 +21,24 @@ export async function replayCommand(sources: string[], opts: ReplayOptions): Pro
   const { config, logger } = setup(opts);
   const rt = await createRuntime(config, logger);
   const showBar = opts.progress !== false && !opts.json && process.stderr.isTTY === true;
-  const bar = new SingleBar({ format: 'replay [{bar}] {value}/{total} articles | {eta_formatted} left', hideCursor: true, stream: process.stderr }, Presets.shades_classic);
+  const bar = new SingleBar(
+    { format: 'replay [{bar}] {value}/{total} articles | {eta_formatted} left', hideCursor: true, stream: process.stderr },
+    Presets.shades_classic,
+  );
   const stop = listenForStop('the run');
   // Without a progress bar, a line on stderr says the run is under way (scripts and logs see it start).
   const say = (line: string): void => void (!showBar && process.stderr.write(`${line}\n`));
   try {
-    const summary = await runSources(rt, sources, { paceMs: opts.pace ?? 0, signal: stop.signal }, {
-      onStart: () => say(`reading ${sources.length} source(s)…`),
-      onRead: (total) => (showBar ? bar.start(total, 0) : say(`running ${total} article(s)…`)),
-      onOutcome: (_o, done) => showBar && bar.update(done),
-    });
+    const summary = await runSources(
+      rt,
+      sources,
+      { paceMs: opts.pace ?? 0, signal: stop.signal },
+      {
+        onStart: () => say(`reading ${sources.length} source(s)…`),
+        onRead: (total) => (showBar ? bar.start(total, 0) : say(`running ${total} article(s)…`)),
+        onOutcome: (_o, done) => showBar && bar.update(done),
+      },
+    );
     if (showBar) bar.stop();
     process.stdout.write(`${opts.json ? JSON.stringify(summary, null, 2) : formatSummary(summary)}\n`);
     // A source that could not be read as a whole fails the command (after the others ran).

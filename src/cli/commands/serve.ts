@@ -39,13 +39,18 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   if (opts.port !== undefined) server.port = opts.port;
   // The demo gets its own store file so it never mixes with an operator's data.
   const demoDb = opts.demo && !opts.db ? { store: { path: 'data/demo.sqlite' } } : {};
-  const { config, logger } = setup(opts, { ...demoDb, ...(Object.keys(server).length ? { server } : {}), ...(opts.role ? { process: { role: opts.role } } : {}) });
+  const { config, logger } = setup(opts, {
+    ...demoDb,
+    ...(Object.keys(server).length ? { server } : {}),
+    ...(opts.role ? { process: { role: opts.role } } : {}),
+  });
   checkRole(config);
   // Listening from the start: a signal during start-up stops the server as soon as it is up.
   const stop = listenForStop(`the ${config.process.role === 'all' ? 'server' : `${config.process.role} process`}`);
   try {
     if (config.process.role === 'worker' || config.process.role === 'linker') await serveQueueRole(config, logger, stop.requested);
-    else if (config.process.role === 'api') await serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])], stop.requested);
+    else if (config.process.role === 'api')
+      await serveApiRole(config, logger, [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])], stop.requested);
     else await serveAll(config, logger, opts, stop.requested, stop.signal);
     process.stdout.write('stopped\n');
     return 0;
@@ -55,7 +60,13 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
 }
 
 /** The single process: everything, on any store. */
-async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOptions, requested: Promise<unknown>, stopping: AbortSignal): Promise<void> {
+async function serveAll(
+  config: Readonly<Config>,
+  logger: Logger,
+  opts: ServeOptions,
+  requested: Promise<unknown>,
+  stopping: AbortSignal,
+): Promise<void> {
   const rt = await createRuntime(config, logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   // Pushed articles and the replay take turns on the one pipeline.
@@ -66,35 +77,66 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
   // On Redis the API reads through a connection of its own that fails at once while Redis is
   // away (503), where the pipeline's waits for it to come back.
   const apiStore = config.store.kind === 'redis' ? await openStore(config.store, logger, { failFast: true }) : rt.store;
-  const app = await buildApp({ store: apiStore, logger, version: version(), ingestStatus: () => status, push: { submit: (a) => intake.submit(a), limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
+  const app = await buildApp({
+    store: apiStore,
+    logger,
+    version: version(),
+    ingestStatus: () => status,
+    push: { submit: (a) => intake.submit(a), limits: config.ingest },
+    feeds: poller ?? undefined,
+    auth: config.server,
+  });
   const address = await listenOn(app, config);
   warnIfOpen(config, logger);
   const shown = address.replace('//127.0.0.1', '//localhost');
-  process.stdout.write(`Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`);
+  process.stdout.write(
+    `Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`,
+  );
 
   const dispatcher = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
   dispatcher.start();
-  const sweeper = new RetentionSweeper({ store: rt.store, textDays: config.retention.textDays, notificationDays: config.retention.notificationDays, logger });
+  const sweeper = new RetentionSweeper({
+    store: rt.store,
+    textDays: config.retention.textDays,
+    notificationDays: config.retention.notificationDays,
+    logger,
+  });
   await sweeper.start();
 
   const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
-  const replay = sources.length === 0 ? Promise.resolve() : (async () => {
-    status.state = 'replaying';
-    process.stdout.write(`Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`);
-    const summary = await intake.exclusive(() => runSources(rt, sources, { signal: stopping }, {
-      onRead: (total) => { status.total = total; },
-      onOutcome: (o, done) => {
-        status.processed = done;
-        if (o.status === 'stored') status.stored++;
-        if (o.status === 'rejected') status.rejected++;
-      },
-    }));
-    status.state = 'finished';
-    process.stdout.write(`${formatSummary(summary)}\n${stopping.aborted ? 'Replay stopped' : `Replay finished; still serving on ${shown}/ (Ctrl+C to stop)`}\n`);
-  })().catch((err: unknown) => {
-    status.state = 'finished';
-    logger.error({ err }, 'replay failed');
-  });
+  const replay =
+    sources.length === 0
+      ? Promise.resolve()
+      : (async () => {
+          status.state = 'replaying';
+          process.stdout.write(
+            `Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`,
+          );
+          const summary = await intake.exclusive(() =>
+            runSources(
+              rt,
+              sources,
+              { signal: stopping },
+              {
+                onRead: (total) => {
+                  status.total = total;
+                },
+                onOutcome: (o, done) => {
+                  status.processed = done;
+                  if (o.status === 'stored') status.stored++;
+                  if (o.status === 'rejected') status.rejected++;
+                },
+              },
+            ),
+          );
+          status.state = 'finished';
+          process.stdout.write(
+            `${formatSummary(summary)}\n${stopping.aborted ? 'Replay stopped' : `Replay finished; still serving on ${shown}/ (Ctrl+C to stop)`}\n`,
+          );
+        })().catch((err: unknown) => {
+          status.state = 'finished';
+          logger.error({ err }, 'replay failed');
+        });
 
   await requested;
   process.stdout.write('stopping…\n');
@@ -109,7 +151,13 @@ async function serveAll(config: Readonly<Config>, logger: Logger, opts: ServeOpt
 }
 
 /** Loads the feed list and starts polling, unless poll.enabled is off. */
-async function startPoller(config: Readonly<Config>, logger: Logger, store: Store, submit: (a: readonly Article[]) => Promise<void>, polls?: () => boolean): Promise<FeedPoller | null> {
+async function startPoller(
+  config: Readonly<Config>,
+  logger: Logger,
+  store: Store,
+  submit: (a: readonly Article[]) => Promise<void>,
+  polls?: () => boolean,
+): Promise<FeedPoller | null> {
   if (!config.poll.enabled) return null;
   const poller = new FeedPoller({ store, submit, limits: config.ingest, options: config.poll, logger, ...(polls ? { polls } : {}) });
   await poller.load(config.poll.feeds);
@@ -141,7 +189,12 @@ async function serveQueueRole(config: Readonly<Config>, logger: Logger, requeste
 }
 
 /** `--role api`: queries and the page over the shared store; feeds given to it are queued for the workers. */
-async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: readonly string[], requested: Promise<unknown>): Promise<void> {
+async function serveApiRole(
+  config: Readonly<Config>,
+  logger: Logger,
+  sources: readonly string[],
+  requested: Promise<unknown>,
+): Promise<void> {
   // Fail fast: while Redis is away, requests are answered 503 at once rather than left hanging.
   const store = await openStore(config.store, logger, { failFast: true });
   const queue = await openQueue(config, logger, { failFast: true });
@@ -152,7 +205,16 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
   const lease = new Lease(queue.redis, keyspace(config.store.redis.partition).pollLease, 'feed poller', logger);
   if (config.poll.enabled) await lease.start();
   const poller = await startPoller(config, logger, store, submit, () => lease.held);
-  const app = await buildApp({ store, logger, version: version(), ingestStatus: () => status, queue, push: { submit, limits: config.ingest }, feeds: poller ?? undefined, auth: config.server });
+  const app = await buildApp({
+    store,
+    logger,
+    version: version(),
+    ingestStatus: () => status,
+    queue,
+    push: { submit, limits: config.ingest },
+    feeds: poller ?? undefined,
+    auth: config.server,
+  });
   const address = await listenOn(app, config);
   warnIfOpen(config, logger);
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
@@ -176,7 +238,10 @@ async function serveApiRole(config: Readonly<Config>, logger: Logger, sources: r
 function warnIfOpen(config: Readonly<Config>, logger: Logger): void {
   const host = config.server.host;
   if (config.server.tokens.length > 0 || host === 'localhost' || host === '::1' || host.startsWith('127.')) return;
-  logger.warn({ host }, 'the API listens beyond this machine without server.tokens: anyone who can reach it can push articles and change feeds');
+  logger.warn(
+    { host },
+    'the API listens beyond this machine without server.tokens: anyone who can reach it can push articles and change feeds',
+  );
 }
 
 /** Starts listening; a port in use or not allowed is one clear line, naming how to choose another. */
@@ -186,7 +251,18 @@ async function listenOn(app: { listen(o: { host: string; port: number }): Promis
     return await app.listen({ host, port });
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'EADDRINUSE' ? 'the port is in use' : code === 'EACCES' ? 'not allowed to use this port' : code === 'EADDRNOTAVAIL' ? 'no such address on this machine' : (err as Error).message;
-    throw new StrandError('STRAND_LISTEN_FAILED', `cannot listen on ${host}:${port}: ${why} (choose another with --port, PORT or server.port; --host, HOST or server.host)`, { cause: err });
+    const why =
+      code === 'EADDRINUSE'
+        ? 'the port is in use'
+        : code === 'EACCES'
+          ? 'not allowed to use this port'
+          : code === 'EADDRNOTAVAIL'
+            ? 'no such address on this machine'
+            : (err as Error).message;
+    throw new StrandError(
+      'STRAND_LISTEN_FAILED',
+      `cannot listen on ${host}:${port}: ${why} (choose another with --port, PORT or server.port; --host, HOST or server.host)`,
+      { cause: err },
+    );
   }
 }

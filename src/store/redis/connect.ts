@@ -15,12 +15,19 @@ export type RedisClient = Redis | Cluster;
  * resent after a reconnect (a push the client was told failed is never stored later), and
  * a command that gets no answer fails after `commandTimeout`.
  */
-export const FAIL_FAST: RedisOptions = { enableOfflineQueue: false, autoResendUnfulfilledCommands: false, commandTimeout: 5000, maxRetriesPerRequest: 0 };
+export const FAIL_FAST: RedisOptions = {
+  enableOfflineQueue: false,
+  autoResendUnfulfilledCommands: false,
+  commandTimeout: 5000,
+  maxRetriesPerRequest: 0,
+};
 
 /** True for an error that says Redis cannot be reached now (closed, refused, reset, timed out, not writeable). */
 export function isConnectionError(err: unknown): boolean {
   const message = err instanceof Error ? err.message : String(err);
-  return /Connection is closed|Stream isn't writeable|ECONNREFUSED|ECONNRESET|EPIPE|ETIMEDOUT|Command timed out|Reached the max retries|Cluster(All)?FailedError|None of startup nodes is available/i.test(message);
+  return /Connection is closed|Stream isn't writeable|ECONNREFUSED|ECONNRESET|EPIPE|ETIMEDOUT|Command timed out|Reached the max retries|Cluster(All)?FailedError|None of startup nodes is available/i.test(
+    message,
+  );
 }
 
 /** True while the connection is up and serving commands. */
@@ -37,7 +44,9 @@ export async function closeClient(client: RedisClient): Promise<void> {
   if (client.status === 'end') return;
   if (!isReady(client)) return void client.disconnect();
   let timer: NodeJS.Timeout | undefined;
-  const late = new Promise<void>((resolve) => { timer = setTimeout(resolve, 1000); });
+  const late = new Promise<void>((resolve) => {
+    timer = setTimeout(resolve, 1000);
+  });
   await Promise.race([client.quit().catch(() => undefined), late]);
   clearTimeout(timer);
   if ((client.status as string) !== 'end') client.disconnect();
@@ -56,7 +65,11 @@ export interface RedisTarget {
  * failing (maxRetriesPerRequest null): a commit that waits is better than one that is lost,
  * and a commit repeated after a lost reply changes nothing.
  */
-export async function connectRedis(target: RedisTarget | string, options: RedisOptions = {}, onError: (err: Error) => void = () => undefined): Promise<RedisClient> {
+export async function connectRedis(
+  target: RedisTarget | string,
+  options: RedisOptions = {},
+  onError: (err: Error) => void = () => undefined,
+): Promise<RedisClient> {
   const { url, cluster } = typeof target === 'string' ? { url: target, cluster: false } : target;
   let client: RedisClient;
   try {
@@ -67,13 +80,20 @@ export async function connectRedis(target: RedisTarget | string, options: RedisO
       client = new Cluster([{ host: u.hostname, port: Number(u.port || 6379) }], {
         lazyConnect: true,
         ...(options.enableOfflineQueue === false ? { enableOfflineQueue: false } : {}),
-        redisOptions: { ...base, ...(u.username ? { username: decodeURIComponent(u.username) } : {}), ...(u.password ? { password: decodeURIComponent(u.password) } : {}), ...(u.protocol === 'rediss:' ? { tls: {} } : {}) },
+        redisOptions: {
+          ...base,
+          ...(u.username ? { username: decodeURIComponent(u.username) } : {}),
+          ...(u.password ? { password: decodeURIComponent(u.password) } : {}),
+          ...(u.protocol === 'rediss:' ? { tls: {} } : {}),
+        },
       });
     } else {
       client = new Redis(url, base);
     }
   } catch (err) {
-    throw new StrandError('STRAND_CONFIG_INVALID', `store.redis.url "${redactUrl(url)}" is not a Redis URL: ${(err as Error).message}`, { cause: err });
+    throw new StrandError('STRAND_CONFIG_INVALID', `store.redis.url "${redactUrl(url)}" is not a Redis URL: ${(err as Error).message}`, {
+      cause: err,
+    });
   }
   // Connection errors while reconnecting are reported here (ioredis keeps reconnecting);
   // commands wait for the connection rather than fail.

@@ -17,9 +17,33 @@ import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
 import { StrandError } from '../../errors.js';
 import type { Article, LinkEvidence, TimeExpression } from '../../records.js';
 import type {
-  ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  StoryDetail, StoryMergeCommit, StoryPage, StoryQuery, StorySummary, StoryUpdate,
-  EventUpdate, FeedEntry, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
+  ArticleCommit,
+  ArticleDetail,
+  CommitResult,
+  Delivery,
+  EventDetail,
+  EventMention,
+  EventPage,
+  EventQuery,
+  EventSummary,
+  StoryDetail,
+  StoryMergeCommit,
+  StoryPage,
+  StoryQuery,
+  StorySummary,
+  StoryUpdate,
+  EventUpdate,
+  FeedEntry,
+  LinkedMention,
+  LinkerSnapshot,
+  MergeCommit,
+  MergeRecord,
+  OutboxMessage,
+  SharedMention,
+  SplitCommit,
+  SplitRecord,
+  Store,
+  StoreCounts,
 } from '../store.js';
 import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
@@ -71,7 +95,10 @@ import { FAIL_FAST, closeClient, isConnectionError, isReady } from './connect.js
 /** Connects to Redis and checks it answers; refuses a malformed URL or partition. */
 export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> {
   const keys = keyspace(o.partition);
-  return new RedisStore(await connectRedis({ url: o.url, cluster: o.cluster ?? false }, { ...(o.failFast ? FAIL_FAST : {}), ...o.redis }, o.onError), keys);
+  return new RedisStore(
+    await connectRedis({ url: o.url, cluster: o.cluster ?? false }, { ...(o.failFast ? FAIL_FAST : {}), ...o.redis }, o.onError),
+    keys,
+  );
 }
 
 export class RedisStore implements Store {
@@ -79,7 +106,10 @@ export class RedisStore implements Store {
   /** The linker's lease token its commits are fenced with; null: not fenced (one process, tools). */
   private fence: string | null = null;
 
-  constructor(private readonly redis: RedisClient, private readonly k: Keyspace) {
+  constructor(
+    private readonly redis: RedisClient,
+    private readonly k: Keyspace,
+  ) {
     this.scripts = {
       commitArticles: defineScript(redis, 'commit-articles'),
       commitMerge: defineScript(redis, 'commit-merge'),
@@ -135,10 +165,24 @@ export class RedisStore implements Store {
       contentHash: c.article.contentHash,
       canonicalUrl: canonicalUrl(c.article.url),
       sentences: c.sentences.map((s) => [String(s.index), JSON.stringify({ start: s.start, end: s.end, eventness: s.eventness }), s.text]),
-      mentions: c.mentions.map((m) => [String(m.sentenceIndex), JSON.stringify({
-        outlet: m.outlet, published: m.published, eventness: m.eventness, participants: m.participants, places: m.places, times: m.times, isCopy: m.isCopy,
-      }), ...(m.vector ? [encodeVector(m.vector).toString('base64')] : [])]),
-      links: c.links.map((l) => [String(l.sentenceIndex), l.eventId, JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence })]),
+      mentions: c.mentions.map((m) => [
+        String(m.sentenceIndex),
+        JSON.stringify({
+          outlet: m.outlet,
+          published: m.published,
+          eventness: m.eventness,
+          participants: m.participants,
+          places: m.places,
+          times: m.times,
+          isCopy: m.isCopy,
+        }),
+        ...(m.vector ? [encodeVector(m.vector).toString('base64')] : []),
+      ]),
+      links: c.links.map((l) => [
+        String(l.sentenceIndex),
+        l.eventId,
+        JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence }),
+      ]),
       events: c.events.map((e) => eventPayload(e, states)),
       storyId: c.storyId ?? null,
       story: c.story ? storyPayload(c.story, states) : null,
@@ -147,7 +191,12 @@ export class RedisStore implements Store {
       messages: messagePayload(c.messages),
     }));
     try {
-      return (await this.scripts.commitArticles(this.k.counts, this.k.prefix, JSON.stringify({ fence: this.fence, commits: payload }), ...states)) as CommitResult[];
+      return (await this.scripts.commitArticles(
+        this.k.counts,
+        this.k.prefix,
+        JSON.stringify({ fence: this.fence, commits: payload }),
+        ...states,
+      )) as CommitResult[];
     } catch (err) {
       throw writeError(err, `cannot store ${cs.length} article(s) from ${cs[0]!.article.id}`);
     }
@@ -156,7 +205,13 @@ export class RedisStore implements Store {
   async commitMerge(m: MergeCommit): Promise<void> {
     const states: Buffer[] = [];
     const into = eventPayload(m.into, states);
-    const payload = { fence: this.fence, from: m.from, into, merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
+    const payload = {
+      fence: this.fence,
+      from: m.from,
+      into,
+      merge: `${m.into.record.id}\n${m.score}\n${m.at}`,
+      messages: messagePayload(m.messages),
+    };
     try {
       await this.scripts.commitMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
     } catch (err) {
@@ -166,7 +221,13 @@ export class RedisStore implements Store {
 
   async commitStoryMerge(m: StoryMergeCommit): Promise<void> {
     const states: Buffer[] = [];
-    const payload = { fence: this.fence, from: m.from, into: storyPayload(m.into, states), merge: `${m.into.record.id}\n${m.score}\n${m.at}`, messages: messagePayload(m.messages) };
+    const payload = {
+      fence: this.fence,
+      from: m.from,
+      into: storyPayload(m.into, states),
+      merge: `${m.into.record.id}\n${m.score}\n${m.at}`,
+      messages: messagePayload(m.messages),
+    };
     try {
       await this.scripts.commitStoryMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
     } catch (err) {
@@ -176,7 +237,7 @@ export class RedisStore implements Store {
 
   async recentStoryIds(articles: number): Promise<string[]> {
     const ids = await this.redis.zrevrange(this.k.articles, 0, articles - 1);
-    const stories = await this.pipelined(ids, (p, id) => p.hget(this.k.article(id), 'story')) as (string | null)[];
+    const stories = (await this.pipelined(ids, (p, id) => p.hget(this.k.article(id), 'story'))) as (string | null)[];
     const current = await this.currentStories(stories.filter((x): x is string => x !== null));
     return [...new Set(stories.flatMap((x) => (x === null ? [] : [current.get(x)!])))];
   }
@@ -194,7 +255,11 @@ export class RedisStore implements Store {
     if (to) stories = stories.filter((s) => s.firstSeen <= to);
     if (q.outlet) stories = stories.filter((s) => s.outlets.includes(q.outlet!));
     if (q.minOutlets) stories = stories.filter((s) => s.outlets.length >= q.minOutlets!);
-    const words = (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).map((w) => w.toLowerCase());
+    const words = (q.text ?? '')
+      .split(/\s+/)
+      .filter(Boolean)
+      .slice(0, 8)
+      .map((w) => w.toLowerCase());
     if (words.length) {
       const titles = await Promise.all(stories.map(async (s) => (await this.storyArticles(s.id)).map((a) => a.title)));
       stories = stories.filter((s, i) => {
@@ -203,9 +268,12 @@ export class RedisStore implements Store {
       });
     }
     const byRecent = (a: StorySummary, b: StorySummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
-    const order = q.sort === 'outlets' ? (a: StorySummary, b: StorySummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
-      : q.sort === 'articles' ? (a: StorySummary, b: StorySummary) => b.articleCount - a.articleCount || byRecent(a, b)
-        : byRecent;
+    const order =
+      q.sort === 'outlets'
+        ? (a: StorySummary, b: StorySummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
+        : q.sort === 'articles'
+          ? (a: StorySummary, b: StorySummary) => b.articleCount - a.articleCount || byRecent(a, b)
+          : byRecent;
     stories.sort(order);
     return { total: stories.length, stories: stories.slice(q.offset, q.offset + q.limit) };
   }
@@ -224,7 +292,7 @@ export class RedisStore implements Store {
   /** A story's articles, earliest first. */
   private async storyArticles(id: string): Promise<StoryDetail['articles']> {
     const ids = await this.redis.zrange(this.k.storyArticles(id), '0', '-1');
-    const metas = await this.pipelined(ids, (p, a) => p.hget(this.k.article(a), 'meta')) as (string | null)[];
+    const metas = (await this.pipelined(ids, (p, a) => p.hget(this.k.article(a), 'meta'))) as (string | null)[];
     return metas.flatMap((m) => {
       if (!m) return [];
       const a = JSON.parse(m) as ArticleMeta;
@@ -233,7 +301,9 @@ export class RedisStore implements Store {
   }
 
   private async storySummaries(ids: readonly string[]): Promise<StorySummary[]> {
-    const rows = await this.pipelined(ids, (p, id) => p.hmget(this.k.story(id), 'record', 'label').scard(this.k.storyEvents(id))) as unknown[];
+    const rows = (await this.pipelined(ids, (p, id) =>
+      p.hmget(this.k.story(id), 'record', 'label').scard(this.k.storyEvents(id)),
+    )) as unknown[];
     return ids.flatMap((id, i) => {
       const [record, label] = rows[i * 2] as (string | null)[];
       if (!record) return [];
@@ -262,7 +332,12 @@ export class RedisStore implements Store {
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
     if (states.length === 0) return;
     try {
-      await this.scripts.putStates(this.k.counts, this.k.prefix, JSON.stringify({ fence: this.fence, ids: states.map((s) => s.id) }), ...states.map((s) => Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength)));
+      await this.scripts.putStates(
+        this.k.counts,
+        this.k.prefix,
+        JSON.stringify({ fence: this.fence, ids: states.map((s) => s.id) }),
+        ...states.map((s) => Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength)),
+      );
     } catch (err) {
       throw writeError(err, `cannot store the state of ${states.length} event(s)`);
     }
@@ -287,7 +362,11 @@ export class RedisStore implements Store {
 
   async linkedMentions(eventId: string): Promise<LinkedMention[]> {
     const members = await this.redis.smembers(this.k.eventLinks(eventId));
-    return (await this.readLinked(members, [eventId])).map(({ mention, links }) => ({ mention, rank: links[0]!.rank, score: links[0]!.score }));
+    return (await this.readLinked(members, [eventId])).map(({ mention, links }) => ({
+      mention,
+      rank: links[0]!.rank,
+      score: links[0]!.score,
+    }));
   }
 
   async linkedToBoth(a: string, b: string): Promise<SharedMention[]> {
@@ -296,7 +375,10 @@ export class RedisStore implements Store {
   }
 
   /** The mentions `article\nindex` with their links to each of `events` (all present), oldest first. */
-  private async readLinked(members: readonly string[], events: readonly string[]): Promise<{ mention: LinkedMention['mention']; links: { rank: number; score: number }[] }[]> {
+  private async readLinked(
+    members: readonly string[],
+    events: readonly string[],
+  ): Promise<{ mention: LinkedMention['mention']; links: { rank: number; score: number }[] }[]> {
     const per = 3 + events.length;
     const rows = await this.pipelined(members, (p, m) => {
       const [article, idx] = splitMember(m);
@@ -307,39 +389,65 @@ export class RedisStore implements Store {
       const [articleId, idx] = splitMember(m);
       const [mention, text, vector, ...links] = rows.slice(i * per, i * per + per) as (string | null)[];
       if (!mention || links.some((l) => !l)) return [];
-      const mm = JSON.parse(mention) as { outlet: string; published: string; eventness: number; participants: string[]; places: string[]; times: TimeExpression[]; isCopy: boolean };
-      return [{
-        mention: {
-          articleId, sentenceIndex: Number(idx), text: text ?? '', outlet: mm.outlet, published: mm.published, eventness: mm.eventness,
-          participants: mm.participants, places: mm.places, times: mm.times, terms: [], isCopy: mm.isCopy,
-          vector: vector ? decodeVector(Buffer.from(vector, 'base64')) : null,
+      const mm = JSON.parse(mention) as {
+        outlet: string;
+        published: string;
+        eventness: number;
+        participants: string[];
+        places: string[];
+        times: TimeExpression[];
+        isCopy: boolean;
+      };
+      return [
+        {
+          mention: {
+            articleId,
+            sentenceIndex: Number(idx),
+            text: text ?? '',
+            outlet: mm.outlet,
+            published: mm.published,
+            eventness: mm.eventness,
+            participants: mm.participants,
+            places: mm.places,
+            times: mm.times,
+            terms: [],
+            isCopy: mm.isCopy,
+            vector: vector ? decodeVector(Buffer.from(vector, 'base64')) : null,
+          },
+          links: links.map((l) => JSON.parse(l!) as { score: number; rank: number }).map(({ rank, score }) => ({ rank, score })),
         },
-        links: links.map((l) => JSON.parse(l!) as { score: number; rank: number }).map(({ rank, score }) => ({ rank, score })),
-      }];
+      ];
     });
-    return out.sort((a, b) => cmp(a.mention.published, b.mention.published) || cmp(a.mention.articleId, b.mention.articleId) || a.mention.sentenceIndex - b.mention.sentenceIndex);
+    return out.sort(
+      (a, b) =>
+        cmp(a.mention.published, b.mention.published) ||
+        cmp(a.mention.articleId, b.mention.articleId) ||
+        a.mention.sentenceIndex - b.mention.sentenceIndex,
+    );
   }
 
   async splitsOf(eventId: string): Promise<SplitRecord[]> {
     const off = await this.redis.smembers(this.k.splitOff(eventId));
     const ids = [eventId, ...off];
     const recs = await this.redis.hmget(this.k.splits, ...ids);
-    return ids.flatMap((into, i) => {
-      const rec = recs[i];
-      if (!rec) return [];
-      const r = JSON.parse(rec) as Omit<SplitRecord, 'into'>;
-      return [{ from: r.from, into, mentions: r.mentions, score: r.score, at: r.at }];
-    }).sort((a, b) => cmp(a.at, b.at) || cmp(a.into, b.into));
+    return ids
+      .flatMap((into, i) => {
+        const rec = recs[i];
+        if (!rec) return [];
+        const r = JSON.parse(rec) as Omit<SplitRecord, 'into'>;
+        return [{ from: r.from, into, mentions: r.mentions, score: r.score, at: r.at }];
+      })
+      .sort((a, b) => cmp(a.at, b.at) || cmp(a.into, b.into));
   }
 
   async eventLabels(ids: readonly string[]): Promise<Map<string, string>> {
-    const labels = ids.length ? await this.pipelined(ids, (p, id) => p.hget(this.k.event(id), 'label')) as (string | null)[] : [];
+    const labels = ids.length ? ((await this.pipelined(ids, (p, id) => p.hget(this.k.event(id), 'label'))) as (string | null)[]) : [];
     return new Map(ids.flatMap((id, i) => (labels[i] == null ? [] : [[id, labels[i]!] as [string, string]])));
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
     const ids = await this.redis.zrevrange(this.k.articles, 0, articles - 1);
-    const fields = await this.pipelined(ids, (p, id) => p.hkeys(this.k.links(id))) as string[][];
+    const fields = (await this.pipelined(ids, (p, id) => p.hkeys(this.k.links(id)))) as string[][];
     return [...new Set(fields.flat().map((f) => f.slice(f.indexOf('\n') + 1)))].sort();
   }
 
@@ -356,19 +464,26 @@ export class RedisStore implements Store {
 
   async loadLinkerState(): Promise<LinkerSnapshot> {
     const ids = await this.redis.zrange(this.k.events, '0', '-1');
-    const states = await this.pipelined(ids, (p, id) => p.hgetBuffer(this.k.event(id), 'state')) as (Buffer | null)[];
+    const states = (await this.pipelined(ids, (p, id) => p.hgetBuffer(this.k.event(id), 'state'))) as (Buffer | null)[];
     const storyIds = await this.redis.zrange(this.k.stories, '0', '-1');
-    const storyStates = await this.pipelined(storyIds, (p, id) => p.hgetBuffer(this.k.story(id), 'state')) as (Buffer | null)[];
+    const storyStates = (await this.pipelined(storyIds, (p, id) => p.hgetBuffer(this.k.story(id), 'state'))) as (Buffer | null)[];
     const [docs, df, merges, tally] = await Promise.all([
-      this.redis.get(this.k.idfDocs), this.redis.hgetall(this.k.idf), this.redis.hgetall(this.k.storyMerges), this.redis.hmget(this.k.linkTally, 'mentions', 'high'),
+      this.redis.get(this.k.idfDocs),
+      this.redis.hgetall(this.k.idf),
+      this.redis.hgetall(this.k.storyMerges),
+      this.redis.hmget(this.k.linkTally, 'mentions', 'high'),
     ]);
-    const bytes = (bs: (Buffer | null)[]): Uint8Array[] => bs.filter((b): b is Buffer => b !== null).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength));
+    const bytes = (bs: (Buffer | null)[]): Uint8Array[] =>
+      bs.filter((b): b is Buffer => b !== null).map((b) => new Uint8Array(b.buffer, b.byteOffset, b.byteLength));
     return {
       events: bytes(states),
       idf: { docs: Number(docs ?? 0), df: Object.entries(df).map(([f, n]) => [Number(f), Number(n)]) },
       tally: { mentions: Number(tally[0] ?? 0), high: Number(tally[1] ?? 0) },
       stories: bytes(storyStates),
-      storyMerges: Object.entries(merges).map(([from, rec]) => parseMerge(from, rec)).sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from)).map((m) => [m.from, m.into]),
+      storyMerges: Object.entries(merges)
+        .map(([from, rec]) => parseMerge(from, rec))
+        .sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from))
+        .map((m) => [m.from, m.into]),
     };
   }
 
@@ -385,9 +500,13 @@ export class RedisStore implements Store {
     if (to) events = events.filter((e) => e.firstSeen <= to);
     if (q.outlet) events = events.filter((e) => e.outlets.includes(q.outlet!));
     if (q.minOutlets) events = events.filter((e) => e.outlets.length >= q.minOutlets!);
-    const words = (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).map((w) => w.toLowerCase());
+    const words = (q.text ?? '')
+      .split(/\s+/)
+      .filter(Boolean)
+      .slice(0, 8)
+      .map((w) => w.toLowerCase());
     if (words.length) {
-      const texts = await this.pipelined(events, (p, e) => p.smembers(this.k.eventLinks(e.id))) as string[][];
+      const texts = (await this.pipelined(events, (p, e) => p.smembers(this.k.eventLinks(e.id)))) as string[][];
       const sentenceTexts = await Promise.all(texts.map((members) => this.sentenceTexts(members)));
       events = events.filter((e, i) => {
         const hay = [e.label, ...sentenceTexts[i]!].map((t) => t.toLowerCase());
@@ -395,9 +514,12 @@ export class RedisStore implements Store {
       });
     }
     const byRecent = (a: EventSummary, b: EventSummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
-    const order = q.sort === 'outlets' ? (a: EventSummary, b: EventSummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
-      : q.sort === 'mentions' ? (a: EventSummary, b: EventSummary) => b.mentionCount - a.mentionCount || byRecent(a, b)
-        : byRecent;
+    const order =
+      q.sort === 'outlets'
+        ? (a: EventSummary, b: EventSummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
+        : q.sort === 'mentions'
+          ? (a: EventSummary, b: EventSummary) => b.mentionCount - a.mentionCount || byRecent(a, b)
+          : byRecent;
     events.sort(order);
     return { total: events.length, events: events.slice(q.offset, q.offset + q.limit) };
   }
@@ -408,7 +530,11 @@ export class RedisStore implements Store {
     const members = await this.redis.smembers(this.k.eventLinks(id));
     const rows = await this.pipelined(members, (p, m) => {
       const [article, idx] = splitMember(m);
-      return p.hget(this.k.links(article), `${idx}\n${id}`).hget(this.k.mentions(article), idx).hget(this.k.sentenceText(article), idx).hget(this.k.article(article), 'meta');
+      return p
+        .hget(this.k.links(article), `${idx}\n${id}`)
+        .hget(this.k.mentions(article), idx)
+        .hget(this.k.sentenceText(article), idx)
+        .hget(this.k.article(article), 'meta');
     });
     const mentions = members.map((m, i): EventMention => {
       const [articleId, idx] = splitMember(m);
@@ -417,8 +543,18 @@ export class RedisStore implements Store {
       const mm = JSON.parse(mention!) as { published: string; isCopy: boolean; times: TimeExpression[]; outlet: string };
       const a = JSON.parse(meta!) as ArticleMeta;
       return {
-        articleId, articleTitle: a.title, articleUrl: a.url, outlet: a.outlet, published: mm.published, isCopy: mm.isCopy,
-        sentenceIndex: Number(idx), text: text ?? null, score: l.score, rank: l.rank, evidence: l.evidence, times: mm.times,
+        articleId,
+        articleTitle: a.title,
+        articleUrl: a.url,
+        outlet: a.outlet,
+        published: mm.published,
+        isCopy: mm.isCopy,
+        sentenceIndex: Number(idx),
+        text: text ?? null,
+        score: l.score,
+        rank: l.rank,
+        evidence: l.evidence,
+        times: mm.times,
       };
     });
     mentions.sort((a, b) => cmp(a.published, b.published) || cmp(a.articleId, b.articleId) || a.sentenceIndex - b.sentenceIndex);
@@ -427,20 +563,33 @@ export class RedisStore implements Store {
 
   async getArticle(id: string): Promise<ArticleDetail | null> {
     // One MULTI so that the five reads see the same commit.
-    const replies = (await this.redis.multi()
-      .hgetall(this.k.article(id)).hgetall(this.k.sentences(id)).hgetall(this.k.sentenceText(id)).hkeys(this.k.mentions(id)).hgetall(this.k.links(id))
+    const replies = (await this.redis
+      .multi()
+      .hgetall(this.k.article(id))
+      .hgetall(this.k.sentences(id))
+      .hgetall(this.k.sentenceText(id))
+      .hkeys(this.k.mentions(id))
+      .hgetall(this.k.links(id))
       .exec())!.map(([err, reply]) => {
       if (err) throw new StrandError('STRAND_STORE_FAILED', `Redis read failed: ${err.message}`, { cause: err });
       return reply;
     });
-    const [article, sentences, texts, mentions, links] = replies as [Record<string, string>, Record<string, string>, Record<string, string>, string[], Record<string, string>];
+    const [article, sentences, texts, mentions, links] = replies as [
+      Record<string, string>,
+      Record<string, string>,
+      Record<string, string>,
+      string[],
+      Record<string, string>,
+    ];
     if (!article.meta) return null;
     const linkRows = Object.entries(links).map(([field, v]) => {
       const [idx, eventId] = splitMember(field);
       return { idx: Number(idx), eventId, ...(JSON.parse(v) as { score: number; rank: number; evidence: LinkEvidence }) };
     });
     const eventIds = [...new Set(linkRows.map((l) => l.eventId))];
-    const labels = eventIds.length ? await this.pipelined(eventIds, (p, e) => p.hget(this.k.event(e), 'label')) as (string | null)[] : [];
+    const labels = eventIds.length
+      ? ((await this.pipelined(eventIds, (p, e) => p.hget(this.k.event(e), 'label'))) as (string | null)[])
+      : [];
     const label = new Map(eventIds.map((e, i) => [e, labels[i] ?? '']));
     const isMention = new Set(mentions.map(Number));
     const sentenceRows = Object.entries(sentences)
@@ -451,22 +600,37 @@ export class RedisStore implements Store {
     return {
       article: { ...meta, text: article.text ?? null, story },
       sentences: sentenceRows.map((s) => ({
-        index: s.index, text: texts[String(s.index)] ?? '', start: s.start, end: s.end, eventness: s.eventness,
+        index: s.index,
+        text: texts[String(s.index)] ?? '',
+        start: s.start,
+        end: s.end,
+        eventness: s.eventness,
         isMention: isMention.has(s.index),
-        links: linkRows.filter((l) => l.idx === s.index).sort((x, y) => x.rank - y.rank)
+        links: linkRows
+          .filter((l) => l.idx === s.index)
+          .sort((x, y) => x.rank - y.rank)
           .map((l) => ({ eventId: l.eventId, eventLabel: label.get(l.eventId)!, score: l.score, rank: l.rank, evidence: l.evidence })),
       })),
     };
   }
 
   async listOutlets(): Promise<{ outlet: string; articles: number }[]> {
-    return Object.entries(await this.redis.hgetall(this.k.outlets)).map(([outlet, n]) => ({ outlet, articles: Number(n) })).sort((a, b) => cmp(a.outlet, b.outlet));
+    return Object.entries(await this.redis.hgetall(this.k.outlets))
+      .map(([outlet, n]) => ({ outlet, articles: Number(n) }))
+      .sort((a, b) => cmp(a.outlet, b.outlet));
   }
 
   async counts(): Promise<StoreCounts> {
     const c = await this.redis.hgetall(this.k.counts);
     const n = (f: string) => Number(c[f] ?? 0);
-    return { articles: n('articles'), sentences: n('sentences'), mentions: n('mentions'), links: n('links'), events: n('events'), stories: n('stories') };
+    return {
+      articles: n('articles'),
+      sentences: n('sentences'),
+      mentions: n('mentions'),
+      links: n('links'),
+      events: n('events'),
+      stories: n('stories'),
+    };
   }
 
   async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
@@ -484,9 +648,15 @@ export class RedisStore implements Store {
     return this.deliveries(keys);
   }
 
-  async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
+  async recordAttempt(
+    messageId: string,
+    subscriber: string,
+    o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
+  ): Promise<void> {
     const key = `${messageId}\n${subscriber}`;
-    const tx = this.redis.multi().hset(this.k.deliveries, key, JSON.stringify({ status: o.status, attempts: o.attempts, nextAt: o.nextAt, lastError: o.error }));
+    const tx = this.redis
+      .multi()
+      .hset(this.k.deliveries, key, JSON.stringify({ status: o.status, attempts: o.attempts, nextAt: o.nextAt, lastError: o.error }));
     if (o.status === 'pending') tx.zadd(this.k.due, Date.parse(o.nextAt), key);
     else tx.zrem(this.k.due, key);
     if (o.status === 'dead') tx.zadd(this.k.dead, Date.parse(o.nextAt), key);
@@ -504,7 +674,12 @@ export class RedisStore implements Store {
     let removed = 0;
     for (;;) {
       // Batches keep each script call short: Redis runs nothing else meanwhile.
-      const [deliveries, messages] = await this.scripts.pruneNotifications(this.k.settled, this.k.prefix, Date.parse(before), PRUNE_BATCH) as [number, number];
+      const [deliveries, messages] = (await this.scripts.pruneNotifications(
+        this.k.settled,
+        this.k.prefix,
+        Date.parse(before),
+        PRUNE_BATCH,
+      )) as [number, number];
       removed += messages;
       if (deliveries < PRUNE_BATCH) return removed;
     }
@@ -537,7 +712,7 @@ export class RedisStore implements Store {
     const ids = await this.redis.zrangebyscore(this.k.articlesByTime, String(Number(newest[1]) - days * 86_400_000), '+inf', 'WITHSCORES');
     const pairs: [string, number][] = [];
     for (let i = 0; i < ids.length; i += 2) pairs.push([ids[i]!, Number(ids[i + 1])]);
-    const sketches = await this.pipelined(pairs, (p, [id]) => p.hget(this.k.article(id), 'sketch')) as (string | null)[];
+    const sketches = (await this.pipelined(pairs, (p, [id]) => p.hget(this.k.article(id), 'sketch'))) as (string | null)[];
     return pairs.flatMap(([id, time], i) => {
       const b = sketches[i];
       if (!b) return [];
@@ -553,7 +728,11 @@ export class RedisStore implements Store {
 
   async putFeed(f: FeedEntry): Promise<void> {
     // NX keeps a feed's place in the list when it is written again.
-    await this.redis.multi().hset(this.k.feeds, f.id, JSON.stringify(f)).zadd(this.k.feedOrder, 'NX', String(Date.parse(f.added) || 0), f.id).exec();
+    await this.redis
+      .multi()
+      .hset(this.k.feeds, f.id, JSON.stringify(f))
+      .zadd(this.k.feedOrder, 'NX', String(Date.parse(f.added) || 0), f.id)
+      .exec();
   }
 
   async updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
@@ -615,30 +794,43 @@ export class RedisStore implements Store {
   }
 
   private async summaries(ids: readonly string[]): Promise<EventSummary[]> {
-    const rows = await this.pipelined(ids, (p, id) => p.hmget(this.k.event(id), 'record', 'label', 'outlets')) as (string | null)[][];
-    const parsed = rows.map(([record]) => (record ? JSON.parse(record) as Omit<EventSummary, 'id' | 'label' | 'outlets' | 'independentOutlets'> : null));
+    const rows = (await this.pipelined(ids, (p, id) => p.hmget(this.k.event(id), 'record', 'label', 'outlets'))) as (string | null)[][];
+    const parsed = rows.map(([record]) =>
+      record ? (JSON.parse(record) as Omit<EventSummary, 'id' | 'label' | 'outlets' | 'independentOutlets'>) : null,
+    );
     // An event keeps the story that opened it; the story it lives in now follows merges.
     const stories = await this.currentStories(parsed.flatMap((r) => (r?.story ? [r.story] : [])));
     return rows.flatMap(([, label, outlets], i) => {
       const r = parsed[i];
       if (!r) return [];
       const o = JSON.parse(outlets!) as EventUpdate['outlets'];
-      return [{ id: ids[i]!, label: label!, ...r, story: r.story ? stories.get(r.story)! : null, outlets: o.map((x) => x.outlet).sort(), independentOutlets: o.filter((x) => x.independent > 0).length }];
+      return [
+        {
+          id: ids[i]!,
+          label: label!,
+          ...r,
+          story: r.story ? stories.get(r.story)! : null,
+          outlets: o.map((x) => x.outlet).sort(),
+          independentOutlets: o.filter((x) => x.independent > 0).length,
+        },
+      ];
     });
   }
 
   private async sentenceTexts(members: readonly string[]): Promise<string[]> {
-    const texts = await this.pipelined(members, (p, m) => {
+    const texts = (await this.pipelined(members, (p, m) => {
       const [article, idx] = splitMember(m);
       return p.hget(this.k.sentenceText(article), idx);
-    }) as (string | null)[];
+    })) as (string | null)[];
     return texts.filter((t): t is string => t !== null);
   }
 
   private async deliveries(keys: readonly string[]): Promise<Delivery[]> {
     if (keys.length === 0) return [];
     const states = await this.redis.hmget(this.k.deliveries, ...keys);
-    const messages = await this.pipelined(keys, (p, key) => p.hmget(this.k.outbox(splitMember(key)[0]), 'type', 'body', 'created')) as (string | null)[][];
+    const messages = (await this.pipelined(keys, (p, key) => p.hmget(this.k.outbox(splitMember(key)[0]), 'type', 'body', 'created'))) as (
+      string | null
+    )[][];
     return keys.map((key, i) => {
       const [messageId, subscriber] = splitMember(key);
       const s = JSON.parse(states[i]!) as { status: Delivery['status']; attempts: number; nextAt: string; lastError: string | null };
@@ -665,14 +857,37 @@ export class RedisStore implements Store {
 type ArticleMeta = Omit<Article, 'text' | 'presplit'>;
 
 function articleMeta(a: Article): ArticleMeta {
-  return { id: a.id, outlet: a.outlet, url: a.url, title: a.title, published: a.published, fetched: a.fetched, language: a.language, contentHash: a.contentHash, duplicateOf: a.duplicateOf, copySimilarity: a.duplicateOf ? (a.copySimilarity ?? 1) : null, source: a.source };
+  return {
+    id: a.id,
+    outlet: a.outlet,
+    url: a.url,
+    title: a.title,
+    published: a.published,
+    fetched: a.fetched,
+    language: a.language,
+    contentHash: a.contentHash,
+    duplicateOf: a.duplicateOf,
+    copySimilarity: a.duplicateOf ? (a.copySimilarity ?? 1) : null,
+    source: a.source,
+  };
 }
 
 /** An event as the scripts take it; its state goes into `states` and is referred to by number. */
-function eventPayload(e: EventUpdate, states: Buffer[]): { id: string; record: string; label: string; outlets: string; lastSeen: number; state: number; story: string | null } {
+function eventPayload(
+  e: EventUpdate,
+  states: Buffer[],
+): { id: string; record: string; label: string; outlets: string; lastSeen: number; state: number; story: string | null } {
   const { id, label, outlets: _names, ...record } = e.record;
   states.push(Buffer.from(e.state.buffer, e.state.byteOffset, e.state.byteLength));
-  return { id, record: JSON.stringify(record), label, outlets: JSON.stringify(e.outlets), lastSeen: Date.parse(e.record.lastSeen), state: states.length, story: e.record.story };
+  return {
+    id,
+    record: JSON.stringify(record),
+    label,
+    outlets: JSON.stringify(e.outlets),
+    lastSeen: Date.parse(e.record.lastSeen),
+    state: states.length,
+    story: e.record.story,
+  };
 }
 
 /** A story as the scripts take it (as eventPayload). */
@@ -684,7 +899,12 @@ function storyPayload(s: StoryUpdate, states: Buffer[]): { id: string; record: s
 
 function messagePayload(messages: readonly OutboxMessage[]): object[] {
   return messages.map((m) => ({
-    id: m.id, type: m.type, body: m.body, created: m.created, subscribers: m.subscribers, dueAt: Date.parse(m.created),
+    id: m.id,
+    type: m.type,
+    body: m.body,
+    created: m.created,
+    subscribers: m.subscribers,
+    dueAt: Date.parse(m.created),
     ...namedIn(m.body),
     delivery: JSON.stringify({ status: 'pending', attempts: 0, nextAt: m.created, lastError: null }),
   }));
@@ -708,7 +928,10 @@ function parseMerge(from: string, rec: string): MergeRecord {
 /** A failed write script as a StrandError: a fenced-off linker's write, or a store failure. */
 function writeError(err: unknown, what: string): StrandError {
   const message = (err as Error).message;
-  if (message.includes('STRAND_LEASE_LOST')) return new StrandError('STRAND_LEASE_LOST', `${what}: this linker no longer holds the partition lease; nothing was written`, { cause: err });
+  if (message.includes('STRAND_LEASE_LOST'))
+    return new StrandError('STRAND_LEASE_LOST', `${what}: this linker no longer holds the partition lease; nothing was written`, {
+      cause: err,
+    });
   return new StrandError('STRAND_STORE_FAILED', `${what}: ${message}`, { cause: err });
 }
 

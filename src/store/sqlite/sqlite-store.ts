@@ -11,9 +11,34 @@ import type { Logger } from '../../logger.js';
 import { StrandError } from '../../errors.js';
 import type { LinkEvidence, TimeExpression } from '../../records.js';
 import type {
-  ArticleCommit, ArticleDetail, CommitResult, Delivery, EventDetail, EventMention, EventPage, EventQuery, EventSummary,
-  EventUpdate, FeedEntry, LinkTally, LinkedMention, LinkerSnapshot, MergeCommit, MergeRecord, OutboxMessage, SharedMention, SplitCommit, SplitRecord, Store, StoreCounts,
-  StoryDetail, StoryMergeCommit, StoryPage, StoryQuery, StorySummary, StoryUpdate,
+  ArticleCommit,
+  ArticleDetail,
+  CommitResult,
+  Delivery,
+  EventDetail,
+  EventMention,
+  EventPage,
+  EventQuery,
+  EventSummary,
+  EventUpdate,
+  FeedEntry,
+  LinkTally,
+  LinkedMention,
+  LinkerSnapshot,
+  MergeCommit,
+  MergeRecord,
+  OutboxMessage,
+  SharedMention,
+  SplitCommit,
+  SplitRecord,
+  Store,
+  StoreCounts,
+  StoryDetail,
+  StoryMergeCommit,
+  StoryPage,
+  StoryQuery,
+  StorySummary,
+  StoryUpdate,
 } from '../store.js';
 import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
@@ -60,7 +85,8 @@ export function openSqliteStore(path: string, options: SqliteStoreOptions = {}):
   } catch (err) {
     throw new StrandError('STRAND_STORE_FAILED', `cannot open SQLite store at ${path}: ${(err as Error).message}`, { cause: err });
   }
-  const checkpointer = path !== ':memory:' && options.backgroundCheckpoint !== false ? startWalCheckpointer(db, path, options.logger) : undefined;
+  const checkpointer =
+    path !== ':memory:' && options.backgroundCheckpoint !== false ? startWalCheckpointer(db, path, options.logger) : undefined;
   return new SqliteStore(db, options.idfSnapshotEvery ?? IDF_SNAPSHOT_EVERY, checkpointer, options.logger);
 }
 
@@ -82,27 +108,39 @@ export class SqliteStore implements Store {
   private readonly mergeTx: (m: MergeCommit) => void;
   private readonly splitTx: (s: SplitCommit) => void;
 
-  constructor(private readonly db: Database.Database, private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY, private readonly checkpointer?: WalCheckpointer, private readonly log?: Pick<Logger, 'warn'>) {
+  constructor(
+    private readonly db: Database.Database,
+    private readonly idfSnapshotEvery: number = IDF_SNAPSHOT_EVERY,
+    private readonly checkpointer?: WalCheckpointer,
+    private readonly log?: Pick<Logger, 'warn'>,
+  ) {
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
       eventLabel: db.prepare('SELECT label FROM events WHERE id = ?').pluck(),
       setLabel: db.prepare('UPDATE events SET label = ? WHERE id = ?'),
       // The text of an event's earliest linked sentence that still has its text (for relabelling).
-      earliestText: db.prepare(`SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+      earliestText: db
+        .prepare(
+          `SELECT s.text FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
-        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published, l.article_id, l.sentence_idx LIMIT 1`).pluck(),
+        WHERE l.event_id = ? AND s.text IS NOT NULL ORDER BY m.published, l.article_id, l.sentence_idx LIMIT 1`,
+        )
+        .pluck(),
       sentenceText: db.prepare('SELECT text FROM sentences WHERE article_id = ? AND idx = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
-      insArticle: db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url, story_id)
+      insArticle:
+        db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url, story_id)
         VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch, @canonicalUrl,
           coalesce((SELECT into_id FROM story_merges WHERE from_id = @storyId), @storyId))`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
-      insMention: db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
+      insMention:
+        db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
       insLink: db.prepare('INSERT INTO links (article_id, sentence_idx, event_id, score, rank, evidence) VALUES (?, ?, ?, ?, ?, ?)'),
       // story_id is set when the event opens; afterwards only a story merge moves it.
-      upEvent: db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state, story_id)
+      upEvent:
+        db.prepare(`INSERT INTO events (id, label, first_seen, last_seen, time_start, time_end, participants, places, mention_count, version, state, story_id)
         VALUES (@id, @label, @firstSeen, @lastSeen, @timeStart, @timeEnd, @participants, @places, @mentionCount, @version, @state,
           coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story))
         ON CONFLICT(id) DO UPDATE SET first_seen = excluded.first_seen, last_seen = excluded.last_seen,
@@ -127,7 +165,9 @@ export class SqliteStore implements Store {
       putIdfSnapshot: db.prepare('INSERT OR REPLACE INTO idf_snapshot (id, docs, data) VALUES (1, ?, ?)'),
       clearIdfLog: db.prepare('DELETE FROM idf_log'),
       insMessage: db.prepare('INSERT OR IGNORE INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
-      insDelivery: db.prepare(`INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`),
+      insDelivery: db.prepare(
+        `INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`,
+      ),
       eventStates: db.prepare('SELECT state FROM events').pluck(),
       idfRows: db.prepare('SELECT feature, df FROM idf').raw(),
       docs: db.prepare(`SELECT value FROM meta WHERE key = 'idf_docs'`).pluck(),
@@ -155,11 +195,14 @@ export class SqliteStore implements Store {
         WHERE l.event_id = @a ORDER BY m.published, l.article_id, l.sentence_idx`),
       moveLink: db.prepare('UPDATE links SET event_id = @into WHERE article_id = @article AND sentence_idx = @idx AND event_id = @from'),
       insSplit: db.prepare('INSERT OR REPLACE INTO splits (into_id, from_id, mentions, score, at) VALUES (?, ?, ?, ?, ?)'),
-      splitsOf: db.prepare('SELECT into_id, from_id, mentions, score, at FROM splits WHERE from_id = @id OR into_id = @id ORDER BY at, into_id'),
+      splitsOf: db.prepare(
+        'SELECT into_id, from_id, mentions, score, at FROM splits WHERE from_id = @id OR into_id = @id ORDER BY at, into_id',
+      ),
       article: db.prepare('SELECT * FROM articles WHERE id = ?'),
       articleSentences: db.prepare('SELECT idx, text, start, end, eventness FROM sentences WHERE article_id = ? ORDER BY idx'),
       articleMentions: db.prepare('SELECT sentence_idx FROM mentions WHERE article_id = ?').pluck(),
-      articleLinks: db.prepare(`SELECT l.sentence_idx, l.event_id, l.score, l.rank, l.evidence, e.label FROM links l JOIN events e ON e.id = l.event_id
+      articleLinks:
+        db.prepare(`SELECT l.sentence_idx, l.event_id, l.score, l.rank, l.evidence, e.label FROM links l JOIN events e ON e.id = l.event_id
         WHERE l.article_id = ? ORDER BY l.sentence_idx, l.rank`),
       outlets: db.prepare('SELECT outlet, count(*) AS articles FROM articles GROUP BY outlet ORDER BY outlet'),
       counts: db.prepare(`SELECT (SELECT count(*) FROM articles) AS articles, (SELECT count(*) FROM sentences) AS sentences,
@@ -169,7 +212,9 @@ export class SqliteStore implements Store {
         WHERE d.status = 'pending' AND d.next_at <= ? AND d.subscriber NOT IN (SELECT value FROM json_each(?)) ORDER BY d.next_at LIMIT ?`),
       dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
         WHERE d.status = 'dead' ORDER BY d.next_at DESC LIMIT ?`),
-      attempt: db.prepare('UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?'),
+      attempt: db.prepare(
+        'UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?',
+      ),
     };
     this.commitTx = db.transaction((c: ArticleCommit): CommitResult => this.commitInTx(c));
     this.commitManyTx = db.transaction((cs: readonly ArticleCommit[]): CommitResult[] => cs.map((c) => this.commitInTx(c)));
@@ -199,17 +244,40 @@ export class SqliteStore implements Store {
 
   /** Runs a write, waiting while the file is busy (when-free.ts); logs each wait. */
   private write<T>(what: string, fn: () => T): Promise<T> {
-    return whenFree(what, fn, { onWait: (attempt, err) => this.log?.warn({ attempt, code: (err as { code?: string }).code, err: (err as Error).message }, 'SQLite file busy; the write waits and goes again') });
+    return whenFree(what, fn, {
+      onWait: (attempt, err) =>
+        this.log?.warn(
+          { attempt, code: (err as { code?: string }).code, err: (err as Error).message },
+          'SQLite file busy; the write waits and goes again',
+        ),
+    });
   }
 
   private commitInTx(c: ArticleCommit): CommitResult {
     const st = this.st;
     if (st.hasArticle.get(c.article.id) !== undefined) return 'already-stored';
-    st.insArticle.run({ ...c.article, copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null, sketch: c.sketch ? encodeWords(c.sketch) : null, canonicalUrl: canonicalUrl(c.article.url), storyId: c.storyId ?? null });
+    st.insArticle.run({
+      ...c.article,
+      copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null,
+      sketch: c.sketch ? encodeWords(c.sketch) : null,
+      canonicalUrl: canonicalUrl(c.article.url),
+      storyId: c.storyId ?? null,
+    });
     if (c.story) this.upsertStory(c.story);
     for (const s of c.sentences) st.insSentence.run(c.article.id, s.index, s.text, s.start, s.end, s.eventness);
     for (const m of c.mentions) {
-      st.insMention.run(m.articleId, m.sentenceIndex, m.outlet, m.published, m.eventness, JSON.stringify(m.participants), JSON.stringify(m.places), JSON.stringify(m.times), m.isCopy ? 1 : 0, m.vector ? encodeVector(m.vector) : null);
+      st.insMention.run(
+        m.articleId,
+        m.sentenceIndex,
+        m.outlet,
+        m.published,
+        m.eventness,
+        JSON.stringify(m.participants),
+        JSON.stringify(m.places),
+        JSON.stringify(m.times),
+        m.isCopy ? 1 : 0,
+        m.vector ? encodeVector(m.vector) : null,
+      );
     }
     for (const l of c.links) st.insLink.run(l.articleId, l.sentenceIndex, l.eventId, l.score, l.rank, JSON.stringify(l.evidence));
     for (const u of c.events) this.upsertEvent(u);
@@ -251,7 +319,12 @@ export class SqliteStore implements Store {
   }
 
   private upsertEvent({ record: r, outlets, state }: EventUpdate): void {
-    this.st.upEvent.run({ ...r, participants: JSON.stringify(r.participants), places: JSON.stringify(r.places), state: Buffer.from(state.buffer, state.byteOffset, state.byteLength) });
+    this.st.upEvent.run({
+      ...r,
+      participants: JSON.stringify(r.participants),
+      places: JSON.stringify(r.places),
+      state: Buffer.from(state.buffer, state.byteOffset, state.byteLength),
+    });
     this.st.delOutlets.run(r.id);
     for (const o of outlets) this.st.insOutlet.run(r.id, o.outlet, o.mentions, o.independent);
   }
@@ -271,10 +344,14 @@ export class SqliteStore implements Store {
     const db = this.db;
     const into = m.into.record.id;
     // A sentence linked to both events keeps one link, the better-scoring one.
-    db.prepare(`DELETE FROM links WHERE event_id = @from AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @into
-      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx AND l2.score >= links.score)`).run({ from: m.from, into });
-    db.prepare(`DELETE FROM links WHERE event_id = @into AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @from
-      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx)`).run({ from: m.from, into });
+    db.prepare(
+      `DELETE FROM links WHERE event_id = @from AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @into
+      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx AND l2.score >= links.score)`,
+    ).run({ from: m.from, into });
+    db.prepare(
+      `DELETE FROM links WHERE event_id = @into AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @from
+      AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx)`,
+    ).run({ from: m.from, into });
     db.prepare('UPDATE links SET event_id = ? WHERE event_id = ?').run(into, m.from);
     db.prepare('DELETE FROM events WHERE id = ?').run(m.from);
     this.st.delOutlets.run(m.from);
@@ -287,9 +364,12 @@ export class SqliteStore implements Store {
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
     if (states.length === 0) return;
     const put = this.db.prepare('UPDATE events SET state = ? WHERE id = ?');
-    await this.write(`cannot store the state of ${states.length} event(s)`, this.db.transaction(() => {
-      for (const s of states) put.run(Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength), s.id);
-    }));
+    await this.write(
+      `cannot store the state of ${states.length} event(s)`,
+      this.db.transaction(() => {
+        for (const s of states) put.run(Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength), s.id);
+      }),
+    );
   }
 
   async commitSplit(sp: SplitCommit): Promise<void> {
@@ -305,26 +385,43 @@ export class SqliteStore implements Store {
     // A label drawn from a sentence that moved goes with it: the event left behind takes its
     // earliest remaining sentence.
     const label = this.st.eventLabel.get(from) as string | undefined;
-    const movedTexts = new Set(sp.moved.map((m) => this.st.sentenceText.get(m.articleId, m.sentenceIndex) as string | null | undefined).filter((t): t is string => typeof t === 'string'));
-    if (label !== undefined && drawnFrom(label, movedTexts)) this.st.setLabel.run((this.st.earliestText.get(from) as string | undefined) ?? ERASED_LABEL, from);
+    const movedTexts = new Set(
+      sp.moved
+        .map((m) => this.st.sentenceText.get(m.articleId, m.sentenceIndex) as string | null | undefined)
+        .filter((t): t is string => typeof t === 'string'),
+    );
+    if (label !== undefined && drawnFrom(label, movedTexts))
+      this.st.setLabel.run((this.st.earliestText.get(from) as string | undefined) ?? ERASED_LABEL, from);
     this.st.insSplit.run(into, from, sp.moved.length, sp.score, sp.at);
     this.queue(sp.messages);
   }
 
   async linkedMentions(eventId: string): Promise<LinkedMention[]> {
-    return (this.st.linkedMentions.all(eventId) as Row[]).map((r) => ({ mention: mentionOf(r), rank: r.rank as number, score: r.score as number }));
+    return (this.st.linkedMentions.all(eventId) as Row[]).map((r) => ({
+      mention: mentionOf(r),
+      rank: r.rank as number,
+      score: r.score as number,
+    }));
   }
 
   async linkedToBoth(a: string, b: string): Promise<SharedMention[]> {
     return (this.st.linkedToBoth.all({ a, b }) as Row[]).map((r) => ({
       mention: mentionOf(r),
-      links: [{ rank: r.rank as number, score: r.score as number }, { rank: r.rank_b as number, score: r.score_b as number }],
+      links: [
+        { rank: r.rank as number, score: r.score as number },
+        { rank: r.rank_b as number, score: r.score_b as number },
+      ],
     }));
   }
 
   async splitsOf(eventId: string): Promise<SplitRecord[]> {
-    return (this.st.splitsOf.all({ id: eventId }) as Row[])
-      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, mentions: r.mentions as number, score: r.score as number, at: r.at as string }));
+    return (this.st.splitsOf.all({ id: eventId }) as Row[]).map((r) => ({
+      from: r.from_id as string,
+      into: r.into_id as string,
+      mentions: r.mentions as number,
+      score: r.score as number,
+      at: r.at as string,
+    }));
   }
 
   async eventLabels(ids: readonly string[]): Promise<Map<string, string>> {
@@ -337,8 +434,13 @@ export class SqliteStore implements Store {
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
-    return this.db.prepare(`SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
-      ORDER BY l.event_id`).pluck().all(articles) as string[];
+    return this.db
+      .prepare(
+        `SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
+      ORDER BY l.event_id`,
+      )
+      .pluck()
+      .all(articles) as string[];
   }
 
   async mergedInto(id: string): Promise<string | null> {
@@ -346,8 +448,9 @@ export class SqliteStore implements Store {
   }
 
   async mergesInto(id: string): Promise<MergeRecord[]> {
-    return (this.db.prepare('SELECT from_id, into_id, score, at FROM merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[])
-      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
+    return (this.db.prepare('SELECT from_id, into_id, score, at FROM merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[]).map(
+      (r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }),
+    );
   }
 
   async loadLinkerState(): Promise<LinkerSnapshot> {
@@ -364,21 +467,31 @@ export class SqliteStore implements Store {
 
   async commitStoryMerge(m: StoryMergeCommit): Promise<void> {
     const into = m.into.record.id;
-    await this.write(`cannot merge story ${m.from} into ${into}`, this.db.transaction(() => {
-      this.db.prepare('UPDATE articles SET story_id = ? WHERE story_id = ?').run(into, m.from);
-      this.db.prepare('UPDATE events SET story_id = ? WHERE story_id = ?').run(into, m.from);
-      this.db.prepare('DELETE FROM stories WHERE id = ?').run(m.from);
-      this.upsertStory(m.into);
-      // Earlier merges into the absorbed story now point at the survivor: one step to follow.
-      this.db.prepare('UPDATE story_merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
-      this.db.prepare('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
-      this.queue(m.messages);
-    }));
+    await this.write(
+      `cannot merge story ${m.from} into ${into}`,
+      this.db.transaction(() => {
+        this.db.prepare('UPDATE articles SET story_id = ? WHERE story_id = ?').run(into, m.from);
+        this.db.prepare('UPDATE events SET story_id = ? WHERE story_id = ?').run(into, m.from);
+        this.db.prepare('DELETE FROM stories WHERE id = ?').run(m.from);
+        this.upsertStory(m.into);
+        // Earlier merges into the absorbed story now point at the survivor: one step to follow.
+        this.db.prepare('UPDATE story_merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
+        this.db
+          .prepare('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)')
+          .run(m.from, into, m.score, m.at);
+        this.queue(m.messages);
+      }),
+    );
   }
 
   async recentStoryIds(articles: number): Promise<string[]> {
-    return this.db.prepare(`SELECT story_id FROM (SELECT story_id, max(seq) AS last FROM (SELECT story_id, seq FROM articles ORDER BY seq DESC LIMIT ?)
-      WHERE story_id IS NOT NULL GROUP BY story_id) ORDER BY last DESC`).pluck().all(articles) as string[];
+    return this.db
+      .prepare(
+        `SELECT story_id FROM (SELECT story_id, max(seq) AS last FROM (SELECT story_id, seq FROM articles ORDER BY seq DESC LIMIT ?)
+      WHERE story_id IS NOT NULL GROUP BY story_id) ORDER BY last DESC`,
+      )
+      .pluck()
+      .all(articles) as string[];
   }
 
   async storyMergedInto(id: string): Promise<string | null> {
@@ -404,14 +517,27 @@ export class SqliteStore implements Store {
       where.push('(SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id) >= @minOutlets');
       params.minOutlets = q.minOutlets;
     }
-    (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).forEach((word, i) => {
-      where.push(`(s.label LIKE @w${i} ESCAPE '\\' OR s.names LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.title LIKE @w${i} ESCAPE '\\'))`);
-      params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
-    });
+    (q.text ?? '')
+      .split(/\s+/)
+      .filter(Boolean)
+      .slice(0, 8)
+      .forEach((word, i) => {
+        where.push(
+          `(s.label LIKE @w${i} ESCAPE '\\' OR s.names LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.title LIKE @w${i} ESCAPE '\\'))`,
+        );
+        params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
+      });
     const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
-    const order = q.sort === 'outlets' ? 'outlet_count DESC, s.last_seen DESC' : q.sort === 'articles' ? 's.article_count DESC, s.last_seen DESC' : 's.last_seen DESC';
+    const order =
+      q.sort === 'outlets'
+        ? 'outlet_count DESC, s.last_seen DESC'
+        : q.sort === 'articles'
+          ? 's.article_count DESC, s.last_seen DESC'
+          : 's.last_seen DESC';
     const total = this.db.prepare(`SELECT count(*) FROM stories s ${filter}`).pluck().get(params) as number;
-    const rows = this.db.prepare(`${STORY_SELECT} ${filter} ORDER BY ${order}, s.id LIMIT @limit OFFSET @offset`).all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
+    const rows = this.db
+      .prepare(`${STORY_SELECT} ${filter} ORDER BY ${order}, s.id LIMIT @limit OFFSET @offset`)
+      .all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
     return { total, stories: rows.map(toStorySummary) };
   }
 
@@ -419,13 +545,24 @@ export class SqliteStore implements Store {
     const row = this.st.story.get(id) as Row | undefined;
     if (!row) return null;
     const events = (this.db.prepare(`${EVENT_SELECT} WHERE e.story_id = ? ORDER BY e.first_seen, e.id`).all(id) as Row[]).map(toSummary);
-    const articles = (this.db.prepare(`SELECT id, title, outlet, url, published, duplicate_of FROM articles WHERE story_id = ?
-      ORDER BY coalesce(published, fetched), seq`).all(id) as Row[]).map((r) => ({
-      id: r.id as string, title: r.title as string, outlet: r.outlet as string, url: (r.url as string | null) ?? null,
-      published: (r.published as string | null) ?? null, duplicateOf: (r.duplicate_of as string | null) ?? null,
+    const articles = (
+      this.db
+        .prepare(
+          `SELECT id, title, outlet, url, published, duplicate_of FROM articles WHERE story_id = ?
+      ORDER BY coalesce(published, fetched), seq`,
+        )
+        .all(id) as Row[]
+    ).map((r) => ({
+      id: r.id as string,
+      title: r.title as string,
+      outlet: r.outlet as string,
+      url: (r.url as string | null) ?? null,
+      published: (r.published as string | null) ?? null,
+      duplicateOf: (r.duplicate_of as string | null) ?? null,
     }));
-    const merges = (this.db.prepare('SELECT from_id, into_id, score, at FROM story_merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[])
-      .map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
+    const merges = (
+      this.db.prepare('SELECT from_id, into_id, score, at FROM story_merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[]
+    ).map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
     return { story: toStorySummary(row), events, articles, merges };
   }
 
@@ -452,15 +589,26 @@ export class SqliteStore implements Store {
       where.push('e.story_id = coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story)');
       params.story = q.story;
     }
-    (q.text ?? '').split(/\s+/).filter(Boolean).slice(0, 8).forEach((word, i) => {
-      where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+    (q.text ?? '')
+      .split(/\s+/)
+      .filter(Boolean)
+      .slice(0, 8)
+      .forEach((word, i) => {
+        where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         WHERE l.event_id = e.id AND s.text LIKE @w${i} ESCAPE '\\'))`);
-      params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
-    });
+        params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
+      });
     const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
-    const order = q.sort === 'outlets' ? 'outlet_count DESC, e.last_seen DESC' : q.sort === 'mentions' ? 'e.mention_count DESC, e.last_seen DESC' : 'e.last_seen DESC';
+    const order =
+      q.sort === 'outlets'
+        ? 'outlet_count DESC, e.last_seen DESC'
+        : q.sort === 'mentions'
+          ? 'e.mention_count DESC, e.last_seen DESC'
+          : 'e.last_seen DESC';
     const total = this.db.prepare(`SELECT count(*) FROM events e ${filter}`).pluck().get(params) as number;
-    const rows = this.db.prepare(`${EVENT_SELECT} ${filter} ORDER BY ${order}, e.id LIMIT @limit OFFSET @offset`).all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
+    const rows = this.db
+      .prepare(`${EVENT_SELECT} ${filter} ORDER BY ${order}, e.id LIMIT @limit OFFSET @offset`)
+      .all({ ...params, limit: q.limit, offset: q.offset }) as Row[];
     return { total, events: rows.map(toSummary) };
   }
 
@@ -496,20 +644,31 @@ export class SqliteStore implements Store {
       end: s.end as number,
       eventness: s.eventness as number,
       isMention: mentionIdx.has(s.idx as number),
-      links: links.filter((l) => l.sentence_idx === s.idx).map((l) => ({
-        eventId: l.event_id as string,
-        eventLabel: l.label as string,
-        score: l.score as number,
-        rank: l.rank as number,
-        evidence: JSON.parse(l.evidence as string) as LinkEvidence,
-      })),
+      links: links
+        .filter((l) => l.sentence_idx === s.idx)
+        .map((l) => ({
+          eventId: l.event_id as string,
+          eventLabel: l.label as string,
+          score: l.score as number,
+          rank: l.rank as number,
+          evidence: JSON.parse(l.evidence as string) as LinkEvidence,
+        })),
     }));
     return {
       article: {
-        id: a.id as string, outlet: a.outlet as string, url: (a.url as string | null) ?? null, title: a.title as string,
-        published: (a.published as string | null) ?? null, fetched: a.fetched as string, language: (a.language as string | null) ?? null,
-        text: (a.text as string | null) ?? null, contentHash: a.content_hash as string, duplicateOf: (a.duplicate_of as string | null) ?? null, copySimilarity: (a.copy_similarity as number | null) ?? null,
-        source: a.source as string, story: (a.story_id as string | null) ?? null,
+        id: a.id as string,
+        outlet: a.outlet as string,
+        url: (a.url as string | null) ?? null,
+        title: a.title as string,
+        published: (a.published as string | null) ?? null,
+        fetched: a.fetched as string,
+        language: (a.language as string | null) ?? null,
+        text: (a.text as string | null) ?? null,
+        contentHash: a.content_hash as string,
+        duplicateOf: (a.duplicate_of as string | null) ?? null,
+        copySimilarity: (a.copy_similarity as number | null) ?? null,
+        source: a.source as string,
+        story: (a.story_id as string | null) ?? null,
       },
       sentences,
     };
@@ -527,8 +686,14 @@ export class SqliteStore implements Store {
     return (this.st.due.all(now, JSON.stringify(skip), limit) as Row[]).map(toDelivery);
   }
 
-  async recordAttempt(messageId: string, subscriber: string, o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null }): Promise<void> {
-    await this.write(`cannot record a delivery to ${subscriber}`, () => this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber));
+  async recordAttempt(
+    messageId: string,
+    subscriber: string,
+    o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
+  ): Promise<void> {
+    await this.write(`cannot record a delivery to ${subscriber}`, () =>
+      this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber),
+    );
   }
 
   async deadLetters(limit: number): Promise<Delivery[]> {
@@ -541,19 +706,28 @@ export class SqliteStore implements Store {
   }
 
   async pruneNotifications(before: string): Promise<number> {
-    return this.write('cannot prune notifications', this.db.transaction(() => {
-      // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
-      this.db.prepare("DELETE FROM deliveries WHERE status IN ('delivered', 'dead') AND next_at < ?").run(before);
-      return this.db.prepare('DELETE FROM outbox WHERE created < ? AND NOT EXISTS (SELECT 1 FROM deliveries d WHERE d.message_id = outbox.id)').run(before).changes;
-    }));
+    return this.write(
+      'cannot prune notifications',
+      this.db.transaction(() => {
+        // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
+        this.db.prepare("DELETE FROM deliveries WHERE status IN ('delivered', 'dead') AND next_at < ?").run(before);
+        return this.db
+          .prepare('DELETE FROM outbox WHERE created < ? AND NOT EXISTS (SELECT 1 FROM deliveries d WHERE d.message_id = outbox.id)')
+          .run(before).changes;
+      }),
+    );
   }
 
   async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
     const newest = this.db.prepare('SELECT max(coalesce(published, fetched)) FROM articles').pluck().get() as string | null;
     if (!newest) return [];
     const since = new Date(Date.parse(newest) - days * 86_400_000).toISOString();
-    const rows = this.db.prepare(`SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
-      WHERE coalesce(published, fetched) >= ? AND sketch IS NOT NULL ORDER BY at, seq`).all(since) as Row[];
+    const rows = this.db
+      .prepare(
+        `SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
+      WHERE coalesce(published, fetched) >= ? AND sketch IS NOT NULL ORDER BY at, seq`,
+      )
+      .all(since) as Row[];
     return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: decodeWords(r.sketch as Buffer) }));
   }
 
@@ -562,17 +736,24 @@ export class SqliteStore implements Store {
   }
 
   async putFeed(f: FeedEntry): Promise<void> {
-    await this.write(`cannot store feed ${f.id}`, () => this.db.prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data').run(f.id, JSON.stringify(f)));
+    await this.write(`cannot store feed ${f.id}`, () =>
+      this.db
+        .prepare('INSERT INTO feeds (id, data) VALUES (?, ?) ON CONFLICT (id) DO UPDATE SET data = excluded.data')
+        .run(f.id, JSON.stringify(f)),
+    );
   }
 
   async updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
-    return this.write(`cannot update feed ${id}`, this.db.transaction((): FeedEntry | null => {
-      const data = this.db.prepare('SELECT data FROM feeds WHERE id = ?').pluck().get(id) as string | undefined;
-      if (data === undefined) return null;
-      const next = change(JSON.parse(data) as FeedEntry);
-      this.db.prepare('UPDATE feeds SET data = ? WHERE id = ?').run(JSON.stringify(next), id);
-      return next;
-    }));
+    return this.write(
+      `cannot update feed ${id}`,
+      this.db.transaction((): FeedEntry | null => {
+        const data = this.db.prepare('SELECT data FROM feeds WHERE id = ?').pluck().get(id) as string | undefined;
+        if (data === undefined) return null;
+        const next = change(JSON.parse(data) as FeedEntry);
+        this.db.prepare('UPDATE feeds SET data = ? WHERE id = ?').run(JSON.stringify(next), id);
+        return next;
+      }),
+    );
   }
 
   async deleteFeed(id: string): Promise<boolean> {
@@ -580,7 +761,10 @@ export class SqliteStore implements Store {
   }
 
   async eraseTextBefore(day: string): Promise<number> {
-    const ids = this.db.prepare('SELECT id FROM articles WHERE coalesce(published, fetched) < ? AND text IS NOT NULL').pluck().all(day) as string[];
+    const ids = this.db
+      .prepare('SELECT id FROM articles WHERE coalesce(published, fetched) < ? AND text IS NOT NULL')
+      .pluck()
+      .all(day) as string[];
     if (ids.length > 0) await this.write('cannot erase text', () => this.eraseSecurely(ids));
     return ids.length;
   }
@@ -622,7 +806,9 @@ export class SqliteStore implements Store {
     // phrases: they go with the text.
     db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
     db.prepare('UPDATE articles SET sketch = NULL WHERE id = ?').run(id);
-    const events = db.prepare('SELECT DISTINCT e.id, e.label, e.state FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?').all(id) as Row[];
+    const events = db
+      .prepare('SELECT DISTINCT e.id, e.label, e.state FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?')
+      .all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {
       // Linker states written before labels left them carry a label in their header.
@@ -650,7 +836,9 @@ export class SqliteStore implements Store {
       return (this.st.eventLabel.get(into) as string | undefined) ?? ERASED_LABEL;
     };
     for (const row of this.db.prepare('SELECT id, body FROM outbox').iterate() as Iterable<{ id: string; body: string }>) {
-      const body = JSON.parse(row.body) as { data?: Record<string, { id?: string; article?: string; text?: string | null; label?: string } | undefined> };
+      const body = JSON.parse(row.body) as {
+        data?: Record<string, { id?: string; article?: string; text?: string | null; label?: string } | undefined>;
+      };
       let changed = false;
       for (const part of Object.values(body.data ?? {})) {
         if (!part || typeof part !== 'object') continue;

@@ -23,7 +23,9 @@ export interface WalCheckpointer {
 
 /** Starts checkpointing the database `db` has open at `path` (a file in WAL mode). */
 export function startWalCheckpointer(db: Database.Database, path: string, log?: Pick<Logger, 'warn'>): WalCheckpointer {
-  const worker = new Worker(new URL('./checkpoint-thread.mjs', import.meta.url), { workerData: { path, everyMs: EVERY_MS, restartBytes: RESTART_BYTES } });
+  const worker = new Worker(new URL('./checkpoint-thread.mjs', import.meta.url), {
+    workerData: { path, everyMs: EVERY_MS, restartBytes: RESTART_BYTES },
+  });
   // The thread must not keep a finished command alive.
   worker.unref();
   let stopped = false;

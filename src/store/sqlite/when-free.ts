@@ -19,7 +19,11 @@ export function isBusy(err: unknown): boolean {
  * Runs `write` until it is not refused as busy; other errors and a write still busy after
  * `giveUpMs` become STRAND_STORE_FAILED with `what` and the cause. `onWait` hears each retry.
  */
-export async function whenFree<T>(what: string, write: () => T, o: { giveUpMs?: number; onWait?: (attempt: number, err: unknown) => void; sleep?: (ms: number) => Promise<void> } = {}): Promise<T> {
+export async function whenFree<T>(
+  what: string,
+  write: () => T,
+  o: { giveUpMs?: number; onWait?: (attempt: number, err: unknown) => void; sleep?: (ms: number) => Promise<void> } = {},
+): Promise<T> {
   const giveUpMs = o.giveUpMs ?? BUSY_GIVE_UP_MS;
   const sleep = o.sleep ?? ((ms: number) => new Promise<void>((r) => setTimeout(r, ms)));
   const started = Date.now();

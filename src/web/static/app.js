@@ -75,11 +75,20 @@ async function loadEvents(append = false) {
   const list = $('events');
   if (!append) list.replaceChildren();
   for (const e of page.events) {
-    const li = el('li', { 'data-id': e.id, tabindex: '0', onclick: () => go(`#/events/${encodeURIComponent(e.id)}`) },
+    const li = el(
+      'li',
+      { 'data-id': e.id, tabindex: '0', onclick: () => go(`#/events/${encodeURIComponent(e.id)}`) },
       el('span', { class: 'label' }, e.label),
-      el('span', { class: 'meta' }, `${e.timeStart === e.timeEnd ? e.timeStart : `${e.timeStart} – ${e.timeEnd}`} · ${e.outlets.length} outlet${e.outlets.length === 1 ? '' : 's'}`
-        + `${e.independentOutlets < e.outlets.length ? ` (${e.independentOutlets} independent)` : ''} · ${e.mentionCount} mention${e.mentionCount === 1 ? '' : 's'}`));
-    li.addEventListener('keydown', (k) => { if (k.key === 'Enter') li.click(); });
+      el(
+        'span',
+        { class: 'meta' },
+        `${e.timeStart === e.timeEnd ? e.timeStart : `${e.timeStart} – ${e.timeEnd}`} · ${e.outlets.length} outlet${e.outlets.length === 1 ? '' : 's'}` +
+          `${e.independentOutlets < e.outlets.length ? ` (${e.independentOutlets} independent)` : ''} · ${e.mentionCount} mention${e.mentionCount === 1 ? '' : 's'}`,
+      ),
+    );
+    li.addEventListener('keydown', (k) => {
+      if (k.key === 'Enter') li.click();
+    });
     if (e.id === state.selected) li.classList.add('active');
     list.append(li);
   }
@@ -94,51 +103,134 @@ async function showEvent(id) {
   const d = await api(`/api/events/${encodeURIComponent(id)}`);
   const e = d.event;
   const max = Math.max(1, ...d.timeline.map((t) => t.mentions));
-  const timeline = el('div', { class: 'timeline', 'aria-label': 'Mentions per day' },
+  const timeline = el(
+    'div',
+    { class: 'timeline', 'aria-label': 'Mentions per day' },
     d.timeline.map((t) => {
-      const bar = el('div', { title: `${t.day}: ${t.mentions} mention(s)${t.newOutlets.length ? `; first report by ${t.newOutlets.join(', ')}` : ''}` });
+      const bar = el('div', {
+        title: `${t.day}: ${t.mentions} mention(s)${t.newOutlets.length ? `; first report by ${t.newOutlets.join(', ')}` : ''}`,
+      });
       bar.style.height = `${(t.mentions / max) * 100}%`;
       return bar;
-    }));
-  replace($('detail'), 
+    }),
+  );
+  replace(
+    $('detail'),
     el('h2', {}, e.label),
-    el('p', { class: 'meta' }, `Event ${e.id} · happened ${e.timeStart}${e.timeEnd !== e.timeStart ? ` – ${e.timeEnd}` : ''} · first seen ${fmtDay(e.firstSeen)}, last seen ${fmtDay(e.lastSeen)} · ${e.outlets.length} outlets (${e.independentOutlets} independent) · ${e.mentionCount} mentions`),
-    e.participants.length ? el('ul', { class: 'chips', 'aria-label': 'Participants' }, e.participants.map((p) => el('li', {}, p))) : null,
-    e.places.length ? el('ul', { class: 'chips', 'aria-label': 'Places' }, e.places.map((p) => el('li', {}, `📍 ${p}`))) : null,
-    d.merges.length ? el('p', { class: 'meta' }, `Consolidation merged ${d.merges.length} other event(s) into this one (a machine suggestion too).`) : null,
+    el(
+      'p',
+      { class: 'meta' },
+      `Event ${e.id} · happened ${e.timeStart}${e.timeEnd !== e.timeStart ? ` – ${e.timeEnd}` : ''} · first seen ${fmtDay(e.firstSeen)}, last seen ${fmtDay(e.lastSeen)} · ${e.outlets.length} outlets (${e.independentOutlets} independent) · ${e.mentionCount} mentions`,
+    ),
+    e.participants.length
+      ? el(
+          'ul',
+          { class: 'chips', 'aria-label': 'Participants' },
+          e.participants.map((p) => el('li', {}, p)),
+        )
+      : null,
+    e.places.length
+      ? el(
+          'ul',
+          { class: 'chips', 'aria-label': 'Places' },
+          e.places.map((p) => el('li', {}, `📍 ${p}`)),
+        )
+      : null,
+    d.merges.length
+      ? el('p', { class: 'meta' }, `Consolidation merged ${d.merges.length} other event(s) into this one (a machine suggestion too).`)
+      : null,
     ...d.splits.map((s) => {
       const other = s.from === e.id ? s.into : s.from;
-      const what = s.from === e.id
-        ? `Consolidation moved ${s.mentions} mention(s) of this event to another that reads as a different happening`
-        : `Consolidation split this event off another, moving ${s.mentions} mention(s) here`;
-      return el('p', { class: 'meta' }, `${what} (the parts were alike ${s.score.toFixed(2)}; a machine suggestion too): `,
-        el('a', { href: `#/events/${encodeURIComponent(other)}` }, other));
+      const what =
+        s.from === e.id
+          ? `Consolidation moved ${s.mentions} mention(s) of this event to another that reads as a different happening`
+          : `Consolidation split this event off another, moving ${s.mentions} mention(s) here`;
+      return el(
+        'p',
+        { class: 'meta' },
+        `${what} (the parts were alike ${s.score.toFixed(2)}; a machine suggestion too): `,
+        el('a', { href: `#/events/${encodeURIComponent(other)}` }, other),
+      );
     }),
     timeline,
-    el('p', { class: 'meta' }, `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`),
-    d.byOutlet.map((g) => el('section', { class: 'outlet' },
-      el('h3', {}, g.outlet, g.independent ? null : el('span', { class: 'copy' }, ' · copy of another outlet’s article (not independent confirmation)')),
-      g.mentions.map((m) => el('div', { class: 'mention' },
-        el('div', {}, m.text ?? '(text erased under the retention policy)'),
-        el('div', { class: 'evidence' }, scoreBar(m.score), `score ${m.score.toFixed(2)}${m.rank > 0 ? ' (further event of this sentence)' : ''} · ${evidenceLine(m.evidence)}`),
-        el('div', { class: 'meta' }, `${fmtDay(m.published)} · `, el('a', { href: `#/articles/${encodeURIComponent(m.articleId)}` }, m.articleTitle || m.articleId),
-          safeUrl(m.articleUrl) ? [' · ', el('a', { href: m.articleUrl, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null)))),
-    ));
+    el(
+      'p',
+      { class: 'meta' },
+      `Mentions per day, ${d.timeline[0]?.day ?? ''} to ${d.timeline.at(-1)?.day ?? ''} (hover a bar for the day and its first-time outlets)`,
+    ),
+    d.byOutlet.map((g) =>
+      el(
+        'section',
+        { class: 'outlet' },
+        el(
+          'h3',
+          {},
+          g.outlet,
+          g.independent ? null : el('span', { class: 'copy' }, ' · copy of another outlet’s article (not independent confirmation)'),
+        ),
+        g.mentions.map((m) =>
+          el(
+            'div',
+            { class: 'mention' },
+            el('div', {}, m.text ?? '(text erased under the retention policy)'),
+            el(
+              'div',
+              { class: 'evidence' },
+              scoreBar(m.score),
+              `score ${m.score.toFixed(2)}${m.rank > 0 ? ' (further event of this sentence)' : ''} · ${evidenceLine(m.evidence)}`,
+            ),
+            el(
+              'div',
+              { class: 'meta' },
+              `${fmtDay(m.published)} · `,
+              el('a', { href: `#/articles/${encodeURIComponent(m.articleId)}` }, m.articleTitle || m.articleId),
+              safeUrl(m.articleUrl)
+                ? [' · ', el('a', { href: m.articleUrl, rel: 'noopener noreferrer', target: '_blank' }, 'source')]
+                : null,
+            ),
+          ),
+        ),
+      ),
+    ),
+  );
 }
 
 async function showArticle(id) {
   const d = await api(`/api/articles/${encodeURIComponent(id)}`);
   const a = d.article;
-  replace($('detail'), 
+  replace(
+    $('detail'),
     el('h2', {}, a.title || a.id),
-    el('p', { class: 'meta' }, `${a.outlet} · ${fmtDay(a.published)}`, a.duplicateOf ? (a.copySimilarity === null || a.copySimilarity >= 1 ? ' · verbatim copy of ' : ` · edited copy (similarity ${a.copySimilarity.toFixed(2)}) of `) : null,
+    el(
+      'p',
+      { class: 'meta' },
+      `${a.outlet} · ${fmtDay(a.published)}`,
+      a.duplicateOf
+        ? a.copySimilarity === null || a.copySimilarity >= 1
+          ? ' · verbatim copy of '
+          : ` · edited copy (similarity ${a.copySimilarity.toFixed(2)}) of `
+        : null,
       a.duplicateOf ? el('a', { href: `#/articles/${encodeURIComponent(a.duplicateOf)}` }, a.duplicateOf) : null,
-      safeUrl(a.url) ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null),
-    d.sentences.map((s) => el('div', { class: `sentence${s.isMention ? ' is-mention' : ''}` },
-      el('div', {}, s.text || '(text erased under the retention policy)'),
-      el('div', { class: 'meta' }, `sentence ${s.index} · event-ness ${s.eventness.toFixed(2)}`),
-      s.links.map((l) => el('div', { class: 'evidence' }, scoreBar(l.score), `→ `,
-        el('a', { href: `#/events/${encodeURIComponent(l.eventId)}` }, l.eventLabel), ` · score ${l.score.toFixed(2)} · ${evidenceLine(l.evidence)}`)))),
+      safeUrl(a.url) ? [' · ', el('a', { href: a.url, rel: 'noopener noreferrer', target: '_blank' }, 'source')] : null,
+    ),
+    d.sentences.map((s) =>
+      el(
+        'div',
+        { class: `sentence${s.isMention ? ' is-mention' : ''}` },
+        el('div', {}, s.text || '(text erased under the retention policy)'),
+        el('div', { class: 'meta' }, `sentence ${s.index} · event-ness ${s.eventness.toFixed(2)}`),
+        s.links.map((l) =>
+          el(
+            'div',
+            { class: 'evidence' },
+            scoreBar(l.score),
+            `→ `,
+            el('a', { href: `#/events/${encodeURIComponent(l.eventId)}` }, l.eventLabel),
+            ` · score ${l.score.toFixed(2)} · ${evidenceLine(l.evidence)}`,
+          ),
+        ),
+      ),
+    ),
   );
 }
 
@@ -161,7 +253,8 @@ async function refreshStatus() {
   try {
     const h = await api('/api/health');
     const i = h.ingest;
-    const progress = i.state === 'replaying' ? ` · replaying ${i.processed}/${i.total} articles` : i.state === 'finished' ? ' · replay finished' : '';
+    const progress =
+      i.state === 'replaying' ? ` · replaying ${i.processed}/${i.total} articles` : i.state === 'finished' ? ' · replay finished' : '';
     $('status').textContent = `${h.counts.articles} articles · ${h.counts.mentions} event sentences · ${h.counts.events} events${progress}`;
     if (i.state === 'replaying' || state.ingestState === 'replaying') await loadEvents();
     state.ingestState = i.state;
@@ -173,7 +266,11 @@ async function refreshStatus() {
 async function loadOutlets() {
   const { outlets } = await api('/api/outlets');
   const current = $('outlet').value;
-  replace($('outlet'), el('option', { value: '' }, 'All outlets'), outlets.map((o) => el('option', { value: o.outlet }, `${o.outlet} (${o.articles})`)));
+  replace(
+    $('outlet'),
+    el('option', { value: '' }, 'All outlets'),
+    outlets.map((o) => el('option', { value: o.outlet }, `${o.outlet} (${o.articles})`)),
+  );
   $('outlet').value = current;
 }
 
@@ -202,4 +299,7 @@ $('token-form').addEventListener('submit', (e) => {
 });
 
 await loadAll();
-setInterval(() => { void refreshStatus(); void loadOutlets(); }, 3000);
+setInterval(() => {
+  void refreshStatus();
+  void loadOutlets();
+}, 3000);
