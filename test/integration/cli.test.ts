@@ -195,9 +195,15 @@ describe('the command line', () => {
       await new Promise<void>((r) => busy.listen(0, '127.0.0.1', r));
       try {
         const port = String((busy.address() as AddressInfo).port);
-        // Its own process: the command exits with its store still open, as it would for real.
-        const r = runAlone('serve', '--port', port, '--db', join(scratch(), 's.sqlite'), '--log-level', 'silent');
+        const db = join(scratch(), 's.sqlite');
+        const r = await run('serve', '--port', port, '--db', db, '--log-level', 'silent');
         expect(r.status).toBe(2);
+        // What it had opened is closed again: nothing else holds the store file.
+        const alone = new Database(db);
+        alone.pragma('busy_timeout = 0');
+        alone.pragma('locking_mode = EXCLUSIVE');
+        expect(() => alone.prepare('SELECT count(*) FROM articles').get()).not.toThrow();
+        alone.close();
         expect(oneLine(r.stderr)).toEqual([
           `strandline: STRAND_LISTEN_FAILED: cannot listen on 127.0.0.1:${port}: the port is in use (choose another with --port, PORT or server.port; --host, HOST or server.host)`,
         ]);

@@ -7,6 +7,7 @@ import { buildApp } from '../../api/build-app.js';
 import type { IngestStatus } from '../../api/routes/operations.js';
 import type { Config } from '../../config/schema.js';
 import { StrandError } from '../../errors.js';
+import { ServiceStack } from '../../lifecycle/service-stack.js';
 import { Lease } from '../../distribute/lease.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
@@ -59,7 +60,11 @@ export async function serveCommand(opts: ServeOptions): Promise<number> {
   }
 }
 
-/** The single process: everything, on any store. */
+/**
+ * The single process: everything, on any store. Its parts start in this order and stop in
+ * the reverse one: the replay ends first, then the sweeper, the poller and the server (no
+ * new pushes), then the intake drains, the dispatcher stops and the stores close.
+ */
 async function serveAll(
   config: Readonly<Config>,
   logger: Logger,
@@ -67,91 +72,132 @@ async function serveAll(
   requested: Promise<unknown>,
   stopping: AbortSignal,
 ): Promise<void> {
-  const rt = await createRuntime(config, logger);
+  const parts = new ServiceStack(logger);
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
-  // Pushed articles and the replay take turns on the one pipeline.
-  const intake = new LocalIntake(rt, (o) => {
-    if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
-  });
-  const poller = await startPoller(config, logger, rt.store, (a) => intake.submit(a));
+  const rt = await parts.add(
+    'runtime',
+    () => createRuntime(config, logger),
+    (r) => r.close(),
+  );
   // On Redis the API reads through a connection of its own that fails at once while Redis is
   // away (503), where the pipeline's waits for it to come back.
-  const apiStore = config.store.kind === 'redis' ? await openStore(config.store, logger, { failFast: true }) : rt.store;
-  const app = await buildApp({
-    store: apiStore,
-    logger,
-    version: version(),
-    ingestStatus: () => status,
-    push: { submit: (a) => intake.submit(a), limits: config.ingest },
-    feeds: poller ?? undefined,
-    auth: config.server,
-  });
-  const address = await listenOn(app, config);
+  const apiStore =
+    config.store.kind === 'redis'
+      ? await parts.add(
+          'api store',
+          () => openStore(config.store, logger, { failFast: true }),
+          (st) => st.close(),
+        )
+      : rt.store;
+  await parts.add(
+    'webhook dispatcher',
+    () => {
+      const d = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
+      d.start();
+      return d;
+    },
+    (d) => d.stop(),
+  );
+  // Pushed articles and the replay take turns on the one pipeline; stopping waits for it to drain.
+  const intake = await parts.add(
+    'intake',
+    () =>
+      new LocalIntake(rt, (o) => {
+        if (o.status === 'rejected') logger.warn({ article: o.articleId, reason: o.reason }, 'pushed article rejected');
+      }),
+    (i) => i.idle(),
+  );
+  const poller = await loadPoller(config, logger, rt.store, (a) => intake.submit(a));
+  const { address } = await parts.add(
+    'server',
+    () =>
+      listening(
+        buildApp({
+          store: apiStore,
+          logger,
+          version: version(),
+          ingestStatus: () => status,
+          push: { submit: (a) => intake.submit(a), limits: config.ingest },
+          feeds: poller ?? undefined,
+          auth: config.server,
+        }),
+        config,
+      ),
+    (s) => s.app.close(),
+  );
   warnIfOpen(config, logger);
   const shown = address.replace('//127.0.0.1', '//localhost');
   process.stdout.write(
     `Strandline is serving on ${shown}\n  page:    ${shown}/\n  API:     ${shown}/api/events\n  OpenAPI: ${shown}/openapi.json\n`,
   );
-
-  const dispatcher = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
-  dispatcher.start();
-  const sweeper = new RetentionSweeper({
-    store: rt.store,
-    textDays: config.retention.textDays,
-    notificationDays: config.retention.notificationDays,
-    logger,
-  });
-  await sweeper.start();
+  if (poller)
+    await parts.add(
+      'poller',
+      () => startPolling(poller),
+      (p) => p.stop(),
+    );
+  await parts.add(
+    'retention sweeper',
+    async () => {
+      const sweeper = new RetentionSweeper({
+        store: rt.store,
+        textDays: config.retention.textDays,
+        notificationDays: config.retention.notificationDays,
+        logger,
+      });
+      await sweeper.start();
+      return sweeper;
+    },
+    (sw) => sw.stop(),
+  );
 
   const sources = [...(opts.demo ? [DEMO_FEEDS] : []), ...(opts.replay ?? [])];
-  const replay =
-    sources.length === 0
-      ? Promise.resolve()
-      : (async () => {
-          status.state = 'replaying';
-          process.stdout.write(
-            `Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`,
-          );
-          const summary = await intake.exclusive(() =>
-            runSources(
-              rt,
-              sources,
-              { signal: stopping },
-              {
-                onRead: (total) => {
-                  status.total = total;
-                },
-                onOutcome: (o, done) => {
-                  status.processed = done;
-                  if (o.status === 'stored') status.stored++;
-                  if (o.status === 'rejected') status.rejected++;
-                },
-              },
-            ),
-          );
-          status.state = 'finished';
-          process.stdout.write(
-            `${formatSummary(summary)}\n${stopping.aborted ? 'Replay stopped' : `Replay finished; still serving on ${shown}/ (Ctrl+C to stop)`}\n`,
-          );
-        })().catch((err: unknown) => {
-          status.state = 'finished';
-          logger.error({ err }, 'replay failed');
-        });
+  if (sources.length) {
+    const replay = (async () => {
+      status.state = 'replaying';
+      process.stdout.write(
+        `Replaying ${sources.join(', ')} into ${config.store.kind === 'redis' ? `Redis partition ${config.store.redis.partition}` : config.store.path} …\n`,
+      );
+      const summary = await intake.exclusive(() =>
+        runSources(
+          rt,
+          sources,
+          { signal: stopping },
+          {
+            onRead: (total) => {
+              status.total = total;
+            },
+            onOutcome: (o, done) => {
+              status.processed = done;
+              if (o.status === 'stored') status.stored++;
+              if (o.status === 'rejected') status.rejected++;
+            },
+          },
+        ),
+      );
+      status.state = 'finished';
+      process.stdout.write(
+        `${formatSummary(summary)}\n${stopping.aborted ? 'Replay stopped' : `Replay finished; still serving on ${shown}/ (Ctrl+C to stop)`}\n`,
+      );
+    })().catch((err: unknown) => {
+      status.state = 'finished';
+      logger.error({ err }, 'replay failed');
+    });
+    // The signal aborts the replay; stopping waits for it to wind down.
+    await parts.add(
+      'replay',
+      () => replay,
+      () => replay,
+    );
+  }
 
   await requested;
   process.stdout.write('stopping…\n');
-  await sweeper.stop();
-  await replay;
-  await poller?.stop();
-  await intake.idle();
-  await dispatcher.stop();
-  await app.close();
-  if (apiStore !== rt.store) await apiStore.close();
-  await rt.close();
+  await parts.stop();
 }
 
-/** Loads the feed list and starts polling, unless poll.enabled is off. */
-async function startPoller(
+/** A poller with the feed list loaded (from the store and the configuration), not yet polling; null when poll.enabled is off. */
+async function loadPoller(
   config: Readonly<Config>,
   logger: Logger,
   store: Store,
@@ -161,6 +207,11 @@ async function startPoller(
   if (!config.poll.enabled) return null;
   const poller = new FeedPoller({ store, submit, limits: config.ingest, options: config.poll, logger, ...(polls ? { polls } : {}) });
   await poller.load(config.poll.feeds);
+  return poller;
+}
+
+/** Starts polling and says how many feeds. */
+function startPolling(poller: FeedPoller): FeedPoller {
   poller.start();
   const n = poller.list().length;
   if (n) process.stdout.write(`Polling ${n} feed(s) (GET /api/feeds for their health)\n`);
@@ -170,22 +221,33 @@ async function startPoller(
 /** `--role worker` or `--role linker`: no HTTP; runs until a signal. */
 async function serveQueueRole(config: Readonly<Config>, logger: Logger, requested: Promise<unknown>): Promise<void> {
   const role = config.process.role;
-  let stopRole: () => Promise<void>;
+  const parts = new ServiceStack(logger);
   if (role === 'worker') {
-    stopRole = (await startWorker(config, logger)).stop;
+    await parts.add(
+      'worker',
+      () => startWorker(config, logger),
+      (w) => w.stop(),
+    );
   } else {
-    const running = await startLinker(config, logger);
-    const dispatcher = new WebhookDispatcher({ store: running.runtime.store, config: config.webhooks, logger });
-    dispatcher.start();
-    stopRole = async () => {
-      await dispatcher.stop();
-      await running.stop();
-    };
+    const running = await parts.add(
+      'linker',
+      () => startLinker(config, logger),
+      (l) => l.stop(),
+    );
+    await parts.add(
+      'webhook dispatcher',
+      () => {
+        const d = new WebhookDispatcher({ store: running.runtime.store, config: config.webhooks, logger });
+        d.start();
+        return d;
+      },
+      (d) => d.stop(),
+    );
   }
   process.stdout.write(`Strandline ${role} running on Redis partition ${config.store.redis.partition} (Ctrl+C to stop)\n`);
   await requested;
   process.stdout.write('stopping…\n');
-  await stopRole();
+  await parts.stop();
 }
 
 /** `--role api`: queries and the page over the shared store; feeds given to it are queued for the workers. */
@@ -195,27 +257,56 @@ async function serveApiRole(
   sources: readonly string[],
   requested: Promise<unknown>,
 ): Promise<void> {
+  const parts = new ServiceStack(logger);
   // Fail fast: while Redis is away, requests are answered 503 at once rather than left hanging.
-  const store = await openStore(config.store, logger, { failFast: true });
-  const queue = await openQueue(config, logger, { failFast: true });
+  const store = await parts.add(
+    'store',
+    () => openStore(config.store, logger, { failFast: true }),
+    (st) => st.close(),
+  );
+  const queue = await parts.add(
+    'queue',
+    () => openQueue(config, logger, { failFast: true }),
+    (q) => q.close(),
+  );
   const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
   // A push is queued whole or not at all (its client is told one or the other).
   const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a, { atomic: true }));
   // Every api process serves the feeds; the one holding the partition's poll lease polls them.
-  const lease = new Lease(queue.redis, keyspace(config.store.redis.partition).pollLease, 'feed poller', logger);
-  if (config.poll.enabled) await lease.start();
-  const poller = await startPoller(config, logger, store, submit, () => lease.held);
-  const app = await buildApp({
-    store,
-    logger,
-    version: version(),
-    ingestStatus: () => status,
-    queue,
-    push: { submit, limits: config.ingest },
-    feeds: poller ?? undefined,
-    auth: config.server,
-  });
-  const address = await listenOn(app, config);
+  const lease = await parts.add(
+    'poll lease',
+    async () => {
+      const l = new Lease(queue.redis, keyspace(config.store.redis.partition).pollLease, 'feed poller', logger);
+      if (config.poll.enabled) await l.start();
+      return l;
+    },
+    (l) => l.stop(),
+  );
+  const poller = await loadPoller(config, logger, store, submit, () => lease.held);
+  if (poller)
+    await parts.add(
+      'poller',
+      () => startPolling(poller),
+      (p) => p.stop(),
+    );
+  const { address } = await parts.add(
+    'server',
+    () =>
+      listening(
+        buildApp({
+          store,
+          logger,
+          version: version(),
+          ingestStatus: () => status,
+          queue,
+          push: { submit, limits: config.ingest },
+          feeds: poller ?? undefined,
+          auth: config.server,
+        }),
+        config,
+      ),
+    (s) => s.app.close(),
+  );
   warnIfOpen(config, logger);
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
@@ -227,11 +318,7 @@ async function serveApiRole(
   }
   await requested;
   process.stdout.write('stopping…\n');
-  await poller?.stop();
-  await lease.stop();
-  await app.close();
-  queue.close();
-  await store.close();
+  await parts.stop();
 }
 
 /** Says so when the API listens beyond this machine with nothing checked. */
@@ -242,6 +329,20 @@ function warnIfOpen(config: Readonly<Config>, logger: Logger): void {
     { host },
     'the API listens beyond this machine without server.tokens: anyone who can reach it can push articles and change feeds',
   );
+}
+
+/** The app, listening; closed again when it cannot listen. */
+async function listening<A extends { listen(o: { host: string; port: number }): Promise<string>; close(): Promise<unknown> }>(
+  building: Promise<A>,
+  config: Readonly<Config>,
+): Promise<{ app: A; address: string }> {
+  const app = await building;
+  try {
+    return { app, address: await listenOn(app, config) };
+  } catch (err) {
+    await app.close();
+    throw err;
+  }
 }
 
 /** Starts listening; a port in use or not allowed is one clear line, naming how to choose another. */
