@@ -7,7 +7,7 @@
  */
 import type { Config } from '../config/schema.js';
 import type { Article } from '../records.js';
-import type { Store } from '../store/store.js';
+import type { ArticleLog } from '../store/store.js';
 import { type CopyMatch, CopyIndex } from './copy-index.js';
 import { shingles, sketch } from './minhash.js';
 
@@ -41,7 +41,7 @@ export class CopyDetector {
   }
 
   /** Rebuilds the index from the store's recent sketches. */
-  async load(store: Store): Promise<void> {
+  async load(store: Pick<ArticleLog, 'recentSketches'>): Promise<void> {
     this.index.clear();
     this.pending.clear();
     if (!this.o.near) return;

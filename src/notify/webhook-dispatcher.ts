@@ -13,7 +13,7 @@ import type { Config, Subscriber } from '../config/schema.js';
 import { describeError } from '../errors.js';
 import { NetworkGuard, WEBHOOK_NAMES } from '../ingest/network-guard.js';
 import type { Logger } from '../logger.js';
-import type { Delivery, Store } from '../store/store.js';
+import type { Delivery, Outbox } from '../store/store.js';
 import { signWebhook } from './sign-webhook.js';
 
 /** The fetch the dispatcher calls: undici's, with the address-guarded agent as dispatcher. */
@@ -24,7 +24,7 @@ export type DeliveryFetch = (
 
 /** Injected so tests control time, chance and the network. */
 export interface DispatcherDeps {
-  store: Store;
+  store: Outbox;
   config: Readonly<Config['webhooks']>;
   logger: Logger;
   now?: () => Date;

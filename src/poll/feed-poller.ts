@@ -13,7 +13,7 @@ import { fetchFullText } from '../ingest/fetch-full-text.js';
 import { contentHash } from '../ingest/to-article.js';
 import type { Logger } from '../logger.js';
 import type { Article } from '../records.js';
-import type { FeedEntry, FeedState, Store } from '../store/store.js';
+import type { FeedEntry, FeedState, FeedRegistry, ArticleLog } from '../store/store.js';
 import { backoffMs, retryAfterMs } from './schedule.js';
 
 /** Polling settings (config `poll`). */
@@ -35,7 +35,7 @@ export interface FeedRequest {
 
 /** What the poller needs. */
 export interface PollerDeps {
-  store: Store;
+  store: FeedRegistry & Pick<ArticleLog, 'hasArticle'>;
   /** Takes new articles (the local pipeline, or the Redis intake stream). */
   submit: (articles: readonly Article[]) => Promise<void>;
   limits: ReadLimits;

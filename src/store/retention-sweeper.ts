@@ -9,11 +9,11 @@
  */
 import type { Logger } from '../logger.js';
 import { addDays, dayOf } from '../text/days.js';
-import type { Store } from './store.js';
+import type { Outbox, Retention } from './store.js';
 
 /** What the sweeper needs. */
 export interface RetentionSweeperDeps {
-  store: Pick<Store, 'eraseTextBefore' | 'compact' | 'pruneNotifications'>;
+  store: Pick<Retention, 'eraseTextBefore' | 'compact'> & Pick<Outbox, 'pruneNotifications'>;
   /** Days of text to keep; null keeps it all. */
   textDays: number | null;
   /** Days to keep settled notifications; null keeps them all. With both null the sweeper does nothing. */

@@ -342,8 +342,8 @@ export interface Delivery {
   lastError: string | null;
 }
 
-/** The storage contract. */
-export interface Store {
+/** The articles as committed: admission's lookups and the commits of the link stage, one transaction per group. */
+export interface ArticleLog {
   /** True when an article with this id is stored. */
   hasArticle(id: string): Promise<boolean>;
   /** Id of the stored article whose URL has this canonical form (canonical-url.ts), if any. */
@@ -354,6 +354,15 @@ export interface Store {
   commitArticle(c: ArticleCommit): Promise<CommitResult>;
   /** Commits several articles in one transaction (all or none), each as commitArticle would. */
   commitArticles(cs: readonly ArticleCommit[]): Promise<CommitResult[]>;
+  /**
+   * MinHash sketches of the articles published (or fetched) within `days` before the newest
+   * stored one, oldest first, with their time in ms (to rebuild the copy index).
+   */
+  recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]>;
+}
+
+/** What linking and consolidation read and write besides article commits: event and story states, merges and splits. */
+export interface LinkingState {
   /** Merges one event into another: links move, the absorbed event leaves, the merge is recorded. */
   commitMerge(m: MergeCommit): Promise<void>;
   /** Moves part of an event's mentions to a new event; both events' states are written, the split is recorded. */
@@ -372,8 +381,6 @@ export interface Store {
    * per sentence, so the merged state must count these once.
    */
   linkedToBoth(a: string, b: string): Promise<SharedMention[]>;
-  /** Splits an event took part in, oldest first. */
-  splitsOf(eventId: string): Promise<SplitRecord[]>;
   /** Events linked from the last `articles` stored articles (consolidation's working set). */
   recentEventIds(articles: number): Promise<string[]>;
   /**
@@ -382,18 +389,14 @@ export interface Store {
    * from the linker's memory.
    */
   eventLabels(ids: readonly string[]): Promise<Map<string, string>>;
-  /** The event an absorbed event now lives in (following chains), or null. */
-  mergedInto(id: string): Promise<string | null>;
-  /** Merges into an event, oldest first. */
-  mergesInto(id: string): Promise<MergeRecord[]>;
   /** Merges one story into another: its articles and events move, it leaves, the merge is recorded. */
   commitStoryMerge(m: StoryMergeCommit): Promise<void>;
   /** The stories the last `articles` stored articles joined (after merges), most recent first. */
   recentStoryIds(articles: number): Promise<string[]>;
-  /** The story a merged-away story now lives in (following chains), or null. */
-  storyMergedInto(id: string): Promise<string | null>;
-  listStories(q: StoryQuery): Promise<StoryPage>;
-  getStory(id: string): Promise<StoryDetail | null>;
+}
+
+/** What a starting linker reads back, and the vector space the store is bound to. */
+export interface LinkerSnapshots {
   /** Everything the linker and embedder need to resume. */
   loadLinkerState(): Promise<LinkerSnapshot>;
   /**
@@ -401,12 +404,30 @@ export interface Store {
    * is recorded already; returns the one recorded (the given one, or the earlier one).
    */
   claimVectorSpace(space: string): Promise<string>;
+}
+
+/** What the API and the commands read: events, stories, articles, outlets and counts. */
+export interface EventQueries {
   listEvents(q: EventQuery): Promise<EventPage>;
   getEvent(id: string): Promise<EventDetail | null>;
+  /** Splits an event took part in, oldest first. */
+  splitsOf(eventId: string): Promise<SplitRecord[]>;
+  /** The event an absorbed event now lives in (following chains), or null. */
+  mergedInto(id: string): Promise<string | null>;
+  /** Merges into an event, oldest first. */
+  mergesInto(id: string): Promise<MergeRecord[]>;
+  listStories(q: StoryQuery): Promise<StoryPage>;
+  getStory(id: string): Promise<StoryDetail | null>;
+  /** The story a merged-away story now lives in (following chains), or null. */
+  storyMergedInto(id: string): Promise<string | null>;
   getArticle(id: string): Promise<ArticleDetail | null>;
   /** Outlets with their article counts. */
   listOutlets(): Promise<{ outlet: string; articles: number }[]>;
   counts(): Promise<StoreCounts>;
+}
+
+/** Notifications waiting for delivery, their attempts and their pruning. */
+export interface Outbox {
   /** Pending deliveries due at or before `now`, oldest first, leaving out those to the subscribers in `skip`. */
   dueDeliveries(now: string, limit: number, skip?: readonly string[]): Promise<Delivery[]>;
   /** Records the outcome of one delivery attempt. */
@@ -424,11 +445,10 @@ export interface Store {
    * notifications are never touched. Returns how many notifications left.
    */
   pruneNotifications(before: string): Promise<number>;
-  /**
-   * MinHash sketches of the articles published (or fetched) within `days` before the newest
-   * stored one, oldest first, with their time in ms (to rebuild the copy index).
-   */
-  recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]>;
+}
+
+/** The polled feeds and their state, shared by every api process. */
+export interface FeedRegistry {
   /** Every polled feed, in the order added. */
   listFeeds(): Promise<FeedEntry[]>;
   /** Adds or replaces one polled feed. */
@@ -441,6 +461,10 @@ export interface Store {
   updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null>;
   /** Removes one polled feed; false when there was none. */
   deleteFeed(id: string): Promise<boolean>;
+}
+
+/** Erasing stored text on the operator's say, and compacting what it leaves. */
+export interface Retention {
   /** Erases article and sentence text of articles published before `day`; returns how many articles. */
   eraseTextBefore(day: string): Promise<number>;
   /** Erases one article's stored text (body, sentences, labels drawn from them); links stay. */
@@ -451,6 +475,10 @@ export interface Store {
    * proportion to the store's size; callers run it after erasures, not after every one.
    */
   compact(): Promise<void>;
+}
+
+/** The connection itself. */
+export interface StoreConnection {
   /**
    * True when the store cannot be reached now (Redis down or reconnecting), or when `err`
    * (from one of this store's calls) says so; the API then answers 503 at once. Always
@@ -459,3 +487,10 @@ export interface Store {
   unavailable(err?: unknown): boolean;
   close(): Promise<void>;
 }
+
+/**
+ * The storage contract: every store (SQLite, Redis, Redis Cluster) implements all of it, and
+ * `test/contract/store-contract.ts` holds each to it. A part of the program that needs one
+ * concern takes that narrower interface.
+ */
+export interface Store extends ArticleLog, LinkingState, LinkerSnapshots, EventQueries, Outbox, FeedRegistry, Retention, StoreConnection {}

@@ -1,7 +1,7 @@
 /** Routes: list events, one event with its mentions grouped by outlet and its timeline. */
 import type { FastifyInstance } from 'fastify';
 import { StrandError } from '../../errors.js';
-import type { EventMention, Store } from '../../store/store.js';
+import type { EventMention, EventQueries } from '../../store/store.js';
 import { CAUTION, getEventSchema, listEventsSchema } from '../schemas.js';
 
 interface ListQuery {
@@ -17,7 +17,7 @@ interface ListQuery {
 }
 
 /** Registers /api/events and /api/events/:id. */
-export function registerEventRoutes(app: FastifyInstance, store: Store): void {
+export function registerEventRoutes(app: FastifyInstance, store: EventQueries): void {
   app.get<{ Querystring: ListQuery }>('/api/events', { schema: listEventsSchema }, async (req) => {
     const q = req.query;
     const page = await store.listEvents({

@@ -2,7 +2,7 @@
 import type { FastifyInstance } from 'fastify';
 import { readPushedItems, splitPushedBody } from '../../ingest/read-pushed.js';
 import type { Article } from '../../records.js';
-import type { Store } from '../../store/store.js';
+import type { ArticleLog } from '../../store/store.js';
 import { pushSchema } from '../schemas.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
 
@@ -30,7 +30,7 @@ interface ItemResult {
 
 export function registerPushRoute(
   app: FastifyInstance,
-  deps: { store: Store; submit: SubmitArticles; limits: PushLimits; now: () => Date },
+  deps: { store: Pick<ArticleLog, 'hasArticle' | 'findByUrl'>; submit: SubmitArticles; limits: PushLimits; now: () => Date },
 ): void {
   const { limits } = deps;
   app.addContentTypeParser('application/x-ndjson', { parseAs: 'string', bodyLimit: limits.maxPushBytes }, (_req, body, done) =>

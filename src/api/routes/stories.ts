@@ -1,7 +1,7 @@
 /** Routes: list stories, one story with its events, its articles by outlet and its timeline. */
 import type { FastifyInstance } from 'fastify';
 import { StrandError } from '../../errors.js';
-import type { EventSummary, StoryArticleRow, Store } from '../../store/store.js';
+import type { EventSummary, StoryArticleRow, EventQueries } from '../../store/store.js';
 import { CAUTION, getStorySchema, listStoriesSchema } from '../schemas.js';
 
 interface ListQuery {
@@ -16,7 +16,7 @@ interface ListQuery {
 }
 
 /** Registers /api/stories and /api/stories/:id. */
-export function registerStoryRoutes(app: FastifyInstance, store: Store): void {
+export function registerStoryRoutes(app: FastifyInstance, store: EventQueries): void {
   app.get<{ Querystring: ListQuery }>('/api/stories', { schema: listStoriesSchema }, async (req) => {
     const q = req.query;
     const page = await store.listStories({
