@@ -12,6 +12,8 @@ import { estimateJaccard, fmix32 } from './minhash.js';
 
 const BANDS = 42;
 const ROWS = 3;
+/** Entries read per band bucket at most, newest first. */
+const BUCKET_SCAN = 64;
 
 /** Settings (config `copies`). */
 export interface CopyOptions {
@@ -64,7 +66,14 @@ export class CopyIndex {
     let best: (CopyMatch & { time: number }) | null = null;
     const seen = new Set<string>();
     for (const key of keys) {
-      for (const e of this.buckets.get(key) ?? []) {
+      const bucket = this.buckets.get(key);
+      if (!bucket) continue;
+      // Newest first, and at most BUCKET_SCAN of them: a band shared by thousands of articles
+      // (boilerplate every item of a feed repeats) would otherwise make admission quadratic.
+      // A copy's original is recent, and a true copy shares most of its 42 bands, so it is
+      // met in another band if this one is crowded.
+      for (let i = bucket.length - 1, scanned = 0; i >= 0 && scanned < BUCKET_SCAN; i--, scanned++) {
+        const e = bucket[i]!;
         if (seen.has(e.id) || Math.abs(e.time - time) > window) continue;
         seen.add(e.id);
         const similarity = estimateJaccard(sketch, e.sketch);

@@ -93,7 +93,22 @@ export function addArticle(s: StoryState, a: StoryArticle, centroidTerms: number
     if (cur) cur[1]++;
     else s.names.set(k, [name, 1]);
   }
+  trimNames(s);
   s.version++;
+}
+
+/** Names a story keeps (its most given); a long story otherwise carries every name it ever met. */
+const NAMES_KEPT = 128;
+
+/**
+ * Keeps the story's NAMES_KEPT most given names once it holds twice as many (ties by key, so
+ * a resumed linker trims alike): cloning and indexing a story then cost the same however
+ * long it runs, and a name given once in a thousand articles is no evidence of the story.
+ */
+function trimNames(s: StoryState): void {
+  if (s.names.size <= 2 * NAMES_KEPT) return;
+  const kept = [...s.names].sort((a, b) => b[1][1] - a[1][1] || (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0)).slice(0, NAMES_KEPT);
+  s.names = new Map(kept);
 }
 
 /** The union of two stories under the id of `into`. */
@@ -120,6 +135,7 @@ export function mergeStories(into: StoryState, from: StoryState, centroidTerms: 
     m.outlets.set(k, [cur[0] + a, cur[1] + b]);
   }
   for (const [k, [surface, n]] of from.names) m.names.set(k, [m.names.get(k)?.[0] ?? surface, (m.names.get(k)?.[1] ?? 0) + n]);
+  trimNames(m);
   m.version++;
   return m;
 }
