@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
 import { DEMO_FEEDS } from '../../src/cli/common.js';
 import { CopyIndex } from '../../src/copies/copy-index.js';
-import { buildPairSet } from '../../src/copies/pair-set.js';
+import { buildPairSet } from '../helpers/pair-set.js';
 import { shingles, sketch } from '../../src/copies/minhash.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 import type { Article } from '../../src/records.js';
