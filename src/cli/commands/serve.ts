@@ -183,11 +183,11 @@ async function serveAll(
       status.state = 'finished';
       logger.error({ err }, 'replay failed');
     });
-    // The signal aborts the replay; stopping waits for it to wind down.
+    // Runs while the server serves; the signal aborts it, and stopping waits for it to wind down.
     await parts.add(
       'replay',
-      () => replay,
-      () => replay,
+      () => ({ running: replay }),
+      (r) => r.running,
     );
   }
 
