@@ -23,7 +23,7 @@ export interface StopRequest {
 
 /** What the process does when the grace period runs out; injected by tests. */
 export interface StopOptions {
-  /** Time from the first signal to a forced exit, ms. Default 4,500 (every command ends within 5 s). */
+  /** Time from the first signal to a forced exit, ms. Default 4,000: every command ends within 5 s, with a second to spare for the exit itself on a loaded machine. */
   graceMs?: number;
   write?: (line: string) => void;
   exit?: (code: number) => void;
@@ -38,7 +38,7 @@ export function listenForStop(what: string, o: StopOptions = {}): StopRequest {
   const source = o.source ?? process;
   const write = o.write ?? ((line: string) => process.stderr.write(`${line}\n`));
   const exit = o.exit ?? ((code: number) => process.exit(code));
-  const graceMs = o.graceMs ?? 4_500;
+  const graceMs = o.graceMs ?? 4_000;
   const controller = new AbortController();
   let received: NodeJS.Signals | null = null;
   let timer: NodeJS.Timeout | null = null;

@@ -6,7 +6,7 @@ afterEach(() => {
   vi.useRealTimers();
 });
 
-function harness(graceMs = 4500) {
+function harness(graceMs = 4000) {
   const source = new EventEmitter();
   const lines: string[] = [];
   const exits: number[] = [];
