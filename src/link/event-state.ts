@@ -267,26 +267,7 @@ export function serialiseEvent(e: EventState): Buffer {
       dense: e.dense ? e.dense.length : 0,
     }),
   );
-  const n = e.sparse.size;
-  const body = Buffer.alloc(4 + header.length + n * 12 + (e.dense ? e.dense.length * 8 : 0));
-  body.writeUInt32LE(header.length, 0);
-  header.copy(body, 4);
-  let at = 4 + header.length;
-  // Features then values; values as float64 so a restart resumes bit-for-bit.
-  for (const f of e.sparse.keys()) {
-    body.writeUInt32LE(f, at);
-    at += 4;
-  }
-  for (const v of e.sparse.values()) {
-    body.writeDoubleLE(v, at);
-    at += 8;
-  }
-  if (e.dense)
-    for (const v of e.dense) {
-      body.writeDoubleLE(v, at);
-      at += 8;
-    }
-  return body;
+  return encodeCentroid(header, e);
 }
 
 /** Inverse of serialiseEvent. */
@@ -313,25 +294,7 @@ export function deserialiseEvent(buf: Uint8Array): EventState {
     sparse: number;
     dense: number;
   };
-  let at = 4 + hlen;
-  const keys: number[] = [];
-  for (let i = 0; i < h.sparse; i++) {
-    keys.push(b.readUInt32LE(at));
-    at += 4;
-  }
-  const sparse = new Map<number, number>();
-  for (let i = 0; i < h.sparse; i++) {
-    sparse.set(keys[i]!, b.readDoubleLE(at));
-    at += 8;
-  }
-  let dense: Float64Array | null = null;
-  if (h.dense > 0) {
-    dense = new Float64Array(h.dense);
-    for (let i = 0; i < h.dense; i++) {
-      dense[i] = b.readDoubleLE(at);
-      at += 8;
-    }
-  }
+  const { sparse, dense } = decodeCentroid(b, 4 + hlen, h.sparse, h.dense);
   return {
     // States written before labels left the header still carry one.
     id: h.id,
@@ -452,4 +415,53 @@ export function topTermFeatures(e: Centroid, n: number): number[] {
     weights[i] = w;
   }
   return features;
+}
+
+/**
+ * The byte layout of an event's or a story's state: a 4-byte header length, the JSON header,
+ * the sparse centroid's features (uint32) then its values, then the dense centroid, values as
+ * float64 so a restart resumes bit-for-bit. The header must carry `sparse` and `dense`: the sizes.
+ */
+export function encodeCentroid(header: Buffer, c: Pick<Centroid, 'sparse' | 'dense'>): Buffer {
+  const body = Buffer.alloc(4 + header.length + c.sparse.size * 12 + (c.dense ? c.dense.length * 8 : 0));
+  body.writeUInt32LE(header.length, 0);
+  header.copy(body, 4);
+  let at = 4 + header.length;
+  for (const f of c.sparse.keys()) {
+    body.writeUInt32LE(f, at);
+    at += 4;
+  }
+  for (const v of c.sparse.values()) {
+    body.writeDoubleLE(v, at);
+    at += 8;
+  }
+  if (c.dense)
+    for (const v of c.dense) {
+      body.writeDoubleLE(v, at);
+      at += 8;
+    }
+  return body;
+}
+
+/** Reads the centroid arrays encodeCentroid wrote after the header (at `at`, with the header's sizes). */
+export function decodeCentroid(b: Buffer, at: number, sparseSize: number, denseSize: number): Pick<Centroid, 'sparse' | 'dense'> {
+  const keys: number[] = [];
+  for (let i = 0; i < sparseSize; i++) {
+    keys.push(b.readUInt32LE(at));
+    at += 4;
+  }
+  const sparse = new Map<number, number>();
+  for (let i = 0; i < sparseSize; i++) {
+    sparse.set(keys[i]!, b.readDoubleLE(at));
+    at += 8;
+  }
+  let dense: Float64Array | null = null;
+  if (denseSize > 0) {
+    dense = new Float64Array(denseSize);
+    for (let i = 0; i < denseSize; i++) {
+      dense[i] = b.readDoubleLE(at);
+      at += 8;
+    }
+  }
+  return { sparse, dense };
 }

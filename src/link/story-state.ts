@@ -6,7 +6,7 @@
  */
 import { createHash } from 'node:crypto';
 import type { Vector } from '../records.js';
-import { type Centroid, addVector, nameKey } from './event-state.js';
+import { type Centroid, addVector, decodeCentroid, encodeCentroid, nameKey } from './event-state.js';
 
 /** What one article brings to its story. */
 export interface StoryArticle {
@@ -187,24 +187,7 @@ export function serialiseStory(s: StoryState): Buffer {
       dense: s.dense ? s.dense.length : 0,
     }),
   );
-  const body = Buffer.alloc(4 + header.length + s.sparse.size * 12 + (s.dense ? s.dense.length * 8 : 0));
-  body.writeUInt32LE(header.length, 0);
-  header.copy(body, 4);
-  let at = 4 + header.length;
-  for (const f of s.sparse.keys()) {
-    body.writeUInt32LE(f, at);
-    at += 4;
-  }
-  for (const v of s.sparse.values()) {
-    body.writeDoubleLE(v, at);
-    at += 8;
-  }
-  if (s.dense)
-    for (const v of s.dense) {
-      body.writeDoubleLE(v, at);
-      at += 8;
-    }
-  return body;
+  return encodeCentroid(header, s);
 }
 
 /** Inverse of serialiseStory. */
@@ -225,25 +208,7 @@ export function deserialiseStory(buf: Uint8Array): StoryState {
     sparse: number;
     dense: number;
   };
-  let at = 4 + hlen;
-  const keys: number[] = [];
-  for (let i = 0; i < h.sparse; i++) {
-    keys.push(b.readUInt32LE(at));
-    at += 4;
-  }
-  const sparse = new Map<number, number>();
-  for (let i = 0; i < h.sparse; i++) {
-    sparse.set(keys[i]!, b.readDoubleLE(at));
-    at += 8;
-  }
-  let dense: Float64Array | null = null;
-  if (h.dense > 0) {
-    dense = new Float64Array(h.dense);
-    for (let i = 0; i < h.dense; i++) {
-      dense[i] = b.readDoubleLE(at);
-      at += 8;
-    }
-  }
+  const { sparse, dense } = decodeCentroid(b, 4 + hlen, h.sparse, h.dense);
   return {
     id: h.id,
     label: h.label,
