@@ -262,19 +262,11 @@ export class RedisStore implements Store {
       .map((w) => w.toLowerCase());
     if (words.length) {
       const titles = await Promise.all(stories.map(async (s) => (await this.storyArticles(s.id)).map((a) => a.title)));
-      stories = stories.filter((s, i) => {
-        const hay = [s.label, ...s.names, ...titles[i]!].map((t) => t.toLowerCase());
-        return words.every((w) => hay.some((t) => t.includes(w)));
-      });
+      stories = stories.filter((s, i) => hasEveryWord(words, [s.label, ...s.names, ...titles[i]!]));
     }
-    const byRecent = (a: StorySummary, b: StorySummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
-    const order =
-      q.sort === 'outlets'
-        ? (a: StorySummary, b: StorySummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
-        : q.sort === 'articles'
-          ? (a: StorySummary, b: StorySummary) => b.articleCount - a.articleCount || byRecent(a, b)
-          : byRecent;
-    stories.sort(order);
+    stories.sort(
+      listOrder<StorySummary>(q.sort === 'outlets' ? (x) => x.outlets.length : q.sort === 'articles' ? (x) => x.articleCount : null),
+    );
     return { total: stories.length, stories: stories.slice(q.offset, q.offset + q.limit) };
   }
 
@@ -508,19 +500,11 @@ export class RedisStore implements Store {
     if (words.length) {
       const texts = (await this.pipelined(events, (p, e) => p.smembers(this.k.eventLinks(e.id)))) as string[][];
       const sentenceTexts = await Promise.all(texts.map((members) => this.sentenceTexts(members)));
-      events = events.filter((e, i) => {
-        const hay = [e.label, ...sentenceTexts[i]!].map((t) => t.toLowerCase());
-        return words.every((w) => hay.some((t) => t.includes(w)));
-      });
+      events = events.filter((e, i) => hasEveryWord(words, [e.label, ...sentenceTexts[i]!]));
     }
-    const byRecent = (a: EventSummary, b: EventSummary) => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
-    const order =
-      q.sort === 'outlets'
-        ? (a: EventSummary, b: EventSummary) => b.outlets.length - a.outlets.length || byRecent(a, b)
-        : q.sort === 'mentions'
-          ? (a: EventSummary, b: EventSummary) => b.mentionCount - a.mentionCount || byRecent(a, b)
-          : byRecent;
-    events.sort(order);
+    events.sort(
+      listOrder<EventSummary>(q.sort === 'outlets' ? (x) => x.outlets.length : q.sort === 'mentions' ? (x) => x.mentionCount : null),
+    );
     return { total: events.length, events: events.slice(q.offset, q.offset + q.limit) };
   }
 
@@ -942,4 +926,16 @@ function splitMember(m: string): [string, string] {
 
 function cmp(a: string, b: string): number {
   return a < b ? -1 : a > b ? 1 : 0;
+}
+
+/** True when every (lower-case) word is part of one of the texts: the in-process text filter of the lists. */
+function hasEveryWord(words: readonly string[], texts: readonly string[]): boolean {
+  const hay = texts.map((t) => t.toLowerCase());
+  return words.every((w) => hay.some((t) => t.includes(w)));
+}
+
+/** The order of a list: by a count, largest first, then (or else) most recently active first, then id. */
+function listOrder<T extends { lastSeen: string; id: string }>(count: ((x: T) => number) | null): (a: T, b: T) => number {
+  const byRecent = (a: T, b: T): number => cmp(b.lastSeen, a.lastSeen) || cmp(a.id, b.id);
+  return count ? (a, b) => count(b) - count(a) || byRecent(a, b) : byRecent;
 }
