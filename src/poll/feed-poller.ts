@@ -13,7 +13,7 @@ import { fetchFullText } from '../ingest/fetch-full-text.js';
 import { contentHash } from '../ingest/to-article.js';
 import type { Logger } from '../logger.js';
 import type { Article } from '../records.js';
-import type { FeedEntry, FeedState, FeedRegistry, ArticleLog } from '../store/store.js';
+import { type ArticleLog, type FeedEntry, type FeedRegistry, type FeedState, newFeedState } from '../store/store.js';
 import { backoffMs, retryAfterMs } from './schedule.js';
 
 /** Polling settings (config `poll`). */
@@ -393,22 +393,7 @@ export class FeedPoller {
       paused: false,
       origin,
       added: now,
-      state: {
-        etag: null,
-        lastModified: null,
-        nextPollAt: now,
-        lastPollAt: null,
-        lastSuccessAt: null,
-        lastStatus: null,
-        lastError: null,
-        failures: 0,
-        requests: 0,
-        notModified: 0,
-        bytes: 0,
-        itemsSeen: 0,
-        itemsNew: 0,
-        delaysMs: [],
-      },
+      state: newFeedState(now),
     };
   }
 

@@ -182,6 +182,26 @@ export interface FeedState {
   delaysMs: number[];
 }
 
+/** The state of a feed never polled yet, first due at `nextPollAt`. */
+export function newFeedState(nextPollAt: string): FeedState {
+  return {
+    etag: null,
+    lastModified: null,
+    nextPollAt,
+    lastPollAt: null,
+    lastSuccessAt: null,
+    lastStatus: null,
+    lastError: null,
+    failures: 0,
+    requests: 0,
+    notModified: 0,
+    bytes: 0,
+    itemsSeen: 0,
+    itemsNew: 0,
+    delaysMs: [],
+  };
+}
+
 /** Linker state as persisted. */
 export interface LinkerSnapshot {
   events: Uint8Array[];

@@ -15,7 +15,7 @@ import {
 } from '../../src/link/event-state.js';
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
-import type { ArticleCommit, OutboxMessage, Store } from '../../src/store/store.js';
+import { type ArticleCommit, type OutboxMessage, type Store, newFeedState } from '../../src/store/store.js';
 
 const embedder = new TfidfEmbedder(16);
 
@@ -745,22 +745,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         paused: false,
         origin: 'api' as const,
         added,
-        state: {
-          etag: null,
-          lastModified: null,
-          nextPollAt: added,
-          lastPollAt: null,
-          lastSuccessAt: null,
-          lastStatus: null,
-          lastError: null,
-          failures: 0,
-          requests: 0,
-          notModified: 0,
-          bytes: 0,
-          itemsSeen: 0,
-          itemsNew: 0,
-          delaysMs: [],
-        },
+        state: newFeedState(added),
       });
       expect(await store.listFeeds()).toEqual([]);
       await store.putFeed(feed('fd_a', '2026-10-01T08:00:00.000Z'));
@@ -786,22 +771,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         paused: false,
         origin: 'api' as const,
         added: '2026-10-01T08:00:00.000Z',
-        state: {
-          etag: null,
-          lastModified: null,
-          nextPollAt: '2026-10-01T08:00:00.000Z',
-          lastPollAt: null,
-          lastSuccessAt: null,
-          lastStatus: null,
-          lastError: null,
-          failures: 0,
-          requests: 0,
-          notModified: 0,
-          bytes: 0,
-          itemsSeen: 0,
-          itemsNew: 0,
-          delaysMs: [],
-        },
+        state: newFeedState('2026-10-01T08:00:00.000Z'),
       };
       await store.putFeed(f);
       const paused = await store.updateFeed('fd_a', (cur) => ({ ...cur, paused: true }));

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { isStrandError } from '../../src/errors.js';
 import { keyspace } from '../../src/store/redis/keys.js';
 import { openRedisStore, redactUrl } from '../../src/store/redis/redis-store.js';
+import { newFeedState } from '../../src/store/store.js';
 import { commitFixture, describeStoreContract } from '../contract/store-contract.js';
 import { freshRedisStore, redisTestsRun } from '../helpers/redis.js';
 
@@ -62,22 +63,7 @@ describe.skipIf(!run)('the Redis store', () => {
     const a = await freshStore();
     const b = await openRedisStore({ url: REDIS_URL, partition: a.keys.prefix.replace(/^\{strandline:|\}$/g, '') });
     try {
-      const state = {
-        etag: null,
-        lastModified: null,
-        nextPollAt: '2026-10-01T08:00:00.000Z',
-        lastPollAt: null,
-        lastSuccessAt: null,
-        lastStatus: null,
-        lastError: null,
-        failures: 0,
-        requests: 0,
-        notModified: 0,
-        bytes: 0,
-        itemsSeen: 0,
-        itemsNew: 0,
-        delaysMs: [],
-      };
+      const state = newFeedState('2026-10-01T08:00:00.000Z');
       await a.putFeed({
         id: 'fd_a',
         url: 'https://fd-a.example/rss',
