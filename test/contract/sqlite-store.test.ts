@@ -2,6 +2,7 @@ import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { bareCommit } from '../helpers/bare-commit.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 import { isStrandError } from '../../src/errors.js';
 import { describeStoreContract } from './store-contract.js';
@@ -15,33 +16,19 @@ describe('document frequencies in the SQLite store', () => {
   it('folds per-article rows into a snapshot without changing the sums', async () => {
     const store = openSqliteStore(':memory:', { idfSnapshotEvery: 2 });
     for (let i = 0; i < 5; i++) {
-      await store.commitArticle({
-        article: {
-          id: `a${i}`,
-          outlet: 'O',
-          url: null,
-          title: 't',
-          published: null,
-          fetched: '2026-10-01T00:00:00.000Z',
-          language: null,
-          text: 'x',
-          contentHash: `h${i}`,
-          duplicateOf: null,
-          source: 's',
-        },
-        sentences: [],
-        mentions: [],
-        links: [],
-        events: [],
-        messages: [],
-        idf: {
-          docs: 3,
-          df: new Map([
-            [1, 1],
-            [i + 10, 2],
-          ]),
-        },
-      });
+      await store.commitArticle(
+        bareCommit(`a${i}`, {
+          commit: {
+            idf: {
+              docs: 3,
+              df: new Map([
+                [1, 1],
+                [i + 10, 2],
+              ]),
+            },
+          },
+        }),
+      );
     }
     const { idf } = await store.loadLinkerState();
     expect(idf.docs).toBe(15);

@@ -3,6 +3,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import Database from 'better-sqlite3';
 import { afterEach, describe, expect, it } from 'vitest';
+import { bareCommit } from '../helpers/bare-commit.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 import { startWalCheckpointer } from '../../src/store/sqlite/wal-checkpointer.js';
 import type { ArticleCommit } from '../../src/store/store.js';
@@ -21,27 +22,10 @@ afterEach(() => {
 });
 
 function article(i: number): ArticleCommit {
-  return {
-    article: {
-      id: `a${i}`,
-      outlet: 'Harbour Ledger',
-      url: null,
-      title: 't',
-      published: null,
-      fetched: '2026-10-01T00:00:00.000Z',
-      language: null,
-      text: 'x'.repeat(2000),
-      contentHash: `h${i}`,
-      duplicateOf: null,
-      source: 's',
-    },
-    sentences: [],
-    mentions: [],
-    links: [],
-    events: [],
-    messages: [],
-    idf: { docs: 0, df: new Map() },
-  };
+  return bareCommit(`a${i}`, {
+    article: { outlet: 'Harbour Ledger', text: 'x'.repeat(2000), contentHash: `h${i}` },
+    commit: { idf: { docs: 0, df: new Map() } },
+  });
 }
 
 /**

@@ -2,11 +2,11 @@ import { createServer, type IncomingMessage } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { Webhook } from 'standardwebhooks';
 import { afterEach, describe, expect, it } from 'vitest';
+import { bareCommit } from '../helpers/bare-commit.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { createLogger } from '../../src/logger.js';
 import { WebhookDispatcher, retryDelayMs } from '../../src/notify/webhook-dispatcher.js';
 import { openSqliteStore, type SqliteStore } from '../../src/store/sqlite/sqlite-store.js';
-import type { ArticleCommit } from '../../src/store/store.js';
 
 const SECRET = 'whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw';
 const open: { close(): unknown }[] = [];
@@ -15,27 +15,10 @@ afterEach(async () => {
 });
 
 function commitWithMessage(store: SqliteStore, created: string): Promise<unknown> {
-  const c: ArticleCommit = {
-    article: {
-      id: 'a1',
-      outlet: 'O',
-      url: null,
-      title: 't',
-      published: created,
-      fetched: created,
-      language: null,
-      text: 'x',
-      contentHash: 'h',
-      duplicateOf: null,
-      source: 's',
-    },
-    sentences: [],
-    mentions: [],
-    links: [],
-    events: [],
-    idf: null,
-    messages: [{ id: 'msg_test1', type: 'event.opened', body: '{"type":"event.opened"}', created, subscribers: ['recv'] }],
-  };
+  const c = bareCommit('a1', {
+    article: { published: created, fetched: created, contentHash: 'h' },
+    commit: { messages: [{ id: 'msg_test1', type: 'event.opened', body: '{"type":"event.opened"}', created, subscribers: ['recv'] }] },
+  });
   return store.commitArticle(c);
 }
 
@@ -176,27 +159,10 @@ describe('delivering webhooks', () => {
         subscribers: ['hanging', 'healthy'],
       }));
       for (const m of messages) created.set(m.id, at.getTime());
-      const c: ArticleCommit = {
-        article: {
-          id: `a${from}`,
-          outlet: 'O',
-          url: null,
-          title: 't',
-          published: at.toISOString(),
-          fetched: at.toISOString(),
-          language: null,
-          text: 'x',
-          contentHash: `h${from}`,
-          duplicateOf: null,
-          source: 's',
-        },
-        sentences: [],
-        mentions: [],
-        links: [],
-        events: [],
-        idf: null,
-        messages,
-      };
+      const c = bareCommit(`a${from}`, {
+        article: { published: at.toISOString(), fetched: at.toISOString(), contentHash: `h${from}` },
+        commit: { messages },
+      });
       await store.commitArticle(c);
     };
     await publish(0);
