@@ -25,6 +25,7 @@ export const ERROR_CODES = {
   STRAND_WEBHOOK_FAILED: { status: 502 },
   STRAND_REQUEST_INVALID: { status: 400 },
   STRAND_EVAL_INPUT_INVALID: { status: 400 },
+  STRAND_EVAL_FAILED: { status: 500 },
   STRAND_MODEL_MISSING: { status: 500 },
   STRAND_ANALYSIS_FAILED: { status: 500 },
   STRAND_FEED_CONFLICT: { status: 409 },

@@ -197,14 +197,20 @@ async function main(): Promise<void> {
           maxBuffer: 1 << 20,
         }),
       ) as TransformerRow);
-  const evalSpeed: EvalSpeedRow | null = quick
-    ? null
-    : (JSON.parse(
-        execFileSync(process.execPath, ['--max-old-space-size=8192', fileURLToPath(new URL('./eval-speed-run.js', import.meta.url))], {
-          encoding: 'utf8',
-          maxBuffer: 1 << 20,
-        }),
-      ) as EvalSpeedRow);
+  // Article-level gold (the shape of a corpus of articles pooled by incident), then
+  // sentence-level gold (about three mentions per article).
+  const evalSpeed: EvalSpeedRow[] = quick
+    ? []
+    : (['article', 'sentence'] as const).map(
+        (level) =>
+          JSON.parse(
+            execFileSync(
+              process.execPath,
+              ['--max-old-space-size=8192', fileURLToPath(new URL('./eval-speed-run.js', import.meta.url)), '6000', level],
+              { encoding: 'utf8', maxBuffer: 1 << 20 },
+            ),
+          ) as EvalSpeedRow,
+      );
   const largeFeed: LargeFeedRow | null = quick
     ? null
     : (JSON.parse(
@@ -261,11 +267,11 @@ async function main(): Promise<void> {
       `\none large feed into an existing store (its own process, default configuration):\n` +
         `  ${largeFeed.items} items, ${(largeFeed.feedBytes / 1048576).toFixed(1)} MiB: ${largeFeed.stored} stored, ${largeFeed.refused} refused, ${largeFeed.seconds.toFixed(1)} s, peak resident memory ${largeFeed.peakRssMiB.toFixed(0)} MiB\n`,
     );
-  if (evalSpeed)
+  for (const row of evalSpeed)
     process.stdout.write(
-      `\nstrandline eval as the command runs it (gold and predicted mentions, default sweep, every baseline) on a synthetic corpus:\n` +
-        `  ${evalSpeed.articles} articles, ${evalSpeed.goldMentions} gold mentions: ${evalSpeed.seconds.toFixed(1)} s\n` +
-        evalSpeed.parts
+      `\nstrandline eval as the command runs it (gold and predicted mentions, default sweep, every baseline) on a synthetic corpus, ${row.level}-level gold:\n` +
+        `  ${row.articles} articles, ${row.goldMentions} gold mentions: ${row.seconds.toFixed(1)} s\n` +
+        row.parts
           .map(
             (p) =>
               `  ${p.setting.padEnd(9)} text ${p.textSeconds.toFixed(1)} s; ${p.systems.map((y) => `${y.name.replace('baseline: ', '')} ${y.seconds.toFixed(2)} s`).join(', ')}`,

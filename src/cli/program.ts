@@ -92,9 +92,14 @@ function buildProgram(done: (code: number) => void): Command {
     )
     .option(
       '--thresholds <from:to:step>',
-      'link thresholds for best thresholds and regret, every one run (default: 0.05:0.5:0.025, every other one run, then the neighbours of the best)',
+      'link thresholds for best thresholds and regret, every one run (default: 0.05:0.5:0.025, every third one run, then the neighbours of the best)',
     )
     .option('--sweep', "print each corpus's scores at every threshold too (always in report.json and report.html)")
+    .option(
+      '--sweep-threads <n>',
+      "threads the sweep's link runs go to, 0 for none (default: auto, one per core up to 4 from 300 articles up)",
+      'auto',
+    )
     .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
     .option('--json', 'print the report as JSON')
     .action(async (opts) => done(await (await import('./commands/eval.js')).evalCommand(opts)));

@@ -201,25 +201,46 @@ export function averageLinkDendrogram(mentions: readonly EmbeddedMention[], half
   const spans = mentions.map(mentionSpan);
   const sparse = mentions.every((m) => m.vector.kind === 'sparse');
   if (sparse) {
-    const postings = new Map<number, { mention: number; value: number }[]>();
+    const postings = new Map<number, { mentions: number[]; values: number[] }>();
     const acc = new Float64Array(n);
+    // Spans are whole days, so the decay takes few values: each is computed once, the same number.
+    const decays = new Map<number, number>();
+    const decay = (gap: number): number => {
+      let d = decays.get(gap);
+      if (d === undefined) decays.set(gap, (d = Math.pow(0.5, gap / halfLifeDays)));
+      return d;
+    };
+    const touched: number[] = [];
+    const stamp = new Int32Array(n).fill(-1);
     for (let i = 0; i < n; i++) {
       const v = mentions[i]!.vector as SparseVector;
-      acc.fill(0, 0, i);
       for (let k = 0; k < v.indices.length; k++) {
         const posting = postings.get(v.indices[k]!);
-        if (posting) for (const p of posting) acc[p.mention]! += p.value * v.values[k]!;
+        if (!posting) continue;
+        const w = v.values[k]!;
+        for (let p = 0; p < posting.mentions.length; p++) {
+          const j = posting.mentions[p]!;
+          if (stamp[j] !== i) {
+            stamp[j] = i;
+            acc[j] = 0;
+            touched.push(j);
+          }
+          acc[j]! += posting.values[p]! * w;
+        }
       }
-      for (let j = 0; j < i; j++) {
+      // A pair sharing no feature keeps the matrix's 0.
+      for (const j of touched) {
         const gap = Math.max(0, spans[i]![0] - spans[j]![1], spans[j]![0] - spans[i]![1]);
-        const s = acc[j]! * Math.pow(0.5, gap / halfLifeDays);
+        const s = acc[j]! * decay(gap);
         sim[j * n + i] = s;
         sim[i * n + j] = s;
       }
+      touched.length = 0;
       for (let k = 0; k < v.indices.length; k++) {
         let posting = postings.get(v.indices[k]!);
-        if (!posting) postings.set(v.indices[k]!, (posting = []));
-        posting.push({ mention: i, value: v.values[k]! });
+        if (!posting) postings.set(v.indices[k]!, (posting = { mentions: [], values: [] }));
+        posting.mentions.push(i);
+        posting.values.push(v.values[k]!);
       }
     }
   } else {

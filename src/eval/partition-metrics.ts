@@ -38,18 +38,20 @@ export interface PartitionScores {
 
 /** Every score for one key/response pair. */
 export function scorePartitions(key: Partition, response: Partition): PartitionScores {
+  return {
+    ...conllScores(key, response),
+    ceafm: ceafScore(key, response, 'mention'),
+    blanc: blancScore(key, response),
+    lea: leaScore(key, response),
+  };
+}
+
+/** The three scores CoNLL F1 averages, and their mean: what a threshold sweep needs, at about half the cost. */
+export function conllScores(key: Partition, response: Partition): Pick<PartitionScores, 'muc' | 'b3' | 'ceafe' | 'conllF1'> {
   const muc = mucScore(key, response);
   const b3 = b3Score(key, response);
   const ceafe = ceafScore(key, response, 'entity');
-  return {
-    muc,
-    b3,
-    ceafm: ceafScore(key, response, 'mention'),
-    ceafe,
-    blanc: blancScore(key, response),
-    lea: leaScore(key, response),
-    conllF1: (muc.f1 + b3.f1 + ceafe.f1) / 3,
-  };
+  return { muc, b3, ceafe, conllF1: (muc.f1 + b3.f1 + ceafe.f1) / 3 };
 }
 
 /** F1 from recall and precision (0 when both are 0). */

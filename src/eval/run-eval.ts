@@ -19,8 +19,11 @@ import type { EvalCorpus } from './corpus.js';
 import type { EvalInput } from './eval-input.js';
 import { extendedBcubed } from './extended-bcubed.js';
 import { linkDetected } from './link-detected.js';
+import { clusteringOf, follow } from './clustering-of.js';
+import { type SweepPool, startSweepPool } from './sweep-pool.js';
+import { coarsePoints, pointsToRefine } from './sweep-points.js';
 import { type PairKind, type PairScores, pairwiseLinkScores } from './pairwise-links.js';
-import { type PartitionScores, type Score, f1, scorePartitions } from './partition-metrics.js';
+import { type PartitionScores, type Score, conllScores, f1, scorePartitions } from './partition-metrics.js';
 import { type Setting, baselineMentions, detectArticles, mentionKey, selector, toArticles } from './prepare-mentions.js';
 
 /** How to run an evaluation. */
@@ -30,14 +33,19 @@ export interface EvalOptions {
   /** Link thresholds the linker and the thresholded baselines are run at, for best thresholds and regret. */
   thresholds: readonly number[];
   /**
-   * 'every' runs every threshold; 'refine' (the command's default sweep) runs every other
-   * one, then the neighbours of the best by CoNLL and by extended BCubed: the same best on a
-   * single-peaked curve in about two thirds of the link runs.
+   * 'every' runs every threshold; 'refine' (the command's default sweep) runs every third
+   * one, then the neighbours of the best by CoNLL and by extended BCubed until the best of
+   * each has had both its neighbours run (sweep-points.ts).
    */
   sweep?: 'every' | 'refine';
   logger: Logger;
   /** Stops the evaluation between steps (STRAND_STOPPED). */
   signal?: AbortSignal;
+  /**
+   * Threads the sweep's link runs go to (sweep-pool.ts); 0 or absent runs them on this
+   * thread. Used with the TF-IDF embedder only: a transformer is loaded once, here.
+   */
+  threads?: number;
 }
 
 /** Scores of one system in one setting, at the configured threshold. */
@@ -175,8 +183,8 @@ async function stopIfAsked(signal: AbortSignal | undefined): Promise<void> {
 /** A system's scores at one threshold, as the sweep keeps them. */
 interface Quick {
   conll: number;
-  ext: number;
-  partition: PartitionScores;
+  b3: Score;
+  ext: Score;
   pairwise: Record<PairKind, PairScores> | null;
 }
 
@@ -186,8 +194,13 @@ export async function runEval(corpora: readonly EvalCorpus[], o: EvalOptions): P
   const nlp = createNlp();
   // A transformer model is loaded once; TF-IDF is made fresh for every run (it learns the stream).
   const model = o.config.embed.kind === 'transformer' ? await createEmbedder(o.config.embed) : undefined;
+  const pool = !model && (o.threads ?? 0) > 0 ? await startSweepPool(o.threads!) : null;
   const reports: CorpusReport[] = [];
-  for (const corpus of corpora) reports.push(await evaluateCorpus(corpus, o, { nlp, model, created }));
+  try {
+    for (const corpus of corpora) reports.push(await evaluateCorpus(corpus, o, { nlp, model, created, pool }));
+  } finally {
+    await pool?.close();
+  }
   return {
     created,
     configuration: {
@@ -208,7 +221,7 @@ export async function runEval(corpora: readonly EvalCorpus[], o: EvalOptions): P
 async function evaluateCorpus(
   corpus: EvalCorpus,
   o: EvalOptions,
-  shared: { nlp: ReturnType<typeof createNlp>; model: Embedder | undefined; created: string },
+  shared: { nlp: ReturnType<typeof createNlp>; model: Embedder | undefined; created: string; pool: SweepPool | null },
 ): Promise<CorpusReport> {
   const { input } = corpus;
   const log = o.logger.child({ stage: 'eval', corpus: corpus.name });
@@ -222,14 +235,15 @@ async function evaluateCorpus(
   const g = restrict(gold, inScope);
   const goldPartition = partition(g);
   const goldSets = toSets(g);
-  // Pairwise scores only where they are shown: the linker's sweep and the systems' rows.
-  const quick = (system: Clustering, withPairs = true): Quick => {
+  // Every score for the systems' rows; for sweep points only what the sweep shows (the
+  // CoNLL parts, extended BCubed, and for the linker the pairwise scores).
+  const quick = (system: Clustering, withPairs: boolean): Quick => {
     const s = restrict(system, inScope);
-    const p = scorePartitions(goldPartition, partition(s));
+    const p = conllScores(goldPartition, partition(s));
     return {
       conll: p.conllF1,
-      ext: extendedBcubed(goldSets, toSets(s)).f1,
-      partition: p,
+      b3: p.b3,
+      ext: extendedBcubed(goldSets, toSets(s)),
       pairwise: withPairs ? pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf) : null,
     };
   };
@@ -241,15 +255,14 @@ async function evaluateCorpus(
     best: SystemResult['best'] = null,
   ): SystemResult => {
     const s = restrict(system, inScope);
-    const q = quick(system);
     return {
       name,
       kind,
       seconds,
       best,
-      partition: q.partition,
+      partition: scorePartitions(goldPartition, partition(s)),
       extendedBcubed: extendedBcubed(goldSets, toSets(s)),
-      pairwise: q.pairwise!,
+      pairwise: pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf),
       events: new Set([...s.values()].flat()).size,
     };
   };
@@ -274,37 +287,38 @@ async function evaluateCorpus(
     };
     const withThreshold = (t: number): Readonly<Config> => ({ ...o.config, link: { ...o.config.link, threshold: t } });
 
-    // The linker at the configured threshold, then over the sweep.
-    const configured = await linkDetected(o.config, detected, deps);
-    const linked = clusteringOf(configured.outcomes);
-    const runs = new Map<number, Clustering>([[o.config.link.threshold, linked]]);
-    const linkerSweep = new Map<number, Quick>([[o.config.link.threshold, quick(linked)]]);
+    // The sweep's points run on the sweep threads while this thread runs the linker at the
+    // configured threshold and the baselines; without sweep threads, one after another here.
+    const runs = new Map<number, Clustering>();
+    const linkerSweep = new Map<number, Quick>();
     const runAt = async (points: readonly number[]): Promise<void> => {
-      for (const t of points) {
-        await stopIfAsked(o.signal);
-        if (runs.has(t)) continue;
-        const c = clusteringOf((await linkDetected(withThreshold(t), detected, deps)).outcomes);
+      const todo = [...new Set(points)].filter((t) => t !== o.config.link.threshold && !runs.has(t));
+      const keep = (t: number, c: Clustering) => {
         runs.set(t, c);
-        linkerSweep.set(t, quick(c));
+        linkerSweep.set(t, quick(c, true));
+      };
+      if (shared.pool) {
+        const answers = await Promise.all(
+          todo.map((t) => shared.pool!.run({ config: withThreshold(t), detected, created: shared.created })),
+        );
+        todo.forEach((t, k) => keep(t, answers[k]!.clustering));
+        return;
+      }
+      for (const t of todo) {
+        await stopIfAsked(o.signal);
+        keep(t, clusteringOf((await linkDetected(withThreshold(t), detected, deps)).outcomes));
       }
     };
-    if (o.sweep === 'refine' && o.thresholds.length > 4) {
-      await runAt(o.thresholds.filter((_, i) => i % 2 === 0 || i === o.thresholds.length - 1));
-      const near = (f: (q: Quick) => number): number[] => {
-        const ran = o.thresholds.filter((t) => linkerSweep.has(t));
-        const best = ran.reduce((a, b) => (f(linkerSweep.get(b)!) > f(linkerSweep.get(a)!) ? b : a));
-        const i = o.thresholds.indexOf(best);
-        return [o.thresholds[i - 1], o.thresholds[i + 1]].filter((t): t is number => t !== undefined);
-      };
-      await runAt([...near((q) => q.conll), ...near((q) => q.ext)]);
-    } else {
-      await runAt(o.thresholds);
-    }
-    // The points the linker ran at. The baselines are cheap and run at every point, so
-    // their best is never understated by the linker's shorter sweep.
-    const points = o.thresholds.filter((t) => runs.has(t));
-
-    // Baselines on plain TF-IDF vectors of the same mentions.
+    const refine = o.sweep === 'refine' && o.thresholds.length > 4;
+    const firstPass = runAt(refine ? coarsePoints(o.thresholds) : o.thresholds);
+    if (shared.pool)
+      firstPass.catch(() => undefined); // its failure is thrown where it is awaited, below
+    else await firstPass;
+    const configured = await linkDetected(o.config, detected, deps);
+    const linked = clusteringOf(configured.outcomes);
+    runs.set(o.config.link.threshold, linked);
+    linkerSweep.set(o.config.link.threshold, quick(linked, true));
+    // The baselines, on plain TF-IDF vectors of the same mentions.
     const plain = baselineMentions(detected, o.config.embed.hashBits);
     const flat = plain.flat();
     const { halfLifeDays, threshold } = o.config.link;
@@ -316,6 +330,20 @@ async function evaluateCorpus(
     const dendrogram = averageLinkDendrogram(flat, halfLifeDays);
     const batch = sweepOf((t) => dendrogram.cut(t));
     const batchSeconds = (performance.now() - at) / 1000;
+
+    await firstPass;
+    await stopIfAsked(o.signal);
+    if (refine) {
+      for (;;) {
+        const next = pointsToRefine(o.thresholds, new Map([...linkerSweep].map(([t, q]) => [t, [q.conll, q.ext.f1]])));
+        if (next.length === 0) break;
+        await stopIfAsked(o.signal);
+        await runAt(next);
+      }
+    }
+    // The points the linker ran at. The baselines are cheap and run at every point, so
+    // their best is never understated by the linker's shorter sweep.
+    const points = o.thresholds.filter((t) => runs.has(t));
 
     const groupOf = (id: string) => meta.get(id)?.subtopic ?? meta.get(id)?.topic ?? null;
     const systems: SystemResult[] = [
@@ -345,10 +373,10 @@ async function evaluateCorpus(
       return {
         threshold: t,
         conllF1: l.conll,
-        extendedB3F1: l.ext,
+        extendedB3F1: l.ext.f1,
         pairwise: { precision: all.precision, recall: all.recall, f1: all.f1 },
-        b3: l.partition.b3,
-        baseline: { conllF1: b.conll, extendedB3F1: b.ext },
+        b3: l.b3,
+        baseline: { conllF1: b.conll, extendedB3F1: b.ext.f1 },
       };
     });
     log.info({ setting, mentions: flat.length, textSeconds, linkSeconds: configured.seconds }, 'setting scored');
@@ -395,11 +423,11 @@ function timedScore(
 
 /** The best CoNLL and extended BCubed over the sweep, and the regret of the configured threshold. */
 function bestOf(
-  sweep: ReadonlyMap<number, { conll: number; ext: number }>,
+  sweep: ReadonlyMap<number, { conll: number; ext: Score }>,
   configured: number,
   thresholds: readonly number[],
 ): SystemResult['best'] {
-  const pick = (f: (x: { conll: number; ext: number }) => number): Best => {
+  const pick = (f: (x: { conll: number; ext: Score }) => number): Best => {
     let best = { threshold: configured, value: f(sweep.get(configured)!) };
     for (const t of thresholds) {
       const v = f(sweep.get(t)!);
@@ -407,7 +435,7 @@ function bestOf(
     }
     return { ...best, regret: best.value - f(sweep.get(configured)!) };
   };
-  return { conll: pick((x) => x.conll), extendedB3: pick((x) => x.ext) };
+  return { conll: pick((x) => x.conll), extendedB3: pick((x) => x.ext.f1) };
 }
 
 function overall(setting: Setting, reports: readonly CorpusReport[]): OverallRow {
@@ -468,33 +496,6 @@ function storyScore(outcomes: readonly ArticleOutcome[], input: EvalInput): Stor
   };
 }
 
-/** Each mention's events as the pipeline left them: links as made, then merges and splits in order. */
-function clusteringOf(outcomes: readonly ArticleOutcome[]): Clustering {
-  const assigned: Clustering = new Map();
-  const redirect = new Map<string, string>();
-  for (const out of outcomes) {
-    for (const a of out.assignments) assigned.set(mentionKey(out.articleId, a.sentenceIndex), a.eventIds);
-    for (const m of out.merges) redirect.set(m.from, m.into);
-    for (const sp of out.splits) {
-      for (const mv of sp.moved) {
-        const k = mentionKey(mv.articleId, mv.sentenceIndex);
-        assigned.set(
-          k,
-          assigned.get(k)!.map((id) => (follow(redirect, id) === sp.from ? sp.into : id)),
-        );
-      }
-    }
-  }
-  return new Map([...assigned].map(([k, events]) => [k, [...new Set(events.map((id) => follow(redirect, id)))]]));
-}
-
-/** The id an id ends up as, following merges. */
-function follow(redirect: ReadonlyMap<string, string>, id: string): string {
-  let e = id;
-  while (redirect.has(e)) e = redirect.get(e)!;
-  return e;
-}
-
 /**
  * Each gold mention's events, the primary one first: the event spanning most articles (a
  * cross-document event), the first in file order on a tie.
@@ -523,7 +524,11 @@ function restrict(c: Clustering, keep: (key: string) => boolean): Clustering {
 /** Clusters of mentions by their first (primary) event. */
 function partition(c: Clustering): string[][] {
   const by = new Map<string, string[]>();
-  for (const [k, events] of c) by.set(events[0]!, [...(by.get(events[0]!) ?? []), k]);
+  for (const [k, events] of c) {
+    const cluster = by.get(events[0]!);
+    if (cluster) cluster.push(k);
+    else by.set(events[0]!, [k]);
+  }
   return [...by.values()];
 }
 

@@ -25,11 +25,14 @@ export interface EventState {
   /** L2 norm of the centroid sum. */
   norm: number;
   mentionCount: number;
-  /** Normalised participant key → [surface form, count]. */
-  participants: Map<string, [string, number]>;
-  places: Map<string, [string, number]>;
+  /**
+   * Normalised participant key → [surface form, count]. The pairs are replaced, never
+   * changed in place, so a copy of the event can share them (cloneEvent).
+   */
+  participants: Map<string, readonly [string, number]>;
+  places: Map<string, readonly [string, number]>;
   /** Outlet → [mentions, independent mentions (not from copies of other articles)]. */
-  outlets: Map<string, [number, number]>;
+  outlets: Map<string, readonly [number, number]>;
   version: number;
   /**
    * When the linker last changed the event: a number that grows with every change it makes
@@ -210,15 +213,15 @@ export function mergeStates(into: EventState, from: EventState, centroidTerms: n
   return m;
 }
 
-/** A deep copy, so a link plan can change an event without touching committed state. */
+/** A copy a link plan can change without touching committed state (the name pairs are never changed in place, so they are shared). */
 export function cloneEvent(e: EventState): EventState {
   return {
     ...e,
     sparse: new Map(e.sparse),
     dense: e.dense ? new Float64Array(e.dense) : null,
-    participants: new Map([...e.participants].map(([k, v]) => [k, [v[0], v[1]]])),
-    places: new Map([...e.places].map(([k, v]) => [k, [v[0], v[1]]])),
-    outlets: new Map([...e.outlets].map(([k, v]) => [k, [v[0], v[1]]])),
+    participants: new Map(e.participants),
+    places: new Map(e.places),
+    outlets: new Map(e.outlets),
   };
 }
 
@@ -359,21 +362,20 @@ export function addVector(e: Centroid, v: Vector, weight: number, centroidTerms:
   e.norm = Math.sqrt(sq);
 }
 
-function unbump(map: Map<string, [string, number]>, key: string): void {
+function unbump(map: Map<string, readonly [string, number]>, key: string): void {
   const cur = map.get(key);
   if (!cur) return;
   if (cur[1] <= 1) map.delete(key);
-  else cur[1]--;
+  else map.set(key, [cur[0], cur[1] - 1]);
 }
 
-function bump(map: Map<string, [string, number]>, key: string, surface: string): void {
+function bump(map: Map<string, readonly [string, number]>, key: string, surface: string): void {
   if (key === '') return;
   const cur = map.get(key);
-  if (cur) cur[1]++;
-  else map.set(key, [surface, 1]);
+  map.set(key, cur ? [cur[0], cur[1] + 1] : [surface, 1]);
 }
 
-function topNames(map: Map<string, [string, number]>, n: number): string[] {
+function topNames(map: ReadonlyMap<string, readonly [string, number]>, n: number): string[] {
   return [...map.values()]
     .sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0]))
     .slice(0, n)

@@ -32,9 +32,9 @@ export interface StoryState extends Centroid {
   lastSeen: string;
   articleCount: number;
   /** Outlet → [articles, independent articles]. */
-  outlets: Map<string, [number, number]>;
+  outlets: Map<string, readonly [number, number]>;
   /** Normalised name → [surface form, articles naming it]. */
-  names: Map<string, [string, number]>;
+  names: Map<string, readonly [string, number]>;
   /** When the linker last changed it (as EventState.touched). */
   touched: number;
   version: number;
@@ -90,8 +90,7 @@ export function addArticle(s: StoryState, a: StoryArticle, centroidTerms: number
     const k = nameKey(name);
     if (k === '') continue;
     const cur = s.names.get(k);
-    if (cur) cur[1]++;
-    else s.names.set(k, [name, 1]);
+    s.names.set(k, cur ? [cur[0], cur[1] + 1] : [name, 1]);
   }
   trimNames(s);
   s.version++;
@@ -146,8 +145,9 @@ export function cloneStory(s: StoryState): StoryState {
     ...s,
     sparse: new Map(s.sparse),
     dense: s.dense ? new Float64Array(s.dense) : null,
-    outlets: new Map([...s.outlets].map(([k, v]) => [k, [v[0], v[1]]])),
-    names: new Map([...s.names].map(([k, v]) => [k, [v[0], v[1]]])),
+    // The pairs are replaced, never changed in place, so the copy shares them.
+    outlets: new Map(s.outlets),
+    names: new Map(s.names),
   };
 }
 

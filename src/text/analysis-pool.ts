@@ -5,11 +5,9 @@
  * code as on the main thread, so outcomes do not depend on the thread count.
  */
 import { availableParallelism } from 'node:os';
-import { existsSync } from 'node:fs';
-import { createRequire } from 'node:module';
-import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Piscina } from 'piscina';
 import { StrandError } from '../errors.js';
+import { threadFile } from '../thread-file.js';
 import type { Article } from '../records.js';
 import type { AnalysedArticle } from './analyse-article.js';
 
@@ -37,7 +35,7 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
   // Tasks go straight to a thread's message port, which keeps them in order; piscina's own
   // queue (used past this many per thread) does not, and the pipeline needs input order.
   const pool = new Piscina<Article | null, AnalysedArticle | null>({
-    ...workerFile(),
+    ...threadFile('analysis-thread', import.meta.url),
     minThreads: threads,
     maxThreads: threads,
     idleTimeout: Infinity,
@@ -62,13 +60,4 @@ export async function startAnalysisPool(threads: number): Promise<AnalysisPool> 
     },
     close: () => pool.close({ force: true }),
   };
-}
-
-/** The compiled worker next to this file; from sources (tests, tsx) the TypeScript one, through tsx. */
-function workerFile(): { filename: string; execArgv?: string[] } {
-  const js = new URL('./analysis-thread.js', import.meta.url);
-  if (existsSync(fileURLToPath(js))) return { filename: js.href };
-  // tsx by its path: the working directory may be anywhere.
-  const tsx = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
-  return { filename: new URL('./analysis-thread.ts', import.meta.url).href, execArgv: ['--import', tsx] };
 }

@@ -280,6 +280,27 @@ describe('the eval command', () => {
     expect(parseThresholds('0.1:0.3:0.1')).toEqual([0.1, 0.2, 0.3]);
   });
 
+  it('gives the same report with the sweep on worker threads as on the main thread', async () => {
+    const config = testConfig();
+    const demo: EvalCorpus = { name: 'demo', source: 'demo', input: await demoEvalInput(createNlp(), DEMO_DIR, config) };
+    const options = { config, settings: ['gold'] as const, thresholds: [0.1, 0.15, 0.2, 0.25, 0.3], sweep: 'refine' as const, logger };
+    const here = await runEval([demo], { ...options, settings: [...options.settings] });
+    const threaded = await runEval([demo], { ...options, settings: [...options.settings], threads: 1 });
+    const answers = (r: EvalReport) =>
+      r.corpora.map((c) =>
+        c.settings.map((s) => ({ sweep: s.sweep, answer: s.answer, systems: s.systems.map(({ seconds: _, ...x }) => x) })),
+      );
+    expect(answers(threaded)).toEqual(answers(here));
+    expect(here.corpora[0]!.settings[0]!.sweep.length).toBeGreaterThan(1);
+  });
+
+  it.each(['many', '-1', '100', '1.5'])('refuses --sweep-threads %s in one line, with exit 2', async (value) => {
+    const r = await cli('eval', '--demo', '--sweep-threads', value);
+    expect(r.status).toBe(2);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/--sweep-threads must be auto or a whole number from 0 to 64/);
+  });
+
   it('refuses to run without input, naming what is missing, with exit 2', async () => {
     const r = await cli('eval');
     expect(r.status).toBe(2);

@@ -9,6 +9,7 @@ import { formatReport } from '../../eval/format-report.js';
 import { htmlReport } from '../../eval/html-report.js';
 import type { Setting } from '../../eval/prepare-mentions.js';
 import { defaultSweep, runEval } from '../../eval/run-eval.js';
+import { sweepThreads } from '../../eval/sweep-pool.js';
 import { createNlp } from '../../text/nlp.js';
 import { type CommonOptions, DEMO_DIR, setup } from '../common.js';
 import { listenForStop } from '../stop-signals.js';
@@ -23,6 +24,7 @@ export interface EvalCommandOptions extends CommonOptions {
   setting: 'gold' | 'predicted' | 'both';
   thresholds?: string;
   sweep?: boolean;
+  sweepThreads?: string;
   out?: string;
   json?: boolean;
 }
@@ -42,10 +44,23 @@ export function parseThresholds(spec: string): number[] {
   return out;
 }
 
+/** Below this many articles in all, starting sweep threads costs more than they save. */
+const THREADS_FROM_ARTICLES = 300;
+
+/** `auto` or a whole number of threads from 0 to 64. */
+export function parseSweepThreads(spec: string): 'auto' | number {
+  if (spec === 'auto') return spec;
+  const n = /^\d{1,2}$/.test(spec.trim()) ? Number(spec) : NaN;
+  if (!(n >= 0 && n <= 64))
+    throw new StrandError('STRAND_REQUEST_INVALID', `--sweep-threads must be auto or a whole number from 0 to 64, not "${spec}"`);
+  return n;
+}
+
 /** Runs an evaluation over every corpus given and writes report.json and report.html; returns the exit code. */
 export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
   const corpora: EvalCorpus[] = [];
   const { config, logger } = setup({ logLevel: 'warn', ...opts });
+  const threadsWanted = parseSweepThreads(opts.sweepThreads ?? 'auto');
   if (opts.articles || opts.gold) {
     if (!opts.articles || !opts.gold)
       throw new StrandError(
@@ -67,6 +82,9 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
     );
   const settings: Setting[] = opts.setting === 'both' ? ['gold', 'predicted'] : [opts.setting];
   const thresholds = opts.thresholds ? parseThresholds(opts.thresholds) : defaultSweep();
+  // auto: one per core up to 4, but not for small corpora, where starting them costs more than they save.
+  const articles = corpora.reduce((n, c) => n + c.input.articles.length, 0);
+  const threads = threadsWanted === 'auto' ? (articles < THREADS_FROM_ARTICLES ? 0 : sweepThreads('auto')) : threadsWanted;
   const stop = listenForStop('the evaluation');
   if (!opts.json)
     process.stderr.write(
@@ -79,6 +97,7 @@ export async function evalCommand(opts: EvalCommandOptions): Promise<number> {
       settings,
       thresholds,
       sweep: opts.thresholds ? 'every' : 'refine',
+      threads,
       logger,
       signal: stop.signal,
     });

@@ -1,0 +1,73 @@
+/**
+ * The evaluation's threshold sweep on worker threads: each point is a whole link run on a
+ * fresh in-memory store, independent of the others, so the points run side by side while
+ * the main thread runs the configured point and the baselines. Each thread runs the same
+ * code on a copy of the same input, so the answers do not depend on the thread count.
+ */
+import { availableParallelism } from 'node:os';
+import { Piscina } from 'piscina';
+import type { Config } from '../config/schema.js';
+import { StrandError } from '../errors.js';
+import type { DetectedWork } from '../pipeline/index.js';
+import { threadFile } from '../thread-file.js';
+import type { Clustering } from './baselines.js';
+
+/** One link run: the configuration (with the point's threshold), the analysed input, the clock. */
+export interface SweepTask {
+  config: Readonly<Config>;
+  detected: readonly DetectedWork[];
+  /** The time undated articles are given, as in the main thread's runs. */
+  created: string;
+}
+
+/** What a link run gave: its clustering and the wall time of its link stage, seconds. */
+export interface SweepAnswer {
+  clustering: Clustering;
+  seconds: number;
+}
+
+/** Runs sweep points off the main thread. */
+export interface SweepPool {
+  readonly threads: number;
+  run(task: SweepTask): Promise<SweepAnswer>;
+  close(): Promise<void>;
+}
+
+/** `auto`: one thread per core, at most 4 (each holds a copy of the corpus and a store). */
+export function sweepThreads(setting: 'auto' | number, cores = availableParallelism()): number {
+  return setting === 'auto' ? Math.min(4, cores) : setting;
+}
+
+/** Starts `threads` sweep threads and resolves once every one has answered. */
+export async function startSweepPool(threads: number): Promise<SweepPool> {
+  if (threads < 1) throw new StrandError('STRAND_CONFIG_INVALID', `a sweep pool needs at least one thread, not ${threads}`);
+  const pool = new Piscina<SweepTask | null, SweepAnswer | null>({
+    ...threadFile('sweep-thread', import.meta.url),
+    minThreads: threads,
+    maxThreads: threads,
+    idleTimeout: Infinity,
+  });
+  try {
+    await Promise.all(Array.from({ length: threads }, () => pool.run(null)));
+  } catch (err) {
+    await pool.close({ force: true });
+    throw new StrandError('STRAND_EVAL_FAILED', `sweep threads did not start: ${(err as Error).message}`, { cause: err });
+  }
+  return {
+    threads,
+    async run(task) {
+      try {
+        return (await pool.run(task)) as SweepAnswer;
+      } catch (err) {
+        throw new StrandError(
+          'STRAND_EVAL_FAILED',
+          `a sweep thread failed at threshold ${task.config.link.threshold}: ${(err as Error).message}`,
+          {
+            cause: err,
+          },
+        );
+      }
+    },
+    close: () => pool.close({ force: true }),
+  };
+}

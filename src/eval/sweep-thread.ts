@@ -1,0 +1,20 @@
+/**
+ * The body of a sweep thread: one link run of the evaluation per task, answered as the
+ * clustering it gave. Loaded by piscina from sweep-pool.ts; never imported by the main thread.
+ */
+import { createLogger } from '../logger.js';
+import { createNlp } from '../text/nlp.js';
+import { clusteringOf } from './clustering-of.js';
+import { linkDetected } from './link-detected.js';
+import type { SweepAnswer, SweepTask } from './sweep-pool.js';
+
+// The link stage does not analyse text, but its context carries a language model.
+const nlp = createNlp();
+const logger = createLogger('silent');
+
+/** `null` is the start-up probe: answering it proves the thread loaded. */
+export default async function runTask(task: SweepTask | null): Promise<SweepAnswer | null> {
+  if (!task) return null;
+  const run = await linkDetected(task.config, task.detected, { nlp, logger, now: () => new Date(task.created) });
+  return { clustering: clusteringOf(run.outcomes), seconds: run.seconds };
+}
