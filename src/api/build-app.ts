@@ -8,14 +8,15 @@ import swagger from '@fastify/swagger';
 import { StrandError, isStrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import type { Store } from '../store/store.js';
-import { registerEventRoutes } from './routes/events.js';
-import { registerStoryRoutes } from './routes/stories.js';
-import { registerArticleRoutes } from './routes/articles.js';
-import { registerOperationRoutes, type IngestStatus, type QueueView } from './routes/operations.js';
+import type { IngestStatus, QueueView } from '../status.js';
+import { eventRoutes } from './routes/events.js';
+import { storyRoutes } from './routes/stories.js';
+import { articleRoutes } from './routes/articles.js';
+import { operationRoutes } from './routes/operations.js';
 import { registerWebPage } from '../web/serve-page.js';
-import { type PushLimits, type SubmitArticles, registerPushRoute } from './routes/push.js';
+import { type PushLimits, type SubmitArticles, pushRoute } from './routes/push.js';
 import { CAUTION } from './schemas.js';
-import { type FeedControl, registerFeedRoutes } from './routes/feeds.js';
+import { type FeedControl, feedRoutes } from './routes/feeds.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
@@ -117,12 +118,14 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     if (req.url.startsWith('/api/') && deps.store.unavailable()) return storeUnavailable(reply);
   });
   if (deps.auth) registerTokenCheck(app, deps.auth);
-  registerEventRoutes(app, deps.store);
-  registerStoryRoutes(app, deps.store);
-  registerArticleRoutes(app, deps.store);
-  registerOperationRoutes(app, deps);
-  if (deps.push) registerPushRoute(app, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
-  if (deps.feeds) registerFeedRoutes(app, deps.feeds);
+  // Each group of routes is a plugin with its schemas beside it (routes/, route-plugin.ts).
+  await app.register(eventRoutes, { store: deps.store });
+  await app.register(storyRoutes, { store: deps.store });
+  await app.register(articleRoutes, { store: deps.store });
+  await app.register(operationRoutes, { store: deps.store, version: deps.version, ingestStatus: deps.ingestStatus, queue: deps.queue });
+  if (deps.push)
+    await app.register(pushRoute, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
+  if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   registerWebPage(app);
   app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
   await app.ready();

@@ -3,6 +3,7 @@
  * role replaying feeds, a push endpoint); workers read it through the consumer group
  * `workers`; the linker reads its order.
  */
+import type { QueueDeadLetter } from '../status.js';
 import type { RedisClient } from '../store/redis/connect.js';
 import type { Article } from '../records.js';
 import type { Keyspace } from '../store/redis/keys.js';
@@ -51,17 +52,8 @@ export async function queueDepth(redis: RedisClient, k: Keyspace): Promise<{ int
   return { intake, analysed, deadLetters: dead };
 }
 
-/** A dead letter: an intake entry given up after repeated failures. */
-export interface DeadLetter {
-  id: string;
-  entry: string;
-  error: string;
-  /** The queued article as received (possibly malformed), cut to 2,000 characters. */
-  article: string;
-}
-
-/** The newest dead letters first. */
-export async function deadLetters(redis: RedisClient, k: Keyspace, limit: number): Promise<DeadLetter[]> {
+/** The newest dead letters (intake entries given up after repeated failures) first. */
+export async function deadLetters(redis: RedisClient, k: Keyspace, limit: number): Promise<QueueDeadLetter[]> {
   const rows = await redis.xrevrange(k.deadLetters, '+', '-', 'COUNT', limit);
   return rows.map(([id, fields]) => {
     const f = fieldMap(fields);

@@ -14,7 +14,7 @@ import { RedisStore } from '../store/redis/redis-store.js';
 import { FAIL_FAST, type RedisClient, closeClient, connectRedis } from '../store/redis/connect.js';
 import { createNlp } from '../text/nlp.js';
 import { deadLetters, enqueueArticles, queueDepth } from './intake.js';
-import type { QueueView } from '../api/routes/operations.js';
+import type { QueueView } from '../status.js';
 import type { Article } from '../records.js';
 import { RetentionSweeper } from '../store/retention-sweeper.js';
 import { QueueLinker } from './linker.js';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/build-app.js';
-import type { QueueView } from '../../src/api/routes/operations.js';
+import type { QueueView } from '../../src/status.js';
 import { createLogger } from '../../src/logger.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 

@@ -1,40 +1,96 @@
 /** Routes: list events, one event with its mentions grouped by outlet and its timeline. */
-import type { FastifyInstance } from 'fastify';
+import type { RoutePlugin } from '../route-plugin.js';
 import { StrandError } from '../../errors.js';
 import type { EventMention, EventQueries } from '../../store/store.js';
-import { CAUTION, getEventSchema, listEventsSchema } from '../schemas.js';
+import { CAUTION, dayOrTime, errorSchema, eventSummarySchema, int, mentionSchema, num, str, strings } from '../schemas.js';
 
-interface ListQuery {
-  from?: string;
-  to?: string;
-  outlet?: string;
-  q?: string;
-  minOutlets?: number;
-  story?: string;
-  sort?: 'recent' | 'outlets' | 'mentions';
-  limit: number;
-  offset: number;
-}
+/** GET /api/events */
+const listEventsSchema = {
+  summary: 'List events',
+  description: 'Events, most recently active first unless sorted otherwise.',
+  tags: ['events'],
+  querystring: {
+    type: 'object',
+    additionalProperties: false,
+    properties: {
+      from: { ...dayOrTime, description: 'Only events active on or after this day or time.' },
+      to: { ...dayOrTime, description: 'Only events active on or before this day or time.' },
+      outlet: { type: 'string', maxLength: 200, description: 'Only events this outlet reported.' },
+      q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label or a sentence.' },
+      minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      story: { type: 'string', maxLength: 100, description: 'Only events of this story.' },
+      sort: { type: 'string', enum: ['recent', 'outlets', 'mentions'], default: 'recent' },
+      limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
+      offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
+    },
+  },
+  response: {
+    200: {
+      type: 'object',
+      properties: { total: int, events: { type: 'array', items: eventSummarySchema }, caution: str },
+      required: ['total', 'events', 'caution'],
+    },
+    400: errorSchema,
+  },
+} as const;
+/** GET /api/events/:id */
+const getEventSchema = {
+  summary: 'One event with its mentions by outlet and its timeline',
+  tags: ['events'],
+  params: { type: 'object', properties: { id: { type: 'string', maxLength: 100 } }, required: ['id'] },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        event: eventSummarySchema,
+        byOutlet: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: { outlet: str, independent: { type: 'boolean' }, mentions: { type: 'array', items: mentionSchema } },
+            required: ['outlet', 'independent', 'mentions'],
+          },
+        },
+        timeline: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: { day: str, mentions: int, newOutlets: strings },
+            required: ['day', 'mentions', 'newOutlets'],
+          },
+        },
+        merges: {
+          type: 'array',
+          description: 'Events that consolidation found to be this one and merged into it.',
+          items: { type: 'object', properties: { from: str, into: str, score: num, at: str }, required: ['from', 'into', 'score', 'at'] },
+        },
+        splits: {
+          type: 'array',
+          description:
+            'Splits this event took part in: consolidation found that part of its mentions (`mentions` of them) report another happening and moved them from `from` to the new event `into`. `score` is how alike the two parts were (centroid cosine x time decay), below the split threshold. A suggestion, like every link.',
+          items: {
+            type: 'object',
+            properties: { from: str, into: str, mentions: int, score: num, at: str },
+            required: ['from', 'into', 'mentions', 'score', 'at'],
+          },
+        },
+        caution: str,
+      },
+      required: ['event', 'byOutlet', 'timeline', 'merges', 'splits', 'caution'],
+    },
+    308: { description: 'The event was merged into another; Location names it.', type: 'null' },
+    404: errorSchema,
+  },
+} as const;
 
-/** Registers /api/events and /api/events/:id. */
-export function registerEventRoutes(app: FastifyInstance, store: EventQueries): void {
-  app.get<{ Querystring: ListQuery }>('/api/events', { schema: listEventsSchema }, async (req) => {
-    const q = req.query;
-    const page = await store.listEvents({
-      from: q.from,
-      to: q.to,
-      outlet: q.outlet,
-      text: q.q,
-      minOutlets: q.minOutlets,
-      story: q.story,
-      sort: q.sort,
-      limit: q.limit,
-      offset: q.offset,
-    });
-    return { ...page, caution: CAUTION };
+/** /api/events and /api/events/:id. */
+export const eventRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { store }) => {
+  app.get('/api/events', { schema: listEventsSchema }, async (req) => {
+    const { q, ...filters } = req.query;
+    return { ...(await store.listEvents({ ...filters, text: q })), caution: CAUTION };
   });
 
-  app.get<{ Params: { id: string } }>('/api/events/:id', { schema: getEventSchema }, async (req, reply) => {
+  app.get('/api/events/:id', { schema: getEventSchema }, async (req, reply) => {
     const detail = await store.getEvent(req.params.id);
     if (!detail) {
       // An event consolidation merged away now lives in another: send clients there.
@@ -51,7 +107,7 @@ export function registerEventRoutes(app: FastifyInstance, store: EventQueries): 
       caution: CAUTION,
     };
   });
-}
+};
 
 /** Mentions grouped by outlet, outlets in the order they first reported the event. */
 export function groupByOutlet(mentions: readonly EventMention[]): { outlet: string; independent: boolean; mentions: EventMention[] }[] {

@@ -1,10 +1,42 @@
 /** POST /api/articles: articles pushed by another system, one JSON object, a JSON array or NDJSON. */
-import type { FastifyInstance } from 'fastify';
 import { readPushedItems, splitPushedBody } from '../../ingest/read-pushed.js';
 import type { Article } from '../../records.js';
 import type { ArticleLog } from '../../store/store.js';
-import { pushSchema } from '../schemas.js';
+import type { RoutePlugin } from '../route-plugin.js';
+import { int, nullableStr } from '../schemas.js';
 import { canonicalUrl } from '../../ingest/canonical-url.js';
+
+const pushSchema = {
+  summary:
+    'Push articles: one JSON object, a JSON array, or NDJSON (application/x-ndjson), each {id, outlet, title, url?, published?, text? or html?, language?}',
+  description:
+    'Each item is checked on its own: accepted (queued for processing), duplicate (already stored, or twice in the request) or rejected with its reason. Accepted articles are processed in the order received; their links appear under /api/articles/{id} once processed.',
+  tags: ['articles'],
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        accepted: int,
+        duplicates: int,
+        rejected: int,
+        results: {
+          type: 'array',
+          items: {
+            type: 'object',
+            properties: {
+              index: int,
+              id: nullableStr,
+              status: { type: 'string', enum: ['accepted', 'duplicate', 'rejected'] },
+              reason: nullableStr,
+            },
+            required: ['index', 'id', 'status', 'reason'],
+          },
+        },
+      },
+      required: ['accepted', 'duplicates', 'rejected', 'results'],
+    },
+  },
+} as const;
 
 const url = (a: Article): string | null => canonicalUrl(a.url);
 
@@ -28,10 +60,16 @@ interface ItemResult {
   reason: string | null;
 }
 
-export function registerPushRoute(
-  app: FastifyInstance,
-  deps: { store: Pick<ArticleLog, 'hasArticle' | 'findByUrl'>; submit: SubmitArticles; limits: PushLimits; now: () => Date },
-): void {
+/** What the push route needs. */
+export interface PushDeps {
+  store: Pick<ArticleLog, 'hasArticle' | 'findByUrl'>;
+  submit: SubmitArticles;
+  limits: PushLimits;
+  now: () => Date;
+}
+
+/** POST /api/articles. */
+export const pushRoute: RoutePlugin<PushDeps> = async (app, deps) => {
   const { limits } = deps;
   app.addContentTypeParser('application/x-ndjson', { parseAs: 'string', bodyLimit: limits.maxPushBytes }, (_req, body, done) =>
     done(null, body),
@@ -76,4 +114,4 @@ export function registerPushRoute(
     const count = (s: ItemResult['status']) => results.filter((r) => r.status === s).length;
     return { accepted: count('accepted'), duplicates: count('duplicate'), rejected: count('rejected'), results };
   });
-}
+};

@@ -1,38 +1,111 @@
 /** Routes: list stories, one story with its events, its articles by outlet and its timeline. */
-import type { FastifyInstance } from 'fastify';
 import { StrandError } from '../../errors.js';
 import type { EventSummary, StoryArticleRow, EventQueries } from '../../store/store.js';
-import { CAUTION, getStorySchema, listStoriesSchema } from '../schemas.js';
+import type { RoutePlugin } from '../route-plugin.js';
+import {
+  CAUTION,
+  dayOrTime,
+  errorSchema,
+  eventSummarySchema,
+  int,
+  nullableStr,
+  num,
+  storySummarySchema,
+  str,
+  strings,
+} from '../schemas.js';
 
-interface ListQuery {
-  from?: string;
-  to?: string;
-  outlet?: string;
-  q?: string;
-  minOutlets?: number;
-  sort?: 'recent' | 'outlets' | 'articles';
-  limit: number;
-  offset: number;
-}
+/** GET /api/stories */
+const listStoriesSchema = {
+  summary: 'List stories',
+  description: 'Stories (threads of coverage above events), most recently active first unless sorted otherwise.',
+  tags: ['stories'],
+  querystring: {
+    type: 'object',
+    additionalProperties: false,
+    properties: {
+      from: { ...dayOrTime, description: 'Only stories active on or after this day or time.' },
+      to: { ...dayOrTime, description: 'Only stories that began on or before this day or time.' },
+      outlet: { type: 'string', maxLength: 200, description: 'Only stories this outlet reported on.' },
+      q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label, a headline or a name.' },
+      minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      sort: { type: 'string', enum: ['recent', 'outlets', 'articles'], default: 'recent' },
+      limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
+      offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
+    },
+  },
+  response: {
+    200: {
+      type: 'object',
+      properties: { total: int, stories: { type: 'array', items: storySummarySchema }, caution: str },
+      required: ['total', 'stories', 'caution'],
+    },
+    400: errorSchema,
+  },
+} as const;
+/** GET /api/stories/:id */
+const getStorySchema = {
+  summary: 'One story with its events, its articles by outlet and its timeline',
+  tags: ['stories'],
+  params: { type: 'object', properties: { id: { type: 'string', maxLength: 100 } }, required: ['id'] },
+  response: {
+    200: {
+      type: 'object',
+      properties: {
+        story: storySummarySchema,
+        events: { type: 'array', description: 'Its events, earliest first.', items: eventSummarySchema },
+        byOutlet: {
+          type: 'array',
+          description: 'Its articles grouped by outlet, outlets in the order they first reported on the story.',
+          items: {
+            type: 'object',
+            properties: {
+              outlet: str,
+              independent: { type: 'boolean' },
+              articles: {
+                type: 'array',
+                items: {
+                  type: 'object',
+                  properties: { id: str, title: str, url: nullableStr, published: nullableStr, duplicateOf: nullableStr },
+                  required: ['id', 'title', 'url', 'published', 'duplicateOf'],
+                },
+              },
+            },
+            required: ['outlet', 'independent', 'articles'],
+          },
+        },
+        timeline: {
+          type: 'array',
+          description:
+            'Articles per day, with the outlets reporting on the story for the first time that day and the events that opened that day.',
+          items: {
+            type: 'object',
+            properties: { day: str, articles: int, newOutlets: strings, newEvents: strings },
+            required: ['day', 'articles', 'newOutlets', 'newEvents'],
+          },
+        },
+        merges: {
+          type: 'array',
+          description: 'Stories that consolidation found to be this one and merged into it.',
+          items: { type: 'object', properties: { from: str, into: str, score: num, at: str }, required: ['from', 'into', 'score', 'at'] },
+        },
+        caution: str,
+      },
+      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'caution'],
+    },
+    308: { description: 'The story was merged into another; Location names it.', type: 'null' },
+    404: errorSchema,
+  },
+} as const;
 
-/** Registers /api/stories and /api/stories/:id. */
-export function registerStoryRoutes(app: FastifyInstance, store: EventQueries): void {
-  app.get<{ Querystring: ListQuery }>('/api/stories', { schema: listStoriesSchema }, async (req) => {
-    const q = req.query;
-    const page = await store.listStories({
-      from: q.from,
-      to: q.to,
-      outlet: q.outlet,
-      text: q.q,
-      minOutlets: q.minOutlets,
-      sort: q.sort,
-      limit: q.limit,
-      offset: q.offset,
-    });
-    return { ...page, caution: CAUTION };
+/** /api/stories and /api/stories/:id. */
+export const storyRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { store }) => {
+  app.get('/api/stories', { schema: listStoriesSchema }, async (req) => {
+    const { q, ...filters } = req.query;
+    return { ...(await store.listStories({ ...filters, text: q })), caution: CAUTION };
   });
 
-  app.get<{ Params: { id: string } }>('/api/stories/:id', { schema: getStorySchema }, async (req, reply) => {
+  app.get('/api/stories/:id', { schema: getStorySchema }, async (req, reply) => {
     const detail = await store.getStory(req.params.id);
     if (!detail) {
       // A story consolidation merged away now lives in another: send clients there.
@@ -49,7 +122,7 @@ export function registerStoryRoutes(app: FastifyInstance, store: EventQueries): 
       caution: CAUTION,
     };
   });
-}
+};
 
 /** Articles grouped by outlet, outlets in the order they first reported on the story. */
 export function articlesByOutlet(

@@ -4,7 +4,7 @@
  */
 import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';
-import type { IngestStatus } from '../../api/routes/operations.js';
+import type { IngestStatus } from '../../status.js';
 import type { Config } from '../../config/schema.js';
 import { StrandError } from '../../errors.js';
 import { ServiceStack } from '../../lifecycle/service-stack.js';
