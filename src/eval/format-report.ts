@@ -1,5 +1,5 @@
 /** The evaluation report as terminal tables. */
-import { type CorpusReport, type EvalReport, MULTI_EVENT_NOTE, type SettingResult } from './run-eval.js';
+import { type CorpusReport, type EvalReport, MULTI_EVENT_NOTE, type SettingResult } from './eval-report.js';
 
 const pct = (x: number): string => (x * 100).toFixed(1);
 const signed = (x: number): string => `${x >= 0 ? '+' : ''}${(x * 100).toFixed(1)}`;

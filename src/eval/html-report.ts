@@ -2,7 +2,7 @@
  * The evaluation report as one self-contained HTML file (no scripts, no outside
  * resources), with the threshold sweep drawn as an inline SVG chart.
  */
-import { type EvalReport, MULTI_EVENT_NOTE, type SweepPoint } from './run-eval.js';
+import { type EvalReport, MULTI_EVENT_NOTE, type SweepPoint } from './eval-report.js';
 
 const esc = (s: string): string => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
 const pct = (x: number): string => (x * 100).toFixed(1);

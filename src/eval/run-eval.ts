@@ -12,19 +12,20 @@ import { createEmbedder } from '../embed/create-embedder.js';
 import type { Embedder } from '../embed/embedder.js';
 import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import type { ArticleOutcome } from '../pipeline/index.js';
 import { createNlp } from '../text/nlp.js';
 import { type Clustering, allSingletons, averageLinkDendrogram, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
 import type { EvalCorpus } from './corpus.js';
-import type { EvalInput } from './eval-input.js';
 import { extendedBcubed } from './extended-bcubed.js';
 import { linkDetected } from './link-detected.js';
-import { clusteringOf, follow } from './clustering-of.js';
+import { clusteringOf, goldMemberships, partition, restrict, sentenceOf, toSets } from './clusterings.js';
+import type { CorpusReport, EvalReport, SettingResult, SweepPoint, SystemResult } from './eval-report.js';
+import { PRIMARY_RULE } from './eval-report.js';
+import { bestOf, detectionScore, overall, storyScore } from './report-rows.js';
 import { type SweepPool, startSweepPool } from './sweep-pool.js';
 import { coarsePoints, pointsToRefine } from './sweep-points.js';
 import { type PairKind, type PairScores, pairwiseLinkScores } from './pairwise-links.js';
-import { type PartitionScores, type Score, conllScores, f1, scorePartitions } from './partition-metrics.js';
-import { type Setting, baselineMentions, detectArticles, mentionKey, selector, toArticles } from './prepare-mentions.js';
+import { type Score, conllScores, scorePartitions } from './partition-metrics.js';
+import { type Setting, baselineMentions, detectArticles, selector, toArticles } from './prepare-mentions.js';
 
 /** How to run an evaluation. */
 export interface EvalOptions {
@@ -47,126 +48,6 @@ export interface EvalOptions {
    */
   threads?: number;
 }
-
-/** Scores of one system in one setting, at the configured threshold. */
-export interface SystemResult {
-  name: string;
-  kind: 'linker' | 'baseline';
-  partition: PartitionScores;
-  extendedBcubed: Score;
-  pairwise: Record<PairKind, PairScores>;
-  /** Wall time of the system's clustering, seconds (the linker's: its link stage). */
-  seconds: number;
-  events: number;
-  /** For systems with a threshold: their best over the sweep. */
-  best: { conll: Best; extendedB3: Best } | null;
-}
-
-/** A system's best score over the sweep, and what the configured threshold gives up. */
-export interface Best {
-  threshold: number;
-  value: number;
-  /** Best value minus the value at the configured threshold (0 when the configured one is best). */
-  regret: number;
-}
-
-/** One point of the threshold sweep. */
-export interface SweepPoint {
-  threshold: number;
-  conllF1: number;
-  extendedB3F1: number;
-  pairwise: { precision: number; recall: number; f1: number };
-  b3: Score;
-  /** The online TF-IDF centroid baseline at the same threshold. */
-  baseline: { conllF1: number; extendedB3F1: number };
-}
-
-/** Stories scored as a clustering of articles. */
-export interface StoryScore {
-  /** What the articles' stories are compared with. */
-  against: 'subtopic' | 'topic' | 'article-level gold';
-  articles: number;
-  stories: number;
-  groups: number;
-  partition: PartitionScores;
-}
-
-/** Everything measured in one setting of one corpus. */
-export interface SettingResult {
-  setting: Setting;
-  goldMentions: number;
-  systemMentions: number;
-  /** Mention detection against the gold (predicted setting, sentence-level gold only). */
-  detection: Score | null;
-  /** Wall time of the text stage (analysis and detection, once), seconds. */
-  textSeconds: number;
-  systems: SystemResult[];
-  sweep: SweepPoint[];
-  stories: StoryScore | null;
-  /** The linker's answer for every scored mention: the event ids it gave, best first. */
-  answer: { article: string; sentence: number | null; events: string[] }[];
-  rejected: { article: string; reason: string }[];
-}
-
-/** One corpus's report. */
-export interface CorpusReport {
-  name: string;
-  source: string;
-  input: {
-    articles: number;
-    level: 'sentence' | 'article';
-    goldLines: number;
-    goldEvents: number;
-    scoped: boolean;
-    subtopics: boolean;
-    dated: boolean;
-    /** Gold mentions (sentences or articles) carrying more than one gold event, and all gold mentions. */
-    multiEventMentions: number;
-    goldMentions: number;
-  };
-  settings: SettingResult[];
-}
-
-/** Across corpora, per setting. */
-export interface OverallRow {
-  setting: Setting;
-  corpora: number;
-  meanConll: number;
-  meanExtendedB3: number;
-  maxRegretConll: number;
-  maxRegretExtendedB3: number;
-  /** Per corpus: the linker at the configured threshold minus the online baseline at its best threshold. */
-  versusBaseline: { corpus: string; conll: number; extendedB3: number }[];
-}
-
-/** The whole evaluation. */
-export interface EvalReport {
-  created: string;
-  configuration: {
-    detectThreshold: number;
-    linkThreshold: number;
-    halfLifeDays: number;
-    secondaryMargin: number;
-    crossStoryMargin: number;
-    storyThreshold: number;
-  };
-  thresholds: number[];
-  primaryRule: string;
-  corpora: CorpusReport[];
-  overall: OverallRow[];
-}
-
-/**
- * Said when many gold mentions carry several events: the partition scores then count a
- * link to a sentence's other events as wrong, and favour higher thresholds than the
- * scores that use every event (extended BCubed, pairwise).
- */
-export const MULTI_EVENT_NOTE =
-  'partition scores give each of these one gold event only, so a link that matches one of its other events counts as wrong; extended BCubed and the pairwise scores count every event, and are the fairer guide on such gold.';
-
-/** The rule that picks one gold event per mention for the partition scores. */
-export const PRIMARY_RULE =
-  'Partition scores (MUC, B3, CEAF, LEA, BLANC, CoNLL) need one event per mention: a gold mention takes, of its gold events, the one spanning most articles (the first line on a tie), a system mention its best-scoring link. Extended BCubed and the pairwise scores use every event of every mention.';
 
 /** The default sweep: link thresholds 0.05 to 0.50 in steps of 0.025. */
 export function defaultSweep(): number[] {
@@ -419,134 +300,4 @@ function timedScore(
   const t0 = performance.now();
   const c = run();
   return score(c, name, 'baseline', (performance.now() - t0) / 1000);
-}
-
-/** The best CoNLL and extended BCubed over the sweep, and the regret of the configured threshold. */
-function bestOf(
-  sweep: ReadonlyMap<number, { conll: number; ext: Score }>,
-  configured: number,
-  thresholds: readonly number[],
-): SystemResult['best'] {
-  const pick = (f: (x: { conll: number; ext: Score }) => number): Best => {
-    let best = { threshold: configured, value: f(sweep.get(configured)!) };
-    for (const t of thresholds) {
-      const v = f(sweep.get(t)!);
-      if (v > best.value) best = { threshold: t, value: v };
-    }
-    return { ...best, regret: best.value - f(sweep.get(configured)!) };
-  };
-  return { conll: pick((x) => x.conll), extendedB3: pick((x) => x.ext.f1) };
-}
-
-function overall(setting: Setting, reports: readonly CorpusReport[]): OverallRow {
-  const rows = reports.flatMap((r) => r.settings.filter((s) => s.setting === setting).map((s) => ({ corpus: r.name, s })));
-  const linker = (s: SettingResult) => s.systems.find((x) => x.kind === 'linker')!;
-  const online = (s: SettingResult) => s.systems.find((x) => x.name === 'baseline: online TF-IDF centroid')!;
-  const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : 0);
-  return {
-    setting,
-    corpora: rows.length,
-    meanConll: mean(rows.map(({ s }) => linker(s).partition.conllF1)),
-    meanExtendedB3: mean(rows.map(({ s }) => linker(s).extendedBcubed.f1)),
-    maxRegretConll: Math.max(0, ...rows.map(({ s }) => linker(s).best!.conll.regret)),
-    maxRegretExtendedB3: Math.max(0, ...rows.map(({ s }) => linker(s).best!.extendedB3.regret)),
-    versusBaseline: rows.map(({ corpus, s }) => ({
-      corpus,
-      conll: linker(s).partition.conllF1 - online(s).best!.conll.value,
-      extendedB3: linker(s).extendedBcubed.f1 - online(s).best!.extendedB3.value,
-    })),
-  };
-}
-
-/**
- * The stories as a clustering of articles, against the corpus's story labels: subtopics
- * where given, else article-level gold events, else topics (coarser than stories; said so).
- */
-function storyScore(outcomes: readonly ArticleOutcome[], input: EvalInput): StoryScore | null {
-  const storyOf = new Map<string, string>();
-  const redirect = new Map<string, string>();
-  for (const o of outcomes) {
-    if (o.story) storyOf.set(o.articleId, o.story);
-    for (const m of o.storyMerges) redirect.set(m.from, m.into);
-  }
-  const label = new Map<string, string>();
-  let against: StoryScore['against'];
-  if (input.articles.some((a) => a.subtopic !== null)) {
-    against = 'subtopic';
-    for (const a of input.articles) if (a.subtopic !== null) label.set(a.id, a.subtopic);
-  } else if (input.level === 'article') {
-    against = 'article-level gold';
-    for (const g of input.gold) if (!label.has(g.article)) label.set(g.article, g.event);
-  } else if (input.articles.some((a) => a.topic !== null)) {
-    against = 'topic';
-    for (const a of input.articles) if (a.topic !== null) label.set(a.id, a.topic);
-  } else {
-    return null;
-  }
-  const keys = [...label.keys()].filter((id) => storyOf.has(id));
-  if (keys.length === 0) return null;
-  const system = new Map(keys.map((id) => [id, [follow(redirect, storyOf.get(id)!)]]));
-  const key = new Map(keys.map((id) => [id, [label.get(id)!]]));
-  return {
-    against,
-    articles: keys.length,
-    stories: new Set([...system.values()].flat()).size,
-    groups: new Set([...key.values()].flat()).size,
-    partition: scorePartitions(partition(key), partition(system)),
-  };
-}
-
-/**
- * Each gold mention's events, the primary one first: the event spanning most articles (a
- * cross-document event), the first in file order on a tie.
- */
-function goldMemberships(input: EvalInput): Clustering {
-  const articlesOf = new Map<string, Set<string>>();
-  for (const x of input.gold) articlesOf.set(x.event, (articlesOf.get(x.event) ?? new Set()).add(x.article));
-  const out: Clustering = new Map();
-  for (const x of input.gold) {
-    const k = mentionKey(x.article, x.sentence);
-    const list = out.get(k) ?? [];
-    if (!list.includes(x.event)) list.push(x.event);
-    out.set(k, list);
-  }
-  for (const [k, list] of out) {
-    const first = list.reduce((best, e) => (articlesOf.get(e)!.size > articlesOf.get(best)!.size ? e : best), list[0]!);
-    out.set(k, [first, ...list.filter((e) => e !== first)]);
-  }
-  return out;
-}
-
-function restrict(c: Clustering, keep: (key: string) => boolean): Clustering {
-  return new Map([...c].filter(([k]) => keep(k)));
-}
-
-/** Clusters of mentions by their first (primary) event. */
-function partition(c: Clustering): string[][] {
-  const by = new Map<string, string[]>();
-  for (const [k, events] of c) {
-    const cluster = by.get(events[0]!);
-    if (cluster) cluster.push(k);
-    else by.set(events[0]!, [k]);
-  }
-  return [...by.values()];
-}
-
-function toSets(c: Clustering): Map<string, Set<string>> {
-  return new Map([...c].map(([k, v]) => [k, new Set(v)]));
-}
-
-function detectionScore(gold: Clustering, system: Clustering, inScope: (k: string) => boolean): Score {
-  const g = [...gold.keys()].filter(inScope);
-  const s = [...system.keys()].filter(inScope);
-  const sys = new Set(s);
-  const hit = g.filter((k) => sys.has(k)).length;
-  const recall = g.length ? hit / g.length : 0;
-  const precision = s.length ? hit / s.length : 0;
-  return { recall, precision, f1: f1(recall, precision) };
-}
-
-function sentenceOf(key: string): number | null {
-  const n = Number(key.slice(key.lastIndexOf('#') + 1));
-  return n < 0 ? null : n;
 }

@@ -4,7 +4,7 @@
  */
 import { createLogger } from '../logger.js';
 import { createNlp } from '../text/nlp.js';
-import { clusteringOf } from './clustering-of.js';
+import { clusteringOf } from './clusterings.js';
 import { linkDetected } from './link-detected.js';
 import type { SweepAnswer, SweepTask } from './sweep-pool.js';
 
