@@ -1,6 +1,7 @@
 /**
  * The configuration schema: every option with its default and why. Validated once at
- * start-up by load-config.ts, then frozen and passed down explicitly.
+ * start-up by load-config.ts, then frozen and passed down explicitly. Over 350 lines
+ * because it is the one place an operator's every option is defined and explained.
  */
 import { z } from 'zod';
 import { NetworkGuard, WEBHOOK_NAMES, parseNetworks } from '../ingest/network-guard.js';

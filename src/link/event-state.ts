@@ -1,7 +1,8 @@
 /**
  * The linker's working view of an event: its centroid (the sum of its mentions' vectors),
  * its time span, participants, places and outlets. Serialised to a compact binary form
- * so the store can keep it without knowing what is inside.
+ * so the store can keep it without knowing what is inside. Over 350 lines because the
+ * state's fields, its updates and its byte layout change together.
  */
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention, EventRecord, Vector } from '../records.js';

@@ -6,7 +6,8 @@
  *
  * Planning is separate from applying: plan() works on copies and returns what would
  * change; the caller commits that to the store and only then calls apply(). A failed
- * commit leaves the linker exactly as it was.
+ * commit leaves the linker exactly as it was. Over 350 lines because planning a link,
+ * applying it and planning merges share the linker's private indexes and tallies.
  */
 import type { EmbeddedMention, Link } from '../records.js';
 import type { LinkTally } from '../store/store.js';

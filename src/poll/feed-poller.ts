@@ -4,6 +4,8 @@
  * 429 and 503, exponential backoff with jitter on errors, and the fetch limits of ingest
  * (address guard, redirects, timeout, size cap). New items go to the same intake as pushed
  * articles; every poll's outcome is kept per feed (the API shows it as the feed's health).
+ * Over 350 lines because one poll's steps (schedule, fetch, parse, record the outcome)
+ * update the same per-feed state, and are easiest to check in one place.
  */
 import { createHash } from 'node:crypto';
 import { StrandError, describeError } from '../errors.js';

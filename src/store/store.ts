@@ -1,7 +1,9 @@
 /**
  * The Store contract: everything Strandline keeps. One contract, several implementations
- * (the embedded SQLite store now; Redis for several processes later), all held to the
- * same contract test suite. Stages never see a concrete store.
+ * (the embedded SQLite store; Redis, alone or as a cluster, for several processes), all
+ * held to the same contract test suite. Stages never see a concrete store; each sees the
+ * narrow part it needs (ArticleLog, LinkingState, EventQueries, Outbox, ...). Over 350
+ * lines because the records the parts exchange are defined once, beside them.
  */
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 import type { StoryRecord } from '../link/story-state.js';

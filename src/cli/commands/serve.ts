@@ -1,6 +1,8 @@
 /**
  * `strandline serve`: the query API and the analysts' page, the webhook dispatcher, the
  * retention sweep, and (with --demo or --replay) a replay into the store while serving.
+ * Over 350 lines because it composes every role (all, api, worker, linker) in one place,
+ * each as a ServiceStack, so their start and stop orders can be read side by side.
  */
 import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';

@@ -6,6 +6,7 @@
  * pause, for up to `giveUpMs`, and only then fails with the reason.
  */
 import { StrandError } from '../../errors.js';
+import type { Logger } from '../../logger.js';
 
 /** Total time a write keeps trying while the file is busy, ms. */
 export const BUSY_GIVE_UP_MS = 120_000;
@@ -39,4 +40,19 @@ export async function whenFree<T>(
       await sleep(Math.min(2_000, 25 * 2 ** Math.min(attempt, 7)));
     }
   }
+}
+
+/** A write that waits while the file is busy (whenFree), as the store's parts run theirs. */
+export type Write = <T>(what: string, fn: () => T) => Promise<T>;
+
+/** Runs writes through whenFree, logging each wait to `log`. */
+export function writeWhenFree(log?: Pick<Logger, 'warn'>): Write {
+  return (what, fn) =>
+    whenFree(what, fn, {
+      onWait: (attempt, err) =>
+        log?.warn(
+          { attempt, code: (err as { code?: string }).code, err: (err as Error).message },
+          'SQLite file busy; the write waits and goes again',
+        ),
+    });
 }

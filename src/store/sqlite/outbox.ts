@@ -1,0 +1,70 @@
+/**
+ * The SQLite store's outbox: notifications written in the transaction of the change they
+ * report (queue), then delivered per subscriber with retries and a dead-letter state.
+ */
+import type Database from 'better-sqlite3';
+import type { Delivery, Outbox, OutboxMessage } from '../store.js';
+import { type Row, toDelivery } from './rows.js';
+import type { Write } from './when-free.js';
+
+export class SqliteOutbox implements Outbox {
+  private readonly st;
+
+  constructor(
+    private readonly db: Database.Database,
+    private readonly write: Write,
+  ) {
+    this.st = {
+      insMessage: db.prepare('INSERT OR IGNORE INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
+      insDelivery: db.prepare(
+        `INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`,
+      ),
+      due: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
+        WHERE d.status = 'pending' AND d.next_at <= ? AND d.subscriber NOT IN (SELECT value FROM json_each(?)) ORDER BY d.next_at LIMIT ?`),
+      dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
+        WHERE d.status = 'dead' ORDER BY d.next_at DESC LIMIT ?`),
+      attempt: db.prepare(
+        'UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?',
+      ),
+    };
+  }
+
+  /** Queues messages inside the caller's transaction. */
+  queue(messages: readonly OutboxMessage[]): void {
+    for (const msg of messages) {
+      this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
+      for (const sub of msg.subscribers) this.st.insDelivery.run(msg.id, sub, msg.created);
+    }
+  }
+
+  async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
+    return (this.st.due.all(now, JSON.stringify(skip), limit) as Row[]).map(toDelivery);
+  }
+
+  async recordAttempt(
+    messageId: string,
+    subscriber: string,
+    o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
+  ): Promise<void> {
+    await this.write(`cannot record a delivery to ${subscriber}`, () =>
+      this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber),
+    );
+  }
+
+  async deadLetters(limit: number): Promise<Delivery[]> {
+    return (this.st.dead.all(limit) as Row[]).map(toDelivery);
+  }
+
+  async pruneNotifications(before: string): Promise<number> {
+    return this.write(
+      'cannot prune notifications',
+      this.db.transaction(() => {
+        // deliveries_due (status, next_at) finds them; a settled delivery's next_at is when it settled.
+        this.db.prepare("DELETE FROM deliveries WHERE status IN ('delivered', 'dead') AND next_at < ?").run(before);
+        return this.db
+          .prepare('DELETE FROM outbox WHERE created < ? AND NOT EXISTS (SELECT 1 FROM deliveries d WHERE d.message_id = outbox.id)')
+          .run(before).changes;
+      }),
+    );
+  }
+}
