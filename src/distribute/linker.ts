@@ -1,7 +1,7 @@
 /**
  * The linker process's loop. Linking is serial by nature, so each partition has exactly one
- * linker: it holds a lease in Redis (renewed while it runs; another linker waits for it to
- * lapse), and every write it makes is fenced with the lease's token, so a linker that
+ * linker: it holds a lease in Redis (lease.ts; renewed while it runs, another linker waits
+ * for it to lapse), and every write it makes is fenced with the lease's token, so a linker that
  * stalled past its lease cannot write over its successor's work. A linker whose lease may
  * have lapsed (Redis gone for longer than the lease) pauses, takes the lease back when it
  * can, reloads from the store and goes on: it neither idles alive nor links twice. It links the analysed articles in intake order, whatever order the workers
@@ -12,7 +12,6 @@
  * a linker that dies between a commit and its position write repeats a few articles as
  * "already stored" and changes nothing; its successor resumes the linker from the store.
  */
-import { randomUUID } from 'node:crypto';
 import type { RedisClient } from '../store/redis/connect.js';
 import { type Observable, Subject } from 'rxjs';
 import { describeError } from '../errors.js';
@@ -28,8 +27,8 @@ import {
   reloadLinking,
 } from '../pipeline/index.js';
 import type { Keyspace } from '../store/redis/keys.js';
-import { defineScript } from '../store/redis/scripts.js';
 import { fieldMap } from './intake.js';
+import { Lease } from './lease.js';
 import { decodeWork } from './wire.js';
 
 /** What the linker loop needs beyond the pipeline context. */
@@ -59,7 +58,6 @@ interface Pending {
 export class QueueLinker {
   private stopping = false;
   private loop: Promise<void> | null = null;
-  private readonly token = randomUUID();
   private readonly outcomes = new Subject<ArticleOutcome>();
   private readonly log: Logger;
   private leaseTimer: NodeJS.Timeout | null = null;
@@ -75,14 +73,12 @@ export class QueueLinker {
   /** Every outcome, in intake order (tests, logs). */
   readonly outcome$: Observable<ArticleOutcome> = this.outcomes.asObservable();
 
-  private readonly renewLease: ReturnType<typeof defineScript>;
-  private readonly releaseLease: ReturnType<typeof defineScript>;
+  private readonly lease: Lease;
 
   constructor(private readonly d: LinkerDeps) {
     this.log = d.logger.child({ stage: 'linker' });
-    this.renewLease = defineScript(d.redis, 'lease-renew');
-    this.releaseLease = defineScript(d.redis, 'lease-release');
     this.leaseMs = d.leaseMs ?? 15_000;
+    this.lease = new Lease(d.redis, d.keys.linkerLease, 'linker', this.log, this.leaseMs);
   }
 
   /** Waits for the partition's lease, then links until stopped (taking the lease back whenever it lapses). */
@@ -97,7 +93,7 @@ export class QueueLinker {
     this.d.blocking.disconnect();
     await this.loop?.catch(() => undefined);
     this.stopRenewing();
-    await this.releaseLease(this.d.keys.linkerLease, this.token).catch(() => undefined);
+    await this.lease.release();
     this.d.fence?.(null);
     this.outcomes.complete();
   }
@@ -131,16 +127,12 @@ export class QueueLinker {
 
   /** Takes the lease (or confirms it is still this linker's), waiting while another holds it; false when stopped first. */
   private async acquire(): Promise<boolean> {
-    const { redis, keys } = this.d;
     let told = false;
     while (!this.stopping) {
       try {
-        const mine =
-          (await this.renewLease(keys.linkerLease, this.token, this.leaseMs)) === 1 ||
-          (await redis.set(keys.linkerLease, this.token, 'PX', this.leaseMs, 'NX')) === 'OK';
-        if (mine) {
+        if (await this.lease.take()) {
           this.renewedAt = Date.now();
-          this.d.fence?.(this.token);
+          this.d.fence?.(this.lease.token);
           return true;
         }
         if (!told) this.log.info('another linker holds this partition; waiting for its lease to lapse');
@@ -170,8 +162,7 @@ export class QueueLinker {
     if (this.renewing || this.lost) return;
     this.renewing = true;
     try {
-      const held = await this.renewLease(this.d.keys.linkerLease, this.token, this.leaseMs);
-      if (held === 1) this.renewedAt = Date.now();
+      if (await this.lease.renew()) this.renewedAt = Date.now();
       else this.lost = true;
     } catch {
       // Unreachable: the watchdog above decides once a whole lease has passed unconfirmed.
