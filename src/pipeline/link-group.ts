@@ -4,6 +4,7 @@
  * transaction; on a failed commit memory is reloaded from the store.
  */
 import { describeError } from '../errors.js';
+import { canonicalUrl } from '../ingest/canonical-url.js';
 import { deserialiseEvent, serialiseEvent, toRecord } from '../link/event-state.js';
 import type { LinkPlan } from '../link/online-linker.js';
 import { buildMessages, buildStoryMessages } from '../notify/messages.js';
@@ -118,6 +119,7 @@ export async function linkGroup(
       commit: {
         storyId: storyPlan?.story.id ?? null,
         article: a.article,
+        canonicalUrl: canonicalUrl(a.article.url),
         sentences: a.sentences.map((s, k) => ({
           index: s.sentence.index,
           text: s.sentence.text,

@@ -120,6 +120,8 @@ export interface MergeRecord {
 /** Everything one article changes, committed atomically. */
 export interface ArticleCommit {
   article: Article;
+  /** The article URL's canonical form (ingest/canonical-url.ts), by which the same article reached through another link is found; null without a URL. */
+  canonicalUrl: string | null;
   /** The story the article joined or opened (null when it has none). */
   storyId?: string | null;
   /** That story's new state, when this commit is the last in its group to change it. */

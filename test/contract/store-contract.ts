@@ -2,6 +2,7 @@
  * The Store contract suite: every Store implementation must pass it unchanged.
  * Call describeStoreContract with a factory that opens an empty store.
  */
+import { canonicalUrl } from '../../src/ingest/canonical-url.js';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import {
@@ -98,6 +99,7 @@ function commitFor(
     event: e,
     commit: {
       article: a,
+      canonicalUrl: canonicalUrl(a.url),
       sentences: [
         { index: 0, text, start: 0, end: text.length, eventness: 0.8 },
         { index: 1, text: 'Background only.', start: text.length + 1, end: text.length + 17, eventness: 0.1 },

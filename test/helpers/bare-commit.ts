@@ -2,6 +2,7 @@
  * An article commit with no sentences, mentions or events: what tests of storage mechanics
  * (document frequencies, the outbox, the log file) commit when linking is beside the point.
  */
+import { canonicalUrl } from '../../src/ingest/canonical-url.js';
 import type { Article } from '../../src/records.js';
 import type { ArticleCommit } from '../../src/store/store.js';
 
@@ -10,7 +11,9 @@ export function bareCommit(
   id: string,
   o: { article?: Partial<Article>; commit?: Partial<Omit<ArticleCommit, 'article'>> } = {},
 ): ArticleCommit {
+  const url = o.article?.url ?? null;
   return {
+    canonicalUrl: canonicalUrl(url),
     article: {
       id,
       outlet: 'O',

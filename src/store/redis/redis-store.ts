@@ -42,7 +42,6 @@ import type {
 } from '../store.js';
 import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
-import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
 import { type ArticleMeta, RedisEventQueries } from './event-queries.js';
@@ -166,7 +165,7 @@ export class RedisStore implements Store {
       time: Date.parse(c.article.published ?? c.article.fetched),
       outlet: c.article.outlet,
       contentHash: c.article.contentHash,
-      canonicalUrl: canonicalUrl(c.article.url),
+      canonicalUrl: c.canonicalUrl,
       sentences: c.sentences.map((s) => [String(s.index), JSON.stringify({ start: s.start, end: s.end, eventness: s.eventness }), s.text]),
       mentions: c.mentions.map((m) => [
         String(m.sentenceIndex),

@@ -38,7 +38,6 @@ import type {
 } from '../store.js';
 import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
-import { canonicalUrl } from '../../ingest/canonical-url.js';
 import { MIGRATIONS } from './schema.js';
 import { type WalCheckpointer, startWalCheckpointer } from './wal-checkpointer.js';
 import { type Write, writeWhenFree } from './when-free.js';
@@ -220,7 +219,7 @@ export class SqliteStore implements Store {
       ...c.article,
       copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null,
       sketch: c.sketch ? encodeWords(c.sketch) : null,
-      canonicalUrl: canonicalUrl(c.article.url),
+      canonicalUrl: c.canonicalUrl,
       storyId: c.storyId ?? null,
     });
     if (c.story) this.upsertStory(c.story);
