@@ -5,7 +5,9 @@ import { describe, expect, it } from 'vitest';
 import { bareCommit } from '../helpers/bare-commit.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 import { isStrandError } from '../../src/errors.js';
-import { describeStoreContract } from './store-contract.js';
+import { commitWithLabelledState, describeStoreContract } from './store-contract.js';
+import { MIGRATIONS } from '../../src/store/sqlite/schema.js';
+import Database from 'better-sqlite3';
 
 describeStoreContract('SQLite store in memory', async () => openSqliteStore(':memory:'));
 describeStoreContract('SQLite store on disk', async () =>
@@ -55,5 +57,30 @@ describe('opening the SQLite store', () => {
       err = e;
     }
     expect(isStrandError(err, 'STRAND_STORE_FAILED')).toBe(true);
+  });
+});
+
+describe('SQLite store migrations', () => {
+  it('rewrites linker states of earlier versions without the label they carried, once, on opening', async () => {
+    const path = join(mkdtempSync(join(tmpdir(), 'strandline-store-')), 'store.sqlite');
+    const secret = 'The Dunvessel levee failed at night.';
+    const old = openSqliteStore(path, { backgroundCheckpoint: false });
+    await old.commitArticle(commitWithLabelledState('a1', secret));
+    await old.close();
+    // The file as the version before the migration left it.
+    const db = new Database(path);
+    db.pragma(`user_version = ${MIGRATIONS.length - 1}`);
+    db.close();
+
+    const store = openSqliteStore(path, { backgroundCheckpoint: false });
+    const states = (await store.loadLinkerState()).events;
+    expect(states).toHaveLength(1);
+    expect(Buffer.from(states[0]!).toString('utf8')).not.toContain('Dunvessel');
+    const check = new Database(path, { readonly: true });
+    expect(check.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
+    check.close();
+    // The record keeps its label: only the copy in the state went.
+    expect((await store.listEvents({ limit: 10, offset: 0 })).events.map((e) => e.label)).toEqual([secret]);
+    await store.close();
   });
 });

@@ -3,7 +3,7 @@ import { isStrandError } from '../../src/errors.js';
 import { keyspace } from '../../src/store/redis/keys.js';
 import { openRedisStore, redactUrl } from '../../src/store/redis/redis-store.js';
 import { newFeedState } from '../../src/store/store.js';
-import { commitFixture, describeStoreContract } from '../contract/store-contract.js';
+import { commitFixture, commitWithLabelledState, describeStoreContract } from '../contract/store-contract.js';
 import { freshRedisStore, redisTestsRun } from '../helpers/redis.js';
 
 const run = redisTestsRun();
@@ -56,6 +56,33 @@ describe.skipIf(!run)('the Redis store', () => {
       expect(await redis.zcard(k.settled)).toBe(0);
     } finally {
       await store.close();
+    }
+  });
+
+  it('rewrites linker states of earlier versions without the label they carried, once, when a store opens', async () => {
+    const secret = 'The Dunvessel levee failed at night.';
+    const old = await freshStore();
+    const partition = old.keys.prefix.replace(/^\{strandline:|\}$/g, '');
+    const redis = (old as unknown as { redis: import('ioredis').Redis }).redis;
+    try {
+      await old.commitArticle(commitWithLabelledState('a1', secret));
+      // The partition as the version before the migration left it.
+      await redis.del(old.keys.format);
+      expect((await old.loadLinkerState()).events.map((s) => Buffer.from(s).toString('utf8')).join()).toContain('Dunvessel');
+
+      const store = await openRedisStore({ url: REDIS_URL, partition });
+      try {
+        const states = (await store.loadLinkerState()).events;
+        expect(states).toHaveLength(1);
+        expect(Buffer.from(states[0]!).toString('utf8')).not.toContain('Dunvessel');
+        expect(await redis.get(old.keys.format)).toBe('1');
+        // The record keeps its label: only the copy in the state went.
+        expect((await store.listEvents({ limit: 10, offset: 0 })).events.map((e) => e.label)).toEqual([secret]);
+      } finally {
+        await store.close();
+      }
+    } finally {
+      await old.close();
     }
   });
 

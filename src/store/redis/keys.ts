@@ -45,6 +45,8 @@ export interface Keyspace {
   readonly settledIndexed: string;
   /** String: the vector space of the partition's vectors (vector-space.ts). */
   readonly vectorSpace: string;
+  /** How many of the data migrations (migrate.ts) the partition has had. */
+  readonly format: string;
   /** Sorted set of story ids by last activity, ms. */
   readonly stories: string;
   /** Hash: absorbed story id → `<into>\n<score>\n<at>`. */
@@ -120,6 +122,7 @@ export function keyspace(partition: string): Keyspace {
     settled: `${p}:settled`,
     settledIndexed: `${p}:settled-indexed`,
     vectorSpace: `${p}:vector-space`,
+    format: `${p}:format`,
     stories: `${p}:stories`,
     storyMerges: `${p}:story-merges`,
     story: (id) => `${p}:story:${id}`,

@@ -44,6 +44,7 @@ import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';
+import { migratePartition } from './migrate.js';
 import { type ArticleMeta, RedisEventQueries } from './event-queries.js';
 import { RedisOutbox } from './outbox.js';
 import { RedisFeedRegistry } from './feed-registry.js';
@@ -80,13 +81,23 @@ export interface RedisStoreOptions {
 export { connectRedis, redactUrl } from './connect.js';
 import { FAIL_FAST, closeClient, isConnectionError, isReady } from './connect.js';
 
-/** Connects to Redis and checks it answers; refuses a malformed URL or partition. */
+/** Connects to Redis and checks it answers, then brings the partition's data up to date (migrate.ts); refuses a malformed URL or partition. */
 export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> {
   const keys = keyspace(o.partition);
-  return new RedisStore(
-    await connectRedis({ url: o.url, cluster: o.cluster ?? false }, { ...(o.failFast ? FAIL_FAST : {}), ...o.redis }, o.onError),
-    keys,
+  const redis = await connectRedis(
+    { url: o.url, cluster: o.cluster ?? false },
+    { ...(o.failFast ? FAIL_FAST : {}), ...o.redis },
+    o.onError,
   );
+  try {
+    await migratePartition(redis, keys);
+  } catch (err) {
+    await closeClient(redis);
+    throw new StrandError('STRAND_STORE_FAILED', `cannot bring Redis partition ${o.partition} up to date: ${(err as Error).message}`, {
+      cause: err,
+    });
+  }
+  return new RedisStore(redis, keys);
 }
 
 /**

@@ -5,7 +5,6 @@
  */
 import type Database from 'better-sqlite3';
 import { StrandError } from '../../errors.js';
-import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
 import { ERASED_LABEL, type Retention, drawnFrom } from '../store.js';
 import { type Row, labelStatements } from './rows.js';
 import type { Write } from './when-free.js';
@@ -70,13 +69,10 @@ export class SqliteRetention implements Retention {
     db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
     db.prepare('UPDATE articles SET sketch = NULL WHERE id = ?').run(id);
     const events = db
-      .prepare('SELECT DISTINCT e.id, e.label, e.state FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?')
+      .prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?')
       .all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {
-      // Linker states written before labels left them carry a label in their header.
-      const state = deserialiseEvent(e.state as Buffer);
-      if (state.label !== '') db.prepare('UPDATE events SET state = ? WHERE id = ?').run(serialiseEvent({ ...state, label: '' }), e.id);
       const label = e.label as string;
       if (!drawnFrom(label, erasedSet)) continue;
       this.st.setLabel.run((this.st.earliestText.get(e.id) as string | undefined) ?? ERASED_LABEL, e.id);

@@ -1,8 +1,29 @@
 /**
  * The SQLite schema. Versioned by `PRAGMA user_version`; each entry of MIGRATIONS moves
- * the file one version up, inside a transaction.
+ * the file one version up, inside a transaction: SQL, or a function for data that SQL
+ * cannot reach (the linker's binary states).
  */
-export const MIGRATIONS: readonly string[] = [
+import type Database from 'better-sqlite3';
+import { deserialiseEvent, serialiseEvent } from '../../link/event-state.js';
+
+/** One step of the schema: SQL to run, or a function given the open database. */
+export type Migration = string | ((db: Database.Database) => void);
+
+/**
+ * Linker states written before labels left them carry the label, a copy of a sentence, in
+ * their header; the label lives with the event record alone, so erasing the sentence's
+ * text can relabel it. The states are rewritten without it.
+ */
+function dropStateLabels(db: Database.Database): void {
+  const rewrite = db.prepare('UPDATE events SET state = ? WHERE id = ?');
+  const rows = db.prepare('SELECT id, state FROM events').all() as { id: string; state: Buffer }[];
+  for (const { id, state } of rows) {
+    const e = deserialiseEvent(state);
+    if (e.label !== '') rewrite.run(serialiseEvent({ ...e, label: '' }), id);
+  }
+}
+
+export const MIGRATIONS: readonly Migration[] = [
   `
   CREATE TABLE articles (
     seq          INTEGER PRIMARY KEY,
@@ -172,4 +193,6 @@ export const MIGRATIONS: readonly string[] = [
   CREATE INDEX events_story ON events(story_id);
   CREATE TABLE link_tally (id INTEGER PRIMARY KEY CHECK (id = 1), mentions INTEGER NOT NULL, high INTEGER NOT NULL);
   `,
+  // States written before labels left them: rewritten without the label (see dropStateLabels).
+  dropStateLabels,
 ];

@@ -91,7 +91,9 @@ function migrate(db: Database.Database): void {
   const version = db.pragma('user_version', { simple: true }) as number;
   for (let v = version; v < MIGRATIONS.length; v++) {
     db.transaction(() => {
-      db.exec(MIGRATIONS[v]!);
+      const step = MIGRATIONS[v]!;
+      if (typeof step === 'string') db.exec(step);
+      else step(db);
       db.pragma(`user_version = ${v + 1}`);
     })();
   }

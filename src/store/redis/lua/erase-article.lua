@@ -1,7 +1,7 @@
 -- erase-article: erases one article's stored text (body, sentences, mention vectors) and relabels the
 -- events whose label came from that text with their earliest remaining sentence, or a
--- placeholder; notifications lose the article's sentences and take the new labels, linker
--- states lose labels written into them by earlier versions. Links, mentions and events stay.
+-- placeholder; notifications lose the article's sentences and take the new labels. Links,
+-- mentions and events stay.
 -- KEYS[1]  the partition's counts hash
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  the article id
@@ -29,7 +29,6 @@ end
 rewrite_messages(P, P .. ':article-messages:' .. id, body_without_text)
 for ev in pairs(events) do
   local ek = P .. ':event:' .. ev
-  drop_state_label(ek)
   local label = redis.call('HGET', ek, 'label')
   if label and drawn_from(label, erased) then
     label = earliest_text(P, ev) or placeholder

@@ -150,17 +150,3 @@ local function rewrite_messages(P, set, f)
   end
 end
 
--- Linker states written before labels left them carry the label in their JSON header
--- (after a 4-byte little-endian length): it is cut out, the rest kept byte for byte.
-local function drop_state_label(ek)
-  local st = redis.call('HGET', ek, 'state')
-  if not st then return end
-  local hlen = struct.unpack('<I4', st)
-  local header = string.sub(st, 5, 4 + hlen)
-  local a, b = string.find(header, '"label":"', 1, true)
-  if not a then return end
-  local rest = string.sub(header, json_string_end(header, b + 1) + 1)
-  if string.sub(rest, 1, 1) == ',' then rest = string.sub(rest, 2) end
-  local nh = string.sub(header, 1, a - 1) .. rest
-  redis.call('HSET', ek, 'state', struct.pack('<I4', #nh) .. nh .. string.sub(st, 5 + hlen))
-end
