@@ -5,11 +5,10 @@
  * code on a copy of the same input, so the answers do not depend on the thread count.
  */
 import { availableParallelism } from 'node:os';
-import { Piscina } from 'piscina';
 import type { Config } from '../config/schema.js';
 import { StrandError } from '../errors.js';
 import type { DetectedWork } from '../pipeline/index.js';
-import { threadFile } from '../thread-file.js';
+import { startThreadPool } from '../thread-pool.js';
 import type { Clustering } from './baselines.js';
 
 /** One link run: the configuration (with the point's threshold), the analysed input, the clock. */
@@ -40,19 +39,10 @@ export function sweepThreads(setting: 'auto' | number, cores = availableParallel
 
 /** Starts `threads` sweep threads and resolves once every one has answered. */
 export async function startSweepPool(threads: number): Promise<SweepPool> {
-  if (threads < 1) throw new StrandError('STRAND_CONFIG_INVALID', `a sweep pool needs at least one thread, not ${threads}`);
-  const pool = new Piscina<SweepTask | null, SweepAnswer | null>({
-    ...threadFile('sweep-thread', import.meta.url),
-    minThreads: threads,
-    maxThreads: threads,
-    idleTimeout: Infinity,
+  const pool = await startThreadPool<SweepTask, SweepAnswer>('sweep-thread', import.meta.url, threads, {
+    what: 'sweep',
+    failCode: 'STRAND_EVAL_FAILED',
   });
-  try {
-    await Promise.all(Array.from({ length: threads }, () => pool.run(null)));
-  } catch (err) {
-    await pool.close({ force: true });
-    throw new StrandError('STRAND_EVAL_FAILED', `sweep threads did not start: ${(err as Error).message}`, { cause: err });
-  }
   return {
     threads,
     async run(task) {

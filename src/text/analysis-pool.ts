@@ -5,9 +5,8 @@
  * code as on the main thread, so outcomes do not depend on the thread count.
  */
 import { availableParallelism } from 'node:os';
-import { Piscina } from 'piscina';
 import { StrandError } from '../errors.js';
-import { threadFile } from '../thread-file.js';
+import { startThreadPool } from '../thread-pool.js';
 import type { Article } from '../records.js';
 import type { AnalysedArticle } from './analyse-article.js';
 
@@ -31,22 +30,13 @@ export const ANALYSIS_AHEAD = 64;
  * resolves once every one has answered, so that a broken thread fails at start-up.
  */
 export async function startAnalysisPool(threads: number): Promise<AnalysisPool> {
-  if (threads < 1) throw new StrandError('STRAND_CONFIG_INVALID', `an analysis pool needs at least one thread, not ${threads}`);
   // Tasks go straight to a thread's message port, which keeps them in order; piscina's own
   // queue (used past this many per thread) does not, and the pipeline needs input order.
-  const pool = new Piscina<Article | null, AnalysedArticle | null>({
-    ...threadFile('analysis-thread', import.meta.url),
-    minThreads: threads,
-    maxThreads: threads,
-    idleTimeout: Infinity,
+  const pool = await startThreadPool<Article, AnalysedArticle>('analysis-thread', import.meta.url, threads, {
+    what: 'analysis',
+    failCode: 'STRAND_ANALYSIS_FAILED',
     concurrentTasksPerWorker: ANALYSIS_AHEAD,
   });
-  try {
-    await Promise.all(Array.from({ length: threads }, () => pool.run(null)));
-  } catch (err) {
-    await pool.close({ force: true });
-    throw new StrandError('STRAND_ANALYSIS_FAILED', `analysis threads did not start: ${(err as Error).message}`, { cause: err });
-  }
   return {
     threads,
     async analyse(article) {

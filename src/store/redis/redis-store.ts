@@ -15,31 +15,19 @@ import { StrandError } from '../../errors.js';
 import type { Article, TimeExpression } from '../../records.js';
 import type {
   ArticleCommit,
-  ArticleDetail,
   CommitResult,
-  Delivery,
-  EventDetail,
-  EventPage,
-  EventQuery,
-  StoryDetail,
   StoryMergeCommit,
-  StoryPage,
-  StoryQuery,
   StoryUpdate,
   EventUpdate,
-  FeedEntry,
   LinkedMention,
   LinkerSnapshot,
   MergeCommit,
-  MergeRecord,
-  Outbox,
   OutboxMessage,
   SharedMention,
   SplitCommit,
-  SplitRecord,
   Store,
-  StoreCounts,
 } from '../store.js';
+import { StoreParts } from '../store-parts.js';
 import { ERASED_LABEL } from '../store.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { type Keyspace, keyspace } from './keys.js';
@@ -106,12 +94,12 @@ export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> 
  * parts: the API's queries, the outbox's deliveries, the feed list and retention. Over 350
  * lines because each commit's payload is built here, beside the script it feeds.
  */
-export class RedisStore implements Store {
+export class RedisStore extends StoreParts implements Store {
   private readonly scripts: Scripts;
-  private readonly queries: RedisEventQueries;
-  private readonly outbox: RedisOutbox;
-  private readonly feeds: RedisFeedRegistry;
-  private readonly retention: RedisRetention;
+  protected readonly queries: RedisEventQueries;
+  protected readonly outbox: RedisOutbox;
+  protected readonly feeds: RedisFeedRegistry;
+  protected readonly retention: RedisRetention;
   /** The linker's lease token its commits are fenced with; null: not fenced (one process, tools). */
   private fence: string | null = null;
 
@@ -119,6 +107,7 @@ export class RedisStore implements Store {
     private readonly redis: RedisClient,
     private readonly k: Keyspace,
   ) {
+    super();
     this.scripts = {
       commitArticles: defineScript(redis, 'commit-articles'),
       commitMerge: defineScript(redis, 'commit-merge'),
@@ -418,74 +407,6 @@ export class RedisStore implements Store {
   /** Deletes every key of this partition (tests and decommissioning; not part of the contract). */
   async dropPartition(): Promise<number> {
     return deleteMatching(this.redis, this.k.pattern);
-  }
-
-  // The other concerns, each in its own part.
-  listEvents(q: EventQuery): Promise<EventPage> {
-    return this.queries.listEvents(q);
-  }
-  getEvent(id: string): Promise<EventDetail | null> {
-    return this.queries.getEvent(id);
-  }
-  splitsOf(eventId: string): Promise<SplitRecord[]> {
-    return this.queries.splitsOf(eventId);
-  }
-  mergedInto(id: string): Promise<string | null> {
-    return this.queries.mergedInto(id);
-  }
-  mergesInto(id: string): Promise<MergeRecord[]> {
-    return this.queries.mergesInto(id);
-  }
-  listStories(q: StoryQuery): Promise<StoryPage> {
-    return this.queries.listStories(q);
-  }
-  getStory(id: string): Promise<StoryDetail | null> {
-    return this.queries.getStory(id);
-  }
-  storyMergedInto(id: string): Promise<string | null> {
-    return this.queries.storyMergedInto(id);
-  }
-  getArticle(id: string): Promise<ArticleDetail | null> {
-    return this.queries.getArticle(id);
-  }
-  listOutlets(): Promise<{ outlet: string; articles: number }[]> {
-    return this.queries.listOutlets();
-  }
-  counts(): Promise<StoreCounts> {
-    return this.queries.counts();
-  }
-  dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
-    return this.outbox.dueDeliveries(now, limit, skip);
-  }
-  recordAttempt(...a: Parameters<Outbox['recordAttempt']>): Promise<void> {
-    return this.outbox.recordAttempt(...a);
-  }
-  deadLetters(limit: number): Promise<Delivery[]> {
-    return this.outbox.deadLetters(limit);
-  }
-  pruneNotifications(before: string): Promise<number> {
-    return this.outbox.pruneNotifications(before);
-  }
-  listFeeds(): Promise<FeedEntry[]> {
-    return this.feeds.listFeeds();
-  }
-  putFeed(f: FeedEntry): Promise<void> {
-    return this.feeds.putFeed(f);
-  }
-  updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
-    return this.feeds.updateFeed(id, change);
-  }
-  deleteFeed(id: string): Promise<boolean> {
-    return this.feeds.deleteFeed(id);
-  }
-  eraseTextBefore(day: string): Promise<number> {
-    return this.retention.eraseTextBefore(day);
-  }
-  eraseArticleText(id: string): Promise<boolean> {
-    return this.retention.eraseArticleText(id);
-  }
-  compact(): Promise<void> {
-    return this.retention.compact();
   }
 
   unavailable(err?: unknown): boolean {

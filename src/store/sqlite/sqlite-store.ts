@@ -11,31 +11,19 @@ import type { Logger } from '../../logger.js';
 import { StrandError } from '../../errors.js';
 import type {
   ArticleCommit,
-  ArticleDetail,
   CommitResult,
-  Delivery,
-  EventDetail,
-  EventPage,
-  EventQuery,
   EventUpdate,
-  FeedEntry,
   LinkTally,
   LinkedMention,
   LinkerSnapshot,
   MergeCommit,
-  MergeRecord,
-  Outbox,
   SharedMention,
   SplitCommit,
-  SplitRecord,
   Store,
-  StoreCounts,
-  StoryDetail,
   StoryMergeCommit,
-  StoryPage,
-  StoryQuery,
   StoryUpdate,
 } from '../store.js';
+import { StoreParts } from '../store-parts.js';
 import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { MIGRATIONS } from './schema.js';
@@ -105,13 +93,13 @@ function migrate(db: Database.Database): void {
  * concerns to their own parts: the API's queries, the outbox's deliveries, the feed list
  * and retention. Over 350 lines because a commit's statements are prepared and run here.
  */
-export class SqliteStore implements Store {
+export class SqliteStore extends StoreParts implements Store {
   private readonly st;
   private readonly write: Write;
-  private readonly queries: SqliteEventQueries;
-  private readonly outbox: SqliteOutbox;
-  private readonly feeds: SqliteFeedRegistry;
-  private readonly retention: SqliteRetention;
+  protected readonly queries: SqliteEventQueries;
+  protected readonly outbox: SqliteOutbox;
+  protected readonly feeds: SqliteFeedRegistry;
+  protected readonly retention: SqliteRetention;
   private readonly commitTx: (c: ArticleCommit) => CommitResult;
   private readonly commitManyTx: (cs: readonly ArticleCommit[]) => CommitResult[];
   private readonly mergeTx: (m: MergeCommit) => void;
@@ -123,6 +111,7 @@ export class SqliteStore implements Store {
     private readonly checkpointer?: WalCheckpointer,
     log?: Pick<Logger, 'warn'>,
   ) {
+    super();
     this.write = writeWhenFree(log);
     this.queries = new SqliteEventQueries(db);
     this.outbox = new SqliteOutbox(db, this.write);
@@ -444,74 +433,6 @@ export class SqliteStore implements Store {
       )
       .all(since) as Row[];
     return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: decodeWords(r.sketch as Buffer) }));
-  }
-
-  // The other concerns, each in its own part.
-  listEvents(q: EventQuery): Promise<EventPage> {
-    return this.queries.listEvents(q);
-  }
-  getEvent(id: string): Promise<EventDetail | null> {
-    return this.queries.getEvent(id);
-  }
-  splitsOf(eventId: string): Promise<SplitRecord[]> {
-    return this.queries.splitsOf(eventId);
-  }
-  mergedInto(id: string): Promise<string | null> {
-    return this.queries.mergedInto(id);
-  }
-  mergesInto(id: string): Promise<MergeRecord[]> {
-    return this.queries.mergesInto(id);
-  }
-  listStories(q: StoryQuery): Promise<StoryPage> {
-    return this.queries.listStories(q);
-  }
-  getStory(id: string): Promise<StoryDetail | null> {
-    return this.queries.getStory(id);
-  }
-  storyMergedInto(id: string): Promise<string | null> {
-    return this.queries.storyMergedInto(id);
-  }
-  getArticle(id: string): Promise<ArticleDetail | null> {
-    return this.queries.getArticle(id);
-  }
-  listOutlets(): Promise<{ outlet: string; articles: number }[]> {
-    return this.queries.listOutlets();
-  }
-  counts(): Promise<StoreCounts> {
-    return this.queries.counts();
-  }
-  dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
-    return this.outbox.dueDeliveries(now, limit, skip);
-  }
-  recordAttempt(...a: Parameters<Outbox['recordAttempt']>): Promise<void> {
-    return this.outbox.recordAttempt(...a);
-  }
-  deadLetters(limit: number): Promise<Delivery[]> {
-    return this.outbox.deadLetters(limit);
-  }
-  pruneNotifications(before: string): Promise<number> {
-    return this.outbox.pruneNotifications(before);
-  }
-  listFeeds(): Promise<FeedEntry[]> {
-    return this.feeds.listFeeds();
-  }
-  putFeed(f: FeedEntry): Promise<void> {
-    return this.feeds.putFeed(f);
-  }
-  updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
-    return this.feeds.updateFeed(id, change);
-  }
-  deleteFeed(id: string): Promise<boolean> {
-    return this.feeds.deleteFeed(id);
-  }
-  eraseTextBefore(day: string): Promise<number> {
-    return this.retention.eraseTextBefore(day);
-  }
-  eraseArticleText(id: string): Promise<boolean> {
-    return this.retention.eraseArticleText(id);
-  }
-  compact(): Promise<void> {
-    return this.retention.compact();
   }
 
   unavailable(): boolean {

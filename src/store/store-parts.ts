@@ -1,0 +1,98 @@
+/**
+ * What a backend's store hands to its parts: every Store method outside the commits (the
+ * API's queries, the outbox's deliveries, the feed list, retention), passed on to the part
+ * that owns it. Both backends extend it, so the hand-over is written once.
+ */
+import type {
+  ArticleDetail,
+  Delivery,
+  EventDetail,
+  EventPage,
+  EventQueries,
+  EventQuery,
+  FeedEntry,
+  FeedRegistry,
+  MergeRecord,
+  Outbox,
+  Retention,
+  SplitRecord,
+  StoreCounts,
+  StoryDetail,
+  StoryPage,
+  StoryQuery,
+} from './store.js';
+
+/** The parts a store is made of besides its commits. */
+export abstract class StoreParts implements EventQueries, Outbox, FeedRegistry, Retention {
+  protected abstract readonly queries: EventQueries;
+  protected abstract readonly outbox: Outbox;
+  protected abstract readonly feeds: FeedRegistry;
+  protected abstract readonly retention: Retention;
+
+  listEvents(q: EventQuery): Promise<EventPage> {
+    return this.queries.listEvents(q);
+  }
+  getEvent(id: string): Promise<EventDetail | null> {
+    return this.queries.getEvent(id);
+  }
+  splitsOf(eventId: string): Promise<SplitRecord[]> {
+    return this.queries.splitsOf(eventId);
+  }
+  mergedInto(id: string): Promise<string | null> {
+    return this.queries.mergedInto(id);
+  }
+  mergesInto(id: string): Promise<MergeRecord[]> {
+    return this.queries.mergesInto(id);
+  }
+  listStories(q: StoryQuery): Promise<StoryPage> {
+    return this.queries.listStories(q);
+  }
+  getStory(id: string): Promise<StoryDetail | null> {
+    return this.queries.getStory(id);
+  }
+  storyMergedInto(id: string): Promise<string | null> {
+    return this.queries.storyMergedInto(id);
+  }
+  getArticle(id: string): Promise<ArticleDetail | null> {
+    return this.queries.getArticle(id);
+  }
+  listOutlets(): Promise<{ outlet: string; articles: number }[]> {
+    return this.queries.listOutlets();
+  }
+  counts(): Promise<StoreCounts> {
+    return this.queries.counts();
+  }
+  dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
+    return this.outbox.dueDeliveries(now, limit, skip);
+  }
+  recordAttempt(...a: Parameters<Outbox['recordAttempt']>): Promise<void> {
+    return this.outbox.recordAttempt(...a);
+  }
+  deadLetters(limit: number): Promise<Delivery[]> {
+    return this.outbox.deadLetters(limit);
+  }
+  pruneNotifications(before: string): Promise<number> {
+    return this.outbox.pruneNotifications(before);
+  }
+  listFeeds(): Promise<FeedEntry[]> {
+    return this.feeds.listFeeds();
+  }
+  putFeed(f: FeedEntry): Promise<void> {
+    return this.feeds.putFeed(f);
+  }
+  updateFeed(id: string, change: (f: FeedEntry) => FeedEntry): Promise<FeedEntry | null> {
+    return this.feeds.updateFeed(id, change);
+  }
+  deleteFeed(id: string): Promise<boolean> {
+    return this.feeds.deleteFeed(id);
+  }
+  eraseTextBefore(day: string): Promise<number> {
+    return this.retention.eraseTextBefore(day);
+  }
+  eraseArticleText(id: string): Promise<boolean> {
+    return this.retention.eraseArticleText(id);
+  }
+  compact(): Promise<void> {
+    return this.retention.compact();
+  }
+}
