@@ -7,7 +7,9 @@
  * Layout (keys.ts): per article a hash (meta JSON, text, seq) and hashes of sentences,
  * sentence texts, mentions and links; per event a hash (record JSON, label, outlets JSON,
  * linker state) and the set of sentences linked to it; sorted sets of articles by commit
- * order and by time, and of events by last activity; counters in one hash.
+ * order and by time, and of events by last activity; counters in one hash. Over 350 lines
+ * because each commit's payload is built here, beside the script it feeds; the other
+ * concerns are parts of their own (event-queries.ts, outbox.ts, ...).
  */
 import type { RedisOptions } from 'ioredis';
 import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
@@ -91,8 +93,7 @@ export async function openRedisStore(o: RedisStoreOptions): Promise<RedisStore> 
 /**
  * The Redis implementation of Store. It writes the article log and the linking state (each
  * commit one script, outbox messages included) and hands the other concerns to their own
- * parts: the API's queries, the outbox's deliveries, the feed list and retention. Over 350
- * lines because each commit's payload is built here, beside the script it feeds.
+ * parts: the API's queries, the outbox's deliveries, the feed list and retention.
  */
 export class RedisStore extends StoreParts implements Store {
   private readonly scripts: Scripts;

@@ -2,7 +2,9 @@
  * The embedded Store on SQLite (better-sqlite3): one file, nothing else to install.
  * Write-ahead logging, so a process killed at any point loses no committed transaction and
  * readers (the API) never block the writer (the pipeline). Every article's results are one
- * transaction: after a crash an article is either wholly stored or not at all.
+ * transaction: after a crash an article is either wholly stored or not at all. Over 350
+ * lines because each commit's statements are prepared and run here, in one transaction;
+ * the other concerns are parts of their own (event-queries.ts, outbox.ts, ...).
  */
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
@@ -91,7 +93,7 @@ function migrate(db: Database.Database): void {
  * The SQLite implementation of Store. It writes the article log and the linking state
  * (their commits are one transaction each, outbox rows included) and hands the other
  * concerns to their own parts: the API's queries, the outbox's deliveries, the feed list
- * and retention. Over 350 lines because a commit's statements are prepared and run here.
+ * and retention.
  */
 export class SqliteStore extends StoreParts implements Store {
   private readonly st;
