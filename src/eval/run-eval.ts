@@ -120,12 +120,13 @@ async function evaluateCorpus(
   // CoNLL parts, extended BCubed, and for the linker the pairwise scores).
   const quick = (system: Clustering, withPairs: boolean): Quick => {
     const s = restrict(system, inScope);
+    const sets = toSets(s);
     const p = conllScores(goldPartition, partition(s));
     return {
       conll: p.conllF1,
       b3: p.b3,
-      ext: extendedBcubed(goldSets, toSets(s)),
-      pairwise: withPairs ? pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf) : null,
+      ext: extendedBcubed(goldSets, sets),
+      pairwise: withPairs ? pairwiseLinkScores(goldSets, sets, articleOf, storyOf) : null,
     };
   };
   const score = (
@@ -136,14 +137,15 @@ async function evaluateCorpus(
     best: SystemResult['best'] = null,
   ): SystemResult => {
     const s = restrict(system, inScope);
+    const sets = toSets(s);
     return {
       name,
       kind,
       seconds,
       best,
       partition: scorePartitions(goldPartition, partition(s)),
-      extendedBcubed: extendedBcubed(goldSets, toSets(s)),
-      pairwise: pairwiseLinkScores(goldSets, toSets(s), articleOf, storyOf),
+      extendedBcubed: extendedBcubed(goldSets, sets),
+      pairwise: pairwiseLinkScores(goldSets, sets, articleOf, storyOf),
       events: new Set([...s.values()].flat()).size,
     };
   };

@@ -17,7 +17,8 @@ import {
 } from '../../src/link/event-state.js';
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
-import { type ArticleCommit, type OutboxMessage, type Store, newFeedState } from '../../src/store/store.js';
+import { type ArticleCommit, type EventUpdate, type OutboxMessage, type Store, newFeedState } from '../../src/store/store.js';
+import { outletRows } from '../../src/pipeline/consolidate.js';
 
 const embedder = new TfidfEmbedder(16);
 
@@ -107,13 +108,7 @@ function commitFor(
       ],
       mentions: [m],
       links: [link],
-      events: [
-        {
-          record: toRecord(e),
-          outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
-          state: serialiseEvent(e),
-        },
-      ],
+      events: [update(e)],
       idf: {
         docs: 2,
         df: new Map([
@@ -155,6 +150,11 @@ async function fireThenStrike(
 export function commitWithLabelledState(id: string, label: string): ArticleCommit {
   const { commit, event } = commitFor(article(id, 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', label), label, null);
   return { ...commit, events: [{ ...commit.events[0]!, state: stateWithLabel(event, label) }] };
+}
+
+/** An event's state as a commit writes it (consolidation's own outlet rows). */
+function update(e: EventState): EventUpdate {
+  return { record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) };
 }
 
 /** A commit of one article opening one event (for store-specific tests). */
@@ -570,11 +570,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.recentEventIds(5)).sort()).toEqual([first.event.id, second.event.id].sort());
       const merged = mergeStates(first.event, second.event, 300);
       await store.commitMerge({
-        into: {
-          record: toRecord(merged),
-          outlets: [...merged.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
-          state: serialiseEvent(merged),
-        },
+        into: update(merged),
         from: second.event.id,
         score: 0.45,
         at: '2026-10-08T09:00:00.000Z',
@@ -662,11 +658,6 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       addMention(kept, first.commit.mentions[0] as EmbeddedMention, 1, 300);
       const split = openEvent('ev_split', second.commit.mentions[0] as EmbeddedMention);
       for (const c of [second, third]) addMention(split, c.commit.mentions[0] as EmbeddedMention, 1, 300);
-      const update = (e: EventState) => ({
-        record: toRecord(e),
-        outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
-        state: serialiseEvent(e),
-      });
       await store.commitSplit({
         from: update(kept),
         into: update(split),
@@ -702,11 +693,6 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       // The part with the labelling sentence goes (as when a split-off event, whose opener is not its id's, splits again).
       const kept = openEvent(first.event.id, second.commit.mentions[0] as EmbeddedMention);
       const split = openEvent('ev_split', first.commit.mentions[0] as EmbeddedMention);
-      const update = (e: EventState) => ({
-        record: toRecord(e),
-        outlets: [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent })),
-        state: serialiseEvent(e),
-      });
       await store.commitSplit({
         from: update(kept),
         into: update(split),

@@ -39,22 +39,25 @@ function articles(): Article[] {
   }));
 }
 
+/** A low link threshold chains the articles into one event; splits are left to a consolidation pass the test runs. */
+const SPLITTING = {
+  link: {
+    threshold: 0.1,
+    calibration: { mode: 'fixed' as const },
+    crossStoryMargin: 0,
+    splitThreshold: 0.2,
+    splitMinMentions: 4,
+    consolidateEvery: 0,
+  },
+  webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
+};
+
 describe('consolidation splits an event that drifted', () => {
   let rt: Runtime;
   afterEach(async () => rt.close());
 
   async function chainedRun(): Promise<string> {
-    rt = await testRuntime({
-      link: {
-        threshold: 0.1,
-        calibration: { mode: 'fixed' },
-        crossStoryMargin: 0,
-        splitThreshold: 0.2,
-        splitMinMentions: 4,
-        consolidateEvery: 0,
-      },
-      webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
-    });
+    rt = await testRuntime(SPLITTING);
     const outcomes = await lastValueFrom(
       runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()),
     );
@@ -64,17 +67,7 @@ describe('consolidation splits an event that drifted', () => {
   }
 
   it('relabels the event left behind when its label sentence moved, in the store and in the notification alike', async () => {
-    rt = await testRuntime({
-      link: {
-        threshold: 0.1,
-        calibration: { mode: 'fixed' },
-        crossStoryMargin: 0,
-        splitThreshold: 0.2,
-        splitMinMentions: 4,
-        consolidateEvery: 0,
-      },
-      webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
-    });
+    rt = await testRuntime(SPLITTING);
     const outcomes = await lastValueFrom(
       runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'sentences', indices: new Set([0]) }) }).pipe(toArray()),
     );

@@ -14,7 +14,7 @@
 import type { RedisOptions } from 'ioredis';
 import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
 import { StrandError } from '../../errors.js';
-import type { Article, TimeExpression } from '../../records.js';
+import type { Article, Mention } from '../../records.js';
 import type {
   ArticleCommit,
   CommitResult,
@@ -305,15 +305,10 @@ export class RedisStore extends StoreParts implements Store {
       const [articleId, idx] = splitMember(m);
       const [mention, text, vector, ...links] = rows.slice(i * per, i * per + per) as (string | null)[];
       if (!mention || links.some((l) => !l)) return [];
-      const mm = JSON.parse(mention) as {
-        outlet: string;
-        published: string;
-        eventness: number;
-        participants: string[];
-        places: string[];
-        times: TimeExpression[];
-        isCopy: boolean;
-      };
+      const mm = JSON.parse(mention) as Pick<
+        Mention,
+        'outlet' | 'published' | 'eventness' | 'participants' | 'places' | 'times' | 'isCopy'
+      >;
       return [
         {
           mention: {
