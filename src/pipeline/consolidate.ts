@@ -12,23 +12,48 @@ import { type ArticleOutcome, type ConsolidationOutcome, type PipelineContext, t
 
 /**
  * Counts stored articles over the whole store, so that a restarted process consolidates at
- * the same points, and says when consolidation is due (every `consolidateEvery`).
+ * the same points, and says when consolidation is due (every `consolidateEvery`). The store
+ * records a due pass as owed with the article that makes it due, until the pass completes:
+ * a pass that a failure cut short (the store unreachable, the lease lost) is owed still, and
+ * the next run takes it up before linking on, so that it happens at the same point.
  */
 export class ConsolidationCadence {
   private stored: number | null = null;
+  private owed: number | null = null;
 
   constructor(private readonly ctx: PipelineContext) {}
 
   /** Counts one more article about to be stored; true when consolidation is due after it. */
   async afterArticle(): Promise<boolean> {
     const every = this.ctx.config.link.consolidateEvery;
-    this.stored = this.stored === null ? (await this.ctx.store.counts()).articles + 1 : this.stored + 1;
+    this.stored = (await this.count()) + 1;
     return every > 0 && this.stored % every === 0;
   }
 
-  /** Forgets the count (after a failed commit it is read from the store again). */
+  /** The stored-article count of a pass owed by an earlier run, once per read from the store; null when none. */
+  async takeOwed(): Promise<number | null> {
+    await this.count();
+    const owed = this.owed;
+    this.owed = null;
+    return owed;
+  }
+
+  /** The count of the pass now due (after afterArticle returned true). */
+  get at(): number {
+    return this.stored ?? 0;
+  }
+
+  /** Forgets the count (after a failed commit it is read from the store again, with any pass owed). */
   reset(): void {
     this.stored = null;
+  }
+
+  private async count(): Promise<number> {
+    if (this.stored !== null) return this.stored;
+    const [counts, owed] = await Promise.all([this.ctx.store.counts(), this.ctx.store.consolidationOwed()]);
+    this.stored = counts.articles;
+    this.owed = this.ctx.config.link.consolidateEvery > 0 ? owed : null;
+    return this.stored;
   }
 }
 

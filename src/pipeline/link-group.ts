@@ -11,7 +11,14 @@ import { buildMessages, buildStoryMessages } from '../notify/messages.js';
 import type { StoryPlan } from '../link/story-linker.js';
 import { deserialiseStory, serialiseStory, storyRecord } from '../link/story-state.js';
 import { type ArticleCommit, type CommitResult } from '../store/store.js';
-import { type ArticleOutcome, type EmbeddedArticle, type Flow, type PipelineContext, outcomeOf } from './context.js';
+import {
+  type ArticleOutcome,
+  type ConsolidationOutcome,
+  type EmbeddedArticle,
+  type Flow,
+  type PipelineContext,
+  outcomeOf,
+} from './context.js';
 import { ConsolidationCadence, applyStoredLabels, consolidate, outletRows } from './consolidate.js';
 
 /**
@@ -99,11 +106,35 @@ export async function linkGroup(
     if (stale) await resync(ctx, cadence);
   };
 
+  /** One pass over the events and stories of the last interval; settled in the store once it completes. */
+  const runPass = async (at: number): Promise<ConsolidationOutcome | null> => {
+    try {
+      const every = ctx.config.link.consolidateEvery;
+      const pass = await consolidate(ctx, await ctx.store.recentEventIds(every), await ctx.store.recentStoryIds(every));
+      await ctx.store.settleConsolidation(at);
+      return pass;
+    } catch (err) {
+      // The articles are stored; the pass stays owed and is taken up after the reload.
+      log.error({ err: describeError(err) }, 'consolidation failed');
+      await resync(ctx, cadence);
+      return null;
+    }
+  };
+  // Passes an earlier run left owed, reported with the group's first outcome.
+  const owedPasses: ConsolidationOutcome[] = [];
+
   for (let i = 0; i < flows.length; i++) {
     const f = flows[i]!;
     if (f.done) {
       outcomes[i] = f.done;
       continue;
+    }
+    // A pass owed comes before the next article is linked, as it would have without the failure.
+    const owed = await cadence.takeOwed();
+    if (owed !== null) {
+      log.info({ articles: owed }, 'taking up a consolidation pass left owed');
+      const pass = await runPass(owed);
+      if (pass) owedPasses.push(pass);
     }
     const a = f.go;
     // The story first: a sentence is judged against its article's story.
@@ -135,23 +166,17 @@ export async function linkGroup(
       },
     });
     if (await cadence.afterArticle()) {
-      // Consolidation reads what is stored: commit what is pending first.
+      // Consolidation reads what is stored: commit what is pending first, the pass owed with it.
+      const at = cadence.at;
+      pending.at(-1)!.commit.consolidationDue = true;
       await flush();
       if (outcomes[i]?.status !== 'stored') continue;
-      try {
-        const every = ctx.config.link.consolidateEvery;
-        outcomes[i] = {
-          ...outcomes[i]!,
-          ...(await consolidate(ctx, await ctx.store.recentEventIds(every), await ctx.store.recentStoryIds(every))),
-        };
-      } catch (err) {
-        // The articles are stored; a failed merge is retried at the next pass.
-        log.error({ err: describeError(err) }, 'consolidation failed');
-        await resync(ctx, cadence);
-      }
+      const pass = await runPass(at);
+      if (pass) outcomes[i] = withPass(outcomes[i]!, pass);
     }
   }
   await flush();
+  if (outcomes.length > 0) outcomes[0] = owedPasses.reduce(withPass, outcomes[0]!);
   return outcomes;
 }
 
@@ -170,6 +195,15 @@ export async function reloadLinking(ctx: PipelineContext): Promise<void> {
 async function resync(ctx: PipelineContext, cadence: ConsolidationCadence): Promise<void> {
   await reloadLinking(ctx);
   cadence.reset();
+}
+
+function withPass(o: ArticleOutcome, pass: ConsolidationOutcome): ArticleOutcome {
+  return {
+    ...o,
+    merges: [...o.merges, ...pass.merges],
+    splits: [...o.splits, ...pass.splits],
+    storyMerges: [...o.storyMerges, ...pass.storyMerges],
+  };
 }
 
 function assignments(links: readonly { sentenceIndex: number; eventId: string; rank: number }[]): ArticleOutcome['assignments'] {

@@ -138,6 +138,11 @@ export interface ArticleCommit {
   /** Increments of the linker's tally of best-candidate scores (its stream calibration). */
   tally?: LinkTally | null;
   messages: OutboxMessage[];
+  /**
+   * This article completes a consolidation interval: with it, the store records a pass as
+   * owed (at the stored-article count), so that a pass a failure cut short is run on resume.
+   */
+  consolidationDue?: boolean;
 }
 
 /** The linker's count of mentions scored and of those whose best candidate scored high (link/calibration.ts). */
@@ -417,6 +422,10 @@ export interface LinkingState {
   commitStoryMerge(m: StoryMergeCommit): Promise<void>;
   /** The stories the last `articles` stored articles joined (after merges), most recent first. */
   recentStoryIds(articles: number): Promise<string[]>;
+  /** The stored-article count of the consolidation pass owed (recorded by a due commit, not yet settled), or null. */
+  consolidationOwed(): Promise<number | null>;
+  /** Settles the owed pass once a pass at `articles` (or later) has completed. */
+  settleConsolidation(articles: number): Promise<void>;
 }
 
 /** What a starting linker reads back, and the vector space the store is bound to. */

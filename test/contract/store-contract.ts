@@ -212,6 +212,25 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.counts()).articles).toBe(2);
     });
 
+    it('owes a consolidation pass from the commit that makes it due until a pass at or after it is settled', async () => {
+      const a = ['a1', 'a2', 'a3'].map((id, k) => article(id, 'O', `2026-10-05T1${k}:00:00.000Z`, id));
+      expect(await store.consolidationOwed()).toBeNull();
+      await store.commitArticles([
+        commitFor(a[0]!, 'The levee failed.', null).commit,
+        { ...commitFor(a[1]!, 'A bridge fell.', null).commit, consolidationDue: true },
+      ]);
+      expect(await store.consolidationOwed()).toBe(2);
+      // A due commit of an article already stored owes nothing new.
+      await store.commitArticles([{ ...commitFor(a[0]!, 'The levee failed.', null).commit, consolidationDue: true }]);
+      expect(await store.consolidationOwed()).toBe(2);
+      await store.settleConsolidation(1);
+      expect(await store.consolidationOwed()).toBe(2);
+      await store.settleConsolidation(2);
+      expect(await store.consolidationOwed()).toBeNull();
+      await store.commitArticles([{ ...commitFor(a[2]!, 'A dam held.', null).commit, consolidationDue: true }]);
+      expect(await store.consolidationOwed()).toBe(3);
+    });
+
     it('gives an event its mentions from every outlet, oldest first, with evidence', async () => {
       const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
       const a2 = article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y');

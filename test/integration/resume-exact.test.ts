@@ -67,4 +67,38 @@ describe('a linker restarted from its store', () => {
       expect(links(path)).toEqual(uninterrupted);
     },
   );
+
+  // The store fails once at the due point (25), after the articles are stored: the pass is
+  // owed, and whoever links next takes it up before the next article, whether the same run
+  // (30 articles) or a restarted one (the first run ends at 25).
+  it.each([
+    { when: 'before the pass read its events', method: 'recentEventIds', first: 25 },
+    { when: 'before the pass read its events', method: 'recentEventIds', first: 30 },
+    { when: 'before the pass was settled', method: 'settleConsolidation', first: 25 },
+    { when: 'before the pass was settled', method: 'settleConsolidation', first: 30 },
+  ] as const)(
+    'links exactly as an uninterrupted one when a consolidation pass failed $when (first run of $first articles)',
+    async ({ method, first }) => {
+      const path = join(dir, `owed-${method}-${first}.sqlite`);
+      const rt = await testRuntime({}, path);
+      // Fails the first call only, as a store back after a blip would.
+      const store = rt.store as unknown as Record<string, (n: number) => Promise<unknown>>;
+      const real = store[method]!.bind(rt.store);
+      let failed = false;
+      store[method] = (n) => {
+        if (failed) return real(n);
+        failed = true;
+        return Promise.reject(new Error('store unreachable'));
+      };
+      const outcomes = await runArticles(rt, articles.slice(0, first));
+      expect(outcomes.filter((o) => o.status === 'stored')).toHaveLength(first);
+      expect(await rt.store.consolidationOwed()).toBe(first === 25 ? 25 : null);
+      await rt.close();
+      const second = await testRuntime({}, path);
+      await runArticles(second, articles);
+      expect(await second.store.consolidationOwed()).toBeNull();
+      await second.close();
+      expect(links(path)).toEqual(uninterrupted);
+    },
+  );
 });

@@ -257,6 +257,9 @@ describe.skipIf(!run)('the linker lease, when it lapses', () => {
       await redis.set(keys.linkerLease, 'linker-b');
       await expect(store.commitArticle(commitFixture('stale'))).rejects.toMatchObject({ code: 'STRAND_LEASE_LOST' });
       expect(await store.hasArticle('stale')).toBe(false);
+      await redis.set(keys.consolidationOwed, '1');
+      await expect(store.settleConsolidation(1)).rejects.toMatchObject({ code: 'STRAND_LEASE_LOST' });
+      expect(await store.consolidationOwed()).toBe(1);
       expect((await store.counts()).articles).toBe(1);
     } finally {
       redis.disconnect();

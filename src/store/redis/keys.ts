@@ -29,6 +29,8 @@ export interface Keyspace {
   readonly idfDocs: string;
   /** The linker's tally (link/calibration.ts): a hash of mentions and high. */
   readonly linkTally: string;
+  /** The stored-article count of the consolidation pass owed (set by a due commit, cleared when a pass completes). */
+  readonly consolidationOwed: string;
   /** Hash: absorbed event id → JSON {into, score, at}. */
   readonly merges: string;
   /** Hash: event opened by a split → JSON {from, mentions, score, at}. */
@@ -112,6 +114,7 @@ export function keyspace(partition: string): Keyspace {
     idf: `${p}:idf`,
     idfDocs: `${p}:idf-docs`,
     linkTally: `${p}:link-tally`,
+    consolidationOwed: `${p}:consolidation-owed`,
     merges: `${p}:merges`,
     splits: `${p}:splits`,
     feeds: `${p}:feeds`,

@@ -48,6 +48,7 @@ interface Scripts {
   commitMerge: Script;
   commitSplit: Script;
   putStates: Script;
+  settleConsolidation: Script;
   commitStoryMerge: Script;
   eraseArticle: Script;
   pruneNotifications: Script;
@@ -114,6 +115,7 @@ export class RedisStore extends StoreParts implements Store {
       commitMerge: defineScript(redis, 'commit-merge'),
       commitSplit: defineScript(redis, 'commit-split'),
       putStates: defineScript(redis, 'put-states'),
+      settleConsolidation: defineScript(redis, 'settle-consolidation'),
       commitStoryMerge: defineScript(redis, 'commit-story-merge'),
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
@@ -192,6 +194,7 @@ export class RedisStore extends StoreParts implements Store {
       idf: c.idf && (c.idf.docs > 0 || c.idf.df.size > 0) ? { docs: c.idf.docs, df: [...c.idf.df].flat() } : null,
       tally: c.tally && c.tally.mentions > 0 ? c.tally : null,
       messages: messagePayload(c.messages),
+      due: c.consolidationDue === true,
     }));
     try {
       return (await this.scripts.commitArticles(
@@ -243,6 +246,19 @@ export class RedisStore extends StoreParts implements Store {
     const stories = (await pipelined(this.redis, ids, (p, id) => p.hget(this.k.article(id), 'story'))) as (string | null)[];
     const current = await this.queries.currentStories(stories.filter((x): x is string => x !== null));
     return [...new Set(stories.flatMap((x) => (x === null ? [] : [current.get(x)!])))];
+  }
+
+  async consolidationOwed(): Promise<number | null> {
+    const v = await this.redis.get(this.k.consolidationOwed);
+    return v === null ? null : Number(v);
+  }
+
+  async settleConsolidation(articles: number): Promise<void> {
+    try {
+      await this.scripts.settleConsolidation(this.k.counts, this.k.prefix, JSON.stringify({ fence: this.fence, articles }));
+    } catch (err) {
+      throw writeError(err, 'cannot settle the consolidation pass');
+    }
   }
 
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {

@@ -121,6 +121,9 @@ export class SqliteStore extends StoreParts implements Store {
     this.retention = new SqliteRetention(db, this.write);
     this.st = {
       hasArticle: db.prepare('SELECT 1 FROM articles WHERE id = ?').pluck(),
+      oweConsolidation: db.prepare(
+        `INSERT OR REPLACE INTO meta (key, value) VALUES ('consolidation_owed', (SELECT count(*) FROM articles))`,
+      ),
       ...labelStatements(db),
       sentenceText: db.prepare('SELECT text FROM sentences WHERE article_id = ? AND idx = ?').pluck(),
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
@@ -238,6 +241,7 @@ export class SqliteStore extends StoreParts implements Store {
       if ((st.idfLogCount.get() as number) >= this.idfSnapshotEvery) this.snapshotIdf();
     }
     if (c.tally && c.tally.mentions > 0) st.addTally.run(c.tally);
+    if (c.consolidationDue) st.oweConsolidation.run();
     this.outbox.queue(c.messages);
     return 'stored';
   }
@@ -417,6 +421,17 @@ export class SqliteStore extends StoreParts implements Store {
       )
       .pluck()
       .all(articles) as string[];
+  }
+
+  async consolidationOwed(): Promise<number | null> {
+    const v = this.db.prepare(`SELECT value FROM meta WHERE key = 'consolidation_owed'`).pluck().get() as string | undefined;
+    return v === undefined ? null : Number(v);
+  }
+
+  async settleConsolidation(articles: number): Promise<void> {
+    await this.write('cannot settle the consolidation pass', () =>
+      this.db.prepare(`DELETE FROM meta WHERE key = 'consolidation_owed' AND CAST(value AS INTEGER) <= ?`).run(articles),
+    );
   }
 
   async claimVectorSpace(space: string): Promise<string> {

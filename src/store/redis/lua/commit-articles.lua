@@ -59,6 +59,7 @@ for i, c in ipairs(commits) do
     redis.call('HINCRBY', counts, 'sentences', #c.sentences)
     redis.call('HINCRBY', counts, 'mentions', #c.mentions)
     redis.call('HINCRBY', counts, 'links', #c.links)
+    if c.due then redis.call('SET', P .. ':consolidation-owed', redis.call('HGET', counts, 'articles')) end
     out[i] = 'stored'
   end
 end
