@@ -7,6 +7,7 @@
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention, EventRecord, Vector } from '../records.js';
 import { dayNumber } from '../text/days.js';
+import { labelFrom } from './labels.js';
 
 /** Everything the linker knows about one event. */
 export interface EventState {
@@ -100,7 +101,7 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
   const [timeStart, timeEnd] = explicit ?? implicitSpan(m);
   const e: EventState = {
     id,
-    label: makeLabel(m.text),
+    label: labelFrom(m.text),
     firstSeen: m.published,
     lastSeen: m.published,
     timeStart,
@@ -383,12 +384,6 @@ function topNames(map: ReadonlyMap<string, readonly [string, number]>, n: number
     .map((x) => x[0]);
 }
 
-function makeLabel(text: string): string {
-  if (text.length <= 160) return text;
-  const cut = text.slice(0, 157);
-  return `${cut.slice(0, Math.max(cut.lastIndexOf(' '), 120))}…`;
-}
-
 function dayString(n: number): string {
   return new Date(n * 86_400_000).toISOString().slice(0, 10);
 }
@@ -467,4 +462,9 @@ export function decodeCentroid(b: Buffer, at: number, sparseSize: number, denseS
     }
   }
   return { sparse, dense };
+}
+
+/** An event's mention counts per outlet, as the stores keep them. */
+export function outletRows(e: EventState): { outlet: string; mentions: number; independent: number }[] {
+  return [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent }));
 }

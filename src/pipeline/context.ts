@@ -2,30 +2,19 @@
  * The records the pipeline's stages pass along and what they are handed: the context, the
  * outcome of each article, and a Flow (work going on, or an article already finished).
  */
-import type { Config } from '../config/schema.js';
 import { type DetectedArticle, type MentionSelection } from '../detect/detect-mentions.js';
 import type { Embedder } from '../embed/embedder.js';
-import type { OnlineLinker } from '../link/online-linker.js';
-import type { Logger } from '../logger.js';
+import type { ConsolidationContext, MergeOutcome, SplitOutcome } from '../link/consolidate.js';
 import type { Article, EmbeddedMention, Vector } from '../records.js';
-import type { StoryLinker } from '../link/story-linker.js';
 import { type StoryArticle } from '../link/story-state.js';
-import { type Store } from '../store/store.js';
 import { type AnalysisPool } from '../text/analysis-pool.js';
 import type { Nlp } from '../text/nlp.js';
 import type { CopyDetector } from '../copies/copy-detector.js';
 
-/** What the pipeline is handed. */
-export interface PipelineContext {
-  config: Readonly<Config>;
+/** What the pipeline is handed (the linkers and the store with it: what consolidation works with too). */
+export interface PipelineContext extends ConsolidationContext {
   nlp: Nlp;
   embedder: Embedder;
-  linker: OnlineLinker;
-  /** Which story each article joins (whole-article evidence). */
-  stories: StoryLinker;
-  store: Store;
-  logger: Logger;
-  now: () => Date;
   /** Analysis threads; without them articles are analysed on the main thread with `nlp`. */
   analysis?: AnalysisPool;
   /** Overrides which sentences become mentions (evaluation); live use leaves it unset. */
@@ -49,7 +38,7 @@ export interface ArticleOutcome {
   /** Each linked sentence (-1: the whole article) with its events, best first. */
   assignments: { sentenceIndex: number; eventIds: string[] }[];
   /** Merges consolidation made after this article (event `from` now lives in `into`). */
-  merges: { from: string; into: string; score: number }[];
+  merges: MergeOutcome[];
   /** Splits consolidation made after this article (the `moved` mentions left `from` for the new event `into`). */
   splits: SplitOutcome[];
   /** The story the article joined or opened (null when not stored). */
@@ -57,22 +46,7 @@ export interface ArticleOutcome {
   /** Whether the article opened its story. */
   storyOpened: boolean;
   /** Story merges consolidation made after this article (story `from` now lives in `into`). */
-  storyMerges: { from: string; into: string; score: number }[];
-}
-
-/** One split as reported to callers. */
-export interface SplitOutcome {
-  from: string;
-  into: string;
-  score: number;
-  moved: { articleId: string; sentenceIndex: number }[];
-}
-
-/** What one consolidation pass changed. */
-export interface ConsolidationOutcome {
-  merges: ArticleOutcome['merges'];
-  splits: SplitOutcome[];
-  storyMerges: ArticleOutcome['storyMerges'];
+  storyMerges: MergeOutcome[];
 }
 
 /** An article still on its way (`go`), or one that has finished early (`done`). */

@@ -2,17 +2,8 @@
  * The pipeline's public face: the stages' wiring and what callers (the commands, the
  * scale-out roles, eval) use. Each stage lives in a module of its own in this folder.
  */
-export {
-  type ArticleOutcome,
-  type ConsolidationOutcome,
-  type DetectedWork,
-  type Flow,
-  type PipelineContext,
-  type SplitOutcome,
-  outcomeOf,
-} from './context.js';
+export { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, outcomeOf } from './context.js';
 export { admitStage, admitWork } from './admit.js';
-export { consolidate } from './consolidate.js';
 export { reloadLinking } from './link-group.js';
 export { linkStages, runPipeline } from './run-pipeline.js';
 export { detectWork, embedTogether } from './embed-group.js';

@@ -5,21 +5,14 @@
  */
 import { describeError } from '../errors.js';
 import { canonicalUrl } from '../ingest/canonical-url.js';
-import { deserialiseEvent, serialiseEvent, toRecord } from '../link/event-state.js';
+import { deserialiseEvent, outletRows, serialiseEvent, toRecord } from '../link/event-state.js';
 import type { LinkPlan } from '../link/online-linker.js';
 import { buildMessages, buildStoryMessages } from '../notify/messages.js';
 import type { StoryPlan } from '../link/story-linker.js';
 import { deserialiseStory, serialiseStory, storyRecord } from '../link/story-state.js';
 import { type ArticleCommit, type CommitResult } from '../store/store.js';
-import {
-  type ArticleOutcome,
-  type ConsolidationOutcome,
-  type EmbeddedArticle,
-  type Flow,
-  type PipelineContext,
-  outcomeOf,
-} from './context.js';
-import { ConsolidationCadence, applyStoredLabels, consolidate, outletRows } from './consolidate.js';
+import { type ArticleOutcome, type EmbeddedArticle, type Flow, type PipelineContext, outcomeOf } from './context.js';
+import { type ConsolidationOutcome, ConsolidationCadence, applyStoredLabels, consolidate } from '../link/consolidate.js';
 
 /**
  * Links a group of articles, one after another (each sees the links of those before it),

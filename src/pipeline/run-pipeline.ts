@@ -20,7 +20,7 @@ import { ANALYSIS_AHEAD } from '../text/analysis-pool.js';
 import { type ArticleOutcome, type DetectedWork, type Flow, type PipelineContext, outcomeOf } from './context.js';
 import { admitStage } from './admit.js';
 import { embedGroup } from './embed-group.js';
-import { ConsolidationCadence } from './consolidate.js';
+import { ConsolidationCadence } from '../link/consolidate.js';
 import { linkGroup } from './link-group.js';
 
 /** Largest group of articles committed in one transaction. */

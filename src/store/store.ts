@@ -8,16 +8,6 @@
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 import type { StoryRecord } from '../link/story-state.js';
 
-/** The label of an event whose every sentence has had its text erased. */
-export const ERASED_LABEL = '(text erased under the retention policy)';
-
-/** True when a label was drawn from one of these sentences: the sentence itself, or its start cut with an ellipsis. */
-export function drawnFrom(label: string, sentences: Iterable<string>): boolean {
-  const stem = label.endsWith('…') ? label.slice(0, -1) : null;
-  for (const t of sentences) if (t === label || (stem !== null && t.startsWith(stem))) return true;
-  return false;
-}
-
 /** One sentence as committed, with its event-ness. */
 export interface StoredSentence {
   index: number;

@@ -10,6 +10,7 @@ import {
   addMention,
   deserialiseEvent,
   mergeStates,
+  outletRows,
   openEvent,
   serialiseEvent,
   toRecord,
@@ -18,7 +19,6 @@ import {
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
 import { type ArticleCommit, type EventUpdate, type OutboxMessage, type Store, newFeedState } from '../../src/store/store.js';
-import { outletRows } from '../../src/pipeline/consolidate.js';
 
 const embedder = new TfidfEmbedder(16);
 

@@ -1,6 +1,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { from, lastValueFrom, toArray } from 'rxjs';
-import { consolidate, runPipeline } from '../../src/pipeline/index.js';
+import { consolidate } from '../../src/link/consolidate.js';
+import { runPipeline } from '../../src/pipeline/index.js';
 import type { Article } from '../../src/records.js';
 import type { Runtime } from '../../src/runtime.js';
 import { buildApp } from '../../src/api/build-app.js';

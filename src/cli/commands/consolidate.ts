@@ -1,5 +1,5 @@
 /** `strandline consolidate`: the consolidation pass (merges, then splits) on demand, over every stored event. */
-import { consolidate } from '../../pipeline/index.js';
+import { consolidate } from '../../link/consolidate.js';
 import { createRuntime } from '../../runtime.js';
 import { type CommonOptions, setup } from '../common.js';
 import { listenForStop } from '../stop-signals.js';

@@ -30,7 +30,7 @@ import type {
   Store,
 } from '../store.js';
 import { StoreParts } from '../store-parts.js';
-import { ERASED_LABEL } from '../store.js';
+import { ERASED_LABEL } from '../../link/labels.js';
 import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { type Keyspace, keyspace } from './keys.js';
 import { defineScript } from './scripts.js';

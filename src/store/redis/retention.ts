@@ -1,5 +1,6 @@
 /** The Redis store's retention: stored text erased by one script per article, with what was derived from it. */
-import { ERASED_LABEL, type Retention } from '../store.js';
+import { ERASED_LABEL } from '../../link/labels.js';
+import type { Retention } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 import type { defineScript } from './scripts.js';

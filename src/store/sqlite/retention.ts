@@ -5,7 +5,8 @@
  */
 import type Database from 'better-sqlite3';
 import { StrandError } from '../../errors.js';
-import { ERASED_LABEL, type Retention, drawnFrom } from '../store.js';
+import { ERASED_LABEL, drawnFrom, relabelAfter } from '../../link/labels.js';
+import type { Retention } from '../store.js';
 import { type Row, labelStatements } from './rows.js';
 import type { Write } from './when-free.js';
 
@@ -73,9 +74,8 @@ export class SqliteRetention implements Retention {
       .all(id) as Row[];
     const erasedSet = new Set(erased);
     for (const e of events) {
-      const label = e.label as string;
-      if (!drawnFrom(label, erasedSet)) continue;
-      this.st.setLabel.run((this.st.earliestText.get(e.id) as string | undefined) ?? ERASED_LABEL, e.id);
+      const relabel = relabelAfter(e.label as string, erasedSet, () => this.st.earliestText.get(e.id) as string | undefined);
+      if (relabel !== null) this.st.setLabel.run(relabel, e.id);
     }
   }
 

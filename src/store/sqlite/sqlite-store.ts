@@ -9,6 +9,7 @@
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import Database from 'better-sqlite3';
+import { relabelAfter } from '../../link/labels.js';
 import type { Logger } from '../../logger.js';
 import { StrandError } from '../../errors.js';
 import type {
@@ -26,7 +27,6 @@ import type {
   StoryUpdate,
 } from '../store.js';
 import { StoreParts } from '../store-parts.js';
-import { ERASED_LABEL, drawnFrom } from '../store.js';
 import { decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { MIGRATIONS } from './schema.js';
 import { type WalCheckpointer, startWalCheckpointer } from './wal-checkpointer.js';
@@ -339,8 +339,9 @@ export class SqliteStore extends StoreParts implements Store {
         .map((m) => this.st.sentenceText.get(m.articleId, m.sentenceIndex) as string | null | undefined)
         .filter((t): t is string => typeof t === 'string'),
     );
-    if (label !== undefined && drawnFrom(label, movedTexts))
-      this.st.setLabel.run((this.st.earliestText.get(from) as string | undefined) ?? ERASED_LABEL, from);
+    const relabel =
+      label === undefined ? null : relabelAfter(label, movedTexts, () => this.st.earliestText.get(from) as string | undefined);
+    if (relabel !== null) this.st.setLabel.run(relabel, from);
     this.st.insSplit.run(into, from, sp.moved.length, sp.score, sp.at);
     this.outbox.queue(sp.messages);
   }

@@ -3,12 +3,48 @@
  * be one and splits events that drifted into two happenings, each change one transaction
  * with its notifications (labels as the store holds them).
  */
-import { type EventState, serialiseEvent, toRecord } from '../link/event-state.js';
+import type { Config } from '../config/schema.js';
+import type { Logger } from '../logger.js';
 import { buildMergeMessages, buildSplitMessages, buildStoryMergeMessages } from '../notify/messages.js';
 import type { EmbeddedMention } from '../records.js';
-import { serialiseStory, storyRecord } from '../link/story-state.js';
-import { ERASED_LABEL, drawnFrom } from '../store/store.js';
-import { type ArticleOutcome, type ConsolidationOutcome, type PipelineContext, type SplitOutcome } from './context.js';
+import type { Store } from '../store/store.js';
+import { type EventState, outletRows, serialiseEvent, toRecord } from './event-state.js';
+import { relabelAfter } from './labels.js';
+import type { OnlineLinker } from './online-linker.js';
+import type { StoryLinker } from './story-linker.js';
+import { serialiseStory, storyRecord } from './story-state.js';
+
+/** What consolidation works with: the linkers' memory, the store, and when and whom to notify. */
+export interface ConsolidationContext {
+  config: Readonly<Config>;
+  linker: OnlineLinker;
+  stories: StoryLinker;
+  store: Store;
+  logger: Logger;
+  now: () => Date;
+}
+
+/** One merge: `from` now lives in `into`. */
+export interface MergeOutcome {
+  from: string;
+  into: string;
+  score: number;
+}
+
+/** One split as reported to callers: the `moved` mentions left `from` for the new event `into`. */
+export interface SplitOutcome {
+  from: string;
+  into: string;
+  score: number;
+  moved: { articleId: string; sentenceIndex: number }[];
+}
+
+/** What one consolidation pass changed. */
+export interface ConsolidationOutcome {
+  merges: MergeOutcome[];
+  splits: SplitOutcome[];
+  storyMerges: MergeOutcome[];
+}
 
 /**
  * Counts stored articles over the whole store, so that a restarted process consolidates at
@@ -21,7 +57,7 @@ export class ConsolidationCadence {
   private stored: number | null = null;
   private owed: number | null = null;
 
-  constructor(private readonly ctx: PipelineContext) {}
+  constructor(private readonly ctx: ConsolidationContext) {}
 
   /** Counts one more article about to be stored; true when consolidation is due after it. */
   async afterArticle(): Promise<boolean> {
@@ -63,7 +99,7 @@ export class ConsolidationCadence {
  * `signal` aborts, the pass stops after the one in hand.
  */
 export async function consolidate(
-  ctx: PipelineContext,
+  ctx: ConsolidationContext,
   ids: readonly string[],
   storyIds: readonly string[],
   signal?: AbortSignal,
@@ -82,8 +118,8 @@ export async function consolidate(
 }
 
 /** Merges the stories among `ids` that turn out to be one thread; each merge is its own commit. */
-async function mergeStoriesOf(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<ArticleOutcome['storyMerges']> {
-  const done: ArticleOutcome['storyMerges'] = [];
+async function mergeStoriesOf(ctx: ConsolidationContext, ids: readonly string[], signal?: AbortSignal): Promise<MergeOutcome[]> {
+  const done: MergeOutcome[] = [];
   for (const m of ctx.stories.planMerges(ids)) {
     if (signal?.aborted) break;
     const merged = ctx.stories.mergedState(m.into, m.from);
@@ -101,7 +137,7 @@ async function mergeStoriesOf(ctx: PipelineContext, ids: readonly string[], sign
 }
 
 /** Splits the events among `ids` whose mentions drifted into two parts; events with erased mentions are left whole. */
-async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?: AbortSignal): Promise<SplitOutcome[]> {
+async function splitEvents(ctx: ConsolidationContext, ids: readonly string[], signal?: AbortSignal): Promise<SplitOutcome[]> {
   const done: SplitOutcome[] = [];
   // Events examined and left whole: their marks are stored, so a restart examines the same.
   const unsplit: string[] = [];
@@ -128,11 +164,12 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
       .filter((l) => moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`))
       .map((l) => l.mention.text)
       .filter((t) => t !== '');
-    if (drawnFrom(plan.kept.label, movedTexts)) {
-      plan.kept.label =
-        linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text ??
-        ERASED_LABEL;
-    }
+    plan.kept.label =
+      relabelAfter(
+        plan.kept.label,
+        movedTexts,
+        () => linked.find((l) => !moved.has(`${l.mention.articleId}#${l.mention.sentenceIndex}`) && l.mention.text !== '')?.mention.text,
+      ) ?? plan.kept.label;
     await ctx.store.commitSplit({
       from: { record: toRecord(plan.kept), outlets: outletRows(plan.kept), state: serialiseEvent(plan.kept) },
       into: { record: toRecord(plan.split), outlets: outletRows(plan.split), state: serialiseEvent(plan.split) },
@@ -151,8 +188,8 @@ async function splitEvents(ctx: PipelineContext, ids: readonly string[], signal?
 }
 
 /** Merges the events among `ids` that turn out to be one; each merge is its own commit. */
-async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?: AbortSignal): Promise<ArticleOutcome['merges']> {
-  const done: ArticleOutcome['merges'] = [];
+async function mergeEvents(ctx: ConsolidationContext, ids: Iterable<string>, signal?: AbortSignal): Promise<MergeOutcome[]> {
+  const done: MergeOutcome[] = [];
   for (const m of ctx.linker.planMerges(ids, ctx.config.link.mergeThreshold)) {
     if (signal?.aborted) break;
     const merged = ctx.linker.mergedState(m.into, m.from, await ctx.store.linkedToBoth(m.into, m.from));
@@ -177,7 +214,7 @@ async function mergeEvents(ctx: PipelineContext, ids: Iterable<string>, signal?:
  * relabelled an event since the linker read it, and a notification must not carry erased
  * text. The states are the linker's own, so its memory is brought up to date as well.
  */
-export async function applyStoredLabels(ctx: PipelineContext, events: readonly EventState[]): Promise<void> {
+export async function applyStoredLabels(ctx: ConsolidationContext, events: readonly EventState[]): Promise<void> {
   // Without subscribers nothing is notified, and commits never write an existing label.
   if (events.length === 0 || ctx.config.webhooks.subscribers.length === 0) return;
   const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
@@ -185,8 +222,4 @@ export async function applyStoredLabels(ctx: PipelineContext, events: readonly E
     const label = labels.get(e.id);
     if (label !== undefined) e.label = label;
   }
-}
-
-export function outletRows(e: EventState): { outlet: string; mentions: number; independent: number }[] {
-  return [...e.outlets].map(([outlet, [mentions, independent]]) => ({ outlet, mentions, independent }));
 }
