@@ -340,11 +340,22 @@ export const configSchema = z.strictObject({
       storyHalfLifeDays: z.number().min(0.1).default(7),
       /** Two stories merge when their centroids score this alike (cosine x decay). Default 0.5. */
       storyMergeThreshold: z.number().min(0).max(1).default(0.5),
+      /**
+       * A story divides in two when its articles' two parts score below this (centroid
+       * cosine x story time decay). Default 0.1 (docs/decisions/stories.md); 0 turns it off.
+       */
+      storySplitThreshold: z.number().min(0).max(1).default(0.1),
+      /** Stories with fewer articles are not examined for a split. Default 8. */
+      storySplitMinArticles: z.number().int().min(0).default(8),
     })
     .prefault({})
     .refine((l) => l.splitThreshold <= l.mergeThreshold, {
       message: 'splitThreshold must not exceed mergeThreshold (a split event would merge back)',
       path: ['splitThreshold'],
+    })
+    .refine((l) => l.storySplitThreshold <= l.storyMergeThreshold, {
+      message: 'storySplitThreshold must not exceed storyMergeThreshold (a split story would merge back)',
+      path: ['storySplitThreshold'],
     }),
   webhooks: z
     .strictObject({

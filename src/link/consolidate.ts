@@ -5,14 +5,15 @@
  */
 import type { Config } from '../config/schema.js';
 import type { Logger } from '../logger.js';
-import { buildMergeMessages, buildSplitMessages, buildStoryMergeMessages } from '../notify/messages.js';
+import { buildMergeMessages, buildSplitMessages, buildStoryMergeMessages, buildStorySplitMessages } from '../notify/messages.js';
 import type { EmbeddedMention } from '../records.js';
 import type { Store } from '../store/store.js';
 import { type EventState, outletRows, serialiseEvent, toRecord } from './event-state.js';
 import { relabelAfter } from './labels.js';
 import type { OnlineLinker } from './online-linker.js';
 import type { StoryLinker } from './story-linker.js';
-import { serialiseStory, storyRecord } from './story-state.js';
+import type { StoryMemberInput } from './split-story.js';
+import { type StoryState, serialiseStory, storyRecord } from './story-state.js';
 
 /** What consolidation works with: the linkers' memory, the store, and when and whom to notify. */
 export interface ConsolidationContext {
@@ -39,11 +40,20 @@ export interface SplitOutcome {
   moved: { articleId: string; sentenceIndex: number }[];
 }
 
+/** One story split as reported to callers: the `moved` articles left `from` for the new story `into`. */
+export interface StorySplitOutcome {
+  from: string;
+  into: string;
+  score: number;
+  moved: string[];
+}
+
 /** What one consolidation pass changed. */
 export interface ConsolidationOutcome {
   merges: MergeOutcome[];
   splits: SplitOutcome[];
   storyMerges: MergeOutcome[];
+  storySplits: StorySplitOutcome[];
 }
 
 /**
@@ -114,7 +124,15 @@ export async function consolidate(
         signal,
       );
   const storyMerges = signal?.aborted ? [] : await mergeStoriesOf(ctx, storyIds, signal);
-  return { merges, splits, storyMerges };
+  const storiesGone = new Set(storyMerges.map((m) => m.from));
+  const storySplits = signal?.aborted
+    ? []
+    : await splitStories(
+        ctx,
+        storyIds.filter((id) => !storiesGone.has(id)),
+        signal,
+      );
+  return { merges, splits, storyMerges, storySplits };
 }
 
 /** Merges the stories among `ids` that turn out to be one thread; each merge is its own commit. */
@@ -133,6 +151,49 @@ async function mergeStoriesOf(ctx: ConsolidationContext, ids: readonly string[],
     ctx.stories.applyMerge(merged, m.from);
     done.push(m);
   }
+  return done;
+}
+
+/**
+ * Splits the stories among `ids` whose articles drifted into two threads; the events first
+ * reported in the moved articles go with them. Stories with an erased article are left whole.
+ */
+async function splitStories(ctx: ConsolidationContext, ids: readonly string[], signal?: AbortSignal): Promise<StorySplitOutcome[]> {
+  const done: StorySplitOutcome[] = [];
+  // Stories examined and left whole: their marks are stored, so a restart examines the same.
+  const unsplit: string[] = [];
+  for (const id of ctx.stories.splitCandidates(ids)) {
+    if (signal?.aborted) break;
+    const members = await ctx.store.storyMembers(id);
+    const plan = members.every((m) => m.vector !== null) ? ctx.stories.planSplit(id, members as StoryMemberInput[]) : null;
+    if (!plan) {
+      unsplit.push(id);
+      continue;
+    }
+    const moved = new Set(plan.moved);
+    const events: EventState[] = [];
+    for (const e of ctx.linker.eventsInStory(id, (s) => ctx.stories.resolve(s))) {
+      // An event goes with the article that first reported it.
+      const first = (await ctx.store.linkedMentions(e.id))[0];
+      if (first && moved.has(first.mention.articleId)) events.push(ctx.linker.movedState(e.id, plan.split.id));
+    }
+    await applyStoredLabels(ctx, events);
+    await ctx.store.commitStorySplit({
+      from: { record: storyRecord(plan.kept), state: serialiseStory(plan.kept) },
+      into: { record: storyRecord(plan.split), state: serialiseStory(plan.split) },
+      moved: plan.moved,
+      events: events.map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
+      score: plan.score,
+      at: ctx.now().toISOString(),
+      messages: buildStorySplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
+    });
+    ctx.stories.applySplit(plan);
+    ctx.linker.applyMoves(events);
+    done.push({ from: id, into: plan.split.id, score: plan.score, moved: plan.moved });
+  }
+  const marks = unsplit.map((id) => ctx.stories.story(id)).filter((s): s is StoryState => s !== undefined);
+  await ctx.store.putStoryStates(marks.map((s) => ({ id: s.id, state: serialiseStory(s) })));
+  if (done.length) ctx.logger.child({ stage: 'link' }).debug({ storySplits: done.length }, 'consolidation split stories');
   return done;
 }
 

@@ -383,6 +383,28 @@ export class OnlineLinker {
     }
   }
 
+  /** The events filed under `story` (their own story followed through merges by `resolve`), by id. */
+  eventsInStory(story: string, resolve: (id: string) => string): EventState[] {
+    return [...this.events.values()].filter((e) => e.story !== null && resolve(e.story) === story).sort((a, b) => (a.id < b.id ? -1 : 1));
+  }
+
+  /** An event's state filed under another story (a story split moved it); changes nothing. */
+  movedState(id: string, story: string): EventState {
+    const e = cloneEvent(this.events.get(id)!);
+    e.story = story;
+    e.version++;
+    e.touched = ++this.clock;
+    return e;
+  }
+
+  /** Applies committed moves of events to another story. */
+  applyMoves(states: readonly EventState[]): void {
+    for (const e of states) {
+      this.events.set(e.id, e);
+      this.register(e);
+    }
+  }
+
   /** Makes a committed plan part of the linker's state. */
   apply(plan: LinkPlan): void {
     for (const e of plan.events) {

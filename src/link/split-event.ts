@@ -9,8 +9,8 @@
  */
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention } from '../records.js';
-import { addMention, centroidCosine, eventIdFor, type EventState, explicitSpan, mentionSpan, openEvent } from './event-state.js';
-import { cosine } from './score-candidate.js';
+import { addMention, eventIdFor, type EventState, explicitSpan, mentionSpan, openEvent } from './event-state.js';
+import { divide, divideInTwo } from './two-means.js';
 
 /** One mention of the event, with the rank of its link to it (0 = the sentence's best link). */
 export interface SplitMember {
@@ -41,7 +41,6 @@ export interface SplitPlan {
 
 /** Each part keeps at least this many mentions: one stray sentence is left to the linker. */
 const MIN_PART = 2;
-const MAX_ROUNDS = 10;
 /** Further links of one sentence count half in a centroid, as when linking. */
 const SECONDARY_WEIGHT = 0.5;
 
@@ -52,37 +51,20 @@ const SECONDARY_WEIGHT = 0.5;
  */
 export function planSplit(event: EventState, members: readonly SplitMember[], o: SplitOptions): SplitPlan | null {
   if (o.splitMinMentions <= 0 || members.length < Math.max(o.splitMinMentions, 2 * MIN_PART)) return null;
-  const spans = members.map((m) => mentionSpan(m.mention));
-  const explicit = members.map((m) => explicitSpan(m.mention));
-  const fit = (i: number, p: Part): number => {
-    const [ms, me] = spans[i]!;
-    const gap = Math.max(0, p.timeStart - me, ms - p.timeEnd);
-    return cosine(members[i]!.mention.vector, p) * Math.pow(0.5, gap / o.halfLifeDays);
-  };
-  const partOf = (indices: readonly number[]): Part => part(members, explicit, spans, indices);
-
-  // Seeds: the mention that fits the event least, then the one least like it.
-  const all = members.map((_, i) => i);
-  const seedA = argMin(all, (i) => fit(i, event));
-  const a0 = partOf([seedA]);
-  const seedB = argMin(all, (i) => (i === seedA ? Infinity : fit(i, a0)));
-  if (seedB === seedA) return null;
-  let side = all.map((i) => (i === seedB ? 1 : 0));
-  let parts: [Part, Part] = [a0, partOf([seedB])];
-  for (let round = 0; round < MAX_ROUNDS; round++) {
-    const next = all.map((i) => (fit(i, parts[1]) > fit(i, parts[0]) ? 1 : 0));
-    const changed = next.some((x, i) => x !== side[i]);
-    side = next;
-    const [i0, i1] = [all.filter((i) => side[i] === 0), all.filter((i) => side[i] === 1)];
-    if (i0.length === 0 || i1.length === 0) return null;
-    parts = [partOf(i0), partOf(i1)];
-    if (!changed) break;
-  }
+  const division = divideInTwo(
+    members.map((m) => ({
+      vector: m.mention.vector,
+      span: mentionSpan(m.mention),
+      explicit: explicitSpan(m.mention),
+      weight: weightOf(m),
+    })),
+    event,
+    o.halfLifeDays,
+  );
+  if (!division) return null;
+  const { side, score } = division;
   const [p0, p1] = divide(members, side);
   if (p0.length < MIN_PART || p1.length < MIN_PART) return null;
-  const [a, b] = parts;
-  const gap = Math.max(0, b.timeStart - a.timeEnd, a.timeStart - b.timeEnd);
-  const score = centroidCosine(a, b) * Math.pow(0.5, gap / o.halfLifeDays);
   if (score >= o.splitThreshold) return null;
 
   const build = (id: string, ms: readonly SplitMember[]): EventState => {
@@ -110,58 +92,6 @@ export function splitEventId(from: string, first: Pick<EmbeddedMention, 'article
   return `ev_${createHash('sha256').update(`split\n${from}\n${first.articleId}#${first.sentenceIndex}`).digest('hex').slice(0, 16)}`;
 }
 
-/** What the division needs of a part: its centroid and time span, built as addMention would. */
-type Part = Pick<EventState, 'sparse' | 'dense' | 'norm' | 'timeStart' | 'timeEnd'>;
-
-function part(
-  members: readonly SplitMember[],
-  explicit: readonly ([number, number] | null)[],
-  spans: readonly [number, number][],
-  indices: readonly number[],
-): Part {
-  const p: Part = { sparse: new Map(), dense: null, norm: 0, timeStart: Infinity, timeEnd: -Infinity };
-  let sq = 0;
-  for (const i of indices) {
-    const v = members[i]!.mention.vector;
-    const w = weightOf(members[i]!);
-    if (v.kind === 'dense') {
-      p.dense ??= new Float64Array(v.values.length);
-      for (let k = 0; k < v.values.length; k++) p.dense[k]! += w * v.values[k]!;
-    } else {
-      for (let k = 0; k < v.indices.length; k++) p.sparse.set(v.indices[k]!, (p.sparse.get(v.indices[k]!) ?? 0) + w * v.values[k]!);
-    }
-    const span = explicit[i];
-    if (span) {
-      p.timeStart = Math.min(p.timeStart, span[0]);
-      p.timeEnd = Math.max(p.timeEnd, span[1]);
-    }
-  }
-  // As in an event: stated times make the span; without any, the first mention's days.
-  if (p.timeStart === Infinity) [p.timeStart, p.timeEnd] = spans[indices[0]!]!;
-  if (p.dense) for (const x of p.dense) sq += x * x;
-  for (const x of p.sparse.values()) sq += x * x;
-  p.norm = Math.sqrt(sq);
-  return p;
-}
-
 function weightOf(m: SplitMember): number {
   return m.rank === 0 ? 1 : SECONDARY_WEIGHT;
-}
-
-function divide(members: readonly SplitMember[], side: readonly number[]): [SplitMember[], SplitMember[]] {
-  return [members.filter((_, i) => side[i] === 0), members.filter((_, i) => side[i] === 1)];
-}
-
-/** The element of `xs` with the least f (the first on a tie). */
-function argMin(xs: readonly number[], f: (x: number) => number): number {
-  let best = xs[0]!;
-  let bestValue = Infinity;
-  for (const x of xs) {
-    const v = f(x);
-    if (v < bestValue) {
-      bestValue = v;
-      best = x;
-    }
-  }
-  return best;
 }

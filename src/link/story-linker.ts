@@ -18,16 +18,20 @@ import { dayNumber } from '../text/days.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
 import { centroidCosine, nameKey, topTermFeatures } from './event-state.js';
+import { type StoryMemberInput, type StorySplitOptions, type StorySplitPlan, planStorySplit, storyDueForSplit } from './split-story.js';
 import { type StoryArticle, type StoryState, addArticle, cloneStory, mergeStories, openStory } from './story-state.js';
 
 /** Story-linking settings (see config schema for defaults and reasons). */
-export interface StoryOptions {
+export interface StoryOptions extends Pick<StorySplitOptions, 'storySplitThreshold' | 'storySplitMinArticles'> {
   /** Score at or above which an article joins a story; below, it opens one. */
   storyThreshold: number;
   /** Half-life of the time decay between an article and a story, days. */
   storyHalfLifeDays: number;
   /** Two stories merge when their centroids score this alike (cosine x decay). */
   storyMergeThreshold: number;
+  /** A story divides when its two parts score below this (split-story.ts). */
+  storySplitThreshold: number;
+  storySplitMinArticles: number;
   centroidTerms: number;
   lookupTerms: number;
   maxCandidates: number;
@@ -199,6 +203,38 @@ export class StoryLinker {
     this.centroids.remove(from);
     this.stories.set(merged.id, merged);
     this.register(merged);
+  }
+
+  /**
+   * The stories among `ids` due for a split examination (split-story.ts storyDueForSplit).
+   * Marks them examined; the caller stores the marks of those that are not split, so that
+   * a restarted linker examines what an uninterrupted one would.
+   */
+  splitCandidates(ids: Iterable<string>): string[] {
+    const out: string[] = [];
+    for (const id of ids) {
+      const s = this.stories.get(id);
+      if (!s || !storyDueForSplit(s, this.o)) continue;
+      s.examined = s.articleCount;
+      out.push(id);
+    }
+    return out;
+  }
+
+  /** Divides a story whose articles drifted apart, or null. Changes nothing. */
+  planSplit(id: string, members: readonly StoryMemberInput[]): StorySplitPlan | null {
+    const s = this.stories.get(id);
+    const plan = s ? planStorySplit(s, members, this.o) : null;
+    if (plan) for (const part of [plan.kept, plan.split]) part.touched = ++this.clock;
+    return plan;
+  }
+
+  /** Applies a committed split: the story takes its smaller self, the new story joins the index. */
+  applySplit(plan: StorySplitPlan): void {
+    for (const s of [plan.kept, plan.split]) {
+      this.stories.set(s.id, s);
+      this.register(s);
+    }
   }
 
   private register(s: StoryState): void {

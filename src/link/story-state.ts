@@ -38,6 +38,8 @@ export interface StoryState extends Centroid {
   /** When the linker last changed it (as EventState.touched). */
   touched: number;
   version: number;
+  /** Its article count when consolidation last examined it for a split (0: never). */
+  examined: number;
 }
 
 /** The public record of a story. */
@@ -75,6 +77,7 @@ export function openStory(a: StoryArticle): StoryState {
     names: new Map(),
     touched: 0,
     version: 0,
+    examined: 0,
   };
 }
 
@@ -183,6 +186,7 @@ export function serialiseStory(s: StoryState): Buffer {
       names: [...s.names],
       touched: s.touched,
       version: s.version,
+      examined: s.examined,
       sparse: s.sparse.size,
       dense: s.dense ? s.dense.length : 0,
     }),
@@ -205,6 +209,7 @@ export function deserialiseStory(buf: Uint8Array): StoryState {
     names: [string, [string, number]][];
     touched: number;
     version: number;
+    examined?: number;
     sparse: number;
     dense: number;
   };
@@ -222,5 +227,7 @@ export function deserialiseStory(buf: Uint8Array): StoryState {
     names: new Map(h.names),
     touched: h.touched,
     version: h.version,
+    // States written before splits existed carry no mark.
+    examined: h.examined ?? 0,
   };
 }

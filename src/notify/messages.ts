@@ -9,6 +9,7 @@ import { createHash } from 'node:crypto';
 import type { Subscriber } from '../config/schema.js';
 import type { LinkPlan, MergePlan } from '../link/online-linker.js';
 import type { SplitPlan } from '../link/split-event.js';
+import type { StorySplitPlan } from '../link/split-story.js';
 import { type EventState, toRecord } from '../link/event-state.js';
 import type { Article, EmbeddedMention } from '../records.js';
 import type { StoryMergePlan, StoryPlan } from '../link/story-linker.js';
@@ -109,6 +110,19 @@ export function buildStoryMergeMessages(
     story: storyRecord(merged),
     mergedFrom: m.from,
     score: m.score,
+    note: STORY_NOTE,
+  });
+  return out;
+}
+
+/** The "story.split" notification for one consolidation split of a story. */
+export function buildStorySplitMessages(plan: StorySplitPlan, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  messageSink(out, subscribers, now)('story.split', `${plan.kept.id}\n${plan.split.id}`, {
+    story: storyRecord(plan.kept),
+    splitOff: storyRecord(plan.split),
+    articlesMoved: plan.moved,
+    score: plan.score,
     note: STORY_NOTE,
   });
   return out;

@@ -7,6 +7,7 @@ export const NOTIFICATION_TYPES = [
   'story.opened',
   'story.outlet_added',
   'story.merged',
+  'story.split',
 ] as const;
 
 /** One notification type. */

@@ -4,7 +4,7 @@
  */
 import { type DetectedArticle, type MentionSelection } from '../detect/detect-mentions.js';
 import type { Embedder } from '../embed/embedder.js';
-import type { ConsolidationContext, MergeOutcome, SplitOutcome } from '../link/consolidate.js';
+import type { ConsolidationContext, MergeOutcome, SplitOutcome, StorySplitOutcome } from '../link/consolidate.js';
 import type { Article, EmbeddedMention, Vector } from '../records.js';
 import { type StoryArticle } from '../link/story-state.js';
 import { type AnalysisPool } from '../text/analysis-pool.js';
@@ -47,6 +47,8 @@ export interface ArticleOutcome {
   storyOpened: boolean;
   /** Story merges consolidation made after this article (story `from` now lives in `into`). */
   storyMerges: MergeOutcome[];
+  /** Story splits consolidation made after this article (the `moved` articles left `from` for the new story `into`). */
+  storySplits: StorySplitOutcome[];
 }
 
 /** An article still on its way (`go`), or one that has finished early (`done`). */
@@ -84,5 +86,6 @@ export function outcomeOf(a: Article, status: ArticleOutcome['status'], reason: 
     story: null,
     storyOpened: false,
     storyMerges: [],
+    storySplits: [],
   };
 }

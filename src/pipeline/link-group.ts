@@ -142,6 +142,7 @@ export async function linkGroup(
       storyPlan,
       commit: {
         storyId: storyPlan?.story.id ?? null,
+        storyInput: a.storyInput ? { vector: a.storyInput.vector, names: a.storyInput.names } : null,
         article: a.article,
         canonicalUrl: canonicalUrl(a.article.url),
         sentences: a.sentences.map((s, k) => ({
@@ -196,6 +197,7 @@ function withPass(o: ArticleOutcome, pass: ConsolidationOutcome): ArticleOutcome
     merges: [...o.merges, ...pass.merges],
     splits: [...o.splits, ...pass.splits],
     storyMerges: [...o.storyMerges, ...pass.storyMerges],
+    storySplits: [...o.storySplits, ...pass.storySplits],
   };
 }
 

@@ -41,6 +41,36 @@ export interface StoryMergeCommit {
   messages: OutboxMessage[];
 }
 
+/**
+ * One consolidation split of a story: the `moved` articles leave `from` for the new story
+ * `into`, with the events first reported in them (their new states), and the split is recorded.
+ */
+export interface StorySplitCommit {
+  from: StoryUpdate;
+  into: StoryUpdate;
+  /** The ids of the articles that move. */
+  moved: string[];
+  /** The events that move with them: their new records and states (the story is part of both). */
+  events: EventUpdate[];
+  score: number;
+  at: string;
+  messages: OutboxMessage[];
+}
+
+/** One article of a story as consolidation reads it back to divide the story. */
+export interface StoryMember {
+  articleId: string;
+  title: string;
+  outlet: string;
+  /** Publication (or fetch) time, RFC 3339. */
+  published: string;
+  isCopy: boolean;
+  /** Participants and places the article named. */
+  names: string[];
+  /** The whole article's vector it joined the story with; null once its text was erased. */
+  vector: Vector | null;
+}
+
 /** A notification to deliver to webhook subscribers (transactional outbox). */
 export interface OutboxMessage {
   /** Stable id (`msg_...`), the Standard Webhooks `webhook-id`; the same change gives the same id. */
@@ -116,6 +146,8 @@ export interface ArticleCommit {
   storyId?: string | null;
   /** That story's new state, when this commit is the last in its group to change it. */
   story?: StoryUpdate | null;
+  /** What the article brought to its story (its whole-text vector, its names), kept so a story can be divided later. */
+  storyInput?: { vector: Vector; names: readonly string[] } | null;
   sentences: StoredSentence[];
   /** The article's MinHash sketch (copy detection), or null. */
   sketch?: Uint32Array | null;
@@ -297,6 +329,17 @@ export interface StoryDetail {
   articles: StoryArticleRow[];
   /** Stories consolidation merged into this one. */
   merges: StoryMergeRecord[];
+  /** Splits this story took part in (split off it, or it split off another), oldest first. */
+  splits: StorySplitRecord[];
+}
+
+/** One story split as recorded: `articles` articles left `from` for the new story `into`. */
+export interface StorySplitRecord {
+  from: string;
+  into: string;
+  articles: number;
+  score: number;
+  at: string;
 }
 
 /** One mention of an event, as shown to an analyst. */
@@ -412,6 +455,12 @@ export interface LinkingState {
   commitStoryMerge(m: StoryMergeCommit): Promise<void>;
   /** The stories the last `articles` stored articles joined (after merges), most recent first. */
   recentStoryIds(articles: number): Promise<string[]>;
+  /** Replaces the linker states of stored stories, as putEventStates does for events (a story no longer stored is skipped). */
+  putStoryStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void>;
+  /** Divides a story: articles and the events first reported in them move to a new story, the split is recorded. */
+  commitStorySplit(s: StorySplitCommit): Promise<void>;
+  /** The articles filed under a story now, oldest first (published, then id), with what each brought to it. */
+  storyMembers(storyId: string): Promise<StoryMember[]>;
   /** The stored-article count of the consolidation pass owed (recorded by a due commit, not yet settled), or null. */
   consolidationOwed(): Promise<number | null>;
   /** Settles the owed pass once a pass at `articles` (or later) has completed. */

@@ -117,7 +117,13 @@ function commitFor(
         ]),
       },
       messages: opts.messages ?? [],
-      ...(opts.story ? { storyId: opts.story.id, story: { record: storyRecord(opts.story), state: serialiseStory(opts.story) } } : {}),
+      ...(opts.story
+        ? {
+            storyId: opts.story.id,
+            story: { record: storyRecord(opts.story), state: serialiseStory(opts.story) },
+            storyInput: { vector: m.vector, names: [...m.participants, ...m.places] },
+          }
+        : {}),
     },
   };
 }
@@ -462,6 +468,79 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         expect(await store.getStory(s2.id)).toBeNull();
         const snap = await store.loadLinkerState();
         expect(snap.storyMerges).toEqual([[s2.id, s1.id]]);
+      });
+
+      it('reads a story back article by article, oldest first, with the vector and names each joined it with', async () => {
+        const members = await store.storyMembers(s1.id);
+        expect(members.map((m) => [m.articleId, m.outlet, m.published, m.isCopy])).toEqual([
+          ['a1', 'The Vellmouth Courier', '2026-10-05T10:00:00.000Z', false],
+          ['a3', 'Northwire', '2026-10-13T12:00:00.000Z', false],
+          ['a4', 'EBS News', '2026-10-14T09:00:00.000Z', false],
+        ]);
+        expect(members[0]!.names).toEqual(['Vellmouth Port Authority', 'Korrin Bay']);
+        expect(members[0]!.vector).toEqual(
+          mention(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 0, 'The levee at Dunvessel failed overnight.').vector,
+        );
+        // The vector is a bag of the article's words: it goes with the text.
+        await store.eraseArticleText('a3');
+        expect((await store.storyMembers(s1.id)).map((m) => m.vector === null)).toEqual([false, true, false]);
+      });
+
+      it('splits a story: the moved articles and the events first reported in them go to the new story, the split is recorded', async () => {
+        const kept = openStory({
+          id: 'a1',
+          title: 'Levee fails at Dunvessel',
+          outlet: '',
+          published: '2026-10-05T10:00:00.000Z',
+          vector: embedder.vector([]),
+          names: [],
+          isCopy: false,
+        });
+        const split = {
+          ...openStory({
+            id: 'a3',
+            title: 'Repairs',
+            outlet: '',
+            published: '2026-10-13T12:00:00.000Z',
+            vector: embedder.vector([]),
+            names: [],
+            isCopy: false,
+          }),
+          id: 'st_split',
+        };
+        kept.articleCount = 2;
+        split.articleCount = 1;
+        const e3 = deserialiseEvent((await store.loadLinkerState()).events.find((b) => deserialiseEvent(b).id === 'ev_a3')!);
+        e3.story = split.id;
+        await store.commitStorySplit({
+          from: { record: storyRecord(kept), state: serialiseStory(kept) },
+          into: { record: storyRecord(split), state: serialiseStory(split) },
+          moved: ['a3'],
+          events: [update(e3)],
+          score: 0.05,
+          at: '2026-10-15T00:00:00.000Z',
+          messages: [],
+        });
+        expect((await store.counts()).stories).toBe(3);
+        expect((await store.getStory(s1.id))!.articles.map((a) => a.id)).toEqual(['a1', 'a4']);
+        expect((await store.getStory(s1.id))!.events.map((e) => e.id)).toEqual(['ev_a1']);
+        const d = (await store.getStory(split.id))!;
+        expect(d.articles.map((a) => a.id)).toEqual(['a3']);
+        expect(d.events.map((e) => e.id)).toEqual(['ev_a3']);
+        const record = { from: s1.id, into: split.id, articles: 1, score: 0.05, at: '2026-10-15T00:00:00.000Z' };
+        expect(d.splits).toEqual([record]);
+        expect((await store.getStory(s1.id))!.splits).toEqual([record]);
+        expect((await store.getArticle('a3'))!.article.story).toBe(split.id);
+        expect((await store.getEvent('ev_a3'))!.event.story).toBe(split.id);
+        expect((await store.storyMembers(split.id)).map((m) => m.articleId)).toEqual(['a3']);
+        // Examination marks on a story left whole are kept the same way as events'.
+        const marked = { ...s2, examined: 1 };
+        await store.putStoryStates([
+          { id: s2.id, state: serialiseStory(marked) },
+          { id: 'st_gone', state: serialiseStory(marked) },
+        ]);
+        const { deserialiseStory } = await import('../../src/link/story-state.js');
+        expect((await store.loadLinkerState()).stories.map(deserialiseStory).find((x) => x.id === s2.id)!.examined).toBe(1);
       });
 
       it('keeps the stories for the linker to resume', async () => {

@@ -115,7 +115,7 @@ describe('consolidation splits an event that drifted', () => {
     expect(body.data.note).toMatch(/suggestion/);
 
     // A second pass finds nothing more to do, and the API shows the split on both events.
-    expect(await consolidate(rt, [id, split.into], [])).toEqual({ merges: [], splits: [], storyMerges: [] });
+    expect(await consolidate(rt, [id, split.into], [])).toEqual({ merges: [], splits: [], storyMerges: [], storySplits: [] });
     const app = await buildApp({
       store: rt.store,
       logger: createLogger('silent'),

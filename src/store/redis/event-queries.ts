@@ -18,6 +18,7 @@ import type {
   SplitRecord,
   StoreCounts,
   StoryDetail,
+  StorySplitRecord,
   StoryPage,
   StoryQuery,
   StorySummary,
@@ -157,7 +158,16 @@ export class RedisEventQueries implements EventQueries {
     const from = await this.redis.smembers(this.k.storyMergedInto(id));
     const recs = from.length ? await this.redis.hmget(this.k.storyMerges, ...from) : [];
     const merges = from.map((f, i) => parseMerge(f, recs[i]!)).sort((a, b) => cmp(a.at, b.at) || cmp(a.from, b.from));
-    return { story, events, articles: await this.storyArticles(id), merges };
+    const [splitOff, openedBy] = await Promise.all([
+      this.redis.smembers(this.k.storySplitsOf(id)),
+      this.redis.hget(this.k.storySplits, id),
+    ]);
+    const splitRecs = splitOff.length ? await this.redis.hmget(this.k.storySplits, ...splitOff) : [];
+    const splits = [
+      ...splitOff.map((into, i) => ({ into, ...(JSON.parse(splitRecs[i]!) as Omit<StorySplitRecord, 'into'>) })),
+      ...(openedBy ? [{ into: id, ...(JSON.parse(openedBy) as Omit<StorySplitRecord, 'into'>) }] : []),
+    ].sort((a, b) => cmp(a.at, b.at) || cmp(a.into, b.into));
+    return { story, events, articles: await this.storyArticles(id), merges, splits };
   }
 
   async storyMergedInto(id: string): Promise<string | null> {

@@ -61,6 +61,10 @@ export interface Keyspace {
   storyEvents(id: string): string;
   /** Set of story ids merged into a story. */
   storyMergedInto(id: string): string;
+  /** Hash: story opened by a split → JSON {from, articles, score, at}. */
+  readonly storySplits: string;
+  /** Set of the stories split off a story. */
+  storySplitsOf(id: string): string;
   article(id: string): string;
   sentences(articleId: string): string;
   sentenceText(articleId: string): string;
@@ -132,6 +136,8 @@ export function keyspace(partition: string): Keyspace {
     storyArticles: (id) => `${p}:story-articles:${id}`,
     storyEvents: (id) => `${p}:story-events:${id}`,
     storyMergedInto: (id) => `${p}:story-merged-into:${id}`,
+    storySplits: `${p}:story-splits`,
+    storySplitsOf: (id) => `${p}:story-splits-of:${id}`,
     article: (id) => `${p}:article:${id}`,
     sentences: (id) => `${p}:sentences:${id}`,
     sentenceText: (id) => `${p}:sentence-text:${id}`,

@@ -18,7 +18,9 @@ import type { Article, Mention } from '../../records.js';
 import type {
   ArticleCommit,
   CommitResult,
+  StoryMember,
   StoryMergeCommit,
+  StorySplitCommit,
   StoryUpdate,
   EventUpdate,
   LinkedMention,
@@ -50,6 +52,7 @@ interface Scripts {
   putStates: Script;
   settleConsolidation: Script;
   commitStoryMerge: Script;
+  commitStorySplit: Script;
   eraseArticle: Script;
   pruneNotifications: Script;
   setIfUnchanged: Script;
@@ -117,6 +120,7 @@ export class RedisStore extends StoreParts implements Store {
       putStates: defineScript(redis, 'put-states'),
       settleConsolidation: defineScript(redis, 'settle-consolidation'),
       commitStoryMerge: defineScript(redis, 'commit-story-merge'),
+      commitStorySplit: defineScript(redis, 'commit-story-split'),
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
       setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
@@ -164,6 +168,8 @@ export class RedisStore extends StoreParts implements Store {
       id: c.article.id,
       meta: JSON.stringify(articleMeta(c.article)),
       sketch: c.sketch ? encodeWords(c.sketch).toString('base64') : null,
+      storyVector: c.storyInput ? encodeVector(c.storyInput.vector).toString('base64') : null,
+      storyNames: c.storyInput ? JSON.stringify(c.storyInput.names) : null,
       text: c.article.text,
       time: Date.parse(c.article.published ?? c.article.fetched),
       outlet: c.article.outlet,
@@ -248,6 +254,46 @@ export class RedisStore extends StoreParts implements Store {
     return [...new Set(stories.flatMap((x) => (x === null ? [] : [current.get(x)!])))];
   }
 
+  async commitStorySplit(sp: StorySplitCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = {
+      fence: this.fence,
+      from: storyPayload(sp.from, states),
+      into: storyPayload(sp.into, states),
+      moved: sp.moved,
+      events: sp.events.map((e) => eventPayload(e, states)),
+      split: JSON.stringify({ from: sp.from.record.id, articles: sp.moved.length, score: sp.score, at: sp.at }),
+      messages: messagePayload(sp.messages),
+    };
+    try {
+      await this.scripts.commitStorySplit(this.k.counts, this.k.prefix, JSON.stringify(payload), ...states);
+    } catch (err) {
+      throw writeError(err, `cannot split story ${sp.into.record.id} off ${sp.from.record.id}`);
+    }
+  }
+
+  async storyMembers(storyId: string): Promise<StoryMember[]> {
+    const ids = await this.redis.zrange(this.k.storyArticles(storyId), '0', '-1');
+    const rows = (await pipelined(this.redis, ids, (p, id) => p.hmget(this.k.article(id), 'meta', 'story-names', 'story-vector'))) as (
+      (string | null)[] | null
+    )[];
+    return rows.flatMap((r) => {
+      if (!r?.[0]) return [];
+      const a = JSON.parse(r[0]) as ArticleMeta;
+      return [
+        {
+          articleId: a.id,
+          title: a.title,
+          outlet: a.outlet,
+          published: a.published ?? a.fetched,
+          isCopy: a.duplicateOf !== null,
+          names: r[1] ? (JSON.parse(r[1]) as string[]) : [],
+          vector: r[2] ? decodeVector(Buffer.from(r[2], 'base64')) : null,
+        },
+      ];
+    });
+  }
+
   async consolidationOwed(): Promise<number | null> {
     const v = await this.redis.get(this.k.consolidationOwed);
     return v === null ? null : Number(v);
@@ -262,16 +308,24 @@ export class RedisStore extends StoreParts implements Store {
   }
 
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    await this.putStates('event', states);
+  }
+
+  async putStoryStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    await this.putStates('story', states);
+  }
+
+  private async putStates(kind: 'event' | 'story', states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
     if (states.length === 0) return;
     try {
       await this.scripts.putStates(
         this.k.counts,
         this.k.prefix,
-        JSON.stringify({ fence: this.fence, ids: states.map((s) => s.id) }),
+        JSON.stringify({ fence: this.fence, kind, ids: states.map((s) => s.id) }),
         ...states.map((s) => Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength)),
       );
     } catch (err) {
-      throw writeError(err, `cannot store the state of ${states.length} event(s)`);
+      throw writeError(err, `cannot store the state of ${states.length} ${kind}(s)`);
     }
   }
 

@@ -199,7 +199,18 @@ export class SqliteEventQueries implements EventQueries {
     const merges = (
       this.db.prepare('SELECT from_id, into_id, score, at FROM story_merges WHERE into_id = ? ORDER BY at, from_id').all(id) as Row[]
     ).map((r) => ({ from: r.from_id as string, into: r.into_id as string, score: r.score as number, at: r.at as string }));
-    return { story: toStorySummary(row), events, articles, merges };
+    const splits = (
+      this.db
+        .prepare('SELECT from_id, into_id, articles, score, at FROM story_splits WHERE from_id = ? OR into_id = ? ORDER BY at, into_id')
+        .all(id, id) as Row[]
+    ).map((r) => ({
+      from: r.from_id as string,
+      into: r.into_id as string,
+      articles: r.articles as number,
+      score: r.score as number,
+      at: r.at as string,
+    }));
+    return { story: toStorySummary(row), events, articles, merges, splits };
   }
 
   async storyMergedInto(id: string): Promise<string | null> {

@@ -68,6 +68,7 @@ export class SqliteRetention implements Retention {
     // A TF-IDF vector is a bag of the sentence's (hashed) words, a sketch one of its
     // phrases: they go with the text.
     db.prepare('UPDATE mentions SET vector = NULL WHERE article_id = ?').run(id);
+    db.prepare('UPDATE articles SET story_vector = NULL WHERE id = ?').run(id);
     db.prepare('UPDATE articles SET sketch = NULL WHERE id = ?').run(id);
     const events = db
       .prepare('SELECT DISTINCT e.id, e.label FROM links l JOIN events e ON e.id = l.event_id WHERE l.article_id = ?')

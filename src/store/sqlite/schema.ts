@@ -195,4 +195,17 @@ export const MIGRATIONS: readonly Migration[] = [
   `,
   // States written before labels left them: rewritten without the label (see dropStateLabels).
   dropStateLabels,
+  // What each article brought to its story (to divide a story later), and story splits.
+  `
+  ALTER TABLE articles ADD COLUMN story_vector BLOB;
+  ALTER TABLE articles ADD COLUMN story_names TEXT;
+  CREATE TABLE story_splits (
+    into_id  TEXT PRIMARY KEY,
+    from_id  TEXT NOT NULL,
+    articles INTEGER NOT NULL,
+    score    REAL NOT NULL,
+    at       TEXT NOT NULL
+  ) WITHOUT ROWID;
+  CREATE INDEX story_splits_from ON story_splits(from_id);
+  `,
 ];

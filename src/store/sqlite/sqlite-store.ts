@@ -23,11 +23,13 @@ import type {
   SharedMention,
   SplitCommit,
   Store,
+  StoryMember,
   StoryMergeCommit,
+  StorySplitCommit,
   StoryUpdate,
 } from '../store.js';
 import { StoreParts } from '../store-parts.js';
-import { decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
+import { decodeVector, decodeWords, encodeVector, encodeWords } from '../vector-codec.js';
 import { MIGRATIONS } from './schema.js';
 import { type WalCheckpointer, startWalCheckpointer } from './wal-checkpointer.js';
 import { type Write, writeWhenFree } from './when-free.js';
@@ -129,9 +131,10 @@ export class SqliteStore extends StoreParts implements Store {
       byUrl: db.prepare('SELECT id FROM articles WHERE canonical_url = ? ORDER BY seq LIMIT 1').pluck(),
       byHash: db.prepare('SELECT id FROM articles WHERE content_hash = ? ORDER BY seq LIMIT 1').pluck(),
       insArticle:
-        db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url, story_id)
+        db.prepare(`INSERT INTO articles (id, outlet, url, title, published, fetched, language, text, content_hash, duplicate_of, source, copy_similarity, sketch, canonical_url,
+          story_vector, story_names, story_id)
         VALUES (@id, @outlet, @url, @title, @published, @fetched, @language, @text, @contentHash, @duplicateOf, @source, @copySimilarity, @sketch, @canonicalUrl,
-          coalesce((SELECT into_id FROM story_merges WHERE from_id = @storyId), @storyId))`),
+          @storyVector, @storyNames, coalesce((SELECT into_id FROM story_merges WHERE from_id = @storyId), @storyId))`),
       insSentence: db.prepare('INSERT INTO sentences (article_id, idx, text, start, end, eventness) VALUES (?, ?, ?, ?, ?, ?)'),
       insMention:
         db.prepare(`INSERT INTO mentions (article_id, sentence_idx, outlet, published, eventness, participants, places, times, is_copy, vector)
@@ -216,6 +219,8 @@ export class SqliteStore extends StoreParts implements Store {
       copySimilarity: c.article.duplicateOf ? (c.article.copySimilarity ?? 1) : null,
       sketch: c.sketch ? encodeWords(c.sketch) : null,
       canonicalUrl: c.canonicalUrl,
+      storyVector: c.storyInput ? encodeVector(c.storyInput.vector) : null,
+      storyNames: c.storyInput ? JSON.stringify(c.storyInput.names) : null,
       storyId: c.storyId ?? null,
     });
     if (c.story) this.upsertStory(c.story);
@@ -311,10 +316,18 @@ export class SqliteStore extends StoreParts implements Store {
   }
 
   async putEventStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    await this.putStates('events', states);
+  }
+
+  async putStoryStates(states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
+    await this.putStates('stories', states);
+  }
+
+  private async putStates(table: 'events' | 'stories', states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
     if (states.length === 0) return;
-    const put = this.db.prepare('UPDATE events SET state = ? WHERE id = ?');
+    const put = this.db.prepare(`UPDATE ${table} SET state = ? WHERE id = ?`);
     await this.write(
-      `cannot store the state of ${states.length} event(s)`,
+      `cannot store the state of ${states.length} row(s) of ${table}`,
       this.db.transaction(() => {
         for (const s of states) put.run(Buffer.from(s.state.buffer, s.state.byteOffset, s.state.byteLength), s.id);
       }),
@@ -412,6 +425,47 @@ export class SqliteStore extends StoreParts implements Store {
         this.outbox.queue(m.messages);
       }),
     );
+  }
+
+  async commitStorySplit(sp: StorySplitCommit): Promise<void> {
+    const from = sp.from.record.id;
+    const into = sp.into.record.id;
+    await this.write(
+      `cannot split story ${into} off ${from}`,
+      this.db.transaction(() => {
+        const moveArticle = this.db.prepare('UPDATE articles SET story_id = ? WHERE id = ? AND story_id = ?');
+        for (const id of sp.moved) moveArticle.run(into, id, from);
+        this.upsertStory(sp.from);
+        this.upsertStory(sp.into);
+        const moveEvent = this.db.prepare('UPDATE events SET story_id = ? WHERE id = ?');
+        for (const e of sp.events) {
+          this.upsertEvent(e);
+          moveEvent.run(into, e.record.id);
+        }
+        this.db
+          .prepare('INSERT OR REPLACE INTO story_splits (into_id, from_id, articles, score, at) VALUES (?, ?, ?, ?, ?)')
+          .run(into, from, sp.moved.length, sp.score, sp.at);
+        this.outbox.queue(sp.messages);
+      }),
+    );
+  }
+
+  async storyMembers(storyId: string): Promise<StoryMember[]> {
+    const rows = this.db
+      .prepare(
+        `SELECT id, title, outlet, coalesce(published, fetched) AS at, duplicate_of, story_names, story_vector FROM articles
+        WHERE story_id = ? ORDER BY at, id`,
+      )
+      .all(storyId) as Row[];
+    return rows.map((r) => ({
+      articleId: r.id as string,
+      title: r.title as string,
+      outlet: r.outlet as string,
+      published: r.at as string,
+      isCopy: r.duplicate_of !== null,
+      names: r.story_names ? (JSON.parse(r.story_names as string) as string[]) : [],
+      vector: r.story_vector ? decodeVector(r.story_vector as Buffer) : null,
+    }));
   }
 
   async recentStoryIds(articles: number): Promise<string[]> {

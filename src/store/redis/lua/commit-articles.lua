@@ -22,6 +22,7 @@ for i, c in ipairs(commits) do
     redis.call('HSET', ak, 'meta', c.meta, 'seq', seq)
     if c.text ~= cjson.null then redis.call('HSET', ak, 'text', c.text) end
     if c.sketch ~= cjson.null then redis.call('HSET', ak, 'sketch', c.sketch) end
+    if c.storyVector ~= cjson.null then redis.call('HSET', ak, 'story-vector', c.storyVector, 'story-names', c.storyNames) end
     redis.call('ZADD', P .. ':articles', seq, c.id)
     redis.call('ZADD', P .. ':articles-by-time', c.time, c.id)
     redis.call('HINCRBY', P .. ':outlets', c.outlet, 1)

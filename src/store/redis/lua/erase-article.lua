@@ -1,4 +1,4 @@
--- erase-article: erases one article's stored text (body, sentences, mention vectors) and relabels the
+-- erase-article: erases one article's stored text (body, sentences, mention and story vectors) and relabels the
 -- events whose label came from that text with their earliest remaining sentence, or a
 -- placeholder; notifications lose the article's sentences and take the new labels. Links,
 -- mentions and events stay.
@@ -11,7 +11,7 @@ local P, id, placeholder = ARGV[1], ARGV[2], ARGV[3]
 local ak = P .. ':article:' .. id
 if redis.call('EXISTS', ak) == 0 then return 0 end
 local had = redis.call('HDEL', ak, 'text')
-redis.call('HDEL', ak, 'sketch')
+redis.call('HDEL', ak, 'sketch', 'story-vector')
 local erased = redis.call('HVALS', P .. ':sentence-text:' .. id)
 redis.call('DEL', P .. ':sentence-text:' .. id)
 -- A TF-IDF vector is a bag of the sentence's (hashed) words: it goes with the text.
