@@ -161,3 +161,82 @@ describe('consolidation splits an event that drifted', () => {
     expect((await consolidate(rt, [id], [])).splits).toEqual([]);
   });
 });
+
+describe('consolidation splits a story that chained two threads', () => {
+  let rt: Runtime;
+  afterEach(async () => rt.close());
+
+  /** Every article joins the one story (story threshold 0); each is its own event. */
+  async function oneStory(): Promise<string> {
+    rt = await testRuntime({
+      link: {
+        threshold: 0.99,
+        calibration: { mode: 'fixed' },
+        storyThreshold: 0,
+        storySplitThreshold: 0.2,
+        storySplitMinArticles: 4,
+        consolidateEvery: 0,
+      },
+      webhooks: SPLITTING.webhooks,
+    });
+    const outcomes = await lastValueFrom(
+      runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()),
+    );
+    const stories = new Set(outcomes.map((o) => o.story));
+    expect(stories.size).toBe(1);
+    return [...stories][0]!;
+  }
+
+  it('moves the strike reports and the events they opened to a new story, records the split and notifies subscribers', async () => {
+    const id = await oneStory();
+    const { storySplits } = await consolidate(rt, [], [id]);
+    expect(storySplits).toHaveLength(1);
+    const split = storySplits[0]!;
+    expect(split.from).toBe(id);
+    const url = (i: number) => `https://pier.example/${i}`;
+    expect(split.moved).toEqual(expect.arrayContaining([4, 5, 6].map(url)));
+    expect(split.moved).not.toContain(url(0));
+
+    const kept = (await rt.store.getStory(id))!;
+    const off = (await rt.store.getStory(split.into))!;
+    expect(off.articles.map((a) => a.id).sort()).toEqual([...split.moved].sort());
+    expect(kept.articles.length + off.articles.length).toBe(7);
+    // Each event goes with the article that first reported it.
+    expect(off.events).toHaveLength(split.moved.length);
+    for (const e of off.events) expect((await rt.store.getEvent(e.id))!.event.story).toBe(split.into);
+    const record = { from: id, into: split.into, articles: split.moved.length, score: split.score, at: expect.any(String) };
+    expect(kept.splits).toEqual([record]);
+    expect(off.splits).toEqual([record]);
+
+    const messages = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).filter((d) => d.type === 'story.split');
+    expect(messages).toHaveLength(1);
+    const body = JSON.parse(messages[0]!.body) as {
+      data: { story: { id: string }; splitOff: { id: string }; articlesMoved: string[]; note: string };
+    };
+    expect(body.data.story.id).toBe(id);
+    expect(body.data.splitOff.id).toBe(split.into);
+    expect(body.data.articlesMoved).toEqual(split.moved);
+    expect(body.data.note).toMatch(/suggestion/);
+
+    // A second pass finds nothing more to do; the API lists the split, and new articles on
+    // the strike are now judged against the strike's own story.
+    expect((await consolidate(rt, [], [id, split.into])).storySplits).toEqual([]);
+    const app = await buildApp({
+      store: rt.store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: () => ({ state: 'finished', processed: 7, total: 7, stored: 7, rejected: 0 }),
+    });
+    const res = await app.inject({ url: `/api/stories/${split.into}` });
+    expect(res.statusCode).toBe(200);
+    expect(res.json().splits).toEqual([expect.objectContaining({ from: id, into: split.into, articles: split.moved.length })]);
+    await app.close();
+    expect(rt.stories.story(split.into)!.articleCount).toBe(split.moved.length);
+  });
+
+  it('leaves a story whole once one of its articles had its text erased', async () => {
+    const id = await oneStory();
+    await rt.store.eraseArticleText('https://pier.example/5');
+    expect((await consolidate(rt, [], [id])).storySplits).toEqual([]);
+  });
+});

@@ -89,9 +89,19 @@ const getStorySchema = {
           description: 'Stories that consolidation found to be this one and merged into it.',
           items: { type: 'object', properties: { from: str, into: str, score: num, at: str }, required: ['from', 'into', 'score', 'at'] },
         },
+        splits: {
+          type: 'array',
+          description:
+            'Splits this story took part in, oldest first: consolidation found that `articles` of the articles of `from` formed another thread, and moved them (with the events first reported in them) to the new story `into`. `score` is how alike the two parts were (below link.storySplitThreshold).',
+          items: {
+            type: 'object',
+            properties: { from: str, into: str, articles: int, score: num, at: str },
+            required: ['from', 'into', 'articles', 'score', 'at'],
+          },
+        },
         caution: str,
       },
-      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'caution'],
+      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'splits', 'caution'],
     },
     308: { description: 'The story was merged into another; Location names it.', type: 'null' },
     404: errorSchema,
@@ -119,6 +129,7 @@ export const storyRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { s
       byOutlet: articlesByOutlet(detail.articles),
       timeline: storyTimeline(detail.articles, detail.events),
       merges: detail.merges,
+      splits: detail.splits,
       caution: CAUTION,
     };
   });
