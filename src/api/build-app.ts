@@ -28,7 +28,7 @@ export interface ApiDeps {
   store: Store;
   logger: Logger;
   version: string;
-  ingestStatus: () => IngestStatus;
+  ingestStatus: () => IngestStatus | Promise<IngestStatus>;
   /** The work queue of a scale-out deployment (Redis store); absent in a single process. */
   queue?: QueueView | undefined;
   /** Where pushed articles go; without it POST /api/articles is not offered. */

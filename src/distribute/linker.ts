@@ -284,7 +284,13 @@ export class QueueLinker {
   private async advance(entry: string): Promise<void> {
     const { redis, keys } = this.d;
     const analysed = await redis.hget(keys.answered, entry);
-    const p = redis.pipeline().set(keys.linkerPosition, entry).hdel(keys.answered, entry).xtrim(keys.intake, 'MINID', entry);
+    // The entry goes with the ones before it: what is left in intake is what waits (the api's progress reads it).
+    const p = redis
+      .pipeline()
+      .set(keys.linkerPosition, entry)
+      .hdel(keys.answered, entry)
+      .xtrim(keys.intake, 'MINID', entry)
+      .xdel(keys.intake, entry);
     if (analysed) p.xdel(keys.analysed, analysed);
     await p.exec();
   }

@@ -137,6 +137,35 @@ describe.skipIf(!run)('the work queue with bad and failing input', () => {
     }
   });
 
+  it('reports a queued replay as the other processes work through it (the api role), and leaves no entry behind', async () => {
+    const { openQueue } = await import('../../src/distribute/roles.js');
+    const { QueuedReplay } = await import('../../src/distribute/replay-progress.js');
+    const queue = await openQueue(config, silent);
+    const store = await openRedisStore({ url: REDIS_URL, partition: config.store.redis.partition });
+    const replay = new QueuedReplay(queue, store);
+    const articles = demo.slice(0, 5);
+    try {
+      expect(await replay.status()).toEqual({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 });
+      await replay.begin(articles.length);
+      await queue.enqueue(articles);
+      // Nobody has taken anything yet: queued is not finished.
+      expect(await replay.status()).toEqual({ state: 'replaying', processed: 0, total: 5, stored: 0, rejected: 0 });
+      const worker = await startWorker(config, silent);
+      const linking = await startLinker(config, silent);
+      try {
+        await until(async () => (await replay.status()).state === 'finished');
+        expect(await replay.status()).toEqual({ state: 'finished', processed: 5, total: 5, stored: 5, rejected: 0 });
+        expect(await queue.depth()).toEqual({ intake: 0, analysed: 0, deadLetters: 0 });
+      } finally {
+        await worker.stop();
+        await linking.stop();
+      }
+    } finally {
+      await store.close();
+      queue.close();
+    }
+  });
+
   it('retries an article that fails in analysis, then gives it up after queue.maxDeliveries', async () => {
     const redis = await connectRedis(REDIS_URL);
     const blocking = await connectRedis(REDIS_URL);

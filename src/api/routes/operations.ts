@@ -92,7 +92,8 @@ const queueDeadLettersSchema = {
 export interface OperationDeps {
   store: Pick<Store, 'counts' | 'deadLetters'>;
   version: string;
-  ingestStatus: () => IngestStatus;
+  /** The process's own replay or, in a scale-out api process, the queued replay's progress (read from Redis). */
+  ingestStatus: () => IngestStatus | Promise<IngestStatus>;
   /** The work queue of a scale-out deployment; without it /api/queue is not offered. */
   queue?: QueueView | undefined;
 }
@@ -105,7 +106,7 @@ export const operationRoutes: RoutePlugin<OperationDeps> = async (app, deps) => 
     version: deps.version,
     uptimeSeconds: (Date.now() - started) / 1000,
     counts: await deps.store.counts(),
-    ingest: deps.ingestStatus(),
+    ingest: await deps.ingestStatus(),
   }));
 
   app.get('/api/webhooks/dead-letters', { schema: deadLettersSchema }, async (req) => ({

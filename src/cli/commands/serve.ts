@@ -12,6 +12,7 @@ import { StrandError } from '../../errors.js';
 import { ServiceStack } from '../../lifecycle/service-stack.js';
 import { Lease } from '../../distribute/lease.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
+import { QueuedReplay } from '../../distribute/replay-progress.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
 import type { Logger } from '../../logger.js';
 import { LocalIntake } from '../../local-intake.js';
@@ -271,7 +272,8 @@ async function serveApiRole(
     () => openQueue(config, logger, { failFast: true }),
     (q) => q.close(),
   );
-  const status: IngestStatus = { state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 };
+  // The replay's progress is the other processes' work: read from the queue and the store.
+  const replay = new QueuedReplay(queue, store);
   // A push is queued whole or not at all (its client is told one or the other).
   const submit = async (a: readonly Article[]): Promise<void> => void (await queue.enqueue(a, { atomic: true }));
   // Every api process serves the feeds; the one holding the partition's poll lease polls them.
@@ -299,7 +301,7 @@ async function serveApiRole(
           store,
           logger,
           version: version(),
-          ingestStatus: () => status,
+          ingestStatus: () => replay.status(),
           queue,
           push: { submit, limits: config.ingest },
           feeds: poller ?? undefined,
@@ -313,9 +315,8 @@ async function serveApiRole(
   process.stdout.write(`Strandline api is serving on ${address.replace('//127.0.0.1', '//localhost')}\n`);
   if (sources.length) {
     const input = await readReplayInput(sources, config.ingest);
-    status.total = input.articles.length;
+    await replay.begin(input.articles.length);
     await queue.enqueue(input.articles);
-    status.state = 'finished';
     process.stdout.write(`Queued ${input.articles.length} articles from ${sources.join(', ')} for the workers\n`);
   }
   await requested;
