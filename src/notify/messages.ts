@@ -150,7 +150,6 @@ function messageSink(
   const created = now.toISOString();
   return (type, key, data) => {
     const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);
-    if (to.length === 0) return;
     const id = `msg_${createHash('sha256').update(`${type}\n${key}`).digest('hex').slice(0, 24)}`;
     out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created, subscribers: to });
   };

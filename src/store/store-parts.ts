@@ -13,6 +13,7 @@ import type {
   FeedEntry,
   FeedRegistry,
   MergeRecord,
+  NotificationLog,
   Outbox,
   Retention,
   SplitRecord,
@@ -70,6 +71,9 @@ export abstract class StoreParts implements EventQueries, Outbox, FeedRegistry, 
   }
   deadLetters(limit: number): Promise<Delivery[]> {
     return this.outbox.deadLetters(limit);
+  }
+  notificationsAfter(after: number, limit: number): Promise<NotificationLog> {
+    return this.outbox.notificationsAfter(after, limit);
   }
   pruneNotifications(before: string): Promise<number> {
     return this.outbox.pruneNotifications(before);

@@ -517,6 +517,32 @@ export interface Outbox {
    * notifications are never touched. Returns how many notifications left.
    */
   pruneNotifications(before: string): Promise<number>;
+  /**
+   * The notification log, what the live stream reads: every notification in the order
+   * written, numbered from 1 (a number is never reused, pruning or not), whether or not a
+   * subscriber asked for it. Up to `limit` after number `after`, with the first number still
+   * kept (null when none is) and the last number given.
+   */
+  notificationsAfter(after: number, limit: number): Promise<NotificationLog>;
+}
+
+/** A page of the notification log. */
+export interface NotificationLog {
+  items: LoggedNotification[];
+  /** The oldest number still kept (pruning removes older ones), or null when the log is empty. */
+  first: number | null;
+  /** The last number given (0 before the first notification). */
+  last: number;
+}
+
+/** One notification as logged. */
+export interface LoggedNotification {
+  seq: number;
+  id: string;
+  type: string;
+  /** The JSON body webhooks receive. */
+  body: string;
+  created: string;
 }
 
 /** The polled feeds and their state, shared by every api process. */

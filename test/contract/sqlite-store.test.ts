@@ -71,7 +71,8 @@ describe('SQLite store migrations', () => {
     // later migrations added goes too.
     const db = new Database(path);
     const step = MIGRATIONS.findIndex((m) => typeof m === 'function');
-    db.exec('ALTER TABLE articles DROP COLUMN story_vector; ALTER TABLE articles DROP COLUMN story_names; DROP TABLE story_splits;');
+    db.exec(`ALTER TABLE articles DROP COLUMN story_vector; ALTER TABLE articles DROP COLUMN story_names; DROP TABLE story_splits;
+      DROP INDEX outbox_seq; ALTER TABLE outbox DROP COLUMN seq;`);
     db.pragma(`user_version = ${step}`);
     db.close();
 

@@ -625,6 +625,52 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.claimVectorSpace('transformer: model sha256 0123')).toBe('tfidf: 2^18');
     });
 
+    it('logs every notification in the order written, subscribers or not, numbers never reused after pruning', async () => {
+      const message = (n: number, created: string, subscribers: string[]) => ({
+        id: `msg_${n}`,
+        type: n % 2 ? 'event.opened' : 'story.opened',
+        body: `{"type":"event.opened","data":{"n":${n}}}`,
+        created,
+        subscribers,
+      });
+      expect(await store.notificationsAfter(0, 10)).toEqual({ items: [], first: null, last: 0 });
+      const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
+      const a2 = article('a2', 'O', '2026-10-06T10:00:00.000Z', 'y');
+      await store.commitArticle(
+        commitFor(a1, 'The levee failed.', null, {
+          messages: [message(1, '2026-10-05T10:00:00.000Z', []), message(2, '2026-10-05T10:00:00.000Z', ['one'])],
+        }).commit,
+      );
+      await store.commitArticle(commitFor(a2, 'A bridge fell.', null, { messages: [message(3, '2026-10-06T10:00:00.000Z', [])] }).commit);
+      const log = await store.notificationsAfter(0, 10);
+      expect(log.items.map((i) => [i.seq, i.id, i.type, i.created])).toEqual([
+        [1, 'msg_1', 'event.opened', '2026-10-05T10:00:00.000Z'],
+        [2, 'msg_2', 'story.opened', '2026-10-05T10:00:00.000Z'],
+        [3, 'msg_3', 'event.opened', '2026-10-06T10:00:00.000Z'],
+      ]);
+      expect(log.items[0]!.body).toBe(message(1, '', []).body);
+      expect([log.first, log.last]).toEqual([1, 3]);
+      expect((await store.notificationsAfter(1, 1)).items.map((i) => i.seq)).toEqual([2]);
+      // The same message queued again keeps its number.
+      await store.commitArticle(
+        commitFor(article('a3', 'O', '2026-10-07T10:00:00.000Z', 'z'), 'x', null, {
+          messages: [message(3, '2026-10-06T10:00:00.000Z', [])],
+        }).commit,
+      );
+      expect((await store.notificationsAfter(0, 10)).last).toBe(3);
+      // A notification nobody subscribed to goes by age; one with a pending delivery stays.
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(2);
+      expect(await store.notificationsAfter(0, 10)).toMatchObject({ items: [{ seq: 2 }], first: 2, last: 3 });
+      await store.recordAttempt('msg_2', 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
+      expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1);
+      await store.commitArticle(
+        commitFor(article('a4', 'O', '2026-10-08T10:00:00.000Z', 'w'), 'y', null, {
+          messages: [message(4, '2026-10-08T10:00:00.000Z', [])],
+        }).commit,
+      );
+      expect(await store.notificationsAfter(0, 10)).toMatchObject({ items: [{ seq: 4, id: 'msg_4' }], first: 4, last: 4 });
+    });
+
     it('prunes notifications once every delivery settled before the cut-off, never a pending one', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const body = (n: number) => `{"type":"event.opened","data":{"event":{"id":"ev_${n}"},"mention":{"article":"a1","sentence":0}}}`;

@@ -29,6 +29,10 @@ export interface Keyspace {
   readonly idfDocs: string;
   /** The linker's tally (link/calibration.ts): a hash of mentions and high. */
   readonly linkTally: string;
+  /** The notification log: a counter, the sorted set of message ids by number, and those no subscriber asked for by time (ms, for pruning). */
+  readonly outboxSeq: string;
+  readonly outboxLog: string;
+  readonly outboxUnsubscribed: string;
   /** The stored-article count of the consolidation pass owed (set by a due commit, cleared when a pass completes). */
   readonly consolidationOwed: string;
   /** Hash: absorbed event id → JSON {into, score, at}. */
@@ -119,6 +123,9 @@ export function keyspace(partition: string): Keyspace {
     idfDocs: `${p}:idf-docs`,
     linkTally: `${p}:link-tally`,
     consolidationOwed: `${p}:consolidation-owed`,
+    outboxSeq: `${p}:outbox-seq`,
+    outboxLog: `${p}:outbox-log`,
+    outboxUnsubscribed: `${p}:outbox-unsubscribed`,
     merges: `${p}:merges`,
     splits: `${p}:splits`,
     feeds: `${p}:feeds`,

@@ -3,7 +3,7 @@
  * members, each delivery's state in one hash, settled ones indexed for pruning. Messages
  * are written by the commit scripts, in the transaction of the change they report.
  */
-import type { Delivery, Outbox } from '../store.js';
+import type { Delivery, LoggedNotification, NotificationLog, Outbox } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 import { pipelined, splitMember } from './pipelined.js';
@@ -21,6 +21,29 @@ export class RedisOutbox implements Outbox {
     private readonly k: Keyspace,
     private readonly prune: ReturnType<typeof defineScript>,
   ) {}
+
+  async notificationsAfter(after: number, limit: number): Promise<NotificationLog> {
+    const [page, first, last] = (await this.redis
+      .multi()
+      .zrangebyscore(this.k.outboxLog, `(${after}`, '+inf', 'WITHSCORES', 'LIMIT', 0, limit)
+      .zrange(this.k.outboxLog, '0', '0', 'WITHSCORES')
+      .get(this.k.outboxSeq)
+      .exec())!.map(([err, v]) => {
+      if (err) throw err;
+      return v;
+    }) as [string[], string[], string | null];
+    const ids = page.filter((_, i) => i % 2 === 0);
+    const rows = (await pipelined(this.redis, ids, (p, id) => p.hmget(this.k.outbox(id), 'type', 'body', 'created'))) as (
+      (string | null)[] | null
+    )[];
+    const items: LoggedNotification[] = [];
+    ids.forEach((id, i) => {
+      const r = rows[i];
+      // Pruned between the two reads: gone, as if read a moment later.
+      if (r?.[0] && r[1] && r[2]) items.push({ seq: Number(page[2 * i + 1]), id, type: r[0], body: r[1], created: r[2] });
+    });
+    return { items, first: first.length ? Number(first[1]) : null, last: last === null ? 0 : Number(last) };
+  }
 
   async dueDeliveries(now: string, limit: number, skip: readonly string[] = []): Promise<Delivery[]> {
     const until = String(Date.parse(now));
@@ -58,9 +81,13 @@ export class RedisOutbox implements Outbox {
     let removed = 0;
     for (;;) {
       // Batches keep each script call short: Redis runs nothing else meanwhile.
-      const [deliveries, messages] = (await this.prune(this.k.settled, this.k.prefix, Date.parse(before), PRUNE_BATCH)) as [number, number];
+      const [deliveries, messages, unsubscribed] = (await this.prune(this.k.settled, this.k.prefix, Date.parse(before), PRUNE_BATCH)) as [
+        number,
+        number,
+        number,
+      ];
       removed += messages;
-      if (deliveries < PRUNE_BATCH) return removed;
+      if (deliveries < PRUNE_BATCH && unsubscribed < PRUNE_BATCH) return removed;
     }
   }
 

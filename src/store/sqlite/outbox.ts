@@ -3,7 +3,7 @@
  * report (queue), then delivered per subscriber with retries and a dead-letter state.
  */
 import type Database from 'better-sqlite3';
-import type { Delivery, Outbox, OutboxMessage } from '../store.js';
+import type { Delivery, LoggedNotification, NotificationLog, Outbox, OutboxMessage } from '../store.js';
 import { type Row, toDelivery } from './rows.js';
 import type { Write } from './when-free.js';
 
@@ -15,7 +15,17 @@ export class SqliteOutbox implements Outbox {
     private readonly write: Write,
   ) {
     this.st = {
-      insMessage: db.prepare('INSERT OR IGNORE INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
+      hasMessage: db.prepare('SELECT 1 FROM outbox WHERE id = ?').pluck(),
+      // The counter lives in meta: pruning may empty the log, and a number is never given twice.
+      nextSeq: db
+        .prepare(
+          `INSERT INTO meta (key, value) VALUES ('outbox_seq', 1) ON CONFLICT(key) DO UPDATE SET value = CAST(value AS INTEGER) + 1 RETURNING value`,
+        )
+        .pluck(),
+      lastSeq: db.prepare(`SELECT CAST(value AS INTEGER) FROM meta WHERE key = 'outbox_seq'`).pluck(),
+      firstSeq: db.prepare('SELECT min(seq) FROM outbox WHERE seq IS NOT NULL').pluck(),
+      logAfter: db.prepare('SELECT seq, id, type, body, created FROM outbox WHERE seq > ? ORDER BY seq LIMIT ?'),
+      insMessage: db.prepare('INSERT INTO outbox (id, type, body, created, seq) VALUES (?, ?, ?, ?, ?)'),
       insDelivery: db.prepare(
         `INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`,
       ),
@@ -32,7 +42,9 @@ export class SqliteOutbox implements Outbox {
   /** Queues messages inside the caller's transaction. */
   queue(messages: readonly OutboxMessage[]): void {
     for (const msg of messages) {
-      this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
+      // The same change gives the same message: queued again, it keeps its place in the log.
+      if (this.st.hasMessage.get(msg.id) === undefined)
+        this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created, Number(this.st.nextSeq.get()));
       for (const sub of msg.subscribers) this.st.insDelivery.run(msg.id, sub, msg.created);
     }
   }
@@ -53,6 +65,14 @@ export class SqliteOutbox implements Outbox {
 
   async deadLetters(limit: number): Promise<Delivery[]> {
     return (this.st.dead.all(limit) as Row[]).map(toDelivery);
+  }
+
+  async notificationsAfter(after: number, limit: number): Promise<NotificationLog> {
+    return this.db.transaction(() => ({
+      items: this.st.logAfter.all(after, limit) as LoggedNotification[],
+      first: (this.st.firstSeq.get() as number | null) ?? null,
+      last: (this.st.lastSeq.get() as number | undefined) ?? 0,
+    }))();
   }
 
   async pruneNotifications(before: string): Promise<number> {

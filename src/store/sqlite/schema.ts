@@ -208,4 +208,10 @@ export const MIGRATIONS: readonly Migration[] = [
   ) WITHOUT ROWID;
   CREATE INDEX story_splits_from ON story_splits(from_id);
   `,
+  // The notification log the live stream reads: each notification numbered as written
+  // (those written before have no number and are not streamed).
+  `
+  ALTER TABLE outbox ADD COLUMN seq INTEGER;
+  CREATE UNIQUE INDEX outbox_seq ON outbox(seq) WHERE seq IS NOT NULL;
+  `,
 ];

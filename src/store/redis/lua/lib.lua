@@ -17,7 +17,11 @@ local function queue_messages(P, messages)
     local ok = P .. ':outbox:' .. msg.id
     if redis.call('EXISTS', ok) == 0 then
       -- The subscriber list tells pruning when the last delivery of a message is gone.
-      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created, 'subscribers', cjson.encode(msg.subscribers))
+      -- Numbered in the notification log the live stream reads, subscribers or not.
+      local seq = redis.call('INCR', P .. ':outbox-seq')
+      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created, 'subscribers', cjson.encode(msg.subscribers), 'seq', seq)
+      redis.call('ZADD', P .. ':outbox-log', seq, msg.id)
+      if #msg.subscribers == 0 then redis.call('ZADD', P .. ':outbox-unsubscribed', msg.dueAt, msg.id) end
       -- Indexed by the articles and events it names, so an erasure can find its copies.
       for _, a in ipairs(msg.articles) do redis.call('SADD', P .. ':article-messages:' .. a, msg.id) end
       for _, e in ipairs(msg.events) do redis.call('SADD', P .. ':event-messages:' .. e, msg.id) end

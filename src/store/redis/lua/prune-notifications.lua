@@ -1,10 +1,12 @@
 -- prune-notifications: deletes delivery records settled before a time, and each
--- notification none of whose deliveries is left, with its entries in the erasure indexes.
+-- notification none of whose deliveries is left, with its entries in the erasure indexes
+-- and the notification log; and the notifications no subscriber asked for created before
+-- that time.
 -- KEYS[1]  the partition's sorted set of settled deliveries (score: when each settled, ms)
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  the time, ms: deliveries settled before it go
 -- ARGV[3]  at most this many deliveries per call (the caller repeats until fewer come back)
--- returns  {deliveries removed, notifications removed}
+-- returns  {deliveries removed, notifications removed, unsubscribed notifications looked at}
 local P, before, limit = ARGV[1], ARGV[2], tonumber(ARGV[3])
 local dks = redis.call('ZRANGEBYSCORE', KEYS[1], '-inf', '(' .. before, 'LIMIT', 0, limit)
 local seen, mids = {}, {}
@@ -54,7 +56,18 @@ for _, mid in ipairs(mids) do
   if not left then
     local body = redis.call('HGET', mk, 'body')
     if body then unindex(mid, body) end
+    redis.call('ZREM', P .. ':outbox-log', mid)
     removed = removed + redis.call('DEL', mk)
   end
 end
-return { #dks, removed }
+
+local unsubscribed = redis.call('ZRANGEBYSCORE', P .. ':outbox-unsubscribed', '-inf', '(' .. before, 'LIMIT', 0, limit)
+for _, mid in ipairs(unsubscribed) do
+  local mk = P .. ':outbox:' .. mid
+  local body = redis.call('HGET', mk, 'body')
+  if body then unindex(mid, body) end
+  redis.call('ZREM', P .. ':outbox-log', mid)
+  redis.call('ZREM', P .. ':outbox-unsubscribed', mid)
+  removed = removed + redis.call('DEL', mk)
+end
+return { #dks, removed, #unsubscribed }
