@@ -17,6 +17,7 @@ import { registerWebPage } from '../web/serve-page.js';
 import { type PushLimits, type SubmitArticles, pushRoute } from './routes/push.js';
 import { CAUTION } from './schemas.js';
 import { type FeedControl, feedRoutes } from './routes/feeds.js';
+import { type StreamDeps, streamRoute } from './routes/stream.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
@@ -35,6 +36,8 @@ export interface ApiDeps {
   push?: { submit: SubmitArticles; limits: PushLimits } | undefined;
   /** The feed poller of this process; without it the /api/feeds routes are not offered. */
   feeds?: FeedControl | undefined;
+  /** How often the live stream reads the notification log and sends heartbeats (stream.ts defaults when absent). */
+  stream?: Pick<StreamDeps, 'pollMs' | 'heartbeatMs'> | undefined;
   /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
   auth?: TokenPolicy | undefined;
 }
@@ -126,6 +129,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   if (deps.push)
     await app.register(pushRoute, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
+  await app.register(streamRoute, { store: deps.store, ...deps.stream });
   registerWebPage(app);
   app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
   await app.ready();

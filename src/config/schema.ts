@@ -396,7 +396,9 @@ export const configSchema = z.strictObject({
       /**
        * Days a webhook notification is kept after its last delivery settled (delivered or
        * dead-lettered); then it and its delivery records are deleted. Pending deliveries are
-       * never pruned. Default 30; null: keep for ever (the outbox then grows with the stream).
+       * never pruned; a notification no subscriber asked for (kept for the live stream,
+       * /api/stream) goes this many days after it was written. Default 30; null: keep for
+       * ever (the outbox then grows with the stream).
        */
       notificationDays: z.number().int().min(1).nullable().default(30),
     })

@@ -98,6 +98,8 @@ describe('API tokens (server.tokens)', () => {
   it('protects reads too with protect "everything", but not the page, the OpenAPI document or /api/health', async () => {
     expect((await everything.inject({ url: '/api/events' })).statusCode).toBe(401);
     expect((await everything.inject({ url: '/api/events?q=levee' })).statusCode).toBe(401);
+    // The live stream carries sentence text as well.
+    expect((await everything.inject({ url: '/api/stream?after=0' })).statusCode).toBe(401);
     expect((await everything.inject({ url: '/api/events', headers: { authorization: `Bearer ${TOKEN}` } })).statusCode).toBe(200);
     expect((await everything.inject({ url: '/api/health' })).statusCode).toBe(200);
     expect((await everything.inject({ url: '/' })).statusCode).toBe(200);

@@ -171,8 +171,10 @@ describe('the query API', () => {
       '/api/outlets',
       '/api/stories',
       '/api/stories/{id}',
+      '/api/stream',
       '/api/webhooks/dead-letters',
     ]);
+    expect(Object.keys(body.paths['/api/stream'].get.responses[200].content)).toEqual(['text/event-stream']);
     expect(body.info.description).toMatch(/machine suggestions/);
   });
 
