@@ -55,6 +55,25 @@ describe('the live stream (/api/stream)', () => {
     }
   });
 
+  it('gives a client that disconnected and came back with Last-Event-ID exactly what it missed', async () => {
+    const first = await openSse(`${base}/api/stream?after=0`);
+    await runArticles(rt, demo.slice(0, 6));
+    const upTo = (await rt.store.notificationsAfter(0, 10_000)).last;
+    await first.until((es) => numbered(es).length === upTo);
+    first.close();
+    await runArticles(rt, demo.slice(6, 14));
+    const missed = (await rt.store.notificationsAfter(upTo, 10_000)).items;
+    expect(missed.length).toBeGreaterThan(0);
+    const again = await openSse(`${base}/api/stream`, { 'last-event-id': numbered(first.events).at(-1)!.id! });
+    try {
+      await again.until((es) => numbered(es).length >= missed.length);
+      await new Promise((r) => setTimeout(r, 100));
+      expect(numbered(again.events).map((e) => Number(e.id))).toEqual(missed.map((n) => n.seq));
+    } finally {
+      again.close();
+    }
+  });
+
   it('resumes after Last-Event-ID with nothing missed, only the types asked for', async () => {
     await runArticles(rt, demo.slice(0, 15));
     const wanted = (await rt.store.notificationsAfter(5, 10_000)).items.filter(
