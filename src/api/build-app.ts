@@ -18,6 +18,7 @@ import { type PushLimits, type SubmitArticles, pushRoute } from './routes/push.j
 import { CAUTION } from './schemas.js';
 import { type FeedControl, feedRoutes } from './routes/feeds.js';
 import { type StreamDeps, streamRoute } from './routes/stream.js';
+import { Metrics } from './metrics.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
@@ -38,9 +39,20 @@ export interface ApiDeps {
   feeds?: FeedControl | undefined;
   /** How often the live stream reads the notification log and sends heartbeats (stream.ts defaults when absent). */
   stream?: Pick<StreamDeps, 'pollMs' | 'heartbeatMs'> | undefined;
+  /** This process's metrics (the dispatcher reports into them too); absent: the app makes its own. */
+  metrics?: Metrics | undefined;
   /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
   auth?: TokenPolicy | undefined;
 }
+
+/** GET /metrics */
+const metricsSchema = {
+  summary: 'Figures for Prometheus (text exposition format)',
+  description:
+    "Rows stored by kind, scale-out queue entries, polled feeds by health, webhook deliveries by outcome and their latency, the replay's progress, and the process's CPU, memory and event-loop delay. Open like /api/health: it carries counts, no text.",
+  tags: ['operations'],
+  response: { 200: { description: 'The figures.', content: { 'text/plain': { schema: { type: 'string' } } } } },
+} as const;
 
 /** Seconds a client is asked to wait when the store is unreachable. */
 const RETRY_AFTER_SECONDS = '5';
@@ -130,6 +142,15 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     await app.register(pushRoute, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
+  const metrics = (deps.metrics ?? new Metrics()).watch({
+    store: deps.store,
+    queue: deps.queue,
+    feeds: deps.feeds,
+    ingestStatus: deps.ingestStatus,
+  });
+  app.get('/metrics', { schema: metricsSchema }, async (_req, reply) =>
+    reply.type(metrics.registry.contentType).send(await metrics.registry.metrics()),
+  );
   registerWebPage(app);
   app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
   await app.ready();

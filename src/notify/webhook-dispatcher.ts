@@ -22,6 +22,11 @@ export type DeliveryFetch = (
   init: { method: string; headers: Record<string, string>; body: string; signal: AbortSignal; redirect: 'manual'; dispatcher: Agent },
 ) => Promise<Response>;
 
+/** Told of each delivery attempt: its outcome (delivered; failed, to be retried; dead, given up) and how long it took. */
+export interface DeliveryObserver {
+  attempted(subscriber: string, outcome: 'delivered' | 'failed' | 'dead', seconds: number): void;
+}
+
 /** Injected so tests control time, chance and the network. */
 export interface DispatcherDeps {
   store: Outbox;
@@ -30,6 +35,8 @@ export interface DispatcherDeps {
   now?: () => Date;
   random?: () => number;
   fetch?: DeliveryFetch;
+  /** Told of each attempt's outcome and time (the process's metrics). */
+  observer?: DeliveryObserver;
 }
 
 const BASE_DELAY_MS = 5_000;
@@ -148,6 +155,7 @@ export class WebhookDispatcher {
       return;
     }
     let error: string | null = null;
+    const sent = performance.now();
     try {
       const res = await this.fetch(sub.url, {
         method: 'POST',
@@ -170,7 +178,9 @@ export class WebhookDispatcher {
       error = describeError((err as Error).cause ?? err);
     }
     const now = this.now();
+    const seconds = (performance.now() - sent) / 1000;
     if (error === null) {
+      this.d.observer?.attempted(d.subscriber, 'delivered', seconds);
       await this.d.store.recordAttempt(d.messageId, d.subscriber, {
         status: 'delivered',
         attempts,
@@ -180,6 +190,7 @@ export class WebhookDispatcher {
       return;
     }
     const dead = attempts >= this.d.config.maxAttempts;
+    this.d.observer?.attempted(d.subscriber, dead ? 'dead' : 'failed', seconds);
     const nextAt = new Date(now.getTime() + (dead ? 0 : retryDelayMs(attempts, this.random))).toISOString();
     await this.d.store.recordAttempt(d.messageId, d.subscriber, { status: dead ? 'dead' : 'pending', attempts, nextAt, error });
     this.log[dead ? 'warn' : 'debug'](

@@ -173,6 +173,7 @@ describe('the query API', () => {
       '/api/stories/{id}',
       '/api/stream',
       '/api/webhooks/dead-letters',
+      '/metrics',
     ]);
     expect(Object.keys(body.paths['/api/stream'].get.responses[200].content)).toEqual(['text/event-stream']);
     expect(body.info.description).toMatch(/machine suggestions/);

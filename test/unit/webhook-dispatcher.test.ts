@@ -22,7 +22,13 @@ function commitWithMessage(store: SqliteStore, created: string): Promise<unknown
   return store.commitArticle(c);
 }
 
-function setup(url: string, fetchImpl?: typeof fetch, maxAttempts = 3, start = new Date('2026-10-10T00:00:00Z')) {
+function setup(
+  url: string,
+  fetchImpl?: typeof fetch,
+  maxAttempts = 3,
+  start = new Date('2026-10-10T00:00:00Z'),
+  attempts: [string, string, number][] = [],
+) {
   const store = openSqliteStore(':memory:');
   open.push(store);
   // The receivers here listen on loopback, which a deployment refuses unless allowed.
@@ -36,6 +42,7 @@ function setup(url: string, fetchImpl?: typeof fetch, maxAttempts = 3, start = n
     logger: createLogger('silent'),
     now: () => now,
     random: () => 0.5,
+    observer: { attempted: (subscriber, outcome, seconds) => attempts.push([subscriber, outcome, seconds]) },
     ...(fetchImpl ? { fetch: fetchImpl } : {}),
   });
   return { store, d, advance: (ms: number) => (now = new Date(now.getTime() + ms)), now: () => now };
@@ -78,7 +85,8 @@ describe('delivering webhooks', () => {
       calls.push('call');
       return new Response('busy', { status: 503 });
     }) as typeof fetch;
-    const { store, d, advance } = setup('http://127.0.0.1:9/never', failing, 3);
+    const attempts: [string, string, number][] = [];
+    const { store, d, advance } = setup('http://127.0.0.1:9/never', failing, 3, undefined, attempts);
     await commitWithMessage(store, '2026-10-10T00:00:00.000Z');
     await d.tick();
     expect(calls).toHaveLength(1);
@@ -92,6 +100,13 @@ describe('delivering webhooks', () => {
     expect(calls).toHaveLength(3);
     const dead = await store.deadLetters(10);
     expect(dead.map((x) => [x.messageId, x.attempts, x.lastError])).toEqual([['msg_test1', 3, 'HTTP 503']]);
+    // Each attempt is reported to the process's metrics, the last as given up.
+    expect(attempts.map(([s, o]) => [s, o])).toEqual([
+      ['recv', 'failed'],
+      ['recv', 'failed'],
+      ['recv', 'dead'],
+    ]);
+    expect(attempts.every(([, , seconds]) => seconds >= 0)).toBe(true);
   });
 
   it('counts only 2xx as delivered: a redirect is a failure', async () => {

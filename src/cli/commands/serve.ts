@@ -6,6 +6,7 @@
  */
 import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
 import { buildApp } from '../../api/build-app.js';
+import { Metrics } from '../../api/metrics.js';
 import type { IngestStatus } from '../../status.js';
 import type { Config } from '../../config/schema.js';
 import { StrandError } from '../../errors.js';
@@ -92,10 +93,12 @@ async function serveAll(
           (st) => st.close(),
         )
       : rt.store;
+  // One set of figures for the process: the dispatcher reports deliveries into what /metrics serves.
+  const metrics = new Metrics();
   await parts.add(
     'webhook dispatcher',
     () => {
-      const d = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger });
+      const d = new WebhookDispatcher({ store: rt.store, config: config.webhooks, logger, observer: metrics });
       d.start();
       return d;
     },
@@ -123,6 +126,7 @@ async function serveAll(
           push: { submit: (a) => intake.submit(a), limits: config.ingest },
           feeds: poller ?? undefined,
           auth: config.server,
+          metrics,
         }),
         config,
       ),
