@@ -1,4 +1,5 @@
 import { NOTIFICATION_TYPES } from '../../src/notify/notification-types.js';
+import { createHmac, timingSafeEqual } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -9,7 +10,8 @@ import { createLogger } from '../../src/logger.js';
 import { WebhookDispatcher } from '../../src/notify/webhook-dispatcher.js';
 import type { Runtime } from '../../src/runtime.js';
 import { DEMO_DIR } from '../helpers/demo.js';
-import { testRuntime } from '../helpers/runtime.js';
+import { runArticles, testRuntime } from '../helpers/runtime.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
 
 const SECRET = 'whsec_c3RyYW5kbGluZS1leGFtcGxlLXNlY3JldC1rZXk=';
 
@@ -106,4 +108,118 @@ describe('feeds in, signed notifications out', () => {
     expect(await rt.store.pruneNotifications(new Date(Date.now() + 1000).toISOString())).toBe(received.length);
     expect(outbox()).toBe(0);
   });
+});
+
+/**
+ * A receiver written from the Standard Webhooks specification alone (checks.md, "Webhooks"):
+ * the signature header is a space-separated list of `v1,<base64>` entries; one must equal
+ * base64(HMAC-SHA256(secret bytes, `<id>.<timestamp>.<body>`)), the secret being the base64
+ * after `whsec_`; the timestamp within 5 minutes of the receiver's clock. Compared in
+ * constant time.
+ */
+function verifiedBySpecification(secret: string, h: Record<string, string | undefined>, body: string, now: Date): boolean {
+  const [id, timestamp, header] = [h['webhook-id'], h['webhook-timestamp'], h['webhook-signature']];
+  if (!id || !timestamp || !header || !/^\d+$/.test(timestamp)) return false;
+  if (Math.abs(now.getTime() / 1000 - Number(timestamp)) > 300) return false;
+  const key = Buffer.from(secret.replace(/^whsec_/, ''), 'base64');
+  const expected = createHmac('sha256', key).update(`${id}.${timestamp}.${body}`).digest();
+  return header.split(' ').some((entry) => {
+    const [version, sig] = entry.split(',', 2);
+    const given = Buffer.from(sig ?? '', 'base64');
+    return version === 'v1' && given.length === expected.length && timingSafeEqual(given, expected);
+  });
+}
+
+describe('a receiver written from the specification', () => {
+  // The test vector of the specification's library tests (checks.md, "Webhooks").
+  const vector = {
+    secret: 'whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw',
+    headers: {
+      'webhook-id': 'msg_p5jXN8AQM9LWM0D4loKWxJek',
+      'webhook-timestamp': '1614265330',
+      'webhook-signature': 'v1,g0hM9SsE+OTPJTGt/tmIKtSyZlE3uFJELVlNIOLJ1OE=',
+    },
+    body: '{"test": 2432232314}',
+    at: new Date(1614265330 * 1000),
+  };
+
+  it('accepts the published test vector, and refuses it altered, stale or under another secret', () => {
+    expect(verifiedBySpecification(vector.secret, vector.headers, vector.body, vector.at)).toBe(true);
+    expect(verifiedBySpecification(vector.secret, vector.headers, vector.body.replace('2', '3'), vector.at)).toBe(false);
+    expect(verifiedBySpecification(vector.secret, vector.headers, vector.body, new Date(vector.at.getTime() + 301_000))).toBe(false);
+    expect(verifiedBySpecification(SECRET, vector.headers, vector.body, vector.at)).toBe(false);
+    // One good entry among several is enough (a sender signs with two secrets while rotating).
+    const two = { ...vector.headers, 'webhook-signature': `v1,AAAA ${vector.headers['webhook-signature']}` };
+    expect(verifiedBySpecification(vector.secret, two, vector.body, vector.at)).toBe(true);
+  });
+});
+
+describe('a receiver down for five minutes during a replay', () => {
+  it('gets every notification once it is back: none lost, none twice, each under the one webhook-id it was given', async () => {
+    let down = true;
+    let now = new Date();
+    const got: { id: string; body: string; verified: boolean }[] = [];
+    const refused: string[] = [];
+    const receiver = createServer((req, res) => {
+      let body = '';
+      req
+        .on('data', (c) => (body += c))
+        .on('end', () => {
+          const id = req.headers['webhook-id'] as string;
+          if (down) {
+            refused.push(id);
+            return void res.writeHead(503).end();
+          }
+          got.push({ id, body, verified: verifiedBySpecification(SECRET, req.headers as Record<string, string>, body, now) });
+          res.writeHead(204).end();
+        });
+    });
+    await new Promise<void>((r) => receiver.listen(0, '127.0.0.1', r));
+    const rt = await testRuntime({
+      webhooks: {
+        allowPrivateNetworks: true,
+        subscribers: [{ name: 'desk', url: `http://127.0.0.1:${(receiver.address() as AddressInfo).port}/hook`, secret: SECRET }],
+      },
+    });
+    // The dispatcher's clock runs ahead a second a poll, so five minutes pass in seconds.
+    const d = new WebhookDispatcher({
+      store: rt.store,
+      config: rt.config.webhooks,
+      logger: createLogger('silent'),
+      now: () => now,
+      random: () => 0.5,
+    });
+    const seconds = async (n: number) => {
+      for (let i = 0; i < n; i++) {
+        now = new Date(now.getTime() + 1000);
+        await d.tick();
+      }
+    };
+    try {
+      const demo = (await readReplayInput([`${DEMO_DIR}feeds`], rt.config.ingest)).articles;
+      const started = now.getTime();
+      await runArticles(rt, demo.slice(0, 50));
+      await seconds(150);
+      await runArticles(rt, demo.slice(50));
+      await seconds(300 - (now.getTime() - started) / 1000);
+      expect(refused.length).toBeGreaterThan(0);
+      down = false;
+      for (let i = 0; i < 20 * 60 && (await rt.store.dueDeliveries('2999-01-01T00:00:00.000Z', 1)).length > 0; i++) await seconds(1);
+
+      const sent = (await rt.store.notificationsAfter(0, 100_000)).items;
+      expect(sent.length).toBeGreaterThan(100);
+      expect(await rt.store.deadLetters(10)).toEqual([]);
+      expect(got.map((g) => g.id).sort()).toEqual(sent.map((n) => n.id).sort());
+      expect(new Set(got.map((g) => g.id)).size).toBe(got.length);
+      // Retried under the same id, with the same body.
+      expect(new Set(refused).size).toBeGreaterThan(0);
+      for (const id of new Set(refused)) expect(sent.some((n) => n.id === id)).toBe(true);
+      const bodies = new Map(sent.map((n) => [n.id, n.body]));
+      expect(got.every((g) => g.body === bodies.get(g.id) && g.verified)).toBe(true);
+    } finally {
+      await d.stop();
+      await rt.close();
+      await new Promise((r) => receiver.close(r));
+    }
+  }, 120_000);
 });
