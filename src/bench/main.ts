@@ -48,6 +48,7 @@ import { syntheticStream } from './synthetic-stream.js';
 import type { ScaleRow } from './link-scale.js';
 import type { TransformerRow } from './transformer-throughput.js';
 import type { LargeFeedRow } from './large-feed-run.js';
+import type { NotifyLatencyRow } from './notify-latency.js';
 import { pollRounds } from './poll-rounds.js';
 import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
@@ -219,6 +220,15 @@ async function main(): Promise<void> {
           maxBuffer: 1 << 20,
         }),
       ) as LargeFeedRow);
+  // Push to webhook and to stream event, at a steady 20 articles/s (a process of its own).
+  const notify: NotifyLatencyRow | null = quick
+    ? null
+    : (JSON.parse(
+        execFileSync(process.execPath, [fileURLToPath(new URL('./notify-latency-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as NotifyLatencyRow);
   const versus = quick ? null : await linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick
     ? []
@@ -286,6 +296,12 @@ async function main(): Promise<void> {
         `  batch average-link         ${versus.batchSeconds.toFixed(2)} s   CoNLL F1 ${(versus.batchConllF1 * 100).toFixed(1)}\n` +
         `  the linker is ${versus.speedup.toFixed(1)}x faster\n`,
     );
+  if (notify)
+    process.stdout.write(
+      `\nfrom a push accepted to the first notification naming it, ${notify.pushed} articles pushed at ${notify.articlesPerSecond}/s (${notify.notified} gave a notification):\n` +
+        `  webhook received   p50 ${notify.webhookP50Ms.toFixed(0)} ms   p95 ${notify.webhookP95Ms.toFixed(0)} ms\n` +
+        `  stream event       p50 ${notify.streamP50Ms.toFixed(0)} ms   p95 ${notify.streamP95Ms.toFixed(0)} ms\n`,
+    );
   if (transformer)
     process.stdout.write(
       `\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n` +
@@ -337,7 +353,7 @@ async function main(): Promise<void> {
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
   writeFileSync(
     file,
-    `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`,
+    `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, notifyLatency: notify, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`,
   );
   process.stdout.write(`written: ${file}\n`);
 }
