@@ -276,8 +276,8 @@ async function mergeEvents(ctx: ConsolidationContext, ids: Iterable<string>, sig
  * text. The states are the linker's own, so its memory is brought up to date as well.
  */
 export async function applyStoredLabels(ctx: ConsolidationContext, events: readonly EventState[]): Promise<void> {
-  // Without subscribers nothing is notified, and commits never write an existing label.
-  if (events.length === 0 || ctx.config.webhooks.subscribers.length === 0) return;
+  // Every change is notified (the live stream carries what no subscriber asked for).
+  if (events.length === 0) return;
   const labels = await ctx.store.eventLabels([...new Set(events.map((e) => e.id))]);
   for (const e of events) {
     const label = labels.get(e.id);

@@ -43,10 +43,13 @@ export interface StorySplitPlan {
 /** Each part keeps at least this many articles. */
 const MIN_PART = 2;
 
-/** True when a story is due for examination: big enough, and grown by half since it was last examined. */
+/** True when a story is due for examination: splitting on, the story big enough, and grown by half since it was last examined. */
 export function storyDueForSplit(s: StoryState, o: StorySplitOptions): boolean {
   return (
-    o.storySplitMinArticles > 0 && s.articleCount >= Math.max(o.storySplitMinArticles, 2 * MIN_PART) && s.articleCount >= 1.5 * s.examined
+    o.storySplitThreshold > 0 &&
+    o.storySplitMinArticles > 0 &&
+    s.articleCount >= Math.max(o.storySplitMinArticles, 2 * MIN_PART) &&
+    s.articleCount >= 1.5 * s.examined
   );
 }
 

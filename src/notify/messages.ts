@@ -19,14 +19,13 @@ import type { OutboxMessage } from '../store/store.js';
 export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.js';
 import type { NotificationType } from './notification-types.js';
 
-/** The outbox messages for one committed plan; none when nobody subscribes. */
+/** The outbox messages for one committed plan (subscribers or not: the live stream carries them all). */
 export function buildMessages(
   plan: LinkPlan,
   mentions: readonly EmbeddedMention[],
   subscribers: readonly Subscriber[],
   now: Date,
 ): OutboxMessage[] {
-  if (subscribers.length === 0) return [];
   const events = new Map(plan.events.map((e) => [e.id, e]));
   const mentionOf = (articleId: string, sentenceIndex: number) =>
     mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);

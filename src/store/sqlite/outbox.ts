@@ -15,17 +15,12 @@ export class SqliteOutbox implements Outbox {
     private readonly write: Write,
   ) {
     this.st = {
-      hasMessage: db.prepare('SELECT 1 FROM outbox WHERE id = ?').pluck(),
-      // The counter lives in meta: pruning may empty the log, and a number is never given twice.
-      nextSeq: db
-        .prepare(
-          `INSERT INTO meta (key, value) VALUES ('outbox_seq', 1) ON CONFLICT(key) DO UPDATE SET value = CAST(value AS INTEGER) + 1 RETURNING value`,
-        )
-        .pluck(),
-      lastSeq: db.prepare(`SELECT CAST(value AS INTEGER) FROM meta WHERE key = 'outbox_seq'`).pluck(),
-      firstSeq: db.prepare('SELECT min(seq) FROM outbox WHERE seq IS NOT NULL').pluck(),
+      // AUTOINCREMENT keeps the last number given in sqlite_sequence, pruning or not.
+      lastSeq: db.prepare(`SELECT seq FROM sqlite_sequence WHERE name = 'outbox'`).pluck(),
+      firstSeq: db.prepare('SELECT min(seq) FROM outbox').pluck(),
       logAfter: db.prepare('SELECT seq, id, type, body, created FROM outbox WHERE seq > ? ORDER BY seq LIMIT ?'),
-      insMessage: db.prepare('INSERT INTO outbox (id, type, body, created, seq) VALUES (?, ?, ?, ?, ?)'),
+      hasMessage: db.prepare('SELECT 1 FROM outbox WHERE id = ?').pluck(),
+      insMessage: db.prepare('INSERT INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
       insDelivery: db.prepare(
         `INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`,
       ),
@@ -42,9 +37,9 @@ export class SqliteOutbox implements Outbox {
   /** Queues messages inside the caller's transaction. */
   queue(messages: readonly OutboxMessage[]): void {
     for (const msg of messages) {
-      // The same change gives the same message: queued again, it keeps its place in the log.
-      if (this.st.hasMessage.get(msg.id) === undefined)
-        this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created, Number(this.st.nextSeq.get()));
+      // The same change gives the same message: queued again, it keeps its number (an
+      // ignored insert would still use one up).
+      if (this.st.hasMessage.get(msg.id) === undefined) this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
       for (const sub of msg.subscribers) this.st.insDelivery.run(msg.id, sub, msg.created);
     }
   }

@@ -208,10 +208,20 @@ export const MIGRATIONS: readonly Migration[] = [
   ) WITHOUT ROWID;
   CREATE INDEX story_splits_from ON story_splits(from_id);
   `,
-  // The notification log the live stream reads: each notification numbered as written
-  // (those written before have no number and are not streamed).
+  // The notification log the live stream reads: the outbox rebuilt with each notification
+  // numbered as written (AUTOINCREMENT: a number is never given twice, pruning or not).
+  // Rows now append at the end instead of landing at the place of a hashed id, which made
+  // writing every notification affordable; earlier ones are numbered in the order created.
   `
-  ALTER TABLE outbox ADD COLUMN seq INTEGER;
-  CREATE UNIQUE INDEX outbox_seq ON outbox(seq) WHERE seq IS NOT NULL;
+  CREATE TABLE outbox_log (
+    seq     INTEGER PRIMARY KEY AUTOINCREMENT,
+    id      TEXT NOT NULL UNIQUE,
+    type    TEXT NOT NULL,
+    body    TEXT NOT NULL,
+    created TEXT NOT NULL
+  );
+  INSERT INTO outbox_log (id, type, body, created) SELECT id, type, body, created FROM outbox ORDER BY created, id;
+  DROP TABLE outbox;
+  ALTER TABLE outbox_log RENAME TO outbox;
   `,
 ];
