@@ -487,15 +487,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       });
 
       it('splits a story: the moved articles and the events first reported in them go to the new story, the split is recorded', async () => {
-        const kept = openStory({
-          id: 'a1',
-          title: 'Levee fails at Dunvessel',
-          outlet: '',
-          published: '2026-10-05T10:00:00.000Z',
-          vector: embedder.vector([]),
-          names: [],
-          isCopy: false,
-        });
+        const kept = levee();
         const split = {
           ...openStory({
             id: 'a3',

@@ -92,7 +92,8 @@ export const streamRoute: RoutePlugin<StreamDeps> = async (app, deps) => {
       if (!res.writableEnded) res.end();
     };
     open.add(end);
-    req.raw.on('close', end);
+    // The response closes when the client goes (or the server ends it).
+    res.on('close', end);
 
     let gapChecked = resume === undefined;
     let unreachable = false;
