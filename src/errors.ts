@@ -31,6 +31,7 @@ export const ERROR_CODES = {
   STRAND_FEED_CONFLICT: { status: 409 },
   STRAND_VECTOR_SPACE_CHANGED: { status: 500 },
   STRAND_UNAUTHORIZED: { status: 401 },
+  STRAND_RATE_LIMITED: { status: 429 },
   STRAND_STOPPED: { status: 503 },
   STRAND_LISTEN_FAILED: { status: 500 },
 } as const;

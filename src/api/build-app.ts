@@ -4,7 +4,10 @@
  * thin: they read the store they are handed and shape the answer.
  */
 import fastify, { LogController, type FastifyBaseLogger, type FastifyInstance, type FastifyError, type FastifyReply } from 'fastify';
+import cors from '@fastify/cors';
+import rateLimit from '@fastify/rate-limit';
 import swagger from '@fastify/swagger';
+import { createHash } from 'node:crypto';
 import { StrandError, isStrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import type { Store } from '../store/store.js';
@@ -41,6 +44,8 @@ export interface ApiDeps {
   stream?: Pick<StreamDeps, 'pollMs' | 'heartbeatMs'> | undefined;
   /** This process's metrics (the dispatcher reports into them too); absent: the app makes its own. */
   metrics?: Metrics | undefined;
+  /** Requests a client may make a minute (0: unlimited) and the origins allowed to call from a browser; absent: neither. */
+  access?: { requestsPerMinute: number; corsOrigins: readonly string[] } | undefined;
   /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
   auth?: TokenPolicy | undefined;
 }
@@ -132,6 +137,24 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   app.addHook('onRequest', async (req, reply) => {
     if (req.url.startsWith('/api/') && deps.store.unavailable()) return storeUnavailable(reply);
   });
+  if (deps.access?.corsOrigins.length) {
+    const origins = deps.access.corsOrigins;
+    await app.register(cors, { origin: origins.includes('*') ? true : [...origins], methods: ['GET', 'POST', 'PATCH', 'DELETE'] });
+  }
+  if (deps.access?.requestsPerMinute) {
+    await app.register(rateLimit, {
+      max: deps.access.requestsPerMinute,
+      timeWindow: 60_000,
+      // A client is its token when it sends one (so scripts behind one address are told
+      // apart), else its address; the token itself is not kept, only a hash of it.
+      keyGenerator: (req) => {
+        const auth = req.headers.authorization;
+        return auth ? `token:${createHash('sha256').update(auth).digest('hex').slice(0, 32)}` : `address:${req.ip}`;
+      },
+      errorResponseBuilder: (_req, context) =>
+        new StrandError('STRAND_RATE_LIMITED', `more than ${context.max} requests a minute; retry in ${context.after}`),
+    });
+  }
   if (deps.auth) registerTokenCheck(app, deps.auth);
   // Each group of routes is a plugin with its schemas beside it (routes/, route-plugin.ts).
   await app.register(eventRoutes, { store: deps.store });

@@ -59,6 +59,17 @@ export const configSchema = z.strictObject({
         .default([]),
       /** With tokens: `changes` (POST, PUT, PATCH, DELETE need one) or `everything` (reads of /api/ too). Default changes. */
       protect: z.enum(['changes', 'everything']).default('changes'),
+      /**
+       * Requests one client may make a minute, per api process (a client is its bearer token
+       * when it sends one, else its address); beyond it, 429 with Retry-After. Default 600
+       * (ten a second: the page and a busy script stay well under it); 0 turns it off.
+       */
+      requestsPerMinute: z.number().int().min(0).default(600),
+      /**
+       * Origins whose pages may call the API from a browser (CORS), e.g.
+       * `https://desk.example`; `*` allows any. Default none: only the page the server serves.
+       */
+      corsOrigins: z.array(z.union([z.literal('*'), z.url({ protocol: /^https?$/ })])).default([]),
     })
     .prefault({}),
   store: z
