@@ -243,6 +243,11 @@ export interface LinkerSnapshot {
   storyMerges: [string, string][];
 }
 
+/** The words of a list query's `text` that must all appear: at most 8, split on white space (both backends). */
+export function searchWords(text: string | undefined): string[] {
+  return (text ?? '').split(/\s+/).filter(Boolean).slice(0, 8);
+}
+
 /** Filters for listing events. */
 export interface EventQuery {
   /** Events active on or after this day (YYYY-MM-DD or RFC 3339). */

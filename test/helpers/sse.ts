@@ -14,6 +14,8 @@ export interface SseClient {
   status: number;
   events: SseEvent[];
   until(check: (events: SseEvent[]) => boolean, ms?: number): Promise<void>;
+  /** Resolves when the server ends the stream (or close() aborts it). */
+  ended: Promise<void>;
   close(): void;
 }
 
@@ -23,7 +25,7 @@ export async function openSse(url: string, headers: Record<string, string> = {})
   const res = await fetch(url, { headers: { accept: 'text/event-stream', ...headers }, signal: abort.signal });
   const events: SseEvent[] = [];
   const waiters = new Set<() => void>();
-  void (async () => {
+  const ended = (async () => {
     const reader = res.body!.pipeThrough(new TextDecoderStream()).getReader();
     let buffer = '';
     try {
@@ -45,6 +47,7 @@ export async function openSse(url: string, headers: Record<string, string> = {})
   return {
     status: res.status,
     events,
+    ended,
     async until(check, ms = 10_000) {
       const deadline = Date.now() + ms;
       while (!check(events)) {

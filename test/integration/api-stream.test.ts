@@ -137,7 +137,9 @@ describe('the live stream (/api/stream)', () => {
   it('ends its open streams when the server closes', async () => {
     const s = await openSse(`${base}/api/stream`);
     await s.until((es) => es.length > 0);
+    // The server ends the stream itself, or close() would wait on it for ever.
     await app.close();
+    await s.ended;
     s.close();
   });
 });

@@ -23,6 +23,7 @@ import type {
   StoryQuery,
   StorySummary,
 } from '../store.js';
+import { searchWords } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 import { cmp, parseMerge, pipelined, splitMember } from './pipelined.js';
@@ -44,16 +45,8 @@ export class RedisEventQueries implements EventQueries {
       const inStory = new Set(await this.redis.smembers(this.k.storyEvents((await this.currentStories([q.story])).get(q.story)!)));
       ids = ids.filter((id) => inStory.has(id));
     }
-    let events = await this.summaries(ids);
-    const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
-    if (to) events = events.filter((e) => e.firstSeen <= to);
-    if (q.outlet) events = events.filter((e) => e.outlets.includes(q.outlet!));
-    if (q.minOutlets) events = events.filter((e) => e.outlets.length >= q.minOutlets!);
-    const words = (q.text ?? '')
-      .split(/\s+/)
-      .filter(Boolean)
-      .slice(0, 8)
-      .map((w) => w.toLowerCase());
+    let events = listFilters(await this.summaries(ids), q);
+    const words = searchWords(q.text).map((w) => w.toLowerCase());
     if (words.length) {
       const texts = (await pipelined(this.redis, events, (p, e) => p.smembers(this.k.eventLinks(e.id)))) as string[][];
       const sentenceTexts = await Promise.all(texts.map((members) => this.sentenceTexts(members)));
@@ -130,16 +123,8 @@ export class RedisEventQueries implements EventQueries {
   async listStories(q: StoryQuery): Promise<StoryPage> {
     const from = q.from ? Date.parse(q.from) : -Infinity;
     const ids = await this.redis.zrangebyscore(this.k.stories, Number.isFinite(from) ? from : '-inf', '+inf');
-    let stories = await this.storySummaries(ids);
-    const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
-    if (to) stories = stories.filter((s) => s.firstSeen <= to);
-    if (q.outlet) stories = stories.filter((s) => s.outlets.includes(q.outlet!));
-    if (q.minOutlets) stories = stories.filter((s) => s.outlets.length >= q.minOutlets!);
-    const words = (q.text ?? '')
-      .split(/\s+/)
-      .filter(Boolean)
-      .slice(0, 8)
-      .map((w) => w.toLowerCase());
+    let stories = listFilters(await this.storySummaries(ids), q);
+    const words = searchWords(q.text).map((w) => w.toLowerCase());
     if (words.length) {
       const titles = await Promise.all(stories.map(async (s) => (await this.storyArticles(s.id)).map((a) => a.title)));
       stories = stories.filter((s, i) => hasEveryWord(words, [s.label, ...s.names, ...titles[i]!]));
@@ -323,6 +308,17 @@ export class RedisEventQueries implements EventQueries {
 }
 
 /** True when every (lower-case) word is part of one of the texts: the in-process text filter of the lists. */
+/** What events and stories are filtered by alike: begun by `to` (a day means its end), reported by an outlet, by enough outlets. */
+function listFilters<T extends { firstSeen: string; outlets: string[] }>(
+  items: T[],
+  q: { to?: string | undefined; outlet?: string | undefined; minOutlets?: number | undefined },
+): T[] {
+  const to = q.to ? (/^\d{4}-\d{2}-\d{2}$/.test(q.to) ? `${q.to}T23:59:59.999Z` : q.to) : null;
+  return items.filter(
+    (x) => (!to || x.firstSeen <= to) && (!q.outlet || x.outlets.includes(q.outlet)) && (!q.minOutlets || x.outlets.length >= q.minOutlets),
+  );
+}
+
 function hasEveryWord(words: readonly string[], texts: readonly string[]): boolean {
   const hay = texts.map((t) => t.toLowerCase());
   return words.every((w) => hay.some((t) => t.includes(w)));

@@ -15,7 +15,8 @@ import type {
   StoryPage,
   StoryQuery,
 } from '../store.js';
-import { EVENT_SELECT, type Row, STORY_SELECT, toStorySummary, toSummary } from './rows.js';
+import { searchWords } from '../store.js';
+import { EVENT_SELECT, type Row, STORY_SELECT, likePattern, toStorySummary, toSummary } from './rows.js';
 
 export class SqliteEventQueries implements EventQueries {
   private readonly st;
@@ -71,15 +72,11 @@ export class SqliteEventQueries implements EventQueries {
       where.push('e.story_id = coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story)');
       params.story = q.story;
     }
-    (q.text ?? '')
-      .split(/\s+/)
-      .filter(Boolean)
-      .slice(0, 8)
-      .forEach((word, i) => {
-        where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
+    searchWords(q.text).forEach((word, i) => {
+      where.push(`(e.label LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM links l JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         WHERE l.event_id = e.id AND s.text LIKE @w${i} ESCAPE '\\'))`);
-        params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
-      });
+      params[`w${i}`] = likePattern(word);
+    });
     const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
     const order =
       q.sort === 'outlets'
@@ -153,16 +150,12 @@ export class SqliteEventQueries implements EventQueries {
       where.push('(SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id) >= @minOutlets');
       params.minOutlets = q.minOutlets;
     }
-    (q.text ?? '')
-      .split(/\s+/)
-      .filter(Boolean)
-      .slice(0, 8)
-      .forEach((word, i) => {
-        where.push(
-          `(s.label LIKE @w${i} ESCAPE '\\' OR s.names LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.title LIKE @w${i} ESCAPE '\\'))`,
-        );
-        params[`w${i}`] = `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
-      });
+    searchWords(q.text).forEach((word, i) => {
+      where.push(
+        `(s.label LIKE @w${i} ESCAPE '\\' OR s.names LIKE @w${i} ESCAPE '\\' OR EXISTS (SELECT 1 FROM articles a WHERE a.story_id = s.id AND a.title LIKE @w${i} ESCAPE '\\'))`,
+      );
+      params[`w${i}`] = likePattern(word);
+    });
     const filter = where.length ? `WHERE ${where.join(' AND ')}` : '';
     const order =
       q.sort === 'outlets'

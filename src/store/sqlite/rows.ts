@@ -49,6 +49,11 @@ export const EVENT_SELECT = `SELECT e.id, e.label, e.first_seen, e.last_seen, e.
   (SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id AND eo.independent > 0) AS independent
   FROM events e`;
 
+/** A LIKE pattern (ESCAPE '\\') matching `word` anywhere, its wildcards and escape taken as plain characters. */
+export function likePattern(word: string): string {
+  return `%${word.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
+}
+
 export function toSummary(r: Row): EventSummary {
   return {
     id: r.id as string,
