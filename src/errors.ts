@@ -29,6 +29,7 @@ export const ERROR_CODES = {
   STRAND_MODEL_MISSING: { status: 500 },
   STRAND_ANALYSIS_FAILED: { status: 500 },
   STRAND_FEED_CONFLICT: { status: 409 },
+  STRAND_SUBSCRIPTION_CONFLICT: { status: 409 },
   STRAND_VECTOR_SPACE_CHANGED: { status: 500 },
   STRAND_UNAUTHORIZED: { status: 401 },
   STRAND_RATE_LIMITED: { status: 429 },

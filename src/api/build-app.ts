@@ -21,6 +21,7 @@ import { type PushLimits, type SubmitArticles, pushRoute } from './routes/push.j
 import { CAUTION } from './schemas.js';
 import { type FeedControl, feedRoutes } from './routes/feeds.js';
 import { type StreamDeps, streamRoute } from './routes/stream.js';
+import { type SubscriptionDeps, subscriptionRoutes } from './routes/subscriptions.js';
 import { Metrics } from './metrics.js';
 import { type TokenPolicy, registerTokenCheck } from './require-token.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
@@ -46,6 +47,8 @@ export interface ApiDeps {
   metrics?: Metrics | undefined;
   /** Requests a client may make a minute (0: unlimited) and the origins allowed to call from a browser; absent: neither. */
   access?: { requestsPerMinute: number; corsOrigins: readonly string[] } | undefined;
+  /** Which webhook targets subscriptions may name (webhooks.allowPrivateNetworks, allowedNetworks); absent: no private ones. */
+  webhooks?: SubscriptionDeps['webhooks'] | undefined;
   /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
   auth?: TokenPolicy | undefined;
 }
@@ -58,6 +61,8 @@ const metricsSchema = {
   tags: ['operations'],
   response: { 200: { description: 'The figures.', content: { 'text/plain': { schema: { type: 'string' } } } } },
 } as const;
+
+const NO_PRIVATE_TARGETS = { allowPrivateNetworks: false, allowedNetworks: [] };
 
 /** Seconds a client is asked to wait when the store is unreachable. */
 const RETRY_AFTER_SECONDS = '5';
@@ -97,7 +102,14 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         version: deps.version,
         description: `Events reported in news feeds, the sentences that report them and the links between the two, grouped into stories (threads of coverage).\n\n${CAUTION}`,
       },
-      tags: [{ name: 'events' }, { name: 'stories' }, { name: 'articles' }, { name: 'feeds' }, { name: 'operations' }],
+      tags: [
+        { name: 'events' },
+        { name: 'stories' },
+        { name: 'articles' },
+        { name: 'feeds' },
+        { name: 'subscriptions' },
+        { name: 'operations' },
+      ],
       components: { securitySchemes: { bearer: { type: 'http', scheme: 'bearer', description: TOKEN_NOTE } } },
       // Whether a token is needed depends on server.tokens and server.protect (see the scheme).
       security: [{}, { bearer: [] }],
@@ -165,6 +177,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     await app.register(pushRoute, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
+  await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({
     store: deps.store,
     queue: deps.queue,

@@ -20,6 +20,39 @@ const networkList = z
     }
   });
 
+const nameList = z.array(z.string().min(1).max(200)).max(64).optional();
+
+/** One alert rule (notify/alert-rules.ts): which notifications a subscriber receives. */
+const alertRuleSchema = z
+  .strictObject({
+    /** Named in each delivery the rule selects. */
+    name: z.string().min(1).max(100),
+    /** Notification types it selects. Default: all. */
+    types: z.array(z.enum(NOTIFICATION_TYPES)).min(1).optional(),
+    /** Words that must all appear in the label, the sentence or the headline. */
+    words: z.array(z.string().min(1).max(100)).max(16).optional(),
+    /** At least one must be among the participants (or a story's names). */
+    participants: nameList,
+    /** At least one must be among the places (or a story's names). */
+    places: nameList,
+    /** Only reports by these outlets. */
+    outlets: nameList,
+    /** Leave out reports that are copies of another article. */
+    independentOnly: z.boolean().optional(),
+    /** Select an event at the report that brings it to this many outlets. */
+    minOutlets: z.number().int().min(2).max(10_000).optional(),
+    /** With minOutlets: only within this many hours of the event's first report. */
+    withinHours: z
+      .number()
+      .min(1)
+      .max(24 * 366)
+      .optional(),
+  })
+  .refine((r) => r.withinHours === undefined || r.minOutlets !== undefined, {
+    message: 'withinHours needs minOutlets',
+    path: ['withinHours'],
+  });
+
 const subscriberSchema = z.strictObject({
   /** Name used in logs and the API. */
   name: z.string().min(1).max(100),
@@ -32,6 +65,13 @@ const subscriberSchema = z.strictObject({
     .array(z.enum(NOTIFICATION_TYPES))
     .min(1)
     .default([...NOTIFICATION_TYPES]),
+  /** Alert rules, tried in order; the first that selects a notification is named in its delivery. Default: one rule selecting `types`. */
+  rules: z
+    .array(alertRuleSchema)
+    .min(1)
+    .max(32)
+    .optional()
+    .refine((rules) => !rules || new Set(rules.map((r) => r.name)).size === rules.length, 'rule names must differ'),
 });
 
 /** The full configuration. */
@@ -370,7 +410,10 @@ export const configSchema = z.strictObject({
     }),
   webhooks: z
     .strictObject({
-      subscribers: z.array(subscriberSchema).default([]),
+      subscribers: z
+        .array(subscriberSchema)
+        .default([])
+        .refine((subs) => new Set(subs.map((x) => x.name)).size === subs.length, 'subscriber names must differ'),
       /** Delivery attempts before a message goes to the dead-letter list. Default 8 (about 6 hours of retries). */
       maxAttempts: z.number().int().min(1).max(50).default(8),
       /** Time allowed for one delivery, ms. Default 10 s. */

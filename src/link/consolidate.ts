@@ -146,7 +146,7 @@ async function mergeStoriesOf(ctx: ConsolidationContext, ids: readonly string[],
       from: m.from,
       score: m.score,
       at: ctx.now().toISOString(),
-      messages: buildStoryMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+      messages: buildStoryMergeMessages(m, merged, ctx.now()),
     });
     ctx.stories.applyMerge(merged, m.from);
     done.push(m);
@@ -185,7 +185,7 @@ async function splitStories(ctx: ConsolidationContext, ids: readonly string[], s
       events: events.map((e) => ({ record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) })),
       score: plan.score,
       at: ctx.now().toISOString(),
-      messages: buildStorySplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
+      messages: buildStorySplitMessages(plan, ctx.now()),
     });
     ctx.stories.applySplit(plan);
     ctx.linker.applyMoves(events);
@@ -237,7 +237,7 @@ async function splitEvents(ctx: ConsolidationContext, ids: readonly string[], si
       moved: plan.moved,
       score: plan.score,
       at: ctx.now().toISOString(),
-      messages: buildSplitMessages(plan, ctx.config.webhooks.subscribers, ctx.now()),
+      messages: buildSplitMessages(plan, ctx.now()),
     });
     ctx.linker.applySplit(plan);
     done.push({ from: id, into: plan.split.id, score: plan.score, moved: plan.moved });
@@ -261,7 +261,7 @@ async function mergeEvents(ctx: ConsolidationContext, ids: Iterable<string>, sig
       from: m.from,
       score: m.score,
       at,
-      messages: buildMergeMessages(m, merged, ctx.config.webhooks.subscribers, ctx.now()),
+      messages: buildMergeMessages(m, merged, ctx.now()),
     });
     ctx.linker.applyMerge(merged, m.from);
     done.push(m);

@@ -1,12 +1,12 @@
 /**
  * Builds the notifications a link plan gives rise to, as outbox messages: "event.opened"
  * when a mention opens an event, "event.outlet_added" when an event is reported by an
- * outlet for the first time. Payloads follow the Standard Webhooks recommendation
+ * outlet for the first time, "event.cross_story_link" when a sentence links to an event of
+ * another story. Payloads follow the Standard Webhooks recommendation
  * (`type`, `timestamp`, `data`); ids are derived from the change, so a replayed change
  * produces the same `webhook-id` and receivers can drop the repeat.
  */
 import { createHash } from 'node:crypto';
-import type { Subscriber } from '../config/schema.js';
 import type { LinkPlan, MergePlan } from '../link/online-linker.js';
 import type { SplitPlan } from '../link/split-event.js';
 import type { StorySplitPlan } from '../link/split-story.js';
@@ -19,18 +19,13 @@ import type { OutboxMessage } from '../store/store.js';
 export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.js';
 import type { NotificationType } from './notification-types.js';
 
-/** The outbox messages for one committed plan (subscribers or not: the live stream carries them all). */
-export function buildMessages(
-  plan: LinkPlan,
-  mentions: readonly EmbeddedMention[],
-  subscribers: readonly Subscriber[],
-  now: Date,
-): OutboxMessage[] {
+/** The outbox messages for one committed plan (every change is logged; subscriptions' rules select from the log). */
+export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention[], now: Date): OutboxMessage[] {
   const events = new Map(plan.events.map((e) => [e.id, e]));
   const mentionOf = (articleId: string, sentenceIndex: number) =>
     mentions.find((m) => m.articleId === articleId && m.sentenceIndex === sentenceIndex);
   const out: OutboxMessage[] = [];
-  const push = messageSink(out, subscribers, now);
+  const push = messageSink(out, now);
   for (const id of plan.opened) {
     const link = plan.links.find((l) => l.eventId === id)!;
     const m = mentionOf(link.articleId, link.sentenceIndex);
@@ -58,13 +53,32 @@ export function buildMessages(
       note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
     });
   }
+  // A sentence linked to an event of another story: the rare links that tie two threads.
+  for (const link of plan.links) {
+    const event = events.get(link.eventId);
+    if (!link.evidence.crossStory || !event || plan.opened.includes(link.eventId)) continue;
+    const m = mentionOf(link.articleId, link.sentenceIndex);
+    push('event.cross_story_link', `${link.eventId}\n${link.articleId}\n${link.sentenceIndex}`, {
+      event: toRecord(event),
+      mention: {
+        article: link.articleId,
+        sentence: link.sentenceIndex,
+        outlet: m?.outlet,
+        text: m?.text,
+        published: m?.published,
+        score: link.score,
+        evidence: link.evidence,
+      },
+      note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
+    });
+  }
   return out;
 }
 
 /** The "event.split" notification for one consolidation split: both events as they now stand. */
-export function buildSplitMessages(p: SplitPlan, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildSplitMessages(p: SplitPlan, now: Date): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, subscribers, now)('event.split', `${p.kept.id}\n${p.split.id}`, {
+  messageSink(out, now)('event.split', `${p.kept.id}\n${p.split.id}`, {
     event: toRecord(p.kept),
     splitOff: toRecord(p.split),
     moved: p.moved.map((m) => ({ article: m.articleId, sentence: m.sentenceIndex })),
@@ -78,9 +92,9 @@ export function buildSplitMessages(p: SplitPlan, subscribers: readonly Subscribe
  * "story.opened" when an article opens a story, "story.outlet_added" when an outlet reports
  * on a story for the first time (`independent` false for a copy of another article).
  */
-export function buildStoryMessages(p: StoryPlan, article: Article, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildStoryMessages(p: StoryPlan, article: Article, now: Date): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  const push = messageSink(out, subscribers, now);
+  const push = messageSink(out, now);
   const about = { article: article.id, title: article.title, outlet: article.outlet, url: article.url, published: article.published };
   if (p.opened) push('story.opened', p.story.id, { story: storyRecord(p.story), article: about, note: STORY_NOTE });
   if (p.outletAdded) {
@@ -98,14 +112,9 @@ export function buildStoryMessages(p: StoryPlan, article: Article, subscribers: 
 }
 
 /** The "story.merged" notification for one consolidation merge of two stories. */
-export function buildStoryMergeMessages(
-  m: StoryMergePlan,
-  merged: StoryState,
-  subscribers: readonly Subscriber[],
-  now: Date,
-): OutboxMessage[] {
+export function buildStoryMergeMessages(m: StoryMergePlan, merged: StoryState, now: Date): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, subscribers, now)('story.merged', `${m.from}\n${m.into}`, {
+  messageSink(out, now)('story.merged', `${m.from}\n${m.into}`, {
     story: storyRecord(merged),
     mergedFrom: m.from,
     score: m.score,
@@ -115,9 +124,9 @@ export function buildStoryMergeMessages(
 }
 
 /** The "story.split" notification for one consolidation split of a story. */
-export function buildStorySplitMessages(plan: StorySplitPlan, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildStorySplitMessages(plan: StorySplitPlan, now: Date): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, subscribers, now)('story.split', `${plan.kept.id}\n${plan.split.id}`, {
+  messageSink(out, now)('story.split', `${plan.kept.id}\n${plan.split.id}`, {
     story: storyRecord(plan.kept),
     splitOff: storyRecord(plan.split),
     articlesMoved: plan.moved,
@@ -130,9 +139,9 @@ export function buildStorySplitMessages(plan: StorySplitPlan, subscribers: reado
 const STORY_NOTE = 'Automatic grouping: a machine suggestion to verify before publishing or acting on it.';
 
 /** The "event.merged" notification for one consolidation merge. */
-export function buildMergeMessages(m: MergePlan, merged: EventState, subscribers: readonly Subscriber[], now: Date): OutboxMessage[] {
+export function buildMergeMessages(m: MergePlan, merged: EventState, now: Date): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, subscribers, now)('event.merged', `${m.from}\n${m.into}`, {
+  messageSink(out, now)('event.merged', `${m.from}\n${m.into}`, {
     event: toRecord(merged),
     mergedFrom: m.from,
     score: m.score,
@@ -141,15 +150,10 @@ export function buildMergeMessages(m: MergePlan, merged: EventState, subscribers
   return out;
 }
 
-function messageSink(
-  out: OutboxMessage[],
-  subscribers: readonly Subscriber[],
-  now: Date,
-): (type: NotificationType, key: string, data: unknown) => void {
+function messageSink(out: OutboxMessage[], now: Date): (type: NotificationType, key: string, data: unknown) => void {
   const created = now.toISOString();
   return (type, key, data) => {
-    const to = subscribers.filter((s) => s.types.includes(type)).map((s) => s.name);
     const id = `msg_${createHash('sha256').update(`${type}\n${key}`).digest('hex').slice(0, 24)}`;
-    out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created, subscribers: to });
+    out.push({ id, type, body: JSON.stringify({ type, timestamp: created, data }), created });
   };
 }

@@ -4,6 +4,7 @@ export const NOTIFICATION_TYPES = [
   'event.outlet_added',
   'event.merged',
   'event.split',
+  'event.cross_story_link',
   'story.opened',
   'story.outlet_added',
   'story.merged',

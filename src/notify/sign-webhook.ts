@@ -13,8 +13,12 @@ export interface WebhookHeaders {
   'webhook-signature': string;
 }
 
-/** Signs `body` for delivery `id` at time `at`. */
-export function signWebhook(secret: string, id: string, at: Date, body: string): WebhookHeaders {
-  const signature = new Webhook(secret).sign(id, at, body);
+/**
+ * Signs `body` for delivery `id` at time `at`, with each secret given: during a secret's
+ * rotation both the new and the old one sign, space-separated (the specification lets a
+ * receiver accept any signature it can verify).
+ */
+export function signWebhook(secrets: string | readonly string[], id: string, at: Date, body: string): WebhookHeaders {
+  const signature = (typeof secrets === 'string' ? [secrets] : secrets).map((s) => new Webhook(s).sign(id, at, body)).join(' ');
   return { 'webhook-id': id, 'webhook-timestamp': String(Math.floor(at.getTime() / 1000)), 'webhook-signature': signature };
 }

@@ -4,17 +4,23 @@
  * Architecture Blog, 2015) until a 2xx answer or `maxAttempts`, after which the delivery
  * moves to the dead-letter list. Only 2xx counts as delivered (Standard Webhooks spec).
  *
- * Each subscriber has a lane of its own: its deliveries go one at a time, in order, while
- * other subscribers' lanes run beside it (up to `concurrency` at once). A receiver that
- * hangs holds up its own lane only; the others keep being served every `pollMs`.
+ * Each poll first hands new notifications of the log to the subscriptions whose alert rules
+ * select them (fan-out: each subscription keeps its place in the log, so a notification is
+ * queued for it once, however often the poll runs or restarts), then delivers what is due.
+ * Each subscription has a lane of its own: its deliveries go one at a time, in order, while
+ * other lanes run beside it (up to `concurrency` at once). A receiver that hangs holds up
+ * its own lane only; the others keep being served every `pollMs`. A paused subscription
+ * gets nothing queued or sent until it is resumed.
  */
 import { fetch as undiciFetch, type Agent } from 'undici';
-import type { Config, Subscriber } from '../config/schema.js';
+import type { Config } from '../config/schema.js';
 import { describeError } from '../errors.js';
 import { NetworkGuard, WEBHOOK_NAMES } from '../ingest/network-guard.js';
 import type { Logger } from '../logger.js';
-import type { Delivery, Outbox } from '../store/store.js';
+import type { Delivery, Outbox, Subscription, Subscriptions } from '../store/store.js';
+import { firstMatch } from './alert-rules.js';
 import { signWebhook } from './sign-webhook.js';
+import { signingSecrets, syncConfigSubscriptions } from './subscriptions.js';
 
 /** The fetch the dispatcher calls: undici's, with the address-guarded agent as dispatcher. */
 export type DeliveryFetch = (
@@ -29,7 +35,7 @@ export interface DeliveryObserver {
 
 /** Injected so tests control time, chance and the network. */
 export interface DispatcherDeps {
-  store: Outbox;
+  store: Outbox & Subscriptions;
   config: Readonly<Config['webhooks']>;
   logger: Logger;
   now?: () => Date;
@@ -43,6 +49,9 @@ const BASE_DELAY_MS = 5_000;
 const MAX_DELAY_MS = 60 * 60_000;
 /** Due deliveries read per poll (over every idle subscriber). */
 const BATCH = 50;
+/** Notifications of the log one subscription's rules judge per read, and reads per poll at most. */
+const FAN_OUT_BATCH = 500;
+const FAN_OUT_READS = 20;
 
 /** Delay before retry `attempt` (1-based): a random value up to 5 s x 2^(attempt-1), capped at one hour. */
 export function retryDelayMs(attempt: number, random: () => number): number {
@@ -57,7 +66,10 @@ export class WebhookDispatcher {
   private polling: Promise<Promise<void>[]> | null = null;
   /** Subscribers with a delivery in progress, and the lane that runs it. */
   private readonly lanes = new Map<string, Promise<void>>();
-  private readonly subscribers: Map<string, Subscriber>;
+  /** The subscriptions as read at the last poll. */
+  private subscriptions = new Map<string, Subscription & { cursor: number }>();
+  /** The configured subscribers written to the store, once per dispatcher. */
+  private synced: Promise<void> | null = null;
   private readonly now: () => Date;
   private readonly random: () => number;
   private readonly fetch: DeliveryFetch;
@@ -67,7 +79,6 @@ export class WebhookDispatcher {
   private readonly stopping = new AbortController();
 
   constructor(private readonly d: DispatcherDeps) {
-    this.subscribers = new Map(d.config.subscribers.map((s) => [s.name, s]));
     this.now = d.now ?? (() => new Date());
     this.random = d.random ?? Math.random;
     this.fetch = d.fetch ?? (undiciFetch as unknown as DeliveryFetch);
@@ -75,9 +86,9 @@ export class WebhookDispatcher {
     this.agent = new NetworkGuard(d.config, WEBHOOK_NAMES).agent();
   }
 
-  /** Starts polling every `pollMs`. */
+  /** Starts polling every `pollMs` (subscriptions can be made through the API at any time). */
   start(): void {
-    if (this.timer || this.subscribers.size === 0) return;
+    if (this.timer) return;
     this.timer = setInterval(() => void this.tick(), this.d.config.pollMs);
     this.timer.unref();
   }
@@ -108,9 +119,14 @@ export class WebhookDispatcher {
   }
 
   private async startLanes(): Promise<Promise<void>[]> {
+    this.synced ??= syncConfigSubscriptions(this.d.store, this.d.config.subscribers, this.now(), this.log);
+    await this.synced;
+    this.subscriptions = new Map((await this.d.store.listSubscriptions()).map((s) => [s.name, s]));
+    for (const s of this.subscriptions.values()) if (!s.paused) await this.fanOut(s);
     const free = this.d.config.concurrency - this.lanes.size;
     if (free <= 0) return [];
-    const due = await this.d.store.dueDeliveries(this.now().toISOString(), BATCH, [...this.lanes.keys()]);
+    const paused = [...this.subscriptions.values()].filter((s) => s.paused).map((s) => s.name);
+    const due = await this.d.store.dueDeliveries(this.now().toISOString(), BATCH, [...this.lanes.keys(), ...paused]);
     const bySubscriber = new Map<string, Delivery[]>();
     for (const delivery of due) {
       const list = bySubscriber.get(delivery.subscriber);
@@ -124,6 +140,25 @@ export class WebhookDispatcher {
       started.push(lane);
     }
     return started;
+  }
+
+  /** Queues the deliveries a subscription's rules select among the notifications past its place in the log. */
+  private async fanOut(s: Subscription & { cursor: number }): Promise<void> {
+    let from = s.cursor;
+    for (let read = 0; read < FAN_OUT_READS; read++) {
+      const log = await this.d.store.notificationsAfter(from, FAN_OUT_BATCH);
+      // Past the last number given, or everything after `from` pruned: move to the end.
+      const to = log.items.at(-1)?.seq ?? log.last;
+      if (to <= from) return;
+      const deliveries = log.items.flatMap((n) => {
+        const rule = firstMatch(s.rules, n.type, n.body);
+        return rule === null ? [] : [{ messageId: n.id, rule }];
+      });
+      // False: another pass moved the place first; the next poll reads it afresh.
+      if (!(await this.d.store.fanOut(s.name, from, to, deliveries, this.now().toISOString()))) return;
+      from = to;
+      if (log.items.length < FAN_OUT_BATCH) return;
+    }
   }
 
   private async runLane(deliveries: readonly Delivery[]): Promise<void> {
@@ -143,17 +178,20 @@ export class WebhookDispatcher {
   }
 
   private async deliver(d: Delivery): Promise<void> {
-    const sub = this.subscribers.get(d.subscriber);
+    const sub = this.subscriptions.get(d.subscriber);
     const attempts = d.attempts + 1;
     if (!sub) {
       await this.d.store.recordAttempt(d.messageId, d.subscriber, {
         status: 'dead',
         attempts,
         nextAt: this.now().toISOString(),
-        error: 'subscriber no longer configured',
+        error: 'subscription deleted',
+        latencyMs: 0,
       });
       return;
     }
+    // The rule that selected it goes in the signed body; retries and replays send the same bytes.
+    const body = d.rule === null ? d.body : withRule(d.body, d.rule);
     let error: string | null = null;
     const sent = performance.now();
     try {
@@ -162,9 +200,9 @@ export class WebhookDispatcher {
         headers: {
           'content-type': 'application/json',
           'user-agent': 'Strandline-Webhooks/0.1',
-          ...signWebhook(sub.secret, d.messageId, this.now(), d.body),
+          ...signWebhook(signingSecrets(sub, this.now()), d.messageId, this.now(), body),
         },
-        body: d.body,
+        body,
         signal: AbortSignal.any([AbortSignal.timeout(this.d.config.timeoutMs), this.stopping.signal]),
         redirect: 'manual',
         dispatcher: this.agent,
@@ -186,16 +224,32 @@ export class WebhookDispatcher {
         attempts,
         nextAt: now.toISOString(),
         error: null,
+        latencyMs: seconds * 1000,
       });
       return;
     }
     const dead = attempts >= this.d.config.maxAttempts;
     this.d.observer?.attempted(d.subscriber, dead ? 'dead' : 'failed', seconds);
     const nextAt = new Date(now.getTime() + (dead ? 0 : retryDelayMs(attempts, this.random))).toISOString();
-    await this.d.store.recordAttempt(d.messageId, d.subscriber, { status: dead ? 'dead' : 'pending', attempts, nextAt, error });
+    await this.d.store.recordAttempt(d.messageId, d.subscriber, {
+      status: dead ? 'dead' : 'pending',
+      attempts,
+      nextAt,
+      error,
+      latencyMs: seconds * 1000,
+    });
     this.log[dead ? 'warn' : 'debug'](
       { message: d.messageId, subscriber: d.subscriber, attempts, error },
       dead ? 'delivery gave up; moved to dead letters' : 'delivery failed; will retry',
     );
+  }
+}
+
+/** The body with the name of the rule that selected it (`rule`, beside `type`, `timestamp` and `data`). */
+function withRule(body: string, rule: string): string {
+  try {
+    return JSON.stringify({ ...(JSON.parse(body) as object), rule });
+  } catch {
+    return body;
   }
 }

@@ -47,7 +47,6 @@ export async function linkGroup(
       for (const e of p.plan.events) lastWriter.set(e.id, k);
       if (p.storyPlan) lastStoryWriter.set(p.storyPlan.story.id, k);
     });
-    const subscribers = ctx.config.webhooks.subscribers;
     const openedHere = new Set(batch.flatMap((p) => p.plan.opened));
     await applyStoredLabels(
       ctx,
@@ -63,8 +62,8 @@ export async function linkGroup(
           ? { record: storyRecord(p.storyPlan.story), state: serialiseStory(p.storyPlan.story) }
           : null,
       messages: [
-        ...buildMessages(p.plan, p.a.embedded, subscribers, ctx.now()),
-        ...(p.storyPlan ? buildStoryMessages(p.storyPlan, p.a.article, subscribers, ctx.now()) : []),
+        ...buildMessages(p.plan, p.a.embedded, ctx.now()),
+        ...(p.storyPlan ? buildStoryMessages(p.storyPlan, p.a.article, ctx.now()) : []),
       ],
     }));
     let results: CommitResult[];

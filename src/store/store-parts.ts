@@ -1,6 +1,6 @@
 /**
  * What a backend's store hands to its parts: every Store method outside the commits (the
- * API's queries, the outbox's deliveries, the feed list, retention), passed on to the part
+ * API's queries, the outbox's deliveries, the subscriptions, the feed list, retention), passed on to the part
  * that owns it. Both backends extend it, so the hand-over is written once.
  */
 import type {
@@ -21,12 +21,15 @@ import type {
   StoryDetail,
   StoryPage,
   StoryQuery,
+  Subscription,
+  Subscriptions,
 } from './store.js';
 
 /** The parts a store is made of besides its commits. */
-export abstract class StoreParts implements EventQueries, Outbox, FeedRegistry, Retention {
+export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, FeedRegistry, Retention {
   protected abstract readonly queries: EventQueries;
   protected abstract readonly outbox: Outbox;
+  protected abstract readonly subscriptions: Subscriptions;
   protected abstract readonly feeds: FeedRegistry;
   protected abstract readonly retention: Retention;
 
@@ -77,6 +80,30 @@ export abstract class StoreParts implements EventQueries, Outbox, FeedRegistry, 
   }
   pruneNotifications(before: string): Promise<number> {
     return this.outbox.pruneNotifications(before);
+  }
+  listSubscriptions(): Promise<(Subscription & { cursor: number })[]> {
+    return this.subscriptions.listSubscriptions();
+  }
+  addSubscription(s: Subscription, cursor: number): Promise<boolean> {
+    return this.subscriptions.addSubscription(s, cursor);
+  }
+  putSubscription(s: Subscription, cursor: number): Promise<void> {
+    return this.subscriptions.putSubscription(s, cursor);
+  }
+  updateSubscription(name: string, change: (s: Subscription) => Subscription): Promise<Subscription | null> {
+    return this.subscriptions.updateSubscription(name, change);
+  }
+  deleteSubscription(name: string): Promise<boolean> {
+    return this.subscriptions.deleteSubscription(name);
+  }
+  fanOut(...a: Parameters<Subscriptions['fanOut']>): Promise<boolean> {
+    return this.subscriptions.fanOut(...a);
+  }
+  subscriptionDeliveries(name: string, limit: number, status?: Delivery['status']): Promise<Delivery[]> {
+    return this.subscriptions.subscriptionDeliveries(name, limit, status);
+  }
+  replayDeadLetters(name: string, now: string): Promise<number> {
+    return this.subscriptions.replayDeadLetters(name, now);
   }
   listFeeds(): Promise<FeedEntry[]> {
     return this.feeds.listFeeds();

@@ -7,6 +7,7 @@
  */
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 import type { StoryRecord } from '../link/story-state.js';
+import type { AlertRule } from '../notify/alert-rules.js';
 
 /** One sentence as committed, with its event-ness. */
 export interface StoredSentence {
@@ -71,7 +72,11 @@ export interface StoryMember {
   vector: Vector | null;
 }
 
-/** A notification to deliver to webhook subscribers (transactional outbox). */
+/**
+ * A notification, written in the transaction of the change it reports (transactional
+ * outbox) to the notification log; the dispatcher then hands it to the subscriptions whose
+ * rules select it (Subscriptions.fanOut).
+ */
 export interface OutboxMessage {
   /** Stable id (`msg_...`), the Standard Webhooks `webhook-id`; the same change gives the same id. */
   id: string;
@@ -79,7 +84,6 @@ export interface OutboxMessage {
   /** JSON body, already serialised so the signature covers exactly these bytes. */
   body: string;
   created: string;
-  subscribers: string[];
 }
 
 /** One consolidation merge, committed atomically: `from` disappears into `into`. */
@@ -396,17 +400,74 @@ export interface StoreCounts {
   stories: number;
 }
 
-/** A webhook delivery attempt record. */
+/** One notification's delivery to one subscription, with how its attempts went. */
 export interface Delivery {
   messageId: string;
+  /** The subscription's name. */
   subscriber: string;
   type: string;
   body: string;
   created: string;
+  /** The alert rule that selected it (null for deliveries queued before rules). */
+  rule: string | null;
   attempts: number;
+  /** When it is due (pending), or when it settled (delivered or dead). */
   nextAt: string;
   status: 'pending' | 'delivered' | 'dead';
   lastError: string | null;
+  /** How long the last attempt took, ms (null before the first). */
+  latencyMs: number | null;
+}
+
+/** The outcome of one delivery attempt. */
+export interface AttemptOutcome {
+  status: Delivery['status'];
+  attempts: number;
+  nextAt: string;
+  error: string | null;
+  latencyMs: number;
+}
+
+/** A webhook subscription: where signed notifications go and which ones (its alert rules). */
+export interface Subscription {
+  /** Unique; names the subscription in the API, the logs and every delivery. */
+  name: string;
+  url: string;
+  /** Standard Webhooks secret (`whsec_...`). */
+  secret: string;
+  /** The secret a rotation replaced, still signed with (beside the new one) until `until`. */
+  previous: { secret: string; until: string } | null;
+  rules: AlertRule[];
+  /** Paused: nothing is queued or sent until resumed; what came meanwhile is then delivered. */
+  paused: boolean;
+  /** Listed in the configuration file (kept in line with it at each start) or made through the API. */
+  origin: 'config' | 'api';
+  created: string;
+}
+
+/** The subscriptions, and the hand-over of notifications to them. */
+export interface Subscriptions {
+  /** Every subscription, in the order made, each with the log number its rules have been applied up to. */
+  listSubscriptions(): Promise<(Subscription & { cursor: number })[]>;
+  /** Adds a subscription whose rules apply from log number `cursor` on; false, and nothing written, when the name is taken. */
+  addSubscription(s: Subscription, cursor: number): Promise<boolean>;
+  /** Adds or replaces one (a replaced one keeps its place in the log; a new one starts at `cursor`). */
+  putSubscription(s: Subscription, cursor: number): Promise<void>;
+  /** Changes one atomically (`change` may run more than once); null, and nothing written, when there is none. */
+  updateSubscription(name: string, change: (s: Subscription) => Subscription): Promise<Subscription | null>;
+  /** Removes one and its place in the log (its deliveries left are given up by the dispatcher); false when there was none. */
+  deleteSubscription(name: string): Promise<boolean>;
+  /**
+   * Queues deliveries of the notifications the subscription's rules selected between log
+   * numbers `from` (exclusive) and `to`, and moves its place to `to`: all or nothing, and
+   * only while its place is still `from` (false otherwise: another pass did it first). A
+   * delivery already queued stays as it is.
+   */
+  fanOut(name: string, from: number, to: number, deliveries: readonly { messageId: string; rule: string }[], now: string): Promise<boolean>;
+  /** One subscription's deliveries, newest notification first, optionally of one status. */
+  subscriptionDeliveries(name: string, limit: number, status?: Delivery['status']): Promise<Delivery[]>;
+  /** Makes a subscription's dead letters due again at `now`, attempts counted afresh (same webhook-id); returns how many. */
+  replayDeadLetters(name: string, now: string): Promise<number>;
 }
 
 /** The articles as committed: admission's lookups and the commits of the link stage, one transaction per group. */
@@ -508,11 +569,7 @@ export interface Outbox {
   /** Pending deliveries due at or before `now`, oldest first, leaving out those to the subscribers in `skip`. */
   dueDeliveries(now: string, limit: number, skip?: readonly string[]): Promise<Delivery[]>;
   /** Records the outcome of one delivery attempt. */
-  recordAttempt(
-    messageId: string,
-    subscriber: string,
-    outcome: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
-  ): Promise<void>;
+  recordAttempt(messageId: string, subscriber: string, outcome: AttemptOutcome): Promise<void>;
   /** Deliveries that gave up. */
   deadLetters(limit: number): Promise<Delivery[]>;
   /**
@@ -596,4 +653,5 @@ export interface StoreConnection {
  * `test/contract/store-contract.ts` holds each to it. A part of the program that needs one
  * concern takes that narrower interface.
  */
-export interface Store extends ArticleLog, LinkingState, LinkerSnapshots, EventQueries, Outbox, FeedRegistry, Retention, StoreConnection {}
+export interface Store
+  extends ArticleLog, LinkingState, LinkerSnapshots, EventQueries, Outbox, Subscriptions, FeedRegistry, Retention, StoreConnection {}

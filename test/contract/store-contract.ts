@@ -18,7 +18,15 @@ import {
 } from '../../src/link/event-state.js';
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
 import type { Article, EmbeddedMention, Link } from '../../src/records.js';
-import { type ArticleCommit, type EventUpdate, type OutboxMessage, type Store, newFeedState } from '../../src/store/store.js';
+import {
+  type ArticleCommit,
+  type EventUpdate,
+  type OutboxMessage,
+  type Store,
+  type Subscription,
+  newFeedState,
+} from '../../src/store/store.js';
+import { EVERYTHING } from '../../src/notify/alert-rules.js';
 
 const embedder = new TfidfEmbedder(16);
 
@@ -57,6 +65,39 @@ function mention(a: Article, index: number, text: string, isCopy = false): Embed
 }
 
 /** A commit of one article whose single sentence opens or joins `event` (filed under `story` when given, which it joins). */
+/** A subscription named `name` for the contract's delivery cases (made when missing). */
+function subscription(name: string, created = '2026-10-01T00:00:00.000Z'): Subscription {
+  return {
+    name,
+    url: `https://${name}.example/hook`,
+    secret: `whsec_${'A'.repeat(32)}`,
+    previous: null,
+    rules: [EVERYTHING],
+    paused: false,
+    origin: 'api',
+    created,
+  };
+}
+
+/** Queues deliveries of these notifications to `name` as the dispatcher's fan-out would, up to the end of the log. */
+async function fanOutTo(store: Store, name: string, ids: readonly string[], now: string): Promise<void> {
+  let at = (await store.listSubscriptions()).find((x) => x.name === name)?.cursor;
+  if (at === undefined) {
+    await store.addSubscription(subscription(name), 0);
+    at = 0;
+  }
+  const { last } = await store.notificationsAfter(0, 1);
+  expect(
+    await store.fanOut(
+      name,
+      at,
+      last,
+      ids.map((messageId) => ({ messageId, rule: 'everything' })),
+      now,
+    ),
+  ).toBe(true);
+}
+
 function commitFor(
   a: Article,
   text: string,
@@ -545,7 +586,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       });
     });
 
-    it('queues webhook deliveries with the commit and records attempts, down to the dead-letter list', async () => {
+    it('queues the deliveries fan-out hands to subscriptions and records attempts, down to the dead-letter list', async () => {
       const a = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const messages = [
         {
@@ -553,20 +594,133 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
           type: 'event.opened',
           body: '{"type":"event.opened"}',
           created: '2026-10-05T10:00:00.000Z',
-          subscribers: ['one', 'two'],
         },
       ];
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      expect(await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).toEqual([]);
+      await fanOutTo(store, 'one', ['msg_1'], '2026-10-05T10:00:00.000Z');
+      await fanOutTo(store, 'two', ['msg_1'], '2026-10-05T10:00:00.000Z');
       expect(await store.dueDeliveries('2026-10-05T09:00:00.000Z', 10)).toEqual([]);
       const due = await store.dueDeliveries('2026-10-05T10:00:00.000Z', 10);
       expect(due.map((d) => [d.messageId, d.subscriber, d.status, d.attempts, d.body]).sort()).toEqual([
         ['msg_1', 'one', 'pending', 0, '{"type":"event.opened"}'],
         ['msg_1', 'two', 'pending', 0, '{"type":"event.opened"}'],
       ]);
-      await store.recordAttempt('msg_1', 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
-      await store.recordAttempt('msg_1', 'two', { status: 'dead', attempts: 8, nextAt: '2026-10-05T16:00:00.000Z', error: 'HTTP 500' });
+      expect(due.map((d) => [d.rule, d.latencyMs])).toEqual([
+        ['everything', null],
+        ['everything', null],
+      ]);
+      await store.recordAttempt('msg_1', 'one', {
+        status: 'delivered',
+        attempts: 1,
+        nextAt: '2026-10-05T10:00:01.000Z',
+        error: null,
+        latencyMs: 42,
+      });
+      await store.recordAttempt('msg_1', 'two', {
+        status: 'dead',
+        attempts: 8,
+        nextAt: '2026-10-05T16:00:00.000Z',
+        error: 'HTTP 500',
+        latencyMs: 9,
+      });
       expect(await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).toEqual([]);
-      expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError])).toEqual([['two', 8, 'HTTP 500']]);
+      expect((await store.deadLetters(10)).map((d) => [d.subscriber, d.attempts, d.lastError, d.rule, d.latencyMs])).toEqual([
+        ['two', 8, 'HTTP 500', 'everything', 9],
+      ]);
+      expect((await store.subscriptionDeliveries('one', 10)).map((d) => [d.messageId, d.status, d.latencyMs])).toEqual([
+        ['msg_1', 'delivered', 42],
+      ]);
+    });
+
+    it('keeps subscriptions in the order made: a taken name is refused, a replaced one keeps its place in the log', async () => {
+      expect(await store.listSubscriptions()).toEqual([]);
+      expect(await store.addSubscription(subscription('desk', '2026-10-01T00:00:00.000Z'), 5)).toBe(true);
+      expect(await store.addSubscription(subscription('alerts', '2026-10-02T00:00:00.000Z'), 7)).toBe(true);
+      expect(await store.addSubscription({ ...subscription('desk'), url: 'https://other.example/' }, 0)).toBe(false);
+      expect((await store.listSubscriptions()).map((x) => [x.name, x.cursor, x.url])).toEqual([
+        ['desk', 5, 'https://desk.example/hook'],
+        ['alerts', 7, 'https://alerts.example/hook'],
+      ]);
+      await store.putSubscription({ ...subscription('desk'), paused: true }, 0);
+      const changed = await store.updateSubscription('alerts', (x) => ({
+        ...x,
+        previous: { secret: x.secret, until: '2026-10-03T00:00:00.000Z' },
+      }));
+      expect(changed?.previous?.until).toBe('2026-10-03T00:00:00.000Z');
+      expect(await store.updateSubscription('missing', (x) => x)).toBeNull();
+      expect((await store.listSubscriptions()).map((x) => [x.name, x.cursor, x.paused, x.previous?.until ?? null])).toEqual([
+        ['desk', 5, true, null],
+        ['alerts', 7, false, '2026-10-03T00:00:00.000Z'],
+      ]);
+      expect(await store.deleteSubscription('desk')).toBe(true);
+      expect(await store.deleteSubscription('desk')).toBe(false);
+      expect((await store.listSubscriptions()).map((x) => x.name)).toEqual(['alerts']);
+    });
+
+    it('fans notifications out once: only from the place read, each delivery queued once, with its rule', async () => {
+      const messages = [1, 2, 3].map((n) => ({
+        id: `msg_${n}`,
+        type: 'event.opened',
+        body: `{"type":"event.opened","data":{"n":${n}}}`,
+        created: '2026-10-05T10:00:00.000Z',
+      }));
+      await store.commitArticle(commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 'x', null, { messages }).commit);
+      await store.addSubscription(subscription('desk'), 0);
+      const now = '2026-10-05T10:00:05.000Z';
+      expect(await store.fanOut('desk', 0, 2, [{ messageId: 'msg_2', rule: 'strikes' }], now)).toBe(true);
+      // A second pass that read the old place changes nothing.
+      expect(await store.fanOut('desk', 0, 3, [{ messageId: 'msg_1', rule: 'strikes' }], now)).toBe(false);
+      expect(
+        await store.fanOut(
+          'desk',
+          2,
+          3,
+          [
+            { messageId: 'msg_3', rule: 'floods' },
+            { messageId: 'msg_2', rule: 'again' },
+          ],
+          now,
+        ),
+      ).toBe(true);
+      expect(await store.fanOut('gone', 0, 3, [{ messageId: 'msg_1', rule: 'x' }], now)).toBe(false);
+      expect((await store.listSubscriptions())[0]!.cursor).toBe(3);
+      const due = await store.dueDeliveries(now, 10);
+      expect(due.map((d) => [d.messageId, d.rule, d.nextAt]).sort()).toEqual([
+        ['msg_2', 'strikes', now],
+        ['msg_3', 'floods', now],
+      ]);
+      // The delivery log lists the newest notification first, filtered by status on request.
+      await store.recordAttempt('msg_3', 'desk', { status: 'dead', attempts: 8, nextAt: now, error: 'HTTP 410', latencyMs: 12 });
+      expect((await store.subscriptionDeliveries('desk', 10)).map((d) => [d.messageId, d.status])).toEqual([
+        ['msg_3', 'dead'],
+        ['msg_2', 'pending'],
+      ]);
+      expect((await store.subscriptionDeliveries('desk', 10, 'dead')).map((d) => d.messageId)).toEqual(['msg_3']);
+      expect(await store.subscriptionDeliveries('desk', 10, 'delivered')).toEqual([]);
+      expect(await store.subscriptionDeliveries('nobody', 10)).toEqual([]);
+    });
+
+    it("replays a subscription's dead letters with the same id, attempts counted afresh", async () => {
+      const messages = [{ id: 'msg_1', type: 'event.opened', body: '{"type":"event.opened"}', created: '2026-10-05T10:00:00.000Z' }];
+      await store.commitArticle(commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 'x', null, { messages }).commit);
+      await fanOutTo(store, 'desk', ['msg_1'], '2026-10-05T10:00:00.000Z');
+      await fanOutTo(store, 'other', ['msg_1'], '2026-10-05T10:00:00.000Z');
+      for (const sub of ['desk', 'other'])
+        await store.recordAttempt('msg_1', sub, {
+          status: 'dead',
+          attempts: 8,
+          nextAt: '2026-10-05T16:00:00.000Z',
+          error: 'HTTP 500',
+          latencyMs: 3,
+        });
+      expect(await store.replayDeadLetters('desk', '2026-10-06T00:00:00.000Z')).toBe(1);
+      expect(await store.replayDeadLetters('desk', '2026-10-06T00:00:00.000Z')).toBe(0);
+      const due = await store.dueDeliveries('2026-10-06T00:00:00.000Z', 10);
+      expect(due.map((d) => [d.messageId, d.subscriber, d.attempts, d.status, d.lastError, d.rule])).toEqual([
+        ['msg_1', 'desk', 0, 'pending', null, 'everything'],
+      ]);
+      expect((await store.deadLetters(10)).map((d) => d.subscriber)).toEqual(['other']);
     });
 
     it('replaces the linker state of a stored event, and skips one no longer stored', async () => {
@@ -590,16 +744,16 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         type: 'event.opened',
         body: `{"n":${i}}`,
         created: new Date(Date.parse('2026-10-05T09:00:00.000Z') + i).toISOString(),
-        subscribers: ['slow'],
       }));
-      messages.push({
-        id: 'msg_new',
-        type: 'event.opened',
-        body: '{"n":"new"}',
-        created: '2026-10-05T10:00:00.000Z',
-        subscribers: ['healthy'],
-      });
+      messages.push({ id: 'msg_new', type: 'event.opened', body: '{"n":"new"}', created: '2026-10-05T10:00:00.000Z' });
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      await fanOutTo(
+        store,
+        'slow',
+        messages.slice(0, 700).map((m) => m.id),
+        '2026-10-05T09:00:00.000Z',
+      );
+      await fanOutTo(store, 'healthy', ['msg_new'], '2026-10-05T10:00:00.000Z');
       expect((await store.dueDeliveries('2026-10-05T10:00:00.000Z', 5)).map((d) => d.subscriber)).toEqual([
         'slow',
         'slow',
@@ -618,46 +772,52 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
     });
 
     it('logs every notification in the order written, subscribers or not, numbers never reused after pruning', async () => {
-      const message = (n: number, created: string, subscribers: string[]) => ({
+      const message = (n: number, created: string) => ({
         id: `msg_${n}`,
         type: n % 2 ? 'event.opened' : 'story.opened',
         body: `{"type":"event.opened","data":{"n":${n}}}`,
         created,
-        subscribers,
       });
       expect(await store.notificationsAfter(0, 10)).toEqual({ items: [], first: null, last: 0 });
       const a1 = article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x');
       const a2 = article('a2', 'O', '2026-10-06T10:00:00.000Z', 'y');
       await store.commitArticle(
         commitFor(a1, 'The levee failed.', null, {
-          messages: [message(1, '2026-10-05T10:00:00.000Z', []), message(2, '2026-10-05T10:00:00.000Z', ['one'])],
+          messages: [message(1, '2026-10-05T10:00:00.000Z'), message(2, '2026-10-05T10:00:00.000Z')],
         }).commit,
       );
-      await store.commitArticle(commitFor(a2, 'A bridge fell.', null, { messages: [message(3, '2026-10-06T10:00:00.000Z', [])] }).commit);
+      await fanOutTo(store, 'one', ['msg_2'], '2026-10-05T10:00:00.000Z');
+      await store.commitArticle(commitFor(a2, 'A bridge fell.', null, { messages: [message(3, '2026-10-06T10:00:00.000Z')] }).commit);
       const log = await store.notificationsAfter(0, 10);
       expect(log.items.map((i) => [i.seq, i.id, i.type, i.created])).toEqual([
         [1, 'msg_1', 'event.opened', '2026-10-05T10:00:00.000Z'],
         [2, 'msg_2', 'story.opened', '2026-10-05T10:00:00.000Z'],
         [3, 'msg_3', 'event.opened', '2026-10-06T10:00:00.000Z'],
       ]);
-      expect(log.items[0]!.body).toBe(message(1, '', []).body);
+      expect(log.items[0]!.body).toBe(message(1, '').body);
       expect([log.first, log.last]).toEqual([1, 3]);
       expect((await store.notificationsAfter(1, 1)).items.map((i) => i.seq)).toEqual([2]);
       // The same message queued again keeps its number.
       await store.commitArticle(
         commitFor(article('a3', 'O', '2026-10-07T10:00:00.000Z', 'z'), 'x', null, {
-          messages: [message(3, '2026-10-06T10:00:00.000Z', [])],
+          messages: [message(3, '2026-10-06T10:00:00.000Z')],
         }).commit,
       );
       expect((await store.notificationsAfter(0, 10)).last).toBe(3);
       // A notification nobody subscribed to goes by age; one with a pending delivery stays.
       expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(2);
       expect(await store.notificationsAfter(0, 10)).toMatchObject({ items: [{ seq: 2 }], first: 2, last: 3 });
-      await store.recordAttempt('msg_2', 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
+      await store.recordAttempt('msg_2', 'one', {
+        status: 'delivered',
+        attempts: 1,
+        nextAt: '2026-10-05T10:00:01.000Z',
+        error: null,
+        latencyMs: 1,
+      });
       expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1);
       await store.commitArticle(
         commitFor(article('a4', 'O', '2026-10-08T10:00:00.000Z', 'w'), 'y', null, {
-          messages: [message(4, '2026-10-08T10:00:00.000Z', [])],
+          messages: [message(4, '2026-10-08T10:00:00.000Z')],
         }).commit,
       );
       expect(await store.notificationsAfter(0, 10)).toMatchObject({ items: [{ seq: 4, id: 'msg_4' }], first: 4, last: 4 });
@@ -671,11 +831,11 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         type: 'event.opened',
         body: body(n),
         created: '2026-10-05T10:00:00.000Z',
-        subscribers: ['one', 'two'],
       }));
       await store.commitArticle(commitFor(a, 'The levee failed.', null, { messages }).commit);
+      for (const sub of ['one', 'two']) await fanOutTo(store, sub, ['msg_1', 'msg_2', 'msg_3'], '2026-10-05T10:00:00.000Z');
       const settle = (id: string, sub: string, status: 'delivered' | 'dead', at: string) =>
-        store.recordAttempt(id, sub, { status, attempts: 1, nextAt: at, error: status === 'dead' ? 'HTTP 500' : null });
+        store.recordAttempt(id, sub, { status, attempts: 1, nextAt: at, error: status === 'dead' ? 'HTTP 500' : null, latencyMs: 5 });
       await settle('msg_1', 'one', 'delivered', '2026-10-05T10:00:01.000Z');
       await settle('msg_1', 'two', 'dead', '2026-10-05T16:00:00.000Z');
       await settle('msg_2', 'one', 'delivered', '2026-10-05T10:00:01.000Z'); // 'two' still pending
@@ -948,7 +1108,6 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         type,
         body: JSON.stringify({ type, timestamp: '2026-10-20T10:00:00.000Z', data }),
         created: '2026-10-20T10:00:00.000Z',
-        subscribers: ['desk'],
       });
       const first = commitFor(a1, secret, null);
       await store.commitArticle({
@@ -973,6 +1132,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
           }),
         ],
       });
+      await fanOutTo(store, 'desk', ['msg_opened', 'msg_outlet'], '2026-10-20T10:00:00.000Z');
       expect(await store.eraseTextBefore('2026-10-10')).toBe(1);
 
       const bodies = (await store.dueDeliveries('2027-01-01T00:00:00.000Z', 10)).map((d) => d.body);

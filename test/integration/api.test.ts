@@ -172,6 +172,11 @@ describe('the query API', () => {
       '/api/stories',
       '/api/stories/{id}',
       '/api/stream',
+      '/api/subscriptions',
+      '/api/subscriptions/{name}',
+      '/api/subscriptions/{name}/dead-letters/replay',
+      '/api/subscriptions/{name}/deliveries',
+      '/api/subscriptions/{name}/rotate-secret',
       '/api/webhooks/dead-letters',
       '/metrics',
     ]);

@@ -10,8 +10,6 @@ import { linkDetected } from '../../src/eval/link-detected.js';
 import { detectArticles } from '../../src/eval/prepare-mentions.js';
 import { testRuntime } from '../helpers/runtime.js';
 
-const SECRET = `whsec_${Buffer.alloc(32, 7).toString('base64')}`;
-
 // One story drifting into another through a sentence that names both: a warehouse fire at
 // the Korrin pier, then a dockworkers' strike at the same pier. Each article is one mention.
 const TEXTS = [
@@ -50,7 +48,6 @@ const SPLITTING = {
     splitMinMentions: 4,
     consolidateEvery: 0,
   },
-  webhooks: { subscribers: [{ name: 'desk', url: 'https://desk.example/hook', secret: SECRET }] },
 };
 
 describe('consolidation splits an event that drifted', () => {
@@ -81,11 +78,11 @@ describe('consolidation splits an event that drifted', () => {
     expect(splits).toHaveLength(1);
     expect(splits[0]!.moved.map((m) => m.articleId)).toContain('https://pier.example/5');
     expect((await rt.store.getEvent(id))!.event.label).toBe(TEXTS[0]);
-    const message = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).find((d) => d.type === 'event.split')!;
+    const message = (await rt.store.notificationsAfter(0, 1000)).items.find((d) => d.type === 'event.split')!;
     expect(JSON.parse(message.body).data.event.label).toBe(TEXTS[0]);
   });
 
-  it('moves the strike reports to a new event, records the split and notifies subscribers', async () => {
+  it('moves the strike reports to a new event, records the split and notifies it', async () => {
     const id = await chainedRun();
     const { merges, splits } = await consolidate(rt, [id], []);
     expect(merges).toEqual([]);
@@ -104,7 +101,7 @@ describe('consolidation splits an event that drifted', () => {
     expect(kept!.splits).toEqual([{ from: id, into: split.into, mentions: moved.length, score: split.score, at: expect.any(String) }]);
     expect((await rt.store.getEvent(split.into))!.event.mentionCount).toBe(moved.length);
 
-    const messages = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).filter((d) => d.type === 'event.split');
+    const messages = (await rt.store.notificationsAfter(0, 1000)).items.filter((d) => d.type === 'event.split');
     expect(messages).toHaveLength(1);
     const body = JSON.parse(messages[0]!.body) as {
       data: { event: { id: string }; splitOff: { id: string }; moved: unknown[]; note: string };
@@ -177,7 +174,6 @@ describe('consolidation splits a story that chained two threads', () => {
         storySplitMinArticles: 4,
         consolidateEvery: 0,
       },
-      webhooks: SPLITTING.webhooks,
     });
     const outcomes = await lastValueFrom(
       runPipeline(from(articles()), { ...rt, selectMentions: () => ({ kind: 'article' }) }).pipe(toArray()),
@@ -187,7 +183,7 @@ describe('consolidation splits a story that chained two threads', () => {
     return [...stories][0]!;
   }
 
-  it('moves the strike reports and the events they opened to a new story, records the split and notifies subscribers', async () => {
+  it('moves the strike reports and the events they opened to a new story, records the split and notifies it', async () => {
     const id = await oneStory();
     const { storySplits } = await consolidate(rt, [], [id]);
     expect(storySplits).toHaveLength(1);
@@ -208,7 +204,7 @@ describe('consolidation splits a story that chained two threads', () => {
     expect(kept.splits).toEqual([record]);
     expect(off.splits).toEqual([record]);
 
-    const messages = (await rt.store.dueDeliveries('2100-01-01T00:00:00.000Z', 100)).filter((d) => d.type === 'story.split');
+    const messages = (await rt.store.notificationsAfter(0, 1000)).items.filter((d) => d.type === 'story.split');
     expect(messages).toHaveLength(1);
     const body = JSON.parse(messages[0]!.body) as {
       data: { story: { id: string }; splitOff: { id: string }; articlesMoved: string[]; note: string };

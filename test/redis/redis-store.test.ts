@@ -38,7 +38,7 @@ describe.skipIf(!run)('the Redis store', () => {
       const body = '{"type":"event.opened","data":{"event":{"id":"ev_1"},"mention":{"article":"a1","sentence":0}}}';
       await store.commitArticle({
         ...commitFixture('a1'),
-        messages: [{ id: 'msg_1', type: 'event.opened', body, created: '2026-10-05T10:00:00.000Z', subscribers: ['one'] }],
+        messages: [{ id: 'msg_1', type: 'event.opened', body, created: '2026-10-05T10:00:00.000Z' }],
       });
       expect(await redis.smembers(`${k.prefix}:article-messages:a1`)).toEqual(['msg_1']);
       // As an earlier version left it: delivered with no entry in the settled index, no subscriber list.
@@ -119,13 +119,23 @@ describe.skipIf(!run)('the Redis store', () => {
         type: 'event.opened',
         body: '{"type":"event.opened","data":{}}',
         created: '2026-10-05T10:00:00.000Z',
-        subscribers: ['one'],
       }));
       await store.commitArticle({ ...commitFixture('a1'), messages });
+      const one = { name: 'one', url: 'https://one.example/', secret: `whsec_${'A'.repeat(32)}`, previous: null, rules: [], paused: false };
+      await store.addSubscription({ ...one, origin: 'api', created: '2026-10-05T10:00:00.000Z' }, 0);
+      const queued = messages.map((m) => ({ messageId: m.id, rule: 'everything' }));
+      expect(await store.fanOut('one', 0, 1200, queued, '2026-10-05T10:00:00.000Z')).toBe(true);
       for (const m of messages)
-        await store.recordAttempt(m.id, 'one', { status: 'delivered', attempts: 1, nextAt: '2026-10-05T10:00:01.000Z', error: null });
+        await store.recordAttempt(m.id, 'one', {
+          status: 'delivered',
+          attempts: 1,
+          nextAt: '2026-10-05T10:00:01.000Z',
+          error: null,
+          latencyMs: 1,
+        });
       expect(await store.pruneNotifications('2026-11-01T00:00:00.000Z')).toBe(1200);
       expect(await redis.hlen(store.keys.deliveries)).toBe(0);
+      expect(await redis.exists(store.keys.subscriptionDeliveries('one'))).toBe(0);
     } finally {
       await store.close();
     }

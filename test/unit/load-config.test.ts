@@ -125,6 +125,36 @@ describe('configuration', () => {
       'STRAND_CONFIG_INVALID',
       /url/,
     ],
+    [
+      'two subscribers of one name',
+      '{"webhooks": {"subscribers": [{"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}, {"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw"}]}}',
+      'STRAND_CONFIG_INVALID',
+      /subscriber names must differ/,
+    ],
+    [
+      'two alert rules of one name',
+      '{"webhooks": {"subscribers": [{"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw", "rules": [{"name": "r"}, {"name": "r"}]}]}}',
+      'STRAND_CONFIG_INVALID',
+      /rule names must differ/,
+    ],
+    [
+      'an alert rule with a window but no outlet count',
+      '{"webhooks": {"subscribers": [{"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw", "rules": [{"name": "r", "withinHours": 3}]}]}}',
+      'STRAND_CONFIG_INVALID',
+      /withinHours needs minOutlets/,
+    ],
+    [
+      'an alert rule for a type that does not exist',
+      '{"webhooks": {"subscribers": [{"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw", "rules": [{"name": "r", "types": ["event.deleted"]}]}]}}',
+      'STRAND_CONFIG_INVALID',
+      /types/,
+    ],
+    [
+      'an alert rule with a condition it does not know',
+      '{"webhooks": {"subscribers": [{"name": "a", "url": "https://desk.example/x", "secret": "whsec_MfKQ9r8GKYqrTwjUPD8ILPZIo2LaLaSw", "rules": [{"name": "r", "script": "rm -rf /"}]}]}}',
+      'STRAND_CONFIG_INVALID',
+      /script/,
+    ],
   ])('refuses %s with a clear message', (_name, text, code, message) => {
     const f = failure(() => loadConfig({ file: file(`bad-${Math.random()}.json`, text), env: {} }));
     expect(f.code).toBe(code);

@@ -17,7 +17,7 @@ afterEach(async () => {
 function commitWithMessage(store: SqliteStore, created: string): Promise<unknown> {
   const c = bareCommit('a1', {
     article: { published: created, fetched: created, contentHash: 'h' },
-    commit: { messages: [{ id: 'msg_test1', type: 'event.opened', body: '{"type":"event.opened"}', created, subscribers: ['recv'] }] },
+    commit: { messages: [{ id: 'msg_test1', type: 'event.opened', body: '{"type":"event.opened"}', created }] },
   });
   return store.commitArticle(c);
 }
@@ -74,7 +74,8 @@ describe('delivering webhooks', () => {
       'webhook-timestamp': h['webhook-timestamp'] as string,
       'webhook-signature': h['webhook-signature'] as string,
     };
-    expect(new Webhook(SECRET).verify(received[0]!.body, headers)).toEqual({ type: 'event.opened' });
+    // The rule that selected it travels in the signed body.
+    expect(new Webhook(SECRET).verify(received[0]!.body, headers)).toEqual({ type: 'event.opened', rule: 'configured types' });
     expect(h['webhook-id']).toBe('msg_test1');
     expect(await store.dueDeliveries('2999-01-01T00:00:00Z', 10)).toEqual([]);
   });
@@ -171,7 +172,6 @@ describe('delivering webhooks', () => {
         type: 'event.opened',
         body: '{}',
         created: at.toISOString(),
-        subscribers: ['hanging', 'healthy'],
       }));
       for (const m of messages) created.set(m.id, at.getTime());
       const c = bareCommit(`a${from}`, {

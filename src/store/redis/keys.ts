@@ -42,6 +42,12 @@ export interface Keyspace {
   /** Hash: feed id → JSON feed entry; sorted set of feed ids by the order added. */
   readonly feeds: string;
   readonly feedOrder: string;
+  /** Hash: subscription name → JSON subscription; its place in the notification log; sorted set of names by when made. */
+  readonly subscriptions: string;
+  readonly subscriptionCursors: string;
+  readonly subscriptionOrder: string;
+  /** Sorted set of one subscription's deliveries (`<message>\n<subscriber>`) by notification number. */
+  subscriptionDeliveries(name: string): string;
   /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
   readonly deliveries: string;
   readonly due: string;
@@ -130,6 +136,10 @@ export function keyspace(partition: string): Keyspace {
     splits: `${p}:splits`,
     feeds: `${p}:feeds`,
     feedOrder: `${p}:feed-order`,
+    subscriptions: `${p}:subscriptions`,
+    subscriptionCursors: `${p}:subscription-cursors`,
+    subscriptionOrder: `${p}:subscription-order`,
+    subscriptionDeliveries: (name) => `${p}:subscription-deliveries:${name}`,
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,
     dead: `${p}:dead`,

@@ -1,9 +1,10 @@
 /**
  * The Redis store's outbox deliveries: due and dead sets of `<message>\n<subscriber>`
  * members, each delivery's state in one hash, settled ones indexed for pruning. Messages
- * are written by the commit scripts, in the transaction of the change they report.
+ * are written to the log by the commit scripts, in the transaction of the change they
+ * report; deliveries are queued by fan-out (subscriptions.ts).
  */
-import type { Delivery, LoggedNotification, NotificationLog, Outbox } from '../store.js';
+import type { AttemptOutcome, Delivery, LoggedNotification, NotificationLog, Outbox } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 import { pipelined, splitMember } from './pipelined.js';
@@ -20,6 +21,7 @@ export class RedisOutbox implements Outbox {
     private readonly redis: RedisClient,
     private readonly k: Keyspace,
     private readonly prune: ReturnType<typeof defineScript>,
+    private readonly record: ReturnType<typeof defineScript>,
   ) {}
 
   async notificationsAfter(after: number, limit: number): Promise<NotificationLog> {
@@ -60,20 +62,9 @@ export class RedisOutbox implements Outbox {
     return this.deliveries(keys);
   }
 
-  async recordAttempt(
-    messageId: string,
-    subscriber: string,
-    o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
-  ): Promise<void> {
-    const key = `${messageId}\n${subscriber}`;
-    const tx = this.redis
-      .multi()
-      .hset(this.k.deliveries, key, JSON.stringify({ status: o.status, attempts: o.attempts, nextAt: o.nextAt, lastError: o.error }));
-    if (o.status === 'pending') tx.zadd(this.k.due, Date.parse(o.nextAt), key);
-    else tx.zrem(this.k.due, key);
-    if (o.status === 'dead') tx.zadd(this.k.dead, Date.parse(o.nextAt), key);
-    if (o.status !== 'pending') tx.zadd(this.k.settled, Date.parse(o.nextAt), key);
-    await tx.exec();
+  async recordAttempt(messageId: string, subscriber: string, o: AttemptOutcome): Promise<void> {
+    const outcome = { status: o.status, attempts: o.attempts, nextAt: o.nextAt, lastError: o.error, latencyMs: Math.round(o.latencyMs) };
+    await this.record(this.k.deliveries, this.k.prefix, `${messageId}\n${subscriber}`, JSON.stringify(outcome), Date.parse(o.nextAt));
   }
 
   async pruneNotifications(before: string): Promise<number> {
@@ -112,17 +103,19 @@ export class RedisOutbox implements Outbox {
     return this.deliveries(await this.redis.zrevrange(this.k.dead, 0, limit - 1));
   }
 
-  private async deliveries(keys: readonly string[]): Promise<Delivery[]> {
+  /** The deliveries with these keys (`<message>\n<subscriber>`), in that order (one pruned meanwhile is left out). */
+  async deliveries(keys: readonly string[]): Promise<Delivery[]> {
     if (keys.length === 0) return [];
     const states = await this.redis.hmget(this.k.deliveries, ...keys);
     const messages = (await pipelined(this.redis, keys, (p, key) =>
       p.hmget(this.k.outbox(splitMember(key)[0]), 'type', 'body', 'created'),
     )) as (string | null)[][];
-    return keys.map((key, i) => {
+    return keys.flatMap((key, i) => {
       const [messageId, subscriber] = splitMember(key);
-      const s = JSON.parse(states[i]!) as { status: Delivery['status']; attempts: number; nextAt: string; lastError: string | null };
       const [type, body, created] = messages[i]!;
-      return { messageId, subscriber, type: type!, body: body!, created: created!, ...s };
+      if (!states[i] || !type || !body || !created) return [];
+      const s = JSON.parse(states[i]) as Omit<Delivery, 'messageId' | 'subscriber' | 'type' | 'body' | 'created'>;
+      return [{ messageId, subscriber, type, body, created, ...s, rule: s.rule ?? null, latencyMs: s.latencyMs ?? null }];
     });
   }
 }

@@ -40,6 +40,7 @@ import { migratePartition } from './migrate.js';
 import { type ArticleMeta, RedisEventQueries } from './event-queries.js';
 import { RedisOutbox } from './outbox.js';
 import { RedisFeedRegistry } from './feed-registry.js';
+import { RedisSubscriptions } from './subscriptions.js';
 import { RedisRetention } from './retention.js';
 import { cmp, parseMerge, pipelined, splitMember } from './pipelined.js';
 
@@ -56,6 +57,9 @@ interface Scripts {
   eraseArticle: Script;
   pruneNotifications: Script;
   setIfUnchanged: Script;
+  recordAttempt: Script;
+  fanOut: Script;
+  putSubscription: Script;
 }
 
 /** Options for a Redis store. */
@@ -103,6 +107,7 @@ export class RedisStore extends StoreParts implements Store {
   private readonly scripts: Scripts;
   protected readonly queries: RedisEventQueries;
   protected readonly outbox: RedisOutbox;
+  protected readonly subscriptions: RedisSubscriptions;
   protected readonly feeds: RedisFeedRegistry;
   protected readonly retention: RedisRetention;
   /** The linker's lease token its commits are fenced with; null: not fenced (one process, tools). */
@@ -124,9 +129,13 @@ export class RedisStore extends StoreParts implements Store {
       eraseArticle: defineScript(redis, 'erase-article'),
       pruneNotifications: defineScript(redis, 'prune-notifications'),
       setIfUnchanged: defineScript(redis, 'set-if-unchanged'),
+      recordAttempt: defineScript(redis, 'record-attempt'),
+      fanOut: defineScript(redis, 'fan-out'),
+      putSubscription: defineScript(redis, 'put-subscription'),
     };
     this.queries = new RedisEventQueries(redis, k);
-    this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications);
+    this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
+    this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
     this.feeds = new RedisFeedRegistry(redis, k, this.scripts.setIfUnchanged);
     this.retention = new RedisRetention(redis, k, this.scripts.eraseArticle);
   }
@@ -531,10 +540,8 @@ function messagePayload(messages: readonly OutboxMessage[]): object[] {
     type: m.type,
     body: m.body,
     created: m.created,
-    subscribers: m.subscribers,
     dueAt: Date.parse(m.created),
     ...namedIn(m.body),
-    delivery: JSON.stringify({ status: 'pending', attempts: 0, nextAt: m.created, lastError: null }),
   }));
 }
 

@@ -1,9 +1,10 @@
 /**
- * The SQLite store's outbox: notifications written in the transaction of the change they
- * report (queue), then delivered per subscriber with retries and a dead-letter state.
+ * The SQLite store's outbox: notifications written to the log in the transaction of the
+ * change they report (queue), then delivered per subscription (subscriptions.ts queues the
+ * deliveries) with retries and a dead-letter state.
  */
 import type Database from 'better-sqlite3';
-import type { Delivery, LoggedNotification, NotificationLog, Outbox, OutboxMessage } from '../store.js';
+import type { AttemptOutcome, Delivery, LoggedNotification, NotificationLog, Outbox, OutboxMessage } from '../store.js';
 import { type Row, toDelivery } from './rows.js';
 import type { Write } from './when-free.js';
 
@@ -21,26 +22,22 @@ export class SqliteOutbox implements Outbox {
       logAfter: db.prepare('SELECT seq, id, type, body, created FROM outbox WHERE seq > ? ORDER BY seq LIMIT ?'),
       hasMessage: db.prepare('SELECT 1 FROM outbox WHERE id = ?').pluck(),
       insMessage: db.prepare('INSERT INTO outbox (id, type, body, created) VALUES (?, ?, ?, ?)'),
-      insDelivery: db.prepare(
-        `INSERT OR IGNORE INTO deliveries (message_id, subscriber, status, attempts, next_at, last_error) VALUES (?, ?, 'pending', 0, ?, NULL)`,
-      ),
       due: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
         WHERE d.status = 'pending' AND d.next_at <= ? AND d.subscriber NOT IN (SELECT value FROM json_each(?)) ORDER BY d.next_at LIMIT ?`),
       dead: db.prepare(`SELECT d.*, o.type, o.body, o.created FROM deliveries d JOIN outbox o ON o.id = d.message_id
         WHERE d.status = 'dead' ORDER BY d.next_at DESC LIMIT ?`),
       attempt: db.prepare(
-        'UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ? WHERE message_id = ? AND subscriber = ?',
+        'UPDATE deliveries SET status = ?, attempts = ?, next_at = ?, last_error = ?, latency_ms = ? WHERE message_id = ? AND subscriber = ?',
       ),
     };
   }
 
-  /** Queues messages inside the caller's transaction. */
+  /** Logs messages inside the caller's transaction. */
   queue(messages: readonly OutboxMessage[]): void {
     for (const msg of messages) {
-      // The same change gives the same message: queued again, it keeps its number (an
+      // The same change gives the same message: logged again, it keeps its number (an
       // ignored insert would still use one up).
       if (this.st.hasMessage.get(msg.id) === undefined) this.st.insMessage.run(msg.id, msg.type, msg.body, msg.created);
-      for (const sub of msg.subscribers) this.st.insDelivery.run(msg.id, sub, msg.created);
     }
   }
 
@@ -48,13 +45,9 @@ export class SqliteOutbox implements Outbox {
     return (this.st.due.all(now, JSON.stringify(skip), limit) as Row[]).map(toDelivery);
   }
 
-  async recordAttempt(
-    messageId: string,
-    subscriber: string,
-    o: { status: Delivery['status']; attempts: number; nextAt: string; error: string | null },
-  ): Promise<void> {
+  async recordAttempt(messageId: string, subscriber: string, o: AttemptOutcome): Promise<void> {
     await this.write(`cannot record a delivery to ${subscriber}`, () =>
-      this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, messageId, subscriber),
+      this.st.attempt.run(o.status, o.attempts, o.nextAt, o.error, Math.round(o.latencyMs), messageId, subscriber),
     );
   }
 

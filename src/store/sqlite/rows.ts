@@ -105,5 +105,7 @@ export function toDelivery(r: Row): Delivery {
     nextAt: r.next_at as string,
     status: r.status as Delivery['status'],
     lastError: (r.last_error as string | null) ?? null,
+    rule: (r.rule as string | null) ?? null,
+    latencyMs: (r.latency_ms as number | null) ?? null,
   };
 }

@@ -224,4 +224,18 @@ export const MIGRATIONS: readonly Migration[] = [
   DROP TABLE outbox;
   ALTER TABLE outbox_log RENAME TO outbox;
   `,
+  // Subscriptions made through the API as well as the configuration, each with its place in
+  // the notification log; each delivery names the alert rule that selected it and how long
+  // its last attempt took.
+  `
+  CREATE TABLE subscriptions (
+    seq    INTEGER PRIMARY KEY,
+    name   TEXT NOT NULL UNIQUE,
+    data   TEXT NOT NULL,
+    cursor INTEGER NOT NULL
+  );
+  ALTER TABLE deliveries ADD COLUMN rule TEXT;
+  ALTER TABLE deliveries ADD COLUMN latency_ms INTEGER;
+  CREATE INDEX deliveries_subscriber ON deliveries(subscriber, status);
+  `,
 ];

@@ -36,6 +36,7 @@ import { type Write, writeWhenFree } from './when-free.js';
 import { SqliteEventQueries } from './event-queries.js';
 import { SqliteOutbox } from './outbox.js';
 import { SqliteFeedRegistry } from './feed-registry.js';
+import { SqliteSubscriptions } from './subscriptions.js';
 import { SqliteRetention } from './retention.js';
 import { type Row, labelStatements, mentionOf } from './rows.js';
 
@@ -102,6 +103,7 @@ export class SqliteStore extends StoreParts implements Store {
   private readonly write: Write;
   protected readonly queries: SqliteEventQueries;
   protected readonly outbox: SqliteOutbox;
+  protected readonly subscriptions: SqliteSubscriptions;
   protected readonly feeds: SqliteFeedRegistry;
   protected readonly retention: SqliteRetention;
   private readonly commitTx: (c: ArticleCommit) => CommitResult;
@@ -119,6 +121,7 @@ export class SqliteStore extends StoreParts implements Store {
     this.write = writeWhenFree(log);
     this.queries = new SqliteEventQueries(db);
     this.outbox = new SqliteOutbox(db, this.write);
+    this.subscriptions = new SqliteSubscriptions(db, this.write);
     this.feeds = new SqliteFeedRegistry(db, this.write);
     this.retention = new SqliteRetention(db, this.write);
     this.st = {

@@ -10,27 +10,22 @@ local function check_fence(P, fence)
   end
 end
 
--- Queues outbox messages and one pending delivery per subscriber; a message or delivery
--- already queued is left as it is (the same change gives the same message id).
+-- Logs outbox messages; a message already logged is left as it is (the same change gives
+-- the same message id). Deliveries are queued later, by fan-out.lua.
 local function queue_messages(P, messages)
   for _, msg in ipairs(messages) do
     local ok = P .. ':outbox:' .. msg.id
     if redis.call('EXISTS', ok) == 0 then
-      -- The subscriber list tells pruning when the last delivery of a message is gone.
-      -- Numbered in the notification log the live stream reads, subscribers or not.
+      -- Numbered in the notification log the live stream and fan-out read. The subscriber
+      -- list (filled by fan-out) tells pruning when the last delivery of a message is gone;
+      -- until it has one, the message is pruned by age.
       local seq = redis.call('INCR', P .. ':outbox-seq')
-      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created, 'subscribers', cjson.encode(msg.subscribers), 'seq', seq)
+      redis.call('HSET', ok, 'type', msg.type, 'body', msg.body, 'created', msg.created, 'subscribers', '[]', 'seq', seq)
       redis.call('ZADD', P .. ':outbox-log', seq, msg.id)
-      if #msg.subscribers == 0 then redis.call('ZADD', P .. ':outbox-unsubscribed', msg.dueAt, msg.id) end
+      redis.call('ZADD', P .. ':outbox-unsubscribed', msg.dueAt, msg.id)
       -- Indexed by the articles and events it names, so an erasure can find its copies.
       for _, a in ipairs(msg.articles) do redis.call('SADD', P .. ':article-messages:' .. a, msg.id) end
       for _, e in ipairs(msg.events) do redis.call('SADD', P .. ':event-messages:' .. e, msg.id) end
-    end
-    for _, sub in ipairs(msg.subscribers) do
-      local dk = msg.id .. '\n' .. sub
-      if redis.call('HSETNX', P .. ':deliveries', dk, msg.delivery) == 1 then
-        redis.call('ZADD', P .. ':due', msg.dueAt, dk)
-      end
     end
   end
 end

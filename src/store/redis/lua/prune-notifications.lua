@@ -1,7 +1,7 @@
 -- prune-notifications: deletes delivery records settled before a time, and each
 -- notification none of whose deliveries is left, with its entries in the erasure indexes
 -- and the notification log; and the notifications no subscriber asked for created before
--- that time.
+-- that time (fan-out takes a message out of that set when it queues its first delivery).
 -- KEYS[1]  the partition's sorted set of settled deliveries (score: when each settled, ms)
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  the time, ms: deliveries settled before it go
@@ -14,7 +14,9 @@ for _, dk in ipairs(dks) do
   redis.call('HDEL', P .. ':deliveries', dk)
   redis.call('ZREM', KEYS[1], dk)
   redis.call('ZREM', P .. ':dead', dk)
-  local mid = string.sub(dk, 1, string.find(dk, '\n', 1, true) - 1)
+  local cut = string.find(dk, '\n', 1, true)
+  local mid = string.sub(dk, 1, cut - 1)
+  redis.call('ZREM', P .. ':subscription-deliveries:' .. string.sub(dk, cut + 1), dk)
   if not seen[mid] then
     seen[mid] = true
     table.insert(mids, mid)
