@@ -80,6 +80,15 @@ export function firstMatch(rules: readonly AlertRule[], type: string, body: stri
   return null;
 }
 
+/** The body with the name of the rule that selected it (`rule`, beside `type`, `timestamp` and `data`). */
+export function withRule(body: string, rule: string): string {
+  try {
+    return JSON.stringify({ ...(JSON.parse(body) as object), rule });
+  } catch {
+    return body;
+  }
+}
+
 function selects(r: AlertRule, type: string, b: Body): boolean {
   if (r.types.length > 0 && !(r.types as string[]).includes(type)) return false;
   const d = b.data ?? {};

@@ -18,7 +18,7 @@ import { describeError } from '../errors.js';
 import { NetworkGuard, WEBHOOK_NAMES } from '../ingest/network-guard.js';
 import type { Logger } from '../logger.js';
 import type { Delivery, Outbox, Subscription, Subscriptions } from '../store/store.js';
-import { firstMatch } from './alert-rules.js';
+import { firstMatch, withRule } from './alert-rules.js';
 import { signWebhook } from './sign-webhook.js';
 import { signingSecrets, syncConfigSubscriptions } from './subscriptions.js';
 
@@ -242,14 +242,5 @@ export class WebhookDispatcher {
       { message: d.messageId, subscriber: d.subscriber, attempts, error },
       dead ? 'delivery gave up; moved to dead letters' : 'delivery failed; will retry',
     );
-  }
-}
-
-/** The body with the name of the rule that selected it (`rule`, beside `type`, `timestamp` and `data`). */
-function withRule(body: string, rule: string): string {
-  try {
-    return JSON.stringify({ ...(JSON.parse(body) as object), rule });
-  } catch {
-    return body;
   }
 }

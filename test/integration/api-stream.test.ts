@@ -8,6 +8,7 @@ import type { Article } from '../../src/records.js';
 import type { Runtime } from '../../src/runtime.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 import { type SseEvent, openSse } from '../helpers/sse.js';
+import { ruleWithDefaults } from '../../src/notify/alert-rules.js';
 
 const numbered = (events: SseEvent[]) => events.filter((e) => e.id !== undefined);
 
@@ -91,6 +92,34 @@ describe('the live stream (/api/stream)', () => {
     } finally {
       s.close();
     }
+  });
+
+  it("sends only what a subscription's rules select, each with the rule that matched", async () => {
+    await rt.store.addSubscription(
+      {
+        name: 'story-desk',
+        url: 'https://desk.example/hook',
+        secret: `whsec_${'A'.repeat(32)}`,
+        previous: null,
+        rules: [ruleWithDefaults({ name: 'new stories', types: ['story.opened'] })],
+        paused: false,
+        origin: 'api',
+        created: new Date().toISOString(),
+      },
+      0,
+    );
+    await runArticles(rt, demo.slice(0, 10));
+    const wanted = (await rt.store.notificationsAfter(0, 10_000)).items.filter((n) => n.type === 'story.opened');
+    const s = await openSse(`${base}/api/stream?subscription=story-desk&after=0`);
+    try {
+      await s.until((es) => numbered(es).length >= wanted.length);
+      await new Promise((r) => setTimeout(r, 100));
+      expect(numbered(s.events).map((e) => Number(e.id))).toEqual(wanted.map((n) => n.seq));
+      expect(numbered(s.events).every((e) => JSON.parse(e.data!).rule === 'new stories')).toBe(true);
+    } finally {
+      s.close();
+    }
+    expect((await fetch(`${base}/api/stream?subscription=nobody`)).status).toBe(404);
   });
 
   it('starts with the next notification when no number is given, keeps the connection with heartbeats', async () => {

@@ -8,13 +8,14 @@
  */
 import { StrandError } from '../../errors.js';
 import { NOTIFICATION_TYPES } from '../../notify/notification-types.js';
-import type { Outbox } from '../../store/store.js';
+import { type AlertRule, firstMatch, withRule } from '../../notify/alert-rules.js';
+import type { Outbox, Subscriptions } from '../../store/store.js';
 import type { RoutePlugin } from '../route-plugin.js';
 import { errorSchema } from '../schemas.js';
 
 /** What the stream reads, and how often (tests shorten the waits). */
 export interface StreamDeps {
-  store: Pick<Outbox, 'notificationsAfter'>;
+  store: Pick<Outbox, 'notificationsAfter'> & Pick<Subscriptions, 'listSubscriptions'>;
   /** How often the log is read for new notifications, ms. Default 100: an event reaches a client within about a tenth of a second of its commit, for one cheap read per client. */
   pollMs?: number;
   /** A comment line after this long without a write, ms, so proxies keep the connection. Default 15,000. */
@@ -34,6 +35,13 @@ const streamSchema = {
     type: 'object',
     properties: {
       types: { type: 'string', description: `Comma-separated notification types to send (default: all): ${NOTIFICATION_TYPES.join(', ')}` },
+      subscription: {
+        type: 'string',
+        minLength: 1,
+        maxLength: 100,
+        description:
+          "Send only what this subscription's alert rules select, each with the rule that matched (`rule` in the data), as its webhooks carry them.",
+      },
       after: {
         type: 'integer',
         minimum: 0,
@@ -48,6 +56,7 @@ const streamSchema = {
       content: { 'text/event-stream': { schema: { type: 'string' } } },
     },
     400: errorSchema,
+    404: errorSchema,
   },
 } as const;
 
@@ -63,6 +72,7 @@ export const streamRoute: RoutePlugin<StreamDeps> = async (app, deps) => {
 
   app.get('/api/stream', { schema: streamSchema }, async (req, reply) => {
     const types = wantedTypes(req.query.types);
+    const rules = req.query.subscription === undefined ? null : await rulesOf(deps.store, req.query.subscription);
     const header = req.headers['last-event-id'];
     const resume = header === undefined ? req.query.after : lastEventId(header);
     let cursor = resume ?? (await deps.store.notificationsAfter(Number.MAX_SAFE_INTEGER, 0)).last;
@@ -108,7 +118,9 @@ export const streamRoute: RoutePlugin<StreamDeps> = async (app, deps) => {
         }
         for (const n of log.items) {
           if (!live) break;
-          if (types === null || types.has(n.type)) write(frame(n.seq, n.type, n.body));
+          const rule = rules === null ? null : firstMatch(rules, n.type, n.body);
+          if ((types === null || types.has(n.type)) && (rules === null || rule !== null))
+            write(frame(n.seq, n.type, rule === null ? n.body : withRule(n.body, rule)));
           cursor = n.seq;
         }
         more = log.items.length === BATCH;
@@ -130,6 +142,12 @@ export const streamRoute: RoutePlugin<StreamDeps> = async (app, deps) => {
 /** One event: its number, its type and its body (a JSON body is one line, so one data field). */
 function frame(seq: number, type: string, body: string): string {
   return `id: ${seq}\nevent: ${type}\ndata: ${body.replace(/\r?\n/g, '\ndata: ')}\n\n`;
+}
+
+async function rulesOf(store: Pick<Subscriptions, 'listSubscriptions'>, name: string): Promise<AlertRule[]> {
+  const s = (await store.listSubscriptions()).find((x) => x.name === name);
+  if (!s) throw new StrandError('STRAND_NOT_FOUND', `no subscription ${name}`);
+  return s.rules;
 }
 
 function wantedTypes(param: string | undefined): Set<string> | null {
