@@ -32,6 +32,7 @@ export const ERROR_CODES = {
   STRAND_SUBSCRIPTION_CONFLICT: { status: 409 },
   STRAND_VECTOR_SPACE_CHANGED: { status: 500 },
   STRAND_UNAUTHORIZED: { status: 401 },
+  STRAND_FORBIDDEN: { status: 403 },
   STRAND_RATE_LIMITED: { status: 429 },
   STRAND_STOPPED: { status: 503 },
   STRAND_LISTEN_FAILED: { status: 500 },

@@ -23,11 +23,12 @@ import { type FeedControl, feedRoutes } from './routes/feeds.js';
 import { type StreamDeps, streamRoute } from './routes/stream.js';
 import { type SubscriptionDeps, subscriptionRoutes } from './routes/subscriptions.js';
 import { Metrics } from './metrics.js';
-import { type TokenPolicy, registerTokenCheck } from './require-token.js';
+import { type AccessPolicy, KeyRing, registerAccessCheck } from './access.js';
+import { keyRoutes } from './routes/keys.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
 const TOKEN_NOTE =
-  'When the operator sets server.tokens, requests that change something (POST, PUT, PATCH, DELETE) need Authorization: Bearer <token>, and with server.protect "everything" reads under /api/ too (not /api/health). A missing or unknown token gets 401 with code STRAND_UNAUTHORIZED.';
+  'Keys: the operator\'s server.tokens (everything) and API keys with scopes (POST /api/keys, or `strandline keys create`): read (events, stories, articles, the stream), push (POST /api/articles only), manage (feeds, subscriptions, dead letters; includes read), admin (keys; everything). Each operation names the scope it needs. With neither tokens nor keys nothing is checked; with server.protect "changes" (the default) reads of events, stories and articles stay open. A missing or unknown key gets 401 (STRAND_UNAUTHORIZED), a key without the scope 403 (STRAND_FORBIDDEN).';
 
 /** What the API is handed. */
 export interface ApiDeps {
@@ -49,8 +50,8 @@ export interface ApiDeps {
   access?: { requestsPerMinute: number; corsOrigins: readonly string[] } | undefined;
   /** Which webhook targets subscriptions may name (webhooks.allowPrivateNetworks, allowedNetworks); absent: no private ones. */
   webhooks?: SubscriptionDeps['webhooks'] | undefined;
-  /** Tokens and what they protect (require-token.ts); absent or no tokens: nothing is checked. */
-  auth?: TokenPolicy | undefined;
+  /** The operator's tokens and what keys protect (access.ts); absent: nothing is checked. */
+  auth?: AccessPolicy | undefined;
 }
 
 /** GET /metrics */
@@ -108,10 +109,11 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         { name: 'articles' },
         { name: 'feeds' },
         { name: 'subscriptions' },
+        { name: 'keys' },
         { name: 'operations' },
       ],
       components: { securitySchemes: { bearer: { type: 'http', scheme: 'bearer', description: TOKEN_NOTE } } },
-      // Whether a token is needed depends on server.tokens and server.protect (see the scheme).
+      // Whether a key is needed depends on server.tokens, the keys made and server.protect (see the scheme).
       security: [{}, { bearer: [] }],
     },
   });
@@ -167,7 +169,9 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         new StrandError('STRAND_RATE_LIMITED', `more than ${context.max} requests a minute; retry in ${context.after}`),
     });
   }
-  if (deps.auth) registerTokenCheck(app, deps.auth);
+  // Checked whenever the operator set tokens or someone made keys, so the check is always in place.
+  const keys = new KeyRing(deps.store);
+  registerAccessCheck(app, deps.auth ?? { tokens: [], protect: 'changes' }, keys);
   // Each group of routes is a plugin with its schemas beside it (routes/, route-plugin.ts).
   await app.register(eventRoutes, { store: deps.store });
   await app.register(storyRoutes, { store: deps.store });
@@ -177,6 +181,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
     await app.register(pushRoute, { store: deps.store, submit: deps.push.submit, limits: deps.push.limits, now: () => new Date() });
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
+  await app.register(keyRoutes, { store: deps.store, keys, now: () => new Date() });
   await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({
     store: deps.store,

@@ -70,6 +70,20 @@ function buildProgram(done: (code: number) => void): Command {
     .option('--before <day>', 'every article published before this day (YYYY-MM-DD)')
     .action(async (opts) => done(await (await import('./commands/forget.js')).forgetCommand(opts)));
 
+  const keys = program.command('keys').description('API keys with scopes (read, push, manage, admin); stored as hashes');
+  common(keys.command('create'))
+    .description('make a key and print it, once')
+    .requiredOption('--name <name>', 'what the key is for (shown in lists and refusals)')
+    .requiredOption('--scopes <list>', 'comma-separated: read, push, manage, admin')
+    .action(async (opts) => done(await (await import('./commands/keys.js')).createKeyCommand(opts)));
+  common(keys.command('list'))
+    .description('list the keys (ids, scopes, names; never the keys)')
+    .action(async (opts) => done(await (await import('./commands/keys.js')).listKeysCommand(opts)));
+  common(keys.command('revoke'))
+    .description('revoke a key')
+    .argument('<id>', 'the key id (key_...)')
+    .action(async (id: string, opts) => done(await (await import('./commands/keys.js')).revokeKeyCommand(id, opts)));
+
   common(program.command('consolidate'))
     .description(
       'merge stored events (and stories) that turn out to be one, and split events that drifted into two happenings (also runs by itself every link.consolidateEvery articles)',
@@ -110,7 +124,7 @@ function buildProgram(done: (code: number) => void): Command {
     .action(async (dir: string, opts) => done(await (await import('./commands/eval.js')).exportDemoCommand(dir, opts)));
   // Commander reports usage errors by throwing (below) rather than ending the process itself.
   program.exitOverride();
-  for (const cmd of program.commands) cmd.exitOverride();
+  for (const cmd of program.commands) for (const c of [cmd, ...cmd.commands]) c.exitOverride();
   return program;
 }
 

@@ -1,9 +1,11 @@
 /**
  * What a backend's store hands to its parts: every Store method outside the commits (the
- * API's queries, the outbox's deliveries, the subscriptions, the feed list, retention), passed on to the part
+ * API's queries, the outbox's deliveries, the subscriptions, the API keys, the feed list, retention), passed on to the part
  * that owns it. Both backends extend it, so the hand-over is written once.
  */
 import type {
+  ApiKey,
+  ApiKeys,
   ArticleDetail,
   Delivery,
   EventDetail,
@@ -26,7 +28,8 @@ import type {
 } from './store.js';
 
 /** The parts a store is made of besides its commits. */
-export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, FeedRegistry, Retention {
+export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, ApiKeys, FeedRegistry, Retention {
+  protected abstract readonly apiKeys: ApiKeys;
   protected abstract readonly queries: EventQueries;
   protected abstract readonly outbox: Outbox;
   protected abstract readonly subscriptions: Subscriptions;
@@ -104,6 +107,15 @@ export abstract class StoreParts implements EventQueries, Outbox, Subscriptions,
   }
   replayDeadLetters(name: string, now: string): Promise<number> {
     return this.subscriptions.replayDeadLetters(name, now);
+  }
+  listApiKeys(): Promise<ApiKey[]> {
+    return this.apiKeys.listApiKeys();
+  }
+  addApiKey(k: ApiKey): Promise<void> {
+    return this.apiKeys.addApiKey(k);
+  }
+  deleteApiKey(id: string): Promise<boolean> {
+    return this.apiKeys.deleteApiKey(id);
   }
   listFeeds(): Promise<FeedEntry[]> {
     return this.feeds.listFeeds();

@@ -607,6 +607,29 @@ export interface LoggedNotification {
   created: string;
 }
 
+/** What an API key lets its holder do (api/access.ts). */
+export type Scope = 'read' | 'push' | 'manage' | 'admin';
+
+/** An API key as stored: never the key itself, only its SHA-256. */
+export interface ApiKey {
+  /** `key_` and 12 hex digits; names the key in the API, the command line and the logs. */
+  id: string;
+  name: string;
+  scopes: Scope[];
+  /** SHA-256 of the key, hex. */
+  hash: string;
+  created: string;
+}
+
+/** The API keys, shared by every api process. */
+export interface ApiKeys {
+  /** Every key, in the order made. */
+  listApiKeys(): Promise<ApiKey[]>;
+  addApiKey(k: ApiKey): Promise<void>;
+  /** Revokes a key; false when there was none. */
+  deleteApiKey(id: string): Promise<boolean>;
+}
+
 /** The polled feeds and their state, shared by every api process. */
 export interface FeedRegistry {
   /** Every polled feed, in the order added. */
@@ -654,4 +677,14 @@ export interface StoreConnection {
  * concern takes that narrower interface.
  */
 export interface Store
-  extends ArticleLog, LinkingState, LinkerSnapshots, EventQueries, Outbox, Subscriptions, FeedRegistry, Retention, StoreConnection {}
+  extends
+    ArticleLog,
+    LinkingState,
+    LinkerSnapshots,
+    EventQueries,
+    Outbox,
+    Subscriptions,
+    ApiKeys,
+    FeedRegistry,
+    Retention,
+    StoreConnection {}

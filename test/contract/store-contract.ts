@@ -723,6 +723,20 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect((await store.deadLetters(10)).map((d) => d.subscriber)).toEqual(['other']);
     });
 
+    it('keeps API keys as their hashes, in the order made, until revoked', async () => {
+      expect(await store.listApiKeys()).toEqual([]);
+      const key = (id: string, created: string) => ({ id, name: `desk ${id}`, scopes: ['read' as const], hash: 'ab'.repeat(32), created });
+      await store.addApiKey(key('key_000000000002', '2026-10-02T00:00:00.000Z'));
+      await store.addApiKey({ ...key('key_000000000001', '2026-10-03T00:00:00.000Z'), scopes: ['push', 'manage'] });
+      expect((await store.listApiKeys()).map((k) => [k.id, k.scopes])).toEqual([
+        ['key_000000000002', ['read']],
+        ['key_000000000001', ['push', 'manage']],
+      ]);
+      expect(await store.deleteApiKey('key_000000000002')).toBe(true);
+      expect(await store.deleteApiKey('key_000000000002')).toBe(false);
+      expect((await store.listApiKeys()).map((k) => k.id)).toEqual(['key_000000000001']);
+    });
+
     it('replaces the linker state of a stored event, and skips one no longer stored', async () => {
       const { commit, event } = commitFor(article('a1', 'O', '2026-10-05T10:00:00.000Z', 'x'), 'The levee failed.', null);
       await store.commitArticle(commit);

@@ -1,7 +1,7 @@
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/build-app.js';
-import { needsToken } from '../../src/api/require-token.js';
+import { requiredScope } from '../../src/api/access.js';
 import { createLogger } from '../../src/logger.js';
 import type { Article } from '../../src/records.js';
 import type { Runtime } from '../../src/runtime.js';
@@ -113,13 +113,16 @@ describe('API tokens (server.tokens)', () => {
     expect((await open.inject({ url: '/api/events' })).statusCode).toBe(200);
   });
 
-  it('decides by method and path alone', () => {
-    const p = { tokens: [TOKEN], protect: 'changes' as const };
+  it('decides by method and route alone', () => {
     expect([
-      needsToken(p, 'GET', '/api/events'),
-      needsToken(p, 'DELETE', '/api/feeds/x'),
-      needsToken(p, 'PATCH', '/api/feeds/x'),
-      needsToken(p, 'POST', '/app.js'),
-    ]).toEqual([false, true, true, false]);
+      requiredScope('changes', 'GET', '/api/events'),
+      requiredScope('everything', 'GET', '/api/events'),
+      requiredScope('changes', 'POST', '/api/articles'),
+      requiredScope('changes', 'DELETE', '/api/feeds/:id'),
+      requiredScope('changes', 'GET', '/api/subscriptions'),
+      requiredScope('changes', 'GET', '/api/keys'),
+      requiredScope('everything', 'GET', '/api/health'),
+      requiredScope('everything', 'POST', '/app.js'),
+    ]).toEqual([null, 'read', 'push', 'manage', 'manage', 'admin', null, null]);
   });
 });

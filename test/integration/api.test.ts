@@ -168,6 +168,8 @@ describe('the query API', () => {
       '/api/events',
       '/api/events/{id}',
       '/api/health',
+      '/api/keys',
+      '/api/keys/{id}',
       '/api/outlets',
       '/api/stories',
       '/api/stories/{id}',

@@ -46,10 +46,32 @@ describe('the command line', () => {
     [['launch'], /unknown command/],
     [['forget'], /give --article <id> or --before/],
     [['forget', '--before', 'last week'], /--before must be a day/],
+    [['keys', 'create', '--name', 'x'], /required option '--scopes <list>'/],
+    [
+      ['keys', 'create', '--name', 'x', '--scopes', 'read,root', '--db', ':memory:'],
+      /--scopes takes a comma-separated list of read, push, manage, admin/,
+    ],
+    [['keys', 'create', '--name', '\u0007bell', '--scopes', 'read', '--db', ':memory:'], /--name must be 1 to 100 printable characters/],
+    [['keys', 'revoke', '../../x', '--db', ':memory:'], /a key id is key_ and 12 hex digits/],
   ])('refuses %j with a clear message and a non-zero exit', async (args, message) => {
     const r = await run(...args);
     expect(r.status).not.toBe(0);
     expect(r.stderr).toMatch(message);
+  });
+
+  it('makes, lists and revokes API keys, printing a key once and storing only its hash', async () => {
+    const db = join(mkdtempSync(join(tmpdir(), 'strandline-keys-')), 'store.sqlite');
+    const made = await run('keys', 'create', '--name', 'wire desk', '--scopes', 'push,read', '--db', db, '--log-level', 'silent');
+    expect(made.status, made.stderr).toBe(0);
+    const [, id, key] = /^(key_[0-9a-f]{12}) \(read, push\): (stl_\S+)$/m.exec(made.stdout)!;
+    const listed = await run('keys', 'list', '--db', db, '--log-level', 'silent');
+    expect(listed.stdout).toMatch(new RegExp(`^${id}  read,push .* wire desk$`, 'm'));
+    expect(listed.stdout).not.toContain(key!);
+    expect(readFileSync(db).toString('latin1')).not.toContain(key!);
+    expect((await run('keys', 'revoke', id!, '--db', db, '--log-level', 'silent')).status).toBe(0);
+    const again = await run('keys', 'revoke', id!, '--db', db, '--log-level', 'silent');
+    expect([again.status, again.stderr]).toEqual([1, `strandline: no API key ${id}\n`]);
+    expect((await run('keys', 'list', '--db', db, '--log-level', 'silent')).stdout).toBe('no API keys\n');
   });
 
   it('consolidates a stored replay on demand', async () => {

@@ -46,6 +46,9 @@ export interface Keyspace {
   readonly subscriptions: string;
   readonly subscriptionCursors: string;
   readonly subscriptionOrder: string;
+  /** Hash: API key id → JSON key record (its hash, not the key); sorted set of ids by when made. */
+  readonly apiKeys: string;
+  readonly apiKeyOrder: string;
   /** Sorted set of one subscription's deliveries (`<message>\n<subscriber>`) by notification number. */
   subscriptionDeliveries(name: string): string;
   /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
@@ -139,6 +142,8 @@ export function keyspace(partition: string): Keyspace {
     subscriptions: `${p}:subscriptions`,
     subscriptionCursors: `${p}:subscription-cursors`,
     subscriptionOrder: `${p}:subscription-order`,
+    apiKeys: `${p}:api-keys`,
+    apiKeyOrder: `${p}:api-key-order`,
     subscriptionDeliveries: (name) => `${p}:subscription-deliveries:${name}`,
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,

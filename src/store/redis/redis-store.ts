@@ -41,6 +41,7 @@ import { type ArticleMeta, RedisEventQueries } from './event-queries.js';
 import { RedisOutbox } from './outbox.js';
 import { RedisFeedRegistry } from './feed-registry.js';
 import { RedisSubscriptions } from './subscriptions.js';
+import { RedisApiKeys } from './api-keys.js';
 import { RedisRetention } from './retention.js';
 import { cmp, parseMerge, pipelined, splitMember } from './pipelined.js';
 
@@ -107,6 +108,7 @@ export class RedisStore extends StoreParts implements Store {
   private readonly scripts: Scripts;
   protected readonly queries: RedisEventQueries;
   protected readonly outbox: RedisOutbox;
+  protected readonly apiKeys: RedisApiKeys;
   protected readonly subscriptions: RedisSubscriptions;
   protected readonly feeds: RedisFeedRegistry;
   protected readonly retention: RedisRetention;
@@ -136,6 +138,7 @@ export class RedisStore extends StoreParts implements Store {
     this.queries = new RedisEventQueries(redis, k);
     this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
     this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
+    this.apiKeys = new RedisApiKeys(redis, k);
     this.feeds = new RedisFeedRegistry(redis, k, this.scripts.setIfUnchanged);
     this.retention = new RedisRetention(redis, k, this.scripts.eraseArticle);
   }

@@ -37,6 +37,7 @@ import { SqliteEventQueries } from './event-queries.js';
 import { SqliteOutbox } from './outbox.js';
 import { SqliteFeedRegistry } from './feed-registry.js';
 import { SqliteSubscriptions } from './subscriptions.js';
+import { SqliteApiKeys } from './api-keys.js';
 import { SqliteRetention } from './retention.js';
 import { type Row, labelStatements, mentionOf } from './rows.js';
 
@@ -103,6 +104,7 @@ export class SqliteStore extends StoreParts implements Store {
   private readonly write: Write;
   protected readonly queries: SqliteEventQueries;
   protected readonly outbox: SqliteOutbox;
+  protected readonly apiKeys: SqliteApiKeys;
   protected readonly subscriptions: SqliteSubscriptions;
   protected readonly feeds: SqliteFeedRegistry;
   protected readonly retention: SqliteRetention;
@@ -122,6 +124,7 @@ export class SqliteStore extends StoreParts implements Store {
     this.queries = new SqliteEventQueries(db);
     this.outbox = new SqliteOutbox(db, this.write);
     this.subscriptions = new SqliteSubscriptions(db, this.write);
+    this.apiKeys = new SqliteApiKeys(db, this.write);
     this.feeds = new SqliteFeedRegistry(db, this.write);
     this.retention = new SqliteRetention(db, this.write);
     this.st = {
