@@ -152,6 +152,8 @@ export interface LinkEvidence {
   sizeFactor?: number;
   /** The share of the score kept because the mention's own article opened the event (link.sameArticleFactor). */
   sameArticleFactor?: number;
+  /** Set when an analyst's correction put the link here (the correction's id in the audit log). */
+  correctedBy?: string;
   /**
    * The score the link had to reach: the threshold as calibrated on the stream at the
    * time, plus link.crossStoryMargin for an event of another story sharing no name.

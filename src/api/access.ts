@@ -110,8 +110,16 @@ export class KeyRing {
   }
 }
 
+declare module 'fastify' {
+  interface FastifyRequest {
+    /** Who the request came from (an API key's id, or which of server.tokens); null when nothing was checked. */
+    keyId: string | null;
+  }
+}
+
 /** Adds the check to every route of the app. */
 export function registerAccessCheck(app: FastifyInstance, policy: AccessPolicy, keys: KeyRing): void {
+  app.decorateRequest('keyId', null);
   const operators = new Map(policy.tokens.map((t, i) => [digest(t), { id: `server.tokens[${i}]`, scopes: ['admin'] as Scope[] }]));
 
   // Each operation's scope goes into the OpenAPI document, as the bearer scheme's scope.
@@ -146,6 +154,7 @@ export function registerAccessCheck(app: FastifyInstance, policy: AccessPolicy, 
       reply.header('www-authenticate', `Bearer realm="strandline", error="insufficient_scope", scope="${need}"`);
       throw new StrandError('STRAND_FORBIDDEN', `${holder.id} has scope ${holder.scopes.join(', ')}; ${req.method} ${route} needs ${need}`);
     }
+    req.keyId = holder.id;
   });
 }
 

@@ -25,6 +25,7 @@ import { type SubscriptionDeps, subscriptionRoutes } from './routes/subscription
 import { Metrics } from './metrics.js';
 import { type AccessPolicy, KeyRing, registerAccessCheck } from './access.js';
 import { keyRoutes } from './routes/keys.js';
+import { type ApplyCorrection, correctionRoutes } from './routes/corrections.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
 const TOKEN_NOTE =
@@ -48,6 +49,8 @@ export interface ApiDeps {
   metrics?: Metrics | undefined;
   /** Requests a client may make a minute (0: unlimited) and the origins allowed to call from a browser; absent: neither. */
   access?: { requestsPerMinute: number; corsOrigins: readonly string[] } | undefined;
+  /** Makes corrections in the linker's turn; absent (a Redis api process): the correction routes answer 503. */
+  corrections?: ApplyCorrection | undefined;
   /** Which webhook targets subscriptions may name (webhooks.allowPrivateNetworks, allowedNetworks); absent: no private ones. */
   webhooks?: SubscriptionDeps['webhooks'] | undefined;
   /** The operator's tokens and what keys protect (access.ts); absent: nothing is checked. */
@@ -109,6 +112,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
         { name: 'articles' },
         { name: 'feeds' },
         { name: 'subscriptions' },
+        { name: 'corrections' },
         { name: 'keys' },
         { name: 'operations' },
       ],
@@ -182,6 +186,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
   await app.register(keyRoutes, { store: deps.store, keys, now: () => new Date() });
+  await app.register(correctionRoutes, { store: deps.store, apply: deps.corrections });
   await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({
     store: deps.store,

@@ -38,6 +38,7 @@ export const evidenceSchema = {
       ...num,
       description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor).",
     },
+    correctedBy: { ...str, description: "Set when an analyst's correction put the link here: the correction's id in /api/corrections." },
   },
   required: ['similarity', 'timeDecay', 'timeGapDays', 'sharedParticipants', 'sharedPlaces', 'overlapBonus', 'opened'],
 } as const;

@@ -213,7 +213,8 @@ async function splitEvents(ctx: ConsolidationContext, ids: readonly string[], si
       id,
       linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })),
     );
-    if (!plan) {
+    // A sentence an analyst placed stays where it was put.
+    if (!plan || plan.moved.some((m) => ctx.linker.isPinned(m))) {
       unsplit.push(id);
       continue;
     }

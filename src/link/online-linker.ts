@@ -102,6 +102,10 @@ export class OnlineLinker {
   };
 
   private calibration: Calibration;
+  /** Pairs of events an analyst set apart (`a\nb`, ordered), never merged again by consolidation. */
+  private apart = new Set<string>();
+  /** Sentences an analyst placed (`article#index`), never moved by consolidation's splits. */
+  private pinned = new Set<string>();
 
   constructor(private readonly o: LinkerOptions) {
     this.index = new CandidateIndex(o.postingLimit);
@@ -294,7 +298,7 @@ export class OnlineLinker {
       const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
       if (e.dense) for (const x of this.centroids.nearest(Float32Array.from(e.dense), this.o.maxCandidates)) others.add(x);
       for (const other of others) {
-        if (other === id || gone.has(other)) continue;
+        if (other === id || gone.has(other) || this.apart.has(pairKey(id, other))) continue;
         const f = this.events.get(other);
         if (!f) continue;
         const sim = centroidCosine(e, f);
@@ -328,6 +332,13 @@ export class OnlineLinker {
 
   /** Applies a committed merge: the absorbed event leaves, the survivor takes its keys. */
   applyMerge(merged: EventState, from: string): void {
+    // Events set apart from the absorbed one are now apart from the survivor.
+    for (const pair of [...this.apart]) {
+      const [a, b] = pair.split('\n') as [string, string];
+      if (a !== from && b !== from) continue;
+      this.apart.delete(pair);
+      this.apart.add(pairKey(a === from ? merged.id : a, b === from ? merged.id : b));
+    }
     this.events.delete(from);
     this.index.remove(from);
     this.centroids.remove(from);
@@ -405,6 +416,36 @@ export class OnlineLinker {
     }
   }
 
+  /** What analysts' corrections bind (link/corrections.ts): events kept apart, sentences kept where placed. */
+  setBinds(apart: readonly (readonly [string, string])[], pinned: readonly { articleId: string; sentenceIndex: number }[]): void {
+    this.apart = new Set(apart.map(([a, b]) => pairKey(a, b)));
+    this.pinned = new Set(pinned.map((k) => `${k.articleId}#${k.sentenceIndex}`));
+  }
+
+  /** True when an analyst placed this sentence (consolidation leaves it where it is). */
+  isPinned(k: { articleId: string; sentenceIndex: number }): boolean {
+    return this.pinned.has(`${k.articleId}#${k.sentenceIndex}`);
+  }
+
+  /** Marks a state as changed now (its place in the candidate order), before it is committed. */
+  stamp(e: EventState): void {
+    e.touched = ++this.clock;
+  }
+
+  /** Applies a committed correction: the written events replace theirs, the removed leave. */
+  applyCorrection(written: readonly EventState[], removed: readonly string[]): void {
+    for (const id of removed) {
+      this.events.delete(id);
+      this.index.remove(id);
+      this.centroids.remove(id);
+    }
+    for (const e of written) {
+      this.events.set(e.id, e);
+      this.register(e);
+      this.clock = Math.max(this.clock, e.touched);
+    }
+  }
+
   /** Makes a committed plan part of the linker's state. */
   apply(plan: LinkPlan): void {
     for (const e of plan.events) {
@@ -413,6 +454,10 @@ export class OnlineLinker {
     }
     this.calibration.add(plan.tally);
   }
+}
+
+function pairKey(a: string, b: string): string {
+  return a < b ? `${a}\n${b}` : `${b}\n${a}`;
 }
 
 /** A mention linked to both events of a merge, with its link to `into` and to `from`. */

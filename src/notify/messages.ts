@@ -11,10 +11,10 @@ import type { LinkPlan, MergePlan } from '../link/online-linker.js';
 import type { SplitPlan } from '../link/split-event.js';
 import type { StorySplitPlan } from '../link/split-story.js';
 import { type EventState, toRecord } from '../link/event-state.js';
-import type { Article, EmbeddedMention } from '../records.js';
+import type { Article, EmbeddedMention, EventRecord } from '../records.js';
 import type { StoryMergePlan, StoryPlan } from '../link/story-linker.js';
 import { type StoryState, storyRecord } from '../link/story-state.js';
-import type { OutboxMessage } from '../store/store.js';
+import type { CorrectionRecord, OutboxMessage } from '../store/store.js';
 
 export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.js';
 import type { NotificationType } from './notification-types.js';
@@ -132,6 +132,25 @@ export function buildStorySplitMessages(plan: StorySplitPlan, now: Date): Outbox
     articlesMoved: plan.moved,
     score: plan.score,
     note: STORY_NOTE,
+  });
+  return out;
+}
+
+/**
+ * The "event.corrected" notification for one analyst's correction or its undo: the events
+ * as they now stand, each a part of its own (`event`, `otherEvent`) as erasure expects.
+ */
+export function buildCorrectionMessages(c: CorrectionRecord, events: readonly EventRecord[], now: Date): OutboxMessage[] {
+  const out: OutboxMessage[] = [];
+  messageSink(out, now)('event.corrected', c.id, {
+    correction: { id: c.id, kind: c.kind, by: c.by, at: c.at, note: c.note, undoes: c.undoes },
+    ...(events[0] ? { event: events[0] } : {}),
+    ...(events[1] ? { otherEvent: events[1] } : {}),
+    removed: Object.entries(c.after.events)
+      .filter(([, img]) => img === null)
+      .map(([id]) => id),
+    mentions: c.mentions.map((m) => ({ article: m.articleId, sentence: m.sentenceIndex })),
+    note: 'Analyst correction: a person changed what the machine suggested.',
   });
   return out;
 }

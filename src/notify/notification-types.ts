@@ -5,6 +5,7 @@ export const NOTIFICATION_TYPES = [
   'event.merged',
   'event.split',
   'event.cross_story_link',
+  'event.corrected',
   'story.opened',
   'story.outlet_added',
   'story.merged',

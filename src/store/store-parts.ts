@@ -1,12 +1,15 @@
 /**
  * What a backend's store hands to its parts: every Store method outside the commits (the
- * API's queries, the outbox's deliveries, the subscriptions, the API keys, the feed list, retention), passed on to the part
+ * API's queries, the outbox's deliveries, the subscriptions, the API keys, the corrections, the feed list, retention), passed on to the part
  * that owns it. Both backends extend it, so the hand-over is written once.
  */
 import type {
   ApiKey,
   ApiKeys,
   ArticleDetail,
+  CorrectionCommit,
+  CorrectionRecord,
+  Corrections,
   Delivery,
   EventDetail,
   EventPage,
@@ -28,7 +31,8 @@ import type {
 } from './store.js';
 
 /** The parts a store is made of besides its commits. */
-export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, ApiKeys, FeedRegistry, Retention {
+export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, ApiKeys, Corrections, FeedRegistry, Retention {
+  protected abstract readonly corrections: Corrections;
   protected abstract readonly apiKeys: ApiKeys;
   protected abstract readonly queries: EventQueries;
   protected abstract readonly outbox: Outbox;
@@ -116,6 +120,15 @@ export abstract class StoreParts implements EventQueries, Outbox, Subscriptions,
   }
   deleteApiKey(id: string): Promise<boolean> {
     return this.apiKeys.deleteApiKey(id);
+  }
+  commitCorrection(c: CorrectionCommit): Promise<void> {
+    return this.corrections.commitCorrection(c);
+  }
+  listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }> {
+    return this.corrections.listCorrections(limit, offset);
+  }
+  getCorrection(id: string): Promise<CorrectionRecord | null> {
+    return this.corrections.getCorrection(id);
   }
   listFeeds(): Promise<FeedEntry[]> {
     return this.feeds.listFeeds();

@@ -607,6 +607,75 @@ export interface LoggedNotification {
   created: string;
 }
 
+/** A sentence of an article. */
+export interface SentenceKey {
+  articleId: string;
+  sentenceIndex: number;
+}
+
+/**
+ * An event in a correction's image, without its label (sentence text, which an erasure
+ * must be able to remove everywhere): the label is named by the sentence it is drawn from.
+ */
+export interface ImageEvent {
+  record: Omit<EventRecord, 'label'>;
+  /** The sentence the label was drawn from, or null (a placeholder label). */
+  labelFrom: SentenceKey | null;
+  outlets: EventUpdate['outlets'];
+  /** The linker state, base64. */
+  state: string;
+}
+
+/** The events a correction touches (null: not stored) and every link of the sentences it touches, at one moment. */
+export interface CorrectionImage {
+  events: Record<string, ImageEvent | null>;
+  links: Link[];
+}
+
+/** An analyst's correction as the audit log keeps it. */
+export interface CorrectionRecord {
+  /** `cr_` and 12 hex digits. */
+  id: string;
+  kind: 'merge' | 'split' | 'move' | 'detach' | 'undo';
+  /** Who made it: the API key's id, the operator's token, or `local` when nothing is checked. */
+  by: string;
+  at: string;
+  note: string | null;
+  /** The events and sentences it is about (for `merge`: `events` is [from, into]; otherwise [from, to]). */
+  events: string[];
+  mentions: SentenceKey[];
+  /** For an undo: the correction it undid. */
+  undoes: string | null;
+  /** The undo that undid this correction, once one did. */
+  undoneBy: string | null;
+  before: CorrectionImage;
+  after: CorrectionImage;
+  /** What binds the linker while the correction stands: events never merged again, sentences never moved by consolidation. */
+  binds: { apart: [string, string][]; pinned: SentenceKey[] };
+}
+
+/** One correction, committed atomically: the touched sentences' links replaced, events written or removed, the record kept. */
+export interface CorrectionCommit {
+  record: CorrectionRecord;
+  /** The sentences whose links are all replaced by `links`. */
+  sentences: SentenceKey[];
+  links: Link[];
+  /** Events written as given, label included. */
+  events: EventUpdate[];
+  /** Events removed (no link of theirs is left). */
+  removed: string[];
+  messages: OutboxMessage[];
+}
+
+/** The audit log of corrections, and their commits. */
+export interface Corrections {
+  /** Commits a correction; an undo also marks the correction it undoes. */
+  commitCorrection(c: CorrectionCommit): Promise<void>;
+  /** Corrections, newest first. */
+  listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }>;
+  getCorrection(id: string): Promise<CorrectionRecord | null>;
+}
+
 /** What an API key lets its holder do (api/access.ts). */
 export type Scope = 'read' | 'push' | 'manage' | 'admin';
 
@@ -685,6 +754,7 @@ export interface Store
     Outbox,
     Subscriptions,
     ApiKeys,
+    Corrections,
     FeedRegistry,
     Retention,
     StoreConnection {}

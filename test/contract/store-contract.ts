@@ -27,6 +27,13 @@ import {
   newFeedState,
 } from '../../src/store/store.js';
 import { EVERYTHING } from '../../src/notify/alert-rules.js';
+import { activeBinds, applyCorrection } from '../../src/link/corrections.js';
+import { consolidate } from '../../src/link/consolidate.js';
+import { createRuntime, type Runtime } from '../../src/runtime.js';
+import { createLogger } from '../../src/logger.js';
+import { DEMO_FEEDS } from '../../src/cli/common.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { runArticles, testConfig } from '../helpers/runtime.js';
 
 const embedder = new TfidfEmbedder(16);
 
@@ -1172,6 +1179,136 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.commitArticle({ ...later.commit, events: [{ ...later.commit.events[0]!, record: toRecord(later.event) }] });
       expect((await store.getEvent(first.event.id))!.event.label).toBe('The levee was rebuilt.');
       expect(await store.eventLabels([first.event.id, 'ev_missing'])).toEqual(new Map([[first.event.id, 'The levee was rebuilt.']]));
+    });
+
+    describe("analysts' corrections", () => {
+      let demo: Article[];
+      let rt: Runtime;
+      beforeEach(async () => {
+        demo ??= (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles.slice(0, 40);
+        rt = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        await runArticles(rt, demo);
+        await consolidate(rt, await store.recentEventIds(1e9), await store.recentStoryIds(1e9));
+      });
+
+      /** Everything a correction may touch, as the store holds it: events, their mentions and links, every article's links, the states of `ids`. */
+      const dump = async (ids: readonly string[]) => ({
+        events: (await store.listEvents({ limit: 1000, offset: 0 })).events,
+        details: await Promise.all(ids.map((id) => store.getEvent(id))),
+        links: await Promise.all(demo.map(async (a) => (await store.getArticle(a.id))?.sentences.map((x) => x.links))),
+        states: (await store.loadLinkerState()).events
+          .filter((b) => ids.includes(deserialiseEvent(b).id))
+          .map((b) => Buffer.from(b).toString('base64')),
+        counts: await store.counts(),
+      });
+      /** The biggest event, and another. */
+      const pair = async () => {
+        const [a, b] = (await store.listEvents({ limit: 2, offset: 0, sort: 'mentions' })).events;
+        return [a!.id, b!.id] as const;
+      };
+
+      it('moves a sentence, keeps it there through consolidation and a restart, and its undo restores the exact prior state', async () => {
+        const [a, b] = await pair();
+        const moved = (await store.getEvent(a))!.mentions.at(-1)!;
+        const sentence = { articleId: moved.articleId, sentenceIndex: moved.sentenceIndex };
+        const before = await dump([a, b]);
+        const c = await applyCorrection(
+          rt,
+          { kind: 'move', from: a, to: b, mentions: [sentence] },
+          { by: 'key_000000000001', note: 'wrong event' },
+        );
+        const atB = (await store.getEvent(b))!.mentions.find(
+          (m) => m.articleId === sentence.articleId && m.sentenceIndex === sentence.sentenceIndex,
+        );
+        expect(atB?.evidence.correctedBy).toBe(c.id);
+        expect(
+          (await store.getEvent(a))!.mentions.some((m) => m.articleId === sentence.articleId && m.sentenceIndex === sentence.sentenceIndex),
+        ).toBe(false);
+
+        // Consolidation, then a restart (a new linker reads the store), then consolidation again.
+        const settle = async (r: Runtime) => consolidate(r, await store.recentEventIds(1e9), await store.recentStoryIds(1e9));
+        await settle(rt);
+        const restarted = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        await settle(restarted);
+        expect((await store.getEvent(b))!.mentions.some((m) => m.evidence.correctedBy === c.id)).toBe(true);
+        expect(await store.mergedInto(a)).toBeNull();
+
+        const undo = await applyCorrection(restarted, { kind: 'undo', correction: c.id }, { by: 'key_000000000001', note: null });
+        expect(undo).toMatchObject({ kind: 'undo', undoes: c.id });
+        expect(await dump([a, b])).toEqual(before);
+        const log = await store.listCorrections(10, 0);
+        expect(log.corrections.map((x) => [x.id, x.kind, x.undoneBy])).toEqual([
+          [undo.id, 'undo', null],
+          [c.id, 'move', undo.id],
+        ]);
+        expect(log.corrections[1]).toMatchObject({ by: 'key_000000000001', note: 'wrong event', events: [a, b], mentions: [sentence] });
+      });
+
+      it('merges two events and its undo restores both exactly; consolidation then keeps them apart', async () => {
+        const [a, b] = await pair();
+        const before = await dump([a, b]);
+        const c = await applyCorrection(rt, { kind: 'merge', from: b, into: a }, { by: 'local', note: null });
+        expect(await store.getEvent(b)).toBeNull();
+        expect((await store.getEvent(a))!.event.mentionCount).toBe(
+          before.details[0]!.event.mentionCount + before.details[1]!.event.mentionCount,
+        );
+        const restarted = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        await applyCorrection(restarted, { kind: 'undo', correction: c.id }, { by: 'local', note: null });
+        expect(await dump([a, b])).toEqual(before);
+        expect((await activeBinds(store)).apart).toEqual([[b, a]]);
+      });
+
+      it('splits sentences off into a new event that consolidation never merges back, and refuses what it cannot do', async () => {
+        const [a, b] = await pair();
+        const mentions = (await store.getEvent(a))!.mentions
+          .slice(-2)
+          .map((m) => ({ articleId: m.articleId, sentenceIndex: m.sentenceIndex }));
+        const c = await applyCorrection(rt, { kind: 'split', from: a, mentions }, { by: 'local', note: null });
+        const into = c.events[1]!;
+        expect((await store.getEvent(into))!.mentions.map((m) => m.articleId)).toEqual(mentions.map((m) => m.articleId));
+        const refused = async (p: Promise<unknown>) =>
+          (await p.then(
+            () => null,
+            (e: { code?: string }) => e.code,
+          )) ?? 'accepted';
+        expect(await refused(applyCorrection(rt, { kind: 'merge', from: a, into: a }, { by: 'local', note: null }))).toBe(
+          'STRAND_REQUEST_INVALID',
+        );
+        expect(await refused(applyCorrection(rt, { kind: 'move', from: b, to: a, mentions }, { by: 'local', note: null }))).toBe(
+          'STRAND_REQUEST_INVALID',
+        );
+        expect(
+          await refused(applyCorrection(rt, { kind: 'merge', from: 'ev_0000000000000000', into: a }, { by: 'local', note: null })),
+        ).toBe('STRAND_NOT_FOUND');
+        expect(await refused(applyCorrection(rt, { kind: 'undo', correction: 'cr_000000000000' }, { by: 'local', note: null }))).toBe(
+          'STRAND_NOT_FOUND',
+        );
+        // Once the new event changed, the split cannot be undone without losing that.
+        const other = await applyCorrection(
+          rt,
+          {
+            kind: 'move',
+            from: b,
+            to: into,
+            mentions: [(await store.getEvent(b))!.mentions.map((m) => ({ articleId: m.articleId, sentenceIndex: m.sentenceIndex }))[0]!],
+          },
+          { by: 'local', note: null },
+        );
+        expect(await refused(applyCorrection(rt, { kind: 'undo', correction: c.id }, { by: 'local', note: null }))).toBe(
+          'STRAND_CORRECTION_CONFLICT',
+        );
+        expect(other.kind).toBe('move');
+        // A consolidation that merges whatever it finds alike, after a restart: the two stay apart.
+        const eager = await createRuntime(
+          testConfig({ link: { consolidateEvery: 0, mergeThreshold: 0, splitThreshold: 0 } }),
+          createLogger('silent'),
+          store,
+        );
+        const { merges } = await consolidate(eager, await store.recentEventIds(1e9), await store.recentStoryIds(1e9));
+        expect(merges.length).toBeGreaterThan(0);
+        const home = async (id: string) => (await store.mergedInto(id)) ?? id;
+        expect(await home(into)).not.toBe(await home(a));
+      });
     });
   });
 }

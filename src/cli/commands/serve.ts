@@ -5,6 +5,7 @@
  * each as a ServiceStack, so their start and stop orders can be read side by side.
  */
 import { WebhookDispatcher } from '../../notify/webhook-dispatcher.js';
+import { applyCorrection } from '../../link/corrections.js';
 import { buildApp } from '../../api/build-app.js';
 import { Metrics } from '../../api/metrics.js';
 import type { IngestStatus } from '../../status.js';
@@ -125,6 +126,8 @@ async function serveAll(
           ingestStatus: () => status,
           push: { submit: (a) => intake.submit(a), limits: config.ingest },
           feeds: poller ?? undefined,
+          // Corrections take their turn on the one pipeline, between batches and the replay.
+          corrections: (req, author) => intake.exclusive(() => applyCorrection(rt, req, author)),
           auth: config.server,
           webhooks: config.webhooks,
           access: config.server,

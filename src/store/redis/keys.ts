@@ -46,6 +46,10 @@ export interface Keyspace {
   readonly subscriptions: string;
   readonly subscriptionCursors: string;
   readonly subscriptionOrder: string;
+  /** Hash: correction id → JSON record; sorted set of ids by the order made; hash: correction id → the undo that undid it. */
+  readonly corrections: string;
+  readonly correctionOrder: string;
+  readonly correctionUndone: string;
   /** Hash: API key id → JSON key record (its hash, not the key); sorted set of ids by when made. */
   readonly apiKeys: string;
   readonly apiKeyOrder: string;
@@ -142,6 +146,9 @@ export function keyspace(partition: string): Keyspace {
     subscriptions: `${p}:subscriptions`,
     subscriptionCursors: `${p}:subscription-cursors`,
     subscriptionOrder: `${p}:subscription-order`,
+    corrections: `${p}:corrections`,
+    correctionOrder: `${p}:correction-order`,
+    correctionUndone: `${p}:correction-undone`,
     apiKeys: `${p}:api-keys`,
     apiKeyOrder: `${p}:api-key-order`,
     subscriptionDeliveries: (name) => `${p}:subscription-deliveries:${name}`,

@@ -17,6 +17,7 @@ import { StrandError } from '../../errors.js';
 import type { Article, Mention } from '../../records.js';
 import type {
   ArticleCommit,
+  CorrectionCommit,
   CommitResult,
   StoryMember,
   StoryMergeCommit,
@@ -42,6 +43,7 @@ import { RedisOutbox } from './outbox.js';
 import { RedisFeedRegistry } from './feed-registry.js';
 import { RedisSubscriptions } from './subscriptions.js';
 import { RedisApiKeys } from './api-keys.js';
+import { RedisCorrections } from './corrections.js';
 import { RedisRetention } from './retention.js';
 import { cmp, parseMerge, pipelined, splitMember } from './pipelined.js';
 
@@ -61,6 +63,7 @@ interface Scripts {
   recordAttempt: Script;
   fanOut: Script;
   putSubscription: Script;
+  commitCorrection: Script;
 }
 
 /** Options for a Redis store. */
@@ -109,6 +112,7 @@ export class RedisStore extends StoreParts implements Store {
   protected readonly queries: RedisEventQueries;
   protected readonly outbox: RedisOutbox;
   protected readonly apiKeys: RedisApiKeys;
+  protected readonly corrections: RedisCorrections;
   protected readonly subscriptions: RedisSubscriptions;
   protected readonly feeds: RedisFeedRegistry;
   protected readonly retention: RedisRetention;
@@ -134,11 +138,13 @@ export class RedisStore extends StoreParts implements Store {
       recordAttempt: defineScript(redis, 'record-attempt'),
       fanOut: defineScript(redis, 'fan-out'),
       putSubscription: defineScript(redis, 'put-subscription'),
+      commitCorrection: defineScript(redis, 'commit-correction'),
     };
     this.queries = new RedisEventQueries(redis, k);
     this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
     this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
     this.apiKeys = new RedisApiKeys(redis, k);
+    this.corrections = new RedisCorrections(redis, k, (c) => this.runCorrection(c));
     this.feeds = new RedisFeedRegistry(redis, k, this.scripts.setIfUnchanged);
     this.retention = new RedisRetention(redis, k, this.scripts.eraseArticle);
   }
@@ -355,6 +361,31 @@ export class RedisStore extends StoreParts implements Store {
       await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!, ERASED_LABEL);
     } catch (err) {
       throw writeError(err, `cannot split ${sp.into.record.id} off ${sp.from.record.id}`);
+    }
+  }
+
+  /** One correction through commit-correction.lua (called by the corrections part). */
+  private async runCorrection(c: CorrectionCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = {
+      fence: this.fence,
+      sentences: c.sentences.map((k) => [k.articleId, String(k.sentenceIndex)]),
+      links: c.links.map((l) => [
+        l.articleId,
+        String(l.sentenceIndex),
+        l.eventId,
+        JSON.stringify({ score: l.score, rank: l.rank, evidence: l.evidence }),
+      ]),
+      removed: c.removed,
+      events: c.events.map((e) => eventPayload(e, states)),
+      id: c.record.id,
+      undoes: c.record.undoes,
+      messages: messagePayload(c.messages),
+    };
+    try {
+      await this.scripts.commitCorrection(this.k.counts, this.k.prefix, JSON.stringify(payload), JSON.stringify(c.record), ...states);
+    } catch (err) {
+      throw writeError(err, `cannot commit correction ${c.record.id}`);
     }
   }
 

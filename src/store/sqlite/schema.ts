@@ -238,8 +238,13 @@ export const MIGRATIONS: readonly Migration[] = [
   ALTER TABLE deliveries ADD COLUMN latency_ms INTEGER;
   CREATE INDEX deliveries_subscriber ON deliveries(subscriber, status);
   `,
-  // API keys with scopes, kept as SHA-256 hashes.
+  // API keys with scopes, kept as SHA-256 hashes; and the audit log of analysts' corrections.
   `
+  CREATE TABLE corrections (
+    seq  INTEGER PRIMARY KEY,
+    id   TEXT NOT NULL UNIQUE,
+    data TEXT NOT NULL
+  );
   CREATE TABLE api_keys (
     seq  INTEGER PRIMARY KEY,
     id   TEXT NOT NULL UNIQUE,

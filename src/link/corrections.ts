@@ -1,0 +1,369 @@
+/**
+ * Analysts' corrections: merge two events, split some mentions off into a new event, move
+ * mentions to another event, detach one into an event of its own, and undo any of them.
+ * Each runs in the linker's turn (it changes the linker's memory as well as the store), is
+ * one commit with its audit record and its notification, and binds the linker afterwards:
+ * events a correction set apart are never merged again by consolidation, and sentences it
+ * placed are never moved by consolidation's splits. The record keeps the touched events and
+ * the touched sentences' links as they were and as they became (without text: a label is
+ * named by the sentence it is drawn from), which is what an undo writes back.
+ */
+import { randomBytes } from 'node:crypto';
+import { StrandError } from '../errors.js';
+import { buildCorrectionMessages } from '../notify/messages.js';
+import type { EmbeddedMention, Link } from '../records.js';
+import type {
+  CorrectionImage,
+  CorrectionRecord,
+  Corrections,
+  EventUpdate,
+  ImageEvent,
+  LinkedMention,
+  SentenceKey,
+  Store,
+} from '../store/store.js';
+import { applyStoredLabels, type ConsolidationContext } from './consolidate.js';
+import {
+  addMention,
+  cloneEvent,
+  deserialiseEvent,
+  type EventState,
+  openEvent,
+  outletRows,
+  serialiseEvent,
+  toRecord,
+} from './event-state.js';
+import { ERASED_LABEL, labelFrom, relabelAfter } from './labels.js';
+import { splitEventId } from './split-event.js';
+
+/** What an analyst asks for. */
+export type CorrectionRequest =
+  | { kind: 'merge'; from: string; into: string }
+  | { kind: 'move'; from: string; to: string; mentions: SentenceKey[] }
+  | { kind: 'split'; from: string; mentions: SentenceKey[] }
+  | { kind: 'detach'; from: string; mentions: SentenceKey[] }
+  | { kind: 'undo'; correction: string };
+
+/** Who asks, and why. */
+export interface CorrectionAuthor {
+  by: string;
+  note: string | null;
+}
+
+/** Further links of one sentence count half in a centroid, as when linking. */
+const SECONDARY_WEIGHT = 0.5;
+
+const key = (k: SentenceKey): string => `${k.articleId}#${k.sentenceIndex}`;
+
+/** Applies one correction (in the linker's turn); returns its record as the audit log keeps it. */
+export async function applyCorrection(
+  ctx: ConsolidationContext,
+  req: CorrectionRequest,
+  author: CorrectionAuthor,
+): Promise<CorrectionRecord> {
+  const outcome = req.kind === 'undo' ? await planUndo(ctx, req.correction, author) : await planChange(ctx, req, author);
+  await ctx.store.commitCorrection({
+    record: outcome.record,
+    sentences: outcome.sentences,
+    links: outcome.record.after.links,
+    events: outcome.written.map(update),
+    removed: outcome.removed,
+    messages: buildCorrectionMessages(outcome.record, outcome.written.map(toRecord), ctx.now()),
+  });
+  ctx.linker.applyCorrection(outcome.written, outcome.removed);
+  const binds = await activeBinds(ctx.store);
+  ctx.linker.setBinds(binds.apart, binds.pinned);
+  return outcome.record;
+}
+
+/**
+ * What every correction that stands binds the linker to (read at start and after each
+ * correction); an event since merged away is bound as the event it went into.
+ */
+export async function activeBinds(
+  store: Pick<Corrections, 'listCorrections'> & Pick<Store, 'mergedInto'>,
+): Promise<CorrectionRecord['binds']> {
+  const apart: [string, string][] = [];
+  const pinned: SentenceKey[] = [];
+  const PAGE = 500;
+  const now = async (id: string) => (await store.mergedInto(id)) ?? id;
+  for (let offset = 0; ; offset += PAGE) {
+    const { corrections } = await store.listCorrections(PAGE, offset);
+    for (const c of corrections) {
+      if (c.undoneBy !== null) continue;
+      for (const [a, b] of c.binds.apart) apart.push([await now(a), await now(b)]);
+      pinned.push(...c.binds.pinned);
+    }
+    if (corrections.length < PAGE) return { apart, pinned };
+  }
+}
+
+interface Planned {
+  record: CorrectionRecord;
+  sentences: SentenceKey[];
+  written: EventState[];
+  removed: string[];
+}
+
+async function planChange(
+  ctx: ConsolidationContext,
+  req: Exclude<CorrectionRequest, { kind: 'undo' }>,
+  author: CorrectionAuthor,
+): Promise<Planned> {
+  const id = `cr_${randomBytes(6).toString('hex')}`;
+  const from = known(ctx, req.from);
+  const linked = await ctx.store.linkedMentions(from.id);
+  let moving: LinkedMention[];
+  let toId: string;
+  if (req.kind === 'merge') {
+    if (req.into === req.from) throw invalid('an event cannot be merged into itself');
+    toId = known(ctx, req.into).id;
+    moving = linked;
+  } else {
+    const wanted = new Set(req.mentions.map(key));
+    if (wanted.size !== req.mentions.length) throw invalid('a sentence is named twice');
+    if (req.kind === 'detach' && wanted.size !== 1) throw invalid('detach takes one sentence');
+    moving = linked.filter((l) => wanted.has(key(l.mention)));
+    const missing = [...wanted].filter((k) => !moving.some((l) => key(l.mention) === k));
+    if (missing.length) throw invalid(`not linked to ${from.id}: ${missing.join(', ')}`);
+    if (moving.length === linked.length) throw invalid(`that is every sentence of ${from.id}: merge it instead`);
+    if (req.kind === 'move') {
+      if (req.to === req.from) throw invalid('the sentences are already there');
+      toId = known(ctx, req.to).id;
+    } else {
+      toId = splitEventId(from.id, moving[0]!.mention);
+      if (ctx.linker.event(toId)) throw conflict(`${toId} exists already (the same sentences were split off before)`);
+    }
+  }
+  if (req.kind !== 'merge' && moving.some((l) => l.mention.vector === null))
+    throw conflict('a sentence to move has had its text erased; its place in an event can no longer be computed');
+
+  const to = ctx.linker.event(toId);
+  const toLinked = to ? await ctx.store.linkedMentions(toId) : [];
+  // Labels as the store holds them (an erasure may have relabelled since the linker read them).
+  const [fromNow, toNow] = [cloneEvent(from), to ? cloneEvent(to) : undefined];
+  await applyStoredLabels(ctx, toNow ? [fromNow, toNow] : [fromNow]);
+
+  const sentences = moving.map((l) => ({ articleId: l.mention.articleId, sentenceIndex: l.mention.sentenceIndex }));
+  const beforeLinks = await linksOf(ctx.store, sentences);
+  const afterLinks = relinked(beforeLinks, from.id, toId, id);
+  const movedKeys = new Set(moving.map((l) => key(l.mention)));
+  const remaining = linked.filter((l) => !movedKeys.has(key(l.mention)));
+
+  let written: EventState[];
+  let removed: string[] = [];
+  if (req.kind === 'merge') {
+    const merged = ctx.linker.mergedState(toId, from.id, await ctx.store.linkedToBoth(toId, from.id));
+    merged.label = toNow!.label;
+    merged.version = Math.max(from.version, to!.version) + 1;
+    written = [merged];
+    removed = [from.id];
+  } else {
+    const kept = rebuilt(ctx, from, remaining);
+    const movedTexts = moving.map((l) => l.mention.text).filter((t) => t !== '');
+    kept.label = relabelAfter(fromNow.label, movedTexts, () => remaining.find((l) => l.mention.text !== '')?.mention.text) ?? fromNow.label;
+    let target: EventState;
+    if (to) {
+      target = cloneEvent(to);
+      for (const l of moving) addMention(target, l.mention as EmbeddedMention, weight(l), ctx.config.link.centroidTerms);
+      target.label = toNow!.label;
+      target.version = to.version + 1;
+    } else {
+      target = rebuilt(ctx, { ...from, id: toId, version: -1 }, moving);
+      target.splitCheckedAt = target.mentionCount;
+      target.label = moving[0]!.mention.text ? labelFrom(moving[0]!.mention.text) : ERASED_LABEL;
+    }
+    written = [kept, target];
+  }
+  for (const e of written) ctx.linker.stamp(e);
+
+  const textOf = new Map([...linked, ...toLinked].map((l) => [key(l.mention), l.mention.text]));
+  const before: CorrectionImage = {
+    events: { [from.id]: image(fromNow, textOf), [toId]: toNow ? image(toNow, textOf) : null },
+    links: beforeLinks,
+  };
+  const after: CorrectionImage = {
+    events: Object.fromEntries([...written.map((e) => [e.id, image(e, textOf)] as const), ...removed.map((r) => [r, null] as const)]),
+    links: afterLinks,
+  };
+  const binds: CorrectionRecord['binds'] =
+    req.kind === 'merge' ? { apart: [], pinned: [] } : { apart: [[from.id, toId]], pinned: sentences };
+  return {
+    record: {
+      id,
+      kind: req.kind,
+      by: author.by,
+      at: ctx.now().toISOString(),
+      note: author.note,
+      events: [from.id, toId],
+      mentions: req.kind === 'merge' ? [] : sentences,
+      undoes: null,
+      undoneBy: null,
+      before,
+      after,
+      binds,
+    },
+    sentences,
+    written,
+    removed,
+  };
+}
+
+async function planUndo(ctx: ConsolidationContext, correction: string, author: CorrectionAuthor): Promise<Planned> {
+  const r = await ctx.store.getCorrection(correction);
+  if (!r) throw new StrandError('STRAND_NOT_FOUND', `no correction ${correction}`);
+  if (r.kind === 'undo') throw conflict(`${r.id} is an undo; make the correction again instead`);
+  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
+  // Only what the correction left may be put back: a later change would be lost.
+  for (const [id, img] of Object.entries(r.after.events)) {
+    const now = ctx.linker.event(id);
+    if (img === null ? now !== undefined : now?.version !== img.record.version)
+      throw conflict(`${id} changed since ${r.id} (new sentences, or consolidation); undoing would lose that`);
+  }
+  const sentences = uniqueSentences([...r.before.links, ...r.after.links, ...r.mentions]);
+  const current = await linksOf(ctx.store, sentences);
+  if (!sameLinks(current, r.after.links)) throw conflict(`the links of the sentences ${r.id} touched changed since`);
+
+  const written: EventState[] = [];
+  const removed: string[] = [];
+  const texts = await sentenceTexts(ctx.store, r.before.events);
+  for (const [id, img] of Object.entries(r.before.events)) {
+    if (img === null) {
+      if (ctx.linker.event(id)) removed.push(id);
+      continue;
+    }
+    const e = deserialiseEvent(Buffer.from(img.state, 'base64'));
+    const source = img.labelFrom ? texts.get(key(img.labelFrom)) : undefined;
+    e.label = source ? labelFrom(source) : ERASED_LABEL;
+    written.push(e);
+  }
+  const id = `cr_${randomBytes(6).toString('hex')}`;
+  const [a, b] = r.events as [string, string];
+  return {
+    record: {
+      id,
+      kind: 'undo',
+      by: author.by,
+      at: ctx.now().toISOString(),
+      note: author.note,
+      events: r.events,
+      mentions: r.mentions,
+      undoes: r.id,
+      undoneBy: null,
+      before: r.after,
+      after: r.before,
+      // Undoing a merge says the two are two: consolidation does not merge them again.
+      binds: r.kind === 'merge' ? { apart: [[a, b]], pinned: [] } : { apart: [], pinned: [] },
+    },
+    sentences,
+    written,
+    removed,
+  };
+}
+
+function known(ctx: ConsolidationContext, id: string): EventState {
+  const e = ctx.linker.event(id);
+  if (!e) throw new StrandError('STRAND_NOT_FOUND', `no event ${id} (merged away, or never stored)`);
+  return e;
+}
+
+/** An event rebuilt from its members, oldest first, keeping its id, story and examination mark. */
+function rebuilt(ctx: ConsolidationContext, like: EventState, members: readonly LinkedMention[]): EventState {
+  const e = openEvent(like.id, members[0]!.mention as EmbeddedMention);
+  e.story = like.story;
+  for (const m of members) addMention(e, m.mention as EmbeddedMention, weight(m), ctx.config.link.centroidTerms);
+  e.version = like.version + 1;
+  e.splitCheckedAt = like.splitCheckedAt;
+  return e;
+}
+
+function weight(l: Pick<LinkedMention, 'rank'>): number {
+  return l.rank === 0 ? 1 : SECONDARY_WEIGHT;
+}
+
+/**
+ * The links after moving a sentence's link to `from` onto `to`: a sentence already linked
+ * to `to` keeps the better-scoring of its two links. The moved link says who moved it.
+ */
+function relinked(links: readonly Link[], from: string, to: string, correction: string): Link[] {
+  const out = new Map<string, Link>();
+  for (const l of links) {
+    const moved = l.eventId === from ? { ...l, eventId: to, evidence: { ...l.evidence, correctedBy: correction } } : l;
+    const k = `${key(l)}\n${moved.eventId}`;
+    const have = out.get(k);
+    if (!have || moved.score > have.score) out.set(k, moved);
+  }
+  return [...out.values()];
+}
+
+/** Every link of these sentences, as stored. */
+async function linksOf(store: Pick<Store, 'getArticle'>, sentences: readonly SentenceKey[]): Promise<Link[]> {
+  const out: Link[] = [];
+  const byArticle = new Map<string, number[]>();
+  for (const s of sentences) byArticle.set(s.articleId, [...(byArticle.get(s.articleId) ?? []), s.sentenceIndex]);
+  for (const [articleId, indexes] of byArticle) {
+    const detail = await store.getArticle(articleId);
+    for (const i of indexes) {
+      for (const l of detail?.sentences.find((s) => s.index === i)?.links ?? [])
+        out.push({ articleId, sentenceIndex: i, eventId: l.eventId, score: l.score, rank: l.rank, evidence: l.evidence });
+    }
+  }
+  return out.sort(byLink);
+}
+
+/** The texts of the sentences the images' labels are drawn from, as stored now (erased ones absent). */
+async function sentenceTexts(store: Pick<Store, 'getArticle'>, events: CorrectionImage['events']): Promise<Map<string, string>> {
+  const out = new Map<string, string>();
+  for (const img of Object.values(events)) {
+    if (!img?.labelFrom) continue;
+    const text = (await store.getArticle(img.labelFrom.articleId))?.sentences.find((s) => s.index === img.labelFrom!.sentenceIndex)?.text;
+    if (text) out.set(key(img.labelFrom), text);
+  }
+  return out;
+}
+
+function sameLinks(a: readonly Link[], b: readonly Link[]): boolean {
+  const form = (ls: readonly Link[]) =>
+    JSON.stringify([...ls].sort(byLink).map((l) => [l.articleId, l.sentenceIndex, l.eventId, l.rank, l.score]));
+  return form(a) === form(b);
+}
+
+function byLink(a: Link, b: Link): number {
+  return a.articleId < b.articleId
+    ? -1
+    : a.articleId > b.articleId
+      ? 1
+      : a.sentenceIndex - b.sentenceIndex || (a.eventId < b.eventId ? -1 : 1);
+}
+
+function uniqueSentences(ks: readonly SentenceKey[]): SentenceKey[] {
+  const seen = new Map<string, SentenceKey>();
+  for (const k of ks) seen.set(key(k), { articleId: k.articleId, sentenceIndex: k.sentenceIndex });
+  return [...seen.values()];
+}
+
+/** An event in a record: no label text, only the sentence it came from. */
+function image(e: EventState, textOf: ReadonlyMap<string, string>): ImageEvent {
+  const { label: _label, ...record } = toRecord(e);
+  let source: SentenceKey | null = null;
+  for (const [k, t] of textOf) {
+    if (t && labelFrom(t) === e.label) {
+      const cut = k.lastIndexOf('#');
+      source = { articleId: k.slice(0, cut), sentenceIndex: Number(k.slice(cut + 1)) };
+      break;
+    }
+  }
+  return { record, labelFrom: source, outlets: outletRows(e), state: Buffer.from(serialiseEvent(e)).toString('base64') };
+}
+
+function update(e: EventState): EventUpdate {
+  return { record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) };
+}
+
+function invalid(message: string): StrandError {
+  return new StrandError('STRAND_REQUEST_INVALID', message);
+}
+
+function conflict(message: string): StrandError {
+  return new StrandError('STRAND_CORRECTION_CONFLICT', message);
+}
