@@ -27,6 +27,8 @@ import {
   reloadLinking,
 } from '../pipeline/index.js';
 import type { Keyspace } from '../store/redis/keys.js';
+import { applyCorrection } from '../link/corrections.js';
+import { CorrectionQueue } from './correction-queue.js';
 import { fieldMap } from './intake.js';
 import { Lease } from './lease.js';
 import { decodeWork } from './wire.js';
@@ -203,12 +205,20 @@ export class QueueLinker {
         complete: resolve,
       });
     });
+    const corrections = new CorrectionQueue(redis, keys);
     let position = (await redis.get(keys.linkerPosition)) ?? '0-0';
     let lastSeen = '$';
     while (!this.stopping && !this.lost) {
       try {
         if (inFlight >= IN_FLIGHT) {
           await sleep(5);
+          continue;
+        }
+        // Corrections queued by api processes go in the linker's turn: no new article is
+        // taken until those in flight are committed, then the corrections are made.
+        if (await corrections.waiting()) {
+          if (inFlight > 0) await sleep(5);
+          else await corrections.serve((req, author) => applyCorrection(ctx, req, author));
           continue;
         }
         const next = await this.nextAnswered(position);

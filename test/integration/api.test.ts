@@ -165,6 +165,9 @@ describe('the query API', () => {
     expect(body.openapi).toBe('3.1.0');
     expect(Object.keys(body.paths).sort()).toEqual([
       '/api/articles/{id}',
+      '/api/corrections',
+      '/api/corrections/{id}',
+      '/api/corrections/{id}/undo',
       '/api/events',
       '/api/events/{id}',
       '/api/health',

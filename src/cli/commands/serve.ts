@@ -15,6 +15,7 @@ import { ServiceStack } from '../../lifecycle/service-stack.js';
 import { Lease } from '../../distribute/lease.js';
 import { checkRole, openQueue, startLinker, startWorker } from '../../distribute/roles.js';
 import { QueuedReplay } from '../../distribute/replay-progress.js';
+import { CorrectionQueue } from '../../distribute/correction-queue.js';
 import { readReplayInput } from '../../ingest/replay-source.js';
 import type { Logger } from '../../logger.js';
 import { LocalIntake } from '../../local-intake.js';
@@ -281,6 +282,7 @@ async function serveApiRole(
     () => openQueue(config, logger, { failFast: true }),
     (q) => q.close(),
   );
+  const corrections = new CorrectionQueue(queue.redis, keyspace(config.store.redis.partition));
   // The replay's progress is the other processes' work: read from the queue and the store.
   const replay = new QueuedReplay(queue, store);
   // A push is queued whole or not at all (its client is told one or the other).
@@ -314,6 +316,8 @@ async function serveApiRole(
           queue,
           push: { submit, limits: config.ingest },
           feeds: poller ?? undefined,
+          // Made by the linker process in its turn; this process queues them and waits for the answer.
+          corrections: (req, author) => corrections.submit(req, author),
           auth: config.server,
           webhooks: config.webhooks,
           access: config.server,

@@ -46,6 +46,9 @@ export interface Keyspace {
   readonly subscriptions: string;
   readonly subscriptionCursors: string;
   readonly subscriptionOrder: string;
+  /** List of corrections an api process queued for the linker; each one's answer, kept a while. */
+  readonly correctionRequests: string;
+  correctionAnswer(request: string): string;
   /** Hash: correction id → JSON record; sorted set of ids by the order made; hash: correction id → the undo that undid it. */
   readonly corrections: string;
   readonly correctionOrder: string;
@@ -146,6 +149,8 @@ export function keyspace(partition: string): Keyspace {
     subscriptions: `${p}:subscriptions`,
     subscriptionCursors: `${p}:subscription-cursors`,
     subscriptionOrder: `${p}:subscription-order`,
+    correctionRequests: `${p}:correction-requests`,
+    correctionAnswer: (request) => `${p}:correction-answer:${request}`,
     corrections: `${p}:corrections`,
     correctionOrder: `${p}:correction-order`,
     correctionUndone: `${p}:correction-undone`,
