@@ -4,6 +4,7 @@ import type { FastifyInstance } from 'fastify';
 import { Webhook } from 'standardwebhooks';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { bareCommit } from '../helpers/bare-commit.js';
+import { verifiedBySpecification } from '../helpers/spec-receiver.js';
 import { buildApp } from '../../src/api/build-app.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { createLogger } from '../../src/logger.js';
@@ -149,8 +150,11 @@ describe('subscriptions through the API', () => {
     await dispatcher.tick();
     const during = got.find((g) => g.path === '/desk')!;
     expect((during.headers['webhook-signature'] as string).split(' ')).toHaveLength(2);
-    // A receiver holding either secret verifies it (reference library, Standard Webhooks).
-    for (const s of [old, secret]) expect(() => new Webhook(s).verify(during.body, during.headers as Record<string, string>)).not.toThrow();
+    // A receiver holding either secret verifies it: the reference library, and one written from the specification alone.
+    for (const s of [old, secret]) {
+      expect(() => new Webhook(s).verify(during.body, during.headers as Record<string, string>)).not.toThrow();
+      expect(verifiedBySpecification(s, during.headers as Record<string, string>, during.body, new Date())).toBe(true);
+    }
 
     now = new Date(now.getTime() + 2 * 3_600_000);
     await publish(outletAdded(2, 'y', ['A']));

@@ -1,5 +1,4 @@
 import { NOTIFICATION_TYPES } from '../../src/notify/notification-types.js';
-import { createHmac, timingSafeEqual } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -11,6 +10,7 @@ import { WebhookDispatcher } from '../../src/notify/webhook-dispatcher.js';
 import type { Runtime } from '../../src/runtime.js';
 import { DEMO_DIR } from '../helpers/demo.js';
 import { runArticles, testRuntime } from '../helpers/runtime.js';
+import { verifiedBySpecification } from '../helpers/spec-receiver.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 
 const SECRET = 'whsec_c3RyYW5kbGluZS1leGFtcGxlLXNlY3JldC1rZXk=';
@@ -111,26 +111,6 @@ describe('feeds in, signed notifications out', () => {
     expect(outbox()).toBe(0);
   });
 });
-
-/**
- * A receiver written from the Standard Webhooks specification alone (checks.md, "Webhooks"):
- * the signature header is a space-separated list of `v1,<base64>` entries; one must equal
- * base64(HMAC-SHA256(secret bytes, `<id>.<timestamp>.<body>`)), the secret being the base64
- * after `whsec_`; the timestamp within 5 minutes of the receiver's clock. Compared in
- * constant time.
- */
-function verifiedBySpecification(secret: string, h: Record<string, string | undefined>, body: string, now: Date): boolean {
-  const [id, timestamp, header] = [h['webhook-id'], h['webhook-timestamp'], h['webhook-signature']];
-  if (!id || !timestamp || !header || !/^\d+$/.test(timestamp)) return false;
-  if (Math.abs(now.getTime() / 1000 - Number(timestamp)) > 300) return false;
-  const key = Buffer.from(secret.replace(/^whsec_/, ''), 'base64');
-  const expected = createHmac('sha256', key).update(`${id}.${timestamp}.${body}`).digest();
-  return header.split(' ').some((entry) => {
-    const [version, sig] = entry.split(',', 2);
-    const given = Buffer.from(sig ?? '', 'base64');
-    return version === 'v1' && given.length === expected.length && timingSafeEqual(given, expected);
-  });
-}
 
 describe('a receiver written from the specification', () => {
   // The test vector of the specification's library tests (checks.md, "Webhooks").
