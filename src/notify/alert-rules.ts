@@ -2,7 +2,7 @@
  * Alert rules: which notifications a subscription receives. A rule selects by type and,
  * optionally, by what the notification is about (words, participants, places, outlets), by
  * independence (copies of other articles left out) and by reach (an event reported by N
- * outlets within a window of its first report). A subscription's rules are tried in order;
+ * outlets, or in M sentences, within a window of its first report). A subscription's rules are tried in order;
  * the first that selects a notification names it in the delivery, and a notification no
  * rule selects is not delivered to that subscription. Rules read the notification as
  * written in the log, so every process judges it alike and a replay judges it again alike.
@@ -30,7 +30,9 @@ export interface AlertRule {
    * `event.outlet_added`), once per event; null: no reach condition.
    */
   minOutlets: number | null;
-  /** With minOutlets: only when that report came within this many hours of the event's first. */
+  /** Selects an event at the article that brings it to this many mentions (an `article.linked`), once per event; null: none. */
+  minMentions: number | null;
+  /** With minOutlets or minMentions: only when that report came within this many hours of the event's first. */
   withinHours: number | null;
 }
 
@@ -51,6 +53,7 @@ export function ruleWithDefaults(r: AlertRuleInput): AlertRule {
     outlets: r.outlets ?? [],
     independentOnly: r.independentOnly ?? false,
     minOutlets: r.minOutlets ?? null,
+    minMentions: r.minMentions ?? null,
     withinHours: r.withinHours ?? null,
   };
 }
@@ -59,12 +62,13 @@ export function ruleWithDefaults(r: AlertRuleInput): AlertRule {
 interface Body {
   type?: string;
   data?: {
-    event?: { label?: string; participants?: string[]; places?: string[]; outlets?: string[]; firstSeen?: string };
+    event?: { label?: string; participants?: string[]; places?: string[]; outlets?: string[]; firstSeen?: string; mentionCount?: number };
     story?: { label?: string; names?: string[]; firstSeen?: string };
     outlet?: string;
     independent?: boolean;
     mention?: { text?: string | null; outlet?: string; published?: string };
     article?: { title?: string; outlet?: string; published?: string };
+    events?: { firstSeen?: string; mentionCount?: number; mentionsAdded?: number }[];
   };
 }
 
@@ -107,13 +111,25 @@ function selects(r: AlertRule, type: string, b: Body): boolean {
     // The report that brings the event to N outlets: outlet_added notifications come once per
     // (event, outlet), so exactly one carries the Nth.
     if (type !== 'event.outlet_added' || d.event?.outlets?.length !== r.minOutlets) return false;
-    if (r.withinHours !== null) {
-      const first = Date.parse(d.event.firstSeen ?? '');
-      const now = Date.parse(d.mention?.published ?? '');
-      if (!(now - first <= r.withinHours * 3_600_000)) return false;
-    }
+    if (!within(r, d.event.firstSeen, d.mention?.published)) return false;
+  }
+  if (r.minMentions !== null) {
+    // The article that takes an event from below M mentions to M or more: one per event.
+    const m = r.minMentions;
+    const crossed = (e: NonNullable<Body['data']>['events'] & object) =>
+      e.some(
+        (x) =>
+          (x.mentionCount ?? 0) - (x.mentionsAdded ?? 0) < m && (x.mentionCount ?? 0) >= m && within(r, x.firstSeen, d.article?.published),
+      );
+    if (type !== 'article.linked' || !crossed(d.events ?? [])) return false;
   }
   return true;
+}
+
+/** True without a window, or when `at` came within it of `first`. */
+function within(r: AlertRule, first: string | undefined, at: string | undefined): boolean {
+  if (r.withinHours === null) return true;
+  return Date.parse(at ?? '') - Date.parse(first ?? '') <= r.withinHours * 3_600_000;
 }
 
 function lower(xs: readonly string[]): Set<string> {

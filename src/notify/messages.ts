@@ -1,7 +1,8 @@
 /**
  * Builds the notifications a link plan gives rise to, as outbox messages: "event.opened"
  * when a mention opens an event, "event.outlet_added" when an event is reported by an
- * outlet for the first time, "event.cross_story_link" when a sentence links to an event of
+ * outlet for the first time, "article.linked" when an article reports known events again
+ * (their counts), "event.cross_story_link" when a sentence's best link is to an event of
  * another story. Payloads follow the Standard Webhooks recommendation
  * (`type`, `timestamp`, `data`); ids are derived from the change, so a replayed change
  * produces the same `webhook-id` and receivers can drop the repeat.
@@ -53,10 +54,21 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
       note: 'Automatic link: a machine suggestion to verify before publishing or acting on it.',
     });
   }
+  // The known events this article reported again, with their counts (no text: one small
+  // message per article, for alert rules on growth and for pages that show counts live).
+  const article = plan.links[0]?.articleId;
+  const grew = plan.events.flatMap((e) => {
+    const added = plan.opened.includes(e.id) ? 0 : plan.links.filter((l) => l.eventId === e.id).length;
+    return added ? [{ id: e.id, story: e.story, firstSeen: e.firstSeen, mentionCount: e.mentionCount, mentionsAdded: added }] : [];
+  });
+  if (article !== undefined && grew.length > 0) {
+    const m = mentions.find((x) => x.articleId === article);
+    push('article.linked', article, { article: { article, outlet: m?.outlet, published: m?.published }, events: grew });
+  }
   // A sentence linked to an event of another story: the rare links that tie two threads.
   for (const link of plan.links) {
     const event = events.get(link.eventId);
-    if (!link.evidence.crossStory || !event || plan.opened.includes(link.eventId)) continue;
+    if (!link.evidence.crossStory || link.rank > 0 || !event || plan.opened.includes(link.eventId)) continue;
     const m = mentionOf(link.articleId, link.sentenceIndex);
     push('event.cross_story_link', `${link.eventId}\n${link.articleId}\n${link.sentenceIndex}`, {
       event: toRecord(event),

@@ -41,7 +41,7 @@ describe('the live stream (/api/stream)', () => {
     const kept = (await rt.store.notificationsAfter(0, 10_000)).items;
     // No subscriber is configured: the stream carries every type all the same.
     expect(new Set(kept.map((n) => n.type))).toEqual(
-      new Set(['event.opened', 'event.outlet_added', 'event.cross_story_link', 'story.opened', 'story.outlet_added']),
+      new Set(['event.opened', 'event.outlet_added', 'event.cross_story_link', 'story.opened', 'story.outlet_added', 'article.linked']),
     );
     const s = await openSse(`${base}/api/stream?after=0`);
     try {

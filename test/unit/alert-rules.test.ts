@@ -74,6 +74,27 @@ describe('alert rules', () => {
     expect(firstMatch(r, 'event.opened', outletAdded())).toBeNull();
   });
 
+  it('selects an event once, at the article that brings it to M mentions within the window', () => {
+    const linked = (mentionCount: number, mentionsAdded: number, published = '2026-10-05T20:00:00.000Z') =>
+      JSON.stringify({
+        type: 'article.linked',
+        data: {
+          article: { article: 'a9', outlet: 'EBS News', published },
+          events: [
+            { id: 'ev_2', firstSeen: event.firstSeen, mentionCount: 3, mentionsAdded: 1 },
+            { id: event.id, firstSeen: event.firstSeen, mentionCount, mentionsAdded },
+          ],
+        },
+      });
+    const r = [rule({ name: 'busy', minMentions: 10, withinHours: 48 })];
+    expect(firstMatch(r, 'article.linked', linked(9, 2))).toBeNull();
+    expect(firstMatch(r, 'article.linked', linked(11, 2))).toBe('busy');
+    expect(firstMatch(r, 'article.linked', linked(10, 1))).toBe('busy');
+    expect(firstMatch(r, 'article.linked', linked(12, 1))).toBeNull();
+    expect(firstMatch(r, 'article.linked', linked(10, 1, '2026-10-09T00:00:00.000Z'))).toBeNull();
+    expect(firstMatch(r, 'event.outlet_added', outletAdded())).toBeNull();
+  });
+
   it('selects nothing from a body that is not JSON', () => {
     expect(firstMatch([EVERYTHING], 'event.opened', '{not json')).toBeNull();
   });

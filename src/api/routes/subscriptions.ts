@@ -45,11 +45,17 @@ const ruleSchema = {
       maximum: 10_000,
       description: 'Select an event at the report that brings it to this many outlets (an event.outlet_added), once per event.',
     },
+    minMentions: {
+      type: ['integer', 'null'],
+      minimum: 2,
+      maximum: 1_000_000,
+      description: 'Select an event at the article that brings it to this many mentions (an article.linked), once per event.',
+    },
     withinHours: {
       type: ['number', 'null'],
       minimum: 1,
       maximum: 8784,
-      description: "With minOutlets: only when that report came within this many hours of the event's first.",
+      description: "With minOutlets or minMentions: only when that report came within this many hours of the event's first.",
     },
   },
   required: ['name'],
@@ -123,9 +129,12 @@ export const subscriptionRoutes: RoutePlugin<SubscriptionDeps> = async (app, { s
     if (!given) return [EVERYTHING];
     const out = given.map((r) => ruleWithDefaults(r as AlertRule));
     if (new Set(out.map((r) => r.name)).size !== out.length) throw new StrandError('STRAND_REQUEST_INVALID', 'rule names must differ');
-    for (const r of out)
-      if (r.withinHours !== null && r.minOutlets === null)
-        throw new StrandError('STRAND_REQUEST_INVALID', `rule ${r.name}: withinHours needs minOutlets`);
+    for (const r of out) {
+      if (r.withinHours !== null && r.minOutlets === null && r.minMentions === null)
+        throw new StrandError('STRAND_REQUEST_INVALID', `rule ${r.name}: withinHours needs minOutlets or minMentions`);
+      if (r.minOutlets !== null && r.minMentions !== null)
+        throw new StrandError('STRAND_REQUEST_INVALID', `rule ${r.name}: a rule counts outlets or mentions, not both (make two rules)`);
+    }
     return out;
   };
   const find = async (name: string): Promise<Subscription & { cursor: number }> => {
