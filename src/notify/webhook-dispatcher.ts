@@ -89,7 +89,11 @@ export class WebhookDispatcher {
   /** Starts polling every `pollMs` (subscriptions can be made through the API at any time). */
   start(): void {
     if (this.timer) return;
-    this.timer = setInterval(() => void this.tick(), this.d.config.pollMs);
+    // A poll that fails (the store unreachable) is logged; the next one tries again.
+    this.timer = setInterval(
+      () => void this.tick().catch((err: unknown) => this.log.warn({ err: describeError(err) }, 'webhook poll failed; retrying')),
+      this.d.config.pollMs,
+    );
     this.timer.unref();
   }
 
@@ -119,7 +123,10 @@ export class WebhookDispatcher {
   }
 
   private async startLanes(): Promise<Promise<void>[]> {
-    this.synced ??= syncConfigSubscriptions(this.d.store, this.d.config.subscribers, this.now(), this.log);
+    this.synced ??= syncConfigSubscriptions(this.d.store, this.d.config.subscribers, this.now(), this.log).catch((err: unknown) => {
+      this.synced = null;
+      throw err;
+    });
     await this.synced;
     this.subscriptions = new Map((await this.d.store.listSubscriptions()).map((s) => [s.name, s]));
     for (const s of this.subscriptions.values()) if (!s.paused) await this.fanOut(s);

@@ -210,6 +210,26 @@ describe('delivering webhooks', () => {
     );
   });
 
+  it('keeps polling after a poll fails (the store unreachable for a moment), and delivers once it answers again', async () => {
+    const sent: string[] = [];
+    const ok = (async (_url: string, init: { headers: Record<string, string> }) => {
+      sent.push(init.headers['webhook-id']!);
+      return new Response(null, { status: 204 });
+    }) as unknown as typeof fetch;
+    const { store, d } = setup('http://127.0.0.1:9/x', ok, 3, new Date());
+    await commitWithMessage(store, new Date().toISOString());
+    const list = store.listSubscriptions.bind(store);
+    let failures = 2;
+    store.listSubscriptions = async () => {
+      if (failures-- > 0) throw new Error('store unreachable');
+      return list();
+    };
+    d.start();
+    for (let i = 0; i < 100 && sent.length === 0; i++) await new Promise((r) => setTimeout(r, 20));
+    await d.stop();
+    expect(sent).toEqual(['msg_test1']);
+  });
+
   it('spreads retries with exponential backoff and full jitter, capped at one hour', () => {
     expect(retryDelayMs(1, () => 1)).toBe(5000);
     expect(retryDelayMs(3, () => 1)).toBe(20000);
