@@ -7,7 +7,7 @@ import type { Config } from './config/schema.js';
 import type { Embedder } from './embed/embedder.js';
 import { createEmbedder } from './embed/create-embedder.js';
 import { claimVectorSpace, vectorSpaceOf } from './embed/vector-space.js';
-import { activeBinds } from './link/corrections.js';
+import { activeBinds, applyBinds } from './link/corrections.js';
 import { deserialiseEvent } from './link/event-state.js';
 import { OnlineLinker } from './link/online-linker.js';
 import { StoryLinker } from './link/story-linker.js';
@@ -53,10 +53,9 @@ export async function createRuntime(
   }
   embedder.load?.(snapshot.idf);
   linker.load(events, snapshot.tally);
-  const binds = await activeBinds(s);
-  linker.setBinds(binds.apart, binds.pinned);
   const stories = new StoryLinker(config.link);
   stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);
+  applyBinds(linker, stories, await activeBinds(s));
   const copies = new CopyDetector(config.copies);
   await copies.load(s);
   const threads = sharedAnalysis?.threads ?? analysisThreads(config.analysis.threads);

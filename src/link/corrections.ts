@@ -1,6 +1,7 @@
 /**
  * Analysts' corrections: merge two events, split some mentions off into a new event, move
- * mentions to another event, detach one into an event of its own, and undo any of them.
+ * mentions to another event, detach one into an event of its own, merge two stories, and
+ * undo any of them.
  * Each runs in the linker's turn (it changes the linker's memory as well as the store), is
  * one commit with its audit record and its notification, and binds the linker afterwards:
  * events a correction set apart are never merged again by consolidation, and sentences it
@@ -35,6 +36,7 @@ import {
 } from './event-state.js';
 import { ERASED_LABEL, labelFrom, relabelAfter } from './labels.js';
 import { splitEventId } from './split-event.js';
+import { deserialiseStory, serialiseStory, type StoryState, storyRecord } from './story-state.js';
 
 /** What an analyst asks for. */
 export type CorrectionRequest =
@@ -42,6 +44,7 @@ export type CorrectionRequest =
   | { kind: 'move'; from: string; to: string; mentions: SentenceKey[] }
   | { kind: 'split'; from: string; mentions: SentenceKey[] }
   | { kind: 'detach'; from: string; mentions: SentenceKey[] }
+  | { kind: 'merge-stories'; from: string; into: string }
   | { kind: 'undo'; correction: string };
 
 /** Who asks, and why. */
@@ -61,6 +64,9 @@ export async function applyCorrection(
   req: CorrectionRequest,
   author: CorrectionAuthor,
 ): Promise<CorrectionRecord> {
+  const undoing = req.kind === 'undo' ? await ctx.store.getCorrection(req.correction) : null;
+  if (req.kind === 'merge-stories') return bound(ctx, await mergeStories(ctx, req.from, req.into, author));
+  if (undoing?.kind === 'merge-stories') return bound(ctx, await unmergeStories(ctx, undoing, author));
   const outcome = req.kind === 'undo' ? await planUndo(ctx, req.correction, author) : await planChange(ctx, req, author);
   await ctx.store.commitCorrection({
     record: outcome.record,
@@ -71,9 +77,107 @@ export async function applyCorrection(
     messages: buildCorrectionMessages(outcome.record, outcome.written.map(toRecord), ctx.now()),
   });
   ctx.linker.applyCorrection(outcome.written, outcome.removed);
-  const binds = await activeBinds(ctx.store);
-  ctx.linker.setBinds(binds.apart, binds.pinned);
-  return outcome.record;
+  return bound(ctx, outcome.record);
+}
+
+/** Reads the bindings again after a correction and hands them to the linkers; returns the record. */
+async function bound(ctx: ConsolidationContext, record: CorrectionRecord): Promise<CorrectionRecord> {
+  applyBinds(ctx.linker, ctx.stories, await activeBinds(ctx.store));
+  return record;
+}
+
+/** Hands the bindings to the event linker (event pairs, sentences) and the story linker (story pairs). */
+export function applyBinds(
+  linker: Pick<ConsolidationContext['linker'], 'setBinds'>,
+  stories: Pick<ConsolidationContext['stories'], 'setApart'>,
+  binds: CorrectionRecord['binds'],
+): void {
+  linker.setBinds(
+    binds.apart.filter(([a]) => a.startsWith('ev_')),
+    binds.pinned,
+  );
+  stories.setApart(binds.apart.filter(([a]) => a.startsWith('st_')));
+}
+
+/** An analyst's merge of two stories, through the store's story merge with its record. */
+async function mergeStories(
+  ctx: ConsolidationContext,
+  fromId: string,
+  intoId: string,
+  author: CorrectionAuthor,
+): Promise<CorrectionRecord> {
+  if (fromId === intoId) throw invalid('a story cannot be merged into itself');
+  const [from, into] = [ctx.stories.story(fromId), ctx.stories.story(intoId)];
+  if (!from || !into) throw new StrandError('STRAND_NOT_FOUND', `no story ${from ? intoId : fromId} (merged away, or never stored)`);
+  const detail = await ctx.store.getStory(fromId);
+  const members = {
+    articles: (await ctx.store.storyMembers(fromId)).map((m) => m.articleId),
+    events: detail?.events.map((e) => e.id) ?? [],
+    earlier: detail?.merges.map((m) => m.from) ?? [],
+  };
+  const merged = ctx.stories.mergedState(intoId, fromId);
+  const id = `cr_${randomBytes(6).toString('hex')}`;
+  const storyImage = (st: StoryState) => ({ record: storyRecord(st), state: Buffer.from(serialiseStory(st)).toString('base64') });
+  const record: CorrectionRecord = {
+    id,
+    kind: 'merge-stories',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    events: [fromId, intoId],
+    mentions: [],
+    undoes: null,
+    undoneBy: null,
+    before: { events: {}, links: [], stories: { [fromId]: storyImage(from), [intoId]: storyImage(into) }, members },
+    after: { events: {}, links: [], stories: { [fromId]: null, [intoId]: storyImage(merged) }, members },
+    binds: { apart: [], pinned: [] },
+  };
+  await ctx.store.commitStoryMerge({
+    into: { record: storyRecord(merged), state: serialiseStory(merged) },
+    from: fromId,
+    score: 1,
+    at: record.at,
+    messages: buildCorrectionMessages(record, [], ctx.now(), storyRecord(merged)),
+    correction: record,
+  });
+  ctx.stories.applyMerge(merged, fromId);
+  return record;
+}
+
+/** The undo of an analyst's story merge: the absorbed story back as it was, the survivor too. */
+async function unmergeStories(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
+  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
+  const [fromId, intoId] = r.events as [string, string];
+  const before = r.before.stories ?? {};
+  const now = ctx.stories.story(intoId);
+  if (ctx.stories.story(fromId) || now?.version !== r.after.stories?.[intoId]?.record.version)
+    throw conflict(`${intoId} changed since ${r.id} (new articles, or consolidation); undoing would lose that`);
+  const from = deserialiseStory(Buffer.from(before[fromId]!.state, 'base64'));
+  const into = deserialiseStory(Buffer.from(before[intoId]!.state, 'base64'));
+  const record: CorrectionRecord = {
+    ...r,
+    id: `cr_${randomBytes(6).toString('hex')}`,
+    kind: 'undo',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    undoes: r.id,
+    undoneBy: null,
+    before: r.after,
+    after: r.before,
+    // Undoing a merge says the two are two: consolidation does not merge them again.
+    binds: { apart: [[fromId, intoId]], pinned: [] },
+  };
+  const members = r.before.members ?? { articles: [], events: [], earlier: [] };
+  await ctx.store.commitStoryUnmerge({
+    from: { record: storyRecord(from), state: serialiseStory(from) },
+    into: { record: storyRecord(into), state: serialiseStory(into) },
+    ...members,
+    correction: record,
+    messages: buildCorrectionMessages(record, [], ctx.now(), storyRecord(from)),
+  });
+  ctx.stories.applyUnmerge(from, into);
+  return record;
 }
 
 /**
@@ -81,12 +185,12 @@ export async function applyCorrection(
  * correction); an event since merged away is bound as the event it went into.
  */
 export async function activeBinds(
-  store: Pick<Corrections, 'listCorrections'> & Pick<Store, 'mergedInto'>,
+  store: Pick<Corrections, 'listCorrections'> & Pick<Store, 'mergedInto' | 'storyMergedInto'>,
 ): Promise<CorrectionRecord['binds']> {
   const apart: [string, string][] = [];
   const pinned: SentenceKey[] = [];
   const PAGE = 500;
-  const now = async (id: string) => (await store.mergedInto(id)) ?? id;
+  const now = async (id: string) => (id.startsWith('st_') ? await store.storyMergedInto(id) : await store.mergedInto(id)) ?? id;
   for (let offset = 0; ; offset += PAGE) {
     const { corrections } = await store.listCorrections(PAGE, offset);
     for (const c of corrections) {
@@ -107,7 +211,7 @@ interface Planned {
 
 async function planChange(
   ctx: ConsolidationContext,
-  req: Exclude<CorrectionRequest, { kind: 'undo' }>,
+  req: Exclude<CorrectionRequest, { kind: 'undo' | 'merge-stories' }>,
   author: CorrectionAuthor,
 ): Promise<Planned> {
   const id = `cr_${randomBytes(6).toString('hex')}`;
@@ -213,6 +317,7 @@ async function planUndo(ctx: ConsolidationContext, correction: string, author: C
   const r = await ctx.store.getCorrection(correction);
   if (!r) throw new StrandError('STRAND_NOT_FOUND', `no correction ${correction}`);
   if (r.kind === 'undo') throw conflict(`${r.id} is an undo; make the correction again instead`);
+  if (r.kind === 'merge-stories') throw conflict(`${r.id} merged stories`);
   if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
   // Only what the correction left may be put back: a later change would be lost.
   for (const [id, img] of Object.entries(r.after.events)) {

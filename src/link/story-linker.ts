@@ -71,6 +71,8 @@ export class StoryLinker {
   private names = new Map<string, number>();
   /** Merged-away story → the story it went into. */
   private redirects = new Map<string, string>();
+  /** Pairs of stories an analyst kept apart (`a\nb`, ordered), never merged by consolidation. */
+  private apart = new Set<string>();
 
   constructor(private readonly o: StoryOptions) {
     this.index = new CandidateIndex(o.postingLimit);
@@ -169,7 +171,7 @@ export class StoryLinker {
       const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
       if (s.dense) for (const x of this.centroids.nearest(Float32Array.from(s.dense), this.o.maxCandidates)) others.add(x);
       for (const other of others) {
-        if (other === id || gone.has(other)) continue;
+        if (other === id || gone.has(other) || this.apart.has(pairKey(id, other))) continue;
         const t = this.stories.get(other);
         if (!t) continue;
         const gap = Math.max(
@@ -195,8 +197,29 @@ export class StoryLinker {
     return merged;
   }
 
+  /** Stories an analyst's corrections keep apart (link/corrections.ts); pairs of other ids are ignored. */
+  setApart(pairs: readonly (readonly [string, string])[]): void {
+    this.apart = new Set(pairs.map(([a, b]) => pairKey(a, b)));
+  }
+
+  /** Applies the committed undo of a story merge: `from` is back, `into` as it was. */
+  applyUnmerge(from: StoryState, into: StoryState): void {
+    this.redirects.delete(from.id);
+    for (const s of [from, into]) {
+      this.stories.set(s.id, s);
+      this.register(s);
+      this.clock = Math.max(this.clock, s.touched);
+    }
+  }
+
   /** Applies a committed story merge. */
   applyMerge(merged: StoryState, from: string): void {
+    for (const pair of [...this.apart]) {
+      const [a, b] = pair.split('\n') as [string, string];
+      if (a !== from && b !== from) continue;
+      this.apart.delete(pair);
+      this.apart.add(pairKey(a === from ? merged.id : a, b === from ? merged.id : b));
+    }
     this.redirects.set(from, merged.id);
     this.stories.delete(from);
     this.index.remove(from);
@@ -277,4 +300,8 @@ function cosineTo(v: Vector, s: StoryState): number {
     for (let i = 0; i < d.values.length; i++) dot += d.values[i]! * s.dense[i]!;
   }
   return dot / s.norm;
+}
+
+function pairKey(a: string, b: string): string {
+  return a < b ? `${a}\n${b}` : `${b}\n${a}`;
 }

@@ -14,7 +14,7 @@ import type { StorySplitPlan } from '../link/split-story.js';
 import { type EventState, toRecord } from '../link/event-state.js';
 import type { Article, EmbeddedMention, EventRecord } from '../records.js';
 import type { StoryMergePlan, StoryPlan } from '../link/story-linker.js';
-import { type StoryState, storyRecord } from '../link/story-state.js';
+import { type StoryRecord, type StoryState, storyRecord } from '../link/story-state.js';
 import type { CorrectionRecord, OutboxMessage } from '../store/store.js';
 
 export { NOTIFICATION_TYPES, type NotificationType } from './notification-types.js';
@@ -152,13 +152,19 @@ export function buildStorySplitMessages(plan: StorySplitPlan, now: Date): Outbox
  * The "event.corrected" notification for one analyst's correction or its undo: the events
  * as they now stand, each a part of its own (`event`, `otherEvent`) as erasure expects.
  */
-export function buildCorrectionMessages(c: CorrectionRecord, events: readonly EventRecord[], now: Date): OutboxMessage[] {
+export function buildCorrectionMessages(
+  c: CorrectionRecord,
+  events: readonly EventRecord[],
+  now: Date,
+  story?: StoryRecord,
+): OutboxMessage[] {
   const out: OutboxMessage[] = [];
-  messageSink(out, now)('event.corrected', c.id, {
+  messageSink(out, now)(story ? 'story.corrected' : 'event.corrected', c.id, {
     correction: { id: c.id, kind: c.kind, by: c.by, at: c.at, note: c.note, undoes: c.undoes },
+    ...(story ? { story } : {}),
     ...(events[0] ? { event: events[0] } : {}),
     ...(events[1] ? { otherEvent: events[1] } : {}),
-    removed: Object.entries(c.after.events)
+    removed: Object.entries({ ...c.after.events, ...c.after.stories })
       .filter(([, img]) => img === null)
       .map(([id]) => id),
     mentions: c.mentions.map((m) => ({ article: m.articleId, sentence: m.sentenceIndex })),

@@ -10,6 +10,7 @@ export const NOTIFICATION_TYPES = [
   'story.outlet_added',
   'story.merged',
   'story.split',
+  'story.corrected',
   'article.linked',
 ] as const;
 

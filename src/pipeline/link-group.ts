@@ -5,7 +5,7 @@
  */
 import { describeError } from '../errors.js';
 import { canonicalUrl } from '../ingest/canonical-url.js';
-import { activeBinds } from '../link/corrections.js';
+import { activeBinds, applyBinds } from '../link/corrections.js';
 import { deserialiseEvent, outletRows, serialiseEvent, toRecord } from '../link/event-state.js';
 import type { LinkPlan } from '../link/online-linker.js';
 import { buildMessages, buildStoryMessages } from '../notify/messages.js';
@@ -179,10 +179,9 @@ export async function reloadLinking(ctx: PipelineContext): Promise<void> {
   const snapshot = await ctx.store.loadLinkerState();
   ctx.linker.reset();
   ctx.linker.load(snapshot.events.map(deserialiseEvent), snapshot.tally);
-  const binds = await activeBinds(ctx.store);
-  ctx.linker.setBinds(binds.apart, binds.pinned);
   ctx.stories.reset();
   ctx.stories.load(snapshot.stories.map(deserialiseStory), snapshot.storyMerges);
+  applyBinds(ctx.linker, ctx.stories, await activeBinds(ctx.store));
   ctx.embedder.load?.(snapshot.idf);
   await ctx.copies?.load(ctx.store);
 }

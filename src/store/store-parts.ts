@@ -26,6 +26,7 @@ import type {
   StoryDetail,
   StoryPage,
   StoryQuery,
+  StoryUnmergeCommit,
   Subscription,
   Subscriptions,
 } from './store.js';
@@ -129,6 +130,9 @@ export abstract class StoreParts implements EventQueries, Outbox, Subscriptions,
   }
   getCorrection(id: string): Promise<CorrectionRecord | null> {
     return this.corrections.getCorrection(id);
+  }
+  commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
+    return this.corrections.commitStoryUnmerge(u);
   }
   listFeeds(): Promise<FeedEntry[]> {
     return this.feeds.listFeeds();

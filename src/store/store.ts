@@ -33,12 +33,29 @@ export interface StoryUpdate {
   state: Uint8Array;
 }
 
-/** One consolidation merge of two stories: `from`'s articles and events move to `into`, and `from` leaves. */
+/** One merge of two stories (by consolidation, or an analyst's): `from`'s articles and events move to `into`, and `from` leaves. */
 export interface StoryMergeCommit {
   into: StoryUpdate;
   from: string;
   score: number;
   at: string;
+  messages: OutboxMessage[];
+  /** An analyst's merge: its audit record, kept in the same commit. */
+  correction?: CorrectionRecord;
+}
+
+/**
+ * The undo of an analyst's story merge: `from` comes back with its articles and events, the
+ * stories that had been merged into it point at it again, `into` takes its earlier state.
+ */
+export interface StoryUnmergeCommit {
+  from: StoryUpdate;
+  into: StoryUpdate;
+  articles: string[];
+  events: string[];
+  /** Stories merged into `from` before (re-pointed to `into` by the merge). */
+  earlier: string[];
+  correction: CorrectionRecord;
   messages: OutboxMessage[];
 }
 
@@ -630,18 +647,21 @@ export interface ImageEvent {
 export interface CorrectionImage {
   events: Record<string, ImageEvent | null>;
   links: Link[];
+  /** For a story merge: the two stories (null: not stored), and what `from` held. */
+  stories?: Record<string, { record: StoryRecord; state: string } | null>;
+  members?: { articles: string[]; events: string[]; earlier: string[] };
 }
 
 /** An analyst's correction as the audit log keeps it. */
 export interface CorrectionRecord {
   /** `cr_` and 12 hex digits. */
   id: string;
-  kind: 'merge' | 'split' | 'move' | 'detach' | 'undo';
+  kind: 'merge' | 'split' | 'move' | 'detach' | 'merge-stories' | 'undo';
   /** Who made it: the API key's id, the operator's token, or `local` when nothing is checked. */
   by: string;
   at: string;
   note: string | null;
-  /** The events and sentences it is about (for `merge`: `events` is [from, into]; otherwise [from, to]). */
+  /** The events (or stories) and sentences it is about (for a merge: [from, into]; otherwise [from, to]). */
   events: string[];
   mentions: SentenceKey[];
   /** For an undo: the correction it undid. */
@@ -674,6 +694,8 @@ export interface Corrections {
   /** Corrections, newest first. */
   listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }>;
   getCorrection(id: string): Promise<CorrectionRecord | null>;
+  /** Undoes an analyst's story merge (the merge itself goes through commitStoryMerge with its record). */
+  commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void>;
 }
 
 /** What an API key lets its holder do (api/access.ts). */

@@ -1258,6 +1258,30 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         expect((await activeBinds(store)).apart).toEqual([[b, a]]);
       });
 
+      it('merges two stories and its undo restores both exactly, with their articles and events; consolidation then keeps them apart', async () => {
+        const [x, y] = (await store.listStories({ limit: 2, offset: 0, sort: 'articles' })).stories.map((st) => st.id) as [string, string];
+        const stories = async () => ({
+          list: (await store.listStories({ limit: 1000, offset: 0 })).stories,
+          details: [await store.getStory(x), await store.getStory(y)],
+          articles: await Promise.all(demo.map(async (a) => (await store.getArticle(a.id))?.article.story)),
+          events: (await store.listEvents({ limit: 1000, offset: 0 })).events.map((e) => [e.id, e.story]),
+          states: (await store.loadLinkerState()).stories.map((b) => Buffer.from(b).toString('base64')).sort(),
+          counts: await store.counts(),
+        });
+        const before = await stories();
+        const c = await applyCorrection(rt, { kind: 'merge-stories', from: y, into: x }, { by: 'local', note: 'one thread' });
+        expect(await store.storyMergedInto(y)).toBe(x);
+        expect((await store.getStory(x))!.articles.length).toBe(before.details[0]!.articles.length + before.details[1]!.articles.length);
+        const restarted = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        await applyCorrection(restarted, { kind: 'undo', correction: c.id }, { by: 'local', note: null });
+        expect(await stories()).toEqual(before);
+        expect((await activeBinds(store)).apart).toEqual([[y, x]]);
+        expect((await store.listCorrections(5, 0)).corrections.map((r) => [r.kind, r.undoneBy !== null])).toEqual([
+          ['undo', false],
+          ['merge-stories', true],
+        ]);
+      });
+
       it('splits sentences off into a new event that consolidation never merges back, and refuses what it cannot do', async () => {
         const [a, b] = await pair();
         const mentions = (await store.getEvent(a))!.mentions

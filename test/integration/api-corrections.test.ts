@@ -89,6 +89,19 @@ describe('corrections through the API', () => {
     expect([again.statusCode, again.json().error.code]).toEqual([409, 'STRAND_CORRECTION_CONFLICT']);
   });
 
+  it('merges two stories and undoes it, notifying story.corrected', async () => {
+    const [x, y] = (await app.inject({ url: '/api/stories?sort=articles&limit=2' })).json().stories.map((st: { id: string }) => st.id);
+    const made = await correct({ kind: 'merge-stories', from: y, into: x });
+    expect(made.json()).toMatchObject({ kind: 'merge-stories', events: [y, x] });
+    expect((await app.inject({ url: `/api/stories/${y}` })).statusCode).toBe(308);
+    const wrongIds = await correct({ kind: 'merge-stories', from: 'ev_0000000000000000', into: x });
+    expect([wrongIds.statusCode, wrongIds.json().error.message]).toEqual([400, expect.stringMatching(/takes story ids/)]);
+    await app.inject({ method: 'POST', url: `/api/corrections/${made.json().id}/undo`, headers: manage });
+    expect((await app.inject({ url: `/api/stories/${y}` })).statusCode).toBe(200);
+    const types = (await rt.store.notificationsAfter(0, 10_000)).items.filter((n) => n.type === 'story.corrected');
+    expect(types.map((n) => JSON.parse(n.body).data.correction.kind)).toEqual(['merge-stories', 'undo']);
+  });
+
   it('needs a key with the manage scope to correct, and none to read the log', async () => {
     const [a, b] = await biggest();
     expect((await app.inject({ method: 'POST', url: '/api/corrections', payload: { kind: 'merge', from: b, into: a } })).statusCode).toBe(

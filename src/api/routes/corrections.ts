@@ -15,6 +15,7 @@ export type ApplyCorrection = (req: CorrectionRequest, author: CorrectionAuthor)
 
 const TAGS = ['corrections'];
 const eventId = { type: 'string', pattern: '^ev_[0-9a-f]{16}$' } as const;
+const eventOrStory = { type: 'string', pattern: '^(ev|st)_[0-9a-f]{16}$' } as const;
 const sentenceRef = {
   type: 'object',
   additionalProperties: false,
@@ -28,11 +29,15 @@ const summarySchema = {
   type: 'object',
   properties: {
     id: str,
-    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'undo'] },
+    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'undo'] },
     by: { ...str, description: 'The API key (or server token) that made it; local when the server checks no one.' },
     at: str,
     note: nullableStr,
-    events: { type: 'array', items: str, description: 'merge: [from, into]; otherwise [from, to].' },
+    events: {
+      type: 'array',
+      items: str,
+      description: 'The events (stories for merge-stories): for a merge [from, into]; otherwise [from, to].',
+    },
     mentions: { type: 'array', items: sentenceOut },
     undoes: nullableStr,
     undoneBy: nullableStr,
@@ -98,9 +103,9 @@ export const correctionRoutes: RoutePlugin<{ store: Corrections; apply: ApplyCor
           type: 'object',
           additionalProperties: false,
           properties: {
-            kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach'] },
-            from: eventId,
-            into: eventId,
+            kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories'] },
+            from: eventOrStory,
+            into: eventOrStory,
             to: eventId,
             mentions: { type: 'array', items: sentenceRef, minItems: 1, maxItems: 1000 },
             note,
@@ -116,10 +121,15 @@ export const correctionRoutes: RoutePlugin<{ store: Corrections; apply: ApplyCor
       const need = (what: string, v: unknown) => {
         if (v === undefined) throw new StrandError('STRAND_REQUEST_INVALID', `${b.kind} needs ${what}`);
       };
+      const prefix = b.kind === 'merge-stories' ? 'st_' : 'ev_';
+      for (const id of [b.from, b.into]) {
+        if (id !== undefined && !id.startsWith(prefix))
+          throw new StrandError('STRAND_REQUEST_INVALID', `${b.kind} takes ${prefix === 'st_' ? 'story' : 'event'} ids, not ${id}`);
+      }
       let request: CorrectionRequest;
-      if (b.kind === 'merge') {
+      if (b.kind === 'merge' || b.kind === 'merge-stories') {
         need('into', b.into);
-        request = { kind: 'merge', from: b.from, into: b.into! };
+        request = { kind: b.kind, from: b.from, into: b.into! };
       } else {
         need('mentions', b.mentions);
         if (b.kind === 'move') need('to', b.to);

@@ -3,7 +3,7 @@
  * records in a hash in the order made, the undo of each kept beside it.
  */
 import { StrandError } from '../../errors.js';
-import type { CorrectionCommit, CorrectionRecord, Corrections } from '../store.js';
+import type { CorrectionCommit, CorrectionRecord, Corrections, StoryUnmergeCommit } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 
@@ -15,7 +15,12 @@ export class RedisCorrections implements Corrections {
     private readonly redis: RedisClient,
     private readonly k: Keyspace,
     private readonly commit: CorrectionScript,
+    private readonly unmerge: (u: StoryUnmergeCommit) => Promise<void>,
   ) {}
+
+  async commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
+    await this.unmerge(u);
+  }
 
   async commitCorrection(c: CorrectionCommit): Promise<void> {
     await this.commit(c);

@@ -18,6 +18,7 @@ import type { Article, Mention } from '../../records.js';
 import type {
   ArticleCommit,
   CorrectionCommit,
+  StoryUnmergeCommit,
   CommitResult,
   StoryMember,
   StoryMergeCommit,
@@ -64,6 +65,7 @@ interface Scripts {
   fanOut: Script;
   putSubscription: Script;
   commitCorrection: Script;
+  commitStoryUnmerge: Script;
 }
 
 /** Options for a Redis store. */
@@ -139,12 +141,18 @@ export class RedisStore extends StoreParts implements Store {
       fanOut: defineScript(redis, 'fan-out'),
       putSubscription: defineScript(redis, 'put-subscription'),
       commitCorrection: defineScript(redis, 'commit-correction'),
+      commitStoryUnmerge: defineScript(redis, 'commit-story-unmerge'),
     };
     this.queries = new RedisEventQueries(redis, k);
     this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
     this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
     this.apiKeys = new RedisApiKeys(redis, k);
-    this.corrections = new RedisCorrections(redis, k, (c) => this.runCorrection(c));
+    this.corrections = new RedisCorrections(
+      redis,
+      k,
+      (c) => this.runCorrection(c),
+      (u) => this.runStoryUnmerge(u),
+    );
     this.feeds = new RedisFeedRegistry(redis, k, this.scripts.setIfUnchanged);
     this.retention = new RedisRetention(redis, k, this.scripts.eraseArticle);
   }
@@ -257,9 +265,11 @@ export class RedisStore extends StoreParts implements Store {
       into: storyPayload(m.into, states),
       merge: `${m.into.record.id}\n${m.score}\n${m.at}`,
       messages: messagePayload(m.messages),
+      correction: m.correction?.id ?? null,
     };
     try {
-      await this.scripts.commitStoryMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!);
+      const record = m.correction ? [JSON.stringify(m.correction)] : [];
+      await this.scripts.commitStoryMerge(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, ...record);
     } catch (err) {
       throw writeError(err, `cannot merge story ${m.from} into ${m.into.record.id}`);
     }
@@ -361,6 +371,27 @@ export class RedisStore extends StoreParts implements Store {
       await this.scripts.commitSplit(this.k.counts, this.k.prefix, JSON.stringify(payload), states[0]!, states[1]!, ERASED_LABEL);
     } catch (err) {
       throw writeError(err, `cannot split ${sp.into.record.id} off ${sp.from.record.id}`);
+    }
+  }
+
+  /** The undo of an analyst's story merge through commit-story-unmerge.lua (called by the corrections part). */
+  private async runStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = {
+      fence: this.fence,
+      from: storyPayload(u.from, states),
+      into: storyPayload(u.into, states),
+      articles: u.articles,
+      events: u.events,
+      earlier: u.earlier,
+      id: u.correction.id,
+      undoes: u.correction.undoes,
+      messages: messagePayload(u.messages),
+    };
+    try {
+      await this.scripts.commitStoryUnmerge(this.k.counts, this.k.prefix, JSON.stringify(payload), JSON.stringify(u.correction), ...states);
+    } catch (err) {
+      throw writeError(err, `cannot undo the merge of story ${u.from.record.id}`);
     }
   }
 

@@ -4,18 +4,22 @@
  * JSON document per correction in the order made.
  */
 import type Database from 'better-sqlite3';
-import type { CorrectionCommit, CorrectionRecord, Corrections, EventUpdate } from '../store.js';
+import type { CorrectionCommit, CorrectionRecord, Corrections, EventUpdate, StoryUnmergeCommit, StoryUpdate } from '../store.js';
 import type { SqliteOutbox } from './outbox.js';
 import type { Write } from './when-free.js';
 
 export class SqliteCorrections implements Corrections {
   private readonly tx: (c: CorrectionCommit) => void;
+  private readonly unmergeTx: (u: StoryUnmergeCommit) => void;
+  /** Keeps a record (inside the caller's transaction), marking the correction it undoes. */
+  readonly record: (r: CorrectionRecord) => void;
 
   constructor(
     private readonly db: Database.Database,
     private readonly write: Write,
     outbox: Pick<SqliteOutbox, 'queue'>,
     upsertEvent: (u: EventUpdate) => void,
+    upsertStory: (u: StoryUpdate) => void,
   ) {
     const st = {
       dropLinks: db.prepare('DELETE FROM links WHERE article_id = ? AND sentence_idx = ?'),
@@ -25,6 +29,10 @@ export class SqliteCorrections implements Corrections {
       setLabel: db.prepare('UPDATE events SET label = ? WHERE id = ?'),
       insRecord: db.prepare('INSERT INTO corrections (id, data) VALUES (?, ?)'),
       undone: db.prepare(`UPDATE corrections SET data = json_set(data, '$.undoneBy', ?) WHERE id = ?`),
+    };
+    this.record = (r) => {
+      st.insRecord.run(r.id, JSON.stringify(r));
+      if (r.undoes) st.undone.run(r.id, r.undoes);
     };
     this.tx = db.transaction((c: CorrectionCommit) => {
       for (const k of c.sentences) st.dropLinks.run(k.articleId, k.sentenceIndex);
@@ -37,14 +45,30 @@ export class SqliteCorrections implements Corrections {
         upsertEvent(u);
         st.setLabel.run(u.record.label, u.record.id);
       }
-      st.insRecord.run(c.record.id, JSON.stringify(c.record));
-      if (c.record.undoes) st.undone.run(c.record.id, c.record.undoes);
+      this.record(c.record);
       outbox.queue(c.messages);
+    });
+    const storyOf = db.prepare('UPDATE articles SET story_id = ? WHERE id = ?');
+    const eventStory = db.prepare('UPDATE events SET story_id = ? WHERE id = ?');
+    this.unmergeTx = db.transaction((u: StoryUnmergeCommit) => {
+      const from = u.from.record.id;
+      db.prepare('DELETE FROM story_merges WHERE from_id = ?').run(from);
+      for (const a of u.articles) storyOf.run(from, a);
+      for (const e of u.events) eventStory.run(from, e);
+      for (const x of u.earlier) db.prepare('UPDATE story_merges SET into_id = ? WHERE from_id = ?').run(from, x);
+      upsertStory(u.from);
+      upsertStory(u.into);
+      this.record(u.correction);
+      outbox.queue(u.messages);
     });
   }
 
   async commitCorrection(c: CorrectionCommit): Promise<void> {
     await this.write(`cannot commit correction ${c.record.id}`, () => this.tx(c));
+  }
+
+  async commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
+    await this.write(`cannot undo the merge of story ${u.from.record.id}`, () => this.unmergeTx(u));
   }
 
   async listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }> {

@@ -127,7 +127,13 @@ export class SqliteStore extends StoreParts implements Store {
     this.outbox = new SqliteOutbox(db, this.write);
     this.subscriptions = new SqliteSubscriptions(db, this.write);
     this.apiKeys = new SqliteApiKeys(db, this.write);
-    this.corrections = new SqliteCorrections(db, this.write, this.outbox, (u) => this.upsertEvent(u));
+    this.corrections = new SqliteCorrections(
+      db,
+      this.write,
+      this.outbox,
+      (u) => this.upsertEvent(u),
+      (u) => this.upsertStory(u),
+    );
     this.feeds = new SqliteFeedRegistry(db, this.write);
     this.retention = new SqliteRetention(db, this.write);
     this.st = {
@@ -431,6 +437,7 @@ export class SqliteStore extends StoreParts implements Store {
         this.db
           .prepare('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)')
           .run(m.from, into, m.score, m.at);
+        if (m.correction) this.corrections.record(m.correction);
         this.outbox.queue(m.messages);
       }),
     );

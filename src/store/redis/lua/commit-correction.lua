@@ -32,6 +32,7 @@ for _, l in ipairs(c.links) do
 end
 if delta ~= 0 then redis.call('HINCRBY', counts, 'links', delta) end
 for _, id in ipairs(c.removed) do
+  leave_story(P, id)
   if redis.call('DEL', P .. ':event:' .. id) == 1 then redis.call('HINCRBY', counts, 'events', -1) end
   redis.call('ZREM', P .. ':events', id)
   redis.call('DEL', P .. ':event-links:' .. id)
@@ -40,9 +41,6 @@ for _, e in ipairs(c.events) do
   put_event(P, counts, e, ARGV[3 + e.state])
   redis.call('HSET', P .. ':event:' .. e.id, 'label', e.label)
 end
-redis.call('HSET', P .. ':corrections', c.id, ARGV[3])
-redis.call('ZADD', P .. ':correction-order', redis.call('INCR', P .. ':correction-seq'), c.id)
--- Kept apart from the record, which stays byte for byte as written.
-if c.undoes ~= cjson.null then redis.call('HSET', P .. ':correction-undone', c.undoes, c.id) end
+keep_correction(P, c.id, ARGV[3], c.undoes)
 queue_messages(P, c.messages)
 return delta

@@ -37,6 +37,7 @@ if redis.call('EXISTS', fromMessages) == 1 then
   redis.call('SUNIONSTORE', intoMessages, intoMessages, fromMessages)
   redis.call('DEL', fromMessages)
 end
+leave_story(P, from)
 if redis.call('DEL', P .. ':event:' .. from) == 1 then redis.call('HINCRBY', counts, 'events', -1) end
 redis.call('ZREM', P .. ':events', from)
 put_event(P, counts, m.into, ARGV[3])

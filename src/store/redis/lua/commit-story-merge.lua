@@ -5,6 +5,7 @@
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  JSON {fence, from, into: story {id, record, label, lastSeen, state}, merge: "into\nscore\nat", messages}
 -- ARGV[3]  the surviving story's state (binary)
+-- ARGV[4]  for an analyst's merge: its correction record, JSON (m.correction is its id)
 -- returns  1
 local P = ARGV[1]
 local counts = KEYS[1]
@@ -33,5 +34,6 @@ end
 redis.call('DEL', earlier)
 redis.call('HSET', P .. ':story-merges', from, m.merge)
 redis.call('SADD', P .. ':story-merged-into:' .. into, from)
+if m.correction ~= nil and m.correction ~= cjson.null then keep_correction(P, m.correction, ARGV[4], cjson.null) end
 queue_messages(P, m.messages)
 return 1

@@ -30,6 +30,14 @@ local function queue_messages(P, messages)
   end
 end
 
+-- Keeps a correction's record in the audit log, in the order made; an undo marks the
+-- correction it undid (beside the record, which stays byte for byte as written).
+local function keep_correction(P, id, record, undoes)
+  redis.call('HSET', P .. ':corrections', id, record)
+  redis.call('ZADD', P .. ':correction-order', redis.call('INCR', P .. ':correction-seq'), id)
+  if undoes ~= cjson.null and undoes ~= nil then redis.call('HSET', P .. ':correction-undone', undoes, id) end
+end
+
 -- The story a story id now lives in, following story merges.
 local function current_story(P, id)
   local seen = 0
@@ -39,6 +47,15 @@ local function current_story(P, id)
     id = string.sub(rec, 1, string.find(rec, '\n', 1, true) - 1)
     seen = seen + 1
   end
+end
+
+-- Takes an event that is leaving (merged away, removed by a correction) out of its story's
+-- event set, so that the story counts only the events it holds.
+local function leave_story(P, id)
+  local rec = redis.call('HGET', P .. ':event:' .. id, 'record')
+  if not rec then return end
+  local story = cjson.decode(rec).story
+  if story and story ~= cjson.null then redis.call('SREM', P .. ':story-events:' .. current_story(P, story), id) end
 end
 
 -- Writes an event's record, outlets and linker state; counts it when new. The label is
