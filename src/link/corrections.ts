@@ -1,7 +1,7 @@
 /**
  * Analysts' corrections: merge two events, split some mentions off into a new event, move
- * mentions to another event, detach one into an event of its own, merge two stories, and
- * undo any of them.
+ * mentions to another event, detach one into an event of its own, merge two stories, divide
+ * one, and undo any of them.
  * Each runs in the linker's turn (it changes the linker's memory as well as the store), is
  * one commit with its audit record and its notification, and binds the linker afterwards:
  * events a correction set apart are never merged again by consolidation, and sentences it
@@ -36,6 +36,7 @@ import {
 } from './event-state.js';
 import { ERASED_LABEL, labelFrom, relabelAfter } from './labels.js';
 import { splitEventId } from './split-event.js';
+import { splitStoryId, storyOf } from './split-story.js';
 import { deserialiseStory, serialiseStory, type StoryState, storyRecord } from './story-state.js';
 
 /** What an analyst asks for. */
@@ -45,6 +46,7 @@ export type CorrectionRequest =
   | { kind: 'split'; from: string; mentions: SentenceKey[] }
   | { kind: 'detach'; from: string; mentions: SentenceKey[] }
   | { kind: 'merge-stories'; from: string; into: string }
+  | { kind: 'split-story'; from: string; articles: string[] }
   | { kind: 'undo'; correction: string };
 
 /** Who asks, and why. */
@@ -66,7 +68,9 @@ export async function applyCorrection(
 ): Promise<CorrectionRecord> {
   const undoing = req.kind === 'undo' ? await ctx.store.getCorrection(req.correction) : null;
   if (req.kind === 'merge-stories') return bound(ctx, await mergeStories(ctx, req.from, req.into, author));
+  if (req.kind === 'split-story') return bound(ctx, await splitStory(ctx, req.from, req.articles, author));
   if (undoing?.kind === 'merge-stories') return bound(ctx, await unmergeStories(ctx, undoing, author));
+  if (undoing?.kind === 'split-story') return bound(ctx, await unsplitStory(ctx, undoing, author));
   const outcome = req.kind === 'undo' ? await planUndo(ctx, req.correction, author) : await planChange(ctx, req, author);
   await ctx.store.commitCorrection({
     record: outcome.record,
@@ -144,6 +148,123 @@ async function mergeStories(
   return record;
 }
 
+/** An analyst's division of a story: the given articles, and the events first reported in them, make a new story. */
+async function splitStory(
+  ctx: ConsolidationContext,
+  fromId: string,
+  articles: readonly string[],
+  author: CorrectionAuthor,
+): Promise<CorrectionRecord> {
+  const story = ctx.stories.story(fromId);
+  if (!story) throw new StrandError('STRAND_NOT_FOUND', `no story ${fromId} (merged away, or never stored)`);
+  const members = await ctx.store.storyMembers(fromId);
+  const wanted = new Set(articles);
+  if (wanted.size !== articles.length) throw invalid('an article is named twice');
+  const moving = members.filter((m) => wanted.has(m.articleId));
+  const missing = articles.filter((a) => !moving.some((m) => m.articleId === a));
+  if (missing.length) throw invalid(`not filed under ${fromId}: ${missing.join(', ')}`);
+  if (moving.length === members.length) throw invalid(`that is every article of ${fromId}`);
+  if (members.some((m) => m.vector === null))
+    throw conflict(`an article of ${fromId} has had its text erased; the story can no longer be divided`);
+  const input = (ms: typeof members) => ms.map((m) => ({ ...m, vector: m.vector! }));
+  const kept = storyOf(fromId, input(members.filter((m) => !wanted.has(m.articleId))), ctx.config.link.centroidTerms);
+  kept.label = story.label;
+  kept.version = story.version + 1;
+  const split = storyOf(splitStoryId(fromId, moving[0]!.articleId), input(moving), ctx.config.link.centroidTerms);
+  if (ctx.stories.story(split.id)) throw conflict(`${split.id} exists already (the same articles were split off before)`);
+  // An event goes with the article that first reported it.
+  const events: EventState[] = [];
+  const eventsBefore: EventState[] = [];
+  for (const e of ctx.linker.eventsInStory(fromId, (x) => ctx.stories.resolve(x))) {
+    const first = (await ctx.store.linkedMentions(e.id))[0];
+    if (first && wanted.has(first.mention.articleId)) {
+      eventsBefore.push(e);
+      events.push(ctx.linker.movedState(e.id, split.id));
+    }
+  }
+  await applyStoredLabels(ctx, events);
+  const storyImage = (st: StoryState) => ({ record: storyRecord(st), state: Buffer.from(serialiseStory(st)).toString('base64') });
+  const none = new Map<string, string>();
+  const record: CorrectionRecord = {
+    id: `cr_${randomBytes(6).toString('hex')}`,
+    kind: 'split-story',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    events: [fromId, split.id],
+    mentions: [],
+    undoes: null,
+    undoneBy: null,
+    before: {
+      events: Object.fromEntries(eventsBefore.map((e) => [e.id, image(e, none)])),
+      links: [],
+      stories: { [fromId]: storyImage(story), [split.id]: null },
+      members: { articles: [...articles], events: events.map((e) => e.id), earlier: [] },
+    },
+    after: {
+      events: Object.fromEntries(events.map((e) => [e.id, image(e, none)])),
+      links: [],
+      stories: { [fromId]: storyImage(kept), [split.id]: storyImage(split) },
+      members: { articles: [...articles], events: events.map((e) => e.id), earlier: [] },
+    },
+    binds: { apart: [[fromId, split.id]], pinned: [] },
+  };
+  await ctx.store.commitStorySplit({
+    from: { record: storyRecord(kept), state: serialiseStory(kept) },
+    into: { record: storyRecord(split), state: serialiseStory(split) },
+    moved: moving.map((m) => m.articleId),
+    events: events.map(update),
+    score: 0,
+    at: record.at,
+    messages: buildCorrectionMessages(record, [], ctx.now(), storyRecord(split)),
+    correction: record,
+  });
+  ctx.stories.applySplit({ kept, split, moved: moving.map((m) => m.articleId), score: 0 });
+  ctx.linker.applyMoves(events);
+  return record;
+}
+
+/** The undo of an analyst's story split: the articles and events back, the new story gone. */
+async function unsplitStory(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
+  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
+  const [fromId, intoId] = r.events as [string, string];
+  const after = r.after.stories ?? {};
+  for (const id of [fromId, intoId])
+    if (ctx.stories.story(id)?.version !== after[id]?.record.version)
+      throw conflict(`${id} changed since ${r.id} (new articles, or consolidation); undoing would lose that`);
+  for (const [id, img] of Object.entries(r.after.events))
+    if (ctx.linker.event(id)?.version !== img?.record.version) throw conflict(`${id} changed since ${r.id}; undoing would lose that`);
+  const from = deserialiseStory(Buffer.from(r.before.stories![fromId]!.state, 'base64'));
+  const events = Object.values(r.before.events)
+    .filter((img): img is ImageEvent => img !== null)
+    .map((img) => deserialiseEvent(Buffer.from(img.state, 'base64')));
+  await applyStoredLabels(ctx, events);
+  const record: CorrectionRecord = {
+    ...r,
+    id: `cr_${randomBytes(6).toString('hex')}`,
+    kind: 'undo',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    undoes: r.id,
+    undoneBy: null,
+    before: r.after,
+    after: r.before,
+    binds: { apart: [], pinned: [] },
+  };
+  await ctx.store.commitStoryUnsplit({
+    from: { record: storyRecord(from), state: serialiseStory(from) },
+    into: intoId,
+    moved: r.before.members?.articles ?? [],
+    events: events.map(update),
+    correction: record,
+    messages: buildCorrectionMessages(record, [], ctx.now(), storyRecord(from)),
+  });
+  ctx.stories.applyUnsplit(from, intoId);
+  ctx.linker.applyMoves(events);
+  return record;
+}
+
 /** The undo of an analyst's story merge: the absorbed story back as it was, the survivor too. */
 async function unmergeStories(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
   if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
@@ -211,7 +332,7 @@ interface Planned {
 
 async function planChange(
   ctx: ConsolidationContext,
-  req: Exclude<CorrectionRequest, { kind: 'undo' | 'merge-stories' }>,
+  req: Exclude<CorrectionRequest, { kind: 'undo' | 'merge-stories' | 'split-story' }>,
   author: CorrectionAuthor,
 ): Promise<Planned> {
   const id = `cr_${randomBytes(6).toString('hex')}`;
@@ -317,7 +438,7 @@ async function planUndo(ctx: ConsolidationContext, correction: string, author: C
   const r = await ctx.store.getCorrection(correction);
   if (!r) throw new StrandError('STRAND_NOT_FOUND', `no correction ${correction}`);
   if (r.kind === 'undo') throw conflict(`${r.id} is an undo; make the correction again instead`);
-  if (r.kind === 'merge-stories') throw conflict(`${r.id} merged stories`);
+  if (r.kind === 'merge-stories' || r.kind === 'split-story') throw conflict(`${r.id} changed stories`);
   if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
   // Only what the correction left may be put back: a later change would be lost.
   for (const [id, img] of Object.entries(r.after.events)) {

@@ -80,12 +80,7 @@ export function planStorySplit(story: StoryState, members: readonly StoryMemberI
   const opener = members.findIndex((m) => storyIdFor(m.articleId) === story.id);
   const keepSide = opener >= 0 ? division.side[opener]! : p0.length !== p1.length ? (p0.length > p1.length ? 0 : 1) : division.side[0]!;
   const [keep, move] = keepSide === 0 ? [p0, p1] : [p1, p0];
-  const build = (id: string, ms: readonly StoryMemberInput[]): StoryState => {
-    const s = { ...openStory({ ...ms[0]!, id: ms[0]!.articleId }), id };
-    for (const m of ms) addArticle(s, { ...m, id: m.articleId }, o.centroidTerms);
-    s.examined = s.articleCount;
-    return s;
-  };
+  const build = (id: string, ms: readonly StoryMemberInput[]) => storyOf(id, ms, o.centroidTerms);
   const kept = build(story.id, keep);
   if (opener >= 0) kept.label = story.label;
   kept.version = story.version + 1;
@@ -94,6 +89,14 @@ export function planStorySplit(story: StoryState, members: readonly StoryMemberI
 }
 
 /** The id of the story split off `from`, starting with article `first`: the same split gives the same id. */
+/** A story rebuilt from its articles (oldest first), marked examined. */
+export function storyOf(id: string, ms: readonly StoryMemberInput[], centroidTerms: number): StoryState {
+  const s = { ...openStory({ ...ms[0]!, id: ms[0]!.articleId }), id };
+  for (const m of ms) addArticle(s, { ...m, id: m.articleId }, centroidTerms);
+  s.examined = s.articleCount;
+  return s;
+}
+
 export function splitStoryId(from: string, first: string): string {
   return `st_${createHash('sha256').update(`split\n${from}\n${first}`).digest('hex').slice(0, 16)}`;
 }

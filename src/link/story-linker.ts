@@ -212,6 +212,15 @@ export class StoryLinker {
     }
   }
 
+  /** Applies the committed undo of a story split: `into` leaves, `from` is as it was. */
+  applyUnsplit(from: StoryState, into: string): void {
+    this.stories.delete(into);
+    this.index.remove(into);
+    this.centroids.remove(into);
+    this.stories.set(from.id, from);
+    this.register(from);
+  }
+
   /** Applies a committed story merge. */
   applyMerge(merged: StoryState, from: string): void {
     for (const pair of [...this.apart]) {

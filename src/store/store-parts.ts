@@ -27,6 +27,7 @@ import type {
   StoryPage,
   StoryQuery,
   StoryUnmergeCommit,
+  StoryUnsplitCommit,
   Subscription,
   Subscriptions,
 } from './store.js';
@@ -133,6 +134,9 @@ export abstract class StoreParts implements EventQueries, Outbox, Subscriptions,
   }
   commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
     return this.corrections.commitStoryUnmerge(u);
+  }
+  commitStoryUnsplit(u: StoryUnsplitCommit): Promise<void> {
+    return this.corrections.commitStoryUnsplit(u);
   }
   listFeeds(): Promise<FeedEntry[]> {
     return this.feeds.listFeeds();

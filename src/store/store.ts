@@ -73,6 +73,19 @@ export interface StorySplitCommit {
   score: number;
   at: string;
   messages: OutboxMessage[];
+  /** An analyst's split: its audit record, kept in the same commit. */
+  correction?: CorrectionRecord;
+}
+
+/** The undo of an analyst's story split: the moved articles and events go back to `from`, the new story `into` leaves. */
+export interface StoryUnsplitCommit {
+  from: StoryUpdate;
+  into: string;
+  moved: string[];
+  /** The events that go back, as they were (their story is `from` again). */
+  events: EventUpdate[];
+  correction: CorrectionRecord;
+  messages: OutboxMessage[];
 }
 
 /** One article of a story as consolidation reads it back to divide the story. */
@@ -656,7 +669,7 @@ export interface CorrectionImage {
 export interface CorrectionRecord {
   /** `cr_` and 12 hex digits. */
   id: string;
-  kind: 'merge' | 'split' | 'move' | 'detach' | 'merge-stories' | 'undo';
+  kind: 'merge' | 'split' | 'move' | 'detach' | 'merge-stories' | 'split-story' | 'undo';
   /** Who made it: the API key's id, the operator's token, or `local` when nothing is checked. */
   by: string;
   at: string;
@@ -696,6 +709,8 @@ export interface Corrections {
   getCorrection(id: string): Promise<CorrectionRecord | null>;
   /** Undoes an analyst's story merge (the merge itself goes through commitStoryMerge with its record). */
   commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void>;
+  /** Undoes an analyst's story split (the split itself goes through commitStorySplit with its record). */
+  commitStoryUnsplit(u: StoryUnsplitCommit): Promise<void>;
 }
 
 /** What an API key lets its holder do (api/access.ts). */

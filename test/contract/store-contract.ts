@@ -1282,6 +1282,29 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         ]);
       });
 
+      it('divides a story by hand and its undo restores it exactly, with its articles and events', async () => {
+        const [x] = (await store.listStories({ limit: 1, offset: 0, sort: 'articles' })).stories.map((st) => st.id) as [string];
+        const members = await store.storyMembers(x);
+        const leaving = members.slice(-2).map((m) => m.articleId);
+        const snapshot = async () => ({
+          list: (await store.listStories({ limit: 1000, offset: 0 })).stories,
+          story: await store.getStory(x),
+          articles: await Promise.all(demo.map(async (a) => (await store.getArticle(a.id))?.article.story)),
+          events: (await store.listEvents({ limit: 1000, offset: 0 })).events.map((e) => [e.id, e.story, e.version]),
+          states: (await store.loadLinkerState()).stories.map((b) => Buffer.from(b).toString('base64')).sort(),
+          eventStates: (await store.loadLinkerState()).events.map((b) => Buffer.from(b).toString('base64')).sort(),
+          counts: await store.counts(),
+        });
+        const before = await snapshot();
+        const c = await applyCorrection(rt, { kind: 'split-story', from: x, articles: leaving }, { by: 'local', note: null });
+        const into = c.events[1]!;
+        expect((await store.getStory(into))!.articles.map((a) => a.id).sort()).toEqual([...leaving].sort());
+        expect((await store.getStory(x))!.articles).toHaveLength(members.length - 2);
+        const restarted = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        await applyCorrection(restarted, { kind: 'undo', correction: c.id }, { by: 'local', note: null });
+        expect(await snapshot()).toEqual(before);
+      });
+
       it('splits sentences off into a new event that consolidation never merges back, and refuses what it cannot do', async () => {
         const [a, b] = await pair();
         const mentions = (await store.getEvent(a))!.mentions

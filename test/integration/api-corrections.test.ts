@@ -89,7 +89,7 @@ describe('corrections through the API', () => {
     expect([again.statusCode, again.json().error.code]).toEqual([409, 'STRAND_CORRECTION_CONFLICT']);
   });
 
-  it('merges two stories and undoes it, notifying story.corrected', async () => {
+  it('merges two stories and undoes it, divides one, notifying story.corrected', async () => {
     const [x, y] = (await app.inject({ url: '/api/stories?sort=articles&limit=2' })).json().stories.map((st: { id: string }) => st.id);
     const made = await correct({ kind: 'merge-stories', from: y, into: x });
     expect(made.json()).toMatchObject({ kind: 'merge-stories', events: [y, x] });
@@ -98,8 +98,12 @@ describe('corrections through the API', () => {
     expect([wrongIds.statusCode, wrongIds.json().error.message]).toEqual([400, expect.stringMatching(/takes story ids/)]);
     await app.inject({ method: 'POST', url: `/api/corrections/${made.json().id}/undo`, headers: manage });
     expect((await app.inject({ url: `/api/stories/${y}` })).statusCode).toBe(200);
+    const last = (await rt.store.storyMembers(x)).at(-1)!.articleId;
+    const divided = await correct({ kind: 'split-story', from: x, articles: [last] });
+    expect(divided.json()).toMatchObject({ kind: 'split-story', events: [x, expect.stringMatching(/^st_/)] });
+    expect((await rt.store.getStory(divided.json().events[1]))!.articles.map((a) => a.id)).toEqual([last]);
     const types = (await rt.store.notificationsAfter(0, 10_000)).items.filter((n) => n.type === 'story.corrected');
-    expect(types.map((n) => JSON.parse(n.body).data.correction.kind)).toEqual(['merge-stories', 'undo']);
+    expect(types.map((n) => JSON.parse(n.body).data.correction.kind)).toEqual(['merge-stories', 'undo', 'split-story']);
   });
 
   it('needs a key with the manage scope to correct, and none to read the log', async () => {

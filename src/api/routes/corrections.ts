@@ -29,7 +29,7 @@ const summarySchema = {
   type: 'object',
   properties: {
     id: str,
-    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'undo'] },
+    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'split-story', 'undo'] },
     by: { ...str, description: 'The API key (or server token) that made it; local when the server checks no one.' },
     at: str,
     note: nullableStr,
@@ -103,11 +103,18 @@ export const correctionRoutes: RoutePlugin<{ store: Corrections; apply: ApplyCor
           type: 'object',
           additionalProperties: false,
           properties: {
-            kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories'] },
+            kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'split-story'] },
             from: eventOrStory,
             into: eventOrStory,
             to: eventId,
             mentions: { type: 'array', items: sentenceRef, minItems: 1, maxItems: 1000 },
+            articles: {
+              type: 'array',
+              items: { type: 'string', minLength: 1, maxLength: 2048 },
+              minItems: 1,
+              maxItems: 1000,
+              description: 'split-story: the articles that leave for a new story (the events they first reported go with them).',
+            },
             note,
           },
           required: ['kind', 'from'],
@@ -121,7 +128,7 @@ export const correctionRoutes: RoutePlugin<{ store: Corrections; apply: ApplyCor
       const need = (what: string, v: unknown) => {
         if (v === undefined) throw new StrandError('STRAND_REQUEST_INVALID', `${b.kind} needs ${what}`);
       };
-      const prefix = b.kind === 'merge-stories' ? 'st_' : 'ev_';
+      const prefix = b.kind === 'merge-stories' || b.kind === 'split-story' ? 'st_' : 'ev_';
       for (const id of [b.from, b.into]) {
         if (id !== undefined && !id.startsWith(prefix))
           throw new StrandError('STRAND_REQUEST_INVALID', `${b.kind} takes ${prefix === 'st_' ? 'story' : 'event'} ids, not ${id}`);
@@ -130,6 +137,9 @@ export const correctionRoutes: RoutePlugin<{ store: Corrections; apply: ApplyCor
       if (b.kind === 'merge' || b.kind === 'merge-stories') {
         need('into', b.into);
         request = { kind: b.kind, from: b.from, into: b.into! };
+      } else if (b.kind === 'split-story') {
+        need('articles', b.articles);
+        request = { kind: 'split-story', from: b.from, articles: b.articles! };
       } else {
         need('mentions', b.mentions);
         if (b.kind === 'move') need('to', b.to);

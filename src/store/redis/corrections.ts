@@ -3,27 +3,34 @@
  * records in a hash in the order made, the undo of each kept beside it.
  */
 import { StrandError } from '../../errors.js';
-import type { CorrectionCommit, CorrectionRecord, Corrections, StoryUnmergeCommit } from '../store.js';
+import type { CorrectionCommit, CorrectionRecord, Corrections, StoryUnmergeCommit, StoryUnsplitCommit } from '../store.js';
 import type { RedisClient } from './connect.js';
 import type { Keyspace } from './keys.js';
 
-/** How the store turns a commit into a script call (redis-store.ts, which builds every payload). */
-export type CorrectionScript = (c: CorrectionCommit) => Promise<void>;
+/** How the store turns each commit into a script call (redis-store.ts, which builds every payload). */
+export interface CorrectionScripts {
+  commit(c: CorrectionCommit): Promise<void>;
+  unmerge(u: StoryUnmergeCommit): Promise<void>;
+  unsplit(u: StoryUnsplitCommit): Promise<void>;
+}
 
 export class RedisCorrections implements Corrections {
   constructor(
     private readonly redis: RedisClient,
     private readonly k: Keyspace,
-    private readonly commit: CorrectionScript,
-    private readonly unmerge: (u: StoryUnmergeCommit) => Promise<void>,
+    private readonly scripts: CorrectionScripts,
   ) {}
 
-  async commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
-    await this.unmerge(u);
+  async commitCorrection(c: CorrectionCommit): Promise<void> {
+    await this.scripts.commit(c);
   }
 
-  async commitCorrection(c: CorrectionCommit): Promise<void> {
-    await this.commit(c);
+  async commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
+    await this.scripts.unmerge(u);
+  }
+
+  async commitStoryUnsplit(u: StoryUnsplitCommit): Promise<void> {
+    await this.scripts.unsplit(u);
   }
 
   async listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }> {

@@ -19,6 +19,7 @@ import type {
   ArticleCommit,
   CorrectionCommit,
   StoryUnmergeCommit,
+  StoryUnsplitCommit,
   CommitResult,
   StoryMember,
   StoryMergeCommit,
@@ -66,6 +67,7 @@ interface Scripts {
   putSubscription: Script;
   commitCorrection: Script;
   commitStoryUnmerge: Script;
+  commitStoryUnsplit: Script;
 }
 
 /** Options for a Redis store. */
@@ -142,17 +144,17 @@ export class RedisStore extends StoreParts implements Store {
       putSubscription: defineScript(redis, 'put-subscription'),
       commitCorrection: defineScript(redis, 'commit-correction'),
       commitStoryUnmerge: defineScript(redis, 'commit-story-unmerge'),
+      commitStoryUnsplit: defineScript(redis, 'commit-story-unsplit'),
     };
     this.queries = new RedisEventQueries(redis, k);
     this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
     this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
     this.apiKeys = new RedisApiKeys(redis, k);
-    this.corrections = new RedisCorrections(
-      redis,
-      k,
-      (c) => this.runCorrection(c),
-      (u) => this.runStoryUnmerge(u),
-    );
+    this.corrections = new RedisCorrections(redis, k, {
+      commit: (c) => this.runCorrection(c),
+      unmerge: (u) => this.runStoryUnmerge(u),
+      unsplit: (u) => this.runStoryUnsplit(u),
+    });
     this.feeds = new RedisFeedRegistry(redis, k, this.scripts.setIfUnchanged);
     this.retention = new RedisRetention(redis, k, this.scripts.eraseArticle);
   }
@@ -292,6 +294,8 @@ export class RedisStore extends StoreParts implements Store {
       events: sp.events.map((e) => eventPayload(e, states)),
       split: JSON.stringify({ from: sp.from.record.id, articles: sp.moved.length, score: sp.score, at: sp.at }),
       messages: messagePayload(sp.messages),
+      correction: sp.correction?.id ?? null,
+      correctionRecord: sp.correction ? JSON.stringify(sp.correction) : null,
     };
     try {
       await this.scripts.commitStorySplit(this.k.counts, this.k.prefix, JSON.stringify(payload), ...states);
@@ -392,6 +396,26 @@ export class RedisStore extends StoreParts implements Store {
       await this.scripts.commitStoryUnmerge(this.k.counts, this.k.prefix, JSON.stringify(payload), JSON.stringify(u.correction), ...states);
     } catch (err) {
       throw writeError(err, `cannot undo the merge of story ${u.from.record.id}`);
+    }
+  }
+
+  /** The undo of an analyst's story split through commit-story-unsplit.lua (called by the corrections part). */
+  private async runStoryUnsplit(u: StoryUnsplitCommit): Promise<void> {
+    const states: Buffer[] = [];
+    const payload = {
+      fence: this.fence,
+      from: storyPayload(u.from, states),
+      into: u.into,
+      moved: u.moved,
+      events: u.events.map((e) => eventPayload(e, states)),
+      id: u.correction.id,
+      undoes: u.correction.undoes,
+      messages: messagePayload(u.messages),
+    };
+    try {
+      await this.scripts.commitStoryUnsplit(this.k.counts, this.k.prefix, JSON.stringify(payload), JSON.stringify(u.correction), ...states);
+    } catch (err) {
+      throw writeError(err, `cannot undo the split of story ${u.into}`);
     }
   }
 

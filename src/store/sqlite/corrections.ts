@@ -4,13 +4,22 @@
  * JSON document per correction in the order made.
  */
 import type Database from 'better-sqlite3';
-import type { CorrectionCommit, CorrectionRecord, Corrections, EventUpdate, StoryUnmergeCommit, StoryUpdate } from '../store.js';
+import type {
+  CorrectionCommit,
+  CorrectionRecord,
+  Corrections,
+  EventUpdate,
+  StoryUnmergeCommit,
+  StoryUnsplitCommit,
+  StoryUpdate,
+} from '../store.js';
 import type { SqliteOutbox } from './outbox.js';
 import type { Write } from './when-free.js';
 
 export class SqliteCorrections implements Corrections {
   private readonly tx: (c: CorrectionCommit) => void;
   private readonly unmergeTx: (u: StoryUnmergeCommit) => void;
+  private readonly unsplitTx: (u: StoryUnsplitCommit) => void;
   /** Keeps a record (inside the caller's transaction), marking the correction it undoes. */
   readonly record: (r: CorrectionRecord) => void;
 
@@ -61,6 +70,19 @@ export class SqliteCorrections implements Corrections {
       this.record(u.correction);
       outbox.queue(u.messages);
     });
+    this.unsplitTx = db.transaction((u: StoryUnsplitCommit) => {
+      const from = u.from.record.id;
+      for (const a of u.moved) storyOf.run(from, a);
+      for (const e of u.events) {
+        upsertEvent(e);
+        eventStory.run(from, e.record.id);
+      }
+      db.prepare('DELETE FROM stories WHERE id = ?').run(u.into);
+      db.prepare('DELETE FROM story_splits WHERE into_id = ?').run(u.into);
+      upsertStory(u.from);
+      this.record(u.correction);
+      outbox.queue(u.messages);
+    });
   }
 
   async commitCorrection(c: CorrectionCommit): Promise<void> {
@@ -69,6 +91,10 @@ export class SqliteCorrections implements Corrections {
 
   async commitStoryUnmerge(u: StoryUnmergeCommit): Promise<void> {
     await this.write(`cannot undo the merge of story ${u.from.record.id}`, () => this.unmergeTx(u));
+  }
+
+  async commitStoryUnsplit(u: StoryUnsplitCommit): Promise<void> {
+    await this.write(`cannot undo the split of story ${u.into}`, () => this.unsplitTx(u));
   }
 
   async listCorrections(limit: number, offset: number): Promise<{ total: number; corrections: CorrectionRecord[] }> {

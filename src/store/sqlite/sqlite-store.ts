@@ -461,6 +461,7 @@ export class SqliteStore extends StoreParts implements Store {
         this.db
           .prepare('INSERT OR REPLACE INTO story_splits (into_id, from_id, articles, score, at) VALUES (?, ?, ?, ?, ?)')
           .run(into, from, sp.moved.length, sp.score, sp.at);
+        if (sp.correction) this.corrections.record(sp.correction);
         this.outbox.queue(sp.messages);
       }),
     );

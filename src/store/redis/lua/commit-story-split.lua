@@ -4,7 +4,8 @@
 -- KEYS[1]  the partition's counts hash
 -- ARGV[1]  the partition prefix
 -- ARGV[2]  JSON {fence, from: story, into: story, moved: [article id, ...], events: [event, ...],
---          split: JSON {from, articles, score, at}, messages}; stories and events as put_story
+--          split: JSON {from, articles, score, at}, messages, correction, correctionRecord};
+--          an analyst's split carries its correction's id and record; stories and events as put_story
 --          and put_event take them, their states numbered as below
 -- ARGV[3+] the states (binary): from's, into's, then each event's
 -- returns  1
@@ -32,5 +33,6 @@ for _, e in ipairs(m.events) do
 end
 redis.call('HSET', P .. ':story-splits', into, m.split)
 redis.call('SADD', P .. ':story-splits-of:' .. from, into)
+if m.correction ~= nil and m.correction ~= cjson.null then keep_correction(P, m.correction, m.correctionRecord, cjson.null) end
 queue_messages(P, m.messages)
 return 1
