@@ -26,8 +26,9 @@ export interface AlertRule {
   /** Leaves out an outlet's first report when it is a copy of another article. */
   independentOnly: boolean;
   /**
-   * Selects an event at the report that brings it to this many outlets (an
-   * `event.outlet_added`), once per event; null: no reach condition.
+   * Selects an event at the report that brings it to this many independent outlets (an
+   * `event.outlet_added` that is not a copy; outlets only copying others are not counted),
+   * once per event; null: no reach condition.
    */
   minOutlets: number | null;
   /** Selects an event at the article that brings it to this many mentions (an `article.linked`), once per event; null: none. */
@@ -66,6 +67,7 @@ interface Body {
     story?: { label?: string; names?: string[]; firstSeen?: string };
     outlet?: string;
     independent?: boolean;
+    independentOutlets?: number;
     mention?: { text?: string | null; outlet?: string; published?: string };
     article?: { title?: string; outlet?: string; published?: string };
     events?: { firstSeen?: string; mentionCount?: number; mentionsAdded?: number }[];
@@ -108,10 +110,10 @@ function selects(r: AlertRule, type: string, b: Body): boolean {
   const places = lower([...(d.event?.places ?? []), ...(d.story?.names ?? [])]);
   if (r.places.length > 0 && !r.places.some((p) => places.has(p.toLowerCase()))) return false;
   if (r.minOutlets !== null) {
-    // The report that brings the event to N outlets: outlet_added notifications come once per
-    // (event, outlet), so exactly one carries the Nth.
-    if (type !== 'event.outlet_added' || d.event?.outlets?.length !== r.minOutlets) return false;
-    if (!within(r, d.event.firstSeen, d.mention?.published)) return false;
+    // The independent report that brings the event to N independent outlets: outlet_added
+    // notifications come once per (event, outlet), so one carries the Nth.
+    if (type !== 'event.outlet_added' || d.independent !== true || d.independentOutlets !== r.minOutlets) return false;
+    if (!within(r, d.event?.firstSeen, d.mention?.published)) return false;
   }
   if (r.minMentions !== null) {
     // The article that takes an event from below M mentions to M or more: one per event.

@@ -39,10 +39,13 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
   for (const a of plan.outletsAdded) {
     const m = mentionOf(a.articleId, a.sentenceIndex);
     const link = plan.links.find((l) => l.eventId === a.eventId && l.articleId === a.articleId && l.sentenceIndex === a.sentenceIndex);
+    const event = events.get(a.eventId)!;
     push('event.outlet_added', `${a.eventId}\n${a.outlet}`, {
-      event: toRecord(events.get(a.eventId)!),
+      event: toRecord(event),
       outlet: a.outlet,
       independent: a.independent,
+      // Outlets with a report that is not a copy of another's, this one included.
+      independentOutlets: [...event.outlets.values()].filter(([, independent]) => independent > 0).length,
       mention: {
         article: a.articleId,
         sentence: a.sentenceIndex,

@@ -16,7 +16,12 @@ const CONFIGURED = `whsec_${Buffer.alloc(32, 3).toString('base64')}`;
 /** A notification as the linker logs it: an event reported by an outlet for the first time. */
 function outletAdded(n: number, label: string, outlets: string[]) {
   const type = 'event.outlet_added';
-  const data = { event: { id: `ev_${n}`, label, outlets, participants: [], places: [] }, outlet: outlets.at(-1), independent: true };
+  const data = {
+    event: { id: `ev_${n}`, label, outlets, participants: [], places: [] },
+    outlet: outlets.at(-1),
+    independent: true,
+    independentOutlets: outlets.length,
+  };
   return {
     id: `msg_${n}`,
     type,

@@ -10,7 +10,9 @@ const event = {
   outlets: ['Harbour Ledger', 'The Vellmouth Courier', 'EBS News'],
 };
 /** An "event.outlet_added" as the linker writes it: the event after the report, the outlet, the mention. */
-function outletAdded(over: { outlets?: string[]; outlet?: string; independent?: boolean; published?: string } = {}): string {
+function outletAdded(
+  over: { outlets?: string[]; outlet?: string; independent?: boolean; independentOutlets?: number; published?: string } = {},
+): string {
   return JSON.stringify({
     type: 'event.outlet_added',
     timestamp: '2026-10-05T12:00:00.000Z',
@@ -18,6 +20,7 @@ function outletAdded(over: { outlets?: string[]; outlet?: string; independent?: 
       event: { ...event, outlets: over.outlets ?? event.outlets },
       outlet: over.outlet ?? 'EBS News',
       independent: over.independent ?? true,
+      independentOutlets: over.independentOutlets ?? (over.outlets ?? event.outlets).length,
       mention: {
         article: 'a9',
         sentence: 0,
@@ -65,8 +68,11 @@ describe('alert rules', () => {
     expect(firstMatch(r, 'event.outlet_added', outletAdded())).toBe('independent');
   });
 
-  it('selects an event once, at the report that brings it to N outlets within the window', () => {
+  it('selects an event once, at the independent report that brings it to N independent outlets within the window', () => {
     const r = [rule({ name: 'spreading', minOutlets: 3, withinHours: 24 })];
+    // A copy does not count, nor does a report that leaves the count where it was.
+    expect(firstMatch(r, 'event.outlet_added', outletAdded({ independent: false, independentOutlets: 3 }))).toBeNull();
+    expect(firstMatch(r, 'event.outlet_added', outletAdded({ outlets: ['A', 'B', 'C', 'D'], independentOutlets: 2 }))).toBeNull();
     expect(firstMatch(r, 'event.outlet_added', outletAdded({ outlets: ['A', 'B'] }))).toBeNull();
     expect(firstMatch(r, 'event.outlet_added', outletAdded())).toBe('spreading');
     expect(firstMatch(r, 'event.outlet_added', outletAdded({ outlets: ['A', 'B', 'C', 'D'] }))).toBeNull();

@@ -43,7 +43,8 @@ const ruleSchema = {
       type: ['integer', 'null'],
       minimum: 2,
       maximum: 10_000,
-      description: 'Select an event at the report that brings it to this many outlets (an event.outlet_added), once per event.',
+      description:
+        'Select an event at the independent report that brings it to this many independent outlets (an event.outlet_added; copies not counted), once per event.',
     },
     minMentions: {
       type: ['integer', 'null'],
