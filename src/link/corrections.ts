@@ -66,12 +66,20 @@ export async function applyCorrection(
   req: CorrectionRequest,
   author: CorrectionAuthor,
 ): Promise<CorrectionRecord> {
-  const undoing = req.kind === 'undo' ? await ctx.store.getCorrection(req.correction) : null;
   if (req.kind === 'merge-stories') return bound(ctx, await mergeStories(ctx, req.from, req.into, author));
   if (req.kind === 'split-story') return bound(ctx, await splitStory(ctx, req.from, req.articles, author));
-  if (undoing?.kind === 'merge-stories') return bound(ctx, await unmergeStories(ctx, undoing, author));
-  if (undoing?.kind === 'split-story') return bound(ctx, await unsplitStory(ctx, undoing, author));
-  const outcome = req.kind === 'undo' ? await planUndo(ctx, req.correction, author) : await planChange(ctx, req, author);
+  let outcome: Planned;
+  if (req.kind === 'undo') {
+    const r = await ctx.store.getCorrection(req.correction);
+    if (!r) throw new StrandError('STRAND_NOT_FOUND', `no correction ${req.correction}`);
+    if (r.kind === 'undo') throw conflict(`${r.id} is an undo; make the correction again instead`);
+    if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
+    if (r.kind === 'merge-stories') return bound(ctx, await unmergeStories(ctx, r, author));
+    if (r.kind === 'split-story') return bound(ctx, await unsplitStory(ctx, r, author));
+    outcome = await planUndo(ctx, r, author);
+  } else {
+    outcome = await planChange(ctx, req, author);
+  }
   await ctx.store.commitCorrection({
     record: outcome.record,
     sentences: outcome.sentences,
@@ -121,7 +129,6 @@ async function mergeStories(
   };
   const merged = ctx.stories.mergedState(intoId, fromId);
   const id = `cr_${randomBytes(6).toString('hex')}`;
-  const storyImage = (st: StoryState) => ({ record: storyRecord(st), state: Buffer.from(serialiseStory(st)).toString('base64') });
   const record: CorrectionRecord = {
     id,
     kind: 'merge-stories',
@@ -183,7 +190,6 @@ async function splitStory(
     }
   }
   await applyStoredLabels(ctx, events);
-  const storyImage = (st: StoryState) => ({ record: storyRecord(st), state: Buffer.from(serialiseStory(st)).toString('base64') });
   const none = new Map<string, string>();
   const record: CorrectionRecord = {
     id: `cr_${randomBytes(6).toString('hex')}`,
@@ -226,7 +232,6 @@ async function splitStory(
 
 /** The undo of an analyst's story split: the articles and events back, the new story gone. */
 async function unsplitStory(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
-  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
   const [fromId, intoId] = r.events as [string, string];
   const after = r.after.stories ?? {};
   for (const id of [fromId, intoId])
@@ -239,19 +244,7 @@ async function unsplitStory(ctx: ConsolidationContext, r: CorrectionRecord, auth
     .filter((img): img is ImageEvent => img !== null)
     .map((img) => deserialiseEvent(Buffer.from(img.state, 'base64')));
   await applyStoredLabels(ctx, events);
-  const record: CorrectionRecord = {
-    ...r,
-    id: `cr_${randomBytes(6).toString('hex')}`,
-    kind: 'undo',
-    by: author.by,
-    at: ctx.now().toISOString(),
-    note: author.note,
-    undoes: r.id,
-    undoneBy: null,
-    before: r.after,
-    after: r.before,
-    binds: { apart: [], pinned: [] },
-  };
+  const record = undoRecord(ctx, r, author, { apart: [], pinned: [] });
   await ctx.store.commitStoryUnsplit({
     from: { record: storyRecord(from), state: serialiseStory(from) },
     into: intoId,
@@ -267,7 +260,6 @@ async function unsplitStory(ctx: ConsolidationContext, r: CorrectionRecord, auth
 
 /** The undo of an analyst's story merge: the absorbed story back as it was, the survivor too. */
 async function unmergeStories(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
-  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
   const [fromId, intoId] = r.events as [string, string];
   const before = r.before.stories ?? {};
   const now = ctx.stories.story(intoId);
@@ -275,20 +267,8 @@ async function unmergeStories(ctx: ConsolidationContext, r: CorrectionRecord, au
     throw conflict(`${intoId} changed since ${r.id} (new articles, or consolidation); undoing would lose that`);
   const from = deserialiseStory(Buffer.from(before[fromId]!.state, 'base64'));
   const into = deserialiseStory(Buffer.from(before[intoId]!.state, 'base64'));
-  const record: CorrectionRecord = {
-    ...r,
-    id: `cr_${randomBytes(6).toString('hex')}`,
-    kind: 'undo',
-    by: author.by,
-    at: ctx.now().toISOString(),
-    note: author.note,
-    undoes: r.id,
-    undoneBy: null,
-    before: r.after,
-    after: r.before,
-    // Undoing a merge says the two are two: consolidation does not merge them again.
-    binds: { apart: [[fromId, intoId]], pinned: [] },
-  };
+  // Undoing a merge says the two are two: consolidation does not merge them again.
+  const record = undoRecord(ctx, r, author, { apart: [[fromId, intoId]], pinned: [] });
   const members = r.before.members ?? { articles: [], events: [], earlier: [] };
   await ctx.store.commitStoryUnmerge({
     from: { record: storyRecord(from), state: serialiseStory(from) },
@@ -434,12 +414,7 @@ async function planChange(
   };
 }
 
-async function planUndo(ctx: ConsolidationContext, correction: string, author: CorrectionAuthor): Promise<Planned> {
-  const r = await ctx.store.getCorrection(correction);
-  if (!r) throw new StrandError('STRAND_NOT_FOUND', `no correction ${correction}`);
-  if (r.kind === 'undo') throw conflict(`${r.id} is an undo; make the correction again instead`);
-  if (r.kind === 'merge-stories' || r.kind === 'split-story') throw conflict(`${r.id} changed stories`);
-  if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
+async function planUndo(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<Planned> {
   // Only what the correction left may be put back: a later change would be lost.
   for (const [id, img] of Object.entries(r.after.events)) {
     const now = ctx.linker.event(id);
@@ -463,28 +438,41 @@ async function planUndo(ctx: ConsolidationContext, correction: string, author: C
     e.label = source ? labelFrom(source) : ERASED_LABEL;
     written.push(e);
   }
-  const id = `cr_${randomBytes(6).toString('hex')}`;
   const [a, b] = r.events as [string, string];
   return {
-    record: {
-      id,
-      kind: 'undo',
-      by: author.by,
-      at: ctx.now().toISOString(),
-      note: author.note,
-      events: r.events,
-      mentions: r.mentions,
-      undoes: r.id,
-      undoneBy: null,
-      before: r.after,
-      after: r.before,
-      // Undoing a merge says the two are two: consolidation does not merge them again.
-      binds: r.kind === 'merge' ? { apart: [[a, b]], pinned: [] } : { apart: [], pinned: [] },
-    },
+    // Undoing a merge says the two are two: consolidation does not merge them again.
+    record: undoRecord(ctx, r, author, r.kind === 'merge' ? { apart: [[a, b]], pinned: [] } : { apart: [], pinned: [] }),
     sentences,
     written,
     removed,
   };
+}
+
+/** The record of an undo: the correction's images the other way round, and what the undo binds. */
+function undoRecord(
+  ctx: ConsolidationContext,
+  r: CorrectionRecord,
+  author: CorrectionAuthor,
+  binds: CorrectionRecord['binds'],
+): CorrectionRecord {
+  return {
+    ...r,
+    id: `cr_${randomBytes(6).toString('hex')}`,
+    kind: 'undo',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    undoes: r.id,
+    undoneBy: null,
+    before: r.after,
+    after: r.before,
+    binds,
+  };
+}
+
+/** A story in a record: its public record and its state, base64. */
+function storyImage(st: StoryState): { record: ReturnType<typeof storyRecord>; state: string } {
+  return { record: storyRecord(st), state: Buffer.from(serialiseStory(st)).toString('base64') };
 }
 
 function known(ctx: ConsolidationContext, id: string): EventState {
