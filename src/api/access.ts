@@ -77,6 +77,7 @@ const MISS_REREAD_MS = 100;
 export class KeyRing {
   private known = new Map<string, Holder>();
   private readAt = -Infinity;
+  private everRead = false;
 
   constructor(private readonly store: Pick<ApiKeys, 'listApiKeys'>) {}
 
@@ -102,9 +103,15 @@ export class KeyRing {
 
   private async refresh(olderThanMs: number): Promise<void> {
     if (performance.now() - this.readAt <= olderThanMs) return;
-    // A store that cannot be read keeps the keys read last (the request then fails on the store anyway).
-    const stored = await this.store.listApiKeys().catch(() => null);
+    // A store that cannot be read keeps the keys read last (the request then fails on the
+    // store anyway); before any were read it checks closed, never open.
+    const stored = await this.store.listApiKeys().catch((err: unknown) => {
+      if (!this.everRead)
+        throw new StrandError('STRAND_STORE_UNAVAILABLE', 'the API keys cannot be read just now; nothing was done', { cause: err });
+      return null;
+    });
     if (!stored) return;
+    this.everRead = true;
     this.known = new Map(stored.map((k) => [k.hash, { id: k.id, scopes: k.scopes }]));
     this.readAt = performance.now();
   }

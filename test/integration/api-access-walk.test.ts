@@ -123,6 +123,19 @@ describe('access by scope, walking the OpenAPI document', () => {
     expect((await app.inject({ url: '/api/events', headers: { authorization: `Bearer ${doomed.key}` } })).statusCode).toBe(401);
   });
 
+  it('checks closed, not open, when the keys cannot be read', async () => {
+    const blind = openSqliteStore(':memory:');
+    blind.listApiKeys = async () => {
+      throw new Error('store unreachable');
+    };
+    const guarded = await buildApp({ store: blind, logger: createLogger('silent'), version: 'test', ingestStatus: idle });
+    const r = await guarded.inject({ method: 'POST', url: '/api/subscriptions', payload: { name: 'x', url: 'https://desk.example/hook' } });
+    expect([r.statusCode, r.json().error.code]).toEqual([503, 'STRAND_STORE_UNAVAILABLE']);
+    expect(await blind.listSubscriptions()).toEqual([]);
+    await guarded.close();
+    await blind.close();
+  });
+
   it('refuses malformed key requests with a clear error', async () => {
     const admin = { authorization: `Bearer ${OPERATOR}` };
     for (const payload of [
