@@ -5,11 +5,14 @@
  * the refusal.
  */
 import { randomUUID } from 'node:crypto';
-import { ERROR_CODES, StrandError, type ErrorCode, isStrandError } from '../errors.js';
+import { ERROR_CODES, StrandError, type ErrorCode, describeError, isStrandError } from '../errors.js';
 import type { CorrectionAuthor, CorrectionRequest } from '../link/corrections.js';
 import type { CorrectionRecord } from '../store/store.js';
 import type { RedisClient } from '../store/redis/connect.js';
 import type { Keyspace } from '../store/redis/keys.js';
+
+/** Failures of the store or the lease, after which a correction is tried again rather than answered. */
+const STAYS_QUEUED: readonly ErrorCode[] = ['STRAND_STORE_FAILED', 'STRAND_STORE_UNAVAILABLE', 'STRAND_LEASE_LOST'];
 
 /** How long an answer is kept for the api process that waits for it, seconds. */
 const ANSWER_TTL_S = 600;
@@ -71,8 +74,11 @@ export class CorrectionQueue {
           answer = { record: await apply(q.req, q.author) };
         } catch (err) {
           // The store away or the lease lost: it stays queued, to be made on a later turn.
-          if (!isStrandError(err) || err.status >= 500) throw err;
-          answer = { error: { code: err.code, message: err.message } };
+          if (STAYS_QUEUED.some((code) => isStrandError(err, code))) throw err;
+          // Anything else is answered, so that one correction never holds up the linker.
+          answer = isStrandError(err)
+            ? { error: { code: err.code, message: err.message } }
+            : { error: { code: 'STRAND_STORE_FAILED', message: `the correction could not be made: ${describeError(err)}` } };
         }
       }
       // Answered, then taken off the queue: a crash between the two makes it again, which is

@@ -42,6 +42,14 @@ describe.skipIf(!redisTestsRun())('corrections on Redis, queued by an api proces
       const undone = await queue.submit({ kind: 'undo', correction: merged.id }, { by: 'local', note: null });
       expect(undone.undoes).toBe(merged.id);
       expect(await store.getEvent(b!)).not.toBeNull();
+      // Hostile or malformed entries on the queue are answered or dropped; the linker goes on.
+      await api.redis.rpush(
+        keyspace(partition).correctionRequests,
+        'not json',
+        JSON.stringify({ id: 'x', req: { kind: 'explode' }, author: {} }),
+      );
+      const after = await queue.submit({ kind: 'merge', from: b!, into: a! }, { by: 'local', note: null });
+      expect(after.kind).toBe('merge');
       expect(await api.redis.llen(keyspace(partition).correctionRequests)).toBe(0);
     } finally {
       await linking.stop();
