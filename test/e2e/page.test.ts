@@ -56,7 +56,7 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')("the analyst
     expect(errors).toEqual([]);
   });
 
-  it('asks for an access token when the server protects reads, and shows the events once given one', async () => {
+  it('asks for an API key when the server protects reads, and shows the events once given one', async () => {
     const token = 'k7Qz2mVw9XcB4nRt8LpY3sHd6FgJ1aEu';
     const guarded = await buildApp({
       store: rt.store,
@@ -73,7 +73,7 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')("the analyst
       await page.goto(`${url}/`);
       await page.locator('#token-form').waitFor();
       expect(await page.locator('#events li').count()).toBe(0);
-      await expect.poll(() => page.locator('#count').textContent()).toMatch(/needs a token/);
+      await expect.poll(() => page.locator('#count').textContent()).toMatch(/needs a key/);
       await page.fill('#token', 'not-the-token-but-long-enough-000000');
       await page.click('#token-form button');
       await expect.poll(() => page.locator('#token-form').isVisible()).toBe(true);
