@@ -106,8 +106,8 @@ export class KeyRing {
     // A store that cannot be read keeps the keys read last (the request then fails on the
     // store anyway); before any were read it checks closed, never open.
     const stored = await this.store.listApiKeys().catch((err: unknown) => {
-      if (!this.everRead)
-        throw new StrandError('STRAND_STORE_UNAVAILABLE', 'the API keys cannot be read just now; nothing was done', { cause: err });
+      // Thrown as it came: the app answers a store that cannot be reached with its usual 503.
+      if (!this.everRead) throw err;
       return null;
     });
     if (!stored) return;

@@ -128,6 +128,8 @@ describe('access by scope, walking the OpenAPI document', () => {
     blind.listApiKeys = async () => {
       throw new Error('store unreachable');
     };
+    // The store says so, as a Redis store does while its server is away.
+    blind.unavailable = (err?: unknown) => err instanceof Error && err.message === 'store unreachable';
     const guarded = await buildApp({ store: blind, logger: createLogger('silent'), version: 'test', ingestStatus: idle });
     const r = await guarded.inject({ method: 'POST', url: '/api/subscriptions', payload: { name: 'x', url: 'https://desk.example/hook' } });
     expect([r.statusCode, r.json().error.code]).toEqual([503, 'STRAND_STORE_UNAVAILABLE']);
