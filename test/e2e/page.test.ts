@@ -5,7 +5,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/build-app.js';
 import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
-import { demoApi } from '../helpers/runtime.js';
+import { DEMO_FEEDS } from '../../src/cli/common.js';
+import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { demoApi, runArticles, testConfig } from '../helpers/runtime.js';
 
 // Debian's chromium, driven headless; .ci/run installs it. Never a downloaded browser.
 const CHROMIUM = '/usr/bin/chromium';
@@ -53,6 +55,33 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')("the analyst
 
     await page.fill('#q', 'Orlin');
     await expect.poll(async () => (await page.locator('#count').textContent()) ?? '').toMatch(/^\d+ events?$/);
+    expect(errors).toEqual([]);
+  });
+
+  it('shows a cue for events that open or change while it is open, and reads them in only when asked', async () => {
+    const page = await browser.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await page.goto(`${base}/`);
+    await expect.poll(() => page.locator('#events li').count()).toBeGreaterThan(10);
+    expect(await page.locator('#fresh').isVisible()).toBe(false);
+    const before = await page.locator('#count').textContent();
+    // An article arrives while the page is open: it reports a known event and opens new ones.
+    const [first] = (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles;
+    await runArticles(rt, [
+      {
+        ...first!,
+        id: 'https://late-wire.example/news/1',
+        outlet: 'Late Wire',
+        url: 'https://late-wire.example/news/1',
+        contentHash: 'late-1',
+      },
+    ]);
+    await expect.poll(() => page.locator('#fresh').textContent(), { timeout: 10_000 }).toMatch(/^\d+ events? new or changed/);
+    // The list stays as it was until asked.
+    expect(await page.locator('#count').textContent()).toBe(before);
+    await page.click('#fresh');
+    await expect.poll(() => page.locator('#fresh').isVisible()).toBe(false);
     expect(errors).toEqual([]);
   });
 

@@ -3,7 +3,7 @@
 // inserted with textContent, never as HTML: feed text is untrusted.
 
 const PAGE = 50;
-const state = { offset: 0, total: 0, selected: null, refreshTimer: null, ingestState: 'idle' };
+const state = { offset: 0, total: 0, selected: null, refreshTimer: null, ingestState: 'idle', fresh: new Set() };
 const $ = (id) => document.getElementById(id);
 
 /** Only http(s) links are shown as links (stored URLs come from feeds and pushes). */
@@ -69,7 +69,12 @@ function query() {
 }
 
 async function loadEvents(append = false) {
-  if (!append) state.offset = 0;
+  if (!append) {
+    state.offset = 0;
+    // The list about to be read holds what changed so far.
+    state.fresh.clear();
+    showFresh();
+  }
   const page = await api(`/api/events?${query()}`);
   state.total = page.total;
   const list = $('events');
@@ -283,11 +288,44 @@ $('filters').addEventListener('submit', (e) => e.preventDefault());
 $('more').addEventListener('click', () => void loadEvents(true));
 window.addEventListener('hashchange', () => void route());
 
+// The live stream: events opened or changed since the list was read are counted in a cue
+// the reader chooses to follow, rather than moved into the list under their eyes.
+const LIVE_TYPES = ['event.opened', 'event.outlet_added', 'event.merged', 'event.split', 'event.corrected', 'article.linked'];
+
+function showFresh() {
+  const n = state.fresh.size;
+  $('fresh').hidden = n === 0;
+  $('fresh').textContent = `${n} event${n === 1 ? '' : 's'} new or changed since this list was read: show them`;
+}
+
+function followStream() {
+  // EventSource cannot send a key: where reads need one, the status poll keeps the counts current.
+  if (typeof EventSource === 'undefined' || sessionStorage.getItem(TOKEN_KEY) || state.stream) return;
+  const source = new EventSource(`/api/stream?types=${LIVE_TYPES.join(',')}`);
+  state.stream = source;
+  const note = (message) => {
+    let data;
+    try {
+      data = JSON.parse(message.data).data ?? {};
+    } catch {
+      return;
+    }
+    for (const id of [data.event?.id, data.otherEvent?.id, ...(data.events ?? []).map((e) => e.id)]) if (id) state.fresh.add(id);
+    showFresh();
+  };
+  for (const type of LIVE_TYPES) source.addEventListener(type, note);
+}
+
+$('fresh').addEventListener('click', () => void loadEvents());
+
 async function loadAll() {
   const results = await Promise.allSettled([loadOutlets(), loadEvents(), refreshStatus()]);
   const failed = results.find((r) => r.status === 'rejected');
   if (failed) replace($('count'), `Could not load events: ${failed.reason.message}`);
-  else await route();
+  else {
+    await route();
+    followStream();
+  }
 }
 
 $('token-form').addEventListener('submit', (e) => {
