@@ -152,8 +152,9 @@ export function buildStorySplitMessages(plan: StorySplitPlan, now: Date): Outbox
 }
 
 /**
- * The "event.corrected" notification for one analyst's correction or its undo: the events
- * as they now stand, each a part of its own (`event`, `otherEvent`) as erasure expects.
+ * The notification for one analyst's correction or its undo: "event.corrected" with the
+ * events as they now stand, each a part of its own (`event`, `otherEvent`) as erasure
+ * expects, or "story.corrected" with the story as it now stands.
  */
 export function buildCorrectionMessages(
   c: CorrectionRecord,

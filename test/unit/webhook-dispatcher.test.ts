@@ -3,6 +3,7 @@ import type { AddressInfo } from 'node:net';
 import { Webhook } from 'standardwebhooks';
 import { afterEach, describe, expect, it } from 'vitest';
 import { bareCommit } from '../helpers/bare-commit.js';
+import { waitFor } from '../helpers/wait-for.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { createLogger } from '../../src/logger.js';
 import { WebhookDispatcher, retryDelayMs } from '../../src/notify/webhook-dispatcher.js';
@@ -225,7 +226,7 @@ describe('delivering webhooks', () => {
       return list();
     };
     d.start();
-    for (let i = 0; i < 100 && sent.length === 0; i++) await new Promise((r) => setTimeout(r, 20));
+    await waitFor('the delivery after two failed polls', () => sent.length > 0, 5000);
     await d.stop();
     expect(sent).toEqual(['msg_test1']);
   });
