@@ -293,6 +293,10 @@ export interface EventQuery {
   text?: string | undefined;
   /** Only events reported by at least this many outlets. */
   minOutlets?: number | undefined;
+  /** Only events with a participant whose name holds these words (any case). */
+  participant?: string | undefined;
+  /** Only events with a place whose name holds these words (any case). */
+  place?: string | undefined;
   /** Only events of this story (after its merges). */
   story?: string | undefined;
   /** Order: most recent activity first (default), most outlets, or most mentions. */
@@ -321,6 +325,10 @@ export interface StoryQuery {
   outlet?: string | undefined;
   /** Words that must appear in the story's label or names. */
   text?: string | undefined;
+  /** Only stories with an event whose participants include a name holding these words (any case). */
+  participant?: string | undefined;
+  /** Only stories with an event whose places include a name holding these words (any case). */
+  place?: string | undefined;
   minOutlets?: number | undefined;
   /** Most recent activity first (default), most outlets, or most articles. */
   sort?: 'recent' | 'outlets' | 'articles' | undefined;

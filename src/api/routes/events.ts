@@ -19,6 +19,12 @@ const listEventsSchema = {
       q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label or a sentence.' },
       minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
       story: { type: 'string', maxLength: 100, description: 'Only events of this story.' },
+      participant: {
+        type: 'string',
+        maxLength: 200,
+        description: 'Only events with a participant whose name holds these words (any case).',
+      },
+      place: { type: 'string', maxLength: 200, description: 'Only events with a place whose name holds these words (any case).' },
       sort: { type: 'string', enum: ['recent', 'outlets', 'mentions'], default: 'recent' },
       limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
       offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },

@@ -17,8 +17,8 @@ const healthSchema = {
         uptimeSeconds: num,
         counts: {
           type: 'object',
-          properties: { articles: int, sentences: int, mentions: int, links: int, events: int },
-          required: ['articles', 'sentences', 'mentions', 'links', 'events'],
+          properties: { articles: int, sentences: int, mentions: int, links: int, events: int, stories: int },
+          required: ['articles', 'sentences', 'mentions', 'links', 'events', 'stories'],
         },
         ingest: {
           type: 'object',

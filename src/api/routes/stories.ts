@@ -1,11 +1,13 @@
 /** Routes: list stories, one story with its events, its articles by outlet and its timeline. */
 import { StrandError } from '../../errors.js';
-import type { EventSummary, StoryArticleRow, EventQueries } from '../../store/store.js';
+import type { LinkEvidence } from '../../records.js';
+import type { EventSummary, StoryArticleRow, EventQueries, StoryDetail } from '../../store/store.js';
 import type { RoutePlugin } from '../route-plugin.js';
 import {
   CAUTION,
   dayOrTime,
   errorSchema,
+  evidenceSchema,
   eventSummarySchema,
   int,
   nullableStr,
@@ -29,6 +31,16 @@ const listStoriesSchema = {
       outlet: { type: 'string', maxLength: 200, description: 'Only stories this outlet reported on.' },
       q: { type: 'string', maxLength: 200, description: 'Words that must appear in the label, a headline or a name.' },
       minOutlets: { type: 'integer', minimum: 1, maximum: 1000 },
+      participant: {
+        type: 'string',
+        maxLength: 200,
+        description: 'Only stories with an event with a participant whose name holds these words (any case).',
+      },
+      place: {
+        type: 'string',
+        maxLength: 200,
+        description: 'Only stories with an event with a place whose name holds these words (any case).',
+      },
       sort: { type: 'string', enum: ['recent', 'outlets', 'articles'], default: 'recent' },
       limit: { type: 'integer', minimum: 1, maximum: 200, default: 50 },
       offset: { type: 'integer', minimum: 0, maximum: 1_000_000, default: 0 },
@@ -43,6 +55,9 @@ const listStoriesSchema = {
     400: errorSchema,
   },
 } as const;
+/** Events and articles of a story read for its cross-story links: bounds one request's work. */
+const CROSS_LINK_SCAN = 300;
+
 /** GET /api/stories/:id */
 const getStorySchema = {
   summary: 'One story with its events, its articles by outlet and its timeline',
@@ -99,9 +114,40 @@ const getStorySchema = {
             required: ['from', 'into', 'articles', 'score', 'at'],
           },
         },
+        crossLinks: {
+          type: 'array',
+          description: `Links that cross this story's edge: a sentence of another story linked to one of its events (in), or one of its sentences linked to another story's event (out). Rare and worth checking, each with its score and evidence. Read from the story's first ${CROSS_LINK_SCAN} events and articles.`,
+          items: {
+            type: 'object',
+            properties: {
+              direction: { type: 'string', enum: ['in', 'out'] },
+              eventId: str,
+              eventLabel: str,
+              articleId: str,
+              articleTitle: str,
+              outlet: str,
+              sentence: int,
+              text: nullableStr,
+              score: num,
+              evidence: evidenceSchema,
+            },
+            required: [
+              'direction',
+              'eventId',
+              'eventLabel',
+              'articleId',
+              'articleTitle',
+              'outlet',
+              'sentence',
+              'text',
+              'score',
+              'evidence',
+            ],
+          },
+        },
         caution: str,
       },
-      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'splits', 'caution'],
+      required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'splits', 'crossLinks', 'caution'],
     },
     308: { description: 'The story was merged into another; Location names it.', type: 'null' },
     404: errorSchema,
@@ -130,10 +176,58 @@ export const storyRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { s
       timeline: storyTimeline(detail.articles, detail.events),
       merges: detail.merges,
       splits: detail.splits,
+      crossLinks: await crossLinks(store, detail),
       caution: CAUTION,
     };
   });
 };
+
+/** One link across a story's edge, as the story view lists it. */
+export interface CrossLink {
+  direction: 'in' | 'out';
+  eventId: string;
+  eventLabel: string;
+  articleId: string;
+  articleTitle: string;
+  outlet: string;
+  sentence: number;
+  text: string | null;
+  score: number;
+  evidence: LinkEvidence;
+}
+
+/** The links into the story's events from other stories' sentences, and out of its sentences to other stories' events. */
+async function crossLinks(store: EventQueries, detail: StoryDetail): Promise<CrossLink[]> {
+  const found: CrossLink[] = [];
+  for (const e of detail.events.slice(0, CROSS_LINK_SCAN)) {
+    for (const m of (await store.getEvent(e.id))?.mentions ?? []) {
+      if (!m.evidence.crossStory) continue;
+      const { articleId, articleTitle, outlet, sentenceIndex: sentence, text, score, evidence } = m;
+      found.push({ direction: 'in', eventId: e.id, eventLabel: e.label, articleId, articleTitle, outlet, sentence, text, score, evidence });
+    }
+  }
+  for (const a of detail.articles.slice(0, CROSS_LINK_SCAN)) {
+    for (const s of (await store.getArticle(a.id))?.sentences ?? []) {
+      for (const l of s.links) {
+        if (!l.evidence.crossStory) continue;
+        const { eventId, eventLabel, score, evidence } = l;
+        found.push({
+          direction: 'out',
+          eventId,
+          eventLabel,
+          articleId: a.id,
+          articleTitle: a.title,
+          outlet: a.outlet,
+          sentence: s.index,
+          text: s.text || null,
+          score,
+          evidence,
+        });
+      }
+    }
+  }
+  return found;
+}
 
 /** Articles grouped by outlet, outlets in the order they first reported on the story. */
 export function articlesByOutlet(

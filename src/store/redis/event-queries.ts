@@ -45,7 +45,7 @@ export class RedisEventQueries implements EventQueries {
       const inStory = new Set(await this.redis.smembers(this.k.storyEvents((await this.currentStories([q.story])).get(q.story)!)));
       ids = ids.filter((id) => inStory.has(id));
     }
-    let events = listFilters(await this.summaries(ids), q);
+    let events = listFilters(await this.summaries(ids), q).filter((e) => namesMatch(e, q));
     const words = searchWords(q.text).map((w) => w.toLowerCase());
     if (words.length) {
       const texts = (await pipelined(this.redis, events, (p, e) => p.smembers(this.k.eventLinks(e.id)))) as string[][];
@@ -124,6 +124,11 @@ export class RedisEventQueries implements EventQueries {
     const from = q.from ? Date.parse(q.from) : -Infinity;
     const ids = await this.redis.zrangebyscore(this.k.stories, Number.isFinite(from) ? from : '-inf', '+inf');
     let stories = listFilters(await this.storySummaries(ids), q);
+    if (q.participant || q.place) {
+      const members = (await pipelined(this.redis, stories, (p, s) => p.smembers(this.k.storyEvents(s.id)))) as string[][];
+      const kept = await Promise.all(members.map(async (ids) => (await this.summaries(ids)).some((e) => namesMatch(e, q))));
+      stories = stories.filter((_, i) => kept[i]);
+    }
     const words = searchWords(q.text).map((w) => w.toLowerCase());
     if (words.length) {
       const titles = await Promise.all(stories.map(async (s) => (await this.storyArticles(s.id)).map((a) => a.title)));
@@ -317,6 +322,16 @@ function listFilters<T extends { firstSeen: string; outlets: string[] }>(
   return items.filter(
     (x) => (!to || x.firstSeen <= to) && (!q.outlet || x.outlets.includes(q.outlet)) && (!q.minOutlets || x.outlets.length >= q.minOutlets),
   );
+}
+
+/** An event passes the participant and place filters (a name holding the words, any case). */
+function namesMatch(
+  e: { participants: string[]; places: string[] },
+  q: { participant?: string | undefined; place?: string | undefined },
+): boolean {
+  const holds = (names: string[], words: string | undefined) =>
+    !words || names.some((n) => n.toLowerCase().includes(words.trim().toLowerCase()));
+  return holds(e.participants, q.participant) && holds(e.places, q.place);
 }
 
 function hasEveryWord(words: readonly string[], texts: readonly string[]): boolean {

@@ -68,6 +68,11 @@ export class SqliteEventQueries implements EventQueries {
       where.push('(SELECT count(*) FROM event_outlets eo WHERE eo.event_id = e.id) >= @minOutlets');
       params.minOutlets = q.minOutlets;
     }
+    for (const field of ['participant', 'place'] as const) {
+      if (!q[field]) continue;
+      where.push(`EXISTS (SELECT 1 FROM json_each(e.${field}s) j WHERE j.value LIKE @${field} ESCAPE '\\')`);
+      params[field] = likePattern(q[field].trim());
+    }
     if (q.story) {
       where.push('e.story_id = coalesce((SELECT into_id FROM story_merges WHERE from_id = @story), @story)');
       params.story = q.story;
@@ -149,6 +154,13 @@ export class SqliteEventQueries implements EventQueries {
     if (q.minOutlets) {
       where.push('(SELECT count(DISTINCT outlet) FROM articles a WHERE a.story_id = s.id) >= @minOutlets');
       params.minOutlets = q.minOutlets;
+    }
+    for (const field of ['participant', 'place'] as const) {
+      if (!q[field]) continue;
+      where.push(
+        `EXISTS (SELECT 1 FROM events e, json_each(e.${field}s) j WHERE e.story_id = s.id AND j.value LIKE @${field} ESCAPE '\\')`,
+      );
+      params[field] = likePattern(q[field].trim());
     }
     searchWords(q.text).forEach((word, i) => {
       where.push(
