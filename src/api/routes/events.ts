@@ -1,7 +1,7 @@
 /** Routes: list events, one event with its mentions grouped by outlet and its timeline. */
 import type { RoutePlugin } from '../route-plugin.js';
 import { StrandError } from '../../errors.js';
-import type { EventMention, EventQueries } from '../../store/store.js';
+import type { Corrections, EventMention, EventQueries } from '../../store/store.js';
 import { CAUTION, dayOrTime, errorSchema, eventSummarySchema, int, mentionSchema, num, str, strings } from '../schemas.js';
 
 /** GET /api/events */
@@ -84,13 +84,13 @@ const getEventSchema = {
       },
       required: ['event', 'byOutlet', 'timeline', 'merges', 'splits', 'caution'],
     },
-    308: { description: 'The event was merged into another; Location names it.', type: 'null' },
+    308: { description: 'The event was merged into another; Location names it (not to be cached: a merge can be undone).', type: 'null' },
     404: errorSchema,
   },
 } as const;
 
 /** /api/events and /api/events/:id. */
-export const eventRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { store }) => {
+export const eventRoutes: RoutePlugin<{ store: EventQueries & Pick<Corrections, 'listCorrections'> }> = async (app, { store }) => {
   app.get('/api/events', { schema: listEventsSchema }, async (req) => {
     const { q, ...filters } = req.query;
     return { ...(await store.listEvents({ ...filters, text: q })), caution: CAUTION };
@@ -99,9 +99,10 @@ export const eventRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { s
   app.get('/api/events/:id', { schema: getEventSchema }, async (req, reply) => {
     const detail = await store.getEvent(req.params.id);
     if (!detail) {
-      // An event consolidation merged away now lives in another: send clients there.
-      const into = await store.mergedInto(req.params.id);
-      if (into) return reply.redirect(`/api/events/${encodeURIComponent(into)}`, 308);
+      // An event merged away (by consolidation or an analyst) now lives in another: send clients there.
+      const into = (await store.mergedInto(req.params.id)) ?? (await mergedByAnalyst(store, req.params.id));
+      // Not to be cached: an analyst can undo the merge.
+      if (into) return reply.header('cache-control', 'no-store').redirect(`/api/events/${encodeURIComponent(into)}`, 308);
       throw new StrandError('STRAND_NOT_FOUND', `no event ${req.params.id}`);
     }
     return {
@@ -141,4 +142,13 @@ export function timeline(mentions: readonly EventMention[]): { day: string; ment
     days.set(day, d);
   }
   return [...days.values()];
+}
+
+/** Corrections read when looking for an analyst's merge of a missing event: bounds the search. */
+const CORRECTIONS_SCANNED = 1000;
+
+/** The event an analyst's standing merge moved this one into, among the latest corrections. */
+async function mergedByAnalyst(store: Pick<Corrections, 'listCorrections'>, id: string): Promise<string | null> {
+  const { corrections } = await store.listCorrections(CORRECTIONS_SCANNED, 0);
+  return corrections.find((c) => c.kind === 'merge' && c.undoneBy === null && c.events[0] === id)?.events[1] ?? null;
 }

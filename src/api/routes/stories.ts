@@ -149,7 +149,7 @@ const getStorySchema = {
       },
       required: ['story', 'events', 'byOutlet', 'timeline', 'merges', 'splits', 'crossLinks', 'caution'],
     },
-    308: { description: 'The story was merged into another; Location names it.', type: 'null' },
+    308: { description: 'The story was merged into another; Location names it (not to be cached: a merge can be undone).', type: 'null' },
     404: errorSchema,
   },
 } as const;
@@ -166,7 +166,8 @@ export const storyRoutes: RoutePlugin<{ store: EventQueries }> = async (app, { s
     if (!detail) {
       // A story consolidation merged away now lives in another: send clients there.
       const into = await store.storyMergedInto(req.params.id);
-      if (into) return reply.redirect(`/api/stories/${encodeURIComponent(into)}`, 308);
+      // Not to be cached: an analyst can undo the merge.
+      if (into) return reply.header('cache-control', 'no-store').redirect(`/api/stories/${encodeURIComponent(into)}`, 308);
       throw new StrandError('STRAND_NOT_FOUND', `no story ${req.params.id}`);
     }
     return {

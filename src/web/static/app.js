@@ -30,11 +30,17 @@ const detail = el(
 const deskLayout = el('div', { class: 'layout' }, desk.node, detail);
 let deskLoaded = false;
 
-const ctx = { changed: () => void desk.poll().catch(() => {}) };
-window.addEventListener('strandline:changed', () => {
-  ctx.changed();
-  void route();
-});
+let routed = [];
+const ctx = {
+  changed: () => void desk.poll().catch(() => {}),
+  /** Goes to a view and resolves once it is drawn (the same view is drawn again). */
+  navigate: (hash) =>
+    new Promise((resolve) => {
+      routed.push(resolve);
+      if (location.hash === hash) void route();
+      else location.hash = hash;
+    }),
+};
 
 const DETAIL = { stories: renderStory, events: renderEvent, articles: renderArticle };
 const FULL = { feeds: renderFeeds, alerts: renderAlerts, corrections: renderCorrections };
@@ -70,6 +76,8 @@ async function route(focus = true) {
     if (full) view.replaceChildren(problem(`Could not load: ${err.message}`));
     else if (deskLoaded) detail.replaceChildren(problem(`Could not load: ${err.message}`));
     else $('count').textContent = `Could not load: ${err.message}`;
+  } finally {
+    for (const resolve of routed.splice(0)) resolve();
   }
 }
 

@@ -23,6 +23,8 @@ export async function api(path, { method = 'GET', body } = {}) {
   const key = sessionStorage.getItem(KEY);
   const res = await fetch(path, {
     method,
+    // Always the store as it stands: a merge's redirect or a list may change at any moment.
+    cache: 'no-store',
     headers: {
       accept: 'application/json',
       ...(body === undefined ? {} : { 'content-type': 'application/json' }),

@@ -147,7 +147,8 @@ export function laneChart({ lanes, title }) {
     { class: 'chart' },
     svg(
       'svg',
-      { viewBox: `0 0 ${W} ${H}`, role: 'img', 'aria-label': summary, class: 'lane-chart' },
+      // A group, not an image: its marks are links to the articles.
+      { viewBox: `0 0 ${W} ${H}`, role: 'group', 'aria-label': summary, class: 'lane-chart' },
       svg('title', {}, summary),
       days.map((d, i) =>
         i % step === 0 || i === days.length - 1

@@ -9,8 +9,11 @@ function explain(err) {
   return err.message;
 }
 
-/** Makes a correction; says what happened in `status` with an undo button. Answers the record, or null. */
-export async function correct(body, status, doneText) {
+/**
+ * Makes a correction; says what happened in `status` with an undo button, which calls
+ * `undone` once the undo is made. Answers the record, or null.
+ */
+export async function correct(body, status, doneText, undone) {
   status.replaceChildren(el('span', {}, 'Working…'));
   try {
     const record = await api('/api/corrections', { method: 'POST', body });
@@ -25,8 +28,8 @@ export async function correct(body, status, doneText) {
             e.target.disabled = true;
             try {
               const undo = await api(`/api/corrections/${record.id}/undo`, { method: 'POST', body: {} });
-              status.replaceChildren(el('span', { class: 'done' }, icon('undo'), ` Undone (${undo.id}): the events are as they were.`));
-              window.dispatchEvent(new CustomEvent('strandline:changed'));
+              status.replaceChildren(el('span', { class: 'done' }, icon('undo'), ` Undone (${undo.id}): as it was before.`));
+              await undone();
             } catch (err) {
               status.replaceChildren(problem(explain(err)));
             }

@@ -127,12 +127,14 @@ export async function renderEvent(container, id, ctx) {
   const mergeInto = pickTarget('events', 'merge-into', 'Merge this event into', e.id);
 
   async function act(body, done) {
-    const result = await correct({ ...body, note: note.value.trim() || undefined }, status, done);
-    if (!result) return;
-    ctx.changed();
-    const next = body.kind === 'merge' ? body.into : e.id;
-    if (next !== e.id) location.hash = `#/events/${encodeURIComponent(next)}`;
-    else await renderEvent(container, e.id, ctx).then(() => container.querySelector('.action-status')?.replaceWith(status));
+    // The view is drawn again (the survivor's, after a merge; this one's after an undo) keeping the outcome in it.
+    const show = async (id) => {
+      ctx.changed();
+      await ctx.navigate(`#/events/${encodeURIComponent(id)}`);
+      container.querySelector('.corrections .action-status')?.replaceWith(status);
+    };
+    const result = await correct({ ...body, note: note.value.trim() || undefined }, status, done, () => show(e.id));
+    if (result) await show(body.kind === 'merge' ? body.into : e.id);
   }
   const chosen = () => [...selected.values()];
   const needChosen = () => {

@@ -24,10 +24,13 @@ export function followStream(onState) {
   let source = null;
   const start = () => {
     // EventSource cannot send a key: where reads need one, the views refresh by polling instead.
-    if (source || typeof EventSource === 'undefined' || hasKey()) {
-      onState(source ? 'live' : 'polling');
+    if (typeof EventSource === 'undefined' || hasKey()) {
+      source?.close();
+      source = null;
+      onState('polling');
       return;
     }
+    if (source && source.readyState !== EventSource.CLOSED) return;
     source = new EventSource(`/api/stream?types=${LIVE_TYPES.join(',')}`);
     source.addEventListener('open', () => onState('live'));
     source.addEventListener('error', () => onState(source.readyState === EventSource.CLOSED ? 'polling' : 'reconnecting'));
@@ -45,7 +48,7 @@ export function followStream(onState) {
   };
   return {
     start,
-    live: () => source !== null,
+    live: () => source !== null && source.readyState !== EventSource.CLOSED,
     listen(fn) {
       listeners.add(fn);
       return () => listeners.delete(fn);

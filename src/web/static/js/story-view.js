@@ -21,16 +21,13 @@ export async function renderStory(container, id, ctx) {
       return;
     }
     const into = mergeInto.value();
-    if (
-      await correct(
-        { kind: 'merge-stories', from: s.id, into, note: note.value.trim() || undefined },
-        status,
-        'Merged this story into the other',
-      )
-    ) {
+    const show = async (storyId) => {
       ctx.changed();
-      location.hash = `#/stories/${encodeURIComponent(into)}`;
-    }
+      await ctx.navigate(`#/stories/${encodeURIComponent(storyId)}`);
+      container.querySelector('.corrections .action-status')?.replaceWith(status);
+    };
+    const body = { kind: 'merge-stories', from: s.id, into, note: note.value.trim() || undefined };
+    if (await correct(body, status, 'Merged this story into the other', () => show(s.id))) await show(into);
   };
   const names = s.names.filter((n) => !isFigure(n));
   const lanes = d.byOutlet.map((g) => ({ outlet: g.outlet, articles: g.articles }));
