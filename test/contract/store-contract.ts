@@ -25,6 +25,8 @@ import {
   type Store,
   type Subscription,
   newFeedState,
+  type EventQuery,
+  type StoryQuery,
 } from '../../src/store/store.js';
 import { EVERYTHING } from '../../src/notify/alert-rules.js';
 import { activeBinds, applyCorrection } from '../../src/link/corrections.js';
@@ -109,9 +111,11 @@ function commitFor(
   a: Article,
   text: string,
   event: EventState | null,
-  opts: { isCopy?: boolean; messages?: ArticleCommit['messages']; story?: StoryState } = {},
+  opts: { isCopy?: boolean; messages?: ArticleCommit['messages']; story?: StoryState; participants?: string[]; places?: string[] } = {},
 ): { commit: ArticleCommit; event: EventState } {
   const m = mention(a, 0, text, opts.isCopy);
+  if (opts.participants) m.participants = opts.participants;
+  if (opts.places) m.places = opts.places;
   const e = event ?? openEvent(`ev_${a.id}`, m);
   if (!event && opts.story) e.story = opts.story.id;
   if (opts.story)
@@ -421,6 +425,8 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         await store.commitArticle(
           commitFor(article('a2', 'EBS News', '2026-10-12T10:00:00.000Z', 'y'), 'A span of the Orlin Bridge fell into the river.', null, {
             story: s2,
+            participants: ['Orlin Bridge Trust'],
+            places: ['Veshel'],
           }).commit,
         );
         const third = commitFor(
@@ -468,6 +474,21 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         expect((await store.listStories({ to: '2026-10-05', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
         expect((await store.listStories({ from: '2026-10-13', limit: 10, offset: 0 })).stories.map((x) => x.id)).toEqual([s1.id]);
         expect((await store.listStories({ sort: 'articles', limit: 10, offset: 0 })).stories[0]!.id).toBe(s1.id);
+      });
+
+      it('keeps the stories and events whose participants or places hold the words, in any case', async () => {
+        const stories = (q: Partial<StoryQuery>) =>
+          store.listStories({ limit: 10, offset: 0, ...q }).then((p) => p.stories.map((x) => x.id));
+        const events = (q: Partial<EventQuery>) =>
+          store.listEvents({ limit: 10, offset: 0, ...q }).then((p) => p.events.map((x) => x.id).sort());
+        expect(await stories({ participant: 'bridge trust' })).toEqual([s2.id]);
+        expect(await stories({ place: 'KORRIN' })).toEqual([s1.id]);
+        expect(await stories({ participant: 'Port Authority', place: 'Veshel' })).toEqual([]);
+        expect(await events({ place: 'veshel' })).toEqual(['ev_a2']);
+        expect(await events({ participant: 'port authority' })).toEqual(['ev_a1', 'ev_a3']);
+        // Words are matched as written: no wildcard or quote reaches the query.
+        expect(await events({ participant: '%' })).toEqual([]);
+        expect(await stories({ place: "_' OR 1=1 --" })).toEqual([]);
       });
 
       it('gives a story with its events and its articles, earliest first', async () => {

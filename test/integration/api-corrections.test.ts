@@ -89,6 +89,15 @@ describe('corrections through the API', () => {
     expect([again.statusCode, again.json().error.code]).toEqual([409, 'STRAND_CORRECTION_CONFLICT']);
   });
 
+  it('sends a client asking for an event an analyst merged away to the survivor, until the merge is undone', async () => {
+    const [a, b] = await biggest();
+    const made = (await correct({ kind: 'merge', from: b, into: a })).json();
+    const r = await app.inject({ url: `/api/events/${b}` });
+    expect([r.statusCode, r.headers.location, r.headers['cache-control']]).toEqual([308, `/api/events/${a}`, 'no-store']);
+    await app.inject({ method: 'POST', url: `/api/corrections/${made.id}/undo`, headers: manage });
+    expect((await app.inject({ url: `/api/events/${b}` })).statusCode).toBe(200);
+  });
+
   it('merges two stories and undoes it, divides one, notifying story.corrected', async () => {
     const [x, y] = (await app.inject({ url: '/api/stories?sort=articles&limit=2' })).json().stories.map((st: { id: string }) => st.id);
     const made = await correct({ kind: 'merge-stories', from: y, into: x });

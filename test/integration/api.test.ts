@@ -94,6 +94,8 @@ describe('the query API', () => {
     const r = await app.inject({ method: 'GET', url: `/api/events/${merge!.from}` });
     expect(r.statusCode).toBe(308);
     expect(r.headers.location).toBe(`/api/events/${merge!.into}`);
+    // Not kept by caches: an analyst can undo a merge.
+    expect(r.headers['cache-control']).toBe('no-store');
   });
 
   it('lists stories, each with its events, outlets and articles counted, with the caution', async () => {
@@ -189,13 +191,50 @@ describe('the query API', () => {
     expect(body.info.description).toMatch(/machine suggestions/);
   });
 
-  it("serves the analysts' page with a strict content security policy", async () => {
+  it('serves the desk page and its modules, each with a strict content security policy, and nothing else', async () => {
     const page = await get('/');
     expect(page.status).toBe(200);
     expect(page.body).toMatch(/machine suggestions/);
-    expect(page.headers['content-security-policy']).toMatch(/script-src 'self'/);
-    expect((await get('/app.js')).status).toBe(200);
-    expect((await get('/style.css')).status).toBe(200);
+    for (const path of ['/', '/app.js', '/style.css', '/js/desk.js', '/js/charts.js']) {
+      const r = await get(path);
+      expect(r.status, path).toBe(200);
+      expect(r.headers['content-security-policy'], path).toMatch(/default-src 'self'; .*script-src 'self'/);
+      expect(r.headers['x-content-type-options']).toBe('nosniff');
+    }
+    expect((await get('/js/desk.js')).headers['content-type']).toMatch(/^text\/javascript/);
+    // Only the files of the page: no way up out of its folder, no listing.
+    for (const path of ['/js/', '/js/../../package.json', '/%2e%2e/serve-page.js', '/js/..%2f..%2fserve-page.js', '/index.html/']) {
+      expect((await get(path)).status, path).toBe(404);
+    }
+  });
+
+  it('filters events and stories by participant and place, refusing overlong filters', async () => {
+    const events = (await get('/api/events?place=Dunvessel&limit=200')).body;
+    expect(events.total).toBeGreaterThan(0);
+    for (const e of events.events) expect(e.places.some((p: string) => /dunvessel/i.test(p))).toBe(true);
+    const stories = (await get('/api/stories?participant=maskell&limit=200')).body;
+    expect(stories.total).toBeGreaterThan(0);
+    expect(stories.total).toBeLessThan((await get('/api/stories?limit=1')).body.total);
+    const r = await get(`/api/events?participant=${'x'.repeat(201)}`);
+    expect([r.status, r.body.error.code]).toEqual([400, 'STRAND_REQUEST_INVALID']);
+  });
+
+  it("shows the links that cross a story's edge, each with evidence saying it crossed", async () => {
+    const stories = (await get('/api/stories?limit=200')).body.stories as { id: string }[];
+    const crossing = [];
+    for (const s of stories)
+      crossing.push(...(await get(`/api/stories/${s.id}`)).body.crossLinks.map((c: object) => ({ story: s.id, ...c })));
+    // The demo has stories that refer back to others (the bridge inquiry to the bridge collapse).
+    expect(crossing.length).toBeGreaterThan(0);
+    for (const c of crossing) {
+      expect(c.evidence.crossStory).toBe(true);
+      expect(['in', 'out']).toContain(c.direction);
+      const event = (await get(`/api/events/${c.eventId}`)).body.event;
+      // In: the event is this story's and the sentence's article another's; out: the other way round.
+      const articleStory = (await get(`/api/articles/${encodeURIComponent(c.articleId)}`)).body.article.story;
+      if (c.direction === 'in') expect([event.story, articleStory === c.story]).toEqual([c.story, false]);
+      else expect([articleStory, event.story === c.story]).toEqual([c.story, false]);
+    }
   });
 
   it('lists outlets and dead letters', async () => {
