@@ -17,6 +17,9 @@
  *   large feed      one 10,000-item feed (about 19 MB) into an existing store, in a process
  *                   of its own: every item stored, seconds, peak resident memory
  *                   (src/bench/large-feed-run.ts);
+ *   desk page       the desk in headless Chromium over 5,000+ events and 500+ stories: first
+ *                   render and stream message to painted update, timed in the page
+ *                   (src/bench/desk-render.ts);
  *   linker vs batch the online linker's link step against the batch all-pairs baseline
  *                   (average-link agglomerative clustering) on the same 20,000 mentions of
  *                   the synthetic stream (src/bench/synthetic-stream.ts), same vectors.
@@ -45,10 +48,12 @@ import { createEmbedder } from '../embed/create-embedder.js';
 import { type AnalysisPool, analysisThreads, startAnalysisPool } from '../text/analysis-pool.js';
 import { createNlp } from '../text/nlp.js';
 import { syntheticStream } from './synthetic-stream.js';
+import { copies } from './demo-copies.js';
 import type { ScaleRow } from './link-scale.js';
 import type { TransformerRow } from './transformer-throughput.js';
 import type { LargeFeedRow } from './large-feed-run.js';
 import type { NotifyLatencyRow } from './notify-latency.js';
+import type { DeskRenderRow } from './desk-render.js';
 import { pollRounds } from './poll-rounds.js';
 import { redisAnswers, redisMemory, workerScaling } from './worker-scaling.js';
 
@@ -62,7 +67,6 @@ interface Row {
 }
 
 const REPEATS = 5;
-const DAY_MS = 86_400_000;
 
 /**
  * Runs a workload REPEATS times, each on a fresh store. The analysis threads are started
@@ -102,25 +106,6 @@ async function demoArticles(): Promise<Article[]> {
 
 async function demoTimesTen(): Promise<Article[]> {
   return copies(await demoArticles(), 10);
-}
-
-/** `n` copies of the articles with new ids and dates shifted by 20 days per copy. */
-function copies(base: readonly Article[], n: number): Article[] {
-  const out: Article[] = [];
-  for (let k = 0; k < n; k++) {
-    for (const a of base) {
-      const shift = (t: string | null) => (t ? new Date(Date.parse(t) + k * 20 * DAY_MS).toISOString() : t);
-      out.push({
-        ...a,
-        id: `${a.id}#copy${k}`,
-        url: a.url ? `${a.url}?copy=${k}` : null,
-        published: shift(a.published),
-        contentHash: `${a.contentHash}:${k}`,
-        duplicateOf: null,
-      });
-    }
-  }
-  return out;
 }
 
 interface VersusRow {
@@ -229,6 +214,15 @@ async function main(): Promise<void> {
           maxBuffer: 1 << 20,
         }),
       ) as NotifyLatencyRow);
+  // The desk page in a browser over 5,000 events and 500 stories or more (a process of its own; null without Chromium).
+  const desk: DeskRenderRow | null = quick
+    ? null
+    : (JSON.parse(
+        execFileSync(process.execPath, [fileURLToPath(new URL('./desk-render-run.js', import.meta.url))], {
+          encoding: 'utf8',
+          maxBuffer: 1 << 20,
+        }),
+      ) as DeskRenderRow | null);
   const versus = quick ? null : await linkerVersusBatch(20_000);
   const scale: ScaleRow[] = quick
     ? []
@@ -302,6 +296,13 @@ async function main(): Promise<void> {
         `  webhook received   p50 ${notify.webhookP50Ms.toFixed(0)} ms   p95 ${notify.webhookP95Ms.toFixed(0)} ms\n` +
         `  stream event       p50 ${notify.streamP50Ms.toFixed(0)} ms   p95 ${notify.streamP95Ms.toFixed(0)} ms\n`,
     );
+  if (desk)
+    process.stdout.write(
+      `\nthe desk page in Chromium over ${desk.events.toLocaleString('en')} events and ${desk.stories.toLocaleString('en')} stories:\n` +
+        `  first render       median ${desk.firstRenderMedianMs.toFixed(0)} ms   max ${desk.firstRenderMaxMs.toFixed(0)} ms (${desk.renders} fresh pages)\n` +
+        `  live update        p50 ${desk.liveUpdateP50Ms.toFixed(0)} ms   p95 ${desk.liveUpdateP95Ms.toFixed(0)} ms   max ${desk.liveUpdateMaxMs.toFixed(0)} ms (${desk.liveUpdates} stream messages to paint)\n`,
+    );
+  else if (!quick) process.stdout.write('\nthe desk page: not measured (no Chromium at /usr/bin/chromium)\n');
   if (transformer)
     process.stdout.write(
       `\ntransformer embedder (MiniLM-L6-sized compute, generated weights) on the demo, ${transformer.mentions} mentions:\n` +
@@ -353,7 +354,7 @@ async function main(): Promise<void> {
   const file = join('bench-results', `bench-${new Date().toISOString().replace(/[:.]/g, '-')}.json`);
   writeFileSync(
     file,
-    `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, notifyLatency: notify, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`,
+    `${JSON.stringify({ version: version(), node: process.version, date: new Date().toISOString(), repeats: REPEATS, cores: availableParallelism(), analysisThreads: threads, rows, peakRssMiB, largeFeed, evalSpeed, linkerVersusBatch: versus, notifyLatency: notify, deskRender: desk, linkScale: scale, transformer, workerScaling: scaling, machineCeiling: ceilings, redisMemory: redisMem, pollRounds: polling }, null, 2)}\n`,
   );
   process.stdout.write(`written: ${file}\n`);
 }

@@ -62,9 +62,10 @@ async function route(focus = true) {
     } else {
       if (!view.contains(deskLayout)) view.replaceChildren(deskLayout);
       if (!deskLoaded) {
-        await desk.loadOutlets().catch(() => {});
+        // The list first; the outlet choices fill in after it.
         await desk.load();
         deskLoaded = true;
+        void desk.loadOutlets().catch(() => {});
       }
       current.kind = kind ?? null;
       current.id = id ? decodeURIComponent(id) : null;
@@ -125,8 +126,7 @@ $('token-form').addEventListener('submit', (e) => {
 window.addEventListener('hashchange', () => void route());
 
 async function start() {
-  await refreshStatus();
-  await route(false);
+  await Promise.all([route(false), refreshStatus()]);
   live.start();
 }
 
