@@ -32,6 +32,7 @@ import { CorrectionQueue } from './correction-queue.js';
 import { fieldMap } from './intake.js';
 import { Lease } from './lease.js';
 import { decodeWork } from './wire.js';
+import { STOPPED, StopSignal } from './stop-signal.js';
 
 /** What the linker loop needs beyond the pipeline context. */
 export interface LinkerDeps {
@@ -59,6 +60,7 @@ interface Pending {
 
 export class QueueLinker {
   private stopping = false;
+  private readonly stopSignal = new StopSignal();
   private loop: Promise<void> | null = null;
   private readonly outcomes = new Subject<ArticleOutcome>();
   private readonly log: Logger;
@@ -92,6 +94,7 @@ export class QueueLinker {
   /** Finishes the group in hand, releases the lease and stops. */
   async stop(): Promise<void> {
     this.stopping = true;
+    this.stopSignal.stop();
     this.d.blocking.disconnect();
     await this.loop?.catch(() => undefined);
     this.stopRenewing();
@@ -224,8 +227,9 @@ export class QueueLinker {
         const next = await this.nextAnswered(position);
         if (next.length === 0) {
           // Wait for any new analysed entry (or a second), then look again.
-          const r = (await this.d.blocking.xread('COUNT', 1, 'BLOCK', 1000, 'STREAMS', keys.analysed, lastSeen)) as
-            [string, [string, string[]][]][] | null;
+          const r = (await this.stopSignal.race(this.d.blocking.xread('COUNT', 1, 'BLOCK', 1000, 'STREAMS', keys.analysed, lastSeen))) as
+            [string, [string, string[]][]][] | null | typeof STOPPED;
+          if (r === STOPPED) break;
           if (r) lastSeen = r[0]![1].at(-1)![0];
           continue;
         }

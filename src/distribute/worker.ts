@@ -19,6 +19,7 @@ import type { Keyspace } from '../store/redis/keys.js';
 import { defineScript } from '../store/redis/scripts.js';
 import type { Nlp } from '../text/nlp.js';
 import { WORKER_GROUP, ensureIntake, fieldMap } from './intake.js';
+import { STOPPED, StopSignal } from './stop-signal.js';
 import { decodeArticle, encodeWork } from './wire.js';
 
 /** What a worker needs. */
@@ -48,6 +49,7 @@ export class AnalysisWorker {
   readonly name: string;
   readonly counts: WorkerCounts = { answered: 0, failed: 0, dead: 0, claimed: 0 };
   private stopping = false;
+  private readonly stopSignal = new StopSignal();
   private loop: Promise<void> | null = null;
   private lastSweep = 0;
   private readonly log: Logger;
@@ -71,6 +73,7 @@ export class AnalysisWorker {
   /** Finishes the entries in hand and stops. */
   async stop(): Promise<void> {
     this.stopping = true;
+    this.stopSignal.stop();
     this.d.blocking.disconnect();
     await this.loop?.catch(() => undefined);
   }
@@ -80,18 +83,21 @@ export class AnalysisWorker {
     while (!this.stopping) {
       try {
         if (Date.now() - this.lastSweep >= q.claimIdleMs / 2) await this.sweep();
-        const reply = (await this.d.blocking.xreadgroup(
-          'GROUP',
-          WORKER_GROUP,
-          this.name,
-          'COUNT',
-          q.batch,
-          'BLOCK',
-          q.blockMs,
-          'STREAMS',
-          this.d.keys.intake,
-          '>',
-        )) as [string, Entry[]][] | null;
+        const reply = (await this.stopSignal.race(
+          this.d.blocking.xreadgroup(
+            'GROUP',
+            WORKER_GROUP,
+            this.name,
+            'COUNT',
+            q.batch,
+            'BLOCK',
+            q.blockMs,
+            'STREAMS',
+            this.d.keys.intake,
+            '>',
+          ),
+        )) as [string, Entry[]][] | null | typeof STOPPED;
+        if (reply === STOPPED) break;
         if (reply) await this.process(reply[0]![1]);
       } catch (err) {
         if (this.stopping) break;
