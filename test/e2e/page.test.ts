@@ -235,11 +235,12 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         await expect
           .poll(() => page.locator('.corrections .action-status').textContent())
           .toMatch(/Merged this event into the other \(cr_[0-9a-f]{12}\)/);
-        expect(page.url()).toContain(`#/events/${b.id}`);
         const merged = (await app.inject({ url: `/api/events/${b.id}` })).json().event;
         // A sentence linked to both counts once.
         expect(merged.mentionCount).toBeGreaterThan(b.mentionCount);
-        expect(await page.locator('#view-title').textContent()).toBe(merged.label);
+        // The survivor's view is drawn, keeping the outcome and its undo.
+        await expect.poll(() => page.locator('#view-title').textContent()).toBe(merged.label);
+        expect(page.url()).toContain(`#/events/${b.id}`);
         // The merged-away event's row, if shown, is marked where it stands; the survivor's row grows.
         expect((await app.inject({ url: `/api/events/${a.id}` })).statusCode).toBe(308);
         await expect
@@ -248,8 +249,8 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
 
         await page.locator('.corrections .action-status button.undo').click();
         await expect.poll(() => page.locator('.corrections .action-status').textContent()).toMatch(/Undone/);
+        await expect.poll(() => page.locator('#view-title').textContent()).toBe(a.label);
         expect(page.url()).toContain(`#/events/${a.id}`);
-        expect(await page.locator('#view-title').textContent()).toBe(a.label);
         expect((await app.inject({ url: `/api/events/${a.id}` })).json().event.mentionCount).toBe(a.mentionCount);
 
         await page.click('.tabs a[data-tab="corrections"]');
@@ -258,6 +259,83 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         expect(rows[0]).toMatch(/undid a correction/);
         expect(rows[1]).toMatch(/merged an event into another.*same walkout, two reports.*undone by/);
         await shootAndCheck(page, 'corrections');
+        expect(errors).toEqual([]);
+      } finally {
+        await page.context().close();
+      }
+    });
+
+    it('splits chosen sentences off an event, moves one back and detaches another, from the page', async () => {
+      const [event] = (await app.inject({ url: '/api/events?sort=mentions&limit=1' })).json().events;
+      const { page, errors } = await open(`${base}/#/events/${event.id}`);
+      try {
+        await page.locator('.event-view').waitFor();
+        // Nothing chosen: the page says so rather than sending an empty correction.
+        await page.click('button:has-text("Split chosen")');
+        expect(await page.locator('.corrections .action-status').textContent()).toMatch(/Choose one or more sentences/);
+        const boxes = page.locator('.mention-pick input[type=checkbox]');
+        await boxes.nth(1).check();
+        await boxes.nth(2).check();
+        await page.click('button:has-text("Split chosen")');
+        await expect
+          .poll(() => page.locator('.corrections .action-status').textContent())
+          .toMatch(/Split the chosen sentences into a new event \((cr_[0-9a-f]{12})\)/);
+        const split = (await app.inject({ url: '/api/corrections?limit=1' })).json().corrections[0];
+        expect(split).toMatchObject({ kind: 'split', events: [event.id, expect.stringMatching(/^ev_/)] });
+        expect(split.mentions).toHaveLength(2);
+        const newEvent = split.events[1];
+        expect((await app.inject({ url: `/api/events/${event.id}` })).json().event.mentionCount).toBe(event.mentionCount - 2);
+
+        // Move one of them back, by the new event's page and the event picker.
+        await page.goto(`${base}/#/events/${newEvent}`);
+        await page.locator('.event-view').waitFor();
+        await page.locator('.mention-pick input[type=checkbox]').first().check();
+        await page.fill('#move-to', event.id);
+        await page.click('.actions button:has-text("Move")');
+        await expect.poll(() => page.locator('.corrections .action-status').textContent()).toMatch(/Moved the chosen sentences/);
+        expect((await app.inject({ url: `/api/events/${newEvent}` })).json().event.mentionCount).toBe(1);
+        // The view is drawn again with what is left.
+        await expect.poll(() => page.locator('.mention').count()).toBe(1);
+
+        await page.goto(`${base}/#/events/${event.id}`);
+        await page.locator('.event-view').waitFor();
+        await page.locator('.mention button:has-text("Detach")').last().click();
+        await expect.poll(() => page.locator('.corrections .action-status').textContent()).toMatch(/Detached the sentence/);
+        const log = (await app.inject({ url: '/api/corrections?limit=3' })).json().corrections.map((c: { kind: string }) => c.kind);
+        expect(log).toEqual(['detach', 'move', 'split']);
+        expect(errors).toEqual([]);
+      } finally {
+        await page.context().close();
+      }
+    });
+
+    it('can be used from the keyboard alone, and names its parts for a screen reader', async () => {
+      const { page, errors } = await open(`${base}/`);
+      try {
+        await expect.poll(() => page.locator('#desk-list li').count()).toBeGreaterThan(10);
+        // The first Tab reaches the skip link; following it puts focus on the content.
+        await page.keyboard.press('Tab');
+        expect(await page.evaluate('document.activeElement.textContent')).toBe('Skip to the content');
+        await page.keyboard.press('Enter');
+        // Tab on through the filters to the first story, and open it with Enter.
+        let name = '';
+        for (let i = 0; i < 30 && !name.startsWith('#/stories/'); i++) {
+          await page.keyboard.press('Tab');
+          name = (await page.evaluate('document.activeElement.getAttribute("href") || ""')) as string;
+        }
+        expect(name).toMatch(/^#\/stories\/st_/);
+        await page.keyboard.press('Enter');
+        await page.locator('.story-view').waitFor();
+        // Focus moves to the view's heading, so a screen reader reads what opened.
+        expect(await page.evaluate('document.activeElement.id')).toBe('view-title');
+        const tree = await page.locator('body').ariaSnapshot();
+        expect(tree).toMatch(/navigation "Views"/);
+        expect(tree).toMatch(/link "Desk"/);
+        expect(tree).toMatch(/search "Filter the desk"/);
+        expect(tree).toMatch(/list "Stories"/);
+        expect(tree).toMatch(/group "Articles of this story by outlet and time of publication: \d+ outlet/);
+        expect(tree).toMatch(/searchbox "Participant"/);
+        expect(tree).toMatch(/combobox "Outlet"/);
         expect(errors).toEqual([]);
       } finally {
         await page.context().close();

@@ -133,8 +133,15 @@ export async function renderEvent(container, id, ctx) {
       await ctx.navigate(`#/events/${encodeURIComponent(id)}`);
       container.querySelector('.corrections .action-status')?.replaceWith(status);
     };
-    const result = await correct({ ...body, note: note.value.trim() || undefined }, status, done, () => show(e.id));
-    if (result) await show(body.kind === 'merge' ? body.into : e.id);
+    // One correction at a time: the view's buttons wait for this one.
+    const buttons = [...container.querySelectorAll('.event-view button')];
+    for (const b of buttons) b.disabled = true;
+    try {
+      const result = await correct({ ...body, note: note.value.trim() || undefined }, status, done, () => show(e.id));
+      if (result) await show(body.kind === 'merge' ? body.into : e.id);
+    } finally {
+      for (const b of buttons) b.disabled = false;
+    }
   }
   const chosen = () => [...selected.values()];
   const needChosen = () => {
