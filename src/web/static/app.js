@@ -108,6 +108,15 @@ async function refreshStatus() {
   }
 }
 
+// The header's counts follow the stream too, at most once a second.
+let countsDue = null;
+live.listen(() => {
+  countsDue ??= setTimeout(() => {
+    countsDue = null;
+    void refreshStatus();
+  }, 1000);
+});
+
 onKeyNeeded((status) => {
   $('token-form').hidden = false;
   $('token-form').querySelector('label').textContent =

@@ -195,7 +195,8 @@ export function createDesk({ live, selected }) {
         li.append(el('span', { class: 'meta' }, 'merged into another (show the new list to see where)'));
       }
     }
-    void refresh([receivedAt]);
+    // A failed read leaves the rows as they are; the next message or poll tries again.
+    refresh([receivedAt]).catch(() => undefined);
   });
 
   let typing = null;
@@ -205,7 +206,10 @@ export function createDesk({ live, selected }) {
       fillSorts();
     }
     clearTimeout(typing);
-    typing = setTimeout(() => void load().catch(() => {}), e.target.name === 'mode' ? 0 : 250);
+    typing = setTimeout(
+      () => void load().catch((err) => (count.textContent = `Could not load: ${err.message}`)),
+      e.target.name === 'mode' ? 0 : 250,
+    );
   });
   form.addEventListener('submit', (e) => e.preventDefault());
 
