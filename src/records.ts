@@ -159,6 +159,11 @@ export interface LinkEvidence {
    * time, plus link.crossStoryMargin for an event of another story sharing no name.
    */
   bar?: number;
+  /**
+   * For a sentence that opened its event: the nearest known event, its score and the bar it
+   * fell short of. Absent when no event was a candidate (and on links made before it was kept).
+   */
+  nearest?: { eventId: string; score: number; bar: number };
 }
 
 /** A mention → event link with its score and evidence. */

@@ -39,6 +39,18 @@ export const evidenceSchema = {
       description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor).",
     },
     correctedBy: { ...str, description: "Set when an analyst's correction put the link here: the correction's id in /api/corrections." },
+    bar: {
+      ...num,
+      description:
+        'The score the link had to reach: the threshold as calibrated on the stream at the time, plus link.crossStoryMargin for an event of another story sharing no name.',
+    },
+    nearest: {
+      type: 'object',
+      description:
+        'For a sentence that opened its event: the nearest known event, its score and the bar it fell short of (absent when there was no candidate). A near miss is where a missed link would be.',
+      properties: { eventId: str, score: num, bar: num },
+      required: ['eventId', 'score', 'bar'],
+    },
   },
   required: ['similarity', 'timeDecay', 'timeGapDays', 'sharedParticipants', 'sharedPlaces', 'overlapBonus', 'opened'],
 } as const;

@@ -9,7 +9,7 @@
  * commit leaves the linker exactly as it was. Over 350 lines because planning a link,
  * applying it and planning merges share the linker's private indexes and tallies.
  */
-import type { EmbeddedMention, Link } from '../records.js';
+import type { EmbeddedMention, Link, LinkEvidence } from '../records.js';
 import type { LinkTally } from '../store/store.js';
 import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
@@ -219,6 +219,7 @@ export class OnlineLinker {
       if (this.calibration.isHigh(scored[0]?.score ?? 0)) tally.high++;
 
       const chosen: { sc: ScoredCandidate | null; id: string }[] = [];
+      let nearest: LinkEvidence['nearest'];
       // The bar a candidate must clear: higher for an event of another story that shares
       // no name with the sentence (a shared participant or place is the stronger evidence
       // that lets a link cross stories).
@@ -238,6 +239,8 @@ export class OnlineLinker {
           chosen.push({ sc, id: sc.event.id });
         }
       } else {
+        const top = scored[0];
+        if (top) nearest = { eventId: top.event.id, score: top.score, bar: bar(top) };
         const id = eventIdFor(m);
         const e = openEvent(id, m);
         e.story = story;
@@ -263,7 +266,16 @@ export class OnlineLinker {
           rank,
           evidence: sc
             ? sc.evidence
-            : { similarity: 1, timeDecay: 1, timeGapDays: 0, sharedParticipants: [], sharedPlaces: [], overlapBonus: 0, opened: true },
+            : {
+                similarity: 1,
+                timeDecay: 1,
+                timeGapDays: 0,
+                sharedParticipants: [],
+                sharedPlaces: [],
+                overlapBonus: 0,
+                opened: true,
+                ...(nearest ? { nearest } : {}),
+              },
         });
         if (!hadOutlet && sc)
           outletsAdded.push({

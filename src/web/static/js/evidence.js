@@ -3,7 +3,12 @@ import { el, scoreBar } from './dom.js';
 
 /** The evidence of one link, in words. */
 export function evidenceText(ev) {
-  if (ev.opened) return 'opened an event: the first sentence seen reporting it (that event may since have been merged into this one)';
+  if (ev.opened) {
+    const near = ev.nearest
+      ? `; the nearest known event scored ${ev.nearest.score.toFixed(2)}, short of the ${ev.nearest.bar.toFixed(2)} it needed`
+      : '';
+    return `opened an event: the first sentence seen reporting it (that event may since have been merged into this one)${near}`;
+  }
   const parts = [`similarity ${ev.similarity.toFixed(2)}`, `time gap ${ev.timeGapDays} d (×${ev.timeDecay.toFixed(2)})`];
   const shared = [...ev.sharedParticipants, ...ev.sharedPlaces];
   if (shared.length) parts.push(`shared names: ${shared.join(', ')} (+${ev.overlapBonus.toFixed(2)})`);
