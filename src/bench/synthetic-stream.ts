@@ -6,7 +6,7 @@
  * sentences. Seeded, so the same size always gives the same stream.
  */
 import type { EvalArticle, GoldLine } from '../eval/eval-input.js';
-import { seededRandom as rng } from './seeded-random.js';
+import { seededRandom as rng } from '../seeded-random.js';
 
 /** A generated stream: articles with pre-split sentences, and the gold. */
 export interface SyntheticStream {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { CentroidIndex } from '../../src/link/centroid-index.js';
-import { seededRandom as rng } from '../../src/bench/seeded-random.js';
+import { seededRandom as rng } from '../../src/seeded-random.js';
 
 describe('the centroid index', () => {
   it('finds the nearest centroids exactly while small, and forgets removed events', () => {

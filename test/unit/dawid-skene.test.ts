@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { seededRandom } from '../../src/bench/seeded-random.js';
+import { seededRandom } from '../../src/seeded-random.js';
 import { type Answer, dawidSkene, majorityVote } from '../../src/review/dawid-skene.js';
 
 // Simulations in the manner of Dawid & Skene 1979 (Applied Statistics 28(1)): items with a

@@ -10,7 +10,7 @@ import {
   mucScore,
   scorePartitions,
 } from '../../src/eval/partition-metrics.js';
-import { seededRandom as rng } from '../../src/bench/seeded-random.js';
+import { seededRandom as rng } from '../../src/seeded-random.js';
 
 const P = (s: string): Partition =>
   s
