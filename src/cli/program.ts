@@ -15,6 +15,14 @@ function integer(name: string, min: number, max: number) {
   };
 }
 
+function share(name: string, max: number) {
+  return (value: string): number => {
+    const x = Number(value);
+    if (!/^\d*\.?\d+$/.test(value) || !(x >= 0 && x <= max)) throw new InvalidArgumentError(`${name} must be a number from 0 to ${max}`);
+    return x;
+  };
+}
+
 function common(cmd: Command): Command {
   return cmd
     .option('-c, --config <file>', 'JSON configuration merged over config/default.json (or set STRANDLINE_CONFIG)')
@@ -117,6 +125,26 @@ function buildProgram(done: (code: number) => void): Command {
     .option('--out <dir>', 'where to write the reports (default eval-results/<time>)')
     .option('--json', 'print the report as JSON')
     .action(async (opts) => done(await (await import('./commands/eval.js')).evalCommand(opts)));
+
+  const review = program
+    .command('review')
+    .description("reviewers' judgements of links: what they are worth, measured on annotated corpora");
+  common(review.command('simulate'))
+    .description(
+      "simulate reviews on annotated corpora: draw the review queue's sample from the linker's decisions, answer it from gold with reviewer slips, fit the threshold and score it (CoNLL F1 regret), and check the quality estimates' 95 % intervals against the truth",
+    )
+    .option('--corpus <dir...>', 'corpus folders, as for eval')
+    .option('--reviews <n>', 'reviewed decisions the threshold fit gets', integer('--reviews', 10, 100_000), 200)
+    .option('--noise <share>', 'share of answers a reviewer gets wrong', share('--noise', 0.5), 0.1)
+    .option(
+      '--estimate-reviews <n>',
+      'reviewed decisions (five reviewers each) the quality estimate gets',
+      integer('--estimate-reviews', 10, 100_000),
+      300,
+    )
+    .option('--runs <n>', 'seeded runs', integer('--runs', 1, 1000), 10)
+    .option('--json', 'print the rows as JSON')
+    .action(async (opts) => done(await (await import('./commands/review.js')).reviewSimulateCommand(opts)));
 
   common(program.command('export-demo'))
     .description('write the demo as articles.jsonl and gold.jsonl in the evaluation format')

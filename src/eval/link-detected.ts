@@ -14,6 +14,7 @@ import { StoryLinker } from '../link/story-linker.js';
 import type { Logger } from '../logger.js';
 import { type ArticleOutcome, type DetectedWork, type PipelineContext, admitWork, linkStages } from '../pipeline/index.js';
 import { openSqliteStore } from '../store/sqlite/sqlite-store.js';
+import type { Store } from '../store/store.js';
 import type { Nlp } from '../text/nlp.js';
 
 /** What one run of the link stage gave. */
@@ -32,6 +33,7 @@ export async function linkDetected(
   config: Readonly<Config>,
   detected: readonly DetectedWork[],
   deps: { nlp: Nlp; logger: Logger; now: () => Date; embedder?: Embedder },
+  inspect?: (store: Store, outcomes: readonly ArticleOutcome[]) => Promise<void>,
 ): Promise<LinkRun> {
   const store = openSqliteStore(':memory:');
   const embedder = deps.embedder?.learn === undefined && deps.embedder ? deps.embedder : await createEmbedder(config.embed);
@@ -56,7 +58,10 @@ export async function linkDetected(
         toArray(),
       ),
     );
-    return { outcomes, seconds: (performance.now() - t0) / 1000 };
+    const seconds = (performance.now() - t0) / 1000;
+    // What the store holds at the end, read before it goes (the review simulation reads the links' scores).
+    await inspect?.(store, outcomes);
+    return { outcomes, seconds };
   } finally {
     await store.close();
   }

@@ -4,7 +4,7 @@
  *
  * In stratum h of N_h candidates, n_h answered and x_h judged "same event", the number of
  * right decisions of that kind is estimated as N_h x_h / n_h (the stratified estimator of a
- * total), with variance N_h^2 (1 - n_h/N_h) s_h^2 / n_h. True links TP are summed over the
+ * total), with variance N_h^2 s_h^2 / n_h (no finite-population correction, below). True links TP are summed over the
  * link strata, missed links FN over the miss strata; precision = TP / (links made),
  * recall = TP / (TP + FN), its variance by the delta method (TP and FN come from disjoint
  * strata, so they are independent). For the variance only, a stratum's share is taken as
@@ -43,7 +43,9 @@ function total(population: number, answers: readonly ReviewedItem[]): { total: n
   const x = answers.filter((a) => a.same).length;
   const shared = (x + 1) / (n + 2);
   const s2 = n > 1 ? (shared * (1 - shared) * n) / (n - 1) : shared * (1 - shared);
-  return { total: (population * x) / n, variance: (population ** 2 * (1 - n / population) * s2) / n };
+  // No finite-population correction: answers carry reviewers' slips, so even a stratum
+  // reviewed whole is not known exactly; the sampling variance stands in for both.
+  return { total: (population * x) / n, variance: (population ** 2 * s2) / n };
 }
 
 /** Precision and recall from the design and the reviewed items (unsure answers left out before). */

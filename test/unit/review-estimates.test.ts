@@ -116,6 +116,10 @@ describe('fitting the threshold to reviewed decisions', () => {
     expect(Math.abs(fitOffset(items(0, 3)).offset)).toBeLessThan(0.03);
     expect(Math.abs(fitOffset(items(0.4, 4), 0.15).offset)).toBeLessThanOrEqual(0.15);
     expect(fitOffset([{ margin: 0.2, same: true, weight: 1 }]).offset).toBe(0);
+    // Right half the time whatever the score (alike reports of different happenings): the answers do not place the bar.
+    const rnd = seededRandom(5);
+    const flat = Array.from({ length: 400 }, () => ({ margin: rnd() * 0.8, same: rnd() < 0.5, weight: 1 }));
+    expect(fitOffset(flat)).toMatchObject({ offset: 0, placed: false });
     expect(decisionF1([{ margin: 0.1, same: false, weight: 1 }], 0)).toBe(0);
   });
 });
