@@ -2,7 +2,7 @@
 // same in words), its events in time order, the links that cross its edge with their
 // evidence, and merging it into another story.
 import { api } from './api.js';
-import { el, fmtDay, fmtSpan, fmtTime, isFigure, plural } from './dom.js';
+import { el, fmtDay, fmtSpan, fmtTime, isFigure, plural, problem } from './dom.js';
 import { laneChart } from './charts.js';
 import { scoreLine } from './evidence.js';
 import { firstReporters, pickTarget } from './event-view.js';
@@ -17,7 +17,7 @@ export async function renderStory(container, id, ctx) {
   const note = el('input', { id: 'story-note', type: 'text', maxlength: 2000, placeholder: 'why (kept in the audit log)' });
   const merge = async () => {
     if (!/^st_[0-9a-f]{16}$/.test(mergeInto.value())) {
-      status.textContent = 'Pick the story to merge into from the list (an st_ id).';
+      status.replaceChildren(problem('Pick the story to merge into from the list (an st_ id).'));
       return;
     }
     const into = mergeInto.value();
@@ -28,6 +28,20 @@ export async function renderStory(container, id, ctx) {
     };
     const body = { kind: 'merge-stories', from: s.id, into, note: note.value.trim() || undefined };
     if (await correct(body, status, 'Merged this story into the other', () => show(s.id))) await show(into);
+  };
+  const chosen = new Set();
+  const divide = async () => {
+    if (!chosen.size) {
+      status.replaceChildren(problem('Choose one or more articles first (the boxes in the list of articles).'));
+      return;
+    }
+    const show = async () => {
+      ctx.changed();
+      await ctx.navigate(`#/stories/${encodeURIComponent(s.id)}`);
+      container.querySelector('.corrections .action-status')?.replaceWith(status);
+    };
+    const body = { kind: 'split-story', from: s.id, articles: [...chosen], note: note.value.trim() || undefined };
+    if (await correct(body, status, 'Moved the chosen articles to a new story', show)) await show();
   };
   const names = s.names.filter((n) => !isFigure(n));
   const lanes = d.byOutlet.map((g) => ({ outlet: g.outlet, articles: g.articles }));
@@ -63,6 +77,42 @@ export async function renderStory(container, id, ctx) {
         : null,
       el('h3', {}, 'Outlets over time'),
       laneChart({ lanes, title: 'Articles of this story by outlet and time of publication' }),
+      el(
+        'details',
+        { class: 'articles-list' },
+        el('summary', {}, `The same as a list: ${plural(s.articleCount, 'article')} by outlet (choose some to move them to a new story)`),
+        d.byOutlet.map((g) =>
+          el(
+            'section',
+            { class: 'outlet', 'aria-label': g.outlet },
+            el('h4', {}, g.outlet),
+            el(
+              'ul',
+              { class: 'plain' },
+              g.articles.map((a, i) => {
+                const box = el('input', {
+                  type: 'checkbox',
+                  id: `article-${g.outlet}-${i}`.replace(/[^A-Za-z0-9_-]/g, '_'),
+                  onchange: (ev) => (ev.target.checked ? chosen.add(a.id) : chosen.delete(a.id)),
+                });
+                return el(
+                  'li',
+                  {},
+                  box,
+                  el('label', { for: box.id, class: 'sr-only' }, `Choose ${a.title} to move it to a new story`),
+                  ' ',
+                  el('a', { href: `#/articles/${encodeURIComponent(a.id)}` }, a.title || a.id),
+                  el(
+                    'span',
+                    { class: 'meta' },
+                    ` · ${fmtTime(a.published)}${i === 0 ? ' · first report' : ''}${a.duplicateOf ? ' · copy of another article' : ''}`,
+                  ),
+                );
+              }),
+            ),
+          ),
+        ),
+      ),
       el('h3', {}, `Events, in the order they were first reported (${d.events.length})`),
       el(
         'ol',
@@ -128,6 +178,11 @@ export async function renderStory(container, id, ctx) {
         el('h3', {}, 'Correct the machine'),
         el('label', { for: 'story-note', class: 'field' }, el('span', {}, 'Note'), note),
         el('div', { class: 'actions' }, mergeInto.field, el('button', { type: 'button', onclick: () => void merge() }, 'Merge')),
+        el(
+          'div',
+          { class: 'actions' },
+          el('button', { type: 'button', id: 'divide-button', onclick: () => void divide() }, 'Move the chosen articles to a new story'),
+        ),
         status,
       ),
     ),
