@@ -30,12 +30,16 @@ import type {
   StoryUnsplitCommit,
   Subscription,
   Subscriptions,
+  ReviewAnswer,
+  ReviewRound,
+  Reviews,
 } from './store.js';
 
 /** The parts a store is made of besides its commits. */
-export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, ApiKeys, Corrections, FeedRegistry, Retention {
+export abstract class StoreParts implements EventQueries, Outbox, Subscriptions, ApiKeys, Reviews, Corrections, FeedRegistry, Retention {
   protected abstract readonly corrections: Corrections;
   protected abstract readonly apiKeys: ApiKeys;
+  protected abstract readonly reviews: Reviews;
   protected abstract readonly queries: EventQueries;
   protected abstract readonly outbox: Outbox;
   protected abstract readonly subscriptions: Subscriptions;
@@ -122,6 +126,21 @@ export abstract class StoreParts implements EventQueries, Outbox, Subscriptions,
   }
   deleteApiKey(id: string): Promise<boolean> {
     return this.apiKeys.deleteApiKey(id);
+  }
+  addReviewRound(r: ReviewRound): Promise<void> {
+    return this.reviews.addReviewRound(r);
+  }
+  listReviewRounds(): Promise<Omit<ReviewRound, 'items'>[]> {
+    return this.reviews.listReviewRounds();
+  }
+  getReviewRound(id: string): Promise<ReviewRound | null> {
+    return this.reviews.getReviewRound(id);
+  }
+  putReviewAnswer(a: ReviewAnswer): Promise<void> {
+    return this.reviews.putReviewAnswer(a);
+  }
+  reviewAnswers(round: string): Promise<ReviewAnswer[]> {
+    return this.reviews.reviewAnswers(round);
   }
   commitCorrection(c: CorrectionCommit): Promise<void> {
     return this.corrections.commitCorrection(c);

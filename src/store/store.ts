@@ -5,6 +5,7 @@
  * narrow part it needs (ArticleLog, LinkingState, EventQueries, Outbox, ...). Over 350
  * lines because the records the parts exchange are defined once, beside them.
  */
+import type { ReviewCandidate, Stratum, StratumDesign } from '../review/sampling.js';
 import type { Article, EmbeddedMention, EventRecord, Link, LinkEvidence, Mention, TimeExpression, Vector } from '../records.js';
 import type { StoryRecord } from '../link/story-state.js';
 import type { AlertRule } from '../notify/alert-rules.js';
@@ -744,6 +745,47 @@ export interface ApiKeys {
   deleteApiKey(id: string): Promise<boolean>;
 }
 
+/** A reviewer's answer about one item: the same event, another one, or cannot tell. */
+export type ReviewVerdict = 'same' | 'different' | 'unsure';
+
+/** One decision offered for review (review/sampling.ts), numbered within its round. */
+export interface ReviewItem extends ReviewCandidate {
+  item: number;
+  stratum: Stratum;
+}
+
+/** A round of reviews: the sample drawn, how it was drawn, how many reviewers each item wants. */
+export interface ReviewRound {
+  id: string;
+  created: string;
+  /** Who drew it (API key id, or local). */
+  by: string;
+  margin: number;
+  seed: number;
+  reviewersPerItem: number;
+  design: StratumDesign[];
+  items: ReviewItem[];
+}
+
+export interface ReviewAnswer {
+  round: string;
+  item: number;
+  reviewer: string;
+  verdict: ReviewVerdict;
+  at: string;
+}
+
+/** Review rounds and their answers, shared by every api process. */
+export interface Reviews {
+  addReviewRound(r: ReviewRound): Promise<void>;
+  /** Every round, newest first, without their items. */
+  listReviewRounds(): Promise<Omit<ReviewRound, 'items'>[]>;
+  getReviewRound(id: string): Promise<ReviewRound | null>;
+  /** Records an answer; a reviewer's later answer about the same item replaces the earlier one. */
+  putReviewAnswer(a: ReviewAnswer): Promise<void>;
+  reviewAnswers(round: string): Promise<ReviewAnswer[]>;
+}
+
 /** The polled feeds and their state, shared by every api process. */
 export interface FeedRegistry {
   /** Every polled feed, in the order added. */
@@ -799,6 +841,7 @@ export interface Store
     Outbox,
     Subscriptions,
     ApiKeys,
+    Reviews,
     Corrections,
     FeedRegistry,
     Retention,

@@ -26,6 +26,7 @@ import {
   type Subscription,
   newFeedState,
   type EventQuery,
+  type ReviewRound,
   type StoryQuery,
 } from '../../src/store/store.js';
 import { EVERYTHING } from '../../src/notify/alert-rules.js';
@@ -763,6 +764,59 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.deleteApiKey('key_000000000002')).toBe(true);
       expect(await store.deleteApiKey('key_000000000002')).toBe(false);
       expect((await store.listApiKeys()).map((k) => k.id)).toEqual(['key_000000000001']);
+    });
+
+    it('keeps review rounds, newest first, and each reviewer’s latest answer per item', async () => {
+      expect(await store.listReviewRounds()).toEqual([]);
+      const item = (i: number): ReviewRound['items'][number] => ({
+        item: i,
+        stratum: 'near-bar',
+        articleId: `https://x.example/${i}?a={b}`,
+        sentenceIndex: i,
+        eventId: `ev_${String(i).padStart(16, '0')}`,
+        linked: true,
+        score: 0.3,
+        bar: 0.25,
+        crossStory: false,
+        outlet: 'Northwire',
+        published: '2026-10-05T10:00:00.000Z',
+      });
+      const round = (id: string, created: string): ReviewRound => ({
+        id,
+        created,
+        by: 'local',
+        margin: 0.1,
+        seed: 1,
+        reviewersPerItem: 3,
+        design: [{ stratum: 'near-bar', population: 40, sampled: 2 }],
+        items: [item(0), item(1)],
+      });
+      await store.addReviewRound(round('rv_000000000001', '2026-10-05T00:00:00.000Z'));
+      await store.addReviewRound(round('rv_000000000002', '2026-10-06T00:00:00.000Z'));
+      expect((await store.listReviewRounds()).map((r) => [r.id, 'items' in r])).toEqual([
+        ['rv_000000000002', false],
+        ['rv_000000000001', false],
+      ]);
+      expect(await store.getReviewRound('rv_000000000001')).toEqual(round('rv_000000000001', '2026-10-05T00:00:00.000Z'));
+      expect(await store.getReviewRound('rv_000000000404')).toBeNull();
+      const answer = (i: number, reviewer: string, verdict: 'same' | 'different' | 'unsure', at: string) => ({
+        round: 'rv_000000000001',
+        item: i,
+        reviewer,
+        verdict,
+        at,
+      });
+      await store.putReviewAnswer(answer(1, 'ana', 'same', '2026-10-05T01:00:00.000Z'));
+      await store.putReviewAnswer(answer(0, 'ben', 'unsure', '2026-10-05T01:00:00.000Z'));
+      await store.putReviewAnswer(answer(0, 'ana', 'different', '2026-10-05T02:00:00.000Z'));
+      // A reviewer who changes their mind replaces their answer.
+      await store.putReviewAnswer(answer(0, 'ben', 'same', '2026-10-05T03:00:00.000Z'));
+      expect(await store.reviewAnswers('rv_000000000001')).toEqual([
+        answer(0, 'ana', 'different', '2026-10-05T02:00:00.000Z'),
+        answer(0, 'ben', 'same', '2026-10-05T03:00:00.000Z'),
+        answer(1, 'ana', 'same', '2026-10-05T01:00:00.000Z'),
+      ]);
+      expect(await store.reviewAnswers('rv_000000000002')).toEqual([]);
     });
 
     it('replaces the linker state of a stored event, and skips one no longer stored', async () => {

@@ -383,7 +383,10 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
     });
 
     it('lists a story’s articles under its lane chart, and moves chosen ones to a new story', async () => {
-      const stories = (await app.inject({ url: '/api/stories?sort=articles&limit=200' })).json().stories as { id: string; articleCount: number }[];
+      const stories = (await app.inject({ url: '/api/stories?sort=articles&limit=200' })).json().stories as {
+        id: string;
+        articleCount: number;
+      }[];
       const story = stories.filter((x) => x.articleCount >= 3).at(-1)!;
       const { page, errors } = await open(`${base}/#/stories/${story.id}`);
       try {
@@ -393,10 +396,14 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         expect(await boxes.count()).toBe(story.articleCount);
         await boxes.last().check();
         await page.click('#divide-button');
-        await expect.poll(() => page.locator('.corrections .action-status').textContent()).toMatch(/Moved the chosen articles to a new story \(cr_/);
+        await expect
+          .poll(() => page.locator('.corrections .action-status').textContent())
+          .toMatch(/Moved the chosen articles to a new story \(cr_/);
         const c = (await app.inject({ url: '/api/corrections?limit=1' })).json().corrections[0];
         expect(c).toMatchObject({ kind: 'split-story', events: [story.id, expect.stringMatching(/^st_/)] });
-        await expect.poll(async () => (await app.inject({ url: `/api/stories/${story.id}` })).json().story.articleCount).toBe(story.articleCount - 1);
+        await expect
+          .poll(async () => (await app.inject({ url: `/api/stories/${story.id}` })).json().story.articleCount)
+          .toBe(story.articleCount - 1);
         expect(errors).toEqual([]);
       } finally {
         await page.context().close();

@@ -56,6 +56,11 @@ export interface Keyspace {
   /** Hash: API key id → JSON key record (its hash, not the key); sorted set of ids by when made. */
   readonly apiKeys: string;
   readonly apiKeyOrder: string;
+  /** Hash: review round id → JSON (items included); sorted set: their order by creation. */
+  readonly reviewRounds: string;
+  readonly reviewRoundOrder: string;
+  /** Hash per round: `${item}\n${reviewer}` → JSON answer. */
+  reviewAnswers(round: string): string;
   /** Sorted set of one subscription's deliveries (`<message>\n<subscriber>`) by notification number. */
   subscriptionDeliveries(name: string): string;
   /** Hash: `<message>\n<subscriber>` → JSON delivery state; sorted sets of due and dead deliveries. */
@@ -156,6 +161,9 @@ export function keyspace(partition: string): Keyspace {
     correctionUndone: `${p}:correction-undone`,
     apiKeys: `${p}:api-keys`,
     apiKeyOrder: `${p}:api-key-order`,
+    reviewRounds: `${p}:review-rounds`,
+    reviewRoundOrder: `${p}:review-round-order`,
+    reviewAnswers: (round) => `${p}:review-answers:${round}`,
     subscriptionDeliveries: (name) => `${p}:subscription-deliveries:${name}`,
     deliveries: `${p}:deliveries`,
     due: `${p}:due`,

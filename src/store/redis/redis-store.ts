@@ -45,6 +45,7 @@ import { RedisOutbox } from './outbox.js';
 import { RedisFeedRegistry } from './feed-registry.js';
 import { RedisSubscriptions } from './subscriptions.js';
 import { RedisApiKeys } from './api-keys.js';
+import { RedisReviews } from './reviews.js';
 import { RedisCorrections } from './corrections.js';
 import { RedisRetention } from './retention.js';
 import { cmp, parseMerge, pipelined, splitMember } from './pipelined.js';
@@ -116,6 +117,7 @@ export class RedisStore extends StoreParts implements Store {
   protected readonly queries: RedisEventQueries;
   protected readonly outbox: RedisOutbox;
   protected readonly apiKeys: RedisApiKeys;
+  protected readonly reviews: RedisReviews;
   protected readonly corrections: RedisCorrections;
   protected readonly subscriptions: RedisSubscriptions;
   protected readonly feeds: RedisFeedRegistry;
@@ -150,6 +152,7 @@ export class RedisStore extends StoreParts implements Store {
     this.outbox = new RedisOutbox(redis, k, this.scripts.pruneNotifications, this.scripts.recordAttempt);
     this.subscriptions = new RedisSubscriptions(redis, k, this.outbox, this.scripts);
     this.apiKeys = new RedisApiKeys(redis, k);
+    this.reviews = new RedisReviews(redis, k);
     this.corrections = new RedisCorrections(redis, k, {
       commit: (c) => this.runCorrection(c),
       unmerge: (u) => this.runStoryUnmerge(u),

@@ -251,4 +251,20 @@ export const MIGRATIONS: readonly Migration[] = [
     data TEXT NOT NULL
   );
   `,
+  // Review rounds (the sample with its design) and reviewers' answers.
+  `
+  CREATE TABLE review_rounds (
+    seq  INTEGER PRIMARY KEY,
+    id   TEXT NOT NULL UNIQUE,
+    data TEXT NOT NULL
+  );
+  CREATE TABLE review_answers (
+    round    TEXT NOT NULL,
+    item     INTEGER NOT NULL,
+    reviewer TEXT NOT NULL,
+    verdict  TEXT NOT NULL,
+    at       TEXT NOT NULL,
+    PRIMARY KEY (round, item, reviewer)
+  );
+  `,
 ];

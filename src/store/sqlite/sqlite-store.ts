@@ -38,6 +38,7 @@ import { SqliteOutbox } from './outbox.js';
 import { SqliteFeedRegistry } from './feed-registry.js';
 import { SqliteSubscriptions } from './subscriptions.js';
 import { SqliteApiKeys } from './api-keys.js';
+import { SqliteReviews } from './reviews.js';
 import { SqliteCorrections } from './corrections.js';
 import { SqliteRetention } from './retention.js';
 import { type Row, labelStatements, mentionOf } from './rows.js';
@@ -106,6 +107,7 @@ export class SqliteStore extends StoreParts implements Store {
   protected readonly queries: SqliteEventQueries;
   protected readonly outbox: SqliteOutbox;
   protected readonly apiKeys: SqliteApiKeys;
+  protected readonly reviews: SqliteReviews;
   protected readonly corrections: SqliteCorrections;
   protected readonly subscriptions: SqliteSubscriptions;
   protected readonly feeds: SqliteFeedRegistry;
@@ -127,6 +129,7 @@ export class SqliteStore extends StoreParts implements Store {
     this.outbox = new SqliteOutbox(db, this.write);
     this.subscriptions = new SqliteSubscriptions(db, this.write);
     this.apiKeys = new SqliteApiKeys(db, this.write);
+    this.reviews = new SqliteReviews(db, this.write);
     this.corrections = new SqliteCorrections(
       db,
       this.write,
