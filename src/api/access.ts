@@ -34,7 +34,7 @@ export interface AccessPolicy {
 const READS = new Set(['GET', 'HEAD', 'OPTIONS']);
 const OPEN = new Set(['/api/health']);
 /** Reads of the operator's own settings (webhook targets, delivery logs), protected like changes. */
-const OPERATOR_READS = ['/api/subscriptions', '/api/webhooks/'];
+const OPERATOR_READS = ['/api/subscriptions', '/api/webhooks/', '/api/reviews'];
 
 /** The scope a request to this route needs, or null when it is open under the policy. */
 export function requiredScope(protect: AccessPolicy['protect'], method: string, route: string): Scope | null {

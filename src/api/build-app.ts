@@ -25,6 +25,7 @@ import { type SubscriptionDeps, subscriptionRoutes } from './routes/subscription
 import { Metrics } from './metrics.js';
 import { type AccessPolicy, KeyRing, registerAccessCheck } from './access.js';
 import { keyRoutes } from './routes/keys.js';
+import { reviewRoutes } from './routes/reviews.js';
 import { type ApplyCorrection, correctionRoutes } from './routes/corrections.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
@@ -186,6 +187,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
   await app.register(keyRoutes, { store: deps.store, keys, now: () => new Date() });
+  await app.register(reviewRoutes, { store: deps.store, now: () => new Date() });
   await app.register(correctionRoutes, { store: deps.store, apply: deps.corrections });
   await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({

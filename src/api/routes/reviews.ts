@@ -1,0 +1,342 @@
+/**
+ * Review rounds: draw one from the linker's decisions, hand reviewers the next item with
+ * what they need to judge it, record their answers, and report what the answers say.
+ * Every route needs the manage scope (answers carry reviewers' names).
+ */
+import { StrandError } from '../../errors.js';
+import { drawRound, liveDecisions, nextItem, roundReport } from '../../review/rounds.js';
+import { STRATA } from '../../review/sampling.js';
+import type { EventQueries, ReviewRound, Reviews } from '../../store/store.js';
+import type { RoutePlugin } from '../route-plugin.js';
+import { CAUTION, dayOrTime, errorSchema, evidenceSchema, int, nullableStr, num, str } from '../schemas.js';
+
+const TAGS = ['reviews'];
+const roundId = { type: 'string', pattern: '^rv_[0-9a-f]{12}$' } as const;
+const params = { type: 'object', properties: { id: roundId }, required: ['id'] } as const;
+const reviewer = { type: 'string', minLength: 1, maxLength: 100, pattern: '^[^\\u0000-\\u001f\\u007f]+$' } as const;
+const roundSchema = {
+  type: 'object',
+  properties: {
+    id: str,
+    created: str,
+    by: str,
+    margin: num,
+    seed: int,
+    reviewersPerItem: int,
+    items: int,
+    design: {
+      type: 'array',
+      description: 'Each stratum: how many decisions it holds and how many were drawn (an answer stands for population / sampled of them).',
+      items: {
+        type: 'object',
+        properties: { stratum: { type: 'string', enum: [...STRATA] }, population: int, sampled: int },
+        required: ['stratum', 'population', 'sampled'],
+      },
+    },
+  },
+  required: ['id', 'created', 'by', 'margin', 'seed', 'reviewersPerItem', 'items', 'design'],
+} as const;
+const nullableNum = { type: ['number', 'null'] } as const;
+const estimate = {
+  type: 'object',
+  description: 'null where the answers cannot tell yet (no answers in a stratum the estimate needs).',
+  properties: { value: nullableNum, low: nullableNum, high: nullableNum, answers: int },
+  required: ['value', 'low', 'high', 'answers'],
+} as const;
+const quality = { type: 'object', properties: { precision: estimate, recall: estimate }, required: ['precision', 'recall'] } as const;
+
+/** Numbers that are not (an estimate with nothing to rest on) as null. */
+function finite<T>(x: T): T {
+  return JSON.parse(JSON.stringify(x, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v))) as T;
+}
+
+const summary = (r: ReviewRound | Omit<ReviewRound, 'items'>, items: number) => {
+  const { id, created, by, margin, seed, reviewersPerItem, design } = r;
+  return { id, created, by, margin, seed, reviewersPerItem, items, design };
+};
+
+/** /api/reviews and below. */
+export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () => Date }> = async (app, { store, now }) => {
+  const find = async (id: string): Promise<ReviewRound> => {
+    const r = await store.getReviewRound(id);
+    if (!r) throw new StrandError('STRAND_NOT_FOUND', `no review round ${id}`);
+    return r;
+  };
+
+  app.post(
+    '/api/reviews',
+    {
+      schema: {
+        summary: "Draw a review round from the linker's decisions",
+        description:
+          'The decisions about sentences of events active in the window (from, to; at most maxEvents events, most recent first): links, and misses with their nearest event. They fall into strata (near-bar, confident and cross-story links; near and far misses); each stratum gets the same share of `size` (what a small one lacks goes to the others), so that the answers estimate precision and recall without bias. Each item wants `reviewersPerItem` answers.',
+        tags: TAGS,
+        body: {
+          type: 'object',
+          additionalProperties: false,
+          properties: {
+            size: { type: 'integer', minimum: 1, maximum: 5000, default: 200 },
+            reviewersPerItem: { type: 'integer', minimum: 1, maximum: 15, default: 5 },
+            margin: { type: 'number', minimum: 0.01, maximum: 0.5, default: 0.1 },
+            seed: { type: 'integer', minimum: 0, maximum: 2 ** 31 - 1 },
+            from: dayOrTime,
+            to: dayOrTime,
+            maxEvents: { type: 'integer', minimum: 1, maximum: 100_000, default: 5000 },
+          },
+        },
+        response: { 201: roundSchema, 400: errorSchema, 409: errorSchema },
+      },
+    },
+    async (req, reply) => {
+      const b = req.body as {
+        size: number;
+        reviewersPerItem: number;
+        margin: number;
+        seed?: number;
+        from?: string;
+        to?: string;
+        maxEvents: number;
+      };
+      const decisions = await liveDecisions(store, { from: b.from, to: b.to, maxEvents: b.maxEvents });
+      if (decisions.length === 0) throw new StrandError('STRAND_REVIEW_EMPTY', 'no linking decisions to review in that window');
+      const round = drawRound(decisions, {
+        size: b.size,
+        reviewersPerItem: b.reviewersPerItem,
+        margin: b.margin,
+        seed: b.seed ?? Math.floor(Math.random() * 2 ** 31),
+        by: req.keyId ?? 'local',
+        now: now(),
+      });
+      await store.addReviewRound(round);
+      return reply.code(201).header('location', `/api/reviews/${round.id}`).send(summary(round, round.items.length));
+    },
+  );
+
+  app.get(
+    '/api/reviews',
+    {
+      schema: {
+        summary: 'The review rounds, newest first',
+        tags: TAGS,
+        response: { 200: { type: 'object', properties: { rounds: { type: 'array', items: roundSchema } }, required: ['rounds'] } },
+      },
+    },
+    async () => {
+      const rounds = await store.listReviewRounds();
+      return { rounds: await Promise.all(rounds.map(async (r) => summary(r, (await store.getReviewRound(r.id))?.items.length ?? 0))) };
+    },
+  );
+
+  app.get(
+    '/api/reviews/:id/next',
+    {
+      schema: {
+        summary: "A reviewer's next item: a sentence and an event, with the evidence, to judge as the same event or not",
+        description: 'Answers 204 when this reviewer has answered every item that still wants answers.',
+        tags: TAGS,
+        params,
+        querystring: { type: 'object', additionalProperties: false, properties: { reviewer }, required: ['reviewer'] },
+        response: {
+          200: {
+            type: 'object',
+            properties: {
+              item: int,
+              stratum: { type: 'string', enum: [...STRATA] },
+              question: str,
+              linked: {
+                type: 'boolean',
+                description: 'true: the linker linked them; false: it did not (the event was the nearest it had).',
+              },
+              score: num,
+              bar: num,
+              sentence: {
+                type: 'object',
+                properties: {
+                  article: str,
+                  index: int,
+                  text: nullableStr,
+                  title: str,
+                  outlet: str,
+                  published: nullableStr,
+                  url: nullableStr,
+                },
+                required: ['article', 'index', 'text', 'title', 'outlet', 'published', 'url'],
+              },
+              event: {
+                type: 'object',
+                properties: { id: str, label: str, examples: { type: 'array', items: str } },
+                required: ['id', 'label', 'examples'],
+              },
+              evidence: { anyOf: [evidenceSchema, { type: 'null' }] },
+              caution: str,
+            },
+            required: ['item', 'stratum', 'question', 'linked', 'score', 'bar', 'sentence', 'event', 'evidence', 'caution'],
+          },
+          204: { type: 'null', description: 'Nothing left for this reviewer.' },
+          404: errorSchema,
+        },
+      },
+    },
+    async (req, reply) => {
+      const round = await find(req.params.id);
+      const item = nextItem(round, await store.reviewAnswers(round.id), req.query.reviewer);
+      if (!item) return reply.code(204).send();
+      const article = await store.getArticle(item.articleId);
+      const s = article?.sentences.find((x) => x.index === item.sentenceIndex);
+      const linkEvidence = s?.links.find((l) => (item.linked ? l.eventId === item.eventId : l.evidence.opened))?.evidence ?? null;
+      let eventId = item.eventId;
+      let event = await store.getEvent(eventId);
+      if (!event) {
+        const into = await store.mergedInto(eventId);
+        if (into) event = await store.getEvent((eventId = into));
+      }
+      return {
+        item: item.item,
+        stratum: item.stratum,
+        question: 'Does this sentence report the same happening as this event?',
+        linked: item.linked,
+        score: item.score,
+        bar: item.bar,
+        sentence: {
+          article: item.articleId,
+          index: item.sentenceIndex,
+          text: s?.text || null,
+          title: article?.article.title ?? '',
+          outlet: item.outlet,
+          published: article?.article.published ?? null,
+          url: article?.article.url ?? null,
+        },
+        event: {
+          id: eventId,
+          label: event?.event.label ?? '(no longer stored)',
+          examples: (event?.mentions ?? [])
+            .filter((m) => !(m.articleId === item.articleId && m.sentenceIndex === item.sentenceIndex) && m.text)
+            .slice(0, 3)
+            .map((m) => m.text!),
+        },
+        evidence: linkEvidence,
+        caution: CAUTION,
+      };
+    },
+  );
+
+  app.post(
+    '/api/reviews/:id/answers',
+    {
+      schema: {
+        summary: "Record a reviewer's answer about an item (a later answer by the same reviewer replaces it)",
+        tags: TAGS,
+        params,
+        body: {
+          type: 'object',
+          additionalProperties: false,
+          properties: {
+            item: { type: 'integer', minimum: 0, maximum: 100_000 },
+            reviewer,
+            verdict: { type: 'string', enum: ['same', 'different', 'unsure'] },
+          },
+          required: ['item', 'reviewer', 'verdict'],
+        },
+        response: {
+          200: {
+            type: 'object',
+            properties: { round: str, item: int, reviewer: str, verdict: str, at: str },
+            required: ['round', 'item', 'reviewer', 'verdict', 'at'],
+          },
+          400: errorSchema,
+          404: errorSchema,
+        },
+      },
+    },
+    async (req) => {
+      const round = await find(req.params.id);
+      const b = req.body as { item: number; reviewer: string; verdict: 'same' | 'different' | 'unsure' };
+      if (!round.items.some((i) => i.item === b.item)) throw new StrandError('STRAND_NOT_FOUND', `round ${round.id} has no item ${b.item}`);
+      const answer = { round: round.id, item: b.item, reviewer: b.reviewer, verdict: b.verdict, at: now().toISOString() };
+      await store.putReviewAnswer(answer);
+      return answer;
+    },
+  );
+
+  app.get(
+    '/api/reviews/:id/report',
+    {
+      schema: {
+        summary:
+          "What a round's answers say: agreement, reviewers' error rates, precision and recall with 95 % intervals, the threshold they suggest",
+        description:
+          "Agreement is Krippendorff's alpha (nominal; 'unsure' left out), overall, per stratum, and without each reviewer in turn (a reviewer whose absence raises it agrees least). Answers are combined with Dawid–Skene (each reviewer weighted by their estimated error rates). Precision and recall are over the linker's candidates, overall, by ISO week and by outlet of the sentence. The calibration is the move of the link threshold where a link becomes the more likely; it is not applied here.",
+        tags: TAGS,
+        params,
+        response: {
+          200: {
+            type: 'object',
+            properties: {
+              round: roundSchema,
+              items: int,
+              answered: int,
+              complete: int,
+              answers: int,
+              reviewers: {
+                type: 'array',
+                items: {
+                  type: 'object',
+                  properties: { reviewer: str, answers: int, unsure: int, errorRate: nullableNum, alphaWithout: nullableNum },
+                  required: ['reviewer', 'answers', 'unsure', 'errorRate', 'alphaWithout'],
+                },
+              },
+              alpha: {
+                type: 'object',
+                properties: { overall: nullableNum, byStratum: { type: 'object', additionalProperties: nullableNum } },
+                required: ['overall', 'byStratum'],
+              },
+              quality: {
+                type: 'object',
+                properties: {
+                  overall: quality,
+                  byWeek: {
+                    type: 'array',
+                    items: { type: 'object', properties: { week: str, ...quality.properties }, required: ['week', 'precision', 'recall'] },
+                  },
+                  byOutlet: {
+                    type: 'array',
+                    items: {
+                      type: 'object',
+                      properties: { outlet: str, ...quality.properties },
+                      required: ['outlet', 'precision', 'recall'],
+                    },
+                  },
+                },
+                required: ['overall', 'byWeek', 'byOutlet'],
+              },
+              calibration: {
+                type: 'object',
+                properties: {
+                  offset: num,
+                  placed: { type: 'boolean' },
+                  f1Before: num,
+                  f1After: num,
+                  cvF1Before: num,
+                  cvF1After: num,
+                  decided: int,
+                },
+                required: ['offset', 'placed', 'f1Before', 'f1After', 'cvF1Before', 'cvF1After', 'decided'],
+              },
+              caution: str,
+            },
+            required: ['round', 'items', 'answered', 'complete', 'answers', 'reviewers', 'alpha', 'quality', 'calibration', 'caution'],
+          },
+          404: errorSchema,
+        },
+      },
+    },
+    async (req) => {
+      const round = await find(req.params.id);
+      return {
+        round: summary(round, round.items.length),
+        ...finite(roundReport(round, await store.reviewAnswers(round.id))),
+        caution: CAUTION,
+      };
+    },
+  );
+};

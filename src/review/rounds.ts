@@ -1,0 +1,215 @@
+/**
+ * Review rounds over a live store: draw the sample from the linker's decisions, hand each
+ * reviewer the next item they have not answered, and report what the answers say
+ * (agreement, each reviewer's estimated error rates, precision and recall with intervals
+ * overall, by week and by outlet, and the threshold they suggest).
+ */
+import { randomBytes } from 'node:crypto';
+import type { EventQueries, ReviewAnswer, ReviewItem, ReviewRound } from '../store/store.js';
+import { seededRandom } from '../seeded-random.js';
+import { krippendorffAlpha } from './agreement.js';
+import { crossValidate, fitOffset } from './calibrate.js';
+import { dawidSkene } from './dawid-skene.js';
+import { type Estimate, estimateQuality } from './estimate.js';
+import { type ReviewCandidate, STRATA, type Stratum, drawSample } from './sampling.js';
+
+/** Events read per page when listing the decisions of a window. */
+const PAGE = 200;
+
+/** Every decision the linker made about sentences of events active in the window: its links, and its misses with their nearest event. */
+export async function liveDecisions(
+  store: EventQueries,
+  window: { from?: string; to?: string; maxEvents: number },
+): Promise<ReviewCandidate[]> {
+  const out: ReviewCandidate[] = [];
+  for (let offset = 0; offset < window.maxEvents; offset += PAGE) {
+    const page = await store.listEvents({ from: window.from, to: window.to, limit: Math.min(PAGE, window.maxEvents - offset), offset });
+    for (const e of page.events) {
+      for (const m of (await store.getEvent(e.id))?.mentions ?? []) {
+        const about = { articleId: m.articleId, sentenceIndex: m.sentenceIndex, outlet: m.outlet, published: m.published };
+        if (!m.evidence.opened)
+          out.push({
+            ...about,
+            eventId: e.id,
+            linked: true,
+            score: m.score,
+            bar: m.evidence.bar ?? m.score,
+            crossStory: m.evidence.crossStory === true,
+          });
+        else if (m.evidence.nearest)
+          out.push({
+            ...about,
+            eventId: m.evidence.nearest.eventId,
+            linked: false,
+            score: m.evidence.nearest.score,
+            bar: m.evidence.nearest.bar,
+            crossStory: false,
+          });
+      }
+    }
+    if (offset + PAGE >= page.total) break;
+  }
+  return out;
+}
+
+export interface DrawOptions {
+  size: number;
+  reviewersPerItem: number;
+  margin: number;
+  seed: number;
+  by: string;
+  now: Date;
+}
+
+/** A new round over the decisions: the stratified sample, its items in a shuffled order so that reviewers see the strata mixed. */
+export function drawRound(decisions: readonly ReviewCandidate[], o: DrawOptions): ReviewRound {
+  const sample = drawSample(decisions, o.size, { margin: o.margin, seed: o.seed });
+  const rnd = seededRandom(o.seed + 1);
+  const order = sample.items.map((item) => ({ item, key: rnd() })).sort((a, b) => a.key - b.key);
+  return {
+    id: `rv_${randomBytes(6).toString('hex')}`,
+    created: o.now.toISOString(),
+    by: o.by,
+    margin: o.margin,
+    seed: o.seed,
+    reviewersPerItem: o.reviewersPerItem,
+    design: sample.design,
+    items: order.map(({ item }, i) => ({ ...item, item: i })),
+  };
+}
+
+/** The next item for a reviewer: the first they have not answered that still wants answers; null when none is left. */
+export function nextItem(round: ReviewRound, answers: readonly ReviewAnswer[], reviewer: string): ReviewItem | null {
+  const count = new Map<number, number>();
+  const mine = new Set<number>();
+  for (const a of answers) {
+    count.set(a.item, (count.get(a.item) ?? 0) + 1);
+    if (a.reviewer === reviewer) mine.add(a.item);
+  }
+  return round.items.find((i) => !mine.has(i.item) && (count.get(i.item) ?? 0) < round.reviewersPerItem) ?? null;
+}
+
+export interface RoundReport {
+  items: number;
+  answered: number;
+  complete: number;
+  answers: number;
+  reviewers: { reviewer: string; answers: number; unsure: number; errorRate: number | null; alphaWithout: number | null }[];
+  /** Krippendorff's alpha (nominal, "unsure" left out): overall and per stratum. Null where undefined. */
+  alpha: { overall: number | null; byStratum: Partial<Record<Stratum, number | null>> };
+  /** Precision and recall of the linker's decisions, from the combined answers. */
+  quality: { overall: Quality; byWeek: ({ week: string } & Quality)[]; byOutlet: ({ outlet: string } & Quality)[] };
+  /** The threshold move the answers suggest, and its held-out effect. */
+  calibration: {
+    offset: number;
+    placed: boolean;
+    f1Before: number;
+    f1After: number;
+    cvF1Before: number;
+    cvF1After: number;
+    decided: number;
+  };
+}
+
+interface Quality {
+  precision: Estimate;
+  recall: Estimate;
+}
+
+const VERDICT = { different: 0, same: 1 } as const;
+const orNull = (x: number) => (Number.isFinite(x) ? x : null);
+
+/** ISO 8601 week of a day, as 2026-W41 (weeks start on Monday; week 1 holds the year's first Thursday). */
+export function isoWeek(iso: string): string {
+  const d = new Date(`${iso.slice(0, 10)}T00:00:00Z`);
+  // The Thursday of the day's week decides the week's year.
+  d.setUTCDate(d.getUTCDate() + 3 - ((d.getUTCDay() + 6) % 7));
+  const yearStart = Date.UTC(d.getUTCFullYear(), 0, 1);
+  const week = Math.floor((d.getTime() - yearStart) / 86_400_000 / 7) + 1;
+  return `${d.getUTCFullYear()}-W${String(week).padStart(2, '0')}`;
+}
+
+/** What a round's answers say so far. */
+export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]): RoundReport {
+  const decided = answers.filter((a) => a.verdict !== 'unsure');
+  const reviewers = [...new Set(answers.map((a) => a.reviewer))].sort();
+  const byKey = new Map(decided.map((a) => [`${a.item}\n${a.reviewer}`, a]));
+  const unitsOf = (keep: (a: ReviewAnswer) => boolean, items: readonly ReviewItem[] = round.items) =>
+    items.map((i) =>
+      reviewers.map((r) => {
+        const a = byKey.get(`${i.item}\n${r}`);
+        return a && keep(a) ? a.verdict : null;
+      }),
+    );
+  const alpha = (units: (string | null)[][]) => orNull(krippendorffAlpha(units));
+  const combined = decided.length
+    ? dawidSkene(
+        decided.map((a) => ({ item: String(a.item), reviewer: a.reviewer, answer: VERDICT[a.verdict as 'same' | 'different'] })),
+        2,
+      )
+    : null;
+  const same = new Map<number, boolean>();
+  for (const [item, label] of combined?.labels ?? []) same.set(Number(item), label === 1);
+
+  const quality = (keep: (i: ReviewItem) => boolean): Quality => {
+    // The design of the slice: each stratum's population scaled by the share of its sample in the slice.
+    const design = round.design.map((d) => {
+      const inStratum = round.items.filter((i) => i.stratum === d.stratum);
+      const kept = inStratum.filter(keep).length;
+      return { ...d, population: inStratum.length ? (d.population * kept) / inStratum.length : 0, sampled: kept };
+    });
+    const items = round.items.filter((i) => keep(i) && same.has(i.item)).map((i) => ({ stratum: i.stratum, same: same.get(i.item)! }));
+    return estimateQuality(design, items);
+  };
+  const weeks = [...new Set(round.items.map((i) => isoWeek(i.published)))].sort();
+  const outlets = [...new Set(round.items.map((i) => i.outlet))].sort();
+  const weightOf = new Map(round.design.map((d) => [d.stratum, d.sampled ? d.population / d.sampled : 0]));
+  const fitItems = round.items
+    .filter((i) => same.has(i.item))
+    .map((i) => ({ margin: i.score - i.bar, same: same.get(i.item)!, weight: weightOf.get(i.stratum)! }));
+  const fit = fitOffset(fitItems);
+  const cv = crossValidate(fitItems, 5, round.seed);
+  const count = new Map<number, number>();
+  for (const a of answers) count.set(a.item, (count.get(a.item) ?? 0) + 1);
+  return {
+    items: round.items.length,
+    answered: count.size,
+    complete: [...count.values()].filter((n) => n >= round.reviewersPerItem).length,
+    answers: answers.length,
+    reviewers: reviewers.map((r) => ({
+      reviewer: r,
+      answers: answers.filter((a) => a.reviewer === r).length,
+      unsure: answers.filter((a) => a.reviewer === r && a.verdict === 'unsure').length,
+      errorRate: combined?.errorRates.get(r) ?? null,
+      alphaWithout: alpha(unitsOf((a) => a.reviewer !== r)),
+    })),
+    alpha: {
+      overall: alpha(unitsOf(() => true)),
+      byStratum: Object.fromEntries(
+        STRATA.map((s) => [
+          s,
+          alpha(
+            unitsOf(
+              () => true,
+              round.items.filter((i) => i.stratum === s),
+            ),
+          ),
+        ]),
+      ),
+    },
+    quality: {
+      overall: quality(() => true),
+      byWeek: weeks.map((week) => ({ week, ...quality((i) => isoWeek(i.published) === week) })),
+      byOutlet: outlets.map((outlet) => ({ outlet, ...quality((i) => i.outlet === outlet) })),
+    },
+    calibration: {
+      offset: fit.offset,
+      placed: fit.placed,
+      f1Before: fit.f1Before,
+      f1After: fit.f1After,
+      cvF1Before: cv.f1Before,
+      cvF1After: cv.f1After,
+      decided: fitItems.length,
+    },
+  };
+}
