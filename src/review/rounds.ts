@@ -142,14 +142,17 @@ export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]
       }),
     );
   const alpha = (units: (string | null)[][]) => orNull(krippendorffAlpha(units));
-  const combined = decided.length
-    ? dawidSkene(
-        decided.map((a) => ({ item: String(a.item), reviewer: a.reviewer, answer: VERDICT[a.verdict as 'same' | 'different'] })),
-        2,
-      )
-    : null;
+  // Error rates need reviewers to compare: with one, their answers stand as given.
+  const combined =
+    reviewers.length > 1
+      ? dawidSkene(
+          decided.map((a) => ({ item: String(a.item), reviewer: a.reviewer, answer: VERDICT[a.verdict as 'same' | 'different'] })),
+          2,
+        )
+      : null;
   const same = new Map<number, boolean>();
-  for (const [item, label] of combined?.labels ?? []) same.set(Number(item), label === 1);
+  if (combined) for (const [item, label] of combined.labels) same.set(Number(item), label === 1);
+  else for (const a of decided) same.set(a.item, a.verdict === 'same');
 
   const quality = (keep: (i: ReviewItem) => boolean): Quality => {
     // The design of the slice: each stratum's population scaled by the share of its sample in the slice.

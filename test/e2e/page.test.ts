@@ -410,6 +410,36 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
       }
     });
 
+    it('runs a review round from the page: start it, answer every item, read the report', async () => {
+      const { page, errors } = await open(`${base}/#/reviews`);
+      try {
+        await page.locator('form[aria-label="Start a review round"]').waitFor();
+        await page.fill('#review-size', '8');
+        await page.fill('#review-per-item', '1');
+        await page.click('form[aria-label="Start a review round"] button');
+        await expect.poll(() => page.url()).toMatch(/#\/reviews\/rv_[0-9a-f]{12}$/);
+        await page.locator('#reviewer-name').waitFor();
+        await page.fill('#reviewer-name', 'Ana');
+        await page.click('form[aria-label="Who is reviewing"] button');
+        await page.locator('#review-card').waitFor();
+        expect(await page.locator('#review-card').textContent()).toMatch(/Does this sentence report the same happening/);
+        await shootAndCheck(page, 'review-item');
+        for (let i = 0; i < 8; i++) {
+          const before = await page.locator('#review-card .kind').textContent();
+          await page.click(i % 3 ? '#review-card button:has-text("Same event")' : '#review-card button:has-text("Different events")');
+          if (i < 7) await expect.poll(() => page.locator('#review-card .kind').textContent()).not.toBe(before);
+        }
+        await expect.poll(() => page.locator('#review-item').textContent()).toMatch(/Nothing left for you/);
+        await expect.poll(() => page.locator('#review-report').textContent()).toMatch(/8 of 8 items answered/);
+        expect(await page.locator('#reviewers tbody tr').count()).toBe(1);
+        expect(await page.locator('.interval-chart').count()).toBe(3);
+        await shootAndCheck(page, 'review-report');
+        expect(errors).toEqual([]);
+      } finally {
+        await page.context().close();
+      }
+    });
+
     it('asks for an API key when the server protects reads, and shows the desk once given one', async () => {
       const token = 'k7Qz2mVw9XcB4nRt8LpY3sHd6FgJ1aEu';
       const guarded = await deskApp(rt, { auth: { tokens: [token], protect: 'everything' } });

@@ -10,6 +10,7 @@ import { renderArticle } from './js/article-view.js';
 import { renderFeeds } from './js/feeds-view.js';
 import { renderAlerts } from './js/alerts-view.js';
 import { renderCorrections } from './js/corrections.js';
+import { renderReviews } from './js/review-view.js';
 
 const LIVE_WORDS = {
   live: 'live: updates as news arrives',
@@ -43,11 +44,11 @@ const ctx = {
 };
 
 const DETAIL = { stories: renderStory, events: renderEvent, articles: renderArticle };
-const FULL = { feeds: renderFeeds, alerts: renderAlerts, corrections: renderCorrections };
+const FULL = { feeds: renderFeeds, alerts: renderAlerts, corrections: renderCorrections, reviews: renderReviews };
 
 async function route(focus = true) {
   const [, kind, id] = location.hash.match(/^#\/(stories|events|articles)\/(.+)$/) ?? [];
-  const full = location.hash.match(/^#\/(feeds|alerts|corrections)$/)?.[1];
+  const full = location.hash.match(/^#\/(feeds|alerts|corrections|reviews)(?:\/rv_[0-9a-f]{12})?$/)?.[1];
   const tab = full ?? 'desk';
   for (const a of document.querySelectorAll('.tabs a')) {
     if (a.dataset.tab === tab) a.setAttribute('aria-current', 'page');

@@ -206,3 +206,72 @@ export function laneChart({ lanes, title }) {
     ),
   );
 }
+
+/**
+ * Estimates with their 95 % intervals, one row per category (a week, an outlet): a dot at
+ * the estimate, a whisker over the interval, on a 0–100 % axis. Rows without an estimate
+ * are listed as such. rows: [{ label, value, low, high, answers }] (null where unknown).
+ */
+export function intervalChart({ rows, title, what }) {
+  const W = 720;
+  const left = 170;
+  const right = 20;
+  const top = 8;
+  const rowH = 22;
+  const plotW = W - left - right;
+  const H = top + rows.length * rowH + 44;
+  const x = (v) => left + v * plotW;
+  const known = rows.filter((r) => r.value !== null);
+  const summary = `${title}: ${known.map((r) => `${r.label} ${Math.round(r.value * 100)}% (${Math.round(r.low * 100)}–${Math.round(r.high * 100)}%)`).join('; ') || 'no estimate yet'}.`;
+  return el(
+    'figure',
+    { class: 'chart' },
+    svg(
+      'svg',
+      { viewBox: `0 0 ${W} ${H}`, role: 'img', 'aria-label': summary, class: 'interval-chart' },
+      svg('title', {}, summary),
+      [0, 0.25, 0.5, 0.75, 1].map((v) =>
+        svg(
+          'g',
+          { class: 'tick' },
+          svg('line', { x1: x(v), x2: x(v), y1: top, y2: top + rows.length * rowH }),
+          svg('text', { x: x(v), y: top + rows.length * rowH + 14, 'text-anchor': 'middle' }, `${v * 100}%`),
+        ),
+      ),
+      rows.map((r, i) => {
+        const cy = top + i * rowH + rowH / 2;
+        return svg(
+          'g',
+          {},
+          svg(
+            'text',
+            { class: 'lane-label', x: left - 8, y: cy + 4, 'text-anchor': 'end' },
+            r.label.length > 24 ? `${r.label.slice(0, 23)}…` : r.label,
+          ),
+          r.value === null
+            ? svg('text', { x: left + 4, y: cy + 4 }, 'not enough answers yet')
+            : [
+                svg('line', { class: 'whisker', x1: x(r.low), x2: x(r.high), y1: cy, y2: cy }),
+                svg(
+                  'circle',
+                  { class: 'estimate', cx: x(r.value), cy, r: 4.5 },
+                  svg(
+                    'title',
+                    {},
+                    `${r.label}: ${Math.round(r.value * 100)}% (95% interval ${Math.round(r.low * 100)}–${Math.round(r.high * 100)}%, ${r.answers} answers)`,
+                  ),
+                ),
+              ],
+        );
+      }),
+      legend(
+        [
+          { mark: svg('circle', { class: 'estimate', cx: 4, cy: 0, r: 4.5 }), text: `estimated ${what}` },
+          { mark: svg('line', { class: 'whisker', x1: -2, x2: 10, y1: 0, y2: 0 }), text: '95% interval' },
+        ],
+        left,
+        H - 8,
+      ),
+    ),
+  );
+}

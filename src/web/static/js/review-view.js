@@ -1,0 +1,254 @@
+// Reviews: start a round, answer its items one by one (same event, different, unsure), and
+// read what the answers say: agreement, each reviewer's estimated error rate, precision and
+// recall with their intervals by week and by outlet, and the threshold move they suggest.
+import { api, ApiError } from './api.js';
+import { el, fmtTime, icon, plural, problem } from './dom.js';
+import { intervalChart } from './charts.js';
+import { evidenceText, scoreLine } from './evidence.js';
+
+const REVIEWER = 'strandline-reviewer';
+const pctOrDash = (x) => (x === null || x === undefined ? '—' : `${Math.round(x * 100)}%`);
+const num = (x, d = 2) => (x === null || x === undefined ? '—' : x.toFixed(d));
+const explain = (err) =>
+  err instanceof ApiError && (err.status === 401 || err.status === 403)
+    ? 'Reviews need an API key with the manage scope: enter one above.'
+    : err.message;
+
+function estimateText(e) {
+  return e.value === null
+    ? 'not enough answers yet'
+    : `${pctOrDash(e.value)} (95% interval ${pctOrDash(e.low)}–${pctOrDash(e.high)}; ${plural(e.answers, 'answer')})`;
+}
+
+async function renderItem(target, round, reviewer, onAnswered) {
+  const res = await fetch(`/api/reviews/${round}/next?reviewer=${encodeURIComponent(reviewer)}`, {
+    cache: 'no-store',
+    headers: { accept: 'application/json', ...auth() },
+  });
+  if (res.status === 204) {
+    target.replaceChildren(el('p', { class: 'done' }, icon('ok'), ' Nothing left for you in this round. Thank you.'));
+    return;
+  }
+  const it = await res.json();
+  if (!res.ok) throw new ApiError(res.status, it?.error?.message ?? `the server answered ${res.status}`);
+  const answer = async (verdict) => {
+    for (const b of target.querySelectorAll('button')) b.disabled = true;
+    await api(`/api/reviews/${round}/answers`, { method: 'POST', body: { item: it.item, reviewer, verdict } });
+    await onAnswered();
+  };
+  target.replaceChildren(
+    el(
+      'div',
+      { class: 'review-card', id: 'review-card' },
+      el(
+        'p',
+        { class: 'kind' },
+        `Item ${it.item + 1} · ${it.stratum.replace('-', ' ')} · ${it.linked ? 'the linker linked them' : 'the linker did not link them'}`,
+      ),
+      el('h3', { id: 'review-question', tabindex: '-1' }, it.question),
+      el('p', { class: 'meta' }, `The sentence, from ${it.sentence.outlet}, ${fmtTime(it.sentence.published)} (${it.sentence.title}):`),
+      el('blockquote', {}, it.sentence.text ?? '(text erased under the retention policy)'),
+      el('p', { class: 'meta' }, 'The event:'),
+      el('blockquote', {}, it.event.label),
+      it.event.examples.length
+        ? el(
+            'ul',
+            { class: 'plain meta' },
+            it.event.examples.map((x) => el('li', {}, `also: “${x}”`)),
+          )
+        : null,
+      // A link shows its score and evidence; a sentence left unlinked, why it opened an event of its own.
+      it.evidence ? (it.linked ? scoreLine(it.score, it.evidence) : el('div', { class: 'evidence' }, evidenceText(it.evidence))) : null,
+      el('p', { class: 'meta' }, `score ${it.score.toFixed(2)}, needed ${it.bar.toFixed(2)}`),
+      el(
+        'div',
+        { class: 'verdicts', role: 'group', 'aria-labelledby': 'review-question' },
+        el('button', { type: 'button', onclick: () => void answer('same') }, 'Same event'),
+        el('button', { type: 'button', onclick: () => void answer('different') }, 'Different events'),
+        el('button', { type: 'button', onclick: () => void answer('unsure') }, 'Cannot tell'),
+      ),
+    ),
+  );
+}
+
+function auth() {
+  const key = sessionStorage.getItem('strandline-token');
+  return key ? { authorization: `Bearer ${key}` } : {};
+}
+
+async function renderReport(target, round) {
+  const r = await api(`/api/reviews/${round}/report`);
+  const q = r.quality;
+  const rows = (list, label, measure) => list.map((x) => ({ label: x[label], ...x[measure] }));
+  target.replaceChildren(
+    el('h3', {}, 'What the answers say'),
+    el(
+      'p',
+      {},
+      `${r.answered} of ${r.items} items answered (${r.complete} by every reviewer they want), ${plural(r.answers, 'answer')}. `,
+      `Agreement (Krippendorff’s alpha, nominal): ${num(r.alpha.overall, 3)}`,
+      el('span', { class: 'hint' }, ' (at least 0.800 reliable; 0.667 to 0.800 for tentative conclusions only).'),
+    ),
+    el(
+      'p',
+      {},
+      `Precision of the links made: ${estimateText(q.overall.precision)}. Recall of the links there were to make, among the linker's candidates: ${estimateText(q.overall.recall)}.`,
+    ),
+    el(
+      'table',
+      { class: 'grid', id: 'reviewers' },
+      el('caption', { class: 'sr-only' }, 'Reviewers'),
+      el(
+        'thead',
+        {},
+        el(
+          'tr',
+          {},
+          ['Reviewer', 'Answers', 'Cannot tell', 'Estimated error rate', 'Agreement without them'].map((h) =>
+            el('th', { scope: 'col' }, h),
+          ),
+        ),
+      ),
+      el(
+        'tbody',
+        {},
+        r.reviewers.map((x) =>
+          el(
+            'tr',
+            {},
+            el('td', {}, x.reviewer),
+            el('td', {}, String(x.answers)),
+            el('td', {}, String(x.unsure)),
+            el('td', {}, pctOrDash(x.errorRate)),
+            el('td', {}, num(x.alphaWithout, 3)),
+          ),
+        ),
+      ),
+    ),
+    el('h4', {}, 'By week of publication'),
+    intervalChart({ rows: rows(q.byWeek, 'week', 'precision'), title: 'Precision of links by week', what: 'precision' }),
+    intervalChart({ rows: rows(q.byWeek, 'week', 'recall'), title: 'Recall of links by week', what: 'recall' }),
+    el('h4', {}, 'By outlet'),
+    intervalChart({ rows: rows(q.byOutlet, 'outlet', 'precision'), title: 'Precision of links by outlet', what: 'precision' }),
+    el('h4', {}, 'The link threshold'),
+    el(
+      'p',
+      {},
+      r.calibration.placed
+        ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}. Not applied: set link.threshold to apply it.`
+        : 'The answers do not place the bar within reach of where it is: leave the threshold as it is.',
+    ),
+  );
+}
+
+export async function renderReviews(container) {
+  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const head = [
+    el('h2', { id: 'view-title', tabindex: '-1' }, icon('ok'), ' Reviews'),
+    el(
+      'p',
+      { class: 'hint' },
+      'Reviewers judge a sample of the linker’s decisions, drawn so that the answers estimate precision and recall without bias: links near the bar and far above it, links across stories, and sentences left unlinked beside their nearest event. Several reviewers per item; their answers are combined by each one’s estimated error rate.',
+    ),
+  ];
+  let rounds;
+  try {
+    ({ rounds } = await api('/api/reviews'));
+  } catch (err) {
+    container.replaceChildren(el('section', { class: 'view wide', 'aria-labelledby': 'view-title' }, head, problem(explain(err))));
+    return;
+  }
+  const size = el('input', { id: 'review-size', type: 'number', min: 1, max: 5000, value: 200 });
+  const per = el('input', { id: 'review-per-item', type: 'number', min: 1, max: 15, value: 5 });
+  const start = el(
+    'form',
+    {
+      class: 'add-form',
+      'aria-label': 'Start a review round',
+      onsubmit: async (e) => {
+        e.preventDefault();
+        try {
+          const made = await api('/api/reviews', {
+            method: 'POST',
+            body: { size: Number(size.value), reviewersPerItem: Number(per.value) },
+          });
+          location.hash = `#/reviews/${made.id}`;
+        } catch (err) {
+          status.replaceChildren(problem(explain(err)));
+        }
+      },
+    },
+    el('label', { for: 'review-size', class: 'field' }, el('span', {}, 'Items to review'), size),
+    el('label', { for: 'review-per-item', class: 'field' }, el('span', {}, 'Reviewers per item'), per),
+    el('button', { type: 'submit' }, 'Start a round'),
+  );
+  const chosen = location.hash.match(/^#\/reviews\/(rv_[0-9a-f]{12})$/)?.[1] ?? rounds[0]?.id ?? null;
+  const work = el('div', { id: 'review-work' });
+  const report = el('div', { id: 'review-report' });
+  container.replaceChildren(
+    el(
+      'section',
+      { class: 'view wide', 'aria-labelledby': 'view-title' },
+      head,
+      status,
+      start,
+      rounds.length
+        ? el(
+            'nav',
+            { 'aria-label': 'Review rounds' },
+            el(
+              'ul',
+              { class: 'plain' },
+              rounds.map((r) =>
+                el(
+                  'li',
+                  {},
+                  el('a', { href: `#/reviews/${r.id}`, 'aria-current': r.id === chosen ? 'true' : null }, r.id),
+                  ` · drawn ${fmtTime(r.created)} by ${r.by} · ${plural(r.items, 'item')}, ${plural(r.reviewersPerItem, 'reviewer')} each`,
+                ),
+              ),
+            ),
+          )
+        : el('p', { class: 'hint' }, 'No rounds yet.'),
+      work,
+      report,
+    ),
+  );
+  if (!chosen) return;
+  const name = el('input', {
+    id: 'reviewer-name',
+    type: 'text',
+    maxlength: 100,
+    value: sessionStorage.getItem(REVIEWER) ?? '',
+    autocomplete: 'name',
+  });
+  const item = el('div', { id: 'review-item' });
+  const refresh = async () => {
+    try {
+      await renderReport(report, chosen);
+      if (name.value.trim()) await renderItem(item, chosen, name.value.trim(), refresh);
+      item.querySelector('#review-question')?.focus();
+    } catch (err) {
+      status.replaceChildren(problem(explain(err)));
+    }
+  };
+  work.replaceChildren(
+    el('h3', {}, `Round ${chosen}`),
+    el(
+      'form',
+      {
+        class: 'add-form',
+        'aria-label': 'Who is reviewing',
+        onsubmit: (e) => {
+          e.preventDefault();
+          sessionStorage.setItem(REVIEWER, name.value.trim());
+          void refresh();
+        },
+      },
+      el('label', { for: 'reviewer-name', class: 'field' }, el('span', {}, 'Your name (kept with your answers)'), name),
+      el('button', { type: 'submit' }, 'Review'),
+    ),
+    item,
+  );
+  await refresh();
+}
