@@ -145,6 +145,23 @@ function buildProgram(done: (code: number) => void): Command {
     .option('--runs <n>', 'seeded runs', integer('--runs', 1, 1000), 10)
     .option('--json', 'print the rows as JSON')
     .action(async (opts) => done(await (await import('./commands/review.js')).reviewSimulateCommand(opts)));
+  common(review.command('draw'))
+    .description(
+      'draw a review round from the stored linking decisions (by strata, so that the answers estimate precision and recall without bias); reviewers answer it on the page or through /api/reviews',
+    )
+    .option('--size <n>', 'items to review', integer('--size', 1, 5000), 200)
+    .option('--reviewers <n>', 'reviewers each item wants', integer('--reviewers', 1, 15), 5)
+    .option('--from <day>', 'only decisions about events active on or after this day')
+    .option('--to <day>', 'only decisions about events active on or before this day')
+    .option('--seed <n>', 'seed of the draw (to draw the same sample again)', integer('--seed', 0, 2 ** 31 - 1))
+    .action(async (opts) => done(await (await import('./commands/review.js')).reviewDrawCommand(opts)));
+  common(review.command('report'))
+    .description(
+      "what a round's answers say: agreement, reviewers' error rates, precision and recall with 95 % intervals, the threshold they suggest",
+    )
+    .argument('<round>', 'the round id (rv_...)')
+    .option('--json', 'print the report as JSON')
+    .action(async (id: string, opts) => done(await (await import('./commands/review.js')).reviewReportCommand(id, opts)));
 
   common(program.command('export-demo'))
     .description('write the demo as articles.jsonl and gold.jsonl in the evaluation format')

@@ -7,6 +7,10 @@ import { readCorpus } from '../../eval/corpus.js';
 import { type ReviewSimRow, simulateReviews } from '../../eval/review-simulation.js';
 import { defaultSweep } from '../../eval/run-eval.js';
 import { StrandError } from '../../errors.js';
+import { drawRound, liveDecisions, roundReport } from '../../review/rounds.js';
+import type { Estimate } from '../../review/estimate.js';
+import { openStore } from '../../store/open-store.js';
+import type { Store } from '../../store/store.js';
 import { type CommonOptions, setup } from '../common.js';
 
 export interface ReviewSimulateOptions extends CommonOptions {
@@ -61,4 +65,87 @@ export async function reviewSimulateCommand(opts: ReviewSimulateOptions): Promis
   }
   process.stdout.write(opts.json ? `${JSON.stringify(rows, null, 2)}\n` : formatReviewSim(rows));
   return 0;
+}
+
+async function withStore<T>(opts: CommonOptions, work: (store: Store) => Promise<T>): Promise<T> {
+  const { config, logger } = setup(opts);
+  // The configured store, so that a Redis deployment's rounds are where its api processes read them.
+  const store = await openStore(config.store, logger);
+  try {
+    return await work(store);
+  } finally {
+    await store.close();
+  }
+}
+
+export interface ReviewDrawOptions extends CommonOptions {
+  size: number;
+  reviewers: number;
+  from?: string;
+  to?: string;
+  seed?: number;
+}
+
+const DAY_OR_TIME = /^\d{4}-\d{2}-\d{2}(T[0-9:.]+(Z|[+-]\d{2}:\d{2}))?$/;
+
+/** `strandline review draw`: a new round from the stored decisions; prints its id and design. */
+export async function reviewDrawCommand(opts: ReviewDrawOptions): Promise<number> {
+  for (const [flag, v] of [
+    ['--from', opts.from],
+    ['--to', opts.to],
+  ] as const) {
+    if (v !== undefined && !DAY_OR_TIME.test(v))
+      throw new StrandError('STRAND_REQUEST_INVALID', `${flag} takes a day (YYYY-MM-DD) or an RFC 3339 time`);
+  }
+  return withStore(opts, async (store) => {
+    const decisions = await liveDecisions(store, { from: opts.from, to: opts.to, maxEvents: 100_000 });
+    if (decisions.length === 0) throw new StrandError('STRAND_REVIEW_EMPTY', 'no linking decisions to review in that window');
+    const round = drawRound(decisions, {
+      size: opts.size,
+      reviewersPerItem: opts.reviewers,
+      margin: 0.1,
+      seed: opts.seed ?? Math.floor(Math.random() * 2 ** 31),
+      by: 'local',
+      now: new Date(),
+    });
+    await store.addReviewRound(round);
+    const design = round.design.map((d) => `  ${d.stratum.padEnd(12)} ${String(d.sampled).padStart(5)} of ${d.population}`).join('\n');
+    process.stdout.write(
+      `review round ${round.id}: ${round.items.length} item(s), ${round.reviewersPerItem} reviewer(s) each\n${design}\n`,
+    );
+    return 0;
+  });
+}
+
+/** `strandline review report <round>`: what its answers say, as text or JSON. */
+export async function reviewReportCommand(id: string, opts: CommonOptions & { json?: boolean }): Promise<number> {
+  if (!/^rv_[0-9a-f]{12}$/.test(id))
+    throw new StrandError('STRAND_REQUEST_INVALID', `a review round id is rv_ and 12 hex digits, not ${JSON.stringify(id.slice(0, 40))}`);
+  return withStore(opts, async (store) => {
+    const round = await store.getReviewRound(id);
+    if (!round) throw new StrandError('STRAND_NOT_FOUND', `no review round ${id}`);
+    const r = roundReport(round, await store.reviewAnswers(id));
+    if (opts.json) {
+      process.stdout.write(`${JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2)}\n`);
+      return 0;
+    }
+    const pct = (x: number) => (Number.isFinite(x) ? `${(x * 100).toFixed(0)}%` : '-');
+    const est = (e: Estimate) =>
+      Number.isFinite(e.value) ? `${pct(e.value)} (95% ${pct(e.low)}-${pct(e.high)}, ${e.answers} answers)` : 'not enough answers';
+    const lines = [
+      `round ${id}: ${r.answered} of ${r.items} item(s) answered, ${r.complete} complete, ${r.answers} answer(s)`,
+      `agreement (Krippendorff's alpha, nominal): ${r.alpha.overall === null ? '-' : r.alpha.overall.toFixed(3)}`,
+      `precision ${est(r.quality.overall.precision)}`,
+      `recall    ${est(r.quality.overall.recall)} (over the linker's candidates)`,
+      ...r.reviewers.map(
+        (x) =>
+          `  ${x.reviewer.padEnd(20)} ${String(x.answers).padStart(5)} answers, ${x.unsure} unsure, error rate ${x.errorRate === null ? '-' : pct(x.errorRate)}, alpha without them ${x.alphaWithout === null ? '-' : x.alphaWithout.toFixed(3)}`,
+      ),
+      r.calibration.placed
+        ? `threshold: the answers suggest moving it by ${r.calibration.offset >= 0 ? '+' : ''}${r.calibration.offset.toFixed(3)} (held-out F1 ${r.calibration.cvF1Before.toFixed(2)} -> ${r.calibration.cvF1After.toFixed(2)}); not applied`
+        : 'threshold: the answers do not place the bar within reach; leave it',
+    ];
+    process.stdout.write(`${lines.join('\n')}\n`);
+    return 0;
+  });
 }
