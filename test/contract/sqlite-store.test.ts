@@ -72,7 +72,7 @@ describe('SQLite store migrations', () => {
     const db = new Database(path);
     const step = MIGRATIONS.findIndex((m) => typeof m === 'function');
     db.exec(`ALTER TABLE articles DROP COLUMN story_vector; ALTER TABLE articles DROP COLUMN story_names; DROP TABLE story_splits;
-      DROP TABLE subscriptions; DROP TABLE api_keys; DROP TABLE corrections; DROP INDEX deliveries_subscriber; ALTER TABLE deliveries DROP COLUMN rule; ALTER TABLE deliveries DROP COLUMN latency_ms;
+      DROP TABLE subscriptions; DROP TABLE api_keys; DROP TABLE corrections; DROP TABLE review_rounds; DROP TABLE review_answers; DROP INDEX deliveries_subscriber; ALTER TABLE deliveries DROP COLUMN rule; ALTER TABLE deliveries DROP COLUMN latency_ms;
       CREATE TABLE outbox_old (id TEXT PRIMARY KEY, type TEXT NOT NULL, body TEXT NOT NULL, created TEXT NOT NULL) WITHOUT ROWID;
       INSERT INTO outbox_old SELECT id, type, body, created FROM outbox; DROP TABLE outbox; ALTER TABLE outbox_old RENAME TO outbox;`);
     db.pragma(`user_version = ${step}`);

@@ -288,7 +288,8 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
 
         // Move one of them back, by the new event's page and the event picker.
         await page.goto(`${base}/#/events/${newEvent}`);
-        await page.locator('.event-view').waitFor();
+        // The hash changes within the page: wait for that event's view, not the one before it.
+        await page.locator(`.event-view[data-id="${newEvent}"]`).waitFor();
         await page.locator('.mention-pick input[type=checkbox]').first().check();
         await page.fill('#move-to', event.id);
         await page.click('.actions button:has-text("Move")');
@@ -298,7 +299,7 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         await expect.poll(() => page.locator('.mention').count()).toBe(1);
 
         await page.goto(`${base}/#/events/${event.id}`);
-        await page.locator('.event-view').waitFor();
+        await page.locator(`.event-view[data-id="${event.id}"]`).waitFor();
         await page.locator('.mention button:has-text("Detach")').last().click();
         await expect.poll(() => page.locator('.corrections .action-status').textContent()).toMatch(/Detached the sentence/);
         const log = (await app.inject({ url: '/api/corrections?limit=3' })).json().corrections.map((c: { kind: string }) => c.kind);

@@ -37,7 +37,7 @@ export const keyRoutes: RoutePlugin<{ store: ApiKeys; keys: KeyRing; now: () => 
       schema: {
         summary: 'Make an API key with scopes; the answer carries the key, once',
         description:
-          'Scopes: read (events, stories, articles, the stream), push (POST /api/articles, nothing else), manage (feeds, subscriptions, dead letters; includes read), admin (keys; everything). Send it as Authorization: Bearer <key>.',
+          'Scopes: read (events, stories, articles, the stream), push (POST /api/articles, nothing else), manage (feeds, subscriptions, dead letters, corrections, reviews; includes read), admin (keys; everything). Send it as Authorization: Bearer <key>.',
         tags: TAGS,
         body: {
           type: 'object',

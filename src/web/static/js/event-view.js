@@ -217,7 +217,7 @@ export async function renderEvent(container, id, ctx) {
   container.replaceChildren(
     el(
       'article',
-      { class: 'view event-view', 'aria-labelledby': 'view-title' },
+      { class: 'view event-view', 'aria-labelledby': 'view-title', 'data-id': e.id },
       el(
         'p',
         { class: 'kind' },

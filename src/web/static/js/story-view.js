@@ -50,7 +50,7 @@ export async function renderStory(container, id, ctx) {
   container.replaceChildren(
     el(
       'article',
-      { class: 'view story-view', 'aria-labelledby': 'view-title' },
+      { class: 'view story-view', 'aria-labelledby': 'view-title', 'data-id': s.id },
       el('p', { class: 'kind' }, 'Story'),
       el('h2', { id: 'view-title', tabindex: '-1' }, s.label),
       el(
