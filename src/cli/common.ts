@@ -1,4 +1,6 @@
 /** What every command shares: loading configuration from flags, the logger, the version. */
+import { openStore } from '../store/open-store.js';
+import type { Store } from '../store/store.js';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { type Config } from '../config/schema.js';
@@ -29,4 +31,15 @@ export function setup(opts: CommonOptions, extra: Record<string, unknown> = {}):
   if (opts.logLevel) overrides.log = { level: opts.logLevel };
   const config = loadConfig({ file: opts.config, overrides });
   return { config, logger: createLogger(config.log.level) };
+}
+
+/** Runs `work` on the configured store (SQLite file or Redis, as the configuration says), closing it after. */
+export async function withStore<T>(opts: CommonOptions, work: (store: Store) => Promise<T>): Promise<T> {
+  const { config, logger } = setup(opts);
+  const store = await openStore(config.store, logger);
+  try {
+    return await work(store);
+  } finally {
+    await store.close();
+  }
 }

@@ -5,20 +5,8 @@
  */
 import { SCOPES, newApiKey } from '../../api/access.js';
 import { StrandError } from '../../errors.js';
-import { openStore } from '../../store/open-store.js';
-import type { Scope, Store } from '../../store/store.js';
-import { type CommonOptions, setup } from '../common.js';
-
-async function withStore<T>(opts: CommonOptions, work: (store: Store) => Promise<T>): Promise<T> {
-  const { config, logger } = setup(opts);
-  // The configured store, so a Redis deployment's keys are made in Redis.
-  const store = await openStore(config.store, logger);
-  try {
-    return await work(store);
-  } finally {
-    await store.close();
-  }
-}
+import type { Scope } from '../../store/store.js';
+import { type CommonOptions, withStore } from '../common.js';
 
 /** The scopes of `--scopes read,push`, refused with the known ones when one is not. */
 export function parseScopes(text: string): Scope[] {

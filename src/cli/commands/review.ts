@@ -1,7 +1,8 @@
 /**
- * `strandline review simulate`: what reviews would do on annotated corpora, before anyone
- * reviews (eval/review-simulation.ts): the fitted threshold's regret against the
- * configured one's, and whether the quality estimates' intervals hold the true values.
+ * `strandline review`: draw a round from the stored decisions, report what its answers say,
+ * and `simulate`: what reviews would do on annotated corpora, before anyone reviews
+ * (eval/review-simulation.ts): the fitted threshold's regret against the configured one's,
+ * and whether the quality estimates' intervals hold the true values.
  */
 import { readCorpus } from '../../eval/corpus.js';
 import { type ReviewSimRow, simulateReviews } from '../../eval/review-simulation.js';
@@ -9,9 +10,7 @@ import { defaultSweep } from '../../eval/run-eval.js';
 import { StrandError } from '../../errors.js';
 import { drawRound, liveDecisions, roundReport } from '../../review/rounds.js';
 import type { Estimate } from '../../review/estimate.js';
-import { openStore } from '../../store/open-store.js';
-import type { Store } from '../../store/store.js';
-import { type CommonOptions, setup } from '../common.js';
+import { type CommonOptions, setup, withStore } from '../common.js';
 
 export interface ReviewSimulateOptions extends CommonOptions {
   corpus?: string[];
@@ -65,17 +64,6 @@ export async function reviewSimulateCommand(opts: ReviewSimulateOptions): Promis
   }
   process.stdout.write(opts.json ? `${JSON.stringify(rows, null, 2)}\n` : formatReviewSim(rows));
   return 0;
-}
-
-async function withStore<T>(opts: CommonOptions, work: (store: Store) => Promise<T>): Promise<T> {
-  const { config, logger } = setup(opts);
-  // The configured store, so that a Redis deployment's rounds are where its api processes read them.
-  const store = await openStore(config.store, logger);
-  try {
-    return await work(store);
-  } finally {
-    await store.close();
-  }
 }
 
 export interface ReviewDrawOptions extends CommonOptions {

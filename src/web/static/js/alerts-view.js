@@ -1,11 +1,6 @@
 // Alerts: the webhook subscriptions, their rules, and each one's delivery log.
-import { api, ApiError } from './api.js';
-import { el, fmtTime, icon, problem } from './dom.js';
-
-const explain = (err) =>
-  err instanceof ApiError && (err.status === 401 || err.status === 403)
-    ? 'Subscriptions are shown to API keys with the manage scope: enter one above.'
-    : err.message;
+import { api, explain } from './api.js';
+import { el, fmtTime, icon, problem, statusLine, wideView } from './dom.js';
 
 /** A rule in words. */
 function ruleText(r) {
@@ -68,26 +63,25 @@ async function renderDeliveries(name, target, status) {
         : el('p', { class: 'hint' }, 'Nothing sent to it yet.'),
     );
   } catch (err) {
-    status.replaceChildren(problem(explain(err)));
+    status.replaceChildren(problem(explain(err, 'Subscriptions are shown to')));
   }
 }
 
 export async function renderAlerts(container) {
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const status = statusLine();
   const log = el('div', { class: 'delivery-log' });
-  const head = [
-    el('h2', { id: 'view-title', tabindex: '-1' }, icon('bell'), ' Alerts'),
-    el(
-      'p',
-      { class: 'hint' },
+  const view = (...children) =>
+    wideView(
+      'bell',
+      'Alerts',
       'Subscriptions receive signed webhooks for the notifications their rules select. They are made through the API (POST /api/subscriptions) or the configuration; here they can be paused and their deliveries read.',
-    ),
-  ];
+      ...children,
+    );
   let subscriptions;
   try {
     ({ subscriptions } = await api('/api/subscriptions'));
   } catch (err) {
-    container.replaceChildren(el('section', { class: 'view wide', 'aria-labelledby': 'view-title' }, head, problem(explain(err))));
+    container.replaceChildren(view(problem(explain(err, 'Subscriptions are shown to'))));
     return;
   }
   const toggle = async (s) => {
@@ -95,14 +89,11 @@ export async function renderAlerts(container) {
       await api(`/api/subscriptions/${encodeURIComponent(s.name)}`, { method: 'PATCH', body: { paused: !s.paused } });
       await renderAlerts(container);
     } catch (err) {
-      status.replaceChildren(problem(explain(err)));
+      status.replaceChildren(problem(explain(err, 'Subscriptions are shown to')));
     }
   };
   container.replaceChildren(
-    el(
-      'section',
-      { class: 'view wide', 'aria-labelledby': 'view-title' },
-      head,
+    view(
       status,
       subscriptions.length
         ? el(

@@ -50,3 +50,10 @@ export function query(fields) {
   for (const [k, v] of Object.entries(fields)) if (v !== undefined && v !== null && v !== '') p.set(k, String(v));
   return p.toString();
 }
+
+/** What went wrong with a call, in words; `needs` says what the call was for ("Corrections need"). */
+export function explain(err, needs) {
+  if (!(err instanceof ApiError)) return `The server could not be reached: ${err.message}`;
+  if (err.status === 401 || err.status === 403) return `${needs} an API key with the manage scope: enter one above.`;
+  return err.message;
+}

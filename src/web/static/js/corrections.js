@@ -1,13 +1,7 @@
 // Corrections from the page: make one through the API, offer its undo at once, and the
 // audit log of every correction with who made it, when and why.
-import { api, ApiError } from './api.js';
-import { el, fmtTime, icon, plural, problem } from './dom.js';
-
-function explain(err) {
-  if (!(err instanceof ApiError)) return `The server could not be reached: ${err.message}`;
-  if (err.status === 401 || err.status === 403) return 'Corrections need an API key with the manage scope: enter one above.';
-  return err.message;
-}
+import { api, explain } from './api.js';
+import { el, fmtTime, icon, plural, problem, statusLine, wideView } from './dom.js';
 
 /**
  * Makes a correction; says what happened in `status` with an undo button, which calls
@@ -31,7 +25,7 @@ export async function correct(body, status, doneText, undone) {
               status.replaceChildren(el('span', { class: 'done' }, icon('undo'), ` Undone (${undo.id}): as it was before.`));
               await undone();
             } catch (err) {
-              status.replaceChildren(problem(explain(err)));
+              status.replaceChildren(problem(explain(err, 'Corrections need')));
             }
           },
         },
@@ -41,7 +35,7 @@ export async function correct(body, status, doneText, undone) {
     );
     return record;
   } catch (err) {
-    status.replaceChildren(problem(explain(err)));
+    status.replaceChildren(problem(explain(err, 'Corrections need')));
     return null;
   }
 }
@@ -61,7 +55,7 @@ const target = (id) => (id.startsWith('st_') ? `#/stories/${encodeURIComponent(i
 /** The audit log, newest first, each with its undo while it stands. */
 export async function renderCorrections(container) {
   const page = await api('/api/corrections?limit=200');
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const status = statusLine();
   const rows = page.corrections.map((c) =>
     el(
       'tr',
@@ -93,7 +87,7 @@ export async function renderCorrections(container) {
                       await api(`/api/corrections/${c.id}/undo`, { method: 'POST', body: {} });
                       await renderCorrections(container);
                     } catch (err) {
-                      status.replaceChildren(problem(explain(err)));
+                      status.replaceChildren(problem(explain(err, 'Corrections need')));
                     }
                   },
                 },
@@ -104,15 +98,10 @@ export async function renderCorrections(container) {
     ),
   );
   container.replaceChildren(
-    el(
-      'section',
-      { class: 'view wide', 'aria-labelledby': 'view-title' },
-      el('h2', { id: 'view-title', tabindex: '-1' }, icon('log'), ' Corrections'),
-      el(
-        'p',
-        { class: 'hint' },
-        `Every change an analyst made to the machine's suggestions: who, when, what and why (${plural(page.total, 'correction')}). An undo is refused when what the correction touched has changed since, because it would lose that change.`,
-      ),
+    wideView(
+      'log',
+      'Corrections',
+      `Every change an analyst made to the machine's suggestions: who, when, what and why (${plural(page.total, 'correction')}). An undo is refused when what the correction touched has changed since, because it would lose that change.`,
       status,
       page.corrections.length
         ? el(

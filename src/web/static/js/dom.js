@@ -137,3 +137,17 @@ export function chips(label, names, iconName) {
 export function problem(message) {
   return el('p', { class: 'problem', role: 'alert' }, icon('fail'), ` ${message}`);
 }
+
+/** A line that says what an action did, read out by screen readers when it changes. */
+export const statusLine = () => el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+
+/** A full-width view: its heading (focused on arrival), a hint, then the rest. */
+export function wideView(iconName, title, hint, ...children) {
+  return el(
+    'section',
+    { class: 'view wide', 'aria-labelledby': 'view-title' },
+    el('h2', { id: 'view-title', tabindex: '-1' }, icon(iconName), ` ${title}`),
+    el('p', { class: 'hint' }, hint),
+    ...children,
+  );
+}

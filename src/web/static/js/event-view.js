@@ -2,7 +2,7 @@
 // mentions per day on a labelled day axis, its mentions by outlet with score and evidence,
 // and the analyst's corrections: merge, split, move, detach.
 import { api, query } from './api.js';
-import { chips, el, fmtDay, fmtSpan, fmtTime, icon, isFigure, plural, problem, safeUrl } from './dom.js';
+import { chips, el, fmtDay, fmtSpan, fmtTime, icon, isFigure, plural, problem, safeUrl, statusLine } from './dom.js';
 import { dayChart } from './charts.js';
 import { scoreLine } from './evidence.js';
 import { correct } from './corrections.js';
@@ -73,7 +73,7 @@ export async function renderEvent(container, id, ctx) {
   const names = e.participants.filter((p) => !isFigure(p));
   const figures = e.participants.filter(isFigure);
   const selected = new Map();
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const status = statusLine();
 
   const mentionNode = (m) => {
     const key = `${m.articleId}\n${m.sentenceIndex}`;

@@ -1,6 +1,6 @@
 // The polled feeds: their health and delay, and adding, pausing, resuming and removing them.
-import { api, ApiError } from './api.js';
-import { el, fmtTime, icon, plural, problem } from './dom.js';
+import { api, explain } from './api.js';
+import { el, fmtTime, icon, plural, problem, statusLine, wideView } from './dom.js';
 
 const HEALTH = {
   ok: ['ok', 'polled fine'],
@@ -16,14 +16,9 @@ function delay(seconds) {
   return `${(seconds / 3600).toFixed(1)} h`;
 }
 
-const explain = (err) =>
-  err instanceof ApiError && (err.status === 401 || err.status === 403)
-    ? 'Changing feeds needs an API key with the manage scope: enter one above.'
-    : err.message;
-
 export async function renderFeeds(container) {
   const { feeds } = await api('/api/feeds');
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const status = statusLine();
   const again = () => renderFeeds(container).then(() => container.querySelector('.action-status')?.replaceWith(status));
   const run = async (what, call) => {
     try {
@@ -31,7 +26,7 @@ export async function renderFeeds(container) {
       status.replaceChildren(el('span', { class: 'done' }, icon('ok'), ` ${what}.`));
       await again();
     } catch (err) {
-      status.replaceChildren(problem(explain(err)));
+      status.replaceChildren(problem(explain(err, 'Changing feeds needs')));
     }
   };
   const url = el('input', { id: 'feed-url', type: 'url', required: true, maxlength: 2048, placeholder: 'https://…' });
@@ -58,15 +53,10 @@ export async function renderFeeds(container) {
     el('button', { type: 'submit' }, 'Add feed'),
   );
   container.replaceChildren(
-    el(
-      'section',
-      { class: 'view wide', 'aria-labelledby': 'view-title' },
-      el('h2', { id: 'view-title', tabindex: '-1' }, icon('feed'), ' Feeds'),
-      el(
-        'p',
-        { class: 'hint' },
-        `${plural(feeds.length, 'feed')} polled. Delay is the median time from an item's publication to its reading here, over the latest new items.`,
-      ),
+    wideView(
+      'feed',
+      'Feeds',
+      `${plural(feeds.length, 'feed')} polled. Delay is the median time from an item's publication to its reading here, over the latest new items.`,
       status,
       feeds.length
         ? el(

@@ -1,18 +1,14 @@
 // Reviews: start a round, answer its items one by one (same event, different, unsure), and
 // read what the answers say: agreement, each reviewer's estimated error rate, precision and
 // recall with their intervals by week and by outlet, and the threshold move they suggest.
-import { api, ApiError } from './api.js';
-import { el, fmtTime, icon, plural, problem } from './dom.js';
+import { api, ApiError, explain } from './api.js';
+import { el, fmtTime, icon, plural, problem, statusLine, wideView } from './dom.js';
 import { intervalChart } from './charts.js';
 import { evidenceText, scoreLine } from './evidence.js';
 
 const REVIEWER = 'strandline-reviewer';
 const pctOrDash = (x) => (x === null || x === undefined ? '—' : `${Math.round(x * 100)}%`);
 const num = (x, d = 2) => (x === null || x === undefined ? '—' : x.toFixed(d));
-const explain = (err) =>
-  err instanceof ApiError && (err.status === 401 || err.status === 403)
-    ? 'Reviews need an API key with the manage scope: enter one above.'
-    : err.message;
 
 function estimateText(e) {
   return e.value === null
@@ -142,20 +138,19 @@ async function renderReport(target, round) {
 }
 
 export async function renderReviews(container) {
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
-  const head = [
-    el('h2', { id: 'view-title', tabindex: '-1' }, icon('ok'), ' Reviews'),
-    el(
-      'p',
-      { class: 'hint' },
+  const status = statusLine();
+  const view = (...children) =>
+    wideView(
+      'ok',
+      'Reviews',
       'Reviewers judge a sample of the linker’s decisions, drawn so that the answers estimate precision and recall without bias: links near the bar and far above it, links across stories, and sentences left unlinked beside their nearest event. Several reviewers per item; their answers are combined by each one’s estimated error rate.',
-    ),
-  ];
+      ...children,
+    );
   let rounds;
   try {
     ({ rounds } = await api('/api/reviews'));
   } catch (err) {
-    container.replaceChildren(el('section', { class: 'view wide', 'aria-labelledby': 'view-title' }, head, problem(explain(err))));
+    container.replaceChildren(view(problem(explain(err, 'Reviews need'))));
     return;
   }
   const size = el('input', { id: 'review-size', type: 'number', min: 1, max: 5000, value: 200 });
@@ -174,7 +169,7 @@ export async function renderReviews(container) {
           });
           location.hash = `#/reviews/${made.id}`;
         } catch (err) {
-          status.replaceChildren(problem(explain(err)));
+          status.replaceChildren(problem(explain(err, 'Reviews need')));
         }
       },
     },
@@ -186,10 +181,7 @@ export async function renderReviews(container) {
   const work = el('div', { id: 'review-work' });
   const report = el('div', { id: 'review-report' });
   container.replaceChildren(
-    el(
-      'section',
-      { class: 'view wide', 'aria-labelledby': 'view-title' },
-      head,
+    view(
       status,
       start,
       rounds.length
@@ -229,7 +221,7 @@ export async function renderReviews(container) {
       if (name.value.trim()) await renderItem(item, chosen, name.value.trim(), refresh);
       item.querySelector('#review-question')?.focus();
     } catch (err) {
-      status.replaceChildren(problem(explain(err)));
+      status.replaceChildren(problem(explain(err, 'Reviews need')));
     }
   };
   work.replaceChildren(

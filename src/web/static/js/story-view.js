@@ -2,7 +2,7 @@
 // same in words), its events in time order, the links that cross its edge with their
 // evidence, and merging it into another story.
 import { api } from './api.js';
-import { el, fmtDay, fmtSpan, fmtTime, isFigure, plural, problem } from './dom.js';
+import { el, fmtDay, fmtSpan, fmtTime, isFigure, plural, problem, statusLine } from './dom.js';
 import { laneChart } from './charts.js';
 import { scoreLine } from './evidence.js';
 import { firstReporters, pickTarget } from './event-view.js';
@@ -12,7 +12,7 @@ export async function renderStory(container, id, ctx) {
   const d = await api(`/api/stories/${encodeURIComponent(id)}`);
   const s = d.story;
   if (s.id !== id) history.replaceState(null, '', `#/stories/${encodeURIComponent(s.id)}`);
-  const status = el('div', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const status = statusLine();
   const mergeInto = pickTarget('stories', 'merge-story-into', 'Merge this story into', s.id);
   const note = el('input', { id: 'story-note', type: 'text', maxlength: 2000, placeholder: 'why (kept in the audit log)' });
   const merge = async () => {
