@@ -162,6 +162,11 @@ function buildProgram(done: (code: number) => void): Command {
     .argument('<round>', 'the round id (rv_...)')
     .option('--json', 'print the report as JSON')
     .action(async (id: string, opts) => done(await (await import('./commands/review.js')).reviewReportCommand(id, opts)));
+  common(review.command('gold'))
+    .description("write a round's answers as a corpus folder (articles.jsonl, gold.jsonl) that strandline eval reads")
+    .argument('<round>', 'the round id (rv_...)')
+    .argument('<dir>', 'folder to write to')
+    .action(async (id: string, dir: string, opts) => done(await (await import('./commands/review.js')).reviewGoldCommand(id, dir, opts)));
 
   common(program.command('export-demo'))
     .description('write the demo as articles.jsonl and gold.jsonl in the evaluation format')

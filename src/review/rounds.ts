@@ -129,6 +129,28 @@ export function isoWeek(iso: string): string {
   return `${d.getUTCFullYear()}-W${String(week).padStart(2, '0')}`;
 }
 
+/** The answers combined per item (Dawid–Skene with two reviewers or more; with one, as given). */
+function combine(reviewers: readonly string[], decided: readonly ReviewAnswer[]) {
+  // Error rates need reviewers to compare: with one, their answers stand as given.
+  const combined =
+    reviewers.length > 1
+      ? dawidSkene(
+          decided.map((a) => ({ item: String(a.item), reviewer: a.reviewer, answer: VERDICT[a.verdict as 'same' | 'different'] })),
+          2,
+        )
+      : null;
+  const same = new Map<number, boolean>();
+  if (combined) for (const [item, label] of combined.labels) same.set(Number(item), label === 1);
+  else for (const a of decided) same.set(a.item, a.verdict === 'same');
+  return { combined, same };
+}
+
+/** Each answered item's combined verdict: true for the same event. */
+export function roundVerdicts(answers: readonly ReviewAnswer[]): Map<number, boolean> {
+  const decided = answers.filter((a) => a.verdict !== 'unsure');
+  return combine([...new Set(decided.map((a) => a.reviewer))], decided).same;
+}
+
 /** What a round's answers say so far. */
 export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]): RoundReport {
   const decided = answers.filter((a) => a.verdict !== 'unsure');
@@ -142,17 +164,7 @@ export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]
       }),
     );
   const alpha = (units: (string | null)[][]) => orNull(krippendorffAlpha(units));
-  // Error rates need reviewers to compare: with one, their answers stand as given.
-  const combined =
-    reviewers.length > 1
-      ? dawidSkene(
-          decided.map((a) => ({ item: String(a.item), reviewer: a.reviewer, answer: VERDICT[a.verdict as 'same' | 'different'] })),
-          2,
-        )
-      : null;
-  const same = new Map<number, boolean>();
-  if (combined) for (const [item, label] of combined.labels) same.set(Number(item), label === 1);
-  else for (const a of decided) same.set(a.item, a.verdict === 'same');
+  const { combined, same } = combine([...new Set(decided.map((a) => a.reviewer))], decided);
 
   const quality = (keep: (i: ReviewItem) => boolean): Quality => {
     // The design of the slice: each stratum's population scaled by the share of its sample in the slice.

@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { DEMO_FEEDS } from '../../src/cli/common.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
+import { readCorpus } from '../../src/eval/corpus.js';
 import { openSqliteStore } from '../../src/store/sqlite/sqlite-store.js';
 import { cli } from '../helpers/cli-in-process.js';
 import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
@@ -41,6 +42,30 @@ describe('review rounds from the command line', () => {
     expect(report.stdout).toMatch(/^ {2}ana +12 answers/m);
     const json = JSON.parse((await cli('review', 'report', id, '--db', db, '--json', '--log-level', 'silent')).stdout);
     expect(json).toMatchObject({ items: 12, answers: 24 });
+
+    // The answers as a corpus that eval reads: "same" puts a sentence with its event's first sentence.
+    const corpus = join(mkdtempSync(join(tmpdir(), 'strandline-review-gold-')), 'reviewed');
+    const gold = await cli('review', 'gold', id, corpus, '--db', db, '--log-level', 'silent');
+    expect(gold.status).toBe(0);
+    expect(gold.stdout).toMatch(/wrote \d+ article\(s\) and \d+ gold line\(s\) to .*; left out 0 unanswered item\(s\)/);
+    const read = await readCorpus(corpus);
+    const linked = round.items.filter((i) => i.linked);
+    for (const i of linked) expect(read.input.gold).toContainEqual({ article: i.articleId, sentence: i.sentenceIndex, event: i.eventId });
+    const scored = await cli(
+      'eval',
+      '--corpus',
+      corpus,
+      '--setting',
+      'gold',
+      '--thresholds',
+      '0.2:0.2:0.05',
+      '--out',
+      join(corpus, '..', 'out'),
+      '--log-level',
+      'silent',
+    );
+    expect(scored.status).toBe(0);
+    expect(scored.stdout).toMatch(/reviewed/);
   });
 
   it('refuses malformed arguments and unknown rounds with one clear line', async () => {
@@ -51,6 +76,8 @@ describe('review rounds from the command line', () => {
       [['review', 'draw', '--db', db, '--from', '2099-01-01'], /no linking decisions to review/],
       [['review', 'report', '../../etc/passwd', '--db', db], /a review round id is rv_ and 12 hex digits/],
       [['review', 'report', 'rv_000000000000', '--db', db], /no review round rv_000000000000/],
+      [['review', 'gold', 'rv_000000000000', join(tmpdir(), 'x'), '--db', db], /no review round rv_000000000000/],
+      [['review', 'gold', 'x/../y', join(tmpdir(), 'x'), '--db', db], /a review round id is rv_/],
     ];
     for (const [args, message] of cases) {
       const r = await cli(...args, '--log-level', 'silent');

@@ -4,12 +4,15 @@
  * (eval/review-simulation.ts): the fitted threshold's regret against the configured one's,
  * and whether the quality estimates' intervals hold the true values.
  */
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { readCorpus } from '../../eval/corpus.js';
 import { type ReviewSimRow, simulateReviews } from '../../eval/review-simulation.js';
 import { defaultSweep } from '../../eval/run-eval.js';
 import { StrandError } from '../../errors.js';
 import { drawRound, liveDecisions, roundReport } from '../../review/rounds.js';
 import type { Estimate } from '../../review/estimate.js';
+import { reviewGold } from '../../review/gold-export.js';
 import { type CommonOptions, setup, withStore } from '../common.js';
 
 export interface ReviewSimulateOptions extends CommonOptions {
@@ -134,6 +137,25 @@ export async function reviewReportCommand(id: string, opts: CommonOptions & { js
         : 'threshold: the answers do not place the bar within reach; leave it',
     ];
     process.stdout.write(`${lines.join('\n')}\n`);
+    return 0;
+  });
+}
+
+/** `strandline review gold <round> <dir>`: the round's answers written as a corpus folder that `strandline eval` reads. */
+export async function reviewGoldCommand(id: string, dir: string, opts: CommonOptions): Promise<number> {
+  if (!/^rv_[0-9a-f]{12}$/.test(id))
+    throw new StrandError('STRAND_REQUEST_INVALID', `a review round id is rv_ and 12 hex digits, not ${JSON.stringify(id.slice(0, 40))}`);
+  return withStore(opts, async (store) => {
+    const round = await store.getReviewRound(id);
+    if (!round) throw new StrandError('STRAND_NOT_FOUND', `no review round ${id}`);
+    const g = await reviewGold(store, round, await store.reviewAnswers(id));
+    if (g.gold.length === 0) throw new StrandError('STRAND_REVIEW_EMPTY', `round ${id} has no answered item to write as gold yet`);
+    mkdirSync(dir, { recursive: true });
+    writeFileSync(join(dir, 'articles.jsonl'), g.articles.map((a) => JSON.stringify(a)).join('\n') + '\n');
+    writeFileSync(join(dir, 'gold.jsonl'), g.gold.map((l) => JSON.stringify(l)).join('\n') + '\n');
+    process.stdout.write(
+      `wrote ${g.articles.length} article(s) and ${g.gold.length} gold line(s) to ${dir}; left out ${g.skipped.unanswered} unanswered item(s) and ${g.skipped.erased} whose text is no longer stored\n`,
+    );
     return 0;
   });
 }
