@@ -187,7 +187,7 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   if (deps.feeds) await app.register(feedRoutes, { feeds: deps.feeds });
   await app.register(streamRoute, { store: deps.store, ...deps.stream });
   await app.register(keyRoutes, { store: deps.store, keys, now: () => new Date() });
-  await app.register(reviewRoutes, { store: deps.store, now: () => new Date() });
+  await app.register(reviewRoutes, { store: deps.store, now: () => new Date(), apply: deps.corrections });
   await app.register(correctionRoutes, { store: deps.store, apply: deps.corrections });
   await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({

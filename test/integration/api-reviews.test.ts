@@ -1,5 +1,8 @@
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildApp } from '../../src/api/build-app.js';
+import { applyCorrection } from '../../src/link/corrections.js';
+import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
 import { demoApi } from '../helpers/runtime.js';
 
@@ -64,6 +67,42 @@ describe('review rounds through the API', () => {
     // Answers that agree with the linker everywhere leave the threshold where it is.
     expect(report.calibration).toMatchObject({ decided: 40 });
     expect(Math.abs(report.calibration.offset)).toBeLessThanOrEqual(0.15);
+  });
+
+  it('makes the corrections the answers call for, each in the corrections log and undoable, and leaves agreed items alone', async () => {
+    const corrected = await buildApp({
+      store: rt.store,
+      logger: createLogger('silent'),
+      version: 'test',
+      ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
+      corrections: (req, author) => applyCorrection(rt, req, author),
+    });
+    try {
+      const round = (await post('/api/reviews', { size: 30, reviewersPerItem: 1, seed: 11 })).json();
+      const stored = (await rt.store.getReviewRound(round.id))!;
+      const link = stored.items.find((i) => i.linked)!;
+      const miss = stored.items.find((i) => !i.linked)!;
+      for (const i of stored.items) {
+        const verdict = i === link ? 'different' : i === miss ? 'same' : i.linked ? 'same' : 'different';
+        await post(`/api/reviews/${round.id}/answers`, { item: i.item, reviewer: 'ana', verdict });
+      }
+      // Without a linker in this process, nothing is made.
+      expect((await post(`/api/reviews/${round.id}/corrections`, {})).statusCode).toBe(503);
+      const r = await corrected.inject({ method: 'POST', url: `/api/reviews/${round.id}/corrections`, payload: {} });
+      expect(r.statusCode).toBe(200);
+      const body = r.json();
+      expect(body.agreed).toBe(28);
+      expect(body.made.length + body.refused.length).toBe(2);
+      expect(body.made.map((m: { item: number }) => m.item)).toContain(link.item);
+      expect(body.made.find((m: { item: number }) => m.item === link.item).kind).toBe('detach');
+      const log = (await app.inject({ url: '/api/corrections?limit=5' })).json().corrections;
+      expect(log.some((c: { note: string }) => c.note === `review round ${round.id}, item ${link.item}`)).toBe(true);
+      // Undoable like any other correction.
+      const detach = body.made.find((m: { item: number }) => m.item === link.item).correction;
+      expect((await corrected.inject({ method: 'POST', url: `/api/corrections/${detach}/undo`, payload: {} })).statusCode).toBe(200);
+    } finally {
+      await corrected.close();
+    }
   });
 
   it('replaces a reviewer’s earlier answer, and refuses malformed and hostile requests with a clear error', async () => {

@@ -178,6 +178,7 @@ describe('the query API', () => {
       '/api/outlets',
       '/api/reviews',
       '/api/reviews/{id}/answers',
+      '/api/reviews/{id}/corrections',
       '/api/reviews/{id}/next',
       '/api/reviews/{id}/report',
       '/api/stories',

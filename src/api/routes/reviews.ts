@@ -4,7 +4,9 @@
  * Every route needs the manage scope (answers carry reviewers' names).
  */
 import { StrandError } from '../../errors.js';
-import { drawRound, liveDecisions, nextItem, roundReport } from '../../review/rounds.js';
+import { drawRound, liveDecisions, nextItem, roundReport, roundVerdicts } from '../../review/rounds.js';
+import type { CorrectionRequest } from '../../link/corrections.js';
+import type { ApplyCorrection } from './corrections.js';
 import { STRATA } from '../../review/sampling.js';
 import type { EventQueries, ReviewRound, Reviews } from '../../store/store.js';
 import type { RoutePlugin } from '../route-plugin.js';
@@ -56,7 +58,10 @@ const summary = (r: ReviewRound | Omit<ReviewRound, 'items'>, items: number) => 
 };
 
 /** /api/reviews and below. */
-export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () => Date }> = async (app, { store, now }) => {
+export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () => Date; apply: ApplyCorrection | undefined }> = async (
+  app,
+  { store, now, apply },
+) => {
   const find = async (id: string): Promise<ReviewRound> => {
     const r = await store.getReviewRound(id);
     if (!r) throw new StrandError('STRAND_NOT_FOUND', `no review round ${id}`);
@@ -255,6 +260,74 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
       const answer = { round: round.id, item: b.item, reviewer: b.reviewer, verdict: b.verdict, at: now().toISOString() };
       await store.putReviewAnswer(answer);
       return answer;
+    },
+  );
+
+  app.post(
+    '/api/reviews/:id/corrections',
+    {
+      schema: {
+        summary:
+          "Make the corrections a round's answers call for: detach sentences reviewers found linked to the wrong event, move in those they found missing from theirs",
+        description:
+          'For each item whose combined answer contradicts the linker (a link answered "different": the sentence is detached; a miss answered "same": the sentence moves into that event), one correction through the corrections log, noted with the round, undoable like any other. An item whose sentence or event has changed since is refused and listed, not forced.',
+        tags: TAGS,
+        params,
+        response: {
+          200: {
+            type: 'object',
+            properties: {
+              made: {
+                type: 'array',
+                items: { type: 'object', properties: { item: int, correction: str, kind: str }, required: ['item', 'correction', 'kind'] },
+              },
+              refused: { type: 'array', items: { type: 'object', properties: { item: int, reason: str }, required: ['item', 'reason'] } },
+              agreed: { ...int, description: 'Items whose answers agree with the linker (nothing to correct).' },
+            },
+            required: ['made', 'refused', 'agreed'],
+          },
+          404: errorSchema,
+          503: errorSchema,
+        },
+      },
+    },
+    async (req) => {
+      if (!apply)
+        throw new StrandError('STRAND_STOPPED', 'corrections are made by the process that links: send them to a server running --role all');
+      const round = await find(req.params.id);
+      const verdicts = roundVerdicts(await store.reviewAnswers(round.id));
+      const made: { item: number; correction: string; kind: string }[] = [];
+      const refused: { item: number; reason: string }[] = [];
+      let agreed = 0;
+      for (const item of round.items) {
+        const same = verdicts.get(item.item);
+        if (same === undefined) continue;
+        if (same === item.linked) {
+          agreed++;
+          continue;
+        }
+        const mention = { articleId: item.articleId, sentenceIndex: item.sentenceIndex };
+        // Where the sentence is now: a miss's sentence sits in the event it opened (maybe merged since).
+        const links = (await store.getArticle(item.articleId))?.sentences.find((x) => x.index === item.sentenceIndex)?.links ?? [];
+        const request: CorrectionRequest | null = item.linked
+          ? links.some((l) => l.eventId === item.eventId)
+            ? { kind: 'detach', from: item.eventId, mentions: [mention] }
+            : null
+          : links[0]
+            ? { kind: 'move', from: links[0].eventId, to: item.eventId, mentions: [mention] }
+            : null;
+        if (!request) {
+          refused.push({ item: item.item, reason: 'the sentence is no longer where the round found it' });
+          continue;
+        }
+        try {
+          const c = await apply(request, { by: req.keyId ?? 'local', note: `review round ${round.id}, item ${item.item}` });
+          made.push({ item: item.item, correction: c.id, kind: c.kind });
+        } catch (err) {
+          refused.push({ item: item.item, reason: err instanceof Error ? err.message : String(err) });
+        }
+      }
+      return { made, refused, agreed };
     },
   );
 

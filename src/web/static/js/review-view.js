@@ -126,6 +126,35 @@ async function renderReport(target, round) {
     intervalChart({ rows: rows(q.byWeek, 'week', 'recall'), title: 'Recall of links by week', what: 'recall' }),
     el('h4', {}, 'By outlet'),
     intervalChart({ rows: rows(q.byOutlet, 'outlet', 'precision'), title: 'Precision of links by outlet', what: 'precision' }),
+    el('h4', {}, 'Corrections the answers call for'),
+    el(
+      'p',
+      { class: 'hint' },
+      'Where the combined answers contradict the linker: a link answered "different" detaches the sentence; a sentence left unlinked answered "same" moves into that event. Each goes into the corrections log and can be undone there.',
+    ),
+    el(
+      'button',
+      {
+        type: 'button',
+        id: 'review-apply',
+        onclick: async (e) => {
+          e.target.disabled = true;
+          const out = e.target.nextElementSibling;
+          try {
+            const r = await api(`/api/reviews/${round}/corrections`, { method: 'POST', body: {} });
+            out.replaceChildren(
+              `${plural(r.made.length, 'correction')} made, ${r.refused.length} refused (changed since), ${r.agreed} item(s) agreed with the linker.`,
+            );
+          } catch (err) {
+            out.replaceChildren(problem(explain(err, 'Corrections need')));
+          } finally {
+            e.target.disabled = false;
+          }
+        },
+      },
+      'Make these corrections',
+    ),
+    el('p', { class: 'action-status', role: 'status', 'aria-live': 'polite' }),
     el('h4', {}, 'The link threshold'),
     el(
       'p',
