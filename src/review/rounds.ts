@@ -122,6 +122,7 @@ const orNull = (x: number) => (Number.isFinite(x) ? x : null);
 /** ISO 8601 week of a day, as 2026-W41 (weeks start on Monday; week 1 holds the year's first Thursday). */
 export function isoWeek(iso: string): string {
   const d = new Date(`${iso.slice(0, 10)}T00:00:00Z`);
+  if (Number.isNaN(d.getTime())) return 'undated';
   // The Thursday of the day's week decides the week's year.
   d.setUTCDate(d.getUTCDate() + 3 - ((d.getUTCDay() + 6) % 7));
   const yearStart = Date.UTC(d.getUTCFullYear(), 0, 1);

@@ -436,7 +436,9 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         expect(await page.locator('.interval-chart').count()).toBe(3);
         await shootAndCheck(page, 'review-report');
         await page.click('#review-apply');
-        await expect.poll(() => page.locator('#review-apply + .action-status').textContent()).toMatch(/corrections? made, \d+ refused .*agreed with the linker/);
+        await expect
+          .poll(() => page.locator('#review-apply + .action-status').textContent())
+          .toMatch(/corrections? made, \d+ refused .*agreed with the linker/);
         expect(errors).toEqual([]);
       } finally {
         await page.context().close();

@@ -1,7 +1,7 @@
 // Reviews: start a round, answer its items one by one (same event, different, unsure), and
 // read what the answers say: agreement, each reviewer's estimated error rate, precision and
 // recall with their intervals by week and by outlet, and the threshold move they suggest.
-import { api, ApiError, explain } from './api.js';
+import { api, explain } from './api.js';
 import { el, fmtTime, icon, plural, problem, statusLine, wideView } from './dom.js';
 import { intervalChart } from './charts.js';
 import { evidenceText, scoreLine } from './evidence.js';
@@ -17,16 +17,12 @@ function estimateText(e) {
 }
 
 async function renderItem(target, round, reviewer, onAnswered) {
-  const res = await fetch(`/api/reviews/${round}/next?reviewer=${encodeURIComponent(reviewer)}`, {
-    cache: 'no-store',
-    headers: { accept: 'application/json', ...auth() },
-  });
-  if (res.status === 204) {
+  // 204 (nothing left for this reviewer) comes back as null.
+  const it = await api(`/api/reviews/${round}/next?reviewer=${encodeURIComponent(reviewer)}`);
+  if (it === null) {
     target.replaceChildren(el('p', { class: 'done' }, icon('ok'), ' Nothing left for you in this round. Thank you.'));
     return;
   }
-  const it = await res.json();
-  if (!res.ok) throw new ApiError(res.status, it?.error?.message ?? `the server answered ${res.status}`);
   const answer = async (verdict) => {
     for (const b of target.querySelectorAll('button')) b.disabled = true;
     await api(`/api/reviews/${round}/answers`, { method: 'POST', body: { item: it.item, reviewer, verdict } });
@@ -65,11 +61,6 @@ async function renderItem(target, round, reviewer, onAnswered) {
       ),
     ),
   );
-}
-
-function auth() {
-  const key = sessionStorage.getItem('strandline-token');
-  return key ? { authorization: `Bearer ${key}` } : {};
 }
 
 async function renderReport(target, round) {
