@@ -14,9 +14,9 @@ import type { Logger } from '../logger.js';
 import { crossValidate, fitOffset } from '../review/calibrate.js';
 import { dawidSkene } from '../review/dawid-skene.js';
 import { estimateQuality } from '../review/estimate.js';
+import { liveDecisions } from '../review/rounds.js';
 import { type ReviewCandidate, drawSample } from '../review/sampling.js';
 import { seededRandom } from '../seeded-random.js';
-import type { Store } from '../store/store.js';
 import { createNlp } from '../text/nlp.js';
 import type { Clustering } from './baselines.js';
 import { clusteringOf, follow, goldMemberships, partition, restrict } from './clusterings.js';
@@ -96,7 +96,8 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
   let candidates = 0;
   const base = o.config.link.threshold;
   const conllBefore = await conll(base, async (store, outcomes) => {
-    const all = await decisions(store, outcomes);
+    // The decisions as the review queue lists them, through its own code.
+    const all = await liveDecisions(store, { maxEvents: Number.MAX_SAFE_INTEGER });
     candidates = all.length;
     const redirect = new Map(outcomes.flatMap((x) => x.merges.map((m) => [m.from, m.into] as const)));
     judged = judge(all, clusteringOf(outcomes), redirect, gold, inScope);
@@ -166,40 +167,6 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
 
 const pick = (e: { value: number; low: number; high: number }) => ({ value: e.value, low: e.low, high: e.high });
 const keyOf = (c: ReviewCandidate) => `${mentionKey(c.articleId, c.sentenceIndex)}\n${c.eventId}\n${c.linked}`;
-
-/** Every decision the linker made, as the review queue would list it: its links, and its misses with their nearest event. */
-async function decisions(store: Store, outcomes: readonly { articleId: string; status: string }[]): Promise<ReviewCandidate[]> {
-  const out: ReviewCandidate[] = [];
-  for (const o of outcomes) {
-    if (o.status !== 'stored') continue;
-    const d = await store.getArticle(o.articleId);
-    if (!d) continue;
-    for (const s of d.sentences) {
-      for (const l of s.links) {
-        const about = { articleId: o.articleId, sentenceIndex: s.index, outlet: d.article.outlet, published: d.article.published ?? '' };
-        if (!l.evidence.opened)
-          out.push({
-            ...about,
-            eventId: l.eventId,
-            linked: true,
-            score: l.score,
-            bar: l.evidence.bar ?? 0,
-            crossStory: l.evidence.crossStory === true,
-          });
-        else if (l.evidence.nearest)
-          out.push({
-            ...about,
-            eventId: l.evidence.nearest.eventId,
-            linked: false,
-            score: l.evidence.nearest.score,
-            bar: l.evidence.nearest.bar,
-            crossStory: false,
-          });
-      }
-    }
-  }
-  return out;
-}
 
 /**
  * Whether each decision was right by gold: a link is right when the sentence's gold event

@@ -33,7 +33,7 @@ export interface DawidSkeneResult {
 /** Added to every count so that a matrix never holds a hard 0 (a reviewer seen on few items). */
 const SMOOTHING = 0.01;
 
-/** The majority vote of each item (ties to the lower class), as beliefs. */
+/** The majority vote of each item (ties to the lower class). */
 export function majorityVote(answers: readonly Answer[], classes: number): Map<string, number> {
   const votes = new Map<string, number[]>();
   for (const a of answers) (votes.get(a.item) ?? votes.set(a.item, new Array(classes).fill(0)).get(a.item)!)[a.answer]!++;

@@ -152,6 +152,9 @@ export function roundVerdicts(answers: readonly ReviewAnswer[]): Map<number, boo
   return combine([...new Set(decided.map((a) => a.reviewer))], decided).same;
 }
 
+/** JSON.stringify replacer: a number that is not (an estimate with nothing to rest on yet) as null. */
+export const nanAsNull = (_key: string, v: unknown): unknown => (typeof v === 'number' && !Number.isFinite(v) ? null : v);
+
 /** What a round's answers say so far. */
 export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]): RoundReport {
   const decided = answers.filter((a) => a.verdict !== 'unsure');

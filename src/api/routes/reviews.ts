@@ -4,7 +4,7 @@
  * Every route needs the manage scope (answers carry reviewers' names).
  */
 import { StrandError } from '../../errors.js';
-import { drawRound, liveDecisions, nextItem, roundReport, roundVerdicts } from '../../review/rounds.js';
+import { drawRound, liveDecisions, nanAsNull, nextItem, roundReport, roundVerdicts } from '../../review/rounds.js';
 import type { CorrectionRequest } from '../../link/corrections.js';
 import type { ApplyCorrection } from './corrections.js';
 import { STRATA } from '../../review/sampling.js';
@@ -46,11 +46,6 @@ const estimate = {
   required: ['value', 'low', 'high', 'answers'],
 } as const;
 const quality = { type: 'object', properties: { precision: estimate, recall: estimate }, required: ['precision', 'recall'] } as const;
-
-/** Numbers that are not (an estimate with nothing to rest on) as null. */
-function finite<T>(x: T): T {
-  return JSON.parse(JSON.stringify(x, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v))) as T;
-}
 
 const summary = (r: ReviewRound | Omit<ReviewRound, 'items'>, items: number) => {
   const { id, created, by, margin, seed, reviewersPerItem, design } = r;
@@ -407,7 +402,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
       const round = await find(req.params.id);
       return {
         round: summary(round, round.items.length),
-        ...finite(roundReport(round, await store.reviewAnswers(round.id))),
+        ...JSON.parse(JSON.stringify(roundReport(round, await store.reviewAnswers(round.id)), nanAsNull)),
         caution: CAUTION,
       };
     },

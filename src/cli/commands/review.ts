@@ -10,7 +10,7 @@ import { readCorpus } from '../../eval/corpus.js';
 import { type ReviewSimRow, simulateReviews } from '../../eval/review-simulation.js';
 import { defaultSweep } from '../../eval/run-eval.js';
 import { StrandError } from '../../errors.js';
-import { drawRound, liveDecisions, roundReport } from '../../review/rounds.js';
+import { drawRound, liveDecisions, nanAsNull, roundReport } from '../../review/rounds.js';
 import type { Estimate } from '../../review/estimate.js';
 import { reviewGold } from '../../review/gold-export.js';
 import { type CommonOptions, setup, withStore } from '../common.js';
@@ -117,7 +117,7 @@ export async function reviewReportCommand(id: string, opts: CommonOptions & { js
     if (!round) throw new StrandError('STRAND_NOT_FOUND', `no review round ${id}`);
     const r = roundReport(round, await store.reviewAnswers(id));
     if (opts.json) {
-      process.stdout.write(`${JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2)}\n`);
+      process.stdout.write(`${JSON.stringify(r, nanAsNull, 2)}\n`);
       return 0;
     }
     const pct = (x: number) => (Number.isFinite(x) ? `${(x * 100).toFixed(0)}%` : '-');
