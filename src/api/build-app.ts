@@ -26,6 +26,7 @@ import { Metrics } from './metrics.js';
 import { type AccessPolicy, KeyRing, registerAccessCheck } from './access.js';
 import { keyRoutes } from './routes/keys.js';
 import { reviewRoutes } from './routes/reviews.js';
+import { type LinkSettings, linkThresholdRoutes } from './routes/link-threshold.js';
 import { type ApplyCorrection, correctionRoutes } from './routes/corrections.js';
 import { parseJsonText } from '../ingest/parse-json-text.js';
 
@@ -52,6 +53,8 @@ export interface ApiDeps {
   access?: { requestsPerMinute: number; corsOrigins: readonly string[] } | undefined;
   /** Makes corrections in the linker's turn; absent (a Redis api process): the correction routes answer 503. */
   corrections?: ApplyCorrection | undefined;
+  /** The configured link threshold; without it the /api/link-threshold routes are not offered. */
+  linkSettings?: LinkSettings | undefined;
   /** Which webhook targets subscriptions may name (webhooks.allowPrivateNetworks, allowedNetworks); absent: no private ones. */
   webhooks?: SubscriptionDeps['webhooks'] | undefined;
   /** The operator's tokens and what keys protect (access.ts); absent: nothing is checked. */
@@ -189,6 +192,8 @@ export async function buildApp(deps: ApiDeps): Promise<FastifyInstance> {
   await app.register(keyRoutes, { store: deps.store, keys, now: () => new Date() });
   await app.register(reviewRoutes, { store: deps.store, now: () => new Date(), apply: deps.corrections });
   await app.register(correctionRoutes, { store: deps.store, apply: deps.corrections });
+  if (deps.linkSettings)
+    await app.register(linkThresholdRoutes, { store: deps.store, settings: deps.linkSettings, apply: deps.corrections });
   await app.register(subscriptionRoutes, { store: deps.store, webhooks: deps.webhooks ?? NO_PRIVATE_TARGETS, now: () => new Date() });
   const metrics = (deps.metrics ?? new Metrics()).watch({
     store: deps.store,

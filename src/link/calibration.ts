@@ -19,8 +19,9 @@
  * events asks for more. `prior` pseudo-mentions at `share0` keep the first few
  * mentions from swinging it. The tally is stored with each commit, so a restarted
  * linker resumes with the threshold an uninterrupted one would have. With mode
- * 'fixed' the threshold is `base` throughout. The operator's own fit from reviewed
- * links would replace the tally-based prior here.
+ * 'fixed' the threshold is `base` throughout. An operator's adjustment (fitted to reviewed
+ * links, review/calibrate.ts, or set by hand) moves `base` by an offset; the stream's
+ * calibration then works from there.
  */
 import type { LinkTally } from '../store/store.js';
 
@@ -44,11 +45,17 @@ const CEILING = 0.9;
 /** The stream's tally and the threshold it gives. */
 export class Calibration {
   private tally: LinkTally = { mentions: 0, high: 0 };
+  private offset = 0;
 
   constructor(
     private readonly base: number,
     private readonly o: CalibrationOptions,
   ) {}
+
+  /** Moves the base threshold by an operator's adjustment (0: as configured). */
+  setOffset(offset: number): void {
+    this.offset = offset;
+  }
 
   /** Restores a stored tally. */
   load(t: LinkTally): void {
@@ -63,9 +70,10 @@ export class Calibration {
 
   /** The threshold for the next mention, given what a plan in progress has counted so far. */
   threshold(extra?: LinkTally): number {
-    if (this.o.mode === 'fixed') return this.base;
+    const base = this.base + this.offset;
+    if (this.o.mode === 'fixed') return base;
     const r = Math.min(1 - 1e-6, Math.max(1e-6, this.share(extra)));
-    return Math.min(CEILING, Math.max(FLOOR, this.base + this.o.slope * Math.log((1 - r) / r)));
+    return Math.min(CEILING, Math.max(FLOOR, base + this.o.slope * Math.log((1 - r) / r)));
   }
 
   /** Whether a best-candidate score counts as high. */

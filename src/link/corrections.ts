@@ -1,7 +1,8 @@
 /**
  * Analysts' corrections: merge two events, split some mentions off into a new event, move
  * mentions to another event, detach one into an event of its own, merge two stories, divide
- * one, and undo any of them.
+ * one, move the link threshold (an operator's adjustment, fitted to reviewed links or set by
+ * hand), and undo any of them.
  * Each runs in the linker's turn (it changes the linker's memory as well as the store), is
  * one commit with its audit record and its notification, and binds the linker afterwards:
  * events a correction set apart are never merged again by consolidation, and sentences it
@@ -22,6 +23,7 @@ import type {
   LinkedMention,
   SentenceKey,
   Store,
+  ThresholdMove,
 } from '../store/store.js';
 import { applyStoredLabels, type ConsolidationContext } from './consolidate.js';
 import {
@@ -47,7 +49,15 @@ export type CorrectionRequest =
   | { kind: 'detach'; from: string; mentions: SentenceKey[] }
   | { kind: 'merge-stories'; from: string; into: string }
   | { kind: 'split-story'; from: string; articles: string[] }
+  | { kind: 'threshold'; offset: number; round: string | null; heldOutF1: ThresholdMove['heldOutF1'] }
   | { kind: 'undo'; correction: string };
+
+/** What the standing corrections bind the linker to: their pairs and sentences, and the threshold adjustment in effect. */
+export type ActiveBinds = CorrectionRecord['binds'] & { thresholdOffset: number };
+
+/** How far an adjustment may move the configured threshold, and where the result must stay. */
+export const MAX_THRESHOLD_OFFSET = 0.5;
+const THRESHOLD_RANGE = [0.01, 0.99] as const;
 
 /** Who asks, and why. */
 export interface CorrectionAuthor {
@@ -68,6 +78,7 @@ export async function applyCorrection(
 ): Promise<CorrectionRecord> {
   if (req.kind === 'merge-stories') return bound(ctx, await mergeStories(ctx, req.from, req.into, author));
   if (req.kind === 'split-story') return bound(ctx, await splitStory(ctx, req.from, req.articles, author));
+  if (req.kind === 'threshold') return bound(ctx, await moveThreshold(ctx, req, author));
   let outcome: Planned;
   if (req.kind === 'undo') {
     const r = await ctx.store.getCorrection(req.correction);
@@ -76,6 +87,7 @@ export async function applyCorrection(
     if (r.undoneBy) throw conflict(`${r.id} was undone already (by ${r.undoneBy})`);
     if (r.kind === 'merge-stories') return bound(ctx, await unmergeStories(ctx, r, author));
     if (r.kind === 'split-story') return bound(ctx, await unsplitStory(ctx, r, author));
+    if (r.kind === 'threshold') return bound(ctx, await unmoveThreshold(ctx, r, author));
     outcome = await planUndo(ctx, r, author);
   } else {
     outcome = await planChange(ctx, req, author);
@@ -98,17 +110,75 @@ async function bound(ctx: ConsolidationContext, record: CorrectionRecord): Promi
   return record;
 }
 
-/** Hands the bindings to the event linker (event pairs, sentences) and the story linker (story pairs). */
+/** Hands the bindings to the event linker (event pairs, sentences, threshold adjustment) and the story linker (story pairs). */
 export function applyBinds(
-  linker: Pick<ConsolidationContext['linker'], 'setBinds'>,
+  linker: Pick<ConsolidationContext['linker'], 'setBinds' | 'setThresholdOffset'>,
   stories: Pick<ConsolidationContext['stories'], 'setApart'>,
-  binds: CorrectionRecord['binds'],
+  binds: ActiveBinds,
 ): void {
   linker.setBinds(
     binds.apart.filter(([a]) => a.startsWith('ev_')),
     binds.pinned,
   );
+  linker.setThresholdOffset(binds.thresholdOffset);
   stories.setApart(binds.apart.filter(([a]) => a.startsWith('st_')));
+}
+
+/**
+ * An operator's move of the link threshold: a record in the corrections log (who, when,
+ * why, from which review round), in effect from the next sentence linked. Nothing already
+ * linked changes; undoing it puts back the adjustment in effect before (the newest one
+ * still standing).
+ */
+async function moveThreshold(
+  ctx: ConsolidationContext,
+  req: Extract<CorrectionRequest, { kind: 'threshold' }>,
+  author: CorrectionAuthor,
+): Promise<CorrectionRecord> {
+  const configured = ctx.config.link.threshold;
+  const [low, high] = THRESHOLD_RANGE;
+  if (!Number.isFinite(req.offset) || Math.abs(req.offset) > MAX_THRESHOLD_OFFSET)
+    throw invalid(`a threshold adjustment moves the configured threshold by at most ${MAX_THRESHOLD_OFFSET} either way`);
+  const to = Math.round(req.offset * 1e4) / 1e4;
+  if (configured + to < low || configured + to > high)
+    throw invalid(`the configured threshold ${configured} moved by ${to} leaves ${low}..${high}`);
+  const from = ctx.linker.thresholdAdjustment;
+  if (to === from) throw conflict(`an adjustment of ${to} is in effect already`);
+  const record = thresholdRecord(ctx, author, { from, to, round: req.round, heldOutF1: req.heldOutF1 });
+  await ctx.store.commitCorrection({ record, sentences: [], links: [], events: [], removed: [], messages: [] });
+  return record;
+}
+
+/** Undoing a threshold move: the newest adjustment still standing after it is the one in effect. */
+async function unmoveThreshold(ctx: ConsolidationContext, r: CorrectionRecord, author: CorrectionAuthor): Promise<CorrectionRecord> {
+  const from = ctx.linker.thresholdAdjustment;
+  const to = (await activeBinds(ctx.store, r.id)).thresholdOffset;
+  const record: CorrectionRecord = {
+    ...thresholdRecord(ctx, author, { from, to, round: r.threshold?.round ?? null, heldOutF1: null }),
+    kind: 'undo',
+    undoes: r.id,
+  };
+  await ctx.store.commitCorrection({ record, sentences: [], links: [], events: [], removed: [], messages: [] });
+  return record;
+}
+
+function thresholdRecord(ctx: ConsolidationContext, author: CorrectionAuthor, move: ThresholdMove): CorrectionRecord {
+  const none: CorrectionImage = { events: {}, links: [] };
+  return {
+    id: `cr_${randomBytes(6).toString('hex')}`,
+    kind: 'threshold',
+    by: author.by,
+    at: ctx.now().toISOString(),
+    note: author.note,
+    events: [],
+    mentions: [],
+    undoes: null,
+    undoneBy: null,
+    before: none,
+    after: none,
+    binds: { apart: [], pinned: [] },
+    threshold: move,
+  };
 }
 
 /** An analyst's merge of two stories, through the store's story merge with its record. */
@@ -287,19 +357,24 @@ async function unmergeStories(ctx: ConsolidationContext, r: CorrectionRecord, au
  */
 export async function activeBinds(
   store: Pick<Corrections, 'listCorrections'> & Pick<Store, 'mergedInto' | 'storyMergedInto'>,
-): Promise<CorrectionRecord['binds']> {
+  /** A correction to count as undone (the one an undo in progress takes back). */
+  except?: string,
+): Promise<ActiveBinds> {
   const apart: [string, string][] = [];
   const pinned: SentenceKey[] = [];
+  let thresholdOffset: number | null = null;
   const PAGE = 500;
   const now = async (id: string) => (id.startsWith('st_') ? await store.storyMergedInto(id) : await store.mergedInto(id)) ?? id;
   for (let offset = 0; ; offset += PAGE) {
     const { corrections } = await store.listCorrections(PAGE, offset);
     for (const c of corrections) {
-      if (c.undoneBy !== null) continue;
+      if (c.undoneBy !== null || c.id === except) continue;
+      // Newest first: the first threshold move still standing is the one in effect.
+      if (c.kind === 'threshold' && thresholdOffset === null) thresholdOffset = c.threshold?.to ?? 0;
       for (const [a, b] of c.binds.apart) apart.push([await now(a), await now(b)]);
       pinned.push(...c.binds.pinned);
     }
-    if (corrections.length < PAGE) return { apart, pinned };
+    if (corrections.length < PAGE) return { apart, pinned, thresholdOffset: thresholdOffset ?? 0 };
   }
 }
 
@@ -312,7 +387,7 @@ interface Planned {
 
 async function planChange(
   ctx: ConsolidationContext,
-  req: Exclude<CorrectionRequest, { kind: 'undo' | 'merge-stories' | 'split-story' }>,
+  req: Exclude<CorrectionRequest, { kind: 'undo' | 'merge-stories' | 'split-story' | 'threshold' }>,
   author: CorrectionAuthor,
 ): Promise<Planned> {
   const id = `cr_${randomBytes(6).toString('hex')}`;

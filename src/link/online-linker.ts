@@ -102,6 +102,8 @@ export class OnlineLinker {
   };
 
   private calibration: Calibration;
+  /** The operator's adjustment of the threshold (corrections log), kept across reset(). */
+  private thresholdOffset = 0;
   /** Pairs of events an analyst set apart (`a\nb`, ordered), never merged again by consolidation. */
   private apart = new Set<string>();
   /** Sentences an analyst placed (`article#index`), never moved by consolidation's splits. */
@@ -121,6 +123,18 @@ export class OnlineLinker {
     this.clock = 0;
     this.names = new Map();
     this.calibration = new Calibration(this.o.threshold, this.o.calibration);
+    this.calibration.setOffset(this.thresholdOffset);
+  }
+
+  /** Moves the link threshold by the operator's adjustment in effect (0: as configured). */
+  setThresholdOffset(offset: number): void {
+    this.thresholdOffset = offset;
+    this.calibration.setOffset(offset);
+  }
+
+  /** The adjustment in effect. */
+  get thresholdAdjustment(): number {
+    return this.thresholdOffset;
   }
 
   /**

@@ -678,7 +678,7 @@ export interface CorrectionImage {
 export interface CorrectionRecord {
   /** `cr_` and 12 hex digits. */
   id: string;
-  kind: 'merge' | 'split' | 'move' | 'detach' | 'merge-stories' | 'split-story' | 'undo';
+  kind: 'merge' | 'split' | 'move' | 'detach' | 'merge-stories' | 'split-story' | 'threshold' | 'undo';
   /** Who made it: the API key's id, the operator's token, or `local` when nothing is checked. */
   by: string;
   at: string;
@@ -694,6 +694,23 @@ export interface CorrectionRecord {
   after: CorrectionImage;
   /** What binds the linker while the correction stands: events never merged again, sentences never moved by consolidation. */
   binds: { apart: [string, string][]; pinned: SentenceKey[] };
+  /** For a threshold adjustment (and its undo): the move of the link threshold it made. */
+  threshold?: ThresholdMove;
+}
+
+/**
+ * An operator's move of the link threshold, as the corrections log keeps it. Offsets are
+ * added to the configured `link.threshold` (the stream calibration then works from there);
+ * the newest adjustment still standing is the one in effect.
+ */
+export interface ThresholdMove {
+  /** The offset in effect before, and the one it set. */
+  from: number;
+  to: number;
+  /** The review round whose answers it was fitted to, or null when set by hand. */
+  round: string | null;
+  /** The fit's cross-validated F1 of the round's decisions at the old and new threshold, when fitted. */
+  heldOutF1: { before: number; after: number } | null;
 }
 
 /** One correction, committed atomically: the touched sentences' links replaced, events written or removed, the record kept. */

@@ -1357,6 +1357,38 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
         ]);
       });
 
+      it('keeps threshold adjustments in the corrections log: the newest standing one is in effect, after a restart too, and undoing it puts back the one before', async () => {
+        const links = (await store.counts()).links;
+        const a = await applyCorrection(
+          rt,
+          { kind: 'threshold', offset: -0.05, round: null, heldOutF1: null },
+          { by: 'local', note: 'by hand' },
+        );
+        const b = await applyCorrection(
+          rt,
+          { kind: 'threshold', offset: 0.03, round: 'rv_000000000001', heldOutF1: { before: 0.6, after: 0.7 } },
+          { by: 'key_000000000001', note: null },
+        );
+        expect(b.threshold).toEqual({ from: -0.05, to: 0.03, round: 'rv_000000000001', heldOutF1: { before: 0.6, after: 0.7 } });
+        expect(rt.linker.thresholdAdjustment).toBe(0.03);
+        // Nothing linked changes.
+        expect((await store.counts()).links).toBe(links);
+        const restarted = await createRuntime(testConfig({ link: { consolidateEvery: 0 } }), createLogger('silent'), store);
+        expect(restarted.linker.thresholdAdjustment).toBe(0.03);
+        const undo = await applyCorrection(restarted, { kind: 'undo', correction: b.id }, { by: 'local', note: null });
+        expect(undo.threshold).toMatchObject({ from: 0.03, to: -0.05 });
+        expect(restarted.linker.thresholdAdjustment).toBe(-0.05);
+        expect((await activeBinds(store)).thresholdOffset).toBe(-0.05);
+        await applyCorrection(restarted, { kind: 'undo', correction: a.id }, { by: 'local', note: null });
+        expect((await activeBinds(store)).thresholdOffset).toBe(0);
+        expect((await store.listCorrections(4, 0)).corrections.map((r) => [r.kind, r.undoneBy !== null])).toEqual([
+          ['undo', false],
+          ['undo', false],
+          ['threshold', true],
+          ['threshold', true],
+        ]);
+      });
+
       it('divides a story by hand and its undo restores it exactly, with its articles and events', async () => {
         const [x] = (await store.listStories({ limit: 1, offset: 0, sort: 'articles' })).stories.map((st) => st.id) as [string];
         const members = await store.storyMembers(x);

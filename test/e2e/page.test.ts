@@ -34,6 +34,7 @@ function deskApp(rt: Runtime, extra: Partial<Parameters<typeof buildApp>[0]> = {
     version: 'test',
     ingestStatus: status(101),
     corrections: (req, author) => applyCorrection(rt, req, author),
+    linkSettings: { threshold: rt.config.link.threshold, calibration: rt.config.link.calibration.mode },
     ...extra,
   });
 }
@@ -439,6 +440,19 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         await expect
           .poll(() => page.locator('#review-apply + .action-status').textContent())
           .toMatch(/corrections? made, \d+ refused .*agreed with the linker/);
+        // The threshold: as configured, then moved by hand, shown, and rolled back from the page.
+        expect(await page.locator('#threshold-in-effect').textContent()).toMatch(/as configured/);
+        const moved = await fetch(`${base}/api/link-threshold`, {
+          method: 'POST',
+          headers: { 'content-type': 'application/json' },
+          body: JSON.stringify({ offset: -0.03, note: 'by hand' }),
+        });
+        expect(moved.status).toBe(200);
+        await page.reload();
+        await expect.poll(() => page.locator('#threshold-in-effect').textContent()).toMatch(/moved by −0\.030.*set by hand/);
+        await page.click('#threshold-rollback');
+        await expect.poll(() => page.locator('#threshold-in-effect').textContent()).toMatch(/as configured/);
+        expect(rt.linker.thresholdAdjustment).toBe(0);
         expect(errors).toEqual([]);
       } finally {
         await page.context().close();

@@ -39,6 +39,7 @@ describe('access by scope, walking the OpenAPI document', () => {
       push: { submit: none, limits: { maxArticleChars: 5000, maxPushItems: 6, maxPushBytes: 64 * 1024 } },
       feeds: { list: () => [], add: none, update: none, remove: async () => false } as never,
       queue: { depth: async () => ({ intake: 0, analysed: 0, deadLetters: 0 }), deadLetters: async () => [] },
+      linkSettings: { threshold: 0.2, calibration: 'stream' },
       auth: { tokens: [OPERATOR], protect: 'everything' },
     });
     const admin = { authorization: `Bearer ${OPERATOR}` };
@@ -97,6 +98,7 @@ describe('access by scope, walking the OpenAPI document', () => {
     }
     expect(seen).toContain('POST /api/articles');
     expect(seen).toContain('DELETE /api/keys/{id}');
+    expect(seen).toContain('POST /api/link-threshold/rollback');
   });
 
   it('lets a wider scope do what a narrower one may: admin everything, manage reads too, push nothing else', async () => {

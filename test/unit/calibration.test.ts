@@ -55,4 +55,17 @@ describe('the threshold calibrated on the stream', () => {
     b.load(a.current());
     expect(b.threshold()).toBe(a.threshold());
   });
+
+  it("moves every threshold by the operator's adjustment, calibrated or fixed, and back when it is rolled back", () => {
+    const stream = new Calibration(0.2, options);
+    stream.add({ mentions: 1000, high: 300 });
+    const before = stream.threshold();
+    stream.setOffset(-0.04);
+    expect(stream.threshold()).toBeCloseTo(before - 0.04, 12);
+    stream.setOffset(0);
+    expect(stream.threshold()).toBe(before);
+    const fixed = new Calibration(0.27, { ...options, mode: 'fixed' });
+    fixed.setOffset(0.05);
+    expect(fixed.threshold()).toBeCloseTo(0.32, 12);
+  });
 });

@@ -8,7 +8,7 @@ import { StrandError } from '../../errors.js';
 import type { CorrectionAuthor, CorrectionRequest } from '../../link/corrections.js';
 import type { CorrectionImage, CorrectionRecord, Corrections } from '../../store/store.js';
 import type { RoutePlugin } from '../route-plugin.js';
-import { errorSchema, evidenceSchema, int, nullableStr, str } from '../schemas.js';
+import { errorSchema, evidenceSchema, int, nullableStr, num, str } from '../schemas.js';
 
 /** Makes a correction in the linker's turn and answers its record. */
 export type ApplyCorrection = (req: CorrectionRequest, author: CorrectionAuthor) => Promise<CorrectionRecord>;
@@ -29,7 +29,7 @@ const summarySchema = {
   type: 'object',
   properties: {
     id: str,
-    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'split-story', 'undo'] },
+    kind: { type: 'string', enum: ['merge', 'split', 'move', 'detach', 'merge-stories', 'split-story', 'threshold', 'undo'] },
     by: { ...str, description: 'The API key (or server token) that made it; local when the server checks no one.' },
     at: str,
     note: nullableStr,
@@ -49,6 +49,13 @@ const summarySchema = {
         pinned: { type: 'array', items: sentenceOut },
       },
       required: ['apart', 'pinned'],
+    },
+    threshold: {
+      type: 'object',
+      description:
+        'For a threshold adjustment (and its undo): the adjustment of the configured link threshold in effect before (`from`) and after (`to`), and the review round it was fitted to (null: set by hand).',
+      properties: { from: num, to: num, round: nullableStr },
+      required: ['from', 'to', 'round'],
     },
   },
   required: ['id', 'kind', 'by', 'at', 'note', 'events', 'mentions', 'undoes', 'undoneBy', 'binds'],
@@ -225,6 +232,7 @@ function summary(c: CorrectionRecord): object {
     undoes: c.undoes,
     undoneBy: c.undoneBy,
     binds: { apart: c.binds.apart, pinned: c.binds.pinned.map(ref) },
+    ...(c.threshold ? { threshold: { from: c.threshold.from, to: c.threshold.to, round: c.threshold.round } } : {}),
   };
 }
 

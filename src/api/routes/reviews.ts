@@ -333,7 +333,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
         summary:
           "What a round's answers say: agreement, reviewers' error rates, precision and recall with 95 % intervals, the threshold they suggest",
         description:
-          "Agreement is Krippendorff's alpha (nominal; 'unsure' left out), overall, per stratum, and without each reviewer in turn (a reviewer whose absence raises it agrees least). Answers are combined with Dawid–Skene (each reviewer weighted by their estimated error rates). Precision and recall are over the linker's candidates, overall, by ISO week and by outlet of the sentence. The calibration is the move of the link threshold where a link becomes the more likely; it is not applied here.",
+          "Agreement is Krippendorff's alpha (nominal; 'unsure' left out), overall, per stratum, and without each reviewer in turn (a reviewer whose absence raises it agrees least). Answers are combined with Dawid–Skene (each reviewer weighted by their estimated error rates). Precision and recall are over the linker's candidates, overall, by ISO week and by outlet of the sentence. The calibration is the move of the link threshold where a link becomes the more likely; it is applied with POST /api/link-threshold (round), not here.",
         tags: TAGS,
         params,
         response: {

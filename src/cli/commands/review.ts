@@ -133,7 +133,7 @@ export async function reviewReportCommand(id: string, opts: CommonOptions & { js
           `  ${x.reviewer.padEnd(20)} ${String(x.answers).padStart(5)} answers, ${x.unsure} unsure, error rate ${x.errorRate === null ? '-' : pct(x.errorRate)}, alpha without them ${x.alphaWithout === null ? '-' : x.alphaWithout.toFixed(3)}`,
       ),
       r.calibration.placed
-        ? `threshold: the answers suggest moving it by ${r.calibration.offset >= 0 ? '+' : ''}${r.calibration.offset.toFixed(3)} (held-out F1 ${r.calibration.cvF1Before.toFixed(2)} -> ${r.calibration.cvF1After.toFixed(2)}); not applied`
+        ? `threshold: the answers suggest moving it by ${r.calibration.offset >= 0 ? '+' : ''}${r.calibration.offset.toFixed(3)} (held-out F1 ${r.calibration.cvF1Before.toFixed(2)} -> ${r.calibration.cvF1After.toFixed(2)}); apply it from the page or POST /api/link-threshold`
         : 'threshold: the answers do not place the bar within reach; leave it',
     ];
     process.stdout.write(`${lines.join('\n')}\n`);

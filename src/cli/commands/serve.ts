@@ -129,6 +129,7 @@ async function serveAll(
           feeds: poller ?? undefined,
           // Corrections take their turn on the one pipeline, between batches and the replay.
           corrections: (req, author) => intake.exclusive(() => applyCorrection(rt, req, author)),
+          linkSettings: { threshold: config.link.threshold, calibration: config.link.calibration.mode },
           auth: config.server,
           webhooks: config.webhooks,
           access: config.server,
@@ -318,6 +319,7 @@ async function serveApiRole(
           feeds: poller ?? undefined,
           // Made by the linker process in its turn; this process queues them and waits for the answer.
           corrections: (req, author) => corrections.submit(req, author),
+          linkSettings: { threshold: config.link.threshold, calibration: config.link.calibration.mode },
           auth: config.server,
           webhooks: config.webhooks,
           access: config.server,

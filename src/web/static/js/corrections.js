@@ -47,6 +47,7 @@ const KINDS = {
   detach: 'detached a sentence',
   'merge-stories': 'merged a story into another',
   'split-story': 'divided a story',
+  threshold: 'moved the link threshold',
   undo: 'undid a correction',
 };
 
@@ -62,7 +63,15 @@ export async function renderCorrections(container) {
       { 'data-id': c.id },
       el('td', {}, fmtTime(c.at)),
       el('td', {}, c.by),
-      el('td', {}, KINDS[c.kind] ?? c.kind, c.mentions.length ? ` (${plural(c.mentions.length, 'sentence')})` : ''),
+      el(
+        'td',
+        {},
+        KINDS[c.kind] ?? c.kind,
+        c.mentions.length ? ` (${plural(c.mentions.length, 'sentence')})` : '',
+        c.threshold
+          ? ` (adjustment ${c.threshold.from.toFixed(3)} → ${c.threshold.to.toFixed(3)}${c.threshold.round ? `, round ${c.threshold.round}` : ''})`
+          : '',
+      ),
       el(
         'td',
         {},

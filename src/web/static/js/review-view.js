@@ -151,9 +151,67 @@ async function renderReport(target, round) {
       'p',
       {},
       r.calibration.placed
-        ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}. Not applied: set link.threshold to apply it.`
+        ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}.`
         : 'The answers do not place the bar within reach of where it is: leave the threshold as it is.',
     ),
+    el('div', { id: 'threshold-state' }),
+  );
+  await renderThreshold(target.querySelector('#threshold-state'), round, r.calibration.placed && r.calibration.offset !== 0);
+}
+
+const signed = (x) => `${x > 0 ? '+' : x < 0 ? '−' : '±'}${Math.abs(x).toFixed(3)}`;
+
+/** The threshold in effect, with the round's fit to apply and the adjustment in effect to roll back. */
+async function renderThreshold(target, round, canApply) {
+  let t;
+  try {
+    t = await api('/api/link-threshold');
+  } catch {
+    return; // not offered by this server
+  }
+  const status = el('p', { class: 'action-status', role: 'status', 'aria-live': 'polite' });
+  const act = (id, label, path, body) =>
+    el(
+      'button',
+      {
+        type: 'button',
+        id,
+        onclick: async (e) => {
+          e.target.disabled = true;
+          try {
+            await api(path, { method: 'POST', body });
+            await renderThreshold(target, round, canApply);
+            target
+              .querySelector('[role=status]')
+              .replaceChildren(el('span', { class: 'done' }, icon('ok'), ' Done; in effect from the next sentence linked.'));
+          } catch (err) {
+            status.replaceChildren(problem(explain(err, 'Moving the threshold needs')));
+            e.target.disabled = false;
+          }
+        },
+      },
+      label,
+    );
+  const current = t.history.find((h) => h.correction === t.current);
+  target.replaceChildren(
+    el(
+      'p',
+      { id: 'threshold-in-effect' },
+      t.current
+        ? `In effect: the configured ${t.configured.toFixed(3)} moved by ${signed(t.offset)}, so ${t.base.toFixed(3)}${current?.round ? `, fitted to round ${current.round}` : ', set by hand'} (${current?.by ?? ''}, ${current ? fmtTime(current.at) : ''}).`
+        : `In effect: ${t.configured.toFixed(3)}, as configured.`,
+      t.calibration === 'stream'
+        ? el('span', { class: 'hint' }, ' Each sentence’s bar is then moved from there as the stream shows itself.')
+        : '',
+    ),
+    el(
+      'p',
+      { class: 'hint' },
+      'A move changes links from the next sentence on; nothing linked before changes. It goes into the corrections log and can be rolled back.',
+    ),
+    canApply ? act('threshold-apply', 'Apply this move', '/api/link-threshold', { round, note: `fitted to review round ${round}` }) : '',
+    t.current ? act('threshold-rollback', 'Roll back the adjustment in effect', '/api/link-threshold/rollback', {}) : '',
+    status,
   );
 }
 
