@@ -10,6 +10,7 @@ import { createLogger } from '../../src/logger.js';
 import { createRuntime } from '../../src/runtime.js';
 import { keyspace } from '../../src/store/redis/keys.js';
 import { openRedisStore } from '../../src/store/redis/redis-store.js';
+import { thresholdAdjustments } from '../../src/link/threshold-adjustments.js';
 import { redisTestsRun } from '../helpers/redis.js';
 import { runArticles } from '../helpers/runtime.js';
 
@@ -50,6 +51,14 @@ describe.skipIf(!redisTestsRun())('corrections on Redis, queued by an api proces
       );
       const after = await queue.submit({ kind: 'merge', from: b!, into: a! }, { by: 'local', note: null });
       expect(after.kind).toBe('merge');
+      // A threshold move goes the same way: the linker holds it (the same move again is refused) and the store lists it.
+      const move = { kind: 'threshold', offset: 0.04, round: null, heldOutF1: null } as const;
+      expect((await queue.submit(move, { by: 'local', note: null })).threshold).toMatchObject({ from: 0, to: 0.04 });
+      await expect(queue.submit(move, { by: 'local', note: null })).rejects.toMatchObject({ code: 'STRAND_CORRECTION_CONFLICT' });
+      await expect(queue.submit({ ...move, offset: Number.NaN }, { by: 'local', note: null })).rejects.toMatchObject({
+        code: 'STRAND_REQUEST_INVALID',
+      });
+      expect((await thresholdAdjustments(store, 10)).offset).toBe(0.04);
       expect(await api.redis.llen(keyspace(partition).correctionRequests)).toBe(0);
     } finally {
       await linking.stop();
