@@ -154,9 +154,18 @@ async function renderReport(target, round) {
         ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}.`
         : 'The answers do not place the bar within reach of where it is: leave the threshold as it is.',
     ),
+    r.calibration.placed && r.calibration.offset !== 0 ? thresholdCaveat(r.calibration) : '',
     el('div', { id: 'threshold-state' }),
   );
   await renderThreshold(target.querySelector('#threshold-state'), round, r.calibration.placed && r.calibration.offset !== 0);
+}
+
+/** Why a suggested move may not be worth applying: few answers, or no gain on answers the fit did not see. */
+function thresholdCaveat(c) {
+  const notes = [];
+  if (c.decided < 100) notes.push(`it rests on ${plural(c.decided, 'decided item')} only (a few hundred make it firmer)`);
+  if (c.cvF1After <= c.cvF1Before) notes.push('on answers the fit did not see it does not do better than the threshold in effect');
+  return notes.length ? el('p', { class: 'hint', id: 'threshold-caveat' }, `Weigh it before applying: ${notes.join('; ')}.`) : '';
 }
 
 const signed = (x) => `${x > 0 ? '+' : x < 0 ? '−' : '±'}${Math.abs(x).toFixed(3)}`;
