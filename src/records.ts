@@ -154,6 +154,8 @@ export interface LinkEvidence {
   sameArticleFactor?: number;
   /** Set when an analyst's correction put the link here (the correction's id in the audit log). */
   correctedBy?: string;
+  /** True when the sentence and the event each name people or places but share none of them. */
+  conflictingNames?: boolean;
   /**
    * The score the link had to reach: the threshold as calibrated on the stream at the
    * time, plus link.crossStoryMargin for an event of another story sharing no name.

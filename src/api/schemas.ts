@@ -39,6 +39,10 @@ export const evidenceSchema = {
       description: "The share of the score kept because the sentence's own article opened the event (link.sameArticleFactor).",
     },
     correctedBy: { ...str, description: "Set when an analyst's correction put the link here: the correction's id in /api/corrections." },
+    conflictingNames: {
+      type: 'boolean',
+      description: 'True when the sentence and the event each name people or places but share none of them: a link to weigh.',
+    },
     bar: {
       ...num,
       description:

@@ -11,7 +11,7 @@
 import type { Config } from '../config/schema.js';
 import { createEmbedder } from '../embed/create-embedder.js';
 import type { Logger } from '../logger.js';
-import { crossValidate, fitOffset } from '../review/calibrate.js';
+import { suggestOffset } from '../review/calibrate.js';
 import { dawidSkene } from '../review/dawid-skene.js';
 import { estimateQuality } from '../review/estimate.js';
 import { liveDecisions } from '../review/rounds.js';
@@ -107,7 +107,8 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
 
   const pool = judged.map((j) => j.candidate);
   const truth = new Map(judged.map((j) => [keyOf(j.candidate), j.same]));
-  const links = judged.filter((j) => j.candidate.linked);
+  // Merges are estimated apart; precision and recall are the links'.
+  const links = judged.filter((j) => j.candidate.linked && !j.candidate.mergedFrom);
   const tp = links.filter((j) => j.same).length;
   const fn = judged.filter((j) => !j.candidate.linked && j.same).length;
   const truePrecision = tp / links.length;
@@ -119,13 +120,15 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
     // The fit: one noisy answer per sampled decision.
     const fitSample = drawSample(pool, o.reviews, { margin: o.margin, seed });
     const weightOf = new Map(fitSample.design.map((d) => [d.stratum, d.sampled ? d.population / d.sampled : 0]));
-    const items = fitSample.items.map((c) => ({
-      margin: c.score - c.bar,
-      same: truth.get(keyOf(c))! !== rnd() < o.noise,
-      weight: weightOf.get(c.stratum)!,
-    }));
-    const { offset } = fitOffset(items);
-    const cv = crossValidate(items, 5, seed);
+    const items = fitSample.items
+      .filter((c) => c.stratum !== 'merge')
+      .map((c) => ({
+        margin: c.score - c.bar,
+        same: truth.get(keyOf(c))! !== rnd() < o.noise,
+        weight: weightOf.get(c.stratum)!,
+      }));
+    const cv = suggestOffset(items, seed);
+    const { offset } = cv;
     const threshold = Math.round((base + offset) * 1000) / 1000;
     const after = await conll(threshold);
     // The estimate: five noisy reviewers per decision, combined.

@@ -102,6 +102,9 @@ export function scoreCandidate(
   const sizeFactor = Math.min(MAX_SIZE_MULTIPLIER, 1 + o.sizePrior * Math.log(Math.max(1, e.mentionCount)));
   const articleFactor = sameArticle ? o.sameArticleFactor : 1;
   const score = Math.min(1, (base + overlapBonus) * sizeFactor * articleFactor);
+  // Both name someone or somewhere and none is shared: a link to weigh (the review queue asks about these apart).
+  const conflictingNames =
+    f.names.length > 0 && e.participants.size + e.places.size > 0 && sharedParticipants.length + sharedPlaces.length === 0;
   return {
     event: e,
     score,
@@ -115,6 +118,7 @@ export function scoreCandidate(
       opened: false,
       ...(sizeFactor !== 1 ? { sizeFactor } : {}),
       ...(sameArticle ? { sameArticleFactor: articleFactor } : {}),
+      ...(conflictingNames ? { conflictingNames: true } : {}),
     },
   };
 }

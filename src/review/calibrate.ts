@@ -15,7 +15,10 @@
  * the bar and nothing moves (on real news the chance can stay near 1/2 over every score:
  * lexically alike reports of different happenings, as in encyclopedia text).
  * Cross-validation (k folds) reports the F1 of the decisions on answers the fit did not
- * see, before and after, so that an operator sees what applying it would change.
+ * see, before and after, so that an operator sees what applying it would change; a move is
+ * suggested only when it does better there (suggestOffset), the usual check before
+ * adopting a fitted change. On the development sets' simulations the fit's worst moves
+ * (CoNLL regret of 11 to 14 points on wec-eng-val) did worse on held-out answers.
  */
 import { seededRandom } from '../seeded-random.js';
 
@@ -113,4 +116,29 @@ export function crossValidate(
     after += decisionF1(held, offset) / folds;
   }
   return { f1Before: before, f1After: after, folds };
+}
+
+/** The fit, and the move suggested: the fit's offset when held-out answers bear it out (cross-validated F1 rises), else none. */
+export interface OffsetSuggestion extends OffsetFit {
+  cvF1Before: number;
+  cvF1After: number;
+  /** Whether held-out answers bear the move out; `offset` is 0 when they do not. */
+  validated: boolean;
+  /** The fit's own offset, suggested or not. */
+  fitted: number;
+}
+
+export function suggestOffset(items: readonly FitItem[], seed: number, k = 5, maxShift = 0.15): OffsetSuggestion {
+  const fit = fitOffset(items, maxShift);
+  const cv = crossValidate(items, k, seed, maxShift);
+  const validated = fit.offset !== 0 && cv.f1After > cv.f1Before;
+  return {
+    ...fit,
+    offset: validated ? fit.offset : 0,
+    f1After: validated ? fit.f1After : fit.f1Before,
+    fitted: fit.offset,
+    cvF1Before: cv.f1Before,
+    cvF1After: cv.f1After,
+    validated,
+  };
 }

@@ -10,6 +10,8 @@
  * strata, so they are independent). For the variance only, a stratum's share is taken as
  * (x + 1) / (n + 2), so that a stratum where every answer agreed does not claim no
  * uncertainty at all. Intervals are normal (1.96 standard errors), kept within [0, 1].
+ * Consolidation's merges are another kind of decision: their precision is estimated from
+ * their own stratum and counts in neither of the links' figures.
  */
 import { STRATA, type Stratum, type StratumDesign } from './sampling.js';
 
@@ -27,7 +29,8 @@ export interface Estimate {
   answers: number;
 }
 
-const LINK_STRATA: ReadonlySet<Stratum> = new Set(['near-bar', 'confident', 'cross-story']);
+const LINK_STRATA: ReadonlySet<Stratum> = new Set(['near-bar', 'confident', 'cross-story', 'conflicting-names']);
+const MISS_STRATA: ReadonlySet<Stratum> = new Set(['near-miss', 'far-miss']);
 const Z = 1.96;
 
 function interval(value: number, variance: number, answers: number): Estimate {
@@ -52,7 +55,7 @@ function total(population: number, answers: readonly ReviewedItem[]): { total: n
 export function estimateQuality(
   design: readonly StratumDesign[],
   items: readonly ReviewedItem[],
-): { precision: Estimate; recall: Estimate } {
+): { precision: Estimate; recall: Estimate; merges: Estimate } {
   let tp = 0;
   let tpVar = 0;
   let fn = 0;
@@ -69,7 +72,7 @@ export function estimateQuality(
       links += d.population;
       tp += t.total;
       tpVar += t.variance;
-    } else {
+    } else if (MISS_STRATA.has(s)) {
       fn += t.total;
       fnVar += t.variance;
     }
@@ -81,6 +84,20 @@ export function estimateQuality(
     answered((s) => LINK_STRATA.has(s)),
   );
   const found = tp + fn;
-  const recall = interval(found ? tp / found : NaN, found ? (fn ** 2 * tpVar + tp ** 2 * fnVar) / found ** 4 : NaN, items.length);
-  return { precision, recall };
+  const recall = interval(
+    found ? tp / found : NaN,
+    found ? (fn ** 2 * tpVar + tp ** 2 * fnVar) / found ** 4 : NaN,
+    answered((s) => LINK_STRATA.has(s) || MISS_STRATA.has(s)),
+  );
+  const merged = design.find((x) => x.stratum === 'merge')?.population ?? 0;
+  const m = total(
+    merged,
+    items.filter((i) => i.stratum === 'merge'),
+  );
+  const merges = interval(
+    merged ? m.total / merged : NaN,
+    merged ? m.variance / merged ** 2 : NaN,
+    answered((s) => s === 'merge'),
+  );
+  return { precision, recall, merges };
 }

@@ -6,9 +6,10 @@
  */
 import { randomBytes } from 'node:crypto';
 import type { EventQueries, ReviewAnswer, ReviewItem, ReviewRound } from '../store/store.js';
+import { eventIdFor } from '../link/event-state.js';
 import { seededRandom } from '../seeded-random.js';
 import { krippendorffAlpha } from './agreement.js';
-import { crossValidate, fitOffset } from './calibrate.js';
+import { suggestOffset } from './calibrate.js';
 import { dawidSkene } from './dawid-skene.js';
 import { type Estimate, estimateQuality } from './estimate.js';
 import { type ReviewCandidate, STRATA, type Stratum, drawSample } from './sampling.js';
@@ -16,7 +17,12 @@ import { type ReviewCandidate, STRATA, type Stratum, drawSample } from './sampli
 /** Events read per page when listing the decisions of a window. */
 const PAGE = 200;
 
-/** Every decision the linker made about sentences of events active in the window: its links, and its misses with their nearest event. */
+/**
+ * Every decision the linker made about sentences of events active in the window: its links,
+ * its misses with their nearest event, and consolidation's merges into those events (each
+ * through the sentence that opened the absorbed event; its bar is its own score, since a
+ * merge is not a link decision and is kept out of the threshold's fit).
+ */
 export async function liveDecisions(
   store: EventQueries,
   window: { from?: string; to?: string; maxEvents: number },
@@ -25,7 +31,9 @@ export async function liveDecisions(
   for (let offset = 0; offset < window.maxEvents; offset += PAGE) {
     const page = await store.listEvents({ from: window.from, to: window.to, limit: Math.min(PAGE, window.maxEvents - offset), offset });
     for (const e of page.events) {
-      for (const m of (await store.getEvent(e.id))?.mentions ?? []) {
+      const detail = await store.getEvent(e.id);
+      const mentions = detail?.mentions ?? [];
+      for (const m of mentions) {
         const about = { articleId: m.articleId, sentenceIndex: m.sentenceIndex, outlet: m.outlet, published: m.published };
         if (!m.evidence.opened)
           out.push({
@@ -35,6 +43,7 @@ export async function liveDecisions(
             score: m.score,
             bar: m.evidence.bar ?? m.score,
             crossStory: m.evidence.crossStory === true,
+            ...(m.evidence.conflictingNames ? { conflictingNames: true } : {}),
           });
         else if (m.evidence.nearest)
           out.push({
@@ -45,6 +54,22 @@ export async function liveDecisions(
             bar: m.evidence.nearest.bar,
             crossStory: false,
           });
+      }
+      for (const merge of detail?.merges ?? []) {
+        const opener = mentions.find((m) => eventIdFor(m) === merge.from);
+        if (!opener) continue; // split off again since
+        out.push({
+          articleId: opener.articleId,
+          sentenceIndex: opener.sentenceIndex,
+          outlet: opener.outlet,
+          published: opener.published,
+          eventId: e.id,
+          linked: true,
+          score: merge.score,
+          bar: merge.score,
+          crossStory: false,
+          mergedFrom: merge.from,
+        });
       }
     }
     if (offset + PAGE >= page.total) break;
@@ -97,12 +122,14 @@ export interface RoundReport {
   reviewers: { reviewer: string; answers: number; unsure: number; errorRate: number | null; alphaWithout: number | null }[];
   /** Krippendorff's alpha (nominal, "unsure" left out): overall and per stratum. Null where undefined. */
   alpha: { overall: number | null; byStratum: Partial<Record<Stratum, number | null>> };
-  /** Precision and recall of the linker's decisions, from the combined answers. */
+  /** Precision and recall of the linker's links, and the precision of consolidation's merges, from the combined answers. */
   quality: { overall: Quality; byWeek: ({ week: string } & Quality)[]; byOutlet: ({ outlet: string } & Quality)[] };
-  /** The threshold move the answers suggest, and its held-out effect. */
+  /** The threshold move the answers suggest (0 unless held-out answers bear it out), the fit's own, and their held-out effect. */
   calibration: {
     offset: number;
+    fitted: number;
     placed: boolean;
+    validated: boolean;
     f1Before: number;
     f1After: number;
     cvF1Before: number;
@@ -114,6 +141,7 @@ export interface RoundReport {
 interface Quality {
   precision: Estimate;
   recall: Estimate;
+  merges: Estimate;
 }
 
 const VERDICT = { different: 0, same: 1 } as const;
@@ -183,11 +211,11 @@ export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]
   const weeks = [...new Set(round.items.map((i) => isoWeek(i.published)))].sort();
   const outlets = [...new Set(round.items.map((i) => i.outlet))].sort();
   const weightOf = new Map(round.design.map((d) => [d.stratum, d.sampled ? d.population / d.sampled : 0]));
+  // Merges are not link decisions: the threshold is fitted to links and misses only.
   const fitItems = round.items
-    .filter((i) => same.has(i.item))
+    .filter((i) => same.has(i.item) && i.stratum !== 'merge')
     .map((i) => ({ margin: i.score - i.bar, same: same.get(i.item)!, weight: weightOf.get(i.stratum)! }));
-  const fit = fitOffset(fitItems);
-  const cv = crossValidate(fitItems, 5, round.seed);
+  const fit = suggestOffset(fitItems, round.seed);
   const count = new Map<number, number>();
   for (const a of answers) count.set(a.item, (count.get(a.item) ?? 0) + 1);
   return {
@@ -223,11 +251,13 @@ export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]
     },
     calibration: {
       offset: fit.offset,
+      fitted: fit.fitted,
       placed: fit.placed,
+      validated: fit.validated,
       f1Before: fit.f1Before,
       f1After: fit.f1After,
-      cvF1Before: cv.f1Before,
-      cvF1After: cv.f1After,
+      cvF1Before: fit.cvF1Before,
+      cvF1After: fit.cvF1After,
       decided: fitItems.length,
     },
   };

@@ -5,11 +5,16 @@
  * sentence joined the event) or a miss it may have made (the sentence opened an event of
  * its own; its nearest known event was the other choice). Candidates fall into strata:
  *
- *   near-bar     a link whose score cleared its bar by less than `margin`;
- *   confident    a link that cleared it by more;
- *   cross-story  a link to an event of another story (rare, valuable, checked apart);
- *   near-miss    a miss whose nearest event fell short of the bar by less than `margin`;
- *   far-miss     a miss further below.
+ *   near-bar           a link whose score cleared its bar by less than `margin`;
+ *   confident          a link that cleared it by more;
+ *   cross-story        a link to an event of another story (rare, valuable, checked apart);
+ *   conflicting-names  a link where the sentence and the event each name people or places
+ *                      but share none (a wrong link's commonest look);
+ *   near-miss          a miss whose nearest event fell short of the bar by less than `margin`;
+ *   far-miss           a miss further below;
+ *   merge              consolidation's merge of one event into another, asked about
+ *                      through the sentence that opened the absorbed event (a large merge
+ *                      moves many links at once). Merges are estimated apart from links.
  *
  * The sample takes the same number from each stratum (what a stratum lacks goes to the
  * others in turn), so that the rare and the easy are both asked about, and records each
@@ -20,7 +25,7 @@
  */
 import { seededRandom } from '../seeded-random.js';
 
-export const STRATA = ['near-bar', 'confident', 'cross-story', 'near-miss', 'far-miss'] as const;
+export const STRATA = ['near-bar', 'confident', 'cross-story', 'near-miss', 'far-miss', 'conflicting-names', 'merge'] as const;
 export type Stratum = (typeof STRATA)[number];
 
 /** One decision to review: a sentence and the event it was (or was nearly) linked to. */
@@ -34,6 +39,10 @@ export interface ReviewCandidate {
   /** The score the link had (or would have had) to reach. */
   bar: number;
   crossStory: boolean;
+  /** A link whose sentence and event each name people or places, none in common. */
+  conflictingNames?: boolean;
+  /** For a merge: the event consolidation merged into `eventId` (the sentence opened it). */
+  mergedFrom?: string;
   /** For reports by week and outlet. */
   outlet: string;
   published: string;
@@ -54,8 +63,10 @@ export interface ReviewSample {
 
 /** Which stratum a candidate falls in. */
 export function stratumOf(c: ReviewCandidate, margin: number): Stratum {
+  if (c.mergedFrom) return 'merge';
   if (!c.linked) return c.bar - c.score < margin ? 'near-miss' : 'far-miss';
   if (c.crossStory) return 'cross-story';
+  if (c.conflictingNames) return 'conflicting-names';
   return c.score - c.bar < margin ? 'near-bar' : 'confident';
 }
 

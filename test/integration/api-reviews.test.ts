@@ -41,6 +41,8 @@ describe('review rounds through the API', () => {
         expect(it.caution).toMatch(/machine suggestions/);
         expect(it.sentence.text).toEqual(expect.any(String));
         expect(it.event.label).toEqual(expect.any(String));
+        if (it.stratum === 'merge') expect(it.mergedFrom).toMatch(/^ev_/);
+        else expect(it.mergedFrom).toBeNull();
         const verdict = reviewer === 'cai' && n % 5 === 0 ? 'unsure' : it.linked ? 'same' : 'different';
         const answered = await post(`/api/reviews/${round.id}/answers`, { item: it.item, reviewer, verdict });
         expect(answered.statusCode).toBe(200);
@@ -65,7 +67,11 @@ describe('review rounds through the API', () => {
     expect(report.quality.byWeek[0].week).toMatch(/^\d{4}-W\d\d$/);
     expect(report.quality.byOutlet.length).toBeGreaterThan(1);
     // Answers that agree with the linker everywhere leave the threshold where it is.
-    expect(report.calibration).toMatchObject({ decided: 40 });
+    // Merges are reviewed apart from links: their own estimate, and no part in the threshold's fit.
+    const merges = round.design.find((d: { stratum: string }) => d.stratum === 'merge').sampled;
+    expect(merges).toBeGreaterThan(0);
+    expect(report.quality.overall.merges).toMatchObject({ value: 1, answers: merges });
+    expect(report.calibration).toMatchObject({ decided: 40 - merges });
     expect(Math.abs(report.calibration.offset)).toBeLessThanOrEqual(0.15);
   });
 
@@ -80,10 +86,11 @@ describe('review rounds through the API', () => {
     try {
       const round = (await post('/api/reviews', { size: 30, reviewersPerItem: 1, seed: 11 })).json();
       const stored = (await rt.store.getReviewRound(round.id))!;
-      const link = stored.items.find((i) => i.linked)!;
+      const link = stored.items.find((i) => i.linked && !i.mergedFrom)!;
       const miss = stored.items.find((i) => !i.linked)!;
+      const merge = stored.items.find((i) => i.mergedFrom)!;
       for (const i of stored.items) {
-        const verdict = i === link ? 'different' : i === miss ? 'same' : i.linked ? 'same' : 'different';
+        const verdict = i === link || i === merge ? 'different' : i === miss ? 'same' : i.linked ? 'same' : 'different';
         await post(`/api/reviews/${round.id}/answers`, { item: i.item, reviewer: 'ana', verdict });
       }
       // Without a linker in this process, nothing is made.
@@ -91,8 +98,10 @@ describe('review rounds through the API', () => {
       const r = await corrected.inject({ method: 'POST', url: `/api/reviews/${round.id}/corrections`, payload: {} });
       expect(r.statusCode).toBe(200);
       const body = r.json();
-      expect(body.agreed).toBe(28);
-      expect(body.made.length + body.refused.length).toBe(2);
+      expect(body.agreed).toBe(27);
+      expect(body.made.length + body.refused.length).toBe(3);
+      // A merge found wrong is left to a person: which sentences came with the absorbed event is not kept.
+      expect(body.refused).toContainEqual({ item: merge.item, reason: expect.stringMatching(/split .* by hand/) });
       expect(body.made.map((m: { item: number }) => m.item)).toContain(link.item);
       expect(body.made.find((m: { item: number }) => m.item === link.item).kind).toBe('detach');
       const log = (await app.inject({ url: '/api/corrections?limit=5' })).json().corrections;

@@ -98,7 +98,7 @@ export const linkThresholdRoutes: RoutePlugin<{
     {
       schema: {
         summary: "Move the link threshold: by a review round's fit, or by hand",
-        description: `With \`round\`: the move the round's combined answers suggest (its report's calibration) is added to the adjustment in effect; refused with 409 when the answers do not place the threshold. With \`offset\`: the adjustment to the configured threshold, set by hand (at most ${MAX_THRESHOLD_OFFSET} either way). The move is a correction in the audit log, in effect from the next sentence linked; nothing linked before changes. Roll it back with POST /api/link-threshold/rollback or by undoing the correction.`,
+        description: `With \`round\`: the move the round's combined answers suggest (its report's calibration) is added to the adjustment in effect; refused with 409 when the answers do not place the threshold or answers the fit did not see do not bear the move out. With \`offset\`: the adjustment to the configured threshold, set by hand (at most ${MAX_THRESHOLD_OFFSET} either way). The move is a correction in the audit log, in effect from the next sentence linked; nothing linked before changes. Roll it back with POST /api/link-threshold/rollback or by undoing the correction.`,
         tags: TAGS,
         body: {
           type: 'object',
@@ -124,10 +124,12 @@ export const linkThresholdRoutes: RoutePlugin<{
       const round = await store.getReviewRound(b.round!);
       if (!round) throw new StrandError('STRAND_NOT_FOUND', `no review round ${b.round}`);
       const fit = roundReport(round, await store.reviewAnswers(round.id)).calibration;
-      if (!fit.placed || fit.offset === 0)
+      if (!fit.validated)
         throw new StrandError(
           'STRAND_CORRECTION_CONFLICT',
-          `the answers of ${round.id} do not place the threshold (${fit.decided} decided items): nothing to apply`,
+          fit.placed && fit.fitted !== 0
+            ? `the move fitted to ${round.id} (${fit.fitted.toFixed(3)}) does no better on answers the fit did not see: nothing to apply (set an offset by hand to move it anyway)`
+            : `the answers of ${round.id} do not place the threshold (${fit.decided} decided items): nothing to apply`,
         );
       const { offset } = await thresholdAdjustments(store, 0);
       await linker()(

@@ -45,7 +45,15 @@ const estimate = {
   properties: { value: nullableNum, low: nullableNum, high: nullableNum, answers: int },
   required: ['value', 'low', 'high', 'answers'],
 } as const;
-const quality = { type: 'object', properties: { precision: estimate, recall: estimate }, required: ['precision', 'recall'] } as const;
+const quality = {
+  type: 'object',
+  properties: {
+    precision: estimate,
+    recall: estimate,
+    merges: { ...estimate, description: "The share of consolidation's merges reviewers found right (null when the round holds none)." },
+  },
+  required: ['precision', 'recall', 'merges'],
+} as const;
 
 const summary = (r: ReviewRound | Omit<ReviewRound, 'items'>, items: number) => {
   const { id, created, by, margin, seed, reviewersPerItem, design } = r;
@@ -69,7 +77,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
       schema: {
         summary: "Draw a review round from the linker's decisions",
         description:
-          'The decisions about sentences of events active in the window (from, to; at most maxEvents events, most recent first): links, and misses with their nearest event. They fall into strata (near-bar, confident and cross-story links; near and far misses); each stratum gets the same share of `size` (what a small one lacks goes to the others), so that the answers estimate precision and recall without bias. Each item wants `reviewersPerItem` answers.',
+          'The decisions about sentences of events active in the window (from, to; at most maxEvents events, most recent first): links, and misses with their nearest event. Consolidation’s merges into those events count too, each asked about through the sentence that opened the absorbed event. They fall into strata (near-bar, confident, cross-story and conflicting-names links; near and far misses; merges); each stratum gets the same share of `size` (what a small one lacks goes to the others), so that the answers estimate precision and recall without bias. Each item wants `reviewersPerItem` answers.',
         tags: TAGS,
         body: {
           type: 'object',
@@ -147,6 +155,10 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
                 type: 'boolean',
                 description: 'true: the linker linked them; false: it did not (the event was the nearest it had).',
               },
+              mergedFrom: {
+                ...nullableStr,
+                description: "For a merge: the event the sentence opened, which consolidation merged into this one (score: the merge's).",
+              },
               score: num,
               bar: num,
               sentence: {
@@ -170,7 +182,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
               evidence: { anyOf: [evidenceSchema, { type: 'null' }] },
               caution: str,
             },
-            required: ['item', 'stratum', 'question', 'linked', 'score', 'bar', 'sentence', 'event', 'evidence', 'caution'],
+            required: ['item', 'stratum', 'question', 'linked', 'mergedFrom', 'score', 'bar', 'sentence', 'event', 'evidence', 'caution'],
           },
           204: { type: 'null', description: 'Nothing left for this reviewer.' },
           404: errorSchema,
@@ -195,6 +207,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
         stratum: item.stratum,
         question: 'Does this sentence report the same happening as this event?',
         linked: item.linked,
+        mergedFrom: item.mergedFrom ?? null,
         score: item.score,
         bar: item.bar,
         sentence: {
@@ -265,7 +278,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
         summary:
           "Make the corrections a round's answers call for: detach sentences reviewers found linked to the wrong event, move in those they found missing from theirs",
         description:
-          'For each item whose combined answer contradicts the linker (a link answered "different": the sentence is detached; a miss answered "same": the sentence moves into that event), one correction through the corrections log, noted with the round, undoable like any other. An item whose sentence or event has changed since is refused and listed, not forced.',
+          'For each item whose combined answer contradicts the linker (a link answered "different": the sentence is detached; a miss answered "same": the sentence moves into that event), one correction through the corrections log, noted with the round, undoable like any other. An item whose sentence or event has changed since is refused and listed, not forced; so is a merge answered "different", which a person splits on the event page.',
         tags: TAGS,
         params,
         response: {
@@ -301,6 +314,11 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
           agreed++;
           continue;
         }
+        if (item.mergedFrom) {
+          // Which sentences came with the absorbed event is not kept: a person divides it.
+          refused.push({ item: item.item, reason: `a merge found wrong: split ${item.eventId} by hand (the event page's Split)` });
+          continue;
+        }
         const mention = { articleId: item.articleId, sentenceIndex: item.sentenceIndex };
         // Where the sentence is now: a miss's sentence sits in the event it opened (maybe merged since).
         const links = (await store.getArticle(item.articleId))?.sentences.find((x) => x.index === item.sentenceIndex)?.links ?? [];
@@ -333,7 +351,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
         summary:
           "What a round's answers say: agreement, reviewers' error rates, precision and recall with 95 % intervals, the threshold they suggest",
         description:
-          "Agreement is Krippendorff's alpha (nominal; 'unsure' left out), overall, per stratum, and without each reviewer in turn (a reviewer whose absence raises it agrees least). Answers are combined with Dawid–Skene (each reviewer weighted by their estimated error rates). Precision and recall are over the linker's candidates, overall, by ISO week and by outlet of the sentence. The calibration is the move of the link threshold where a link becomes the more likely; it is applied with POST /api/link-threshold (round), not here.",
+          "Agreement is Krippendorff's alpha (nominal; 'unsure' left out), overall, per stratum, and without each reviewer in turn (a reviewer whose absence raises it agrees least). Answers are combined with Dawid–Skene (each reviewer weighted by their estimated error rates). Precision and recall are over the linker's candidates, overall, by ISO week and by outlet of the sentence. The calibration is the move of the link threshold where a link becomes the more likely, suggested only when answers the fit did not see bear it out (cross-validated F1 rises); it is applied with POST /api/link-threshold (round), not here.",
         tags: TAGS,
         params,
         response: {
@@ -364,14 +382,18 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
                   overall: quality,
                   byWeek: {
                     type: 'array',
-                    items: { type: 'object', properties: { week: str, ...quality.properties }, required: ['week', 'precision', 'recall'] },
+                    items: {
+                      type: 'object',
+                      properties: { week: str, ...quality.properties },
+                      required: ['week', 'precision', 'recall', 'merges'],
+                    },
                   },
                   byOutlet: {
                     type: 'array',
                     items: {
                       type: 'object',
                       properties: { outlet: str, ...quality.properties },
-                      required: ['outlet', 'precision', 'recall'],
+                      required: ['outlet', 'precision', 'recall', 'merges'],
                     },
                   },
                 },
@@ -380,15 +402,17 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
               calibration: {
                 type: 'object',
                 properties: {
-                  offset: num,
+                  offset: { ...num, description: 'The move suggested: the fitted one when held-out answers bear it out, else 0.' },
+                  fitted: { ...num, description: "The fit's own move (0 when the answers do not place the bar within reach)." },
                   placed: { type: 'boolean' },
+                  validated: { type: 'boolean', description: 'Whether cross-validated F1 rises with the fitted move.' },
                   f1Before: num,
                   f1After: num,
                   cvF1Before: num,
                   cvF1After: num,
                   decided: int,
                 },
-                required: ['offset', 'placed', 'f1Before', 'f1After', 'cvF1Before', 'cvF1After', 'decided'],
+                required: ['offset', 'fitted', 'placed', 'validated', 'f1Before', 'f1After', 'cvF1Before', 'cvF1After', 'decided'],
               },
               caution: str,
             },

@@ -100,7 +100,7 @@ export async function reviewDrawCommand(opts: ReviewDrawOptions): Promise<number
       now: new Date(),
     });
     await store.addReviewRound(round);
-    const design = round.design.map((d) => `  ${d.stratum.padEnd(12)} ${String(d.sampled).padStart(5)} of ${d.population}`).join('\n');
+    const design = round.design.map((d) => `  ${d.stratum.padEnd(18)} ${String(d.sampled).padStart(5)} of ${d.population}`).join('\n');
     process.stdout.write(
       `review round ${round.id}: ${round.items.length} item(s), ${round.reviewersPerItem} reviewer(s) each\n${design}\n`,
     );
@@ -128,13 +128,16 @@ export async function reviewReportCommand(id: string, opts: CommonOptions & { js
       `agreement (Krippendorff's alpha, nominal): ${r.alpha.overall === null ? '-' : r.alpha.overall.toFixed(3)}`,
       `precision ${est(r.quality.overall.precision)}`,
       `recall    ${est(r.quality.overall.recall)} (over the linker's candidates)`,
+      `merges    ${est(r.quality.overall.merges)} (consolidation's merges found right)`,
       ...r.reviewers.map(
         (x) =>
           `  ${x.reviewer.padEnd(20)} ${String(x.answers).padStart(5)} answers, ${x.unsure} unsure, error rate ${x.errorRate === null ? '-' : pct(x.errorRate)}, alpha without them ${x.alphaWithout === null ? '-' : x.alphaWithout.toFixed(3)}`,
       ),
-      r.calibration.placed
+      r.calibration.validated
         ? `threshold: the answers suggest moving it by ${r.calibration.offset >= 0 ? '+' : ''}${r.calibration.offset.toFixed(3)} (held-out F1 ${r.calibration.cvF1Before.toFixed(2)} -> ${r.calibration.cvF1After.toFixed(2)}); apply it from the page or POST /api/link-threshold`
-        : 'threshold: the answers do not place the bar within reach; leave it',
+        : r.calibration.placed && r.calibration.fitted !== 0
+          ? `threshold: the fit would move it by ${r.calibration.fitted.toFixed(3)} but does no better on held-out answers; leave it`
+          : 'threshold: the answers do not place the bar within reach; leave it',
     ];
     process.stdout.write(`${lines.join('\n')}\n`);
     return 0;

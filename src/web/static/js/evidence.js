@@ -12,6 +12,7 @@ export function evidenceText(ev) {
   const parts = [`similarity ${ev.similarity.toFixed(2)}`, `time gap ${ev.timeGapDays} d (×${ev.timeDecay.toFixed(2)})`];
   const shared = [...ev.sharedParticipants, ...ev.sharedPlaces];
   if (shared.length) parts.push(`shared names: ${shared.join(', ')} (+${ev.overlapBonus.toFixed(2)})`);
+  if (ev.conflictingNames) parts.push('names differ: each names people or places, none in common');
   if (ev.crossStory) parts.push('across stories');
   if (ev.bar !== undefined) parts.push(`needed ${ev.bar.toFixed(2)}`);
   if (ev.correctedBy) parts.push(`placed by an analyst (${ev.correctedBy})`);

@@ -35,7 +35,13 @@ async function renderItem(target, round, reviewer, onAnswered) {
       el(
         'p',
         { class: 'kind' },
-        `Item ${it.item + 1} · ${it.stratum.replace('-', ' ')} · ${it.linked ? 'the linker linked them' : 'the linker did not link them'}`,
+        `Item ${it.item + 1} · ${it.stratum.replaceAll('-', ' ')} · ${
+          it.mergedFrom
+            ? `consolidation merged the event this sentence opened into this one (score ${it.score.toFixed(2)})`
+            : it.linked
+              ? 'the linker linked them'
+              : 'the linker did not link them'
+        }`,
       ),
       el('h3', { id: 'review-question', tabindex: '-1' }, it.question),
       el('p', { class: 'meta' }, `The sentence, from ${it.sentence.outlet}, ${fmtTime(it.sentence.published)} (${it.sentence.title}):`),
@@ -80,6 +86,7 @@ async function renderReport(target, round) {
       'p',
       {},
       `Precision of the links made: ${estimateText(q.overall.precision)}. Recall of the links there were to make, among the linker's candidates: ${estimateText(q.overall.recall)}.`,
+      q.overall.merges.answers ? ` Consolidation's merges found right: ${estimateText(q.overall.merges)}.` : '',
     ),
     el(
       'table',
@@ -150,21 +157,22 @@ async function renderReport(target, round) {
     el(
       'p',
       {},
-      r.calibration.placed
-        ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}.`
-        : 'The answers do not place the bar within reach of where it is: leave the threshold as it is.',
+      !r.calibration.placed || r.calibration.fitted === 0
+        ? 'The answers do not place the bar within reach of where it is: leave the threshold as it is.'
+        : r.calibration.validated
+          ? `The answers put the bar ${r.calibration.offset >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.offset).toFixed(3)}. On answers the fit did not see, the decisions' F1 would go from ${num(r.calibration.cvF1Before)} to ${num(r.calibration.cvF1After)}.`
+          : `The answers would put the bar ${r.calibration.fitted >= 0 ? 'higher' : 'lower'} by ${Math.abs(r.calibration.fitted).toFixed(3)}, but on answers the fit did not see that does no better (F1 ${num(r.calibration.cvF1Before)} before, ${num(r.calibration.cvF1After)} after): leave the threshold as it is.`,
     ),
-    r.calibration.placed && r.calibration.offset !== 0 ? thresholdCaveat(r.calibration) : '',
+    r.calibration.validated ? thresholdCaveat(r.calibration) : '',
     el('div', { id: 'threshold-state' }),
   );
-  await renderThreshold(target.querySelector('#threshold-state'), round, r.calibration.placed && r.calibration.offset !== 0);
+  await renderThreshold(target.querySelector('#threshold-state'), round, r.calibration.validated);
 }
 
-/** Why a suggested move may not be worth applying: few answers, or no gain on answers the fit did not see. */
+/** Why a suggested move may still want weighing: it rests on few answers. */
 function thresholdCaveat(c) {
   const notes = [];
   if (c.decided < 100) notes.push(`it rests on ${plural(c.decided, 'decided item')} only (a few hundred make it firmer)`);
-  if (c.cvF1After <= c.cvF1Before) notes.push('on answers the fit did not see it does not do better than the threshold in effect');
   return notes.length ? el('p', { class: 'hint', id: 'threshold-caveat' }, `Weigh it before applying: ${notes.join('; ')}.`) : '';
 }
 
