@@ -434,7 +434,7 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         await expect.poll(() => page.locator('#review-item').textContent()).toMatch(/Nothing left for you/);
         await expect.poll(() => page.locator('#review-report').textContent()).toMatch(/8 of 8 items answered/);
         expect(await page.locator('#reviewers tbody tr').count()).toBe(1);
-        expect(await page.locator('.interval-chart').count()).toBe(3);
+        expect(await page.locator('.interval-chart').count()).toBe(4);
         await shootAndCheck(page, 'review-report');
         await page.click('#review-apply');
         await expect

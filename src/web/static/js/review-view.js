@@ -124,6 +124,7 @@ async function renderReport(target, round) {
     intervalChart({ rows: rows(q.byWeek, 'week', 'recall'), title: 'Recall of links by week', what: 'recall' }),
     el('h4', {}, 'By outlet'),
     intervalChart({ rows: rows(q.byOutlet, 'outlet', 'precision'), title: 'Precision of links by outlet', what: 'precision' }),
+    intervalChart({ rows: rows(q.byOutlet, 'outlet', 'recall'), title: 'Recall of links by outlet', what: 'recall' }),
     el('h4', {}, 'Corrections the answers call for'),
     el(
       'p',
