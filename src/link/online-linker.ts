@@ -11,6 +11,7 @@
  */
 import type { EmbeddedMention, Link, LinkEvidence } from '../records.js';
 import type { LinkTally } from '../store/store.js';
+import { ApartGroups } from './apart-groups.js';
 import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
@@ -317,6 +318,7 @@ export class OnlineLinker {
   planMerges(eventIds: Iterable<string>, mergeThreshold: number): MergePlan[] {
     const merges: MergePlan[] = [];
     const gone = new Set<string>();
+    const apart = new ApartGroups(this.apart);
     for (const id of eventIds) {
       const e = this.events.get(id);
       if (!e || gone.has(id)) continue;
@@ -324,7 +326,7 @@ export class OnlineLinker {
       const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
       if (e.dense) for (const x of this.centroids.nearest(Float32Array.from(e.dense), this.o.maxCandidates)) others.add(x);
       for (const other of others) {
-        if (other === id || gone.has(other) || this.apart.has(pairKey(id, other))) continue;
+        if (other === id || gone.has(other) || apart.keptApart(id, other)) continue;
         const f = this.events.get(other);
         if (!f) continue;
         const sim = centroidCosine(e, f);
@@ -334,6 +336,7 @@ export class OnlineLinker {
         const [into, from] = e.firstSeen <= f.firstSeen ? [e, f] : [f, e];
         merges.push({ into: into.id, from: from.id, score });
         gone.add(from.id);
+        apart.merged(from.id, into.id);
         if (from.id === id) break;
       }
     }

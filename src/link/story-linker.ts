@@ -15,6 +15,7 @@
  */
 import type { DenseVector, SparseVector, Vector } from '../records.js';
 import { dayNumber } from '../text/days.js';
+import { ApartGroups } from './apart-groups.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
 import { centroidCosine, nameKey, topTermFeatures } from './event-state.js';
@@ -164,6 +165,7 @@ export class StoryLinker {
   planMerges(ids: Iterable<string>): StoryMergePlan[] {
     const merges: StoryMergePlan[] = [];
     const gone = new Set<string>();
+    const apart = new ApartGroups(this.apart);
     for (const id of ids) {
       const s = this.stories.get(id);
       if (!s || gone.has(id)) continue;
@@ -171,7 +173,7 @@ export class StoryLinker {
       const others = new Set(this.index.lookup(keys, this.o.maxCandidates, 0));
       if (s.dense) for (const x of this.centroids.nearest(Float32Array.from(s.dense), this.o.maxCandidates)) others.add(x);
       for (const other of others) {
-        if (other === id || gone.has(other) || this.apart.has(pairKey(id, other))) continue;
+        if (other === id || gone.has(other) || apart.keptApart(id, other)) continue;
         const t = this.stories.get(other);
         if (!t) continue;
         const gap = Math.max(
@@ -184,6 +186,7 @@ export class StoryLinker {
         const [into, from] = s.firstSeen < t.firstSeen || (s.firstSeen === t.firstSeen && s.id < t.id) ? [s, t] : [t, s];
         merges.push({ into: into.id, from: from.id, score });
         gone.add(from.id);
+        apart.merged(from.id, into.id);
         if (from.id === id) break;
       }
     }
