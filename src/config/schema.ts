@@ -337,11 +337,12 @@ export const configSchema = z.strictObject({
       /** Relative boost of the score for shared rare participants and places, at most (0.1 = +10 %). Default 0.1. */
       overlapWeight: z.number().min(0).max(1).default(0.1),
       /**
-       * A further link for the same sentence needs at least threshold + this. Default 0: every
-       * event clearing the threshold (up to three) gets a link of its own, since sentences
-       * often report several events (docs/decisions/link-settings.md).
+       * A further link for the same sentence needs at least threshold + this (up to three
+       * links), since sentences often report several events. Default 0.03: a further event
+       * barely over the bar is more often a near-duplicate than a second happening
+       * (docs/decisions/linking-defaults.md).
        */
-      secondaryMargin: z.number().min(0).max(1).default(0),
+      secondaryMargin: z.number().min(0).max(1).default(0.03),
       /** Terms kept per event centroid. Default 300. */
       centroidTerms: z.number().int().min(16).default(300),
       /** Consolidation runs after every this many stored articles, over the events they touched; 0 turns it off. Default 25. */

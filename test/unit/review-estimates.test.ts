@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { crossValidate, decisionF1, fitOffset, type FitItem, suggestOffset } from '../../src/review/calibrate.js';
-import { estimateQuality } from '../../src/review/estimate.js';
+import { estimateQuality, shareInterval } from '../../src/review/estimate.js';
 import { allocate, drawSample, type ReviewCandidate, stratumOf } from '../../src/review/sampling.js';
 import { seededRandom } from '../../src/seeded-random.js';
 
@@ -117,6 +117,22 @@ describe('the review sample and its estimates', () => {
     expect(recallHits / runs).toBeGreaterThanOrEqual(0.9);
     // Merges are estimated apart, from their own stratum.
     expect(mergeHits / runs).toBeGreaterThanOrEqual(0.9);
+  });
+});
+
+describe('the interval of a share', () => {
+  it('is normal on the logit scale: inside (0, 1), leaning away from the nearer bound', () => {
+    // p = 0.9 with a standard error of 0.03 (0.9 of 100 answers): logit 2.197 ± 1.96 x 0.333,
+    // worked by hand from the logit interval's formula.
+    const e = shareInterval(0.9, 0.03 ** 2, 100);
+    expect(e.low).toBeCloseTo(0.824, 3);
+    expect(e.high).toBeCloseTo(0.9453, 3);
+    expect(0.9 - e.low).toBeGreaterThan(e.high - 0.9);
+    // Symmetric at one half.
+    const half = shareInterval(0.5, 0.1 ** 2, 25);
+    expect(half.low + half.high).toBeCloseTo(1, 12);
+    // At a bound the logit is undefined: the clipped normal interval stands.
+    expect(shareInterval(1, 0.01, 10)).toMatchObject({ low: 1 - 1.96 * 0.1, high: 1 });
   });
 });
 
