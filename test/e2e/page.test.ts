@@ -428,6 +428,9 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
         await shootAndCheck(page, 'review-item');
         for (let i = 0; i < 8; i++) {
           const before = await page.locator('#review-card .kind').textContent();
+          // A merge is shown with its merge score, not as a link's score against a bar.
+          const meta = await page.locator('#review-card p[data-role=score]').textContent();
+          expect(meta).toMatch(before!.includes('consolidation merged') ? /^merge score/ : /^score .* needed/);
           await page.click(i % 3 ? '#review-card button:has-text("Same event")' : '#review-card button:has-text("Different events")');
           if (i < 7) await expect.poll(() => page.locator('#review-card .kind').textContent()).not.toBe(before);
         }

@@ -55,9 +55,19 @@ async function renderItem(target, round, reviewer, onAnswered) {
             it.event.examples.map((x) => el('li', {}, `also: “${x}”`)),
           )
         : null,
-      // A link shows its score and evidence; a sentence left unlinked, why it opened an event of its own.
-      it.evidence ? (it.linked ? scoreLine(it.score, it.evidence) : el('div', { class: 'evidence' }, evidenceText(it.evidence))) : null,
-      el('p', { class: 'meta' }, `score ${it.score.toFixed(2)}, needed ${it.bar.toFixed(2)}`),
+      // A link shows its score and evidence; a sentence left unlinked (or the opener of a merged event), why it opened an event of its own.
+      it.evidence
+        ? it.linked && !it.mergedFrom
+          ? scoreLine(it.score, it.evidence)
+          : el('div', { class: 'evidence' }, evidenceText(it.evidence))
+        : null,
+      el(
+        'p',
+        { class: 'meta', 'data-role': 'score' },
+        it.mergedFrom
+          ? `merge score ${it.score.toFixed(2)} (the two events' centroids alike, times the time decay)`
+          : `score ${it.score.toFixed(2)}, needed ${it.bar.toFixed(2)}`,
+      ),
       el(
         'div',
         { class: 'verdicts', role: 'group', 'aria-labelledby': 'review-question' },
