@@ -60,8 +60,15 @@ async function startCluster(): Promise<LocalCluster> {
   }
   const created = cli('--cluster', 'create', ...ports.map((p) => `127.0.0.1:${p}`), '--cluster-replicas', '0', '--cluster-yes');
   if (created.status !== 0) throw new Error(`cluster create failed: ${created.stdout}${created.stderr}`);
-  for (let i = 0; i < 100 && !cli('-p', String(ports[0]), 'cluster', 'info').stdout.includes('cluster_state:ok'); i++)
-    await new Promise((r) => setTimeout(r, 100));
+  // Ready when every node says the cluster is ok and knows all three nodes with every slot
+  // served: node 0 alone can say ok before the others have the slot map, and a client that
+  // asks one of those then waits for good.
+  const ready = (port: number) => {
+    const info = cli('-p', String(port), 'cluster', 'info').stdout;
+    return info.includes('cluster_state:ok') && info.includes('cluster_known_nodes:3') && info.includes('cluster_slots_ok:16384');
+  };
+  for (let i = 0; i < 300 && !ports.every(ready); i++) await new Promise((r) => setTimeout(r, 100));
+  if (!ports.every(ready)) throw new Error(`the local cluster on ports ${ports.join(', ')} did not become ready in 30 s`);
   return {
     url: `redis://127.0.0.1:${ports[0]}`,
     async stop() {
@@ -88,6 +95,30 @@ describe.skipIf(!run)('the Redis store on a three-node Redis Cluster', () => {
   });
 
   describeStoreContract('Redis Cluster store', () => freshRedisStore(cluster.url, true));
+
+  it('gives up at start with a clear error when the cluster never serves its slots', async () => {
+    const port = await freePort();
+    const dir = mkdtempSync(join(tmpdir(), 'strandline-cluster-'));
+    const node = spawn(
+      'redis-server',
+      ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--cluster-enabled', 'yes', '--save', '', '--appendonly', 'no'],
+      { stdio: 'ignore' },
+    );
+    try {
+      for (let i = 0; i < 100 && !spawnSync('redis-cli', ['-p', String(port), 'ping'], { encoding: 'utf8' }).stdout.includes('PONG'); i++)
+        await new Promise((r) => setTimeout(r, 100));
+      // A node in cluster mode with no slots assigned: a cluster client would wait for good.
+      await expect(connectRedis({ url: `redis://127.0.0.1:${port}`, cluster: true, startTimeoutMs: 1000 })).rejects.toMatchObject({
+        code: 'STRAND_STORE_FAILED',
+        message: expect.stringMatching(/not ready within 1 s/),
+      });
+    } finally {
+      await new Promise((r) => {
+        node.once('exit', r);
+        node.kill('SIGTERM');
+      });
+    }
+  });
 
   it('keeps each partition in one hash slot, so partitions spread over the shards', async () => {
     const client = await connectRedis({ url: cluster.url, cluster: true });

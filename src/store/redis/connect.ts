@@ -52,11 +52,16 @@ export async function closeClient(client: RedisClient): Promise<void> {
   if ((client.status as string) !== 'end') client.disconnect();
 }
 
+/** How long a cluster may take at start to serve every slot. */
+const CLUSTER_START_MS = 30_000;
+
 /** Where Redis is. */
 export interface RedisTarget {
   url: string;
   /** The URL is a seed node of a Redis Cluster. */
   cluster?: boolean;
+  /** How long a cluster may take at start to serve every slot (default 30 s). */
+  startTimeoutMs?: number;
 }
 
 /**
@@ -70,7 +75,7 @@ export async function connectRedis(
   options: RedisOptions = {},
   onError: (err: Error) => void = () => undefined,
 ): Promise<RedisClient> {
-  const { url, cluster } = typeof target === 'string' ? { url: target, cluster: false } : target;
+  const { url, cluster, startTimeoutMs = CLUSTER_START_MS } = typeof target === 'string' ? { url: target, cluster: false } : target;
   let client: RedisClient;
   try {
     const base: RedisOptions = { lazyConnect: true, maxRetriesPerRequest: null, ...options };
@@ -98,12 +103,26 @@ export async function connectRedis(
   // Connection errors while reconnecting are reported here (ioredis keeps reconnecting);
   // commands wait for the connection rather than fail.
   client.on('error', onError);
+  // A cluster client keeps asking for the slot map until the cluster serves every slot, so
+  // a cluster that never gets there would hold the start for good: it gets a deadline.
+  let deadline: NodeJS.Timeout | undefined;
   try {
-    await client.connect();
-    await client.ping();
+    const connected = client.connect().then(() => client.ping());
+    // Past the deadline the client is disconnected: its own failure then has no one to tell.
+    connected.catch(() => undefined);
+    await (cluster
+      ? Promise.race([
+          connected,
+          new Promise((_, reject) => {
+            deadline = setTimeout(() => reject(new Error(`the cluster was not ready within ${startTimeoutMs / 1000} s`)), startTimeoutMs);
+          }),
+        ])
+      : connected);
   } catch (err) {
     client.disconnect();
     throw new StrandError('STRAND_STORE_FAILED', `cannot reach Redis at ${redactUrl(url)}: ${(err as Error).message}`, { cause: err });
+  } finally {
+    clearTimeout(deadline);
   }
   return client;
 }
