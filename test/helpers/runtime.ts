@@ -1,7 +1,8 @@
 /** Test helpers: a runtime on an in-memory (or given) SQLite store, and running articles through it. */
 import type { FastifyInstance } from 'fastify';
 import { from, lastValueFrom, toArray } from 'rxjs';
-import { buildApp } from '../../src/api/build-app.js';
+import { type ApiDeps, buildApp } from '../../src/api/build-app.js';
+import { applyCorrection } from '../../src/link/corrections.js';
 import { DEMO_FEEDS } from '../../src/cli/common.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
 import { parseConfig } from '../../src/config/load-config.js';
@@ -40,4 +41,17 @@ export async function demoApi(): Promise<{ rt: Runtime; app: FastifyInstance }> 
     ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
   });
   return { rt, app };
+}
+
+/** The API app over a runtime that makes corrections (threshold moves included) in its turn, as `serve` does; not listening. */
+export function linkingApp(rt: Runtime, extra: Partial<ApiDeps> = {}): Promise<FastifyInstance> {
+  return buildApp({
+    store: rt.store,
+    logger: createLogger('silent'),
+    version: 'test',
+    ingestStatus: () => ({ state: 'finished', processed: 0, total: 0, stored: 0, rejected: 0 }),
+    corrections: (req, author) => applyCorrection(rt, req, author),
+    linkSettings: { threshold: rt.config.link.threshold, calibration: rt.config.link.calibration.mode },
+    ...extra,
+  });
 }

@@ -3,10 +3,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/build-app.js';
 import { DEMO_FEEDS } from '../../src/cli/common.js';
 import { readReplayInput } from '../../src/ingest/replay-source.js';
-import { applyCorrection } from '../../src/link/corrections.js';
 import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
-import { runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
+import { linkingApp, runArticles, testConfig, testRuntime } from '../helpers/runtime.js';
 
 const OPERATOR = 'k7Qz2mVw9XcB4nRt8LpY3sHd6FgJ1aEu';
 
@@ -19,14 +18,7 @@ describe('corrections through the API', () => {
   beforeAll(async () => {
     rt = await testRuntime({ link: { consolidateEvery: 0 } });
     await runArticles(rt, (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles.slice(0, 30));
-    app = await buildApp({
-      store: rt.store,
-      logger: createLogger('silent'),
-      version: 'test',
-      ingestStatus: () => ({ state: 'idle', processed: 0, total: 0, stored: 0, rejected: 0 }),
-      corrections: (req, author) => applyCorrection(rt, req, author),
-      auth: { tokens: [OPERATOR], protect: 'changes' },
-    });
+    app = await linkingApp(rt, { auth: { tokens: [OPERATOR], protect: 'changes' } });
     const made = await app.inject({
       method: 'POST',
       url: '/api/keys',

@@ -1,10 +1,8 @@
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildApp } from '../../src/api/build-app.js';
-import { applyCorrection } from '../../src/link/corrections.js';
 import { createLogger } from '../../src/logger.js';
 import { type Runtime, createRuntime } from '../../src/runtime.js';
-import { demoApi, testConfig } from '../helpers/runtime.js';
+import { demoApi, linkingApp, testConfig } from '../helpers/runtime.js';
 
 // The demo exercises the mechanics; it says nothing about which threshold suits real news.
 describe('the link threshold through the API', () => {
@@ -13,14 +11,7 @@ describe('the link threshold through the API', () => {
   let app: FastifyInstance;
   beforeAll(async () => {
     ({ rt, app: demo } = await demoApi());
-    app = await buildApp({
-      store: rt.store,
-      logger: createLogger('silent'),
-      version: 'test',
-      ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
-      corrections: (req, author) => applyCorrection(rt, req, author),
-      linkSettings: { threshold: rt.config.link.threshold, calibration: rt.config.link.calibration.mode },
-    });
+    app = await linkingApp(rt);
   });
   afterAll(async () => {
     await app.close();
@@ -124,13 +115,7 @@ describe('the link threshold through the API', () => {
   });
 
   it('is not offered to move by a process that does not link', async () => {
-    const apiOnly = await buildApp({
-      store: rt.store,
-      logger: createLogger('silent'),
-      version: 'test',
-      ingestStatus: () => ({ state: 'finished', processed: 0, total: 0, stored: 0, rejected: 0 }),
-      linkSettings: { threshold: 0.2, calibration: 'stream' },
-    });
+    const apiOnly = await linkingApp(rt, { corrections: undefined });
     try {
       expect((await apiOnly.inject({ url: '/api/link-threshold' })).statusCode).toBe(200);
       const r = await apiOnly.inject({ method: 'POST', url: '/api/link-threshold', payload: { offset: 0.05 } });

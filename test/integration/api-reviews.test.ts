@@ -1,10 +1,7 @@
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildApp } from '../../src/api/build-app.js';
-import { applyCorrection } from '../../src/link/corrections.js';
-import { createLogger } from '../../src/logger.js';
 import type { Runtime } from '../../src/runtime.js';
-import { demoApi } from '../helpers/runtime.js';
+import { demoApi, linkingApp } from '../helpers/runtime.js';
 
 // The demo exercises the mechanics; it says nothing about how well the linker does on real news.
 describe('review rounds through the API', () => {
@@ -76,13 +73,7 @@ describe('review rounds through the API', () => {
   });
 
   it('makes the corrections the answers call for, each in the corrections log and undoable, and leaves agreed items alone', async () => {
-    const corrected = await buildApp({
-      store: rt.store,
-      logger: createLogger('silent'),
-      version: 'test',
-      ingestStatus: () => ({ state: 'finished', processed: 101, total: 101, stored: 101, rejected: 0 }),
-      corrections: (req, author) => applyCorrection(rt, req, author),
-    });
+    const corrected = await linkingApp(rt);
     try {
       const round = (await post('/api/reviews', { size: 30, reviewersPerItem: 1, seed: 11 })).json();
       const stored = (await rt.store.getReviewRound(round.id))!;
