@@ -49,7 +49,14 @@ export type CorrectionRequest =
   | { kind: 'detach'; from: string; mentions: SentenceKey[] }
   | { kind: 'merge-stories'; from: string; into: string }
   | { kind: 'split-story'; from: string; articles: string[] }
-  | { kind: 'threshold'; offset: number; round: string | null; heldOutF1: ThresholdMove['heldOutF1'] }
+  | {
+      kind: 'threshold';
+      /** The adjustment to set, or with `relative` the move to add to the one in effect (a round's fit is measured from it). */
+      offset: number;
+      relative?: boolean;
+      round: string | null;
+      heldOutF1: ThresholdMove['heldOutF1'];
+    }
   | { kind: 'undo'; correction: string };
 
 /** What the standing corrections bind the linker to: their pairs and sentences, and the threshold adjustment in effect. */
@@ -139,10 +146,12 @@ async function moveThreshold(
   const [low, high] = THRESHOLD_RANGE;
   if (!Number.isFinite(req.offset) || Math.abs(req.offset) > MAX_THRESHOLD_OFFSET)
     throw invalid(`a threshold adjustment moves the configured threshold by at most ${MAX_THRESHOLD_OFFSET} either way`);
-  const to = Math.round(req.offset * 1e4) / 1e4;
-  if (configured + to < low || configured + to > high)
-    throw invalid(`the configured threshold ${configured} moved by ${to} leaves ${low}..${high}`);
   const from = ctx.linker.thresholdAdjustment;
+  const to = Math.round((req.relative ? from + req.offset : req.offset) * 1e4) / 1e4;
+  if (Math.abs(to) > MAX_THRESHOLD_OFFSET || configured + to < low || configured + to > high)
+    throw invalid(
+      `the configured threshold ${configured} moved by ${to} leaves ${low}..${high} or moves more than ${MAX_THRESHOLD_OFFSET}`,
+    );
   if (to === from) throw conflict(`an adjustment of ${to} is in effect already`);
   const record = thresholdRecord(ctx, author, { from, to, round: req.round, heldOutF1: req.heldOutF1 });
   await ctx.store.commitCorrection({ record, sentences: [], links: [], events: [], removed: [], messages: [] });

@@ -131,11 +131,12 @@ export const linkThresholdRoutes: RoutePlugin<{
             ? `the move fitted to ${round.id} (${fit.fitted.toFixed(3)}) does no better on answers the fit did not see: nothing to apply (set an offset by hand to move it anyway)`
             : `the answers of ${round.id} do not place the threshold (${fit.decided} decided items): nothing to apply`,
         );
-      const { offset } = await thresholdAdjustments(store, 0);
+      // Added to the adjustment in effect in the linker's turn: the fit's margins were measured from it.
       await linker()(
         {
           kind: 'threshold',
-          offset: offset + fit.offset,
+          offset: fit.offset,
+          relative: true,
           round: round.id,
           heldOutF1: { before: fit.cvF1Before, after: fit.cvF1After },
         },
