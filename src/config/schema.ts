@@ -303,9 +303,9 @@ export const configSchema = z.strictObject({
        * Score at or above which a mention joins an event; below, it opens one. With
        * calibration on (the default) this is the threshold for a stream where half the best
        * candidates score high, moved up or down as the stream shows itself (link/calibration.ts).
-       * Default 0.2 (decided on meantime-en and wec-eng-val, docs/decisions/linking-defaults.md).
+       * Default 0.17 (decided on meantime-en and wec-eng-val, docs/decisions/linking-defaults.md).
        */
-      threshold: z.number().min(0).max(1).default(0.2),
+      threshold: z.number().min(0).max(1).default(0.17),
       /**
        * The threshold calibrated on the stream: threshold + slope x ln((1 - r) / r), r the share
        * of mentions whose best candidate scores at least anchor (with priorMentions
@@ -316,7 +316,7 @@ export const configSchema = z.strictObject({
         .strictObject({
           mode: z.enum(['stream', 'fixed']).default('stream'),
           anchor: z.number().min(0).max(1).default(0.3),
-          slope: z.number().min(0).max(1).default(0.09),
+          slope: z.number().min(0).max(1).default(0.11),
           priorMentions: z.number().min(1).max(1_000_000).default(20),
           priorShare: z.number().gt(0).lt(1).default(0.35),
         })
@@ -349,7 +349,7 @@ export const configSchema = z.strictObject({
       consolidateEvery: z.number().int().min(0).default(25),
       /**
        * Two events merge when their centroids' cosine times the time decay between them
-       * reaches this. Default 0.4, twice the link threshold: centroids of one event agree more
+       * reaches this. Default 0.4, about twice the link threshold: centroids of one event agree more
        * than a sentence agrees with a centroid (docs/decisions/link-settings.md).
        */
       mergeThreshold: z.number().min(0).max(1).default(0.4),
@@ -357,7 +357,7 @@ export const configSchema = z.strictObject({
       annAbove: z.number().int().min(0).default(20_000),
       /**
        * Consolidation splits an event whose mentions fall into two parts less alike than this
-       * (the parts' centroid cosine x time decay). Default 0.1, half the link threshold: the
+       * (the parts' centroid cosine x time decay). Default 0.1, about half the link threshold: the
        * parts must look less alike than a sentence has to look like an event to join it. At
        * most mergeThreshold, or a split event would merge back at the next pass.
        */
@@ -376,9 +376,9 @@ export const configSchema = z.strictObject({
       /**
        * An event's score is multiplied by 1 + sizePrior x ln(its mentions), at most x3: an event
        * many sentences already report is the likelier home for one more (the prior of a Chinese
-       * restaurant process). Default 0.3 (docs/decisions/linking-defaults.md); 0 turns it off.
+       * restaurant process). Default 0.22 (docs/decisions/linking-defaults.md); 0 turns it off.
        */
-      sizePrior: z.number().min(0).max(2).default(0.3),
+      sizePrior: z.number().min(0).max(2).default(0.22),
       /**
        * Events the sentence's own article opened score this much of their similarity: an
        * article's sentences share its words whatever they report, and mostly report different

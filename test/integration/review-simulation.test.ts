@@ -48,7 +48,7 @@ describe('simulated reviews on an annotated corpus', () => {
     expect(row.runs).toHaveLength(3);
     for (const r of row.runs) {
       expect(Math.abs(r.offset)).toBeLessThanOrEqual(0.15);
-      expect(r.threshold).toBeCloseTo(0.2 + r.offset, 3);
+      expect(r.threshold).toBeCloseTo(config.link.threshold + r.offset, 3);
       expect(r.regretAfter).toBeCloseTo(row.best.conll - r.conllAfter, 12);
       expect(r.precision.low).toBeLessThanOrEqual(r.precision.value);
       expect(r.precision.value).toBeLessThanOrEqual(r.precision.high);
