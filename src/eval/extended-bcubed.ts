@@ -58,10 +58,29 @@ function side(by: Memberships, other: Memberships): number {
       else members.set(g, [i]);
     }
   });
+  // An item in one group with at most one group on the other side (most items) pairs with
+  // each member of its group for 1 if the member has its other group too, else 0: these
+  // sums are counts per group, and need no visit of the group's members.
+  const groupCount = new Map<string, number>();
+  const withOther = new Map<string, Map<string, number>>();
+  for (const sig of list)
+    for (const g of sig.by) {
+      groupCount.set(g, (groupCount.get(g) ?? 0) + sig.count);
+      const row = withOther.get(g) ?? new Map<string, number>();
+      for (const o of sig.other) row.set(o, (row.get(o) ?? 0) + sig.count);
+      withOther.set(g, row);
+    }
   const stamp = new Int32Array(list.length).fill(-1);
   let total = 0;
   let items = 0;
   list.forEach((e, i) => {
+    if (e.by.size === 1 && e.other.size <= 1) {
+      const [g] = e.by;
+      const [o] = e.other;
+      total += (e.count * (o === undefined ? 0 : withOther.get(g!)!.get(o)!)) / groupCount.get(g!)!;
+      items += e.count;
+      return;
+    }
     let sum = 0;
     let partners = 0;
     for (const g of e.by) {

@@ -121,8 +121,9 @@ export function b3Score(key: Partition, response: Partition): Score {
 
 /**
  * CEAF: the alignment of key and response clusters (each used once) that maximises total
- * similarity, found exactly with Kuhn-Munkres on each connected group of overlapping
- * clusters (clusters that share no mention have similarity 0 and do not need aligning).
+ * similarity, found exactly. Clusters that share no mention have similarity 0 and need no
+ * aligning; a cluster overlapping a single other one is settled first where that is safe
+ * (`settleLeaves`); Kuhn-Munkres aligns what is left, one connected group at a time.
  */
 export function ceafScore(key: Partition, response: Partition, kind: 'mention' | 'entity'): Score {
   const phi = (k: readonly string[], overlap: number, r: readonly string[]): number =>
@@ -139,13 +140,73 @@ export function ceafScore(key: Partition, response: Partition, kind: 'mention' |
       overlap.set(i, row);
     }
   });
-  let best = 0;
-  for (const [keys, resps] of components(overlap)) {
-    const matrix = keys.map((i) => resps.map((j) => -phi(key[i]!, overlap.get(i)?.get(j) ?? 0, response[j]!)));
+  const weight = new Map<number, Map<number, number>>();
+  for (const [i, row] of overlap) weight.set(i, new Map([...row].map(([j, n]) => [j, phi(key[i]!, n, response[j]!)])));
+  let best = settleLeaves(weight);
+  for (const [keys, resps] of components(weight)) {
+    const matrix = keys.map((i) => resps.map((j) => -(weight.get(i)?.get(j) ?? 0)));
     for (const [r, c] of munkres(matrix)) best -= matrix[r]![c]!;
   }
   const self = (p: Partition) => p.reduce((s, c) => s + phi(c, c.length, c), 0);
   return score(ratio(best, self(key)), ratio(best, self(response)));
+}
+
+/**
+ * Aligns the clusters that overlap a single cluster of the other side (leaves), where that
+ * is safe, and takes them and their partners out of `weight` (key -> response -> weight);
+ * returns the weight aligned. A leaf whose edge is the heaviest of its partner's belongs to
+ * some best alignment: in any best one, giving the partner to the leaf instead frees only a
+ * cluster that gains at least as much as it loses (the leaf had no other partner). Taking a
+ * pair out leaves new leaves, so this runs until none is safe. Chaining clusterings (a
+ * threshold sweep's low end) make connected groups of thousands of clusters that are
+ * mostly such chains; this leaves Kuhn-Munkres the few cycles.
+ */
+export function settleLeaves(weight: Map<number, Map<number, number>>): number {
+  // Both sides as one graph: key i is node `k${i}`, response j is `r${j}`.
+  const adj = new Map<string, Map<string, number>>();
+  const link = (a: string, b: string, w: number) => {
+    const row = adj.get(a) ?? new Map<string, number>();
+    row.set(b, w);
+    adj.set(a, row);
+  };
+  for (const [i, row] of weight)
+    for (const [j, w] of row) {
+      link(`k${i}`, `r${j}`, w);
+      link(`r${j}`, `k${i}`, w);
+    }
+  let aligned = 0;
+  const remove = (x: string): string[] => {
+    const around = [...(adj.get(x)?.keys() ?? [])];
+    for (const y of around) adj.get(y)?.delete(x);
+    adj.delete(x);
+    return around;
+  };
+  const queue = [...adj.keys()].filter((x) => adj.get(x)!.size === 1);
+  while (queue.length > 0) {
+    const leaf = queue.pop()!;
+    const edges = adj.get(leaf);
+    if (!edges || edges.size !== 1) continue;
+    const [partner, w] = [...edges][0]!;
+    let heaviest = 0;
+    for (const v of adj.get(partner)!.values()) heaviest = Math.max(heaviest, v);
+    if (w < heaviest) continue; // it may become safe once the partner's heavier edges go: re-queued then
+    aligned += w;
+    adj.delete(leaf);
+    for (const y of remove(partner)) {
+      if (y === leaf) continue;
+      const left = adj.get(y)!.size;
+      if (left === 0) adj.delete(y);
+      // A new leaf, or a leaf whose partner just lost an edge that may have been heavier.
+      else queue.push(y, ...(left === 1 ? [] : [...adj.get(y)!.keys()].filter((z) => adj.get(z)?.size === 1)));
+    }
+  }
+  // Write back what is left.
+  for (const [i, row] of weight) {
+    const edges = adj.get(`k${i}`);
+    if (!edges) weight.delete(i);
+    else for (const j of row.keys()) if (!edges.has(`r${j}`)) row.delete(j);
+  }
+  return aligned;
 }
 
 /** Connected groups of key and response clusters linked by shared mentions. */

@@ -146,6 +146,36 @@ describe('optimal assignment (Kuhn-Munkres) against brute force', () => {
     }
   });
 
+  it('gives CEAF the same best alignment as Kuhn-Munkres on the whole matrix, on 300 random partitions of up to 60 mentions (chains settled first)', () => {
+    const rand = rng(20261204);
+    for (let t = 0; t < 300; t++) {
+      const n = 5 + Math.floor(rand() * 56);
+      const mentions = Array.from({ length: n }, (_, i) => `m${i}`);
+      // Contiguous runs, as a threshold sweep's clusterings chain neighbours; some mentions on one side only.
+      const runs = (cut: number): string[][] => {
+        const out: string[][] = [[]];
+        for (const m of mentions) {
+          if (rand() < 0.1) continue;
+          if (rand() < cut) out.push([]);
+          out[out.length - 1]!.push(m);
+        }
+        return out.filter((c) => c.length > 0);
+      };
+      const key = runs(0.3);
+      const response = rand() < 0.5 ? runs(0.2) : runs(0.5);
+      for (const kind of ['mention', 'entity'] as const) {
+        const phi = (k: string[], r: string[]) => {
+          const o = k.filter((x) => r.includes(x)).length;
+          return kind === 'mention' ? o : (2 * o) / (k.length + r.length);
+        };
+        const matrix = key.map((k) => response.map((r) => -phi(k, r)));
+        const best = munkres(matrix).reduce((s, [r, c]) => s - matrix[r]![c]!, 0);
+        const self = key.reduce((s, c) => s + phi(c, c), 0);
+        expect(ceafScore(key, response, kind).recall).toBeCloseTo(best / self, 10);
+      }
+    }
+  });
+
   it('gives CEAF the same best alignment as trying every alignment, on random partitions', () => {
     const rand = rng(7);
     const randomPartition = (mentions: string[]): string[][] => {
