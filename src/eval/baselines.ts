@@ -196,6 +196,14 @@ export interface Dendrogram {
  * product would, so the matrix holds the same numbers.
  */
 export function averageLinkDendrogram(mentions: readonly EmbeddedMention[], halfLifeDays: number): Dendrogram {
+  return dendrogramOf(mentions, averageLinkMerges(mentions, halfLifeDays));
+}
+
+/** One merge of average-link clustering: the two mentions' indices standing for their clusters, and the linkage. */
+export type Merge = [number, number, number];
+
+/** The merges of average-link clustering (the costly part, run apart from the cuts on a sweep thread). */
+export function averageLinkMerges(mentions: readonly EmbeddedMention[], halfLifeDays: number): Merge[] {
   const n = mentions.length;
   const sim = new Float32Array(n * n);
   const spans = mentions.map(mentionSpan);
@@ -253,7 +261,12 @@ export function averageLinkDendrogram(mentions: readonly EmbeddedMention[], half
       }
     }
   }
-  const merges = n > 1 ? nnChain(sim, n) : [];
+  return n > 1 ? nnChain(sim, n) : [];
+}
+
+/** The dendrogram the merges make, to cut at any threshold. */
+export function dendrogramOf(mentions: readonly EmbeddedMention[], merges: readonly Merge[]): Dendrogram {
+  const n = mentions.length;
   return {
     cut(threshold) {
       const parent = Array.from({ length: n }, (_, i) => i);

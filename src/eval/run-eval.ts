@@ -13,7 +13,15 @@ import type { Embedder } from '../embed/embedder.js';
 import { StrandError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { createNlp } from '../text/nlp.js';
-import { type Clustering, allSingletons, averageLinkDendrogram, lexicalOverlap, onePerSubtopic, onlineCentroid } from './baselines.js';
+import {
+  type Clustering,
+  allSingletons,
+  averageLinkDendrogram,
+  dendrogramOf,
+  lexicalOverlap,
+  onePerSubtopic,
+  onlineCentroid,
+} from './baselines.js';
 import type { EvalCorpus } from './corpus.js';
 import { extendedBcubed } from './extended-bcubed.js';
 import { linkDetected } from './link-detected.js';
@@ -169,6 +177,13 @@ async function evaluateCorpus(
       ...(shared.model ? { embedder: shared.model } : {}),
     };
     const withThreshold = (t: number): Readonly<Config> => ({ ...o.config, link: { ...o.config.link, threshold: t } });
+    // The baselines, on plain TF-IDF vectors of the same mentions.
+    const plain = baselineMentions(detected, o.config.embed.hashBits);
+    const flat = plain.flat();
+    const { halfLifeDays, threshold } = o.config.link;
+    // The batch baseline's merges (all pairs) go to a sweep thread first, being the longest task.
+    const mergesAway = shared.pool?.merges(flat, halfLifeDays);
+    mergesAway?.catch(() => undefined); // its failure is thrown where it is awaited, below
 
     // The sweep's points run on the sweep threads while this thread runs the linker at the
     // configured threshold and the baselines; without sweep threads, one after another here.
@@ -201,29 +216,48 @@ async function evaluateCorpus(
     const linked = clusteringOf(configured.outcomes);
     runs.set(o.config.link.threshold, linked);
     linkerSweep.set(o.config.link.threshold, quick(linked, true));
-    // The baselines, on plain TF-IDF vectors of the same mentions.
-    const plain = baselineMentions(detected, o.config.embed.hashBits);
-    const flat = plain.flat();
-    const { halfLifeDays, threshold } = o.config.link;
-    const sweepOf = (run: (t: number) => Clustering) => new Map([threshold, ...o.thresholds].map((t) => [t, quick(run(t), false)]));
-    let at = performance.now();
-    const online = sweepOf((t) => onlineCentroid(plain, t, halfLifeDays));
-    const onlineSeconds = (performance.now() - at) / 1000 / online.size;
-    at = performance.now();
-    const dendrogram = averageLinkDendrogram(flat, halfLifeDays);
-    const batch = sweepOf((t) => dendrogram.cut(t));
-    const batchSeconds = (performance.now() - at) / 1000;
-
-    await firstPass;
-    await stopIfAsked(o.signal);
-    if (refine) {
+    // The refining rounds go on the sweep threads as soon as the first pass is in, while
+    // this thread runs the baselines.
+    const refined = (async () => {
+      await firstPass;
+      if (!refine) return;
       for (;;) {
         const next = pointsToRefine(o.thresholds, new Map([...linkerSweep].map(([t, q]) => [t, [q.conll, q.ext.f1]])));
         if (next.length === 0) break;
         await stopIfAsked(o.signal);
         await runAt(next);
       }
-    }
+    })();
+    if (shared.pool)
+      refined.catch(() => undefined); // its failure is thrown where it is awaited, below
+    else await refined;
+    // Each point yields first, so the refining rounds' answers are taken in and the next
+    // round sent to the sweep threads without waiting for the whole baseline sweep.
+    // Times its own work only (clustering and scoring), not the refining rounds it lets in.
+    const sweepOf = async (run: (t: number) => Clustering) => {
+      const points = new Map<number, Quick>();
+      let seconds = 0;
+      for (const t of [threshold, ...o.thresholds]) {
+        await new Promise((r) => setImmediate(r));
+        const at = performance.now();
+        if (!points.has(t)) points.set(t, quick(run(t), false));
+        seconds += (performance.now() - at) / 1000;
+      }
+      return { points, seconds };
+    };
+    const onlineSweep = await sweepOf((t) => onlineCentroid(plain, t, halfLifeDays));
+    const online = onlineSweep.points;
+    const onlineSeconds = onlineSweep.seconds / online.size;
+    const at = performance.now();
+    const away = await mergesAway;
+    const dendrogram = away ? dendrogramOf(flat, away.merges) : averageLinkDendrogram(flat, halfLifeDays);
+    const built = away ? away.seconds : (performance.now() - at) / 1000;
+    const batchSweep = await sweepOf((t) => dendrogram.cut(t));
+    const batch = batchSweep.points;
+    const batchSeconds = built + batchSweep.seconds;
+
+    await refined;
+    await stopIfAsked(o.signal);
     // The points the linker ran at. The baselines are cheap and run at every point, so
     // their best is never understated by the linker's shorter sweep.
     const points = o.thresholds.filter((t) => runs.has(t));

@@ -1,22 +1,38 @@
 /**
  * The evaluation's threshold sweep on worker threads: each point is a whole link run on a
  * fresh in-memory store, independent of the others, so the points run side by side while
- * the main thread runs the configured point and the baselines. Each thread runs the same
- * code on a copy of the same input, so the answers do not depend on the thread count.
+ * the main thread runs the configured point and the baselines. The batch baseline's merges
+ * (all pairs, the costliest baseline) run there too. Each thread runs the same code on a
+ * copy of the same input, so the answers do not depend on the thread count.
  */
 import { availableParallelism } from 'node:os';
 import type { Config } from '../config/schema.js';
 import { StrandError } from '../errors.js';
 import type { DetectedWork } from '../pipeline/index.js';
+import type { EmbeddedMention } from '../records.js';
 import { startThreadPool } from '../thread-pool.js';
-import type { Clustering } from './baselines.js';
+import type { Clustering, Merge } from './baselines.js';
 
 /** One link run: the configuration (with the point's threshold), the analysed input, the clock. */
 export interface SweepTask {
+  kind?: 'link';
   config: Readonly<Config>;
   detected: readonly DetectedWork[];
   /** The time undated articles are given, as in the main thread's runs. */
   created: string;
+}
+
+/** The batch baseline's merges over these mentions. */
+export interface MergesTask {
+  kind: 'merges';
+  mentions: readonly EmbeddedMention[];
+  halfLifeDays: number;
+}
+
+/** The merges, and the seconds they took on the thread. */
+export interface MergesAnswer {
+  merges: Merge[];
+  seconds: number;
 }
 
 /** What a link run gave: its clustering and the wall time of its link stage, seconds. */
@@ -29,6 +45,8 @@ export interface SweepAnswer {
 export interface SweepPool {
   readonly threads: number;
   run(task: SweepTask): Promise<SweepAnswer>;
+  /** The batch baseline's merges, with the seconds they took. */
+  merges(mentions: readonly EmbeddedMention[], halfLifeDays: number): Promise<MergesAnswer>;
   close(): Promise<void>;
 }
 
@@ -39,7 +57,7 @@ export function sweepThreads(setting: 'auto' | number, cores = availableParallel
 
 /** Starts `threads` sweep threads and resolves once every one has answered. */
 export async function startSweepPool(threads: number): Promise<SweepPool> {
-  const pool = await startThreadPool<SweepTask, SweepAnswer>('sweep-thread', import.meta.url, threads, {
+  const pool = await startThreadPool<SweepTask | MergesTask, SweepAnswer | MergesAnswer>('sweep-thread', import.meta.url, threads, {
     what: 'sweep',
     failCode: 'STRAND_EVAL_FAILED',
   });
@@ -47,7 +65,7 @@ export async function startSweepPool(threads: number): Promise<SweepPool> {
     threads,
     async run(task) {
       try {
-        return (await pool.run(task)) as SweepAnswer;
+        return (await pool.run({ ...task, kind: 'link' })) as SweepAnswer;
       } catch (err) {
         throw new StrandError(
           'STRAND_EVAL_FAILED',
@@ -56,6 +74,15 @@ export async function startSweepPool(threads: number): Promise<SweepPool> {
             cause: err,
           },
         );
+      }
+    },
+    async merges(mentions, halfLifeDays) {
+      try {
+        return (await pool.run({ kind: 'merges', mentions, halfLifeDays })) as MergesAnswer;
+      } catch (err) {
+        throw new StrandError('STRAND_EVAL_FAILED', `a sweep thread failed on the batch baseline: ${(err as Error).message}`, {
+          cause: err,
+        });
       }
     },
     close: () => pool.close({ force: true }),

@@ -377,11 +377,30 @@ function bump(map: Map<string, readonly [string, number]>, key: string, surface:
   map.set(key, cur ? [cur[0], cur[1] + 1] : [surface, 1]);
 }
 
-function topNames(map: ReadonlyMap<string, readonly [string, number]>, n: number): string[] {
-  return [...map.values()]
-    .sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0]))
-    .slice(0, n)
-    .map((x) => x[0]);
+/** Orders as String.prototype.localeCompare does, without its per-call set-up. */
+const collator = new Intl.Collator();
+
+/**
+ * The `n` most mentioned names (count descending, then in locale order), chosen by insertion
+ * into a short list: an event record is built at every change, and a large event holds
+ * thousands of names, most of them below the list's last count.
+ */
+export function topNames(map: ReadonlyMap<string, readonly [string, number]>, n: number): string[] {
+  if (n <= 0) return [];
+  const top: (readonly [string, number])[] = [];
+  const before = (a: readonly [string, number], b: readonly [string, number]): boolean =>
+    a[1] > b[1] || (a[1] === b[1] && collator.compare(a[0], b[0]) < 0);
+  for (const x of map.values()) {
+    if (top.length === n && !before(x, top[n - 1]!)) continue;
+    let i = top.length === n ? n - 1 : top.length;
+    if (top.length < n) top.push(x);
+    while (i > 0 && before(x, top[i - 1]!)) {
+      top[i] = top[i - 1]!;
+      i--;
+    }
+    top[i] = x;
+  }
+  return top.map((x) => x[0]);
 }
 
 function dayString(n: number): string {

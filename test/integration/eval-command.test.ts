@@ -281,7 +281,7 @@ describe('the eval command', () => {
     expect(parseThresholds('0.1:0.3:0.1')).toEqual([0.1, 0.2, 0.3]);
   });
 
-  it('gives the same report with the sweep on worker threads as on the main thread', async () => {
+  it("gives the same report with the sweep and the batch baseline's merges on worker threads as on the main thread", async () => {
     const config = testConfig();
     const demo: EvalCorpus = { name: 'demo', source: 'demo', input: await demoEvalInput(createNlp(), DEMO_DIR, config) };
     const options = { config, settings: ['gold'] as const, thresholds: [0.1, 0.15, 0.2, 0.25, 0.3], sweep: 'refine' as const, logger };

@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import {
@@ -10,6 +11,7 @@ import {
   removeMention,
   serialiseEvent,
   toRecord,
+  topNames,
 } from '../../src/link/event-state.js';
 import type { EmbeddedMention } from '../../src/records.js';
 
@@ -111,5 +113,25 @@ describe('event state', () => {
 
   it('matches names without articles or possessives', () => {
     expect(nameKey("The Vellmouth Port Authority's")).toBe('vellmouth port authority');
+  });
+
+  it('lists the most mentioned names as sorting every name would: count descending, then locale order, first seen on a full tie', () => {
+    const names = fc.array(
+      fc.tuple(fc.constantFrom('Ana', 'ana', 'Bo', 'Émile', 'Emile', 'Zed', 'Ödön', 'Obi', 'Lu'), fc.integer({ min: 1, max: 4 })),
+      {
+        maxLength: 40,
+      },
+    );
+    fc.assert(
+      fc.property(names, fc.integer({ min: 0, max: 12 }), (pairs, n) => {
+        const map = new Map(pairs.map(([name, count], i) => [`${name}${i % 3}`, [name, count] as const]));
+        const sorted = [...map.values()]
+          .sort((a, b) => b[1] - a[1] || a[0].localeCompare(b[0]))
+          .slice(0, n)
+          .map((x) => x[0]);
+        expect(topNames(map, n)).toEqual(sorted);
+      }),
+      { numRuns: 300 },
+    );
   });
 });
