@@ -23,6 +23,8 @@
  * diffs on every registration cost a fifth of the link step at a million mentions.
  */
 
+import { topN } from '../top-n.js';
+
 /** A key with the weight its vote carries. */
 export interface WeightedKey {
   key: number;
@@ -117,20 +119,11 @@ export class CandidateIndex {
       for (let i = 0; i < posting.length; i++) vote(posting[i]!, weight);
       visited += posting.length;
     }
-    // Keep the best `limit` by insertion into a short sorted list.
-    const best: number[] = [];
-    const better = (a: number, b: number): boolean =>
-      votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!);
-    for (const h of touched) {
-      if (best.length === limit && !better(h, best[limit - 1]!)) continue;
-      let i = best.length === limit ? limit - 1 : best.length;
-      if (best.length < limit) best.push(h);
-      while (i > 0 && better(h, best[i - 1]!)) {
-        best[i] = best[i - 1]!;
-        i--;
-      }
-      best[i] = h;
-    }
+    const best = topN(
+      touched,
+      limit,
+      (a, b) => votes[a]! > votes[b]! || (votes[a] === votes[b] && this.lastTouch[a]! > this.lastTouch[b]!),
+    );
     return best.map((h) => this.ids[h]!);
   }
 

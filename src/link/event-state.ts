@@ -7,6 +7,7 @@
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention, EventRecord, Vector } from '../records.js';
 import { dayNumber } from '../text/days.js';
+import { topN } from '../top-n.js';
 import { labelFrom } from './labels.js';
 
 /** Everything the linker knows about one event. */
@@ -386,21 +387,7 @@ const collator = new Intl.Collator();
  * thousands of names, most of them below the list's last count.
  */
 export function topNames(map: ReadonlyMap<string, readonly [string, number]>, n: number): string[] {
-  if (n <= 0) return [];
-  const top: (readonly [string, number])[] = [];
-  const before = (a: readonly [string, number], b: readonly [string, number]): boolean =>
-    a[1] > b[1] || (a[1] === b[1] && collator.compare(a[0], b[0]) < 0);
-  for (const x of map.values()) {
-    if (top.length === n && !before(x, top[n - 1]!)) continue;
-    let i = top.length === n ? n - 1 : top.length;
-    if (top.length < n) top.push(x);
-    while (i > 0 && before(x, top[i - 1]!)) {
-      top[i] = top[i - 1]!;
-      i--;
-    }
-    top[i] = x;
-  }
-  return top.map((x) => x[0]);
+  return topN(map.values(), n, (a, b) => a[1] > b[1] || (a[1] === b[1] && collator.compare(a[0], b[0]) < 0)).map((x) => x[0]);
 }
 
 function dayString(n: number): string {
