@@ -1,6 +1,7 @@
 /**
  * The body of a sweep thread: one link run of the evaluation per task, answered as the
- * clustering it gave, or the batch baseline's merges. Loaded by piscina from sweep-pool.ts; never imported by the main thread.
+ * clustering it gave, or the batch baseline's merges. Loaded by piscina from
+ * sweep-pool.ts; never imported by the main thread.
  */
 import { createLogger } from '../logger.js';
 import { createNlp } from '../text/nlp.js';
