@@ -161,7 +161,7 @@ export function ceafScore(key: Partition, response: Partition, kind: 'mention' |
  * threshold sweep's low end) make connected groups of thousands of clusters that are
  * mostly such chains; this leaves Kuhn-Munkres the few cycles.
  */
-export function settleLeaves(weight: Map<number, Map<number, number>>): number {
+function settleLeaves(weight: Map<number, Map<number, number>>): number {
   // Both sides as one graph: key i is node `k${i}`, response j is `r${j}`.
   const adj = new Map<string, Map<string, number>>();
   const link = (a: string, b: string, w: number) => {
@@ -194,10 +194,11 @@ export function settleLeaves(weight: Map<number, Map<number, number>>): number {
     adj.delete(leaf);
     for (const y of remove(partner)) {
       if (y === leaf) continue;
-      const left = adj.get(y)!.size;
-      if (left === 0) adj.delete(y);
-      // A new leaf, or a leaf whose partner just lost an edge that may have been heavier.
-      else queue.push(y, ...(left === 1 ? [] : [...adj.get(y)!.keys()].filter((z) => adj.get(z)?.size === 1)));
+      const around = adj.get(y)!;
+      if (around.size === 0) adj.delete(y);
+      // A new leaf; or y lost an edge that may have been heavier than its leaves' edges.
+      else if (around.size === 1) queue.push(y);
+      else for (const z of around.keys()) if (adj.get(z)!.size === 1) queue.push(z);
     }
   }
   // Write back what is left.

@@ -1,3 +1,11 @@
+/** Analysts' "keep apart" pairs: their keys, and how they hold within a consolidation pass. */
+const SEPARATOR = '\n';
+
+/** One key for an unordered pair of ids (ids hold no line breaks). */
+export function pairKey(a: string, b: string): string {
+  return a < b ? `${a}${SEPARATOR}${b}` : `${b}${SEPARATOR}${a}`;
+}
+
 /**
  * Analysts' "keep apart" pairs during one consolidation pass. Merges planned in a pass
  * gather events (or stories) into groups around a survivor; two that an analyst set apart
@@ -8,10 +16,10 @@ export class ApartGroups {
   private readonly members = new Map<string, string[]>();
   private readonly apartOf = new Map<string, string[]>();
 
-  /** `pairs`: the analysts' pairs as `a\nb` keys. */
+  /** `pairs`: the analysts' pairs as pairKey() keys. */
   constructor(pairs: Iterable<string>) {
     for (const pair of pairs) {
-      const [a, b] = pair.split('\n') as [string, string];
+      const [a, b] = pair.split(SEPARATOR) as [string, string];
       (this.apartOf.get(a) ?? this.apartOf.set(a, []).get(a)!).push(b);
       (this.apartOf.get(b) ?? this.apartOf.set(b, []).get(b)!).push(a);
     }

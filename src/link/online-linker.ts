@@ -11,7 +11,7 @@
  */
 import type { EmbeddedMention, Link, LinkEvidence } from '../records.js';
 import type { LinkTally } from '../store/store.js';
-import { ApartGroups } from './apart-groups.js';
+import { ApartGroups, pairKey } from './apart-groups.js';
 import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
@@ -483,10 +483,6 @@ export class OnlineLinker {
     }
     this.calibration.add(plan.tally);
   }
-}
-
-function pairKey(a: string, b: string): string {
-  return a < b ? `${a}\n${b}` : `${b}\n${a}`;
 }
 
 /** A mention linked to both events of a merge, with its link to `into` and to `from`. */

@@ -15,7 +15,7 @@
  */
 import type { DenseVector, SparseVector, Vector } from '../records.js';
 import { dayNumber } from '../text/days.js';
-import { ApartGroups } from './apart-groups.js';
+import { ApartGroups, pairKey } from './apart-groups.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
 import { CentroidIndex } from './centroid-index.js';
 import { centroidCosine, nameKey, topTermFeatures } from './event-state.js';
@@ -312,8 +312,4 @@ function cosineTo(v: Vector, s: StoryState): number {
     for (let i = 0; i < d.values.length; i++) dot += d.values[i]! * s.dense[i]!;
   }
   return dot / s.norm;
-}
-
-function pairKey(a: string, b: string): string {
-  return a < b ? `${a}\n${b}` : `${b}\n${a}`;
 }
