@@ -84,6 +84,13 @@ export class ConsolidationCadence {
     return owed;
   }
 
+  /** Articles to store until the next pass is due (Infinity when never, or before the count is read). */
+  untilDue(): number {
+    const every = this.ctx.config.link.consolidateEvery;
+    if (every <= 0 || this.stored === null) return Infinity;
+    return every - (this.stored % every);
+  }
+
   /** The count of the pass now due (after afterArticle returned true). */
   get at(): number {
     return this.stored ?? 0;

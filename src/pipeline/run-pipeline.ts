@@ -6,11 +6,13 @@
  *   articles ─► admit ─► analyse ─► detect ─► (group) ─► embed ─► link + commit ─► outcomes
  *
  * Every stage takes one item at a time (concatMap): one article up to detection, then a
- * group of articles (up to GROUP_MAX, or what arrived within GROUP_MS) for embedding,
- * linking and committing. Linking is serial by nature. The one exception is analysis on
- * worker threads, which runs a few articles ahead and hands them on in input order.
+ * group of articles (up to GROUP_MAX, or what arrived within GROUP_MS, ending where a
+ * consolidation pass is due) for embedding, linking and committing. Linking is serial by
+ * nature. The one exception is analysis on worker threads, which runs a few articles
+ * ahead and hands them on in input order.
  */
-import { type Observable, type OperatorFunction, bufferTime, concatMap, defer, filter, from, tap } from 'rxjs';
+import { type Observable, type OperatorFunction, concatMap, defer, tap } from 'rxjs';
+import { groupWhileBusy } from './group-while-busy.js';
 import { detectMentions } from '../detect/detect-mentions.js';
 import { describeError } from '../errors.js';
 import type { Article } from '../records.js';
@@ -26,7 +28,7 @@ import { linkGroup } from './link-group.js';
 /** Largest group of articles committed in one transaction. */
 const GROUP_MAX = 32;
 
-/** Longest an article waits for its group, ms (live feeds trickle; a replay fills groups at once). */
+/** Longest an article waits for others to join its group while the link stage is free, ms (live feeds trickle). */
 const GROUP_MS = 50;
 
 /**
@@ -96,15 +98,14 @@ class Window {
  */
 export function linkStages(ctx: PipelineContext): OperatorFunction<Flow<DetectedWork>, ArticleOutcome> {
   const cadence = new ConsolidationCadence(ctx);
-  return (detected$) =>
-    detected$.pipe(
-      // Groups of up to GROUP_MAX articles, or what arrived within GROUP_MS: one embedding
-      // batch and one commit per group.
-      bufferTime(GROUP_MS, null, GROUP_MAX),
-      filter((group) => group.length > 0),
-      concatMap((group) => defer(() => embedGroup(ctx, group))),
-      concatMap((group) => defer(() => linkGroup(ctx, group, cadence)).pipe(concatMap((outcomes) => from(outcomes)))),
-    );
+  // One embedding batch and one commit per group: up to GROUP_MAX articles, ending where a
+  // consolidation pass is due (the pass commits what is pending: a group running past it
+  // would commit twice).
+  return groupWhileBusy(
+    () => Math.min(GROUP_MAX, cadence.untilDue()),
+    GROUP_MS,
+    (group) => defer(async () => linkGroup(ctx, await embedGroup(ctx, group), cadence)).pipe(concatMap((outcomes) => outcomes)),
+  );
 }
 
 /** Wraps a stage function so that failures become a rejected outcome instead of ending the stream. */
