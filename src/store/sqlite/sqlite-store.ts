@@ -116,6 +116,7 @@ export class SqliteStore extends StoreParts implements Store {
   private readonly commitManyTx: (cs: readonly ArticleCommit[]) => CommitResult[];
   private readonly mergeTx: (m: MergeCommit) => void;
   private readonly splitTx: (s: SplitCommit) => void;
+  private readonly prepared = new Map<string, Database.Statement>();
 
   constructor(
     private readonly db: Database.Database,
@@ -207,6 +208,16 @@ export class SqliteStore extends StoreParts implements Store {
     this.commitManyTx = db.transaction((cs: readonly ArticleCommit[]): CommitResult[] => cs.map((c) => this.commitInTx(c)));
     this.mergeTx = db.transaction((m: MergeCommit): void => this.mergeInTx(m));
     this.splitTx = db.transaction((sp: SplitCommit): void => this.splitInTx(sp));
+  }
+
+  /** A statement for `text`, compiled once (consolidation's statements run at every pass). */
+  private sql(text: string): Database.Statement {
+    let st = this.prepared.get(text);
+    if (!st) {
+      st = this.db.prepare(text);
+      this.prepared.set(text, st);
+    }
+    return st;
   }
 
   async hasArticle(id: string): Promise<boolean> {
@@ -313,23 +324,22 @@ export class SqliteStore extends StoreParts implements Store {
   }
 
   private mergeInTx(m: MergeCommit): void {
-    const db = this.db;
     const into = m.into.record.id;
     // A sentence linked to both events keeps one link, the better-scoring one.
-    db.prepare(
+    this.sql(
       `DELETE FROM links WHERE event_id = @from AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @into
       AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx AND l2.score >= links.score)`,
     ).run({ from: m.from, into });
-    db.prepare(
+    this.sql(
       `DELETE FROM links WHERE event_id = @into AND EXISTS (SELECT 1 FROM links l2 WHERE l2.event_id = @from
       AND l2.article_id = links.article_id AND l2.sentence_idx = links.sentence_idx)`,
     ).run({ from: m.from, into });
-    db.prepare('UPDATE links SET event_id = ? WHERE event_id = ?').run(into, m.from);
-    db.prepare('DELETE FROM events WHERE id = ?').run(m.from);
+    this.sql('UPDATE links SET event_id = ? WHERE event_id = ?').run(into, m.from);
+    this.sql('DELETE FROM events WHERE id = ?').run(m.from);
     this.st.delOutlets.run(m.from);
     this.upsertEvent(m.into);
-    db.prepare('UPDATE merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
-    db.prepare('INSERT OR REPLACE INTO merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
+    this.sql('UPDATE merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
+    this.sql('INSERT OR REPLACE INTO merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
     this.outbox.queue(m.messages);
   }
 
@@ -343,7 +353,7 @@ export class SqliteStore extends StoreParts implements Store {
 
   private async putStates(table: 'events' | 'stories', states: readonly { id: string; state: Uint8Array }[]): Promise<void> {
     if (states.length === 0) return;
-    const put = this.db.prepare(`UPDATE ${table} SET state = ? WHERE id = ?`);
+    const put = this.sql(`UPDATE ${table} SET state = ? WHERE id = ?`);
     await this.write(
       `cannot store the state of ${states.length} row(s) of ${table}`,
       this.db.transaction(() => {
@@ -405,11 +415,10 @@ export class SqliteStore extends StoreParts implements Store {
   }
 
   async recentEventIds(articles: number): Promise<string[]> {
-    return this.db
-      .prepare(
-        `SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
+    return this.sql(
+      `SELECT DISTINCT l.event_id FROM links l WHERE l.article_id IN (SELECT id FROM articles ORDER BY seq DESC LIMIT ?)
       ORDER BY l.event_id`,
-      )
+    )
       .pluck()
       .all(articles) as string[];
   }
@@ -422,7 +431,7 @@ export class SqliteStore extends StoreParts implements Store {
       idf: { docs: idf.docs, df: [...idf.df] },
       tally: (this.st.tally.get() as LinkTally | undefined) ?? { mentions: 0, high: 0 },
       stories: (this.st.storyStates.all() as Buffer[]).map(bytes),
-      storyMerges: this.db.prepare('SELECT from_id, into_id FROM story_merges ORDER BY at, from_id').raw().all() as [string, string][],
+      storyMerges: this.sql('SELECT from_id, into_id FROM story_merges ORDER BY at, from_id').raw().all() as [string, string][],
     };
   }
 
@@ -431,15 +440,13 @@ export class SqliteStore extends StoreParts implements Store {
     await this.write(
       `cannot merge story ${m.from} into ${into}`,
       this.db.transaction(() => {
-        this.db.prepare('UPDATE articles SET story_id = ? WHERE story_id = ?').run(into, m.from);
-        this.db.prepare('UPDATE events SET story_id = ? WHERE story_id = ?').run(into, m.from);
-        this.db.prepare('DELETE FROM stories WHERE id = ?').run(m.from);
+        this.sql('UPDATE articles SET story_id = ? WHERE story_id = ?').run(into, m.from);
+        this.sql('UPDATE events SET story_id = ? WHERE story_id = ?').run(into, m.from);
+        this.sql('DELETE FROM stories WHERE id = ?').run(m.from);
         this.upsertStory(m.into);
         // Earlier merges into the absorbed story now point at the survivor: one step to follow.
-        this.db.prepare('UPDATE story_merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
-        this.db
-          .prepare('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)')
-          .run(m.from, into, m.score, m.at);
+        this.sql('UPDATE story_merges SET into_id = ? WHERE into_id = ?').run(into, m.from);
+        this.sql('INSERT OR REPLACE INTO story_merges (from_id, into_id, score, at) VALUES (?, ?, ?, ?)').run(m.from, into, m.score, m.at);
         if (m.correction) this.corrections.record(m.correction);
         this.outbox.queue(m.messages);
       }),
@@ -452,18 +459,22 @@ export class SqliteStore extends StoreParts implements Store {
     await this.write(
       `cannot split story ${into} off ${from}`,
       this.db.transaction(() => {
-        const moveArticle = this.db.prepare('UPDATE articles SET story_id = ? WHERE id = ? AND story_id = ?');
+        const moveArticle = this.sql('UPDATE articles SET story_id = ? WHERE id = ? AND story_id = ?');
         for (const id of sp.moved) moveArticle.run(into, id, from);
         this.upsertStory(sp.from);
         this.upsertStory(sp.into);
-        const moveEvent = this.db.prepare('UPDATE events SET story_id = ? WHERE id = ?');
+        const moveEvent = this.sql('UPDATE events SET story_id = ? WHERE id = ?');
         for (const e of sp.events) {
           this.upsertEvent(e);
           moveEvent.run(into, e.record.id);
         }
-        this.db
-          .prepare('INSERT OR REPLACE INTO story_splits (into_id, from_id, articles, score, at) VALUES (?, ?, ?, ?, ?)')
-          .run(into, from, sp.moved.length, sp.score, sp.at);
+        this.sql('INSERT OR REPLACE INTO story_splits (into_id, from_id, articles, score, at) VALUES (?, ?, ?, ?, ?)').run(
+          into,
+          from,
+          sp.moved.length,
+          sp.score,
+          sp.at,
+        );
         if (sp.correction) this.corrections.record(sp.correction);
         this.outbox.queue(sp.messages);
       }),
@@ -471,12 +482,10 @@ export class SqliteStore extends StoreParts implements Store {
   }
 
   async storyMembers(storyId: string): Promise<StoryMember[]> {
-    const rows = this.db
-      .prepare(
-        `SELECT id, title, outlet, coalesce(published, fetched) AS at, duplicate_of, story_names, story_vector FROM articles
+    const rows = this.sql(
+      `SELECT id, title, outlet, coalesce(published, fetched) AS at, duplicate_of, story_names, story_vector FROM articles
         WHERE story_id = ? ORDER BY at, id`,
-      )
-      .all(storyId) as Row[];
+    ).all(storyId) as Row[];
     return rows.map((r) => ({
       articleId: r.id as string,
       title: r.title as string,
@@ -489,41 +498,38 @@ export class SqliteStore extends StoreParts implements Store {
   }
 
   async recentStoryIds(articles: number): Promise<string[]> {
-    return this.db
-      .prepare(
-        `SELECT story_id FROM (SELECT story_id, max(seq) AS last FROM (SELECT story_id, seq FROM articles ORDER BY seq DESC LIMIT ?)
+    return this.sql(
+      `SELECT story_id FROM (SELECT story_id, max(seq) AS last FROM (SELECT story_id, seq FROM articles ORDER BY seq DESC LIMIT ?)
       WHERE story_id IS NOT NULL GROUP BY story_id) ORDER BY last DESC`,
-      )
+    )
       .pluck()
       .all(articles) as string[];
   }
 
   async consolidationOwed(): Promise<number | null> {
-    const v = this.db.prepare(`SELECT value FROM meta WHERE key = 'consolidation_owed'`).pluck().get() as string | undefined;
+    const v = this.sql(`SELECT value FROM meta WHERE key = 'consolidation_owed'`).pluck().get() as string | undefined;
     return v === undefined ? null : Number(v);
   }
 
   async settleConsolidation(articles: number): Promise<void> {
     await this.write('cannot settle the consolidation pass', () =>
-      this.db.prepare(`DELETE FROM meta WHERE key = 'consolidation_owed' AND CAST(value AS INTEGER) <= ?`).run(articles),
+      this.sql(`DELETE FROM meta WHERE key = 'consolidation_owed' AND CAST(value AS INTEGER) <= ?`).run(articles),
     );
   }
 
   async claimVectorSpace(space: string): Promise<string> {
-    this.db.prepare(`INSERT OR IGNORE INTO meta (key, value) VALUES ('vector_space', ?)`).run(space);
-    return this.db.prepare(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get() as string;
+    this.sql(`INSERT OR IGNORE INTO meta (key, value) VALUES ('vector_space', ?)`).run(space);
+    return this.sql(`SELECT value FROM meta WHERE key = 'vector_space'`).pluck().get() as string;
   }
 
   async recentSketches(days: number): Promise<{ id: string; time: number; sketch: Uint32Array }[]> {
-    const newest = this.db.prepare('SELECT max(coalesce(published, fetched)) FROM articles').pluck().get() as string | null;
+    const newest = this.sql('SELECT max(coalesce(published, fetched)) FROM articles').pluck().get() as string | null;
     if (!newest) return [];
     const since = new Date(Date.parse(newest) - days * 86_400_000).toISOString();
-    const rows = this.db
-      .prepare(
-        `SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
+    const rows = this.sql(
+      `SELECT id, coalesce(published, fetched) AS at, sketch FROM articles
       WHERE coalesce(published, fetched) >= ? AND sketch IS NOT NULL ORDER BY at, seq`,
-      )
-      .all(since) as Row[];
+    ).all(since) as Row[];
     return rows.map((r) => ({ id: r.id as string, time: Date.parse(r.at as string), sketch: decodeWords(r.sketch as Buffer) }));
   }
 
