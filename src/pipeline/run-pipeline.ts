@@ -29,7 +29,7 @@ import { linkGroup } from './link-group.js';
 const GROUP_MAX = 32;
 
 /** Longest an article waits for others to join its group while the link stage is free, ms (live feeds trickle). */
-const GROUP_MS = 50;
+const GROUP_MS = 10;
 
 /**
  * Runs articles through every stage; emits one outcome per article. At most a window of
