@@ -86,6 +86,8 @@ export interface SentenceCues {
   /** A time expression resolves to more than a year before publication (background). */
   distantPast: boolean;
   tokens: number;
+  /** Noun phrases pointing back at a happening told before ("the move", "this deal"). */
+  backReferences: number;
 }
 
 /** A sentence judged to report a concrete event. */
@@ -104,6 +106,12 @@ export interface Mention {
   terms: string[];
   /** True when the article is a verbatim copy of another (independent confirmations exclude it). */
   isCopy: boolean;
+  /**
+   * True when the sentence points back at a happening its article told before ("the move"):
+   * the linker then also links it to the best of its article's earlier events. Absent on
+   * stored mentions, which are linked already.
+   */
+  refersBack?: boolean;
 }
 
 /** A sparse vector: sorted feature indices with their values. L2-normalised. */
@@ -156,6 +164,12 @@ export interface LinkEvidence {
   correctedBy?: string;
   /** True when the sentence and the event each name people or places but share none of them. */
   conflictingNames?: boolean;
+  /**
+   * True when the sentence points back at the event ("the move") and the link was made for
+   * that, to an event its own article reported before (link.backReferences). Such a link
+   * leaves the event as it was: it is not counted among the event's mentions.
+   */
+  refersBack?: boolean;
   /**
    * The score the link had to reach: the threshold as calibrated on the stream at the
    * time, plus link.crossStoryMargin for an event of another story sharing no name.

@@ -46,6 +46,7 @@ export function detectMentions(
       times: s.times,
       terms: s.terms,
       isCopy: a.article.duplicateOf !== null,
+      ...(s.cues.backReferences > 0 ? { refersBack: true } : {}),
     });
   });
   return { ...a, eventness, mentions };

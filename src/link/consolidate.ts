@@ -218,7 +218,7 @@ async function splitEvents(ctx: ConsolidationContext, ids: readonly string[], si
     }
     const plan = ctx.linker.planSplit(
       id,
-      linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank })),
+      linked.map((l) => ({ mention: l.mention as EmbeddedMention, rank: l.rank, refersBack: l.refersBack === true })),
     );
     // A sentence an analyst placed stays where it was put.
     if (!plan || plan.moved.some((m) => ctx.linker.isPinned(m))) {

@@ -31,6 +31,7 @@ import {
   cloneEvent,
   deserialiseEvent,
   type EventState,
+  linkWeight,
   openEvent,
   outletRows,
   serialiseEvent,
@@ -71,9 +72,6 @@ export interface CorrectionAuthor {
   by: string;
   note: string | null;
 }
-
-/** Further links of one sentence count half in a centroid, as when linking. */
-const SECONDARY_WEIGHT = 0.5;
 
 const key = (k: SentenceKey): string => `${k.articleId}#${k.sentenceIndex}`;
 
@@ -435,7 +433,11 @@ async function planChange(
 
   const sentences = moving.map((l) => ({ articleId: l.mention.articleId, sentenceIndex: l.mention.sentenceIndex }));
   const beforeLinks = await linksOf(ctx.store, sentences);
-  const afterLinks = relinked(beforeLinks, from.id, toId, id);
+  // Sentences an analyst places report the event they are put in: a back-reference moved
+  // becomes an ordinary link and weighs as one. A merge moves links as they are.
+  const placed = req.kind !== 'merge';
+  if (placed) moving = moving.map((l) => ({ ...l, refersBack: false }));
+  const afterLinks = relinked(beforeLinks, from.id, toId, id, placed);
   const movedKeys = new Set(moving.map((l) => key(l.mention)));
   const remaining = linked.filter((l) => !movedKeys.has(key(l.mention)));
 
@@ -454,7 +456,7 @@ async function planChange(
     let target: EventState;
     if (to) {
       target = cloneEvent(to);
-      for (const l of moving) addMention(target, l.mention as EmbeddedMention, weight(l), ctx.config.link.centroidTerms);
+      for (const l of moving) addMention(target, l.mention as EmbeddedMention, linkWeight(l), ctx.config.link.centroidTerms);
       target.label = toNow!.label;
       target.version = to.version + 1;
     } else {
@@ -569,24 +571,22 @@ function known(ctx: ConsolidationContext, id: string): EventState {
 function rebuilt(ctx: ConsolidationContext, like: EventState, members: readonly LinkedMention[]): EventState {
   const e = openEvent(like.id, members[0]!.mention as EmbeddedMention);
   e.story = like.story;
-  for (const m of members) addMention(e, m.mention as EmbeddedMention, weight(m), ctx.config.link.centroidTerms);
+  for (const m of members) addMention(e, m.mention as EmbeddedMention, linkWeight(m), ctx.config.link.centroidTerms);
   e.version = like.version + 1;
   e.splitCheckedAt = like.splitCheckedAt;
   return e;
-}
-
-function weight(l: Pick<LinkedMention, 'rank'>): number {
-  return l.rank === 0 ? 1 : SECONDARY_WEIGHT;
 }
 
 /**
  * The links after moving a sentence's link to `from` onto `to`: a sentence already linked
  * to `to` keeps the better-scoring of its two links. The moved link says who moved it.
  */
-function relinked(links: readonly Link[], from: string, to: string, correction: string): Link[] {
+function relinked(links: readonly Link[], from: string, to: string, correction: string, placed: boolean): Link[] {
   const out = new Map<string, Link>();
   for (const l of links) {
-    const moved = l.eventId === from ? { ...l, eventId: to, evidence: { ...l.evidence, correctedBy: correction } } : l;
+    const evidence = { ...l.evidence, correctedBy: correction };
+    if (placed) delete evidence.refersBack;
+    const moved = l.eventId === from ? { ...l, eventId: to, evidence } : l;
     const k = `${key(l)}\n${moved.eventId}`;
     const have = out.get(k);
     if (!have || moved.score > have.score) out.set(k, moved);

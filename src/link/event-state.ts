@@ -123,8 +123,22 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
   return e;
 }
 
-/** Adds a mention to an event (mutates `e`); `weight` < 1 for a sentence's further links. */
+/** A further link of a sentence counts half in its event's centroid. */
+export const FURTHER_LINK_WEIGHT = 0.5;
+
+/**
+ * How much a link of a sentence weighs in its event's state: 1 for the sentence's best
+ * link, half for a further one, nothing for a back-reference ("the move" pointing at an
+ * event its article told before: the sentence refers to that event but does not report it
+ * afresh, so it neither moves the centroid nor counts as one of its mentions).
+ */
+export function linkWeight(l: { rank: number; refersBack?: boolean }): number {
+  return l.refersBack ? 0 : l.rank === 0 ? 1 : FURTHER_LINK_WEIGHT;
+}
+
+/** Adds a mention to an event (mutates `e`) with its link's weight (linkWeight); weight 0 leaves it as it was. */
 export function addMention(e: EventState, m: EmbeddedMention, weight: number, centroidTerms: number): void {
+  if (weight === 0) return;
   addVector(e, m.vector, weight, centroidTerms);
   // Only stated times move the event's span. A later report without a date says when it
   // was written, not when the event happened; letting it stretch the span would let the
@@ -154,6 +168,7 @@ export function addMention(e: EventState, m: EmbeddedMention, weight: number, ce
  * event had already dropped (centroidTerms) is not taken below zero.
  */
 export function removeMention(e: EventState, m: Omit<EmbeddedMention, 'vector'> & { vector: Vector | null }, weight: number): void {
+  if (weight === 0) return;
   if (m.vector) addVector(e, m.vector, -weight, Infinity, true);
   e.mentionCount = Math.max(0, e.mentionCount - 1);
   for (const p of m.participants) unbump(e.participants, nameKey(p));

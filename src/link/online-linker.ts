@@ -2,7 +2,8 @@
  * The online linker: each new mention is scored against a small candidate set of events
  * (never the whole history), joins the best one at or above the threshold, or opens a new
  * event. A sentence may also join further events when they score clearly above the
- * threshold (a ruling that recalls the hearings before it).
+ * threshold (a ruling that recalls the hearings before it), and a sentence that points
+ * back at a happening ("the move") links to the best of its article's earlier events.
  *
  * Planning is separate from applying: plan() works on copies and returns what would
  * change; the caller commits that to the store and only then calls apply(). A failed
@@ -10,7 +11,7 @@
  * applying it and planning merges share the linker's private indexes and tallies.
  */
 import type { EmbeddedMention, Link, LinkEvidence } from '../records.js';
-import type { LinkTally } from '../store/store.js';
+import type { LinkTally, SharedLink } from '../store/store.js';
 import { ApartGroups, pairKey } from './apart-groups.js';
 import { Calibration, type CalibrationOptions } from './calibration.js';
 import { CandidateIndex, type WeightedKey } from './candidate-index.js';
@@ -21,6 +22,7 @@ import {
   cloneEvent,
   eventIdFor,
   type EventState,
+  linkWeight,
   mergeStates,
   nameKey,
   openEvent,
@@ -58,6 +60,8 @@ export interface LinkerOptions {
   sizePrior: number;
   /** Events the mention's own article opened score this share. */
   sameArticleFactor: number;
+  /** A sentence pointing back at a happening ("the move") also links to its article's best earlier event. */
+  backReferences: boolean;
 }
 
 /** A mention that reached an event's outlet list for the first time. */
@@ -82,8 +86,6 @@ export interface LinkPlan {
   tally: LinkTally;
 }
 
-/** Further links of one sentence carry half the weight in the event centroid. */
-const SECONDARY_WEIGHT = 0.5;
 const MAX_LINKS_PER_SENTENCE = 3;
 const RECENT_VOTE = 0.05;
 
@@ -214,6 +216,8 @@ export class OnlineLinker {
     const outletsAdded: OutletAdded[] = [];
     const current = (id: string): EventState | undefined => overlay.get(id) ?? this.events.get(id);
     const tally: LinkTally = { mentions: 0, high: 0 };
+    // The events this article's sentences linked to so far, for the back-references of later ones.
+    const told: string[] = [];
 
     for (const m of mentions) {
       const mkeys = this.mentionKeys(m);
@@ -264,14 +268,21 @@ export class OnlineLinker {
         chosen.push({ sc: null, id });
       }
 
+      if (this.o.backReferences && m.refersBack && chosen.length < MAX_LINKS_PER_SENTENCE) {
+        const back = this.backReference(features, told, chosen, current, total);
+        if (back) chosen.push({ sc: back, id: back.event.id });
+      }
+      for (const { id } of chosen) if (!told.includes(id)) told.push(id);
+
       chosen.forEach(({ sc, id }, rank) => {
+        const refersBack = sc?.evidence.refersBack === true;
         let e = overlay.get(id);
         if (!e) {
           e = cloneEvent(this.events.get(id)!);
           overlay.set(id, e);
         }
         const hadOutlet = e.outlets.has(m.outlet);
-        addMention(e, m, rank === 0 ? 1 : SECONDARY_WEIGHT, this.o.centroidTerms);
+        addMention(e, m, linkWeight({ rank, refersBack }), this.o.centroidTerms);
         const score = sc ? sc.score : m.eventness;
         links.push({
           articleId: m.articleId,
@@ -292,7 +303,7 @@ export class OnlineLinker {
                 ...(nearest ? { nearest } : {}),
               },
         });
-        if (!hadOutlet && sc)
+        if (!hadOutlet && sc && !refersBack)
           outletsAdded.push({
             eventId: id,
             outlet: m.outlet,
@@ -306,6 +317,30 @@ export class OnlineLinker {
     // Touch numbers in plan order; they are stored with the events.
     for (const e of overlay.values()) e.touched = ++this.clock;
     return { links, events: [...overlay.values()], opened, outletsAdded, tally };
+  }
+
+  /**
+   * For a sentence that points back at a happening ("the move"): the best-scoring of the
+   * events its article's earlier sentences linked to, other than those it links to already,
+   * if it shares anything with it (score above 0). The link leaves the event's state as it
+   * is (linkWeight), so a wrong guess costs one link, never the event.
+   */
+  private backReference(
+    f: ReturnType<typeof mentionFeatures>,
+    told: readonly string[],
+    chosen: readonly { id: string }[],
+    current: (id: string) => EventState | undefined,
+    total: number,
+  ): ScoredCandidate | null {
+    let best: ScoredCandidate | null = null;
+    for (const id of told) {
+      const e = current(id);
+      if (!e || chosen.some((c) => c.id === id)) continue;
+      const sc = scoreCandidate(f, e, this.carriersOf, total, this.o, true);
+      if (sc.score > 0 && (!best || sc.score > best.score)) best = sc;
+    }
+    if (best) best.evidence.refersBack = true;
+    return best;
   }
 
   /**
@@ -353,7 +388,7 @@ export class OnlineLinker {
     for (const s of shared) {
       const [toInto, toFrom] = s.links;
       const dropped = toFrom.score > toInto.score ? toInto : toFrom;
-      removeMention(merged, s.mention, dropped.rank === 0 ? 1 : SECONDARY_WEIGHT);
+      removeMention(merged, s.mention, linkWeight(dropped));
     }
     merged.touched = ++this.clock;
     return merged;
@@ -488,7 +523,7 @@ export class OnlineLinker {
 /** A mention linked to both events of a merge, with its link to `into` and to `from`. */
 export interface SharedLinks {
   mention: Parameters<typeof removeMention>[1];
-  links: readonly [{ rank: number; score: number }, { rank: number; score: number }];
+  links: readonly [SharedLink, SharedLink];
 }
 
 /** One merge found by consolidation. */

@@ -9,13 +9,15 @@
  */
 import { createHash } from 'node:crypto';
 import type { EmbeddedMention } from '../records.js';
-import { addMention, eventIdFor, type EventState, explicitSpan, mentionSpan, openEvent } from './event-state.js';
+import { addMention, eventIdFor, type EventState, explicitSpan, linkWeight, mentionSpan, openEvent } from './event-state.js';
 import { divide, divideInTwo } from './two-means.js';
 
 /** One mention of the event, with the rank of its link to it (0 = the sentence's best link). */
 export interface SplitMember {
   mention: EmbeddedMention;
   rank: number;
+  /** A back-reference link: it weighs nothing in the event, so it takes no part in a split and stays. */
+  refersBack?: boolean;
 }
 
 /** Split settings. */
@@ -41,22 +43,22 @@ export interface SplitPlan {
 
 /** Each part keeps at least this many mentions: one stray sentence is left to the linker. */
 const MIN_PART = 2;
-/** Further links of one sentence count half in a centroid, as when linking. */
-const SECONDARY_WEIGHT = 0.5;
 
 /**
- * Divides `event`'s mentions in two when they drifted apart, or returns null. `members`
+ * Divides `event`'s mentions in two when they drifted apart, or returns null. `linked`
  * must be the event's mentions in a stable order (oldest first); the result depends only
- * on them, so every process reaches the same split.
+ * on them, so every process reaches the same split. Back-references weigh nothing in the
+ * event and are left where they are.
  */
-export function planSplit(event: EventState, members: readonly SplitMember[], o: SplitOptions): SplitPlan | null {
+export function planSplit(event: EventState, linked: readonly SplitMember[], o: SplitOptions): SplitPlan | null {
+  const members = linked.filter((m) => linkWeight(m) > 0);
   if (o.splitMinMentions <= 0 || members.length < Math.max(o.splitMinMentions, 2 * MIN_PART)) return null;
   const division = divideInTwo(
     members.map((m) => ({
       vector: m.mention.vector,
       span: mentionSpan(m.mention),
       explicit: explicitSpan(m.mention),
-      weight: weightOf(m),
+      weight: linkWeight(m),
     })),
     event,
     o.halfLifeDays,
@@ -71,7 +73,7 @@ export function planSplit(event: EventState, members: readonly SplitMember[], o:
     const e = openEvent(id, ms[0]!.mention);
     // Both parts stay in the event's story (a split is within one thread).
     e.story = event.story;
-    for (const m of ms) addMention(e, m.mention, weightOf(m), o.centroidTerms);
+    for (const m of ms) addMention(e, m.mention, linkWeight(m), o.centroidTerms);
     return e;
   };
   // The part with the mention that opened the event keeps its id; else the larger part,
@@ -90,8 +92,4 @@ export function planSplit(event: EventState, members: readonly SplitMember[], o:
 /** The id of the event split off `from`, starting with `first`: the same split gives the same id. */
 export function splitEventId(from: string, first: Pick<EmbeddedMention, 'articleId' | 'sentenceIndex'>): string {
   return `ev_${createHash('sha256').update(`split\n${from}\n${first.articleId}#${first.sentenceIndex}`).digest('hex').slice(0, 16)}`;
-}
-
-function weightOf(m: SplitMember): number {
-  return m.rank === 0 ? 1 : SECONDARY_WEIGHT;
 }

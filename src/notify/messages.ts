@@ -61,7 +61,8 @@ export function buildMessages(plan: LinkPlan, mentions: readonly EmbeddedMention
   // message per article, for alert rules on growth and for pages that show counts live).
   const article = plan.links[0]?.articleId;
   const grew = plan.events.flatMap((e) => {
-    const added = plan.opened.includes(e.id) ? 0 : plan.links.filter((l) => l.eventId === e.id).length;
+    // Back-references are not counted among an event's mentions (linkWeight).
+    const added = plan.opened.includes(e.id) ? 0 : plan.links.filter((l) => l.eventId === e.id && !l.evidence.refersBack).length;
     return added ? [{ id: e.id, story: e.story, firstSeen: e.firstSeen, mentionCount: e.mentionCount, mentionsAdded: added }] : [];
   });
   if (article !== undefined && grew.length > 0) {

@@ -21,7 +21,8 @@ const PAGE = 200;
  * Every decision the linker made about sentences of events active in the window: its links,
  * its misses with their nearest event, and consolidation's merges into those events (each
  * through the sentence that opened the absorbed event; its bar is its own score, since a
- * merge is not a link decision and is kept out of the threshold's fit).
+ * merge is not a link decision and is kept out of the threshold's fit). Back-references
+ * are left out: they follow the sentence's wording, not the threshold.
  */
 export async function liveDecisions(
   store: EventQueries,
@@ -35,6 +36,9 @@ export async function liveDecisions(
       const mentions = detail?.mentions ?? [];
       for (const m of mentions) {
         const about = { articleId: m.articleId, sentenceIndex: m.sentenceIndex, outlet: m.outlet, published: m.published };
+        // A back-reference was made on the sentence's wording, not at the threshold: reviewing
+        // it says nothing about where the threshold should be.
+        if (m.evidence.refersBack) continue;
         if (!m.evidence.opened)
           out.push({
             ...about,

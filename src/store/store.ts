@@ -156,12 +156,22 @@ export interface LinkedMention {
   mention: Omit<EmbeddedMention, 'vector'> & { vector: Vector | null };
   rank: number;
   score: number;
+  /** The link is a back-reference (LinkEvidence.refersBack): it weighs nothing in the event. */
+  refersBack?: boolean;
+}
+
+/** One of a shared mention's two links. */
+export interface SharedLink {
+  rank: number;
+  score: number;
+  /** A back-reference (LinkEvidence.refersBack). */
+  refersBack?: boolean;
 }
 
 /** A mention linked to two events, with both links. */
 export interface SharedMention {
   mention: LinkedMention['mention'];
-  links: [{ rank: number; score: number }, { rank: number; score: number }];
+  links: [SharedLink, SharedLink];
 }
 
 /** A merge as recorded. */

@@ -9,7 +9,16 @@
  * never starts in lower case in edited news; common practice).
  */
 import type { Article, Sentence, SentenceAnalysis, SentenceCues, TimeExpression } from '../records.js';
-import { CALENDAR_WORDS, EVENT_WORDS, FUTURE_PHRASES, LOCATIVE, MODAL_WORDS, OPINION_WORDS } from './lexicon.js';
+import {
+  BACK_POINTING_DETERMINERS,
+  CALENDAR_WORDS,
+  EVENT_WORDS,
+  FUTURE_PHRASES,
+  GENERAL_EVENT_NOUNS,
+  LOCATIVE,
+  MODAL_WORDS,
+  OPINION_WORDS,
+} from './lexicon.js';
 import type { Nlp } from './nlp.js';
 import { daysBetween, dayOf } from './days.js';
 import { resolveTimes } from './resolve-times.js';
@@ -37,6 +46,8 @@ const CONTENT_POS = new Set(['NOUN', 'PROPN', 'VERB', 'ADJ', 'NUM']);
 const SPEECH_VERBS = new Set(['say', 'tell', 'add', 'state', 'claim', 'note', 'write', 'ask']);
 const PRESENT_FORMS = new Set(['is', 'are', 'am', "'s", "'re", "'m", 'has', 'have', 'does', 'do']);
 const CONNECTORS = new Set(['of', 'and', '&']);
+/** Words of a noun phrase after its determiner that the back-reference cue reads. */
+const MAX_PHRASE = 3;
 const UNIT_STOP = new Set(['a.m.', 'p.m.', 'am', 'pm', 'per', 'cent', 'percent']);
 const DISTANT_DAYS = 365;
 const FINAL_ABBREVIATIONS = new Set(['a.m.', 'p.m.', 'etc.', 'ltd.', 'inc.', 'co.', 'jr.', 'sr.', 'corp.']);
@@ -216,6 +227,7 @@ function analyseSentence(
   let eventWords = 0;
   let modalOrFuture = 0;
   let opinionWords = 0;
+  let backReferences = 0;
   const base = t.start[s]!;
   const text = sentence.text;
 
@@ -228,6 +240,7 @@ function analyseSentence(
     if ((pos === 'VERB' || pos === 'NOUN') && EVENT_WORDS.has(lemma)) eventWords++;
     if (MODAL_WORDS.has(lower)) modalOrFuture++;
     if (OPINION_WORDS.has(lemma)) opinionWords++;
+    if (BACK_POINTING_DETERMINERS.has(lower) && pointsBackAtEvent(t, i, e)) backReferences++;
 
     if (pos === 'PROPN' && isCapitalised(t.value[i]!) && !CALENDAR_WORDS.has(lower)) {
       let j = i;
@@ -264,6 +277,7 @@ function analyseSentence(
     quoteShare: quoteShare(text),
     distantPast: times.length > 0 && times.every((x) => isDistant(x, refDay)),
     tokens: e - s + 1,
+    backReferences,
   };
   return { sentence, terms, participants: unique(participants), places: unique(places), times, cues };
 }
@@ -284,6 +298,7 @@ function emptyAnalysis(sentence: Sentence): SentenceAnalysis {
       quoteShare: 0,
       distantPast: false,
       tokens: 0,
+      backReferences: 0,
     },
   };
 }
@@ -302,6 +317,21 @@ function continuesName(t: Tokens, k: number): boolean {
   // A possessive apostrophe inside a name ("Dock Workers' Guild") does not end it.
   if (t.value[k] === "'" && t.end[k - 1] === t.start[k] && t.pos[k + 1] === 'PROPN') return true;
   return t.pos[k] === 'PROPN' && isCapitalised(t.value[k]!) && !CALENDAR_WORDS.has(t.value[k]!.toLowerCase());
+}
+
+/**
+ * Whether the determiner at `i` opens a noun phrase headed by an event noun ("the deal",
+ * "this surprise move"). The head is the last of the nouns and adjectives that follow (at
+ * most three), so in "the company cuts prices" it is "prices", whatever the tagger made of
+ * "cuts".
+ */
+function pointsBackAtEvent(t: Tokens, i: number, e: number): boolean {
+  let head = i;
+  while (head < e && head - i < MAX_PHRASE && (t.pos[head + 1] === 'ADJ' || t.pos[head + 1] === 'NOUN')) head++;
+  const runsOn = head < e && (t.pos[head + 1] === 'NOUN' || t.pos[head + 1] === 'ADJ');
+  if (head === i || t.pos[head] !== 'NOUN' || runsOn) return false;
+  const lemma = t.lemma[head]!.toLowerCase();
+  return EVENT_WORDS.has(lemma) || GENERAL_EVENT_NOUNS.has(lemma);
 }
 
 function isAfterLocative(t: Tokens, i: number, s: number): boolean {

@@ -25,6 +25,17 @@ test testify threaten topple trial vote walk walkout warn warning win withdraw w
     .split(/\s+/),
 );
 
+/**
+ * Nouns that name a happening without saying which: in "the move", "this decision" the
+ * reader must look back to know what happened (common practice in event coreference:
+ * definite and demonstrative noun phrases with an event head are anaphors of an event
+ * reported earlier in the text). Event words (above) refer back the same way ("the deal").
+ */
+export const GENERAL_EVENT_NOUNS = new Set(['move', 'decision', 'announcement', 'incident', 'event', 'action', 'plan', 'step']);
+
+/** Determiners that make a noun phrase point at something the reader already knows. */
+export const BACK_POINTING_DETERMINERS = new Set(['the', 'this', 'that', 'these', 'those']);
+
 /** Modal and future markers: the sentence speaks of what may or will happen. */
 export const MODAL_WORDS = new Set(['will', 'would', 'could', 'should', 'must', 'may', 'might', 'shall', "'ll", 'wo']);
 

@@ -1044,6 +1044,43 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       expect(await store.linkedToBoth(first.event.id, 'ev_none')).toEqual([]);
     });
 
+    it('says which links are back-references, so consolidation gives them no weight', async () => {
+      const a1 = article('a1', 'The Vellmouth Courier', '2026-10-07T22:00:00.000Z', 'x');
+      const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
+      await store.commitArticle(first.commit);
+      const second = commitFor(article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y'), 'The blaze angered the guild.', null);
+      const back: Link = {
+        articleId: 'a2',
+        sentenceIndex: 0,
+        eventId: first.event.id,
+        score: 0.12,
+        rank: 1,
+        evidence: {
+          similarity: 0.12,
+          timeDecay: 1,
+          timeGapDays: 0,
+          sharedParticipants: [],
+          sharedPlaces: [],
+          overlapBonus: 0,
+          opened: false,
+          refersBack: true,
+        },
+      };
+      await store.commitArticle({ ...second.commit, links: [...second.commit.links, back] });
+      const linked = await store.linkedMentions(first.event.id);
+      expect(linked.map((l) => [l.mention.articleId, l.rank, l.refersBack === true])).toEqual([
+        ['a1', 0, false],
+        ['a2', 1, true],
+      ]);
+      const both = await store.linkedToBoth(second.event.id, first.event.id);
+      expect(both.map((b) => b.links)).toEqual([
+        [
+          { rank: 0, score: 0.8 },
+          { rank: 1, score: 0.12, refersBack: true },
+        ],
+      ]);
+    });
+
     it('splits part of an event off into a new one: links move, both events are written, the split is recorded', async () => {
       const { first, second, third } = await fireThenStrike(store);
       const kept = openEvent(first.event.id, first.commit.mentions[0] as EmbeddedMention);

@@ -219,6 +219,27 @@ describe.skipIf(!existsSync(CHROMIUM) && process.env.CI !== 'true')('the desk in
       }
     });
 
+    it('says on the event page which sentences only point back at the event, as a guess', async () => {
+      let found: { id: string; text: string } | undefined;
+      for (const e of (await app.inject({ url: '/api/events?limit=200' })).json().events as { id: string }[]) {
+        const detail = (await app.inject({ url: `/api/events/${e.id}` })).json();
+        const back = detail.byOutlet
+          .flatMap((g: { mentions: { text: string; evidence: { refersBack?: boolean } }[] }) => g.mentions)
+          .find((m: { evidence: { refersBack?: boolean } }) => m.evidence.refersBack);
+        if (back) found ??= { id: e.id, text: back.text };
+      }
+      expect(found).toBeDefined();
+      const { page, errors } = await open(`${base}/#/events/${found!.id}`);
+      try {
+        const item = page.locator('li', { hasText: found!.text }).filter({ hasText: 'refers back' });
+        await item.first().waitFor();
+        expect(await item.first().textContent()).toMatch(/points back at a happening .* a guess, not counted/);
+        expect(errors).toEqual([]);
+      } finally {
+        await page.context().close();
+      }
+    });
+
     it('merges two events from the page, the desk follows, and the merge is undone', async () => {
       const story = (await app.inject({ url: '/api/stories?sort=articles&limit=1' })).json().stories[0];
       const [a, b] = (await app.inject({ url: `/api/events?story=${story.id}&sort=mentions&limit=2` })).json().events;

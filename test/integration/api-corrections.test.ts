@@ -14,10 +14,13 @@ describe('corrections through the API', () => {
   let app: FastifyInstance;
   let manage: Record<string, string>;
   let keyId: string;
+  let articleIds: string[];
 
   beforeAll(async () => {
     rt = await testRuntime({ link: { consolidateEvery: 0 } });
-    await runArticles(rt, (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles.slice(0, 30));
+    const articles = (await readReplayInput([DEMO_FEEDS], testConfig().ingest)).articles.slice(0, 30);
+    articleIds = articles.map((a) => a.id);
+    await runArticles(rt, articles);
     app = await linkingApp(rt, { auth: { tokens: [OPERATOR], protect: 'changes' } });
     const made = await app.inject({
       method: 'POST',
@@ -79,6 +82,32 @@ describe('corrections through the API', () => {
     expect((await app.inject({ url: `/api/events/${a}` })).json().event.mentionCount).toBe(event.event.mentionCount);
     const again = await app.inject({ method: 'POST', url: `/api/corrections/${c.id}/undo`, headers: manage });
     expect([again.statusCode, again.json().error.code]).toEqual([409, 'STRAND_CORRECTION_CONFLICT']);
+  });
+
+  it('makes a back-reference an analyst detaches an ordinary link of the event it makes, and undoes it', async () => {
+    let back: { articleId: string; sentenceIndex: number; eventId: string } | undefined;
+    for (const id of articleIds)
+      for (const s of (await rt.store.getArticle(id))?.sentences ?? [])
+        for (const l of s.links) if (l.evidence.refersBack && !back) back = { articleId: id, sentenceIndex: s.index, eventId: l.eventId };
+    expect(back).toBeDefined();
+    const before = (await app.inject({ url: `/api/events/${back!.eventId}` })).json().event.mentionCount;
+    const made = await correct({
+      kind: 'detach',
+      from: back!.eventId,
+      mentions: [{ article: back!.articleId, sentence: back!.sentenceIndex }],
+    });
+    expect(made.statusCode).toBe(200);
+    const c = made.json();
+    // It weighed nothing where it was, and counts as the one mention of the event it now makes.
+    expect((await app.inject({ url: `/api/events/${back!.eventId}` })).json().event.mentionCount).toBe(before);
+    const detached = (await app.inject({ url: `/api/events/${c.events[1]}` })).json();
+    expect(detached.event.mentionCount).toBe(1);
+    const [link] = detached.byOutlet.flatMap((o: { mentions: { evidence: object }[] }) => o.mentions);
+    expect(link.evidence).toMatchObject({ correctedBy: c.id });
+    expect(link.evidence).not.toHaveProperty('refersBack');
+    await app.inject({ method: 'POST', url: `/api/corrections/${c.id}/undo`, headers: manage, payload: {} });
+    const restored = (await rt.store.getArticle(back!.articleId))!.sentences.find((s) => s.index === back!.sentenceIndex)!.links;
+    expect(restored.find((l) => l.eventId === back!.eventId)?.evidence.refersBack).toBe(true);
   });
 
   it('sends a client asking for an event an analyst merged away to the survivor, until the merge is undone', async () => {

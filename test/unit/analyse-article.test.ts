@@ -104,3 +104,32 @@ describe('reading a sentence', () => {
     expect(t!.terms).toEqual(expect.arrayContaining(['police', 'arrest', 'man']));
   });
 });
+
+// Definite and demonstrative noun phrases headed by an event noun refer back to a happening
+// told before ("the move", "this decision"): common practice in event coreference, where such
+// phrases are the anaphors of an event mention earlier in the text.
+describe('noun phrases pointing back at a happening', () => {
+  const backReferences = (text: string): number[] => analyseArticle(nlp, article(text)).sentences.map((x) => x.cues.backReferences);
+
+  it('counts a definite or demonstrative phrase whose head is an event noun', () => {
+    expect(backReferences('The Harrowgate council closed the bridge on Monday. The move angered traders.')).toEqual([0, 1]);
+    expect(backReferences('Dock workers walked out in Vellmouth. This decision surprised the port.')).toEqual([0, 1]);
+  });
+
+  it('lets one modifier stand between the determiner and the head', () => {
+    expect(backReferences('Officials said the surprise resignation shook the cabinet.')).toEqual([1]);
+  });
+
+  it('does not count a verb, a noun of no happening, or an event noun without a determiner', () => {
+    expect(backReferences('The company cuts prices every spring.')).toEqual([0]);
+    expect(backReferences('The bridge stood for a century.')).toEqual([0]);
+    expect(backReferences('Protests spread across Vellmouth on Friday.')).toEqual([0]);
+  });
+
+  it('marks the mention built from such a sentence, and only that one', async () => {
+    const { detectMentions } = await import('../../src/detect/detect-mentions.js');
+    const a = analyseArticle(nlp, article('The Harrowgate council closed the bridge on Monday. The move angered traders in Vellmouth.'));
+    const d = detectMentions(a, 0.5, { kind: 'sentences', indices: new Set([0, 1]) });
+    expect(d.mentions.map((m) => m.refersBack === true)).toEqual([false, true]);
+  });
+});

@@ -4,6 +4,7 @@ import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import {
   addMention,
   deserialiseEvent,
+  linkWeight,
   mentionSpan,
   mergeStates,
   nameKey,
@@ -109,6 +110,17 @@ describe('event state', () => {
     expect([...merged.sparse.keys()].sort()).toEqual([...expected.sparse.keys()].sort());
     for (const [f, w] of expected.sparse) expect(merged.sparse.get(f)).toBeCloseTo(w, 6);
     expect(merged.norm).toBeCloseTo(expected.norm, 6);
+  });
+
+  it('weighs a best link 1, a further link half and a back-reference nothing', () => {
+    expect([linkWeight({ rank: 0 }), linkWeight({ rank: 1 }), linkWeight({ rank: 2, refersBack: true })]).toEqual([1, 0.5, 0]);
+    const ev = openEvent('ev_a', m({}));
+    addMention(ev, m({}), 1, 300);
+    const before = serialiseEvent(ev);
+    const back = m({ articleId: 'b', outlet: 'P', terms: ['move'], vector: e.vector(['move']), participants: ['Ila Serrow'] });
+    addMention(ev, back, 0, 300);
+    removeMention(ev, back, 0);
+    expect(serialiseEvent(ev)).toEqual(before);
   });
 
   it('matches names without articles or possessives', () => {

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { TfidfEmbedder } from '../../src/embed/tfidf-embedder.js';
 import { OnlineLinker, eventIdFor } from '../../src/link/online-linker.js';
+import { buildMessages } from '../../src/notify/messages.js';
 import { testConfig } from '../helpers/runtime.js';
 import type { EmbeddedMention, TimeExpression } from '../../src/records.js';
 
@@ -8,7 +9,15 @@ const options = testConfig().link;
 
 function mentions(
   embedder: TfidfEmbedder,
-  specs: { article: string; terms: string[]; published: string; outlet?: string; names?: string[]; times?: TimeExpression[] }[],
+  specs: {
+    article: string;
+    terms: string[];
+    published: string;
+    outlet?: string;
+    names?: string[];
+    times?: TimeExpression[];
+    refersBack?: boolean;
+  }[],
 ): EmbeddedMention[] {
   embedder.learn(specs.map((s) => ({ text: '', terms: s.terms })));
   return specs.map((s, i) => ({
@@ -23,6 +32,7 @@ function mentions(
     times: s.times ?? [],
     terms: s.terms,
     isCopy: false,
+    ...(s.refersBack ? { refersBack: true } : {}),
     vector: embedder.vector(s.terms),
   }));
 }
@@ -237,5 +247,86 @@ describe('the online linker', () => {
       eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 }),
     );
     expect(eventIdFor({ articleId: 'https://x.example/a', sentenceIndex: 3 })).toMatch(/^ev_[0-9a-f]{16}$/);
+  });
+});
+
+describe('back-references ("the move")', () => {
+  // Nothing joins at this threshold, so every sentence opens its own event and any further
+  // link below comes from the back-reference alone.
+  const strict = { ...options, threshold: 0.95, calibration: { ...options.calibration, mode: 'fixed' as const } };
+  const article = (linker: OnlineLinker, refersBack: boolean) => {
+    const e = new TfidfEmbedder(16);
+    const [closure, strike, move] = mentions(e, [
+      { article: 'x1', terms: ['council', 'close', 'orlin', 'bridge'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x1', terms: ['guild', 'strike', 'port', 'pay'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x1', terms: ['move', 'anger', 'trader', 'bridge'], published: '2026-10-06T05:00:00Z', refersBack },
+    ]);
+    return { closure: closure!, strike: strike!, move: move!, plan: linker.plan([closure!, strike!, move!]) };
+  };
+
+  it('links the sentence also to the earlier event of its article it shares most with', () => {
+    const { closure, move, plan } = article(new OnlineLinker(strict), true);
+    const links = plan.links.filter((x) => x.sentenceIndex === move.sentenceIndex);
+    expect(links.map((x) => [x.eventId, x.rank])).toEqual([
+      [eventIdFor(move), 0],
+      [eventIdFor(closure), 1],
+    ]);
+    expect(links[1]!.evidence).toMatchObject({ refersBack: true, opened: false });
+    expect(links[1]!.score).toBeGreaterThan(0);
+  });
+
+  it('leaves the event referred to as it was: not a mention of it, no weight in its centroid', () => {
+    const { closure, plan } = article(new OnlineLinker(strict), true);
+    const without = article(new OnlineLinker(strict), false).plan;
+    const state = (p: typeof plan) => p.events.find((x) => x.id === eventIdFor(closure))!;
+    expect(state(plan).mentionCount).toBe(1);
+    expect([...state(plan).sparse]).toEqual([...state(without).sparse]);
+    expect(plan.outletsAdded).toEqual([]);
+  });
+
+  it('makes no such link when the sentence does not point back, or when turned off', () => {
+    for (const { plan } of [
+      article(new OnlineLinker(strict), false),
+      article(new OnlineLinker({ ...strict, backReferences: false }), true),
+    ])
+      expect(plan.links.every((x) => x.rank === 0 && !x.evidence.refersBack)).toBe(true);
+  });
+
+  it('looks only at what its own article told, never at an earlier article', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker(strict);
+    const [closure, move] = mentions(e, [
+      { article: 'x1', terms: ['council', 'close', 'orlin', 'bridge'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x2', terms: ['move', 'anger', 'trader', 'bridge'], published: '2026-10-06T07:00:00Z', refersBack: true },
+    ]);
+    l.apply(l.plan([closure!]));
+    expect(l.plan([move!]).links.map((x) => x.eventId)).toEqual([eventIdFor(move!)]);
+  });
+
+  it('does not count a back-reference among the mentions an article added to a known event', () => {
+    const e = new TfidfEmbedder(16);
+    const l = new OnlineLinker({ ...strict, threshold: 0.5 });
+    const terms = ['council', 'close', 'orlin', 'bridge'];
+    const [first, again, move] = mentions(e, [
+      { article: 'x0', terms, published: '2026-10-06T05:00:00Z' },
+      { article: 'x1', terms, published: '2026-10-06T07:00:00Z' },
+      { article: 'x1', terms: ['move', 'anger', 'trader', 'bridge'], published: '2026-10-06T07:00:00Z', refersBack: true },
+    ]);
+    l.apply(l.plan([first!]));
+    const plan = l.plan([again!, move!]);
+    expect(plan.links.filter((x) => x.eventId === eventIdFor(first!)).map((x) => x.evidence.refersBack === true)).toEqual([false, true]);
+    const linked = buildMessages(plan, [again!, move!], new Date('2026-10-06T07:00:00Z')).find((m) => m.type === 'article.linked')!;
+    expect(JSON.parse(linked.body).data.events).toEqual([
+      expect.objectContaining({ id: eventIdFor(first!), mentionCount: 2, mentionsAdded: 1 }),
+    ]);
+  });
+
+  it('needs something shared: an earlier event scoring 0 is not referred to', () => {
+    const e = new TfidfEmbedder(16);
+    const [strike, move] = mentions(e, [
+      { article: 'x1', terms: ['guild', 'strike', 'port', 'pay'], published: '2026-10-06T05:00:00Z' },
+      { article: 'x1', terms: ['move', 'anger', 'trader', 'bridge'], published: '2026-10-06T05:00:00Z', refersBack: true },
+    ]);
+    expect(new OnlineLinker(strict).plan([strike!, move!]).links.filter((x) => x.sentenceIndex === 1)).toHaveLength(1);
   });
 });

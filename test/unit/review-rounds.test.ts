@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { isoWeek } from '../../src/review/rounds.js';
+import { isoWeek, liveDecisions } from '../../src/review/rounds.js';
+import type { EventQueries } from '../../src/store/store.js';
 
 describe('ISO weeks for the review report', () => {
   // ISO 8601 week dates (weeks start on Monday; week 1 holds the year's first Thursday); common practice.
@@ -13,5 +14,43 @@ describe('ISO weeks for the review report', () => {
 
   it('says undated for a sentence without a date', () => {
     expect(isoWeek('')).toBe('undated');
+  });
+});
+
+describe('the decisions a review round samples from', () => {
+  const evidence = {
+    similarity: 0.3,
+    timeDecay: 1,
+    timeGapDays: 0,
+    sharedParticipants: [],
+    sharedPlaces: [],
+    overlapBonus: 0,
+    opened: false,
+  };
+  const mention = (sentenceIndex: number, extra: object) => ({
+    articleId: 'a1',
+    articleTitle: 't',
+    articleUrl: null,
+    outlet: 'The Vellmouth Courier',
+    published: '2026-10-06T05:00:00Z',
+    isCopy: false,
+    sentenceIndex,
+    text: 'x',
+    score: 0.3,
+    rank: 0,
+    times: [],
+    evidence: { ...evidence, ...extra },
+  });
+  const store = {
+    listEvents: async () => ({ total: 1, events: [{ id: 'ev_1' }] }),
+    getEvent: async () => ({
+      mentions: [mention(0, { bar: 0.2 }), { ...mention(2, { refersBack: true }), rank: 1 }],
+      merges: [],
+    }),
+  } as unknown as EventQueries;
+
+  it('leaves back-references out: they were made on the wording, not at the threshold', async () => {
+    const decisions = await liveDecisions(store, { maxEvents: 10 });
+    expect(decisions.map((d) => [d.sentenceIndex, d.bar])).toEqual([[0, 0.2]]);
   });
 });

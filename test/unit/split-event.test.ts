@@ -68,6 +68,21 @@ describe('splitting a drifted event', () => {
     expect(plan!.kept.mentionCount + plan!.split.mentionCount).toBe(ms.length);
   });
 
+  it('leaves back-references out of the examination: they weigh nothing in the event and stay where they are', () => {
+    const ms = drifted();
+    const l = chained(ms);
+    const id = eventIdFor(ms[0]!);
+    const members = ms.map((mention) => ({ mention, rank: 0 }));
+    const [back] = stream([{ article: 'z', terms: STRIKE }]);
+    // Each plan takes the next touch number; all else must be the same.
+    const untouched = (p: ReturnType<typeof l.planSplit>) =>
+      p && { ...p, kept: { ...p.kept, touched: 0 }, split: { ...p.split, touched: 0 } };
+    const plain = untouched(l.planSplit(id, members));
+    const withBack = untouched(l.planSplit(id, [...members, { mention: back!, rank: 1, refersBack: true }]));
+    expect(plain).not.toBeNull();
+    expect(withBack).toEqual(plain);
+  });
+
   it('after the split a new strike sentence joins the split-off event, not the fire', () => {
     const ms = drifted();
     const l = chained(ms);

@@ -61,7 +61,14 @@ const getEventSchema = {
           type: 'array',
           items: {
             type: 'object',
-            properties: { day: str, mentions: int, newOutlets: strings },
+            properties: {
+              day: str,
+              mentions: {
+                ...int,
+                description: 'Sentences reporting the event that day (back-references not counted, as in mentionCount).',
+              },
+              newOutlets: strings,
+            },
             required: ['day', 'mentions', 'newOutlets'],
           },
         },
@@ -131,7 +138,8 @@ export function groupByOutlet(mentions: readonly EventMention[]): { outlet: stri
 export function timeline(mentions: readonly EventMention[]): { day: string; mentions: number; newOutlets: string[] }[] {
   const seen = new Set<string>();
   const days = new Map<string, { day: string; mentions: number; newOutlets: string[] }>();
-  for (const m of [...mentions].sort((a, b) => a.published.localeCompare(b.published))) {
+  // Back-references point at the event without reporting it: not counted, as in mentionCount.
+  for (const m of [...mentions].filter((x) => !x.evidence.refersBack).sort((a, b) => a.published.localeCompare(b.published))) {
     const day = m.published.slice(0, 10);
     const d = days.get(day) ?? { day, mentions: 0, newOutlets: [] };
     d.mentions++;

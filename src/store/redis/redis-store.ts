@@ -14,7 +14,7 @@
 import type { RedisOptions } from 'ioredis';
 import { type RedisClient, connectRedis, deleteMatching } from './connect.js';
 import { StrandError } from '../../errors.js';
-import type { Article, Mention } from '../../records.js';
+import type { Article, LinkEvidence, Mention } from '../../records.js';
 import type {
   ArticleCommit,
   CorrectionCommit,
@@ -30,6 +30,7 @@ import type {
   LinkerSnapshot,
   MergeCommit,
   OutboxMessage,
+  SharedLink,
   SharedMention,
   SplitCommit,
   Store,
@@ -449,11 +450,7 @@ export class RedisStore extends StoreParts implements Store {
 
   async linkedMentions(eventId: string): Promise<LinkedMention[]> {
     const members = await this.redis.smembers(this.k.eventLinks(eventId));
-    return (await this.readLinked(members, [eventId])).map(({ mention, links }) => ({
-      mention,
-      rank: links[0]!.rank,
-      score: links[0]!.score,
-    }));
+    return (await this.readLinked(members, [eventId])).map(({ mention, links }) => ({ mention, ...links[0]! }));
   }
 
   async linkedToBoth(a: string, b: string): Promise<SharedMention[]> {
@@ -465,7 +462,7 @@ export class RedisStore extends StoreParts implements Store {
   private async readLinked(
     members: readonly string[],
     events: readonly string[],
-  ): Promise<{ mention: LinkedMention['mention']; links: { rank: number; score: number }[] }[]> {
+  ): Promise<{ mention: LinkedMention['mention']; links: SharedLink[] }[]> {
     const per = 3 + events.length;
     const rows = await pipelined(this.redis, members, (p, m) => {
       const [article, idx] = splitMember(m);
@@ -496,7 +493,9 @@ export class RedisStore extends StoreParts implements Store {
             isCopy: mm.isCopy,
             vector: vector ? decodeVector(Buffer.from(vector, 'base64')) : null,
           },
-          links: links.map((l) => JSON.parse(l!) as { score: number; rank: number }).map(({ rank, score }) => ({ rank, score })),
+          links: links
+            .map((l) => JSON.parse(l!) as { score: number; rank: number; evidence?: LinkEvidence })
+            .map(({ rank, score, evidence }) => ({ rank, score, ...(evidence?.refersBack ? { refersBack: true } : {}) })),
         },
       ];
     });

@@ -188,13 +188,14 @@ export class SqliteStore extends StoreParts implements Store {
       idfRows: db.prepare('SELECT feature, df FROM idf').raw(),
       docs: db.prepare(`SELECT value FROM meta WHERE key = 'idf_docs'`).pluck(),
       linkedMentions: db.prepare(`
-        SELECT l.article_id, l.sentence_idx, l.score, l.rank, m.outlet, m.published, m.eventness, m.participants, m.places, m.times, m.is_copy, m.vector, s.text
+        SELECT l.article_id, l.sentence_idx, l.score, l.rank, json_extract(l.evidence, '$.refersBack') AS refers_back, m.outlet, m.published, m.eventness, m.participants, m.places, m.times, m.is_copy, m.vector, s.text
         FROM links l
         JOIN mentions m ON m.article_id = l.article_id AND m.sentence_idx = l.sentence_idx
         LEFT JOIN sentences s ON s.article_id = l.article_id AND s.idx = l.sentence_idx
         WHERE l.event_id = ? ORDER BY m.published, l.article_id, l.sentence_idx`),
       linkedToBoth: db.prepare(`
-        SELECT l.article_id, l.sentence_idx, l.score, l.rank, k.score AS score_b, k.rank AS rank_b,
+        SELECT l.article_id, l.sentence_idx, l.score, l.rank, json_extract(l.evidence, '$.refersBack') AS refers_back,
+          k.score AS score_b, k.rank AS rank_b, json_extract(k.evidence, '$.refersBack') AS refers_back_b,
           m.outlet, m.published, m.eventness, m.participants, m.places, m.times, m.is_copy, m.vector, s.text
         FROM links l
         JOIN links k ON k.article_id = l.article_id AND k.sentence_idx = l.sentence_idx AND k.event_id = @b
@@ -392,6 +393,7 @@ export class SqliteStore extends StoreParts implements Store {
       mention: mentionOf(r),
       rank: r.rank as number,
       score: r.score as number,
+      ...(r.refers_back ? { refersBack: true } : {}),
     }));
   }
 
@@ -399,8 +401,8 @@ export class SqliteStore extends StoreParts implements Store {
     return (this.st.linkedToBoth.all({ a, b }) as Row[]).map((r) => ({
       mention: mentionOf(r),
       links: [
-        { rank: r.rank as number, score: r.score as number },
-        { rank: r.rank_b as number, score: r.score_b as number },
+        { rank: r.rank as number, score: r.score as number, ...(r.refers_back ? { refersBack: true } : {}) },
+        { rank: r.rank_b as number, score: r.score_b as number, ...(r.refers_back_b ? { refersBack: true } : {}) },
       ],
     }));
   }

@@ -14,6 +14,10 @@ export function evidenceText(ev) {
   if (shared.length) parts.push(`shared names: ${shared.join(', ')} (+${ev.overlapBonus.toFixed(2)})`);
   if (ev.conflictingNames) parts.push('names differ: each names people or places, none in common');
   if (ev.crossStory) parts.push('across stories');
+  if (ev.refersBack)
+    parts.push(
+      'the sentence points back at a happening ("the move") its article told before: a guess, not counted among the event\'s sentences',
+    );
   if (ev.bar !== undefined) parts.push(`needed ${ev.bar.toFixed(2)}`);
   if (ev.correctedBy) parts.push(`placed by an analyst (${ev.correctedBy})`);
   return parts.join(' · ');
@@ -27,7 +31,7 @@ export function scoreLine(score, ev, rank = 0) {
     { class: 'evidence' },
     scoreBar(score, what),
     el('span', { class: 'score-what' }, `${what} ${score.toFixed(2)}`),
-    rank > 0 ? ' (a further event this sentence reports)' : '',
+    ev.refersBack ? ' (an event this sentence refers back to)' : rank > 0 ? ' (a further event this sentence reports)' : '',
     ` · ${evidenceText(ev)}`,
   );
 }
