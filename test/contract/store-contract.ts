@@ -17,7 +17,7 @@ import {
   type EventState,
 } from '../../src/link/event-state.js';
 import { type StoryState, addArticle, mergeStories, openStory, serialiseStory, storyRecord } from '../../src/link/story-state.js';
-import type { Article, EmbeddedMention, Link } from '../../src/records.js';
+import type { Article, EmbeddedMention, Link, LinkEvidence } from '../../src/records.js';
 import {
   type ArticleCommit,
   type EventUpdate,
@@ -212,6 +212,27 @@ export function commitWithLabelledState(id: string, label: string): ArticleCommi
 }
 
 /** An event's state as a commit writes it (consolidation's own outlet rows). */
+/** A further link (rank 1) of `article`'s first sentence to `eventId`, as the linker would make it. */
+function furtherLink(article: string, eventId: string, score: number, more: Partial<LinkEvidence> = {}): Link {
+  return {
+    articleId: article,
+    sentenceIndex: 0,
+    eventId,
+    score,
+    rank: 1,
+    evidence: {
+      similarity: score,
+      timeDecay: 1,
+      timeGapDays: 0,
+      sharedParticipants: [],
+      sharedPlaces: [],
+      overlapBonus: 0,
+      opened: false,
+      ...more,
+    },
+  };
+}
+
 function update(e: EventState): EventUpdate {
   return { record: toRecord(e), outlets: outletRows(e), state: serialiseEvent(e) };
 }
@@ -1012,22 +1033,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       await store.commitArticle(first.commit);
       // a2's sentence opens its own event and also links (rank 1) to a1's.
       const second = commitFor(a2, 'The warehouse fire closed the pier.', null);
-      const further: Link = {
-        articleId: 'a2',
-        sentenceIndex: 0,
-        eventId: first.event.id,
-        score: 0.31,
-        rank: 1,
-        evidence: {
-          similarity: 0.31,
-          timeDecay: 1,
-          timeGapDays: 0,
-          sharedParticipants: [],
-          sharedPlaces: [],
-          overlapBonus: 0,
-          opened: false,
-        },
-      };
+      const further = furtherLink('a2', first.event.id, 0.31);
       await store.commitArticle({ ...second.commit, links: [...second.commit.links, further] });
       const both = await store.linkedToBoth(second.event.id, first.event.id);
       expect(both.map((b) => [b.mention.articleId, b.mention.sentenceIndex, b.links])).toEqual([
@@ -1049,23 +1055,7 @@ export function describeStoreContract(name: string, open: () => Promise<Store>):
       const first = commitFor(a1, 'A fire destroyed a warehouse.', null);
       await store.commitArticle(first.commit);
       const second = commitFor(article('a2', 'EBS News', '2026-10-08T08:00:00.000Z', 'y'), 'The blaze angered the guild.', null);
-      const back: Link = {
-        articleId: 'a2',
-        sentenceIndex: 0,
-        eventId: first.event.id,
-        score: 0.12,
-        rank: 1,
-        evidence: {
-          similarity: 0.12,
-          timeDecay: 1,
-          timeGapDays: 0,
-          sharedParticipants: [],
-          sharedPlaces: [],
-          overlapBonus: 0,
-          opened: false,
-          refersBack: true,
-        },
-      };
+      const back = furtherLink('a2', first.event.id, 0.12, { refersBack: true });
       await store.commitArticle({ ...second.commit, links: [...second.commit.links, back] });
       const linked = await store.linkedMentions(first.event.id);
       expect(linked.map((l) => [l.mention.articleId, l.rank, l.refersBack === true])).toEqual([
