@@ -15,7 +15,7 @@ import { suggestOffset } from '../review/calibrate.js';
 import { dawidSkene } from '../review/dawid-skene.js';
 import { estimateQuality } from '../review/estimate.js';
 import { liveDecisions } from '../review/rounds.js';
-import { type ReviewCandidate, drawSample } from '../review/sampling.js';
+import { AT_THRESHOLD, type ReviewCandidate, drawSample } from '../review/sampling.js';
 import { seededRandom } from '../seeded-random.js';
 import { createNlp } from '../text/nlp.js';
 import type { Clustering } from './baselines.js';
@@ -107,8 +107,8 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
 
   const pool = judged.map((j) => j.candidate);
   const truth = new Map(judged.map((j) => [keyOf(j.candidate), j.same]));
-  // Merges are estimated apart; precision and recall are the links'.
-  const links = judged.filter((j) => j.candidate.linked && !j.candidate.mergedFrom);
+  // Merges and back-references are estimated apart; precision and recall are the links'.
+  const links = judged.filter((j) => j.candidate.linked && !j.candidate.mergedFrom && !j.candidate.refersBack);
   const tp = links.filter((j) => j.same).length;
   const fn = judged.filter((j) => !j.candidate.linked && j.same).length;
   const truePrecision = tp / links.length;
@@ -121,7 +121,7 @@ export async function simulateReviews(corpus: EvalCorpus, o: ReviewSimOptions): 
     const fitSample = drawSample(pool, o.reviews, { margin: o.margin, seed });
     const weightOf = new Map(fitSample.design.map((d) => [d.stratum, d.sampled ? d.population / d.sampled : 0]));
     const items = fitSample.items
-      .filter((c) => c.stratum !== 'merge')
+      .filter((c) => AT_THRESHOLD.has(c.stratum))
       .map((c) => ({
         margin: c.score - c.bar,
         same: truth.get(keyOf(c))! !== rnd() < o.noise,

@@ -10,8 +10,8 @@
  * strata, so they are independent). For the variance only, a stratum's share is taken as
  * (x + 1) / (n + 2), so that a stratum where every answer agreed does not claim no
  * uncertainty at all. Intervals are 1.96 standard errors on the logit scale (shareInterval()).
- * Consolidation's merges are another kind of decision: their precision is estimated from
- * their own stratum and counts in neither of the links' figures.
+ * Consolidation's merges and back-references are other kinds of decision: the precision of
+ * each is estimated from its own stratum and counts in neither of the links' figures.
  */
 import { STRATA, type Stratum, type StratumDesign } from './sampling.js';
 
@@ -71,7 +71,7 @@ function total(population: number, answers: readonly ReviewedItem[]): { total: n
 export function estimateQuality(
   design: readonly StratumDesign[],
   items: readonly ReviewedItem[],
-): { precision: Estimate; recall: Estimate; merges: Estimate } {
+): { precision: Estimate; recall: Estimate; merges: Estimate; backReferences: Estimate } {
   let tp = 0;
   let tpVar = 0;
   let fn = 0;
@@ -105,15 +105,18 @@ export function estimateQuality(
     found ? (fn ** 2 * tpVar + tp ** 2 * fnVar) / found ** 4 : NaN,
     answered((s) => LINK_STRATA.has(s) || MISS_STRATA.has(s)),
   );
-  const merged = design.find((x) => x.stratum === 'merge')?.population ?? 0;
-  const m = total(
-    merged,
-    items.filter((i) => i.stratum === 'merge'),
-  );
-  const merges = shareInterval(
-    merged ? m.total / merged : NaN,
-    merged ? m.variance / merged ** 2 : NaN,
-    answered((s) => s === 'merge'),
-  );
-  return { precision, recall, merges };
+  // Decisions of another kind: each one's precision from its own stratum alone.
+  const apart = (stratum: Stratum): Estimate => {
+    const population = design.find((x) => x.stratum === stratum)?.population ?? 0;
+    const t = total(
+      population,
+      items.filter((i) => i.stratum === stratum),
+    );
+    return shareInterval(
+      population ? t.total / population : NaN,
+      population ? t.variance / population ** 2 : NaN,
+      answered((s) => s === stratum),
+    );
+  };
+  return { precision, recall, merges: apart('merge'), backReferences: apart('back-reference') };
 }

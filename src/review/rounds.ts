@@ -12,7 +12,7 @@ import { krippendorffAlpha } from './agreement.js';
 import { suggestOffset } from './calibrate.js';
 import { dawidSkene } from './dawid-skene.js';
 import { type Estimate, estimateQuality } from './estimate.js';
-import { type ReviewCandidate, STRATA, type Stratum, drawSample } from './sampling.js';
+import { AT_THRESHOLD, type ReviewCandidate, STRATA, type Stratum, drawSample } from './sampling.js';
 
 /** Events read per page when listing the decisions of a window. */
 const PAGE = 200;
@@ -22,7 +22,8 @@ const PAGE = 200;
  * its misses with their nearest event, and consolidation's merges into those events (each
  * through the sentence that opened the absorbed event; its bar is its own score, since a
  * merge is not a link decision and is kept out of the threshold's fit). Back-references
- * are left out: they follow the sentence's wording, not the threshold.
+ * are asked about too, and kept out of the fit the same way: they follow the sentence's
+ * wording, not the threshold.
  */
 export async function liveDecisions(
   store: EventQueries,
@@ -36,10 +37,9 @@ export async function liveDecisions(
       const mentions = detail?.mentions ?? [];
       for (const m of mentions) {
         const about = { articleId: m.articleId, sentenceIndex: m.sentenceIndex, outlet: m.outlet, published: m.published };
-        // A back-reference was made on the sentence's wording, not at the threshold: reviewing
-        // it says nothing about where the threshold should be.
-        if (m.evidence.refersBack) continue;
-        if (!m.evidence.opened)
+        if (m.evidence.refersBack)
+          out.push({ ...about, eventId: e.id, linked: true, score: m.score, bar: m.score, crossStory: false, refersBack: true });
+        else if (!m.evidence.opened)
           out.push({
             ...about,
             eventId: e.id,
@@ -126,7 +126,7 @@ export interface RoundReport {
   reviewers: { reviewer: string; answers: number; unsure: number; errorRate: number | null; alphaWithout: number | null }[];
   /** Krippendorff's alpha (nominal, "unsure" left out): overall and per stratum. Null where undefined. */
   alpha: { overall: number | null; byStratum: Partial<Record<Stratum, number | null>> };
-  /** Precision and recall of the linker's links, and the precision of consolidation's merges, from the combined answers. */
+  /** Precision and recall of the linker's links, and the precision of consolidation's merges and of back-references, from the combined answers. */
   quality: { overall: Quality; byWeek: ({ week: string } & Quality)[]; byOutlet: ({ outlet: string } & Quality)[] };
   /** The threshold move the answers suggest (0 unless held-out answers bear it out), the fit's own, and their held-out effect. */
   calibration: {
@@ -146,6 +146,7 @@ interface Quality {
   precision: Estimate;
   recall: Estimate;
   merges: Estimate;
+  backReferences: Estimate;
 }
 
 const VERDICT = { different: 0, same: 1 } as const;
@@ -215,9 +216,9 @@ export function roundReport(round: ReviewRound, answers: readonly ReviewAnswer[]
   const weeks = [...new Set(round.items.map((i) => isoWeek(i.published)))].sort();
   const outlets = [...new Set(round.items.map((i) => i.outlet))].sort();
   const weightOf = new Map(round.design.map((d) => [d.stratum, d.sampled ? d.population / d.sampled : 0]));
-  // Merges are not link decisions: the threshold is fitted to links and misses only.
+  // Merges and back-references are not decisions at the threshold: it is fitted to links and misses only.
   const fitItems = round.items
-    .filter((i) => same.has(i.item) && i.stratum !== 'merge')
+    .filter((i) => same.has(i.item) && AT_THRESHOLD.has(i.stratum))
     .map((i) => ({ margin: i.score - i.bar, same: same.get(i.item)!, weight: weightOf.get(i.stratum)! }));
   const fit = suggestOffset(fitItems, round.seed);
   const count = new Map<number, number>();

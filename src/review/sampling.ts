@@ -15,6 +15,9 @@
  *   merge              consolidation's merge of one event into another, asked about
  *                      through the sentence that opened the absorbed event (a large merge
  *                      moves many links at once). Merges are estimated apart from links.
+ *   back-reference     a link made because the sentence points back at a happening its
+ *                      article told before ("the move"): made on the wording, not at the
+ *                      threshold, and estimated apart from links like merges.
  *
  * The sample takes the same number from each stratum (what a stratum lacks goes to the
  * others in turn), so that the rare and the easy are both asked about, and records each
@@ -25,8 +28,27 @@
  */
 import { seededRandom } from '../seeded-random.js';
 
-export const STRATA = ['near-bar', 'confident', 'cross-story', 'near-miss', 'far-miss', 'conflicting-names', 'merge'] as const;
+export const STRATA = [
+  'near-bar',
+  'confident',
+  'cross-story',
+  'near-miss',
+  'far-miss',
+  'conflicting-names',
+  'merge',
+  'back-reference',
+] as const;
 export type Stratum = (typeof STRATA)[number];
+
+/** The strata of decisions made at the link threshold: the ones a threshold fit learns from. */
+export const AT_THRESHOLD: ReadonlySet<Stratum> = new Set([
+  'near-bar',
+  'confident',
+  'cross-story',
+  'conflicting-names',
+  'near-miss',
+  'far-miss',
+]);
 
 /** One decision to review: a sentence and the event it was (or was nearly) linked to. */
 export interface ReviewCandidate {
@@ -43,6 +65,8 @@ export interface ReviewCandidate {
   conflictingNames?: boolean;
   /** For a merge: the event consolidation merged into `eventId` (the sentence opened it). */
   mergedFrom?: string;
+  /** A back-reference link (LinkEvidence.refersBack). */
+  refersBack?: boolean;
   /** For reports by week and outlet. */
   outlet: string;
   published: string;
@@ -64,6 +88,7 @@ export interface ReviewSample {
 /** Which stratum a candidate falls in. */
 export function stratumOf(c: ReviewCandidate, margin: number): Stratum {
   if (c.mergedFrom) return 'merge';
+  if (c.refersBack) return 'back-reference';
   if (!c.linked) return c.bar - c.score < margin ? 'near-miss' : 'far-miss';
   if (c.crossStory) return 'cross-story';
   if (c.conflictingNames) return 'conflicting-names';

@@ -64,11 +64,14 @@ describe('review rounds through the API', () => {
     expect(report.quality.byWeek[0].week).toMatch(/^\d{4}-W\d\d$/);
     expect(report.quality.byOutlet.length).toBeGreaterThan(1);
     // Answers that agree with the linker everywhere leave the threshold where it is.
-    // Merges are reviewed apart from links: their own estimate, and no part in the threshold's fit.
-    const merges = round.design.find((d: { stratum: string }) => d.stratum === 'merge').sampled;
+    // Merges and back-references are reviewed apart from links: their own estimates, and no part in the threshold's fit.
+    const sampled = (stratum: string) => round.design.find((d: { stratum: string }) => d.stratum === stratum).sampled;
+    const [merges, backReferences] = [sampled('merge'), sampled('back-reference')];
     expect(merges).toBeGreaterThan(0);
+    expect(backReferences).toBeGreaterThan(0);
     expect(report.quality.overall.merges).toMatchObject({ value: 1, answers: merges });
-    expect(report.calibration).toMatchObject({ decided: 40 - merges });
+    expect(report.quality.overall.backReferences).toMatchObject({ value: 1, answers: backReferences });
+    expect(report.calibration).toMatchObject({ decided: 40 - merges - backReferences });
     expect(Math.abs(report.calibration.offset)).toBeLessThanOrEqual(0.15);
   });
 
@@ -77,11 +80,12 @@ describe('review rounds through the API', () => {
     try {
       const round = (await post('/api/reviews', { size: 30, reviewersPerItem: 1, seed: 11 })).json();
       const stored = (await rt.store.getReviewRound(round.id))!;
-      const link = stored.items.find((i) => i.linked && !i.mergedFrom)!;
+      const link = stored.items.find((i) => i.linked && !i.mergedFrom && i.stratum !== 'back-reference')!;
       const miss = stored.items.find((i) => !i.linked)!;
       const merge = stored.items.find((i) => i.mergedFrom)!;
+      const back = stored.items.find((i) => i.stratum === 'back-reference')!;
       for (const i of stored.items) {
-        const verdict = i === link || i === merge ? 'different' : i === miss ? 'same' : i.linked ? 'same' : 'different';
+        const verdict = [link, merge, back].includes(i) ? 'different' : i === miss ? 'same' : i.linked ? 'same' : 'different';
         await post(`/api/reviews/${round.id}/answers`, { item: i.item, reviewer: 'ana', verdict });
       }
       // Without a linker in this process, nothing is made.
@@ -89,10 +93,12 @@ describe('review rounds through the API', () => {
       const r = await corrected.inject({ method: 'POST', url: `/api/reviews/${round.id}/corrections`, payload: {} });
       expect(r.statusCode).toBe(200);
       const body = r.json();
-      expect(body.agreed).toBe(27);
-      expect(body.made.length + body.refused.length).toBe(3);
+      expect(body.agreed).toBe(26);
+      expect(body.made.length + body.refused.length).toBe(4);
       // A merge found wrong is left to a person: which sentences came with the absorbed event is not kept.
       expect(body.refused).toContainEqual({ item: merge.item, reason: expect.stringMatching(/split .* by hand/) });
+      // So is a back-reference: detaching it would give the sentence a second event of its own.
+      expect(body.refused).toContainEqual({ item: back.item, reason: expect.stringMatching(/back-reference found wrong/) });
       expect(body.made.map((m: { item: number }) => m.item)).toContain(link.item);
       expect(body.made.find((m: { item: number }) => m.item === link.item).kind).toBe('detach');
       const log = (await app.inject({ url: '/api/corrections?limit=5' })).json().corrections;

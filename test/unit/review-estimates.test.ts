@@ -41,13 +41,16 @@ function population(seed: number) {
   add(2000, false, () => -0.1 - rnd() * 0.3, false, 0.02); // far misses
   add(150, true, () => rnd() * 0.3, false, 0.45, { conflictingNames: true }); // names apart
   add(80, true, () => 0, false, 0.8, { mergedFrom: 'ev_absorbed' }); // consolidation's merges
-  const isLink = (c: ReviewCandidate) => c.linked && !c.mergedFrom;
+  add(100, true, () => 0, false, 0.45, { refersBack: true }); // back-references
+  const isLink = (c: ReviewCandidate) => c.linked && !c.mergedFrom && !c.refersBack;
   const tp = candidates.filter((c) => isLink(c) && truth.get(c.articleId)).length;
   const links = candidates.filter(isLink).length;
   const fn = candidates.filter((c) => !c.linked && truth.get(c.articleId)).length;
   const merges = candidates.filter((c) => c.mergedFrom);
   const mergesRight = merges.filter((c) => truth.get(c.articleId)).length / merges.length;
-  return { candidates, truth, precision: tp / links, recall: tp / (tp + fn), mergesRight };
+  const backs = candidates.filter((c) => c.refersBack);
+  const backsRight = backs.filter((c) => truth.get(c.articleId)).length / backs.length;
+  return { candidates, truth, precision: tp / links, recall: tp / (tp + fn), mergesRight, backsRight };
 }
 
 describe('the review sample and its estimates', () => {
@@ -93,17 +96,19 @@ describe('the review sample and its estimates', () => {
       ['far-miss', 2000],
       ['conflicting-names', 150],
       ['merge', 80],
+      ['back-reference', 100],
     ]);
     expect(new Set(a.items.map((i) => i.articleId)).size).toBe(300);
   });
 
-  it('states 95 % intervals for precision, recall and merges that hold the true values in at least 9 runs of 10 (200 seeded runs)', () => {
+  it('states 95 % intervals for precision, recall, merges and back-references that hold the true values in at least 9 runs of 10 (200 seeded runs)', () => {
     let precisionHits = 0;
     let recallHits = 0;
     let mergeHits = 0;
+    let backHits = 0;
     const runs = 200;
     for (let seed = 1; seed <= runs; seed++) {
-      const { candidates, truth, precision, recall, mergesRight } = population(seed);
+      const { candidates, truth, precision, recall, mergesRight, backsRight } = population(seed);
       const sample = drawSample(candidates, 300, { seed: seed * 31 });
       const est = estimateQuality(
         sample.design,
@@ -112,11 +117,13 @@ describe('the review sample and its estimates', () => {
       if (est.precision.low <= precision && precision <= est.precision.high) precisionHits++;
       if (est.recall.low <= recall && recall <= est.recall.high) recallHits++;
       if (est.merges.low <= mergesRight && mergesRight <= est.merges.high) mergeHits++;
+      if (est.backReferences.low <= backsRight && backsRight <= est.backReferences.high) backHits++;
     }
     expect(precisionHits / runs).toBeGreaterThanOrEqual(0.9);
     expect(recallHits / runs).toBeGreaterThanOrEqual(0.9);
-    // Merges are estimated apart, from their own stratum.
+    // Merges and back-references are estimated apart, each from its own stratum.
     expect(mergeHits / runs).toBeGreaterThanOrEqual(0.9);
+    expect(backHits / runs).toBeGreaterThanOrEqual(0.9);
   });
 });
 

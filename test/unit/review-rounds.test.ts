@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { isoWeek, liveDecisions } from '../../src/review/rounds.js';
+import { AT_THRESHOLD, stratumOf } from '../../src/review/sampling.js';
 import type { EventQueries } from '../../src/store/store.js';
 
 describe('ISO weeks for the review report', () => {
@@ -49,8 +50,13 @@ describe('the decisions a review round samples from', () => {
     }),
   } as unknown as EventQueries;
 
-  it('leaves back-references out: they were made on the wording, not at the threshold', async () => {
+  it('asks about back-references in a stratum of their own, kept out of the threshold fit like merges', async () => {
     const decisions = await liveDecisions(store, { maxEvents: 10 });
-    expect(decisions.map((d) => [d.sentenceIndex, d.bar])).toEqual([[0, 0.2]]);
+    expect(decisions.map((d) => [d.sentenceIndex, d.bar, d.refersBack === true])).toEqual([
+      [0, 0.2, false],
+      [2, 0.3, true],
+    ]);
+    expect(decisions.map((d) => stratumOf(d, 0.05))).toEqual(['confident', 'back-reference']);
+    expect(AT_THRESHOLD.has('back-reference')).toBe(false);
   });
 });

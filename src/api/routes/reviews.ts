@@ -51,8 +51,13 @@ const quality = {
     precision: estimate,
     recall: estimate,
     merges: { ...estimate, description: "The share of consolidation's merges reviewers found right (null when the round holds none)." },
+    backReferences: {
+      ...estimate,
+      description:
+        'The share of back-references (links made because the sentence points back at a happening its article told before, evidence.refersBack) reviewers found right; null when the round holds none.',
+    },
   },
-  required: ['precision', 'recall', 'merges'],
+  required: ['precision', 'recall', 'merges', 'backReferences'],
 } as const;
 
 const summary = (r: ReviewRound | Omit<ReviewRound, 'items'>, items: number) => {
@@ -77,7 +82,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
       schema: {
         summary: "Draw a review round from the linker's decisions",
         description:
-          'The decisions about sentences of events active in the window (from, to; at most maxEvents events, most recent first): links, and misses with their nearest event. Consolidation’s merges into those events count too, each asked about through the sentence that opened the absorbed event. They fall into strata (near-bar, confident, cross-story and conflicting-names links; near and far misses; merges); each stratum gets the same share of `size` (what a small one lacks goes to the others), so that the answers estimate precision and recall without bias. Each item wants `reviewersPerItem` answers.',
+          'The decisions about sentences of events active in the window (from, to; at most maxEvents events, most recent first): links, and misses with their nearest event. Consolidation’s merges into those events count too, each asked about through the sentence that opened the absorbed event. They fall into strata (near-bar, confident, cross-story and conflicting-names links; near and far misses; merges; back-references); each stratum gets the same share of `size` (what a small one lacks goes to the others), so that the answers estimate precision and recall without bias. Each item wants `reviewersPerItem` answers.',
         tags: TAGS,
         body: {
           type: 'object',
@@ -319,6 +324,14 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
           refused.push({ item: item.item, reason: `a merge found wrong: split ${item.eventId} by hand (the event page's Split)` });
           continue;
         }
+        if (item.stratum === 'back-reference') {
+          // Detaching would give the sentence an event of its own, and it has one already.
+          refused.push({
+            item: item.item,
+            reason: `a back-reference found wrong: the sentence keeps its own event; detach it from ${item.eventId} by hand if it should go`,
+          });
+          continue;
+        }
         const mention = { articleId: item.articleId, sentenceIndex: item.sentenceIndex };
         // Where the sentence is now: a miss's sentence sits in the event it opened (maybe merged since).
         const links = (await store.getArticle(item.articleId))?.sentences.find((x) => x.index === item.sentenceIndex)?.links ?? [];
@@ -385,7 +398,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
                     items: {
                       type: 'object',
                       properties: { week: str, ...quality.properties },
-                      required: ['week', 'precision', 'recall', 'merges'],
+                      required: ['week', 'precision', 'recall', 'merges', 'backReferences'],
                     },
                   },
                   byOutlet: {
@@ -393,7 +406,7 @@ export const reviewRoutes: RoutePlugin<{ store: EventQueries & Reviews; now: () 
                     items: {
                       type: 'object',
                       properties: { outlet: str, ...quality.properties },
-                      required: ['outlet', 'precision', 'recall', 'merges'],
+                      required: ['outlet', 'precision', 'recall', 'merges', 'backReferences'],
                     },
                   },
                 },

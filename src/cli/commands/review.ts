@@ -129,6 +129,7 @@ export async function reviewReportCommand(id: string, opts: CommonOptions & { js
       `precision ${est(r.quality.overall.precision)}`,
       `recall    ${est(r.quality.overall.recall)} (over the linker's candidates)`,
       `merges    ${est(r.quality.overall.merges)} (consolidation's merges found right)`,
+      `back-references ${est(r.quality.overall.backReferences)} (links to an event the sentence points back at, found right)`,
       ...r.reviewers.map(
         (x) =>
           `  ${x.reviewer.padEnd(20)} ${String(x.answers).padStart(5)} answers, ${x.unsure} unsure, error rate ${x.errorRate === null ? '-' : pct(x.errorRate)}, alpha without them ${x.alphaWithout === null ? '-' : x.alphaWithout.toFixed(3)}`,

@@ -97,6 +97,9 @@ async function renderReport(target, round) {
       {},
       `Precision of the links made: ${estimateText(q.overall.precision)}. Recall of the links there were to make, among the linker's candidates: ${estimateText(q.overall.recall)}.`,
       q.overall.merges.answers ? ` Consolidation's merges found right: ${estimateText(q.overall.merges)}.` : '',
+      q.overall.backReferences?.answers
+        ? ` Back-references (sentences pointing back at a happening) found right: ${estimateText(q.overall.backReferences)}.`
+        : '',
     ),
     el(
       'table',
