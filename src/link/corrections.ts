@@ -13,7 +13,7 @@
 import { randomBytes } from 'node:crypto';
 import { StrandError } from '../errors.js';
 import { buildCorrectionMessages } from '../notify/messages.js';
-import type { EmbeddedMention, Link } from '../records.js';
+import type { EmbeddedMention, Link, LinkEvidence } from '../records.js';
 import type {
   CorrectionImage,
   CorrectionRecord,
@@ -584,14 +584,18 @@ function rebuilt(ctx: ConsolidationContext, like: EventState, members: readonly 
 function relinked(links: readonly Link[], from: string, to: string, correction: string, placed: boolean): Link[] {
   const out = new Map<string, Link>();
   for (const l of links) {
-    const evidence = { ...l.evidence, correctedBy: correction };
-    if (placed) delete evidence.refersBack;
-    const moved = l.eventId === from ? { ...l, eventId: to, evidence } : l;
+    const moved = l.eventId === from ? { ...l, eventId: to, evidence: movedEvidence(l.evidence, correction, placed) } : l;
     const k = `${key(l)}\n${moved.eventId}`;
     const have = out.get(k);
     if (!have || moved.score > have.score) out.set(k, moved);
   }
   return [...out.values()];
+}
+
+/** A moved link's evidence: who moved it; a placed sentence's link is no back-reference any more. */
+function movedEvidence(evidence: LinkEvidence, correction: string, placed: boolean): LinkEvidence {
+  const { refersBack, ...rest } = evidence;
+  return { ...rest, correctedBy: correction, ...(refersBack && !placed ? { refersBack } : {}) };
 }
 
 /** Every link of these sentences, as stored. */

@@ -124,7 +124,7 @@ export function openEvent(id: string, m: EmbeddedMention): EventState {
 }
 
 /** A further link of a sentence counts half in its event's centroid. */
-export const FURTHER_LINK_WEIGHT = 0.5;
+const FURTHER_LINK_WEIGHT = 0.5;
 
 /**
  * How much a link of a sentence weighs in its event's state: 1 for the sentence's best

@@ -29,7 +29,7 @@ import {
   removeMention,
   topTermFeatures,
 } from './event-state.js';
-import { mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
+import { type MentionFeatures, mentionFeatures, scoreCandidate, type ScoredCandidate } from './score-candidate.js';
 import { planSplit, type SplitMember, type SplitPlan } from './split-event.js';
 
 export { eventIdFor } from './event-state.js';
@@ -269,7 +269,7 @@ export class OnlineLinker {
       }
 
       if (this.o.backReferences && m.refersBack && chosen.length < MAX_LINKS_PER_SENTENCE) {
-        const back = this.backReference(features, told, chosen, current, total);
+        const back = this.backReference(features, told, chosen, current, total, opened);
         if (back) chosen.push({ sc: back, id: back.event.id });
       }
       for (const { id } of chosen) if (!told.includes(id)) told.push(id);
@@ -326,17 +326,19 @@ export class OnlineLinker {
    * is (linkWeight), so a wrong guess costs one link, never the event.
    */
   private backReference(
-    f: ReturnType<typeof mentionFeatures>,
+    f: MentionFeatures,
     told: readonly string[],
     chosen: readonly { id: string }[],
     current: (id: string) => EventState | undefined,
     total: number,
+    opened: readonly string[],
   ): ScoredCandidate | null {
     let best: ScoredCandidate | null = null;
     for (const id of told) {
       const e = current(id);
       if (!e || chosen.some((c) => c.id === id)) continue;
-      const sc = scoreCandidate(f, e, this.carriersOf, total, this.o, true);
+      // An event the article joined rather than opened is scored as from any other article.
+      const sc = scoreCandidate(f, e, this.carriersOf, total, this.o, opened.includes(id));
       if (sc.score > 0 && (!best || sc.score > best.score)) best = sc;
     }
     if (best) best.evidence.refersBack = true;
